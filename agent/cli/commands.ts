@@ -1,0 +1,4 @@
+// The subcommand registry: one module per subcommand under agent/cli/commands/.
+import type { CommandSpec } from './args.ts';
+
+export const commands: CommandSpec[] = [];

@@ -1,0 +1,35 @@
+// The `floorline` command: dispatches to one subcommand module each.
+import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
+import { commands } from './commands.ts';
+
+function topHelp(): string {
+  const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);
+  return ['usage: floorline <command> [flags]', '', 'commands:', ...rows, '', 'Run `floorline <command> --help` for its flags.', ''].join('\n');
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const [name, ...rest] = argv;
+  if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+    process.stdout.write(topHelp());
+    return name === undefined ? 2 : 0;
+  }
+  const spec: CommandSpec | undefined = commands.find((c) => c.name === name);
+  if (!spec) {
+    process.stderr.write(`floorline: unknown command '${name}'; commands are ${commands.map((c) => c.name).join(', ')}. See \`floorline --help\`.\n`);
+    return 2;
+  }
+  if (rest.includes('--help') || rest.includes('-h')) {
+    process.stdout.write(formatHelp(spec));
+    return 0;
+  }
+  try {
+    return await spec.run(parseArgs(spec, rest));
+  } catch (err) {
+    const e = err as Error & { exitCode?: number };
+    if (e && typeof e.exitCode === 'number') {
+      process.stderr.write(`${e.message}\n`);
+      return e.exitCode;
+    }
+    throw err;
+  }
+}
