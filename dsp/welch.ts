@@ -1,0 +1,272 @@
+// Streaming Welch estimator (P. D. Welch, IEEE Trans. Audio Electroacoust. AU-15, 1967) with
+// scipy.signal.welch's one-sided conventions: density = 2|X|²/(fs·Σw²), spectrum = 2|X|²/(Σw)², DC and the
+// Nyquist bin (segment lengths here are even) not doubled; segments start at sample 0 of the stream (or
+// firstSample) and advance by step = segment − noverlap with noverlap = floor(overlap·segment), as scipy's
+// integer noverlap; samples that do not yet fill a segment wait for more data.
+import type { AveragingSpec, DetrendMode } from '../agent/core/settings.ts';
+import { makeAverager, validateAveraging, type Averager } from './averaging.ts';
+import { SegmentConditioner, validateDetrend } from './detrend.ts';
+import { RealFft } from './rfft.ts';
+import { makeWindow, type WindowInfo } from './windows.ts';
+
+export type Scaling = 'density' | 'spectrum';
+
+export interface WelchOptions {
+  sampleRate: number;
+  /** Segment length, a power of two from 64 to 2^20. */
+  segment: number;
+  /** Window spec for makeWindow, e.g. "hann", "kaiser:3". */
+  window: string;
+  /** Overlap fraction in [0, 1). */
+  overlap: number;
+  detrend: DetrendMode;
+  scaling?: Scaling;
+  averaging?: AveragingSpec;
+  /** Absolute index of the first sample pushed (default 0). */
+  firstSample?: number;
+}
+
+export const MIN_SEGMENT = 64;
+export const MAX_SEGMENT = 1 << 20;
+
+export class WelchEstimator {
+  readonly sampleRate: number;
+  readonly segment: number;
+  readonly overlap: number;
+  /** floor(overlap·segment) samples shared by consecutive segments. */
+  readonly noverlap: number;
+  /** segment − noverlap: samples between segment starts. */
+  readonly step: number;
+  readonly detrend: DetrendMode;
+  readonly scaling: Scaling;
+  readonly averaging: AveragingSpec;
+  readonly bins: number;
+  readonly binHz: number;
+  readonly frequencies: Float64Array;
+  readonly window: WindowInfo;
+
+  /** Segments completed since construction or clear(). */
+  segmentsTotal = 0;
+  /** Absolute index of the last sample of the newest completed segment, −1 if none. */
+  lastSegmentSample = -1;
+
+  private readonly fft: RealFft;
+  private readonly conditioner: SegmentConditioner;
+  private readonly averager: Averager;
+  private readonly pending: Float64Array;
+  private readonly windowed: Float64Array;
+  private readonly power: Float64Array;
+  /** Per-bin factor turning raw |X|² into the one-sided density or spectrum. */
+  private readonly scale: Float64Array;
+  /** ρ(j·step) for j = 1.. while j·step < segment (Welch 1967 eq. 11 with the window's autocorrelation). */
+  private readonly rho: Float64Array;
+  private fill = 0;
+  private nextSample: number;
+
+  constructor(options: WelchOptions) {
+    const { sampleRate, segment, overlap } = options;
+    if (!(Number.isFinite(sampleRate) && sampleRate > 0)) {
+      throw new RangeError(`WelchEstimator: sampleRate must be a positive number of samples per second, got ${sampleRate}`);
+    }
+    if (!Number.isInteger(segment) || segment < MIN_SEGMENT || segment > MAX_SEGMENT || (segment & (segment - 1)) !== 0) {
+      throw new RangeError(
+        `WelchEstimator: segment must be a power of two from ${MIN_SEGMENT} to ${MAX_SEGMENT} (2^20), got ${segment}`,
+      );
+    }
+    if (!(Number.isFinite(overlap) && overlap >= 0 && overlap < 1)) {
+      throw new RangeError(`WelchEstimator: overlap must be a fraction in [0, 1), e.g. 0.5, got ${overlap}`);
+    }
+    const firstSample = options.firstSample ?? 0;
+    if (!Number.isSafeInteger(firstSample) || firstSample < 0) {
+      throw new RangeError(`WelchEstimator: firstSample must be a non-negative integer, got ${firstSample}`);
+    }
+    const scaling = options.scaling ?? 'density';
+    if (scaling !== 'density' && scaling !== 'spectrum') {
+      throw new RangeError(`WelchEstimator: scaling "${String(scaling)}" is unknown: choose density or spectrum`);
+    }
+    this.sampleRate = sampleRate;
+    this.segment = segment;
+    this.overlap = overlap;
+    this.noverlap = Math.floor(overlap * segment);
+    this.step = segment - this.noverlap;
+    this.detrend = validateDetrend(options.detrend);
+    this.scaling = scaling;
+    this.averaging = validateAveraging(options.averaging ?? { mode: 'mean' });
+    this.window = makeWindow(options.window, segment);
+    this.bins = segment / 2 + 1;
+    this.binHz = sampleRate / segment;
+    this.frequencies = new Float64Array(this.bins);
+    for (let k = 0; k < this.bins; k++) this.frequencies[k] = k * this.binHz;
+
+    this.fft = new RealFft(segment);
+    this.conditioner = new SegmentConditioner(this.window.values, this.detrend);
+    this.averager = makeAverager(this.averaging, this.bins, this.step / sampleRate);
+    this.pending = new Float64Array(segment);
+    this.windowed = new Float64Array(segment);
+    this.power = new Float64Array(this.bins);
+    this.scale = oneSidedScale(this.window.values, sampleRate, scaling);
+    this.rho = overlapRho(this.window.values, this.step);
+    this.nextSample = firstSample;
+  }
+
+  /** Segments in the current estimate (all since clear for mean/exponential/max; at most K for rolling/median). */
+  get segmentsUsed(): number {
+    return this.averager.used;
+  }
+
+  /** Absolute index the next pushed sample will get. */
+  get nextSampleIndex(): number {
+    return this.nextSample;
+  }
+
+  /** Feeds samples[start..end); returns how many segments completed. Allocates nothing. */
+  push(samples: Float64Array | Float32Array, start = 0, end = samples.length): number {
+    if (!(start >= 0 && end <= samples.length && start <= end) || !Number.isInteger(start) || !Number.isInteger(end)) {
+      throw new RangeError(`WelchEstimator.push: range [${start}, ${end}) is outside the ${samples.length} samples given`);
+    }
+    const pending = this.pending;
+    const segment = this.segment;
+    const is64 = samples instanceof Float64Array;
+    let completed = 0;
+    let i = start;
+    while (i < end) {
+      const take = Math.min(end - i, segment - this.fill);
+      if (is64) copy64(samples, i, pending, this.fill, take);
+      else copy32(samples as Float32Array, i, pending, this.fill, take);
+      this.fill += take;
+      i += take;
+      this.nextSample += take;
+      if (this.fill === segment) {
+        this.processSegment();
+        completed++;
+        pending.copyWithin(0, this.step, segment);
+        this.fill = this.noverlap;
+      }
+    }
+    return completed;
+  }
+
+  /** The one-sided estimate (unit²/Hz or unit²) into out (length ≥ bins, allocated if absent); NaN before any segment. */
+  psd(out?: Float64Array): Float64Array {
+    const bins = this.bins;
+    const result = out ?? new Float64Array(bins);
+    if (result.length < bins) throw new RangeError(`WelchEstimator.psd: out needs ${bins} values, has ${result.length}`);
+    if (this.averager.used === 0) {
+      for (let k = 0; k < bins; k++) result[k] = NaN;
+      return result;
+    }
+    this.averager.read(result);
+    const scale = this.scale;
+    for (let k = 0; k < bins; k++) result[k] *= scale[k];
+    return result;
+  }
+
+  /**
+   * Number of independent averages with the same variance as the current estimate, corrected for the
+   * correlation of overlapping segments (Welch 1967): for weights u_i on segments, 1 / Σ_i Σ_j u_i u_j ρ(|i−j|·step)
+   * with ρ(s) = (Σ w[n]w[n+s])² / (Σ w²)². Equal weights over K give K / (1 + 2 Σ_j (1 − j/K) ρ(j·step)).
+   * Max-hold reports 1 (a maximum is no average); median reports the value for the mean of the same segments.
+   */
+  equivalentAverages(): number {
+    const used = this.averager.used;
+    if (used === 0) return 0;
+    const mode = this.averaging.mode;
+    if (mode === 'max') return 1;
+    if (mode === 'exponential') {
+      const alpha = 1 - Math.exp(-this.step / (this.sampleRate * this.averaging.tauSeconds));
+      return 1 / exponentialVarianceFactor(alpha, used, this.rho);
+    }
+    return equalWeightEquivalent(used, this.rho);
+  }
+
+  /** Drops the partial segment (at a gap); the averages stay. The next sample gets index nextSample if given. */
+  reset(nextSample?: number): void {
+    if (nextSample !== undefined) {
+      if (!Number.isSafeInteger(nextSample) || nextSample < 0) {
+        throw new RangeError(`WelchEstimator.reset: nextSample must be a non-negative integer, got ${nextSample}`);
+      }
+      this.nextSample = nextSample;
+    }
+    this.fill = 0;
+  }
+
+  /** Drops everything: partial segment, averages and counters (the sample index carries on). */
+  clear(): void {
+    this.fill = 0;
+    this.averager.clear();
+    this.segmentsTotal = 0;
+    this.lastSegmentSample = -1;
+  }
+
+  private processSegment(): void {
+    this.conditioner.apply(this.pending, 0, this.windowed);
+    this.fft.power(this.windowed, this.power);
+    this.averager.add(this.power);
+    this.segmentsTotal++;
+    this.lastSegmentSample = this.nextSample - 1;
+  }
+}
+
+function copy64(src: Float64Array, from: number, dst: Float64Array, to: number, n: number): void {
+  for (let i = 0; i < n; i++) dst[to + i] = src[from + i];
+}
+
+function copy32(src: Float32Array, from: number, dst: Float64Array, to: number, n: number): void {
+  for (let i = 0; i < n; i++) dst[to + i] = src[from + i];
+}
+
+// scipy.signal.welch: scale = 1/(fs·Σw²) (density) or 1/(Σw)² (spectrum); bins 1..N/2−1 doubled for even N.
+function oneSidedScale(w: Float64Array, sampleRate: number, scaling: Scaling): Float64Array {
+  let sum = 0;
+  let sumSq = 0;
+  for (let i = 0; i < w.length; i++) {
+    sum += w[i];
+    sumSq += w[i] * w[i];
+  }
+  const base = scaling === 'density' ? 1 / (sampleRate * sumSq) : 1 / (sum * sum);
+  const bins = w.length / 2 + 1;
+  const scale = new Float64Array(bins);
+  for (let k = 0; k < bins; k++) scale[k] = k === 0 || k === bins - 1 ? base : 2 * base;
+  return scale;
+}
+
+/** ρ(j·step) = (Σ w[n]w[n+j·step])² / (Σw²)² for j = 1, 2, ... while j·step < N. */
+export function overlapRho(w: Float64Array, step: number): Float64Array {
+  const n = w.length;
+  let sumSq = 0;
+  for (let i = 0; i < n; i++) sumSq += w[i] * w[i];
+  const lags = Math.ceil(n / step) - 1;
+  const rho = new Float64Array(Math.max(0, lags));
+  for (let j = 1; j <= lags; j++) {
+    const s = j * step;
+    let c = 0;
+    for (let i = 0; i + s < n; i++) c += w[i] * w[i + s];
+    rho[j - 1] = (c * c) / (sumSq * sumSq);
+  }
+  return rho;
+}
+
+/** K / (1 + 2 Σ_{j=1}^{K−1} (1 − j/K) ρ_j)  (Welch 1967, eq. 11 / Heinzel 2002 eq. 27). */
+export function equalWeightEquivalent(k: number, rho: Float64Array): number {
+  let s = 0;
+  const lags = Math.min(rho.length, k - 1);
+  for (let j = 1; j <= lags; j++) s += (1 - j / k) * rho[j - 1];
+  return k / (1 + 2 * s);
+}
+
+// Variance of an exponential average of n segments relative to one periodogram. Weights by age a (0 = newest):
+// u_a = α r^a for a < n−1 and u_{n−1} = r^{n−1} (the first segment initialises), r = 1 − α. Closed forms of the
+// geometric sums S(d) = Σ_a u_a u_{a+d}; V = S(0) + 2 Σ_d ρ_d S(d).
+function exponentialVarianceFactor(alpha: number, n: number, rho: Float64Array): number {
+  const r = 1 - alpha;
+  const r2 = r * r;
+  const geo = (m: number): number => (m <= 0 ? 0 : r2 === 1 ? m : (1 - r2 ** m) / (1 - r2)); // Σ_{a<m} r^{2a}
+  const last = r ** (n - 1);
+  let v = alpha * alpha * geo(n - 1) + last * last;
+  const lags = Math.min(rho.length, n - 1);
+  for (let d = 1; d <= lags; d++) {
+    const sd = alpha * alpha * r ** d * geo(n - 1 - d) + alpha * r ** (n - 1 - d) * last;
+    v += 2 * rho[d - 1] * sd;
+  }
+  return v;
+}
