@@ -1,0 +1,122 @@
+// One alarm's state machine in sample time: on-delay, off-delay, deadband (hysteresis), re-alarm interval,
+// acknowledge and shelve. Raise when the level has stayed above the threshold for onDelay samples; clear when it
+// has stayed below (threshold − deadband) for offDelay samples. Levels between the two keep the current state, so a
+// fault flickering around its threshold gives one raise and one clear (common practice for process alarms,
+// e.g. the deadband and on/off-delay parameters of alarm-management practice, ISA-18.2 / EEMUA 191).
+
+export interface AlarmTiming {
+  /** Samples the level must stay above the threshold before raising (0 = at once). */
+  onDelay: number;
+  /** Samples the level must stay below threshold − deadband before clearing (0 = at once). */
+  offDelay: number;
+  /** Hysteresis in the level's unit (dB for band rules). */
+  deadband: number;
+  /** Repeat a 'raised' event every this many samples while active and unacknowledged (0 = never). */
+  reAlarm: number;
+}
+
+/** What update() reports. */
+export const AlarmTransition = { None: 0, Raised: 1, Cleared: 2, Repeated: 3 } as const;
+export type AlarmTransition = (typeof AlarmTransition)[keyof typeof AlarmTransition];
+
+const NORMAL = 0;
+const PENDING = 1;
+const ACTIVE = 2;
+const CLEARING = 3;
+
+export class AlarmState {
+  private readonly onDelay: number;
+  private readonly offDelay: number;
+  private readonly deadband: number;
+  private readonly reAlarm: number;
+  private phase = NORMAL;
+  private since = 0;
+  private lastAnnounced = 0;
+  private announced = false;
+  private acked = false;
+  private shelvedUntil = -1;
+
+  constructor(timing: AlarmTiming) {
+    for (const k of ['onDelay', 'offDelay', 'reAlarm'] as const) {
+      const v = timing[k];
+      if (!Number.isInteger(v) || v < 0) throw new RangeError(`AlarmState: ${k} must be a whole number of samples ≥ 0, got ${v}`);
+    }
+    if (!(timing.deadband >= 0) || !Number.isFinite(timing.deadband)) {
+      throw new RangeError(`AlarmState: deadband must be a finite number ≥ 0, got ${timing.deadband}`);
+    }
+    this.onDelay = timing.onDelay;
+    this.offDelay = timing.offDelay;
+    this.deadband = timing.deadband;
+    this.reAlarm = timing.reAlarm;
+  }
+
+  /** True while the condition is active (raised and not yet cleared), announced or not. */
+  get active(): boolean {
+    return this.phase === ACTIVE || this.phase === CLEARING;
+  }
+
+  get acknowledged(): boolean {
+    return this.acked;
+  }
+
+  /** Feeds one evaluation at `sample` (non-decreasing). Returns the transition to announce, if any. */
+  update(sample: number, level: number, threshold: number): AlarmTransition {
+    const shelved = sample < this.shelvedUntil;
+    switch (this.phase) {
+      case NORMAL:
+      case PENDING: {
+        if (!(level > threshold)) {
+          this.phase = NORMAL;
+          return AlarmTransition.None;
+        }
+        if (this.phase === NORMAL) {
+          this.phase = PENDING;
+          this.since = sample;
+        }
+        if (sample - this.since < this.onDelay) return AlarmTransition.None;
+        this.phase = ACTIVE;
+        this.acked = false;
+        return this.announce(sample, shelved, AlarmTransition.Raised);
+      }
+      default: {
+        const below = level < threshold - this.deadband;
+        if (!below) {
+          this.phase = ACTIVE;
+          if (!this.announced) return this.announce(sample, shelved, AlarmTransition.Raised);
+          if (this.reAlarm > 0 && !this.acked && !shelved && sample - this.lastAnnounced >= this.reAlarm) {
+            this.lastAnnounced = sample;
+            return AlarmTransition.Repeated;
+          }
+          return AlarmTransition.None;
+        }
+        if (this.phase === ACTIVE) {
+          this.phase = CLEARING;
+          this.since = sample;
+        }
+        if (sample - this.since < this.offDelay) return AlarmTransition.None;
+        this.phase = NORMAL;
+        const wasAnnounced = this.announced;
+        this.announced = false;
+        this.acked = false;
+        return wasAnnounced ? AlarmTransition.Cleared : AlarmTransition.None;
+      }
+    }
+  }
+
+  /** Stops re-alarms for the current activation; the next activation alarms again. */
+  acknowledge(): void {
+    if (this.active) this.acked = true;
+  }
+
+  /** Suppresses announcements until `untilSample`; an alarm still active then is announced at that point. */
+  shelve(untilSample: number): void {
+    this.shelvedUntil = untilSample;
+  }
+
+  private announce(sample: number, shelved: boolean, t: AlarmTransition): AlarmTransition {
+    if (shelved) return AlarmTransition.None;
+    this.announced = true;
+    this.lastAnnounced = sample;
+    return t;
+  }
+}

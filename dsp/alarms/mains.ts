@@ -1,0 +1,117 @@
+// Mains tracker and harmonic classifier. The supply frequency stays within ±0.2 Hz of 50 or 60 Hz in normal
+// operation (EN 50160: 50 Hz ± 1 % for 99.5 % of a year on interconnected grids; the tighter ±0.2 Hz is typical
+// practice for synchronous grids, used here as the search range). The fundamental is measured from the lines the
+// spur finder reports (the fundamental itself, or else the strongest harmonic divided by its order), and a line is
+// classified as harmonic k when |f − k·f0| ≤ Δf/2 + k·δ: the tolerance widens with k because an error δ in f0
+// grows k-fold at the k-th harmonic.
+
+export type MainsSetting = 'auto' | 50 | 60;
+
+/** Search half-range around the nominal fundamental, Hz. */
+export const MAINS_RANGE_HZ = 0.2;
+/** Per-order tolerance once f0 has been measured from a line (interpolated frequency error), Hz. */
+export const MEASURED_F0_TOLERANCE_HZ = 0.05;
+
+export interface MainsOptions {
+  setting: MainsSetting;
+  binHz: number;
+  /** Highest harmonic order classified (default 40). */
+  maxHarmonic?: number;
+}
+
+export class MainsClassifier {
+  readonly setting: MainsSetting;
+  readonly binHz: number;
+  readonly maxHarmonic: number;
+  /** Measured (or nominal) fundamental of the last classify(), Hz; 0 when no mains line was seen. */
+  fundamental = 0;
+  /** True when `fundamental` was measured from a line rather than taken as nominal. */
+  measured = false;
+  /** Harmonic order per line of the last classify() (0 = not mains). */
+  readonly harmonic: Int32Array;
+  /** RMS totals over classified lines: all harmonics, odd k, even k (unit RMS). */
+  total = 0;
+  odd = 0;
+  even = 0;
+
+  constructor(o: MainsOptions, maxLines: number) {
+    if (o.setting !== 'auto' && o.setting !== 50 && o.setting !== 60) {
+      throw new RangeError(`MainsClassifier: setting must be auto, 50 or 60, got ${String(o.setting)}`);
+    }
+    if (!(o.binHz > 0)) throw new RangeError(`MainsClassifier: binHz must be > 0, got ${o.binHz}`);
+    this.setting = o.setting;
+    this.binHz = o.binHz;
+    this.maxHarmonic = o.maxHarmonic ?? 40;
+    this.harmonic = new Int32Array(maxLines);
+  }
+
+  /** Classifies `count` lines (frequency, rms amplitude). Sets fundamental, harmonic[], totals. */
+  classify(freq: Float64Array, amp: Float64Array, count: number): void {
+    let nominal: number;
+    if (this.setting === 'auto') {
+      const s50 = this.score(50, freq, amp, count);
+      const s60 = this.score(60, freq, amp, count);
+      if (s50 === 0 && s60 === 0) {
+        this.reset(count);
+        return;
+      }
+      nominal = s60 > s50 ? 60 : 50;
+    } else nominal = this.setting;
+    const f0 = this.measure(nominal, freq, amp, count);
+    this.measured = f0 > 0;
+    this.fundamental = f0 > 0 ? f0 : nominal;
+    const delta = this.measured ? MEASURED_F0_TOLERANCE_HZ : MAINS_RANGE_HZ;
+    let total = 0;
+    let odd = 0;
+    let even = 0;
+    for (let i = 0; i < count; i++) {
+      const k = harmonicOrder(freq[i], this.fundamental, this.binHz, delta, this.maxHarmonic);
+      this.harmonic[i] = k;
+      if (k === 0) continue;
+      const p = amp[i] * amp[i];
+      total += p;
+      if (k & 1) odd += p;
+      else even += p;
+    }
+    this.total = Math.sqrt(total);
+    this.odd = Math.sqrt(odd);
+    this.even = Math.sqrt(even);
+  }
+
+  private reset(count: number): void {
+    this.fundamental = 0;
+    this.measured = false;
+    for (let i = 0; i < count; i++) this.harmonic[i] = 0;
+    this.total = this.odd = this.even = 0;
+  }
+
+  /** Line power explained by harmonics of a nominal frequency within the normal range. */
+  private score(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
+    let s = 0;
+    for (let i = 0; i < count; i++) {
+      if (harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, this.maxHarmonic) > 0) s += amp[i] * amp[i];
+    }
+    return s;
+  }
+
+  /** f0 from the strongest line that is a harmonic of the nominal within range, divided by its order; 0 if none. */
+  private measure(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
+    let best = -1;
+    let bestK = 0;
+    for (let i = 0; i < count; i++) {
+      const k = harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, this.maxHarmonic);
+      if (k > 0 && (best < 0 || amp[i] > amp[best])) {
+        best = i;
+        bestK = k;
+      }
+    }
+    return best < 0 ? 0 : freq[best] / bestK;
+  }
+}
+
+/** k when |f − k·f0| ≤ binHz/2 + k·delta for some 1 ≤ k ≤ maxK, else 0. */
+export function harmonicOrder(f: number, f0: number, binHz: number, delta: number, maxK: number): number {
+  const k = Math.round(f / f0);
+  if (k < 1 || k > maxK) return 0;
+  return Math.abs(f - k * f0) <= binHz / 2 + k * delta ? k : 0;
+}

@@ -1,0 +1,76 @@
+import { describe, expect, it } from 'vitest';
+import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
+import { SeededRandom } from '../../dsp/random.ts';
+
+const T = 3; // threshold, dB
+
+function run(state: AlarmState, levels: number[], step = 100): { sample: number; t: AlarmTransition }[] {
+  const out: { sample: number; t: AlarmTransition }[] = [];
+  levels.forEach((v, i) => {
+    const t = state.update(i * step, v, T);
+    if (t !== AlarmTransition.None) out.push({ sample: i * step, t });
+  });
+  return out;
+}
+
+describe('AlarmState', () => {
+  it('a fault flickering around its threshold gives one raise and one clear, not chatter', () => {
+    // A level wandering ±1 dB (seeded Gaussian, σ = 0.5 dB) around the threshold for 2000 evaluations, then quiet.
+    // Deadband 2 dB and on/off delays are the standard cure for chatter (common practice, ISA-18.2 alarm management).
+    const rng = new SeededRandom(7);
+    const levels: number[] = [];
+    for (let i = 0; i < 200; i++) levels.push(0 + 0.5 * rng.gaussian());
+    for (let i = 0; i < 2000; i++) levels.push(T + 0.2 + 0.5 * rng.gaussian());
+    for (let i = 0; i < 200; i++) levels.push(0 + 0.5 * rng.gaussian());
+    const events = run(new AlarmState({ onDelay: 300, offDelay: 1000, deadband: 2, reAlarm: 0 }), levels);
+    expect(events.map((e) => e.t)).toEqual([AlarmTransition.Raised, AlarmTransition.Cleared]);
+    // Without hysteresis the same signal chatters: this is what the deadband prevents.
+    const bare = run(new AlarmState({ onDelay: 0, offDelay: 0, deadband: 0, reAlarm: 0 }), levels);
+    expect(bare.length).toBeGreaterThan(100);
+  });
+
+  it('raises after exactly the on-delay and clears after exactly the off-delay', () => {
+    const s = new AlarmState({ onDelay: 500, offDelay: 300, deadband: 1, reAlarm: 0 });
+    const levels = [0, 0, 5, 5, 5, 5, 5, 5, 5, 1.5, 1.5, 1.5, 1.5, 1.5, 1.5];
+    // Level crosses at sample 200; 500 samples later is 700. Drops below 3 − 1 at 900; 300 later is 1200.
+    expect(run(s, levels)).toEqual([
+      { sample: 700, t: AlarmTransition.Raised },
+      { sample: 1200, t: AlarmTransition.Cleared },
+    ]);
+  });
+
+  it('a level inside the deadband keeps an active alarm raised', () => {
+    const s = new AlarmState({ onDelay: 0, offDelay: 0, deadband: 2, reAlarm: 0 });
+    expect(run(s, [4, 2.5, 1.5, 1.1, 0.9])).toEqual([
+      { sample: 0, t: AlarmTransition.Raised },
+      { sample: 400, t: AlarmTransition.Cleared },
+    ]);
+  });
+
+  it('repeats an unacknowledged alarm every re-alarm interval and stops once acknowledged', () => {
+    const s = new AlarmState({ onDelay: 0, offDelay: 0, deadband: 0, reAlarm: 1000 });
+    const events: { sample: number; t: AlarmTransition }[] = [];
+    for (let i = 0; i <= 40; i++) {
+      if (i === 25) s.acknowledge();
+      const t = s.update(i * 100, 10, T);
+      if (t !== AlarmTransition.None) events.push({ sample: i * 100, t });
+    }
+    expect(events).toEqual([
+      { sample: 0, t: AlarmTransition.Raised },
+      { sample: 1000, t: AlarmTransition.Repeated },
+      { sample: 2000, t: AlarmTransition.Repeated },
+    ]);
+  });
+
+  it('a shelved alarm is silent, and is announced when the shelf ends if still active', () => {
+    const s = new AlarmState({ onDelay: 0, offDelay: 0, deadband: 0, reAlarm: 0 });
+    s.shelve(1000);
+    const events = run(s, [10, 10, 10, 0, 10, 10, 10, 10, 10, 10, 10, 10]);
+    expect(events).toEqual([{ sample: 1000, t: AlarmTransition.Raised }]);
+  });
+
+  it('refuses fractional delays and negative deadbands', () => {
+    expect(() => new AlarmState({ onDelay: 1.5, offDelay: 0, deadband: 0, reAlarm: 0 })).toThrow(/onDelay/);
+    expect(() => new AlarmState({ onDelay: 0, offDelay: 0, deadband: -1, reAlarm: 0 })).toThrow(/deadband/);
+  });
+});
