@@ -1,0 +1,138 @@
+// Per-channel streaming Welch estimators and the snapshot schedule, all in sample time.
+// Two rules make the spectra a function of absolute sample indices only (so any block size, any replay speed
+// and a replay of a live run give bit-identical snapshots):
+//  - segments start at absolute indices that are multiples of the step (segment − floor(overlap·segment)); after
+//    the start of a stream or a gap, samples before the next such index are not analysed;
+//  - snapshot instants are the samples s with (s + 1) mod interval = 0, interval = round(rate / snapshotRate);
+//    a snapshot is taken at an instant only when a new segment completed since the previous one.
+import { WelchEstimator } from '../../dsp/welch.ts';
+import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../core/settings.ts';
+import type { StreamInfo } from '../core/stream.ts';
+import type { SnapshotChannel, SpectrumSnapshot } from './types.ts';
+
+export interface AnalysisChoice {
+  segment: number;
+  window: string;
+  overlap: number;
+  detrend: DetrendMode;
+}
+
+export const DEFAULT_ANALYSIS: AnalysisChoice = { segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' };
+export const DEFAULT_AVERAGING: AveragingSpec = { mode: 'exponential', tauSeconds: 10 };
+export const DEFAULT_SNAPSHOT_RATE = 10;
+
+/** Smallest multiple of step that is ≥ sample. */
+export function alignUp(sample: number, step: number): number {
+  return Math.ceil(sample / step) * step;
+}
+
+export class Analyser {
+  readonly settings: AnalysisSettings;
+  readonly step: number;
+  readonly interval: number;
+  private readonly estimators: WelchEstimator[];
+  /** First absolute index that will be pushed after the latest start or gap. */
+  private alignedFrom: number;
+  private lastSnapshotSegments = 0;
+
+  constructor(
+    private readonly info: StreamInfo,
+    choice: AnalysisChoice,
+    readonly averaging: AveragingSpec,
+    snapshotRate: number,
+    startSample: number,
+  ) {
+    if (!(snapshotRate > 0) || !Number.isFinite(snapshotRate)) {
+      throw new RangeError(`snapshot rate must be a positive number of snapshots per second, got ${snapshotRate}`);
+    }
+    this.settings = {
+      sampleRate: info.sampleRate,
+      segment: choice.segment,
+      window: choice.window,
+      overlap: choice.overlap,
+      detrend: choice.detrend,
+    };
+    this.step = choice.segment - Math.floor(choice.overlap * choice.segment); // as WelchEstimator.step
+    this.interval = Math.max(1, Math.round(info.sampleRate / snapshotRate));
+    this.alignedFrom = alignUp(startSample, this.step);
+    this.estimators = info.channels.map(
+      () =>
+        new WelchEstimator({
+          sampleRate: info.sampleRate,
+          segment: choice.segment,
+          window: choice.window,
+          overlap: choice.overlap,
+          detrend: choice.detrend,
+          scaling: 'density',
+          averaging,
+          firstSample: this.alignedFrom,
+        }),
+    );
+    // The estimator canonicalises the window name (e.g. "Hann" → "hann").
+    this.settings.window = this.estimators[0].window.name;
+  }
+
+  get frequencies(): Float64Array {
+    return this.estimators[0].frequencies;
+  }
+
+  /** Drops partial segments; analysis resumes at the first step multiple at or after `nextSample`. */
+  restartAt(nextSample: number): void {
+    this.alignedFrom = alignUp(nextSample, this.step);
+    for (const e of this.estimators) e.reset(this.alignedFrom);
+  }
+
+  /**
+   * Pushes data[c][0..frames) (absolute indices firstSample…) and calls onInstant(s) at every snapshot instant s
+   * inside the block at which a new segment has completed since the previous snapshot.
+   */
+  process(data: readonly Float64Array[], firstSample: number, frames: number, onInstant: (sample: number) => void): void {
+    const end = firstSample + frames;
+    const interval = this.interval;
+    const estimators = this.estimators;
+    const n = estimators.length;
+    let pos = Math.max(firstSample, this.alignedFrom);
+    while (pos < end) {
+      const boundary = Math.ceil((pos + 1) / interval) * interval - 1;
+      const chunkEnd = boundary + 1 < end ? boundary + 1 : end;
+      const from = pos - firstSample;
+      const to = chunkEnd - firstSample;
+      for (let c = 0; c < n; c++) estimators[c].push(data[c], from, to);
+      if (chunkEnd === boundary + 1) {
+        const total = estimators[0].segmentsTotal;
+        if (total !== this.lastSnapshotSegments) {
+          this.lastSnapshotSegments = total;
+          onInstant(boundary);
+        }
+      }
+      pos = chunkEnd;
+    }
+  }
+
+  /** A snapshot of every channel's current estimate (fresh arrays: subscribers may keep it). */
+  snapshot(sample: number, wallTime: string, sequence: number): SpectrumSnapshot {
+    const est0 = this.estimators[0];
+    const channels: SnapshotChannel[] = this.estimators.map((e, c) => ({
+      name: this.info.channels[c].name,
+      unit: this.info.channels[c].unit,
+      psd: e.psd(new Float64Array(e.bins)),
+      segmentsUsed: e.segmentsUsed,
+      segmentsTotal: e.segmentsTotal,
+      equivalentAverages: e.equivalentAverages(),
+      lastSegmentSample: e.lastSegmentSample,
+    }));
+    return {
+      sample,
+      t: sample / this.settings.sampleRate,
+      wallTime,
+      sequence,
+      settings: { ...this.settings },
+      averaging: { ...this.averaging },
+      frequencies: est0.frequencies,
+      binHz: est0.binHz,
+      nenbw: est0.window.nenbw,
+      enbwHz: est0.window.enbwHz(this.settings.sampleRate),
+      channels,
+    };
+  }
+}

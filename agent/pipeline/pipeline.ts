@@ -1,0 +1,319 @@
+// The one pipeline of live, demo and replay runs: source → conditioner → analysers → snapshots → detectors → events.
+// It is the sources' SourceSink. Two ways to take blocks:
+//  - 'lossless' (replay): each block is processed inside block(); the source is paced by the analysis, so every
+//    sample is analysed and a replay at any speed gives the same result.
+//  - 'bounded' (live): blocks are copied into a bounded queue and analysed from setImmediate in slices of at most
+//    drainBudgetMs, so the event loop keeps reading the port; when the queue is full the incoming block is dropped
+//    whole and counted, and the analysis restarts cleanly after the hole (as after a gap).
+import type { FloorlineEvent } from '../core/events.ts';
+import type { AveragingSpec } from '../core/settings.ts';
+import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../core/stream.ts';
+import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
+import { BlockQueue } from './block-queue.ts';
+import { Conditioner } from './conditioner.ts';
+import { Emitter, type Listener } from './emitter.ts';
+import type { CalibratedBlock, Detector, OverrunNotice, PipelineCounters, PipelineEvents } from './types.ts';
+
+export interface PipelineOptions {
+  analysis?: Partial<AnalysisChoice>;
+  averaging?: AveragingSpec;
+  /** Snapshots per second of sample time (default 10). */
+  snapshotRate?: number;
+  mode?: 'lossless' | 'bounded';
+  /** Blocks the bounded queue holds before dropping (default 64). */
+  queueCapacity?: number;
+  /** Longest analysis slice per event-loop turn in bounded mode, ms (default 20). */
+  drainBudgetMs?: number;
+}
+
+export class Pipeline implements SourceSink {
+  private readonly emitter = new Emitter<PipelineEvents>();
+  private readonly detectors: Detector[] = [];
+  private choice: AnalysisChoice;
+  private averagingSpec: AveragingSpec;
+  private readonly snapshotRate: number;
+  private readonly mode: 'lossless' | 'bounded';
+  private readonly queueCapacity: number;
+  private readonly drainBudgetMs: number;
+
+  private streamInfo: StreamInfo | undefined;
+  private startWallMs = 0;
+  private conditioner: Conditioner | undefined;
+  private analyser: Analyser | undefined;
+  private queue: BlockQueue | undefined;
+  private units: Float64Array[] = [];
+  private expected = -1;
+  private pendingReconfigure: { choice: AnalysisChoice; averaging: AveragingSpec } | undefined;
+  private drainScheduled = false;
+  private dropRun: OverrunNotice | undefined;
+  private ended = false;
+  private endWaiters: (() => void)[] = [];
+  private readonly count: PipelineCounters = {
+    blocks: 0,
+    samples: 0,
+    lastSample: -1,
+    snapshots: 0,
+    gaps: 0,
+    lostSamples: 0,
+    droppedBlocks: 0,
+    droppedSamples: 0,
+    clippedSamples: [],
+    events: 0,
+    queueDepth: 0,
+    queueCapacity: 0,
+  };
+
+  constructor(options: PipelineOptions = {}) {
+    this.choice = { ...DEFAULT_ANALYSIS, ...options.analysis };
+    this.averagingSpec = options.averaging ?? DEFAULT_AVERAGING;
+    this.snapshotRate = options.snapshotRate ?? DEFAULT_SNAPSHOT_RATE;
+    if (!(this.snapshotRate > 0) || !Number.isFinite(this.snapshotRate)) {
+      throw new RangeError(`Pipeline: snapshotRate must be a positive number per second, got ${this.snapshotRate}`);
+    }
+    this.mode = options.mode ?? 'lossless';
+    this.queueCapacity = options.queueCapacity ?? 64;
+    this.drainBudgetMs = options.drainBudgetMs ?? 20;
+    if (!Number.isInteger(this.queueCapacity) || this.queueCapacity < 1) {
+      throw new RangeError(`Pipeline: queueCapacity must be an integer ≥ 1, got ${this.queueCapacity}`);
+    }
+  }
+
+  on<K extends keyof PipelineEvents>(name: K, fn: Listener<PipelineEvents[K]>): () => void {
+    return this.emitter.on(name, fn);
+  }
+
+  addDetector(d: Detector): void {
+    this.detectors.push(d);
+    if (this.streamInfo && d.onInfo) d.onInfo(this.streamInfo);
+  }
+
+  /** Starts the source with this pipeline as its sink; resolves when the source has started. */
+  attach(source: Source): Promise<void> {
+    return source.start(this);
+  }
+
+  get stream(): StreamInfo | undefined {
+    return this.streamInfo;
+  }
+
+  get settings(): AnalysisChoice {
+    return { ...this.choice };
+  }
+
+  get averaging(): AveragingSpec {
+    return { ...this.averagingSpec };
+  }
+
+  /** The analysis as it runs now (undefined before the stream's info). */
+  get analysisSettings() {
+    return this.analyser ? { ...this.analyser.settings } : undefined;
+  }
+
+  counters(): PipelineCounters {
+    return { ...this.count, clippedSamples: [...this.count.clippedSamples], queueDepth: this.queue?.length ?? 0 };
+  }
+
+  /** Wall-clock label of a sample: the stream's start wall time plus its sample time since firstSample. */
+  wallTimeAt(sample: number): string {
+    const info = this.streamInfo;
+    if (!info) return new Date(this.startWallMs || 0).toISOString();
+    return new Date(this.startWallMs + ((sample - info.firstSample) / info.sampleRate) * 1000).toISOString();
+  }
+
+  /** Changes segment/window/overlap/detrend/averaging; takes effect at the next block (estimates restart). */
+  configure(change: { analysis?: Partial<AnalysisChoice>; averaging?: AveragingSpec }): void {
+    const choice = { ...this.choice, ...change.analysis };
+    const averaging = change.averaging ?? this.averagingSpec;
+    if (this.streamInfo) {
+      // Validate now, so a bad request is refused to its caller rather than failing later in the stream.
+      new Analyser(this.streamInfo, choice, averaging, this.snapshotRate, 0);
+    }
+    this.pendingReconfigure = { choice, averaging };
+  }
+
+  /** Emits an event that did not come from a detector (e.g. the recorder's 'recording' info). */
+  emitEvent(e: FloorlineEvent): void {
+    this.count.events++;
+    this.emitter.emit('event', e);
+  }
+
+  /** Resolves when the source has ended and every queued block is processed. */
+  whenEnded(): Promise<void> {
+    if (this.ended) return Promise.resolve();
+    return new Promise((resolve) => this.endWaiters.push(resolve));
+  }
+
+  // ---- SourceSink ----
+
+  info(info: StreamInfo): void {
+    if (!(info.sampleRate > 0) || !Number.isFinite(info.sampleRate)) {
+      throw new RangeError(`stream sample rate must be positive, got ${info.sampleRate}`);
+    }
+    const same =
+      this.streamInfo !== undefined &&
+      this.streamInfo.sampleRate === info.sampleRate &&
+      this.streamInfo.channels.length === info.channels.length &&
+      this.streamInfo.channels.every((c, i) => c.scale === info.channels[i].scale && c.fullScaleCounts === info.channels[i].fullScaleCounts);
+    this.drainNow();
+    const start = info.startWallTime ? Date.parse(info.startWallTime) : NaN;
+    if (!same) {
+      this.streamInfo = info;
+      this.startWallMs = Number.isFinite(start) ? start : Date.now();
+      this.conditioner = new Conditioner(info.channels);
+      this.analyser = new Analyser(info, this.choice, this.averagingSpec, this.snapshotRate, info.firstSample);
+      this.units = info.channels.map(() => new Float64Array(0));
+      this.queue = this.mode === 'bounded' ? new BlockQueue(this.queueCapacity, info.channels.length) : undefined;
+      this.count.queueCapacity = this.mode === 'bounded' ? this.queueCapacity : 0;
+      this.count.clippedSamples = info.channels.map(() => 0);
+      this.expected = info.firstSample;
+    } else {
+      this.streamInfo = { ...info, firstSample: this.streamInfo!.firstSample, startWallTime: this.streamInfo!.startWallTime };
+    }
+    for (const d of this.detectors) d.onInfo?.(this.streamInfo!);
+    this.emitter.emit('info', this.streamInfo!);
+  }
+
+  block(block: SampleBlock): void {
+    if (!this.streamInfo) throw new Error('pipeline: a block arrived before the stream info; a source must call info() first');
+    if (block.frames <= 0) return;
+    if (this.queue) {
+      if (this.queue.push(block)) {
+        this.scheduleDrain();
+      } else {
+        this.count.droppedBlocks++;
+        this.count.droppedSamples += block.frames;
+        if (this.dropRun) {
+          this.dropRun.lost += block.frames;
+          this.dropRun.droppedBlocks++;
+        } else {
+          this.dropRun = { sample: block.firstSample, lost: block.frames, droppedBlocks: 1 };
+        }
+      }
+      return;
+    }
+    this.processBlock(block.data, block.firstSample, block.frames);
+  }
+
+  gap(gap: GapNotice): void {
+    this.drainNow();
+    this.applyGap(gap, true);
+  }
+
+  link(link: LinkNotice): void {
+    this.drainNow();
+    this.emitter.emit('link', link);
+    for (const d of this.detectors) if (d.onLink) this.emitAll(d.onLink(link));
+  }
+
+  end(): void {
+    this.drainNow();
+    this.flushDropRun();
+    this.ended = true;
+    this.emitter.emit('end', { sample: this.count.lastSample });
+    const waiters = this.endWaiters;
+    this.endWaiters = [];
+    for (const w of waiters) w();
+  }
+
+  // ---- internals ----
+
+  private emitAll(events: readonly FloorlineEvent[]): void {
+    for (let i = 0; i < events.length; i++) this.emitEvent(events[i]);
+  }
+
+  private flushDropRun(): void {
+    const run = this.dropRun;
+    if (!run) return;
+    this.dropRun = undefined;
+    this.emitter.emit('overrun', run);
+    for (const d of this.detectors) if (d.onOverrun) this.emitAll(d.onOverrun(run));
+  }
+
+  /** lost = 0 marks a seam in the signal (a replay loop) without missing samples: analysis restarts, no alarm. */
+  private applyGap(gap: GapNotice, notifyDetectors: boolean): void {
+    this.expected = gap.sample + gap.lost;
+    this.analyser?.restartAt(this.expected);
+    if (gap.lost > 0) {
+      this.count.gaps++;
+      this.count.lostSamples += gap.lost;
+    }
+    this.emitter.emit('gap', gap);
+    if (notifyDetectors && gap.lost > 0) for (const d of this.detectors) if (d.onGap) this.emitAll(d.onGap(gap));
+  }
+
+  private scheduleDrain(): void {
+    if (this.drainScheduled) return;
+    this.drainScheduled = true;
+    setImmediate(() => {
+      this.drainScheduled = false;
+      this.drain(this.drainBudgetMs);
+    });
+  }
+
+  private drainNow(): void {
+    this.drain(Infinity);
+  }
+
+  private drain(budgetMs: number): void {
+    const q = this.queue;
+    if (!q) return;
+    const until = performance.now() + budgetMs;
+    let item = q.peek();
+    while (item) {
+      this.processBlock(item.data, item.firstSample, item.frames);
+      q.release();
+      if (performance.now() >= until) break;
+      item = q.peek();
+    }
+    if (q.length > 0) this.scheduleDrain();
+    else this.flushDropRun();
+  }
+
+  private processBlock(raw: readonly Float64Array[], firstSample: number, frames: number): void {
+    const info = this.streamInfo!;
+    let start = 0;
+    if (firstSample < this.expected) {
+      // Overlaps samples already processed (a source replaying frames): keep time monotonic, skip the repeat.
+      start = this.expected - firstSample;
+      if (start >= frames) return;
+    } else if (firstSample > this.expected) {
+      const reason = this.dropRun || this.count.droppedSamples > 0 ? 'analysis overrun (blocks dropped)' : 'discontinuity in the source';
+      this.flushDropRun();
+      this.applyGap({ sample: this.expected, lost: firstSample - this.expected, reason }, reason.startsWith('discontinuity'));
+    }
+    if (this.pendingReconfigure) {
+      const { choice, averaging } = this.pendingReconfigure;
+      this.pendingReconfigure = undefined;
+      this.choice = choice;
+      this.averagingSpec = averaging;
+      this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start);
+    }
+    const n = frames - start;
+    const first = firstSample + start;
+    const units = this.units;
+    for (let c = 0; c < units.length; c++) if (units[c].length < n) units[c] = new Float64Array(Math.max(n, units[c].length * 2));
+    const cond = this.conditioner!;
+    cond.condition(raw, start, n, first, units);
+    this.count.blocks++;
+    this.count.samples += n;
+    this.count.lastSample = first + n - 1;
+    this.expected = first + n;
+    const calibrated: CalibratedBlock = { firstSample: first, frames: n, data: units };
+    this.emitter.emit('block', calibrated);
+    for (let c = 0; c < units.length; c++) {
+      const clip = cond.clipNotice(c);
+      if (!clip) continue;
+      this.count.clippedSamples[c] += clip.count;
+      this.emitter.emit('clip', clip);
+      for (const d of this.detectors) if (d.onClip) this.emitAll(d.onClip(clip));
+    }
+    this.analyser!.process(units, first, n, this.onInstant);
+  }
+
+  private readonly onInstant = (sample: number): void => {
+    const snap = this.analyser!.snapshot(sample, this.wallTimeAt(sample), this.count.snapshots);
+    this.count.snapshots++;
+    this.emitter.emit('snapshot', snap);
+    for (const d of this.detectors) this.emitAll(d.onSnapshot(snap));
+  };
+}
