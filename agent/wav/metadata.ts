@@ -1,0 +1,81 @@
+// Our recording metadata: the same JSON travels in the sidecar NAME.wav.json and in an embedded 'flmd' chunk.
+// When both exist the sidecar wins (it is the copy a user may edit); the chunk keeps a lone WAV self-describing.
+import type { AnalysisSettings } from '../core/settings.ts';
+import type { SourceKind } from '../core/stream.ts';
+import { WavError } from './errors.ts';
+
+/** Chunk id of the embedded metadata (our own naming: "floorline metadata"). */
+export const METADATA_CHUNK_ID = 'flmd';
+export const METADATA_SCHEMA = 'floorline.recording/1';
+
+export interface ChannelMetadata {
+  name: string;
+  /** Unit of the stored samples, e.g. "V" for our recordings, "FS" for unscaled full-scale fractions. */
+  unit: string;
+  /** Calibration the recorder applied: unit per raw count (informational; the samples are already in `unit`). */
+  scale?: number;
+  /** Front-end gain ahead of the ADC, V/V (informational). */
+  gain?: number;
+  /** Full scale in raw counts of the board, for clip detection on replay. */
+  fullScaleCounts?: number;
+}
+
+export interface RecordingMetadata {
+  schema: typeof METADATA_SCHEMA;
+  sampleRate: number;
+  channels: ChannelMetadata[];
+  source?: { kind: SourceKind | 'file'; label: string };
+  boardId?: string;
+  /** Sample index of the first frame in this file (rotated recordings continue the count). */
+  firstSample: number;
+  /** ISO-8601 UTC wall time at firstSample (label only). */
+  startWallTime?: string;
+  analysis?: Partial<AnalysisSettings>;
+  notes?: string;
+}
+
+export function sidecarPath(wavPath: string): string {
+  return `${wavPath}.json`;
+}
+
+function fail(where: string, what: string): never {
+  throw new WavError('WAV_BAD_METADATA', `${where}: ${what}; fix or delete it.`);
+}
+
+/** Validates parsed JSON as RecordingMetadata. `where` names the sidecar or chunk in errors. */
+export function validateMetadata(value: unknown, where: string): RecordingMetadata {
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) fail(where, 'metadata is not a JSON object');
+  const m = value as Record<string, unknown>;
+  if (m.schema !== METADATA_SCHEMA) fail(where, `"schema" is ${JSON.stringify(m.schema)}, expected "${METADATA_SCHEMA}"`);
+  if (typeof m.sampleRate !== 'number' || !(m.sampleRate > 0)) fail(where, '"sampleRate" must be a positive number');
+  if (!Array.isArray(m.channels) || m.channels.length === 0) fail(where, '"channels" must be a non-empty array');
+  m.channels.forEach((c: unknown, i: number) => {
+    const ch = c as Record<string, unknown>;
+    if (typeof ch !== 'object' || ch === null) fail(where, `channels[${i}] is not an object`);
+    if (typeof ch.name !== 'string' || ch.name === '') fail(where, `channels[${i}].name must be a non-empty string`);
+    if (typeof ch.unit !== 'string' || ch.unit === '') fail(where, `channels[${i}].unit must be a non-empty string`);
+    for (const k of ['scale', 'gain', 'fullScaleCounts']) {
+      if (ch[k] !== undefined && (typeof ch[k] !== 'number' || !Number.isFinite(ch[k] as number))) {
+        fail(where, `channels[${i}].${k} must be a finite number`);
+      }
+    }
+  });
+  if (typeof m.firstSample !== 'number' || !Number.isSafeInteger(m.firstSample) || m.firstSample < 0) {
+    fail(where, '"firstSample" must be a non-negative integer');
+  }
+  if (m.startWallTime !== undefined && (typeof m.startWallTime !== 'string' || Number.isNaN(Date.parse(m.startWallTime)))) {
+    fail(where, '"startWallTime" must be an ISO-8601 time');
+  }
+  return m as unknown as RecordingMetadata;
+}
+
+/** Parses metadata JSON text (trailing spaces or NULs of a reserved chunk are allowed). */
+export function parseMetadataText(text: string, where: string): RecordingMetadata {
+  let value: unknown;
+  try {
+    value = JSON.parse(text.replace(/[\0 ]+$/, ''));
+  } catch (err) {
+    fail(where, `metadata is not valid JSON (${(err as Error).message})`);
+  }
+  return validateMetadata(value, where);
+}

@@ -1,0 +1,75 @@
+// Helpers for the WAV and analyze suites: a fresh temp folder and python3 (numpy + scipy) as the outside
+// reference. One python process serves a whole test file, because importing scipy costs seconds.
+import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
+import { mkdtempSync, readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { createInterface } from 'node:readline';
+
+export const root = new URL('../../', import.meta.url).pathname;
+
+export function tempDir(label: string): string {
+  return mkdtempSync(join(tmpdir(), `floorline-${label}-`));
+}
+
+// Each request line is JSON {code, args}; the code runs with `args`, numpy as np, scipy.io.wavfile as wavfile,
+// scipy.signal as signal, and sets `result` (JSON-serialisable). One JSON line answers: {ok, result | error}.
+const SERVER = String.raw`
+import sys, json, traceback
+import numpy as np
+from scipy.io import wavfile
+from scipy import signal
+for line in sys.stdin:
+    req = json.loads(line)
+    scope = {"np": np, "wavfile": wavfile, "signal": signal, "json": json, "args": req["args"], "result": None}
+    try:
+        exec(req["code"], scope)
+        out = {"ok": True, "result": scope["result"]}
+    except Exception:
+        out = {"ok": False, "error": traceback.format_exc()}
+    sys.stdout.write(json.dumps(out) + "\n")
+    sys.stdout.flush()
+`;
+
+export class Python {
+  private readonly child: ChildProcessWithoutNullStreams;
+  private readonly waiting: ((line: string) => void)[] = [];
+
+  constructor() {
+    this.child = spawn('python3', ['-c', SERVER], { stdio: ['pipe', 'pipe', 'pipe'] });
+    createInterface({ input: this.child.stdout }).on('line', (line) => this.waiting.shift()?.(line));
+  }
+
+  /** Runs `code` (which sets `result`) with `args`; resolves to result. Rejects with python's traceback. */
+  run<T = unknown>(code: string, ...args: unknown[]): Promise<T> {
+    return new Promise((resolve, reject) => {
+      this.waiting.push((line) => {
+        const answer = JSON.parse(line);
+        if (answer.ok) resolve(answer.result as T);
+        else reject(new Error(answer.error));
+      });
+      this.child.stdin.write(JSON.stringify({ code, args }) + '\n');
+    });
+  }
+
+  close(): void {
+    this.child.stdin.end();
+  }
+}
+
+/** Decodes hex of little-endian float32 / float64 (how python snippets hand back sample arrays). */
+export function hexToFloat32(hex: string): Float32Array {
+  const b = Buffer.from(hex, 'hex');
+  return new Float32Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
+}
+
+export function hexToFloat64(hex: string): Float64Array {
+  const b = Buffer.from(hex, 'hex');
+  return new Float64Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
+}
+
+/** Reads a little-endian float64 raw file (as the fixture script writes scipy's samples). */
+export function readF64(path: string): Float64Array {
+  const b = readFileSync(path);
+  return new Float64Array(b.buffer.slice(b.byteOffset, b.byteOffset + b.byteLength));
+}
