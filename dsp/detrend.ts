@@ -1,7 +1,8 @@
 // Detrend and window one segment in a single pass: out[n] = (x[n] − trend[n])·w[n].
 // 'mean' removes the sample mean (scipy.signal.detrend type='constant'); 'linear' removes the least-squares line
 // over n = 0..N−1 (scipy type='linear'). With t = n − (N−1)/2 the fit decouples: slope = Σt·x / Σt², offset =
-// mean(x), so no matrix solve is needed.
+// mean(x), so no matrix solve is needed. The mean is summed in numpy's pairwise order so that a large offset
+// cancels exactly as in scipy (the DC bin of an offset channel is otherwise off by an ulp of the offset).
 import type { DetrendMode } from '../agent/core/settings.ts';
 
 export const DETREND_MODES: readonly DetrendMode[] = ['none', 'mean', 'linear'];
@@ -37,9 +38,7 @@ export class SegmentConditioner {
       for (let i = 0; i < n; i++) out[i] = src[offset + i] * w[i];
       return;
     }
-    let sum = 0;
-    for (let i = 0; i < n; i++) sum += src[offset + i];
-    const mean = sum / n;
+    const mean = pairwiseSum(src, offset, n) / n;
     if (this.mode === 'mean') {
       for (let i = 0; i < n; i++) out[i] = (src[offset + i] - mean) * w[i];
       return;
@@ -50,4 +49,45 @@ export class SegmentConditioner {
     const slope = sxt / this.sumT2;
     for (let i = 0; i < n; i++) out[i] = (src[offset + i] - mean - slope * (i - centre)) * w[i];
   }
+}
+
+/**
+ * Σ src[offset..offset+n) in the order numpy's pairwise summation uses for float64 (numpy
+ * _core/src/umath/loops_utils.h.src, PW_BLOCKSIZE 128, 8-way unrolled): error O(ε·log n) instead of O(ε·n).
+ */
+export function pairwiseSum(src: Float64Array, offset: number, n: number): number {
+  if (n < 8) {
+    let s = 0;
+    for (let i = 0; i < n; i++) s += src[offset + i];
+    return s;
+  }
+  if (n <= 128) {
+    let r0 = src[offset];
+    let r1 = src[offset + 1];
+    let r2 = src[offset + 2];
+    let r3 = src[offset + 3];
+    let r4 = src[offset + 4];
+    let r5 = src[offset + 5];
+    let r6 = src[offset + 6];
+    let r7 = src[offset + 7];
+    const blocks = n - (n % 8);
+    let i = 8;
+    for (; i < blocks; i += 8) {
+      const j = offset + i;
+      r0 += src[j];
+      r1 += src[j + 1];
+      r2 += src[j + 2];
+      r3 += src[j + 3];
+      r4 += src[j + 4];
+      r5 += src[j + 5];
+      r6 += src[j + 6];
+      r7 += src[j + 7];
+    }
+    let s = r0 + r1 + (r2 + r3) + (r4 + r5 + (r6 + r7));
+    for (; i < n; i++) s += src[offset + i];
+    return s;
+  }
+  let half = Math.floor(n / 2);
+  half -= half % 8;
+  return pairwiseSum(src, offset, half) + pairwiseSum(src, offset + half, n - half);
 }

@@ -1,0 +1,43 @@
+// Decibel conversions. Power-like quantities (PSD, mean square) take 10·log10, amplitude-like ones (RMS, ASD)
+// 20·log10 (IEC 60027-3 / common practice).
+
+/** 10·log10 of a power ratio. */
+export function powerRatioDb(ratio: number): number {
+  return 10 * Math.log10(ratio);
+}
+
+/** 20·log10 of an amplitude ratio. */
+export function amplitudeRatioDb(ratio: number): number {
+  return 20 * Math.log10(ratio);
+}
+
+/** Inverse of powerRatioDb. */
+export function dbToPowerRatio(db: number): number {
+  return 10 ** (db / 10);
+}
+
+/** Inverse of amplitudeRatioDb. */
+export function dbToAmplitudeRatio(db: number): number {
+  return 10 ** (db / 20);
+}
+
+/** A density in V²/Hz as dBV/√Hz re 1 V/√Hz: 10·log10(psd) = 20·log10(asd). */
+export function psdToDbvPerRootHz(psdV2PerHz: number): number {
+  return 10 * Math.log10(psdV2PerHz);
+}
+
+/** An RMS voltage as dBV re 1 V rms. */
+export function rmsToDbv(rmsVolts: number): number {
+  return 20 * Math.log10(rmsVolts);
+}
+
+/**
+ * An RMS level in dBFS where 0 dBFS is the RMS of a sine whose peak just reaches full scale (AES17 convention):
+ * 20·log10(rms·√2 / fullScalePeak). A full-scale square wave therefore reads +3.01 dBFS.
+ */
+export function rmsToDbfs(rms: number, fullScalePeak: number): number {
+  if (!(Number.isFinite(fullScalePeak) && fullScalePeak > 0)) {
+    throw new RangeError(`rmsToDbfs: full scale must be a positive peak value, got ${fullScalePeak}`);
+  }
+  return 20 * Math.log10((rms * Math.SQRT2) / fullScalePeak);
+}
