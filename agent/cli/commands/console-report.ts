@@ -1,0 +1,55 @@
+// What run, replay and demo print on the terminal: the stream header, one line per event, a closing summary.
+// Everything is stamped in sample time (sample index and t); wall time appears only as a label.
+import type { FloorlineEvent } from '../../core/events.ts';
+import type { StreamInfo } from '../../core/stream.ts';
+import type { Pipeline } from '../../pipeline/pipeline.ts';
+import type { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
+
+function averagingText(p: Pipeline): string {
+  const a = p.averaging;
+  switch (a.mode) {
+    case 'rolling':
+    case 'median':
+      return `${a.mode} over ${a.count} segments`;
+    case 'exponential':
+      return `exponential, τ ${a.tauSeconds} s`;
+    default:
+      return a.mode;
+  }
+}
+
+export function printStreamHeader(info: StreamInfo, p: Pipeline, frames?: number): void {
+  const s = p.analysisSettings;
+  const lines = [
+    `source     ${info.source.kind} ${info.source.label}${info.boardId ? ` (board ${info.boardId})` : ''}`,
+    `stream     ${info.sampleRate} S/s, ${info.channels.length} channel(s): ${info.channels.map((c) => `${c.name} [${c.unit}]`).join(', ')}`,
+  ];
+  if (frames !== undefined) lines.push(`length     ${frames} samples (${(frames / info.sampleRate).toFixed(3)} s) from sample ${info.firstSample}`);
+  if (s) {
+    lines.push(
+      `analysis   segment ${s.segment} (${(s.sampleRate / s.segment).toPrecision(4)} Hz bins), ${s.window}, overlap ${s.overlap}, detrend ${s.detrend}, ${averagingText(p)}`,
+    );
+  }
+  process.stdout.write(lines.join('\n') + '\n');
+}
+
+export function describeEvent(e: FloorlineEvent): string {
+  const where = e.band ? ` ${e.band[0]}–${e.band[1]} Hz` : e.frequency !== undefined ? ` ${e.frequency.toFixed(2)} Hz` : '';
+  const level = e.levelDb !== undefined ? ` ${e.levelDb >= 0 ? '+' : ''}${e.levelDb.toFixed(1)} dB` : '';
+  return `t=${e.t.toFixed(3)} s  sample ${e.sample}  ${e.kind} ${e.rule} ${e.state}  ${e.channel}${where}${level}  ${e.detail}`;
+}
+
+export function printSummary(p: Pipeline, wallMs: number, digest?: SnapshotDigest): void {
+  const c = p.counters();
+  const info = p.stream;
+  const rate = info?.sampleRate ?? 0;
+  const seconds = rate ? c.samples / rate : 0;
+  const speed = wallMs > 0 ? seconds / (wallMs / 1000) : 0;
+  const lines = [
+    `samples    ${c.samples} (${seconds.toFixed(3)} s of sample time) in ${(wallMs / 1000).toFixed(2)} s wall, ${speed.toFixed(1)}× real time`,
+    `snapshots  ${c.snapshots}${digest ? `, digest ${digest.hex().slice(0, 16)}` : ''}`,
+    `events     ${c.events}`,
+    `health     gaps ${c.gaps} (${c.lostSamples} samples lost), dropped blocks ${c.droppedBlocks}, clipped samples ${c.clippedSamples.join('/')}`,
+  ];
+  process.stdout.write(lines.join('\n') + '\n');
+}

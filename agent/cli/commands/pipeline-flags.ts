@@ -1,0 +1,71 @@
+// Flags shared by the commands that run the pipeline (run, replay, demo): analysis settings, averaging,
+// snapshot rate and the data folder. Parsed once here so the three commands accept the same spellings.
+import type { FlagSpec, ParsedArgs } from '../args.ts';
+import { UsageError } from '../usage-error.ts';
+import type { AveragingSpec, DetrendMode } from '../../core/settings.ts';
+import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
+import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
+
+export const PIPELINE_FLAGS: FlagSpec[] = [
+  { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
+  { name: 'window', kind: 'string', value: 'NAME', default: DEFAULT_ANALYSIS.window, help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA' },
+  { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: DEFAULT_ANALYSIS.overlap, help: 'segment overlap fraction' },
+  { name: 'detrend', kind: 'string', value: 'MODE', choices: ['none', 'mean', 'linear'], default: DEFAULT_ANALYSIS.detrend, help: 'detrend each segment' },
+  { name: 'average', kind: 'string', value: 'SPEC', default: 'exp:10', help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K' },
+  { name: 'snapshot-rate', kind: 'number', value: 'N', min: 0.01, max: 1000, default: DEFAULT_SNAPSHOT_RATE, help: 'spectrum snapshots per second of sample time' },
+  { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
+];
+
+/** Parses an --average value; throws UsageError naming the flag and the accepted forms. */
+export function parseAveraging(raw: string, command: string): AveragingSpec {
+  const fix = `give mean, rolling:K, exp:TAU_SECONDS, max or median:K (e.g. --average exp:10)`;
+  const [mode, arg, extra] = raw.split(':');
+  const count = (): number => {
+    const k = Number(arg);
+    if (arg === undefined || !Number.isInteger(k) || k < 1) {
+      throw new UsageError(`floorline ${command}: --average ${raw} needs a whole count of segments ≥ 1 after the colon; ${fix}.`);
+    }
+    return k;
+  };
+  if (extra !== undefined) throw new UsageError(`floorline ${command}: --average '${raw}' has too many parts; ${fix}.`);
+  switch (mode) {
+    case 'mean':
+    case 'max':
+      if (arg !== undefined) throw new UsageError(`floorline ${command}: --average ${mode} takes no count; ${fix}.`);
+      return { mode };
+    case 'rolling':
+      return { mode: 'rolling', count: count() };
+    case 'median':
+      return { mode: 'median', count: count() };
+    case 'exp': {
+      const tau = Number(arg);
+      if (arg === undefined || !Number.isFinite(tau) || tau <= 0) {
+        throw new UsageError(`floorline ${command}: --average ${raw} needs a time constant in seconds > 0 after the colon; ${fix}.`);
+      }
+      return { mode: 'exponential', tauSeconds: tau };
+    }
+    default:
+      throw new UsageError(`floorline ${command}: --average '${raw}' is not an averaging mode; ${fix}.`);
+  }
+}
+
+export interface PipelineFlagValues {
+  analysis: AnalysisChoice;
+  averaging: AveragingSpec;
+  snapshotRate: number;
+  data: string;
+}
+
+export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFlagValues {
+  const f = args.flags;
+  const segment = f.segment as number;
+  if ((segment & (segment - 1)) !== 0) {
+    throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`);
+  }
+  return {
+    analysis: { segment, window: f.window as string, overlap: f.overlap as number, detrend: f.detrend as DetrendMode },
+    averaging: parseAveraging(f.average as string, command),
+    snapshotRate: f['snapshot-rate'] as number,
+    data: f.data as string,
+  };
+}

@@ -1,0 +1,177 @@
+// Replays a WAV recording (ours, or any file the WAV reader takes) through the same SourceSink as a live board.
+// Speed 1 paces blocks to sample time × wall clock; N runs N times faster; 'max' as fast as the analysis goes
+// (the pipeline processes each block inside block(), so nothing is dropped at any speed). Looping continues the
+// sample count across the seam, which is announced as a zero-length gap so estimates restart cleanly there.
+import { statSync } from 'node:fs';
+import { basename } from 'node:path';
+import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../core/stream.ts';
+import { WavReader, type WavInfo } from '../wav/reader.ts';
+
+export type ReplaySpeed = number | 'max';
+
+export interface ReplayOptions {
+  speed?: ReplaySpeed;
+  loop?: boolean;
+  /** Absolute sample index to start at (the recording's own count, as printed in events). */
+  startSample?: number;
+  /** Or a sample time t in seconds (absolute, t = sample / rate). */
+  startTime?: number;
+  /** Frames per block; default ~20 ms of samples at speed 1, 65536 otherwise. */
+  blockFrames?: number;
+  /** Volts per full scale for integer PCM or unlabelled float files from elsewhere. */
+  scale?: number;
+  /** Stop after this many loops (for tests); default unlimited when looping. */
+  maxLoops?: number;
+}
+
+/** Parses a --speed value: 1, any positive number, or "max". */
+export function parseSpeed(raw: string): ReplaySpeed | undefined {
+  if (raw === 'max') return 'max';
+  const n = Number(raw);
+  return raw.trim() !== '' && Number.isFinite(n) && n > 0 ? n : undefined;
+}
+
+/** Channel description for the pipeline: samples arrive in units, so scale is 1 and full scale is in units. */
+function channelInfo(info: WavInfo): ChannelInfo[] {
+  const isInt = info.format.encoding.startsWith('int');
+  return info.channels.map((c, i) => {
+    const meta = info.metadata?.channels[i];
+    let fullScale = Infinity;
+    if (meta?.fullScaleCounts !== undefined && meta.scale !== undefined) fullScale = meta.fullScaleCounts * meta.scale;
+    else if (isInt) fullScale = c.factor * 2 ** (info.format.bytesPerSample * 8 - 1);
+    return { name: c.name, unit: c.unit, scale: 1, fullScaleCounts: fullScale };
+  });
+}
+
+const sleep = (ms: number) => new Promise<void>((r) => setTimeout(r, ms));
+const yieldToLoop = () => new Promise<void>((r) => setImmediate(r));
+
+export class ReplaySource implements Source {
+  readonly kind = 'replay' as const;
+  private reader: WavReader | undefined;
+  private stopping = false;
+  private readonly stats: SourceCounters = { bytes: 0, frames: 0, crcErrors: 0, syncErrors: 0, lostSamples: 0, reconnects: 0 };
+  private running: Promise<void> = Promise.resolve();
+  /** Position for a status banner: sample index within the file and the loop count. */
+  readonly position = { sample: 0, loops: 0 };
+
+  constructor(
+    readonly path: string,
+    private readonly options: ReplayOptions = {},
+  ) {
+    const s = options.speed ?? 1;
+    if (s !== 'max' && !(typeof s === 'number' && s > 0 && Number.isFinite(s))) {
+      throw new RangeError(`replay speed must be a positive number or 'max', got ${String(s)}`);
+    }
+  }
+
+  get speed(): ReplaySpeed {
+    return this.options.speed ?? 1;
+  }
+
+  /** The file's header and metadata, once started. */
+  get fileInfo(): WavInfo | undefined {
+    return this.reader?.info;
+  }
+
+  /** Resolves when the replay has ended (end of file, loop limit or stop()); rejects on a read error. */
+  get done(): Promise<void> {
+    return this.running;
+  }
+
+  counters(): SourceCounters {
+    return { ...this.stats };
+  }
+
+  async start(sink: SourceSink): Promise<void> {
+    const speed = this.speed;
+    const blockFrames0 = this.options.blockFrames;
+    // Open once to learn the rate, then reopen with the block size that suits it.
+    let reader = await WavReader.open(this.path, { scale: this.options.scale, blockFrames: blockFrames0 ?? 65536 });
+    if (blockFrames0 === undefined && speed !== 'max') {
+      const frames = Math.max(64, Math.round(reader.info.sampleRate / 50));
+      await reader.close();
+      reader = await WavReader.open(this.path, { scale: this.options.scale, blockFrames: frames });
+    }
+    this.reader = reader;
+    const info = reader.info;
+    const startFrame = this.resolveStart(info);
+    reader.seek(startFrame);
+    // A file from elsewhere has no start time: label it as ending at its modification time, so the labels of a
+    // file are the same on every replay.
+    const start0 = info.startWallTime ? Date.parse(info.startWallTime) : statSync(this.path).mtimeMs - (info.frames / info.sampleRate) * 1000;
+    const stream: StreamInfo = {
+      sampleRate: info.sampleRate,
+      channels: channelInfo(info),
+      source: { kind: 'replay', label: basename(this.path) },
+      boardId: info.metadata?.boardId,
+      firstSample: info.firstSample + startFrame,
+      startWallTime: new Date(start0 + (startFrame / info.sampleRate) * 1000).toISOString(),
+    };
+    sink.info(stream);
+    this.running = this.play(sink, reader, startFrame, stream.firstSample);
+  }
+
+  async stop(): Promise<void> {
+    this.stopping = true;
+    await this.running.catch(() => undefined);
+  }
+
+  private resolveStart(info: WavInfo): number {
+    const { startSample, startTime } = this.options;
+    let sample = info.firstSample;
+    if (startSample !== undefined) sample = startSample;
+    else if (startTime !== undefined) sample = Math.round(startTime * info.sampleRate);
+    const last = info.firstSample + info.frames - 1;
+    if (!Number.isInteger(sample) || sample < info.firstSample || sample > last) {
+      throw Object.assign(
+        new RangeError(
+          `${this.path}: start at sample ${sample} is outside the recording (samples ${info.firstSample}…${last}, ` +
+            `t ${(info.firstSample / info.sampleRate).toFixed(3)}…${(last / info.sampleRate).toFixed(3)} s); pick a start inside it.`,
+        ),
+        { exitCode: 2 },
+      );
+    }
+    return sample - info.firstSample;
+  }
+
+  private async play(sink: SourceSink, reader: WavReader, startFrame: number, firstSample: number): Promise<void> {
+    const rate = reader.info.sampleRate;
+    const speed = this.speed;
+    const maxLoops = this.options.maxLoops ?? Infinity;
+    const bytesPerFrame = reader.info.format.blockAlign;
+    const t0 = performance.now();
+    let next = firstSample;
+    let delivered = 0;
+    try {
+      for (;;) {
+        const block = await reader.read();
+        if (this.stopping) break;
+        if (!block) {
+          if (!this.options.loop || this.position.loops + 1 >= maxLoops) break;
+          this.position.loops++;
+          reader.seek(startFrame);
+          sink.gap({ sample: next, lost: 0, reason: 'replay loop: the recording starts again' });
+          continue;
+        }
+        sink.block({ firstSample: next, frames: block.frames, data: block.data });
+        next += block.frames;
+        delivered += block.frames;
+        this.position.sample = block.firstSample + block.frames - 1;
+        this.stats.frames += block.frames;
+        this.stats.bytes += block.frames * bytesPerFrame;
+        if (speed === 'max') {
+          await yieldToLoop();
+        } else {
+          const due = t0 + ((delivered / rate) * 1000) / speed;
+          const wait = due - performance.now();
+          if (wait > 1) await sleep(wait);
+          else await yieldToLoop();
+        }
+      }
+    } finally {
+      await reader.close();
+      sink.end();
+    }
+  }
+}
