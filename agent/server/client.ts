@@ -1,0 +1,94 @@
+// One dashboard connection. Binary frames are latest-wins per kind: while one is being sent, a newer frame
+// replaces the waiting one and the replaced frame is counted as skipped, so a slow client never slows the agent
+// and never grows a queue. JSON messages (replies, events, status) are small and always sent in order.
+import type { WebSocket } from 'ws';
+import type { ServerMessage } from '../wire/messages.ts';
+import type { FrameKindName } from '../wire/frame.ts';
+import type { PooledFrame } from './frame-pool.ts';
+
+interface Lane {
+  inFlight: PooledFrame | null;
+  waiting: PooledFrame | null;
+}
+
+export class ClientConnection {
+  framesSent = 0;
+  framesSkipped = 0;
+  alive = true;
+  private closed = false;
+  private readonly lanes = new Map<FrameKindName, Lane>();
+
+  constructor(
+    readonly id: number,
+    private readonly ws: WebSocket,
+    private readonly maxBufferedBytes: number,
+  ) {}
+
+  sendJson(message: ServerMessage): void {
+    if (this.closed || this.ws.readyState !== this.ws.OPEN) return;
+    if (this.ws.bufferedAmount > this.maxBufferedBytes) {
+      this.close(1008, 'client too slow: send buffer over limit');
+      return;
+    }
+    this.ws.send(JSON.stringify(message));
+  }
+
+  /** Offers a frame; the connection retains it until sent or replaced. */
+  offerFrame(kind: FrameKindName, frame: PooledFrame): void {
+    if (this.closed || this.ws.readyState !== this.ws.OPEN) return;
+    let lane = this.lanes.get(kind);
+    if (!lane) {
+      lane = { inFlight: null, waiting: null };
+      this.lanes.set(kind, lane);
+    }
+    frame.retain();
+    if (lane.inFlight === null) {
+      this.transmit(lane, frame);
+      return;
+    }
+    if (lane.waiting !== null) {
+      lane.waiting.release();
+      this.framesSkipped++;
+    }
+    lane.waiting = frame;
+  }
+
+  private transmit(lane: Lane, frame: PooledFrame): void {
+    lane.inFlight = frame;
+    this.ws.send(frame.view(), { binary: true }, () => {
+      // Called once the bytes left for the socket (or the send failed): only now may the buffer be reused.
+      frame.release();
+      lane.inFlight = null;
+      if (!this.closed) this.framesSent++;
+      const next = lane.waiting;
+      lane.waiting = null;
+      if (next === null) return;
+      if (this.closed || this.ws.readyState !== this.ws.OPEN) next.release();
+      else this.transmit(lane, next);
+    });
+  }
+
+  close(code: number, reason: string): void {
+    if (this.closed) return;
+    this.release();
+    this.ws.close(code, reason);
+  }
+
+  /** Drops waiting frames (the in-flight one is released by its send callback). */
+  release(): void {
+    this.closed = true;
+    for (const lane of this.lanes.values()) {
+      lane.waiting?.release();
+      lane.waiting = null;
+    }
+  }
+
+  ping(): void {
+    if (!this.closed && this.ws.readyState === this.ws.OPEN) this.ws.ping();
+  }
+
+  terminate(): void {
+    this.release();
+    this.ws.terminate();
+  }
+}

@@ -1,0 +1,239 @@
+// HTTP + WebSocket server of the agent: dashboard assets, /api/status, /metrics, read-only data files, and /ws
+// (JSON control messages in, JSON messages and binary frames out). Binds 127.0.0.1 by default.
+import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { WebSocketServer, type WebSocket, type RawData } from 'ws';
+import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../wire/messages.ts';
+import { parseClientMessage } from '../wire/validate.ts';
+import type { ServerBackend, ServerSnapshot } from './backend.ts';
+import { checkAccess, tokenCookie } from './access.ts';
+import { resolveServerOptions, ServerConfigError, type ServerOptions } from './options.ts';
+import { Broadcaster } from './broadcaster.ts';
+import { ClientConnection } from './client.ts';
+import { handleRequest } from './control.ts';
+import { renderMetrics, OPENMETRICS_CONTENT_TYPE } from './metrics.ts';
+import { sendError, sendFileInside } from './static-files.ts';
+
+export const AGENT_VERSION = '0.1.0';
+const EVENTS_ON_CONNECT = 200;
+
+export interface RunningServer {
+  /** e.g. http://127.0.0.1:8731/ (with ?token=… when a token is set). */
+  url: string;
+  port: number;
+  host: string;
+  status(): AgentStatus;
+  /** Frame buffers created so far and free for reuse (bounded: frames are pooled, not allocated per send). */
+  poolStats(): { created: number; free: number };
+  close(): Promise<void>;
+}
+
+const SECURITY_HEADERS = {
+  'x-content-type-options': 'nosniff',
+  'referrer-policy': 'no-referrer',
+  'x-frame-options': 'DENY',
+  'content-security-policy': "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; connect-src 'self'; frame-ancestors 'none'",
+};
+
+function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): SpectrumContext {
+  return {
+    id,
+    settings: s.settings,
+    averaging: s.averaging,
+    nenbw: s.nenbw,
+    enbwHz: s.enbwHz,
+    binHz: s.binHz,
+    bins: s.channels[0]?.psd.length ?? 0,
+    channels: s.channels.map((c) => ({ name: c.name, unit: c.unit })),
+    mainsHz,
+  };
+}
+
+export async function startServer(backend: ServerBackend, partial: Partial<ServerOptions> & { assetsDir: string }): Promise<RunningServer> {
+  const options = resolveServerOptions(partial);
+  const hub = new Broadcaster(options.traceLength);
+  let context: SpectrumContext | null = null;
+  let contextKey = '';
+  let nextClientId = 1;
+
+  const status = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), wallTime: new Date().toISOString() });
+
+  /** Returns true when the context changed (and tells every client). */
+  const updateContext = (s: ServerSnapshot): boolean => {
+    const key = JSON.stringify([s.settings, s.averaging, s.nenbw, s.binHz, s.channels.map((c) => [c.name, c.unit, c.psd.length])]);
+    if (key === contextKey) return false;
+    contextKey = key;
+    context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz());
+    hub.json({ type: 'context', context });
+    return true;
+  };
+
+  const sendBaseline = (only?: ClientConnection): void => {
+    const b = backend.baseline();
+    if (!b || b.channels.length === 0 || context === null) return;
+    const frame = hub.baselineFrame(b, context.id);
+    if (only) {
+      only.offerFrame('baseline', frame);
+      frame.release();
+    } else hub.offer('baseline', frame);
+  };
+
+  let lastBaselineFile: string | null = null;
+  const unsubscribe = backend.subscribe({
+    info: (info) => {
+      hub.resetTrace(info.channels.length);
+      hub.json({ type: 'info', info });
+    },
+    block: (block) => hub.block(block),
+    snapshot: (s) => {
+      if (s.channels.length === 0) return;
+      const changed = updateContext(s);
+      const file = backend.baseline()?.file ?? null;
+      if (changed || file !== lastBaselineFile) {
+        lastBaselineFile = file;
+        sendBaseline();
+      }
+      if (hub.clients.size === 0) return;
+      hub.offer('spectrum', hub.spectrumFrame(s, context!.id));
+      const trace = hub.traceFrame(s.settings.sampleRate);
+      if (trace) hub.offer('trace', trace);
+    },
+    event: (event) => hub.json({ type: 'event', event }),
+  });
+
+  const httpServer = createServer((req, res) => onRequest(req, res));
+  const wss = new WebSocketServer({ noServer: true, maxPayload: options.maxPayload, perMessageDeflate: false, clientTracking: false });
+
+  function onRequest(req: IncomingMessage, res: ServerResponse): void {
+    for (const [k, v] of Object.entries(SECURITY_HEADERS)) res.setHeader(k, v);
+    const url = new URL(req.url ?? '/', 'http://agent.invalid');
+    const verdict = checkAccess(req, url, options);
+    if (!verdict.ok) {
+      sendError(res, verdict.status, verdict.status === 401 ? 'token' : 'forbidden', verdict.reason);
+      return;
+    }
+    if (verdict.viaQuery && options.token) res.setHeader('set-cookie', tokenCookie(options.token));
+    if (req.method !== 'GET' && req.method !== 'HEAD') {
+      res.setHeader('allow', 'GET, HEAD');
+      sendError(res, 405, 'method', `${req.method} is not served; the agent is controlled over /ws`);
+      return;
+    }
+    const head = req.method === 'HEAD';
+    const path = url.pathname;
+    if (path === '/api/status') {
+      const body = JSON.stringify(status());
+      res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
+      res.end(head ? undefined : body);
+    } else if (path === '/metrics') {
+      res.writeHead(200, { 'content-type': OPENMETRICS_CONTENT_TYPE, 'cache-control': 'no-store' });
+      res.end(head ? undefined : renderMetrics(status(), AGENT_VERSION));
+    } else if (path.startsWith('/files/')) {
+      let name: string;
+      try {
+        name = decodeURIComponent(path.slice('/files/'.length));
+      } catch {
+        sendError(res, 400, 'bad-path', 'file path is not valid percent-encoding');
+        return;
+      }
+      sendFileInside(res, backend.dataRoot, name, head, true);
+    } else if (path === '/' || path === '/index.html') {
+      sendFileInside(res, options.assetsDir, 'index.html', head, false);
+    } else if (/^\/[A-Za-z0-9_-]+\.(js|css|map|svg|png)$/.test(path)) {
+      sendFileInside(res, options.assetsDir, path.slice(1), head, false);
+    } else {
+      sendError(res, 404, 'not-found', `nothing at ${path}`);
+    }
+  }
+
+  httpServer.on('upgrade', (req, socket, head) => {
+    const url = new URL(req.url ?? '/', 'http://agent.invalid');
+    const verdict = url.pathname === '/ws' ? checkAccess(req, url, options) : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
+    if (!verdict.ok) {
+      const text = verdict.status === 401 ? 'Unauthorized' : 'Forbidden';
+      socket.end(`HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`);
+      return;
+    }
+    wss.handleUpgrade(req, socket, head, (ws) => onConnection(ws));
+  });
+
+  function onConnection(ws: WebSocket): void {
+    const client = new ClientConnection(nextClientId++, ws, options.maxBufferedBytes);
+    hub.add(client);
+    ws.on('pong', () => (client.alive = true));
+    ws.on('close', () => hub.remove(client));
+    ws.on('error', () => hub.remove(client)); // e.g. a message over maxPayload: ws closes that socket with 1009
+    ws.on('message', (data: RawData, isBinary: boolean) => {
+      if (isBinary) {
+        client.sendJson({ type: 'error', error: { code: 'binary-refused', message: 'send JSON text messages; binary frames only flow agent → dashboard' } });
+        return;
+      }
+      const parsed = parseClientMessage(data.toString());
+      if (!parsed.ok) {
+        if (parsed.id !== undefined && parsed.request !== undefined) {
+          client.sendJson({ type: 'reply', id: parsed.id, request: parsed.request, ok: false, error: parsed.error });
+        } else client.sendJson({ type: 'error', error: parsed.error });
+        return;
+      }
+      void handleRequest(parsed.message, { backend, context: () => context, status }).then((reply) => client.sendJson(reply));
+    });
+    const latest = backend.latestSnapshot();
+    if (latest && latest.channels.length) updateContext(latest);
+    client.sendJson({ type: 'hello', protocol: PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
+    sendBaseline(client);
+    if (latest && latest.channels.length && context) {
+      const f = hub.spectrumFrame(latest, context.id);
+      client.offerFrame('spectrum', f);
+      f.release();
+    }
+  }
+
+  const heartbeat = setInterval(() => {
+    for (const c of hub.clients) {
+      if (!c.alive) {
+        c.terminate();
+        hub.remove(c);
+        continue;
+      }
+      c.alive = false;
+      c.ping();
+    }
+  }, options.heartbeatMs);
+  const statusTimer = setInterval(() => {
+    if (hub.clients.size) hub.json({ type: 'status', status: status() });
+  }, options.statusIntervalMs);
+  heartbeat.unref();
+  statusTimer.unref();
+
+  await new Promise<void>((resolve, reject) => {
+    httpServer.once('error', (err: NodeJS.ErrnoException) => {
+      const fix = err.code === 'EADDRINUSE' ? `port ${options.port} is in use; pick another with --http-port N` : `cannot listen on ${options.host}:${options.port} (${err.code ?? err.message})`;
+      reject(new ServerConfigError(fix));
+    });
+    httpServer.listen(options.port, options.host, () => resolve());
+  });
+  const port = (httpServer.address() as AddressInfo).port;
+  const hostInUrl = options.host.includes(':') && !options.host.startsWith('[') ? `[${options.host}]` : options.host;
+  const url = `http://${hostInUrl}:${port}/${options.token ? `?token=${encodeURIComponent(options.token)}` : ''}`;
+
+  return {
+    url,
+    port,
+    host: options.host,
+    status,
+    poolStats: () => hub.poolStats(),
+    close: async () => {
+      clearInterval(heartbeat);
+      clearInterval(statusTimer);
+      unsubscribe();
+      for (const c of [...hub.clients]) {
+        c.close(1001, 'agent stopping');
+        hub.remove(c);
+      }
+      wss.close();
+      await new Promise<void>((resolve) => {
+        httpServer.close(() => resolve());
+        httpServer.closeAllConnections();
+      });
+    },
+  };
+}
