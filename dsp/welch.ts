@@ -124,9 +124,12 @@ export class WelchEstimator {
     if (!(start >= 0 && end <= samples.length && start <= end) || !Number.isInteger(start) || !Number.isInteger(end)) {
       throw new RangeError(`WelchEstimator.push: range [${start}, ${end}) is outside the ${samples.length} samples given`);
     }
+    const is64 = samples instanceof Float64Array;
+    if (!is64 && !(samples instanceof Float32Array)) {
+      throw new TypeError('WelchEstimator.push: samples must be a Float64Array or Float32Array');
+    }
     const pending = this.pending;
     const segment = this.segment;
-    const is64 = samples instanceof Float64Array;
     let completed = 0;
     let i = start;
     while (i < end) {
