@@ -1,5 +1,6 @@
 // Live band power against a baseline, with the rise threshold from the statistics of both estimates
 // (see threshold.ts). Bands select bins whose centre f satisfies low ≤ f ≤ high, as band RMS does.
+import { bandBins } from '../bands.ts';
 import { bandDegreesOfFreedom, riseThresholdDb } from './threshold.ts';
 
 export interface BandSpec {
@@ -8,7 +9,7 @@ export interface BandSpec {
 }
 
 export interface BandCompareOptions {
-  frequencies: Float64Array;
+  binHz: number;
   bands: readonly BandSpec[];
   /** Baseline density, same bins. */
   baselinePsd: Float64Array;
@@ -30,25 +31,30 @@ export class BandCompare {
   readonly levelDb: Float64Array;
   /** Threshold of the last evaluate(), dB. */
   readonly thresholdDb: Float64Array;
-  private readonly nuBase: Float64Array;
+  private readonly baselinePsd: Float64Array;
+  private readonly baselineK: number;
+  private readonly cachedK: Float64Array;
+  private readonly cachedBins: Int32Array;
   private readonly binsIn: Int32Array;
   private readonly correlation: Float64Array;
   private readonly marginDb: number;
   private readonly alpha: number;
-  private cachedLiveK = -1;
+  private readonly baselineBins: number;
 
   constructor(o: BandCompareOptions) {
-    const f = o.frequencies;
-    if (o.baselinePsd.length !== f.length) {
-      throw new RangeError(`BandCompare: baseline has ${o.baselinePsd.length} bins, spectrum has ${f.length}; take the baseline with the same segment`);
-    }
+    const bins = o.baselinePsd.length;
     const n = o.bands.length;
     this.bands = o.bands;
+    this.baselineBins = bins;
     this.firstBin = new Int32Array(n);
     this.lastBin = new Int32Array(n);
     this.binsIn = new Int32Array(n);
     this.baselinePower = new Float64Array(n);
-    this.nuBase = new Float64Array(n);
+    this.baselinePsd = o.baselinePsd;
+    this.baselineK = o.baselineEquivalentAverages;
+    if (!(this.baselineK > 0)) throw new RangeError(`BandCompare: baseline equivalent averages must be > 0, got ${this.baselineK}`);
+    this.cachedK = new Float64Array(n).fill(-1);
+    this.cachedBins = new Int32Array(n);
     this.levelDb = new Float64Array(n);
     this.thresholdDb = new Float64Array(n);
     this.correlation = o.correlation;
@@ -56,12 +62,8 @@ export class BandCompare {
     this.alpha = o.alpha;
     for (let b = 0; b < n; b++) {
       const { low, high } = o.bands[b];
-      if (!(low >= 0) || !(high >= low)) throw new RangeError(`BandCompare: band ${low}:${high} Hz must have 0 ≤ low ≤ high`);
-      let lo = 0;
-      while (lo < f.length && f[lo] < low) lo++;
-      let hi = f.length - 1;
-      while (hi >= 0 && f[hi] > high) hi--;
-      if (hi < lo) throw new RangeError(`BandCompare: band ${low}:${high} Hz holds no bin centre (bins are ${f[1] - f[0]} Hz apart); widen it`);
+      const { first: lo, last: hi } = bandBins(bins, o.binHz, low, high);
+      if (hi < lo) throw new RangeError(`band ${low}:${high} Hz holds no bin centre (bins are ${o.binHz} Hz apart); widen it`);
       this.firstBin[b] = lo;
       this.lastBin[b] = hi;
       this.binsIn[b] = hi - lo + 1;
@@ -69,25 +71,47 @@ export class BandCompare {
       for (let k = lo; k <= hi; k++) p += o.baselinePsd[k];
       if (!(p > 0)) throw new RangeError(`BandCompare: baseline power in band ${low}:${high} Hz is ${p}; a floor must be positive`);
       this.baselinePower[b] = p;
-      this.nuBase[b] = bandDegreesOfFreedom(o.baselineEquivalentAverages, this.binsIn[b], o.correlation);
     }
   }
 
-  /** Fills levelDb and thresholdDb for a live density with `liveK` equivalent averages. */
-  evaluate(psd: Float64Array, liveK: number): void {
+  /**
+   * Fills levelDb and thresholdDb for a live density (same bins as the baseline) with `liveK` equivalent averages.
+   * Bins flagged in `exclude` (e.g. the lobes of new narrowband lines, reported by their own rule) are left out
+   * of both the live and the baseline sums, and the degrees of freedom follow the bins kept.
+   */
+  evaluate(psd: Float64Array, liveK: number, exclude?: Uint8Array): void {
     const n = this.bands.length;
-    if (liveK !== this.cachedLiveK) {
-      for (let b = 0; b < n; b++) {
-        const nuLive = bandDegreesOfFreedom(liveK, this.binsIn[b], this.correlation);
-        this.thresholdDb[b] = riseThresholdDb(this.marginDb, this.alpha, nuLive, this.nuBase[b]);
-      }
-      this.cachedLiveK = liveK;
-    }
+    if (psd.length < this.baselineBins) throw new RangeError(`BandCompare.evaluate: psd has ${psd.length} bins, baseline ${this.baselineBins}`);
+    const base = this.baselinePsd;
     for (let b = 0; b < n; b++) {
       const hi = this.lastBin[b];
       let p = 0;
-      for (let k = this.firstBin[b]; k <= hi; k++) p += psd[k];
-      this.levelDb[b] = 10 * Math.log10(p / this.baselinePower[b]);
+      let q = 0;
+      let kept = 0;
+      if (exclude) {
+        for (let k = this.firstBin[b]; k <= hi; k++) {
+          if (exclude[k]) continue;
+          p += psd[k];
+          q += base[k];
+          kept++;
+        }
+      } else {
+        for (let k = this.firstBin[b]; k <= hi; k++) p += psd[k];
+        q = this.baselinePower[b];
+        kept = this.binsIn[b];
+      }
+      if (kept === 0) {
+        this.levelDb[b] = NaN; // every bin belongs to a line: no floor to judge
+        continue;
+      }
+      if (liveK !== this.cachedK[b] || kept !== this.cachedBins[b]) {
+        const nuLive = bandDegreesOfFreedom(liveK, kept, this.correlation);
+        const nuBase = bandDegreesOfFreedom(this.baselineK, kept, this.correlation);
+        this.thresholdDb[b] = riseThresholdDb(this.marginDb, this.alpha, nuLive, nuBase);
+        this.cachedK[b] = liveK;
+        this.cachedBins[b] = kept;
+      }
+      this.levelDb[b] = 10 * Math.log10(p / q);
     }
   }
 }

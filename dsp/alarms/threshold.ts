@@ -93,3 +93,9 @@ export function riseThresholdDb(marginDb: number, alpha: number, nuLive: number,
 function checkAlpha(alpha: number, who: string): void {
   if (!(alpha > 0 && alpha < 0.5)) throw new RangeError(`${who}: false-alarm probability must be in (0, 0.5), got ${alpha}`);
 }
+
+/** Median of χ²(ν)/ν: where a running median of averaged noise bins sits relative to their mean. */
+export function chi2MeanMedian(nu: number): number {
+  if (!(nu > 0)) throw new RangeError(`chi2MeanMedian: degrees of freedom must be > 0, got ${nu}`);
+  return chi2Quantile(0.5, nu) / nu;
+}

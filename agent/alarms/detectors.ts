@@ -1,0 +1,177 @@
+// The detector set the pipeline plugs in: band rise and spur/mains rules per channel (against a baseline), and
+// stream health. Narrow interface: onSnapshot/onGap/onLink/onClip/onOverrun each return the events to emit, in
+// sample order; decisions use sample time only, so a replay at any speed yields the same events.
+import { binPowerCorrelation } from '../../dsp/alarms/threshold.ts';
+import { makeWindow } from '../../dsp/windows.ts';
+import type { EventRule, FloorlineEvent } from '../core/events.ts';
+import { settingsHash, type AnalysisSettings } from '../core/settings.ts';
+import type { GapNotice, LinkNotice } from '../core/stream.ts';
+import { InputError } from '../cli/usage-error.ts';
+import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
+import { BandDetector } from './band-detector.ts';
+import { defaultBands } from './default-bands.ts';
+import { HealthDetector } from './health-detector.ts';
+import { SpurDetector } from './spur-detector.ts';
+import type { RulesConfig } from './rules.ts';
+import type { CaptureRequester, SnapshotLike } from './types.ts';
+import type { ClipNotice, OverrunNotice } from '../pipeline/types.ts';
+
+export interface DetectorStream {
+  settings: AnalysisSettings;
+  channels: readonly { name: string }[];
+  firstSample?: number;
+  startWallTime?: string;
+}
+
+export interface DetectorOptions {
+  /** Called for each raised alarm; the returned file name goes into the event's `capture`. */
+  capture?: CaptureRequester;
+}
+
+interface ChannelDetectors {
+  name: string;
+  band?: BandDetector;
+  spur: SpurDetector;
+}
+
+export class Detectors {
+  readonly settings: AnalysisSettings;
+  private readonly hash: string;
+  private readonly channels: ChannelDetectors[];
+  private readonly health: HealthDetector;
+  private readonly sampleRate: number;
+  private lastWallTime: string | undefined;
+
+  constructor(
+    readonly baseline: BaselineFile | undefined,
+    readonly rules: RulesConfig,
+    private readonly stream: DetectorStream,
+    private readonly options: DetectorOptions = {},
+    baselineWhere = 'file',
+  ) {
+    const s = stream.settings;
+    this.settings = s;
+    this.hash = settingsHash(s);
+    this.sampleRate = s.sampleRate;
+    if (baseline) checkBaselineMatches(baseline, s, stream.channels.map((c) => c.name), baselineWhere);
+    const win = makeWindow(s.window, s.segment);
+    const corr = binPowerCorrelation(win.values);
+    const binHz = s.sampleRate / s.segment;
+    const bins = s.segment / 2 + 1;
+    const frequencies = new Float64Array(bins);
+    for (let k = 0; k < bins; k++) frequencies[k] = k * binHz;
+    const defaults = defaultBands(s.sampleRate, s.segment, win.mainLobeHalfWidth);
+    this.channels = stream.channels.map(({ name }) => {
+      const b = baseline?.channels.find((c) => c.name === name);
+      const basePsd = b ? Float64Array.from(b.psd) : new Float64Array(bins);
+      const bands = rules.band.channelBands[name] ?? (rules.band.bands.length ? rules.band.bands : defaults);
+      return {
+        name,
+        band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate) : undefined,
+        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, basePsd, rules, s.sampleRate),
+      };
+    });
+    this.health = new HealthDetector(s.sampleRate, Math.round(rules.clipHold * s.sampleRate), Math.round(rules.overrunHold * s.sampleRate));
+  }
+
+  /** Bands evaluated on a channel (empty without a baseline). */
+  bandsOf(channel: string): readonly { low: number; high: number }[] {
+    return this.channels.find((c) => c.name === channel)?.band?.bands ?? [];
+  }
+
+  onSnapshot(snap: SnapshotLike): FloorlineEvent[] {
+    if (settingsHash(snap.settings) !== this.hash) {
+      throw new InputError(`alarms: a spectrum arrived with other analysis settings than the detectors were built for (${settingsHash(snap.settings)} vs ${this.hash}); rebuild the detectors after changing settings.`);
+    }
+    this.lastWallTime = snap.wallTime;
+    const out: FloorlineEvent[] = [];
+    this.health.onTime(snap.sample, snap.wallTime, out);
+    for (const ch of snap.channels) {
+      const d = this.channels.find((c) => c.name === ch.name);
+      if (!d) continue;
+      // Lines first: the band rules judge the floor without the lobes of the new lines the spur rule tracks.
+      d.spur.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out);
+      d.band?.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out, d.spur.lineMask);
+    }
+    return this.withCaptures(out);
+  }
+
+  onGap(gap: GapNotice): FloorlineEvent[] {
+    const out: FloorlineEvent[] = [];
+    this.health.onGap(gap, this.wallTimeAt(gap.sample), out);
+    return this.withCaptures(out);
+  }
+
+  onLink(link: LinkNotice): FloorlineEvent[] {
+    const out: FloorlineEvent[] = [];
+    this.health.onLink(link, this.wallTimeAt(link.sample), out);
+    return this.withCaptures(out);
+  }
+
+  /** Samples of a channel within 0.1 % of full scale (the pipeline's ClipNotice). */
+  onClip(clip: ClipNotice): FloorlineEvent[] {
+    const out: FloorlineEvent[] = [];
+    this.health.onClip(clip.channel, clip.firstSample, clip.count, this.wallTimeAt(clip.firstSample), out);
+    return this.withCaptures(out);
+  }
+
+  /** Whole blocks dropped by the pipeline (its OverrunNotice). */
+  onOverrun(o: OverrunNotice): FloorlineEvent[] {
+    const out: FloorlineEvent[] = [];
+    this.health.onOverrun(o.sample, o.droppedBlocks, this.wallTimeAt(o.sample), out);
+    return this.withCaptures(out);
+  }
+
+  /** Acknowledges active alarms of a rule on a channel (optionally one band): no re-alarms until they clear. */
+  acknowledge(rule: EventRule, channel: string, band?: [number, number]): number {
+    return this.forStates(rule, channel, band, (s) => s.acknowledge());
+  }
+
+  /** Silences a rule on a channel (optionally one band) until `untilSample`. */
+  shelve(rule: EventRule, channel: string, untilSample: number, band?: [number, number]): number {
+    const ch = this.channels.find((c) => c.name === channel);
+    if (ch && (rule === 'spur' || rule === 'mains')) ch.spur.shelvedUntil = untilSample;
+    return this.forStates(rule, channel, band, (s) => s.shelve(untilSample));
+  }
+
+  private forStates(rule: EventRule, channel: string, band: [number, number] | undefined, fn: (s: import('../../dsp/alarms/alarm-state.ts').AlarmState) => void): number {
+    const ch = this.channels.find((c) => c.name === channel);
+    if (!ch) return 0;
+    let n = 0;
+    if (rule === 'band-rise' && ch.band) {
+      ch.band.bands.forEach((b, i) => {
+        if (band && (b.low !== band[0] || b.high !== band[1])) return;
+        fn(ch.band!.state(i));
+        n++;
+      });
+    } else if (rule === 'spur' || rule === 'mains') {
+      for (const t of ch.spur.tracked) {
+        if ((t.harmonic > 0) === (rule === 'mains')) {
+          fn(t.state);
+          n++;
+        }
+      }
+    }
+    return n;
+  }
+
+  private withCaptures(events: FloorlineEvent[]): FloorlineEvent[] {
+    const cap = this.options.capture;
+    if (!cap) return events;
+    for (const e of events) {
+      if (e.kind !== 'alarm' || e.state !== 'raised') continue;
+      const file = cap(e.sample, `${e.rule}-${e.channel === '*' ? 'stream' : e.channel}`);
+      if (file) e.capture = file;
+    }
+    return events;
+  }
+
+  private wallTimeAt(sample: number): string {
+    const start = this.stream.startWallTime ? Date.parse(this.stream.startWallTime) : NaN;
+    if (Number.isFinite(start)) {
+      return new Date(start + ((sample - (this.stream.firstSample ?? 0)) / this.sampleRate) * 1000).toISOString();
+    }
+    // No start time known: a label derived from sample time alone keeps replays identical.
+    return this.lastWallTime ?? new Date((sample / this.sampleRate) * 1000).toISOString();
+  }
+}

@@ -1,0 +1,139 @@
+// New narrowband lines on one channel: lines above the local floor by max(margin, χ² bound) that also stand that far
+// above the baseline's density at the same bin (so lines already in the baseline are not reported). Each line is
+// tracked by bin with its own alarm state; lines at k × mains are reported under the mains rule.
+import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
+import { MainsClassifier } from '../../dsp/alarms/mains.ts';
+import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
+import { chi2MeanMedian, chi2MeanUpperQuantile } from '../../dsp/alarms/threshold.ts';
+import type { FloorlineEvent } from '../core/events.ts';
+import { makeEvent, round } from './event-factory.ts';
+import { timingInSamples, type RulesConfig } from './rules.ts';
+import type { AlarmTiming } from '../../dsp/alarms/alarm-state.ts';
+
+interface TrackedLine {
+  bin: number;
+  frequency: number;
+  amplitude: number;
+  heightDb: number;
+  harmonic: number;
+  firstSeen: number;
+  lastSeen: number;
+  state: AlarmState;
+}
+
+/** At most this many lines are tracked per channel (strongest win); a named limit keeps memory bounded. */
+export const MAX_TRACKED_LINES = 64;
+
+export class SpurDetector {
+  readonly finder: SpurFinder;
+  readonly mains: MainsClassifier;
+  readonly tracked: TrackedLine[] = [];
+  /** Bins inside the lobes of tracked new lines, after the last onSpectrum (band rules leave them out). */
+  readonly lineMask: Uint8Array;
+  /** New lines start shelved until this sample (see Detectors.shelve). */
+  shelvedUntil = -1;
+  private readonly timing: AlarmTiming;
+  private readonly marginRatio: number;
+  private cachedK = -1;
+  private ratio = 0;
+
+  constructor(
+    readonly channel: string,
+    frequencies: Float64Array,
+    binHz: number,
+    mainLobeHalfWidth: number,
+    private readonly baselinePsd: Float64Array,
+    private readonly rules: RulesConfig,
+    private readonly sampleRate: number,
+  ) {
+    this.finder = new SpurFinder({
+      frequencies, binHz, mainLobeHalfWidth, maxLines: MAX_TRACKED_LINES,
+      floorHalfWidth: rules.spur.floorHalfWidth > 0 ? rules.spur.floorHalfWidth : undefined,
+    });
+    this.mains = new MainsClassifier({ setting: rules.mains.frequency, binHz, maxHarmonic: rules.mains.maxHarmonic }, MAX_TRACKED_LINES);
+    this.lineMask = new Uint8Array(frequencies.length);
+    this.timing = timingInSamples(rules.spur, sampleRate);
+    this.marginRatio = 10 ** (rules.spur.marginDb / 10);
+  }
+
+  /** Ratio over the local median a noise bin exceeds with probability α/bins (Bonferroni over the bins searched). */
+  thresholdRatio(liveK: number): number {
+    if (liveK !== this.cachedK) {
+      const nu = 2 * liveK;
+      const stat = chi2MeanUpperQuantile(this.rules.spur.alpha / this.finder.bins, nu) / chi2MeanMedian(nu);
+      this.ratio = Math.max(this.marginRatio, stat);
+      this.cachedK = liveK;
+    }
+    return this.ratio;
+  }
+
+  onSpectrum(psd: Float64Array, liveK: number, sample: number, wallTime: string, out: FloorlineEvent[]): void {
+    if (!(liveK > 0)) return;
+    const ratio = this.thresholdRatio(liveK);
+    const thresholdDb = 10 * Math.log10(ratio);
+    const f = this.finder;
+    const n = f.find(psd, ratio);
+    this.mains.classify(f.lineFrequency, f.lineAmplitude, n);
+    const base = this.baselinePsd;
+    const lobe = f.lobe;
+    for (let i = 0; i < n; i++) {
+      const k = f.lineBin[i];
+      if (!(psd[k] > ratio * base[k])) continue; // present in the baseline already
+      let t = this.tracked.find((x) => Math.abs(x.bin - k) <= lobe);
+      if (!t) {
+        if (this.tracked.length >= MAX_TRACKED_LINES) continue;
+        t = { bin: k, frequency: 0, amplitude: 0, heightDb: 0, harmonic: 0, firstSeen: sample, lastSeen: sample, state: new AlarmState(this.timing) };
+        if (this.shelvedUntil > sample) t.state.shelve(this.shelvedUntil);
+        this.tracked.push(t);
+      }
+      t.bin = k;
+      t.frequency = f.lineFrequency[i];
+      t.amplitude = f.lineAmplitude[i];
+      t.heightDb = f.lineHeightDb[i];
+      if (!t.state.active) t.harmonic = this.mains.harmonic[i];
+      t.lastSeen = sample;
+    }
+    const floor = f.floor;
+    const mask = this.lineMask;
+    mask.fill(0);
+    for (let j = this.tracked.length - 1; j >= 0; j--) {
+      const t = this.tracked[j];
+      // Level: the line's height over both the local floor and the baseline, best bin within the lobe.
+      let level = -Infinity;
+      for (let b = Math.max(0, t.bin - lobe); b <= Math.min(psd.length - 1, t.bin + lobe); b++) {
+        const h = 10 * Math.log10(Math.min(psd[b] / floor[b], psd[b] / base[b]));
+        if (h > level) level = h;
+      }
+      if (Number.isNaN(level)) level = -Infinity;
+      const tr = t.state.update(sample, level, thresholdDb);
+      if (tr !== AlarmTransition.None) out.push(this.event(t, tr, sample, wallTime, level, thresholdDb));
+      if (!t.state.active && t.lastSeen < sample) {
+        this.tracked.splice(j, 1);
+        continue;
+      }
+      for (let b = Math.max(0, t.bin - lobe); b <= Math.min(psd.length - 1, t.bin + lobe); b++) mask[b] = 1;
+    }
+  }
+
+  private event(t: TrackedLine, tr: AlarmTransition, sample: number, wallTime: string, level: number, thresholdDb: number): FloorlineEvent {
+    const isMains = t.harmonic > 0;
+    const raised = tr !== AlarmTransition.Cleared;
+    const m = this.mains;
+    const what = isMains
+      ? `mains harmonic ${t.harmonic} of ${m.fundamental.toFixed(2)} Hz at ${t.frequency.toFixed(2)} Hz`
+      : `new line at ${t.frequency.toFixed(2)} Hz`;
+    const totals = isMains
+      ? `; mains total ${m.total.toExponential(3)}, odd ${m.odd.toExponential(3)}, even ${m.even.toExponential(3)} rms`
+      : '';
+    const detail = raised
+      ? `${this.channel} ${what}, ${t.amplitude.toExponential(3)} rms, ${t.heightDb.toFixed(1)} dB over the floor (first seen at sample ${t.firstSeen})${totals}`
+      : `${this.channel} ${what} gone (last seen at sample ${t.lastSeen})`;
+    return makeEvent(isMains ? 'mains' : 'spur', raised ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime, detail, {
+      frequency: round(t.frequency, 7),
+      amplitude: round(t.amplitude),
+      levelDb: round(level),
+      thresholdDb: round(thresholdDb),
+      ...(isMains ? { harmonic: t.harmonic } : {}),
+    });
+  }
+}

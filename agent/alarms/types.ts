@@ -1,0 +1,24 @@
+// What the detectors consume: the pipeline's spectrum snapshot (DEVELOPERS.md "Pipeline"), stated structurally so
+// any object with these fields is accepted.
+import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
+
+export interface SnapshotChannel {
+  name: string;
+  unit: string;
+  psd: Float64Array;
+  segmentsUsed: number;
+  equivalentAverages: number;
+}
+
+export interface SnapshotLike {
+  sample: number;
+  t: number;
+  wallTime: string;
+  settings: AnalysisSettings;
+  averaging?: AveragingSpec;
+  frequencies: Float64Array;
+  channels: SnapshotChannel[];
+}
+
+/** Asks the recorder for a pre/post capture around `triggerSample`; returns the file (relative to the data folder). */
+export type CaptureRequester = (triggerSample: number, label: string) => string | undefined;

@@ -1,0 +1,181 @@
+// Drives the real pipeline and detectors with seeded synthetic signals, in sample time, synchronously: the
+// measurement bench behind tests/alarms and DETECTION.md. A scenario is a quiet floor (white noise, optionally a
+// 1/f part) plus one fault switched on at an onset sample; the baseline is captured from an independent quiet run.
+import { FlickerNoise } from '../../dsp/synth/flicker-noise.ts';
+import { MainsPickup } from '../../dsp/synth/mains.ts';
+import { Tone } from '../../dsp/synth/tone.ts';
+import { BandStep } from '../../dsp/synth/band-step.ts';
+import { WhiteNoise } from '../../dsp/synth/white-noise.ts';
+import { deriveSeed, type SynthComponent } from '../../dsp/synth/component.ts';
+import type { FloorlineEvent } from '../../agent/core/events.ts';
+import type { AveragingSpec } from '../../agent/core/settings.ts';
+import type { StreamInfo } from '../../agent/core/stream.ts';
+import { Pipeline } from '../../agent/pipeline/pipeline.ts';
+import type { AnalysisChoice } from '../../agent/pipeline/analyser.ts';
+import { BaselineCapture } from '../../agent/baseline/capture.ts';
+import type { BaselineFile } from '../../agent/baseline/format.ts';
+import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import { defaultBands } from '../../agent/alarms/default-bands.ts';
+import type { RulesConfig } from '../../agent/alarms/rules.ts';
+import { makeWindow } from '../../dsp/windows.ts';
+
+export interface Floor {
+  /** White density, V/√Hz. */
+  white: number;
+  /** Optional 1/f part: density at its corner equals `white` there (D·√(fc/f) with D = white). */
+  corner?: number;
+}
+
+export type Fault =
+  | { kind: 'none' }
+  | { kind: 'tone'; frequency: number; rms: number }
+  | { kind: 'mains'; fundamental: number; harmonics: number[]; driftSpan?: number }
+  | { kind: 'band-rise'; low: number; high: number; riseDb: number }
+  | { kind: 'corner'; to: number };
+
+export interface Bench {
+  sampleRate: number;
+  analysis: AnalysisChoice;
+  averaging?: AveragingSpec;
+  floor: Floor;
+}
+
+/** The frequently used bench: 4 kS/s, 1024-point Hann segments at 50 %, the pipeline's default averaging. */
+export const DEFAULT_BENCH: Bench = {
+  sampleRate: 4000,
+  analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+  floor: { white: 10e-9 },
+};
+
+const BLOCK = 2000;
+
+function floorComponents(bench: Bench, seed: number): SynthComponent[] {
+  const fs = bench.sampleRate;
+  const c: SynthComponent[] = [new WhiteNoise({ density: bench.floor.white, sampleRate: fs, seed: deriveSeed(seed, 1) })];
+  if (bench.floor.corner) {
+    c.push(new FlickerNoise({ density: bench.floor.white, corner: bench.floor.corner, sampleRate: fs, seed: deriveSeed(seed, 2), lowest: 0.05 }));
+  }
+  return c;
+}
+
+function faultComponents(bench: Bench, fault: Fault, onsetSeconds: number, endSeconds: number, seed: number): SynthComponent[] {
+  const fs = bench.sampleRate;
+  switch (fault.kind) {
+    case 'none':
+      return [];
+    case 'tone':
+      return [new Tone({ frequency: fault.frequency, rms: fault.rms, sampleRate: fs })];
+    case 'mains':
+      return [new MainsPickup({ fundamental: fault.fundamental, harmonics: fault.harmonics, sampleRate: fs, driftSpan: fault.driftSpan ?? 0.05 })];
+    case 'band-rise': {
+      // Added power D² = floor² · (10^(rise/10) − 1) over the band makes the band's floor rise by riseDb.
+      const density = bench.floor.white * Math.sqrt(10 ** (fault.riseDb / 10) - 1);
+      return [new BandStep({ density, low: fault.low, high: fault.high, start: onsetSeconds, end: endSeconds + 1, sampleRate: fs, seed: deriveSeed(seed, 3) })];
+    }
+    case 'corner': {
+      // D²·fc/f grows to D²·fc'/f: add an independent 1/f part with corner fc' − fc.
+      const base = bench.floor.corner ?? 0;
+      return [new FlickerNoise({ density: bench.floor.white, corner: fault.to - base, sampleRate: fs, seed: deriveSeed(seed, 4), lowest: 0.05 })];
+    }
+  }
+}
+
+interface Generator {
+  info: StreamInfo;
+  next(out: Float64Array, first: number, frames: number): void;
+}
+
+/** Floor plus a fault gated on at `onset` (samples): faults that lack their own start are generated and then gated. */
+function generator(bench: Bench, fault: Fault, seed: number, onset: number, endSeconds: number): Generator {
+  const floor = floorComponents(bench, seed);
+  const faults = faultComponents(bench, fault, onset / bench.sampleRate, endSeconds, seed);
+  const selfGated = fault.kind === 'band-rise';
+  const scratch = new Float64Array(BLOCK);
+  return {
+    info: {
+      sampleRate: bench.sampleRate,
+      channels: [{ name: 'ch0', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+      source: { kind: 'simulator', label: `detection bench seed ${seed}` },
+      firstSample: 0,
+      startWallTime: '2026-01-01T00:00:00.000Z',
+    },
+    next(out, first, frames) {
+      out.fill(0, 0, frames);
+      for (const c of floor) c.addTo(out, 0, frames);
+      for (const c of faults) {
+        if (selfGated) {
+          c.addTo(out, 0, frames);
+          continue;
+        }
+        scratch.fill(0, 0, frames);
+        c.addTo(scratch, 0, frames);
+        for (let i = 0; i < frames; i++) if (first + i >= onset) out[i] += scratch[i];
+      }
+    },
+  };
+}
+
+/** A baseline from `seconds` of quiet floor (its own seed), mean-averaged over the whole span. */
+export function captureQuietBaseline(bench: Bench, seconds: number, seed: number): BaselineFile {
+  const g = generator(bench, { kind: 'none' }, seed, Infinity, seconds);
+  const total = Math.round(seconds * bench.sampleRate);
+  const lobe = makeWindow(bench.analysis.window, bench.analysis.segment).mainLobeHalfWidth;
+  const cap = new BaselineCapture({
+    settings: { sampleRate: bench.sampleRate, ...bench.analysis, window: makeWindow(bench.analysis.window, 64).name },
+    channels: [{ name: 'ch0', unit: 'V' }],
+    firstSample: 0,
+    samples: total,
+    bands: defaultBands(bench.sampleRate, bench.analysis.segment, lobe),
+    source: `quiet bench seed ${seed}`,
+  });
+  const buf = new Float64Array(BLOCK);
+  for (let first = 0; first < total; first += BLOCK) {
+    const n = Math.min(BLOCK, total - first);
+    g.next(buf, first, n);
+    cap.push({ firstSample: first, frames: n, data: [buf] });
+  }
+  return cap.result('2026-01-01T00:00:00.000Z');
+}
+
+export interface RunResult {
+  events: FloorlineEvent[];
+  snapshots: number;
+  samples: number;
+}
+
+/** Runs the pipeline with the detectors over `seconds` of floor + fault (switched on at onsetSeconds). */
+export function runScenario(o: {
+  bench: Bench;
+  baseline: BaselineFile;
+  rules?: RulesConfig;
+  fault: Fault;
+  onsetSeconds: number;
+  seconds: number;
+  seed: number;
+}): RunResult {
+  const { bench } = o;
+  const onset = Math.round(o.onsetSeconds * bench.sampleRate);
+  const total = Math.round(o.seconds * bench.sampleRate);
+  const g = generator(bench, o.fault, o.seed, onset, o.seconds);
+  const p = new Pipeline({ analysis: bench.analysis, averaging: bench.averaging, mode: 'lossless' });
+  p.addDetector(new AlarmHook({ baseline: o.baseline, rules: o.rules }));
+  const events: FloorlineEvent[] = [];
+  p.on('event', (e) => events.push(e));
+  let snapshots = 0;
+  p.on('snapshot', () => snapshots++);
+  p.info(g.info);
+  const buf = new Float64Array(BLOCK);
+  for (let first = 0; first < total; first += BLOCK) {
+    const n = Math.min(BLOCK, total - first);
+    g.next(buf, first, n);
+    p.block({ firstSample: first, frames: n, data: [buf] });
+  }
+  p.end();
+  return { events, snapshots, samples: total };
+}
+
+/** First raised alarm of `rule` at or after the onset, as latency in seconds; undefined if none. */
+export function detectionLatency(events: FloorlineEvent[], rule: string, onsetSeconds: number, sampleRate: number): number | undefined {
+  const e = events.find((x) => x.kind === 'alarm' && x.rule === rule && x.state === 'raised' && x.sample >= onsetSeconds * sampleRate);
+  return e ? e.sample / sampleRate - onsetSeconds : undefined;
+}
