@@ -1,5 +1,6 @@
 // The subcommand registry: one module per subcommand under agent/cli/commands/.
 import type { CommandSpec } from './args.ts';
 import { replayCommand } from './commands/replay.ts';
+import { analyzeCommand } from './commands/analyze.ts';
 
-export const commands: CommandSpec[] = [replayCommand];
+export const commands: CommandSpec[] = [replayCommand, analyzeCommand];
