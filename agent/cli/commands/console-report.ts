@@ -4,6 +4,7 @@ import type { FloorlineEvent } from '../../core/events.ts';
 import type { StreamInfo } from '../../core/stream.ts';
 import type { Pipeline } from '../../pipeline/pipeline.ts';
 import type { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
+import type { Recorder } from '../../recorder/recorder.ts';
 
 function averagingText(p: Pipeline): string {
   const a = p.averaging;
@@ -39,7 +40,26 @@ export function describeEvent(e: FloorlineEvent): string {
   return `t=${e.t.toFixed(3)} s  sample ${e.sample}  ${e.kind} ${e.rule} ${e.state}  ${e.channel}${where}${level}  ${e.detail}`;
 }
 
-export function printSummary(p: Pipeline, wallMs: number, digest?: SnapshotDigest): void {
+function recordingText(r: Recorder | undefined): string {
+  if (!r) return 'off';
+  const s = r.status();
+  if (s.state === 'failed') return `FAILED (${s.error ?? 'unknown error'})`;
+  const state = s.state === 'recording' ? 'on' : s.state;
+  if (s.files.length === 0) return state;
+  return `${state}, ${s.framesWritten} frames in ${s.files.length} file(s), last ${s.file}`;
+}
+
+/** One line of where the stream is, in sample time. */
+export function printStatusLine(p: Pipeline, r?: Recorder): void {
+  const c = p.counters();
+  const rate = p.stream?.sampleRate ?? 1;
+  process.stdout.write(
+    `status     t=${((c.lastSample + 1) / rate).toFixed(3)} s  sample ${c.lastSample}  snapshots ${c.snapshots}  events ${c.events}  ` +
+      `gaps ${c.gaps}  dropped ${c.droppedBlocks}  recording ${recordingText(r)}\n`,
+  );
+}
+
+export function printSummary(p: Pipeline, wallMs: number, digest?: SnapshotDigest, recorder?: Recorder): void {
   const c = p.counters();
   const info = p.stream;
   const rate = info?.sampleRate ?? 0;
@@ -50,6 +70,7 @@ export function printSummary(p: Pipeline, wallMs: number, digest?: SnapshotDiges
     `snapshots  ${c.snapshots}${digest ? `, digest ${digest.hex().slice(0, 16)}` : ''}`,
     `events     ${c.events}`,
     `health     gaps ${c.gaps} (${c.lostSamples} samples lost), dropped blocks ${c.droppedBlocks}, clipped samples ${c.clippedSamples.join('/')}`,
+    `recording  ${recordingText(recorder)}`,
   ];
   process.stdout.write(lines.join('\n') + '\n');
 }

@@ -69,3 +69,24 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
     data: f.data as string,
   };
 }
+
+export const RECORDING_FLAGS: FlagSpec[] = [
+  { name: 'record', kind: 'boolean', help: 'record continuously to the data folder (float32 WAV + sidecar)' },
+  { name: 'rotate', kind: 'number', value: 'S', min: 0, default: 3600, help: 'start a new recording file every S seconds of sample time (0 = one file, RF64 past 4 GiB)' },
+  { name: 'pre', kind: 'number', value: 'S', min: 0, max: 600, default: 10, help: 'seconds an event capture keeps before its trigger' },
+  { name: 'post', kind: 'number', value: 'S', min: 0, max: 600, default: 10, help: 'seconds an event capture runs after its trigger' },
+  { name: 'status-every', kind: 'number', value: 'S', min: 0, default: 10, help: 'print a status line every S seconds of wall time (0 = never)' },
+];
+
+export function readRecordingFlags(args: ParsedArgs): {
+  record: boolean;
+  statusEvery: number;
+  recorder: { rotateSeconds: number; preSeconds: number; postSeconds: number };
+} {
+  const f = args.flags;
+  return {
+    record: f.record as boolean,
+    statusEvery: f['status-every'] as number,
+    recorder: { rotateSeconds: f.rotate as number, preSeconds: f.pre as number, postSeconds: f.post as number },
+  };
+}

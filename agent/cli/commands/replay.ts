@@ -2,16 +2,17 @@
 import { createWriteStream } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { PIPELINE_FLAGS, readPipelineFlags } from './pipeline-flags.ts';
+import { PIPELINE_FLAGS, RECORDING_FLAGS, readPipelineFlags, readRecordingFlags } from './pipeline-flags.ts';
 import { Pipeline } from '../../pipeline/pipeline.ts';
-import { SnapshotDigest, snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
+import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
-import { describeEvent, printSummary, printStreamHeader } from './console-report.ts';
+import { startSession } from './session.ts';
 
 async function runReplay(args: ParsedArgs): Promise<number> {
   const [file] = args.positionals;
   const f = args.flags;
   const flags = readPipelineFlags(args, 'replay');
+  const rec = readRecordingFlags(args);
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
     throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);
@@ -27,21 +28,22 @@ async function runReplay(args: ParsedArgs): Promise<number> {
     startTime: f['start-time'] as number | undefined,
     scale: f.scale as number | undefined,
   });
-  const quiet = f.quiet as boolean;
-  const digest = new SnapshotDigest();
-  pipeline.on('snapshot', (s) => digest.add(s));
   const snapOut = f['snapshots-out'] ? createWriteStream(f['snapshots-out'] as string) : undefined;
   if (snapOut) pipeline.on('snapshot', (s) => snapOut.write(snapshotToJsonLine(s) + '\n'));
-  pipeline.on('event', (e) => {
-    if (!quiet) process.stdout.write(describeEvent(e) + '\n');
-  });
-  pipeline.on('info', (info) => {
-    if (!quiet) printStreamHeader(info, pipeline, source.fileInfo?.frames);
-  });
 
-  const wall0 = performance.now();
+  let session;
   try {
-    await pipeline.attach(source);
+    session = await startSession({
+      command: 'replay',
+      pipeline,
+      source,
+      dataDir: flags.data,
+      record: rec.record,
+      recorder: rec.recorder,
+      statusEvery: rec.statusEvery,
+      quiet: f.quiet as boolean,
+      frames: () => source.fileInfo?.frames,
+    });
   } catch (err) {
     const e = err as Error & { exitCode?: number };
     if (e instanceof UsageError) throw err;
@@ -49,18 +51,12 @@ async function runReplay(args: ParsedArgs): Promise<number> {
     throw new InputError(`floorline replay: cannot replay ${file}: ${e.message}`);
   }
   for (const w of source.fileInfo?.warnings ?? []) process.stderr.write(`floorline replay: warning: ${w}\n`);
-  const stop = () => void source.stop();
-  process.once('SIGINT', stop);
-  process.once('SIGTERM', stop);
   try {
     await source.done;
-    await pipeline.whenEnded();
+    await session.finished;
   } finally {
-    process.off('SIGINT', stop);
-    process.off('SIGTERM', stop);
     if (snapOut) await new Promise<void>((r) => snapOut.end(r));
   }
-  printSummary(pipeline, performance.now() - wall0, digest);
   return 0;
 }
 
@@ -68,7 +64,7 @@ export const replayCommand: CommandSpec = {
   name: 'replay',
   summary: 'run the live pipeline on a recording (WAV), in real time, N× faster or as fast as possible',
   details: [
-    'Spectra, band values and events are stamped in the recording\'s sample time, so a replay at any speed',
+    "Spectra, band values and events are stamped in the recording's sample time, so a replay at any speed",
     'gives the same results at the same sample indices as the live run that made the recording.',
     'Example: floorline replay floorline-data/recordings/rig.wav --speed max --no-server',
   ].join('\n'),
@@ -82,6 +78,7 @@ export const replayCommand: CommandSpec = {
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
     { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
+    ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,
   ],
   run: runReplay,

@@ -1,0 +1,100 @@
+// The run/replay/demo session: one pipeline, one source, and what hangs off it — recorder (continuous and event
+// captures), detectors, event log, terminal report, dashboard server. Stops cleanly on SIGINT/SIGTERM.
+import type { FloorlineEvent } from '../../core/events.ts';
+import type { Source } from '../../core/stream.ts';
+import { dataFolderAt, ensureDataFolder, type DataFolder } from '../../config/data-folder.ts';
+import type { Pipeline } from '../../pipeline/pipeline.ts';
+import type { Detector } from '../../pipeline/types.ts';
+import { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
+import { Recorder, type RecorderOptions } from '../../recorder/recorder.ts';
+import { repairRecordings } from '../../recorder/repair-on-start.ts';
+import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
+
+export interface SessionOptions {
+  command: string;
+  pipeline: Pipeline;
+  source: Source;
+  dataDir: string;
+  /** Record continuously from the start. */
+  record: boolean;
+  recorder?: RecorderOptions;
+  /** Wall seconds between status lines on stdout; 0 = none. */
+  statusEvery: number;
+  quiet: boolean;
+  /** Frames in the file, for a replay's header. */
+  frames?: () => number | undefined;
+  /** Builds the detectors once the recorder exists (so alarms can ask it for captures). */
+  detectors?: (recorder: Recorder | undefined, folder: DataFolder) => Detector[];
+  /** Extra event sinks (event log, --events-out). */
+  onEvent?: (e: FloorlineEvent) => void;
+  /** Starts the dashboard server when given; returns its URL and a close function. */
+  serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined }) => Promise<{ url: string; close(): Promise<void> }>;
+}
+
+export interface Session {
+  folder: DataFolder;
+  recorder: Recorder | undefined;
+  digest: SnapshotDigest;
+  /** Resolves when the source ended (or was stopped) and everything is flushed. */
+  finished: Promise<void>;
+  stop(): Promise<void>;
+}
+
+/** Prepares the data folder and recorder, subscribes the report, starts server and source. */
+export async function startSession(o: SessionOptions): Promise<Session> {
+  const { pipeline, source } = o;
+  const folder = dataFolderAt(o.dataDir);
+  let recorder: Recorder | undefined;
+  const needsFolder = o.record || o.serve !== undefined || o.detectors !== undefined;
+  if (needsFolder) {
+    try {
+      ensureDataFolder(folder);
+      const repair = await repairRecordings(folder);
+      for (const r of repair.repaired) process.stderr.write(`floorline ${o.command}: repaired ${r.file} left by a crash (${r.frames} frames kept)\n`);
+      for (const f of repair.failed) process.stderr.write(`floorline ${o.command}: could not repair ${f.file}: ${f.error}\n`);
+      recorder = new Recorder(folder, o.recorder);
+      recorder.attach(pipeline);
+    } catch (err) {
+      // No writable data folder: analysis still runs; recording and captures are off and say why.
+      process.stderr.write(`floorline ${o.command}: ${(err as Error).message}; recording is off, analysis goes on.\n`);
+    }
+  }
+  if (o.record && recorder) recorder.startRecording();
+  else if (o.record) process.stderr.write(`floorline ${o.command}: recording failed: no usable data folder at ${folder.root}.\n`);
+  for (const d of o.detectors?.(recorder, folder) ?? []) pipeline.addDetector(d);
+
+  const digest = new SnapshotDigest();
+  pipeline.on('snapshot', (s) => digest.add(s));
+  pipeline.on('event', (e) => {
+    o.onEvent?.(e);
+    if (!o.quiet) process.stdout.write(describeEvent(e) + '\n');
+  });
+  pipeline.on('info', (info) => {
+    if (!o.quiet) printStreamHeader(info, pipeline, o.frames?.());
+  });
+
+  const server = o.serve ? await o.serve({ folder, recorder }) : undefined;
+  if (server) process.stdout.write(`dashboard  ${server.url}\n`);
+
+  const wall0 = performance.now();
+  await pipeline.attach(source);
+  const timer = o.statusEvery > 0 ? setInterval(() => printStatusLine(pipeline, recorder), o.statusEvery * 1000) : undefined;
+  let stopping: Promise<void> | undefined;
+  const stop = (): Promise<void> => (stopping ??= source.stop());
+  const onSignal = () => void stop();
+  process.once('SIGINT', onSignal);
+  process.once('SIGTERM', onSignal);
+  const finished = (async () => {
+    try {
+      await pipeline.whenEnded();
+    } finally {
+      if (timer) clearInterval(timer);
+      process.off('SIGINT', onSignal);
+      process.off('SIGTERM', onSignal);
+      recorder?.close();
+      await server?.close();
+    }
+    if (!o.quiet || o.command === 'replay') printSummary(pipeline, performance.now() - wall0, digest, recorder);
+  })();
+  return { folder, recorder, digest, finished, stop };
+}

@@ -1,0 +1,366 @@
+// Continuous recording (with rotation, continuous sample indices across files) and pre/post event captures, fed
+// by the pipeline's calibrated blocks. Files are float32 WAV + sidecar in the data folder's recordings/.
+// A write failure (disk full, no permission) never stops acquisition: the recording is marked failed, an event
+// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched) every
+// flushMs of wall time, so a crash loses at most that much.
+import { join, relative } from 'node:path';
+import type { FloorlineEvent } from '../core/events.ts';
+import type { StreamInfo } from '../core/stream.ts';
+import type { DataFolder } from '../config/data-folder.ts';
+import type { Pipeline } from '../pipeline/pipeline.ts';
+import type { CalibratedBlock } from '../pipeline/types.ts';
+import { WavWriter, type WavWriterMetadata } from '../wav/writer.ts';
+import { recordingFileName, safeLabel } from './file-naming.ts';
+import { SampleRing } from './sample-ring.ts';
+
+export interface RecorderOptions {
+  /** File name prefix of continuous recordings (default "rec"). */
+  prefix?: string;
+  /** Start a new file every this many seconds of sample time (default 3600); 0 = never (RF64 past 4 GiB). */
+  rotateSeconds?: number;
+  /** Or when a file would pass this many data bytes (default none). */
+  rotateBytes?: number;
+  /** Seconds of sample time a capture keeps before its trigger (default 10) and after it (default 10). */
+  preSeconds?: number;
+  postSeconds?: number;
+  /** Extra seconds the ring holds beyond preSeconds (default 5): an alarm decides some time after the samples
+   * that raised it (segment length, on-delay), and its capture must still reach preSeconds before the trigger. */
+  decisionSeconds?: number;
+  /** Wall-clock flush interval, ms (default 500): what a crash can lose at most. */
+  flushMs?: number;
+  /** fdatasync on flush (default true). */
+  durable?: boolean;
+  notes?: string;
+}
+
+export interface RecordingStatus {
+  state: 'off' | 'recording' | 'failed';
+  /** Current (or last) file, relative to the data folder. */
+  file?: string;
+  error?: string;
+  /** Files of this recording so far (rotation, gaps), relative to the data folder. */
+  files: string[];
+  framesWritten: number;
+}
+
+export interface CaptureHandle {
+  /** Relative to the data folder: known at once, so an event can name it. */
+  file: string;
+  /** Absolute index of the first sample the capture holds. */
+  firstSample: number;
+  /** Resolves with the frames written when the capture is complete (post-trigger span, a gap, or the end). */
+  done: Promise<{ file: string; frames: number }>;
+}
+
+interface OpenFile {
+  writer: WavWriter;
+  file: string;
+  firstSample: number;
+}
+
+interface ActiveCapture extends OpenFile {
+  endSample: number; // last sample to include
+  promise: Promise<{ file: string; frames: number }>;
+  resolve: (r: { file: string; frames: number }) => void;
+  reject: (e: Error) => void;
+}
+
+export class Recorder {
+  private readonly prefix: string;
+  private readonly rotateSeconds: number;
+  private readonly rotateBytes: number;
+  private readonly preSeconds: number;
+  private readonly postSeconds: number;
+  private readonly durable: boolean;
+  private readonly decisionSeconds: number;
+  private pipeline: Pipeline | undefined;
+  private info: StreamInfo | undefined;
+  private ring: SampleRing | undefined;
+  private scratch: Float32Array[] = [];
+  private wanted = false;
+  private current: OpenFile | undefined;
+  private readonly rec: RecordingStatus = { state: 'off', files: [], framesWritten: 0 };
+  private readonly captures: ActiveCapture[] = [];
+  private readonly timer: NodeJS.Timeout;
+  private nextSample = 0;
+  private readonly unsubscribe: (() => void)[] = [];
+
+  constructor(
+    readonly folder: DataFolder,
+    options: RecorderOptions = {},
+  ) {
+    this.prefix = safeLabel(options.prefix ?? 'rec');
+    this.rotateSeconds = options.rotateSeconds ?? 3600;
+    this.rotateBytes = options.rotateBytes ?? Infinity;
+    this.preSeconds = options.preSeconds ?? 10;
+    this.postSeconds = options.postSeconds ?? 10;
+    this.durable = options.durable ?? true;
+    this.decisionSeconds = options.decisionSeconds ?? 5;
+    for (const [k, v] of [['rotateSeconds', this.rotateSeconds], ['preSeconds', this.preSeconds], ['postSeconds', this.postSeconds], ['decisionSeconds', this.decisionSeconds]] as const) {
+      if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
+    }
+    if (!(this.rotateBytes > 0)) throw new RangeError(`Recorder: rotateBytes must be positive, got ${this.rotateBytes}`);
+    this.timer = setInterval(() => this.flushAll(), options.flushMs ?? 500);
+    this.timer.unref();
+  }
+
+  /** Subscribes to the pipeline's stream; call once. */
+  attach(pipeline: Pipeline): void {
+    this.pipeline = pipeline;
+    this.unsubscribe.push(
+      pipeline.on('info', (i) => this.onInfo(i)),
+      pipeline.on('block', (b) => this.onBlock(b)),
+      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost)),
+      pipeline.on('end', () => this.closeAll()),
+    );
+    if (pipeline.stream) this.onInfo(pipeline.stream);
+  }
+
+  /** Starts continuous recording (from the next block on). */
+  startRecording(): RecordingStatus {
+    this.wanted = true;
+    if (this.rec.state !== 'recording') {
+      this.rec.state = 'recording';
+      this.rec.error = undefined;
+      this.rec.files = [];
+      this.rec.framesWritten = 0;
+      this.rec.file = undefined;
+    }
+    return this.status();
+  }
+
+  stopRecording(): RecordingStatus {
+    this.wanted = false;
+    this.closeCurrent();
+    if (this.rec.state === 'recording') this.rec.state = 'off';
+    return this.status();
+  }
+
+  status(): RecordingStatus {
+    return { ...this.rec, files: [...this.rec.files] };
+  }
+
+  /** Captures preSeconds before triggerSample to postSeconds after it into its own file. */
+  capture(triggerSample: number, label: string): CaptureHandle {
+    const info = this.info;
+    const ring = this.ring;
+    if (!info || !ring || !this.pipeline) throw new Error('Recorder.capture: no stream yet; attach the recorder and start the source first');
+    const rate = info.sampleRate;
+    const endSample = triggerSample + Math.round(this.postSeconds * rate);
+    // An alarm on another channel inside a capture still being written extends that capture instead of a new file.
+    const running = this.captures.find((c) => c.endSample >= triggerSample && c.firstSample <= triggerSample);
+    if (running) {
+      running.endSample = Math.max(running.endSample, endSample);
+      return { file: running.file, firstSample: running.firstSample, done: running.promise };
+    }
+    const firstSample = Math.max(ring.oldestSample, triggerSample - Math.round(this.preSeconds * rate));
+    const name = recordingFileName(`capture-${safeLabel(label)}`, this.pipeline.wallTimeAt(firstSample), firstSample);
+    const path = join(this.folder.recordings, name);
+    const file = relative(this.folder.root, path);
+    let resolve!: (r: { file: string; frames: number }) => void;
+    let reject!: (e: Error) => void;
+    const promise = new Promise<{ file: string; frames: number }>((a, b) => {
+      resolve = a;
+      reject = b;
+    });
+    promise.catch(() => undefined); // the caller may not wait: never an unhandled rejection
+    try {
+      const writer = new WavWriter(path, this.metadata(firstSample, `capture: ${label}`), { durable: this.durable });
+      const held = ring.copyFrom(firstSample, this.scratch);
+      if (held > 0) writer.append(this.scratch, held);
+      const cap: ActiveCapture = { writer, file, firstSample, endSample, promise, resolve, reject };
+      this.captures.push(cap);
+      if (ring.nextSample > endSample) this.finishCapture(cap);
+    } catch (err) {
+      reject(err as Error);
+      this.report(`capture ${file} failed: ${(err as Error).message}`, 'raised');
+    }
+    return { file, firstSample, done: promise };
+  }
+
+  /** Flushes and closes every open file, stops the flush timer and unsubscribes. */
+  close(): void {
+    this.closeAll();
+    clearInterval(this.timer);
+    for (const u of this.unsubscribe) u();
+    this.unsubscribe.length = 0;
+  }
+
+  // ---- internals ----
+
+  private onInfo(info: StreamInfo): void {
+    const changed = !this.info || this.info.sampleRate !== info.sampleRate || this.info.channels.length !== info.channels.length;
+    this.info = info;
+    if (changed) {
+      this.closeAll();
+      const frames = Math.max(1, Math.round((this.preSeconds + this.decisionSeconds) * info.sampleRate));
+      this.ring = new SampleRing(info.channels.length, frames);
+      this.ring.restart(info.firstSample);
+      // Scratch for copying the ring into a capture (never more than the ring holds).
+      this.scratch = info.channels.map(() => new Float32Array(frames));
+      this.nextSample = info.firstSample;
+    }
+  }
+
+  private metadata(firstSample: number, notes?: string): WavWriterMetadata {
+    const info = this.info!;
+    const p = this.pipeline!;
+    return {
+      sampleRate: info.sampleRate,
+      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit, scale: c.scale, fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined })),
+      source: { kind: info.source.kind, label: info.source.label },
+      boardId: info.boardId,
+      firstSample,
+      startWallTime: p.wallTimeAt(firstSample),
+      analysis: p.analysisSettings,
+      notes,
+    };
+  }
+
+  private onBlock(b: CalibratedBlock): void {
+    if (b.firstSample !== this.nextSample) this.onGap(b.firstSample);
+    if (this.wanted && this.rec.state === 'recording') this.appendContinuous(b);
+    for (let i = 0; i < this.captures.length; ) {
+      const cap = this.captures[i];
+      const n = Math.min(b.frames, cap.endSample + 1 - b.firstSample);
+      if (n > 0) {
+        try {
+          cap.writer.append(b.data, n);
+        } catch (err) {
+          this.failCapture(cap, err as Error);
+          continue;
+        }
+      }
+      if (b.firstSample + b.frames > cap.endSample) this.finishCapture(cap);
+      else i++;
+    }
+    this.ring?.push(b.data, b.firstSample, b.frames);
+    this.nextSample = b.firstSample + b.frames;
+  }
+
+  private appendContinuous(b: CalibratedBlock): void {
+    const info = this.info!;
+    const channels = info.channels.length;
+    const rotateFrames = Math.min(
+      this.rotateSeconds > 0 ? Math.round(this.rotateSeconds * info.sampleRate) : Infinity,
+      Math.floor(this.rotateBytes / (4 * channels)),
+    );
+    let done = 0;
+    try {
+      while (done < b.frames) {
+        if (!this.current) this.openCurrent(b.firstSample + done);
+        const cur = this.current!;
+        const room = rotateFrames - cur.writer.frames;
+        const n = Math.min(b.frames - done, room);
+        cur.writer.append(b.data, n, done);
+        done += n;
+        this.rec.framesWritten += n;
+        if (cur.writer.frames >= rotateFrames) this.closeCurrent();
+      }
+    } catch (err) {
+      this.failRecording(err as Error, b.firstSample + b.frames - 1);
+    }
+  }
+
+  private openCurrent(firstSample: number): void {
+    const name = recordingFileName(this.prefix, this.pipeline!.wallTimeAt(firstSample), firstSample);
+    const path = join(this.folder.recordings, name);
+    const file = relative(this.folder.root, path);
+    this.rec.file = file;
+    const writer = new WavWriter(path, this.metadata(firstSample), { durable: this.durable });
+    this.current = { writer, file, firstSample };
+    this.rec.files.push(file);
+  }
+
+  private closeCurrent(): void {
+    const cur = this.current;
+    this.current = undefined;
+    if (!cur) return;
+    try {
+      cur.writer.close();
+    } catch (err) {
+      this.failRecording(err as Error);
+    }
+  }
+
+  private failRecording(err: Error, sample?: number): void {
+    const cur = this.current;
+    this.current = undefined;
+    if (cur) {
+      try {
+        cur.writer.close();
+      } catch {
+        // the file keeps what was flushed; a later start repairs its header
+      }
+    }
+    this.rec.state = 'failed';
+    this.rec.error = err.message;
+    this.wanted = false;
+    this.report(`recording failed: ${err.message} Analysis goes on without recording.`, 'raised', sample);
+  }
+
+  private finishCapture(cap: ActiveCapture): void {
+    const i = this.captures.indexOf(cap);
+    if (i >= 0) this.captures.splice(i, 1);
+    try {
+      cap.writer.close();
+      cap.resolve({ file: cap.file, frames: cap.writer.frames });
+    } catch (err) {
+      cap.reject(err as Error);
+      this.report(`capture ${cap.file} failed: ${(err as Error).message}`, 'raised');
+    }
+  }
+
+  private failCapture(cap: ActiveCapture, err: Error): void {
+    const i = this.captures.indexOf(cap);
+    if (i >= 0) this.captures.splice(i, 1);
+    try {
+      cap.writer.close();
+    } catch {
+      // already failing: the reason below is the one that matters
+    }
+    cap.reject(err);
+    this.report(`capture ${cap.file} failed: ${err.message}`, 'raised');
+  }
+
+  /** At a gap every file ends; the next block starts new ones with its own first sample index. */
+  private onGap(nextSample: number): void {
+    if (nextSample === this.nextSample) return;
+    this.closeCurrent();
+    for (const cap of [...this.captures]) this.finishCapture(cap);
+    this.ring?.restart(nextSample);
+    this.nextSample = nextSample;
+  }
+
+  private flushAll(): void {
+    if (this.current) {
+      try {
+        this.current.writer.flush();
+      } catch (err) {
+        this.failRecording(err as Error);
+      }
+    }
+    for (const cap of [...this.captures]) {
+      try {
+        cap.writer.flush();
+      } catch (err) {
+        this.failCapture(cap, err as Error);
+      }
+    }
+  }
+
+  private closeAll(): void {
+    this.closeCurrent();
+    for (const cap of [...this.captures]) this.finishCapture(cap);
+  }
+
+  private report(detail: string, state: 'raised' | 'cleared', at?: number): void {
+    process.stderr.write(`floorline: ${detail}\n`);
+    const p = this.pipeline;
+    if (!p) return;
+    const sample = at ?? Math.max(0, this.nextSample - 1);
+    const rate = this.info?.sampleRate ?? 1;
+    const e: FloorlineEvent = { kind: 'alarm', rule: 'recording', state, channel: '*', sample, t: sample / rate, wallTime: p.wallTimeAt(sample), detail };
+    p.emitEvent(e);
+  }
+}
