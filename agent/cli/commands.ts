@@ -2,5 +2,6 @@
 import type { CommandSpec } from './args.ts';
 import { replayCommand } from './commands/replay.ts';
 import { analyzeCommand } from './commands/analyze.ts';
+import { simulateCommand } from './commands/simulate.ts';
 
-export const commands: CommandSpec[] = [replayCommand, analyzeCommand];
+export const commands: CommandSpec[] = [replayCommand, analyzeCommand, simulateCommand];

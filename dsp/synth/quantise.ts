@@ -21,7 +21,7 @@ export function quantise(
       c = -fullScale;
       clipped++;
     }
-    counts[i] = c;
+    counts[i] = c + 0; // −0 → +0: a converter has one zero code, and decoded frames give +0
   }
   return clipped;
 }
