@@ -68,7 +68,7 @@ export class Detectors {
       return {
         name,
         band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate) : undefined,
-        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, basePsd, rules, s.sampleRate),
+        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, win.values, basePsd, rules, s.sampleRate),
       };
     });
     this.health = new HealthDetector(s.sampleRate, Math.round(rules.clipHold * s.sampleRate), Math.round(rules.overrunHold * s.sampleRate));

@@ -4,6 +4,7 @@
 import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
 import { MainsClassifier } from '../../dsp/alarms/mains.ts';
 import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
+import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
 import { chi2MeanMedian, chi2MeanUpperQuantile } from '../../dsp/alarms/threshold.ts';
 import type { FloorlineEvent } from '../core/events.ts';
 import { makeEvent, round } from './event-factory.ts';
@@ -23,6 +24,8 @@ interface TrackedLine {
 
 /** At most this many lines are tracked per channel (strongest win); a named limit keeps memory bounded. */
 export const MAX_TRACKED_LINES = 64;
+/** Farthest a line's leakage skirt is masked from the band rules, bins either side of its lobe. */
+export const MAX_SKIRT_BINS = 64;
 
 export class SpurDetector {
   readonly finder: SpurFinder;
@@ -30,6 +33,7 @@ export class SpurDetector {
   readonly tracked: TrackedLine[] = [];
   /** Bins inside the lobes of tracked new lines, after the last onSpectrum (band rules leave them out). */
   readonly lineMask: Uint8Array;
+  private readonly leakage: Float64Array;
   /** New lines start shelved until this sample (see Detectors.shelve). */
   shelvedUntil = -1;
   private readonly timing: AlarmTiming;
@@ -42,6 +46,7 @@ export class SpurDetector {
     frequencies: Float64Array,
     binHz: number,
     mainLobeHalfWidth: number,
+    windowValues: Float64Array,
     private readonly baselinePsd: Float64Array,
     private readonly rules: RulesConfig,
     private readonly sampleRate: number,
@@ -52,6 +57,7 @@ export class SpurDetector {
     });
     this.mains = new MainsClassifier({ setting: rules.mains.frequency, binHz, maxHarmonic: rules.mains.maxHarmonic }, MAX_TRACKED_LINES);
     this.lineMask = new Uint8Array(frequencies.length);
+    this.leakage = leakageEnvelope(windowValues, MAX_SKIRT_BINS);
     this.timing = timingInSamples(rules.spur, sampleRate);
     this.marginRatio = 10 ** (rules.spur.marginDb / 10);
   }
@@ -94,8 +100,7 @@ export class SpurDetector {
       t.lastSeen = sample;
     }
     const floor = f.floor;
-    const mask = this.lineMask;
-    mask.fill(0);
+    this.lineMask.fill(0);
     for (let j = this.tracked.length - 1; j >= 0; j--) {
       const t = this.tracked[j];
       // Level: the line's height over both the local floor and the baseline, best bin within the lobe.
@@ -111,7 +116,42 @@ export class SpurDetector {
         this.tracked.splice(j, 1);
         continue;
       }
-      for (let b = Math.max(0, t.bin - lobe); b <= Math.min(psd.length - 1, t.bin + lobe); b++) mask[b] = 1;
+      this.maskLine(t.bin, psd);
+    }
+  }
+
+  /**
+   * Flags the line's main lobe and its leakage skirt: every bin d away where the line's worst-case leakage
+   * (peak · L(d), dsp/alarms/leakage.ts) exceeds a tenth of the reference floor (baseline, else local floor), up to
+   * MAX_SKIRT_BINS either side. A strong line's sidelobes (Hann: −31 dB, falling 18 dB/octave) would otherwise
+   * read as a floor rise in its band.
+   */
+  private maskLine(bin: number, psd: Float64Array): void {
+    const mask = this.lineMask;
+    const floor = this.finder.floor;
+    const base = this.baselinePsd;
+    const leak = this.leakage;
+    const last = psd.length - 1;
+    const peak = psd[bin];
+    for (let d = 0; d <= MAX_SKIRT_BINS; d++) {
+      const lo = bin - d;
+      const hi = bin + d;
+      let any = false;
+      if (lo >= 0) {
+        const ref = base[lo] > 0 ? base[lo] : floor[lo];
+        if (d <= this.finder.lobe || peak * leak[d] > 0.1 * ref) {
+          mask[lo] = 1;
+          any = true;
+        }
+      }
+      if (hi <= last) {
+        const ref = base[hi] > 0 ? base[hi] : floor[hi];
+        if (d <= this.finder.lobe || peak * leak[d] > 0.1 * ref) {
+          mask[hi] = 1;
+          any = true;
+        }
+      }
+      if (!any) break;
     }
   }
 

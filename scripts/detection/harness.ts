@@ -85,8 +85,12 @@ interface Generator {
   next(out: Float64Array, first: number, frames: number): void;
 }
 
-/** Floor plus a fault gated on at `onset` (samples): faults that lack their own start are generated and then gated. */
-function generator(bench: Bench, fault: Fault, seed: number, onset: number, endSeconds: number): Generator {
+/**
+ * Floor plus a fault gated on at `onset` (samples): faults that lack their own start are generated and then gated,
+ * abruptly or, with `ramp` samples, by a raised-cosine fade-in (a switch-on transient inside one Welch segment is
+ * broadband: the window does not taper an edge in the middle of the segment).
+ */
+function generator(bench: Bench, fault: Fault, seed: number, onset: number, endSeconds: number, ramp = 0): Generator {
   const floor = floorComponents(bench, seed);
   const faults = faultComponents(bench, fault, onset / bench.sampleRate, endSeconds, seed);
   const selfGated = fault.kind === 'band-rise';
@@ -109,7 +113,11 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
         }
         scratch.fill(0, 0, frames);
         c.addTo(scratch, 0, frames);
-        for (let i = 0; i < frames; i++) if (first + i >= onset) out[i] += scratch[i];
+        for (let i = 0; i < frames; i++) {
+          const age = first + i - onset;
+          if (age < 0) continue;
+          out[i] += age >= ramp ? scratch[i] : scratch[i] * 0.5 * (1 - Math.cos((Math.PI * age) / ramp));
+        }
       }
     },
   };
@@ -150,13 +158,15 @@ export function runScenario(o: {
   rules?: RulesConfig;
   fault: Fault;
   onsetSeconds: number;
+  /** Fade-in of the fault, s (default 0: switched on abruptly). */
+  rampSeconds?: number;
   seconds: number;
   seed: number;
 }): RunResult {
   const { bench } = o;
   const onset = Math.round(o.onsetSeconds * bench.sampleRate);
   const total = Math.round(o.seconds * bench.sampleRate);
-  const g = generator(bench, o.fault, o.seed, onset, o.seconds);
+  const g = generator(bench, o.fault, o.seed, onset, o.seconds, Math.round((o.rampSeconds ?? 0) * bench.sampleRate));
   const p = new Pipeline({ analysis: bench.analysis, averaging: bench.averaging, mode: 'lossless' });
   p.addDetector(new AlarmHook({ baseline: o.baseline, rules: o.rules }));
   const events: FloorlineEvent[] = [];
