@@ -50,6 +50,12 @@ function fourcc(b: Uint8Array, at: number): string {
   return String.fromCharCode(b[at], b[at + 1], b[at + 2], b[at + 3]);
 }
 
+/** RIFF chunk ids are four printable ASCII characters (space-padded, e.g. 'fmt '). */
+export function isChunkId(b: Uint8Array): boolean {
+  for (let i = 0; i < 4; i++) if (!(b[i] >= 0x20 && b[i] <= 0x7e)) return false;
+  return true;
+}
+
 function u32(b: Uint8Array, at: number): number {
   return (b[at] | (b[at + 1] << 8) | (b[at + 2] << 16)) + b[at + 3] * 0x1000000;
 }
@@ -84,6 +90,15 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
   let pos = 12;
   while (pos + 8 <= fileBytes) {
     const ch = await readExactly(fh, 8, pos);
+    if (!isChunkId(ch)) {
+      // Not a chunk: bytes past the declared data, e.g. samples written after the last header update of a
+      // recording that crashed. Stop here rather than walk them 8 bytes at a time.
+      warnings.push(
+        `${path}: ${fileBytes - pos} bytes after offset ${pos} are not RIFF chunks and were ignored ` +
+          `(samples written after the last header update of an interrupted recording? repairing the file recovers them).`,
+      );
+      break;
+    }
     const id = fourcc(ch, 0);
     const size = u32(ch, 4);
     const body = pos + 8;

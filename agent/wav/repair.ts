@@ -2,7 +2,7 @@
 // writer lays it out: 'data' last), cut to whole frames, and the RIFF/data/fact sizes (RF64 past 4 GiB) rewritten.
 import { open } from 'node:fs/promises';
 import { WavError, wavIoError } from './errors.ts';
-import { readWavLayout, type Container } from './header.ts';
+import { isChunkId, readWavLayout, type Container } from './header.ts';
 import { sizePatches } from './sizes.ts';
 
 export interface RepairResult {
@@ -16,11 +16,6 @@ export interface RepairResult {
   droppedBytes: number;
   /** False when the header was already right and nothing was written. */
   changed: boolean;
-}
-
-function looksLikeChunk(head: Uint8Array): boolean {
-  for (let i = 0; i < 4; i++) if (head[i] < 0x20 || head[i] > 0x7e) return false;
-  return true;
 }
 
 export async function repairWav(path: string): Promise<RepairResult> {
@@ -37,7 +32,7 @@ export async function repairWav(path: string): Promise<RepairResult> {
     if (layout.declaredDataBytes > 0 && declaredEnd + 8 <= layout.fileBytes) {
       const next = new Uint8Array(8);
       await fh.read(next, 0, 8, declaredEnd + (layout.declaredDataBytes & 1));
-      if (looksLikeChunk(next)) {
+      if (isChunkId(next)) {
         throw new WavError('WAV_MISUSE', `${path}: a chunk follows the sample data, so its size is not from a crash; the file needs no repair.`);
       }
     }
