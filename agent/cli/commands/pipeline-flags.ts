@@ -5,6 +5,12 @@ import { UsageError } from '../usage-error.ts';
 import type { AveragingSpec, DetrendMode } from '../../core/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
+import { AlarmHook } from '../../alarms/alarm-hook.ts';
+import { parseBand } from '../../alarms/default-bands.ts';
+import { defaultRules, loadRules, type RulesConfig } from '../../alarms/rules.ts';
+import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
+import type { Detector } from '../../pipeline/types.ts';
+import type { Recorder } from '../../recorder/recorder.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
   { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
@@ -89,4 +95,47 @@ export function readRecordingFlags(args: ParsedArgs): {
     statusEvery: f['status-every'] as number,
     recorder: { rotateSeconds: f.rotate as number, preSeconds: f.pre as number, postSeconds: f.post as number },
   };
+}
+
+export const ALARM_FLAGS: FlagSpec[] = [
+  { name: 'baseline', kind: 'string', value: 'FILE', help: 'compare against this baseline (from `floorline baseline` or the dashboard)' },
+  { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for the band rules (default: decade bands and the whole usable band)' },
+  { name: 'rules', kind: 'string', value: 'FILE', help: 'alarm rules JSON (margins, timings, bands)' },
+  { name: 'events-out', kind: 'string', value: 'FILE', help: 'also append every event to this JSON Lines file' },
+];
+
+export interface AlarmFlagValues {
+  baseline?: BaselineFile;
+  baselinePath?: string;
+  rules: RulesConfig;
+  eventsOut?: string;
+}
+
+/** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
+export async function readAlarmFlags(args: ParsedArgs, command: string): Promise<AlarmFlagValues> {
+  const f = args.flags;
+  const rules = f.rules ? await loadRules(f.rules as string) : defaultRules();
+  const bands = (f.band as string[]).map((b) => {
+    try {
+      return parseBand(b);
+    } catch (err) {
+      throw new UsageError(`floorline ${command}: ${(err as Error).message}.`);
+    }
+  });
+  if (bands.length) rules.band.bands = bands;
+  const baselinePath = f.baseline as string | undefined;
+  const baseline = baselinePath ? await readBaseline(baselinePath) : undefined;
+  return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined };
+}
+
+/** The alarm detectors, asking the recorder (when there is one) for a capture on each raised alarm. */
+export function alarmDetectors(a: AlarmFlagValues, recorder: Recorder | undefined): Detector[] {
+  return [
+    new AlarmHook({
+      baseline: a.baseline,
+      baselineWhere: a.baselinePath,
+      rules: a.rules,
+      capture: recorder ? (sample, label) => recorder.capture(sample, label).file : undefined,
+    }),
+  ];
 }

@@ -2,7 +2,7 @@
 import { createWriteStream } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { PIPELINE_FLAGS, RECORDING_FLAGS, readPipelineFlags, readRecordingFlags } from './pipeline-flags.ts';
+import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, alarmDetectors, readAlarmFlags, readPipelineFlags, readRecordingFlags } from './pipeline-flags.ts';
 import { Pipeline } from '../../pipeline/pipeline.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
@@ -13,6 +13,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   const f = args.flags;
   const flags = readPipelineFlags(args, 'replay');
   const rec = readRecordingFlags(args);
+  const alarms = await readAlarmFlags(args, 'replay');
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
     throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);
@@ -43,6 +44,8 @@ async function runReplay(args: ParsedArgs): Promise<number> {
       statusEvery: rec.statusEvery,
       quiet: f.quiet as boolean,
       frames: () => source.fileInfo?.frames,
+      detectors: (recorder) => alarmDetectors(alarms, recorder),
+      eventsOut: alarms.eventsOut,
     });
   } catch (err) {
     const e = err as Error & { exitCode?: number };
@@ -78,6 +81,7 @@ export const replayCommand: CommandSpec = {
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
     { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
+    ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,
   ],

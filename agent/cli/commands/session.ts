@@ -8,6 +8,7 @@ import type { Detector } from '../../pipeline/types.ts';
 import { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
 import { Recorder, type RecorderOptions } from '../../recorder/recorder.ts';
 import { repairRecordings } from '../../recorder/repair-on-start.ts';
+import { EventLog } from '../../events/event-log.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
 
 export interface SessionOptions {
@@ -25,8 +26,8 @@ export interface SessionOptions {
   frames?: () => number | undefined;
   /** Builds the detectors once the recorder exists (so alarms can ask it for captures). */
   detectors?: (recorder: Recorder | undefined, folder: DataFolder) => Detector[];
-  /** Extra event sinks (event log, --events-out). */
-  onEvent?: (e: FloorlineEvent) => void;
+  /** Also append every event to this file (besides the data folder's events.jsonl). */
+  eventsOut?: string;
   /** Starts the dashboard server when given; returns its URL and a close function. */
   serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined }) => Promise<{ url: string; close(): Promise<void> }>;
 }
@@ -45,6 +46,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
   const { pipeline, source } = o;
   const folder = dataFolderAt(o.dataDir);
   let recorder: Recorder | undefined;
+  let folderOk = false;
   const needsFolder = o.record || o.serve !== undefined || o.detectors !== undefined;
   if (needsFolder) {
     try {
@@ -52,6 +54,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
       const repair = await repairRecordings(folder);
       for (const r of repair.repaired) process.stderr.write(`floorline ${o.command}: repaired ${r.file} left by a crash (${r.frames} frames kept)\n`);
       for (const f of repair.failed) process.stderr.write(`floorline ${o.command}: could not repair ${f.file}: ${f.error}\n`);
+      folderOk = true;
       recorder = new Recorder(folder, o.recorder);
       recorder.attach(pipeline);
     } catch (err) {
@@ -63,10 +66,12 @@ export async function startSession(o: SessionOptions): Promise<Session> {
   else if (o.record) process.stderr.write(`floorline ${o.command}: recording failed: no usable data folder at ${folder.root}.\n`);
   for (const d of o.detectors?.(recorder, folder) ?? []) pipeline.addDetector(d);
 
+  const logPaths = [...(folderOk && o.detectors ? [folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
+  const log = logPaths.length ? new EventLog(logPaths) : undefined;
   const digest = new SnapshotDigest();
   pipeline.on('snapshot', (s) => digest.add(s));
-  pipeline.on('event', (e) => {
-    o.onEvent?.(e);
+  pipeline.on('event', (e: FloorlineEvent) => {
+    log?.write(e);
     if (!o.quiet) process.stdout.write(describeEvent(e) + '\n');
   });
   pipeline.on('info', (info) => {
@@ -92,6 +97,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
       process.off('SIGINT', onSignal);
       process.off('SIGTERM', onSignal);
       recorder?.close();
+      log?.close();
       await server?.close();
     }
     if (!o.quiet || o.command === 'replay') printSummary(pipeline, performance.now() - wall0, digest, recorder);
