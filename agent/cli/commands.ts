@@ -3,5 +3,6 @@ import type { CommandSpec } from './args.ts';
 import { replayCommand } from './commands/replay.ts';
 import { analyzeCommand } from './commands/analyze.ts';
 import { simulateCommand } from './commands/simulate.ts';
+import { baselineCommand } from './commands/baseline.ts';
 
-export const commands: CommandSpec[] = [replayCommand, analyzeCommand, simulateCommand];
+export const commands: CommandSpec[] = [replayCommand, analyzeCommand, simulateCommand, baselineCommand];

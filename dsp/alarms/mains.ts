@@ -1,7 +1,8 @@
 // Mains tracker and harmonic classifier. The supply frequency stays within ±0.2 Hz of 50 or 60 Hz in normal
 // operation (EN 50160: 50 Hz ± 1 % for 99.5 % of a year on interconnected grids; the tighter ±0.2 Hz is typical
-// practice for synchronous grids, used here as the search range). The fundamental is measured from the lines the
-// spur finder reports (the fundamental itself, or else the strongest harmonic divided by its order), and a line is
+// practice for synchronous grids, used here as the search range). Mains counts as present only with a line at
+// harmonic 1, 2 or 3 of the nominal (a lone line near 700 Hz is as likely an unrelated tone as a 14th harmonic).
+// The fundamental is measured from the strongest of those lines divided by its order, and a line is
 // classified as harmonic k when |f − k·f0| ≤ Δf/2 + k·δ: the tolerance widens with k because an error δ in f0
 // grows k-fold at the k-th harmonic.
 
@@ -9,6 +10,8 @@ export type MainsSetting = 'auto' | 50 | 60;
 
 /** Search half-range around the nominal fundamental, Hz. */
 export const MAINS_RANGE_HZ = 0.2;
+/** Mains counts as present only with a line at one of these low orders. */
+export const PRESENCE_MAX_ORDER = 3;
 /** Per-order tolerance once f0 has been measured from a line (interpolated frequency error), Hz. */
 export const MEASURED_F0_TOLERANCE_HZ = 0.05;
 
@@ -23,9 +26,9 @@ export class MainsClassifier {
   readonly setting: MainsSetting;
   readonly binHz: number;
   readonly maxHarmonic: number;
-  /** Measured (or nominal) fundamental of the last classify(), Hz; 0 when no mains line was seen. */
+  /** Measured fundamental of the last classify(), Hz; 0 when no mains line was seen. */
   fundamental = 0;
-  /** True when `fundamental` was measured from a line rather than taken as nominal. */
+  /** True when mains was found (then `fundamental` is measured from a line). */
   measured = false;
   /** Harmonic order per line of the last classify() (0 = not mains). */
   readonly harmonic: Int32Array;
@@ -58,9 +61,13 @@ export class MainsClassifier {
       nominal = s60 > s50 ? 60 : 50;
     } else nominal = this.setting;
     const f0 = this.measure(nominal, freq, amp, count);
-    this.measured = f0 > 0;
-    this.fundamental = f0 > 0 ? f0 : nominal;
-    const delta = this.measured ? MEASURED_F0_TOLERANCE_HZ : MAINS_RANGE_HZ;
+    if (f0 === 0) {
+      this.reset(count);
+      return;
+    }
+    this.measured = true;
+    this.fundamental = f0;
+    const delta = MEASURED_F0_TOLERANCE_HZ;
     let total = 0;
     let odd = 0;
     let even = 0;
@@ -85,21 +92,21 @@ export class MainsClassifier {
     this.total = this.odd = this.even = 0;
   }
 
-  /** Line power explained by harmonics of a nominal frequency within the normal range. */
+  /** Line power at the low orders (1..3) of a nominal frequency within the normal range. */
   private score(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
     let s = 0;
     for (let i = 0; i < count; i++) {
-      if (harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, this.maxHarmonic) > 0) s += amp[i] * amp[i];
+      if (harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, PRESENCE_MAX_ORDER) > 0) s += amp[i] * amp[i];
     }
     return s;
   }
 
-  /** f0 from the strongest line that is a harmonic of the nominal within range, divided by its order; 0 if none. */
+  /** f0 from the strongest line at a low order (1..3) of the nominal within range, divided by its order; 0 if none. */
   private measure(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
     let best = -1;
     let bestK = 0;
     for (let i = 0; i < count; i++) {
-      const k = harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, this.maxHarmonic);
+      const k = harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, PRESENCE_MAX_ORDER);
       if (k > 0 && (best < 0 || amp[i] > amp[best])) {
         best = i;
         bestK = k;

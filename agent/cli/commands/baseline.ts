@@ -1,0 +1,110 @@
+// `floorline baseline FILE -o BASELINE.json`: capture a baseline (averaged density, band powers, settling check)
+// from a recording, with the same analysis settings the live pipeline will use.
+import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { InputError, UsageError } from '../usage-error.ts';
+import { PIPELINE_FLAGS } from './pipeline-flags.ts';
+import type { AnalysisSettings, DetrendMode } from '../../core/settings.ts';
+import { WavReader } from '../../wav/reader.ts';
+import { parseWindowName, makeWindow } from '../../../dsp/windows.ts';
+import { BaselineCapture } from '../../baseline/capture.ts';
+import { writeBaseline } from '../../baseline/format.ts';
+import { defaultBands, parseBand } from '../../alarms/default-bands.ts';
+
+const ANALYSIS_FLAG_NAMES = ['segment', 'window', 'overlap', 'detrend'];
+
+async function runBaseline(args: ParsedArgs): Promise<number> {
+  const [file] = args.positionals;
+  const f = args.flags;
+  const out = f.out as string | undefined;
+  if (!out) throw new UsageError('floorline baseline: missing -o FILE (where to write the baseline), e.g. -o floorline-data/baselines/rig.json.');
+  const segment = f.segment as number;
+  if ((segment & (segment - 1)) !== 0) {
+    throw new UsageError(`floorline baseline: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`);
+  }
+  let window: string;
+  try {
+    window = parseWindowName(f.window as string);
+  } catch (err) {
+    throw new UsageError(`floorline baseline: --window: ${(err as Error).message}.`);
+  }
+  const bandsGiven = (f.band as string[]).map((b) => {
+    try {
+      return parseBand(b);
+    } catch (err) {
+      throw new UsageError(`floorline baseline: ${(err as Error).message}.`);
+    }
+  });
+  let reader: WavReader;
+  try {
+    reader = await WavReader.open(file, { scale: f.scale as number | undefined });
+  } catch (err) {
+    throw new InputError(`floorline baseline: ${(err as Error).message}`);
+  }
+  try {
+    const info = reader.info;
+    for (const w of info.warnings) process.stderr.write(`floorline baseline: warning: ${w}\n`);
+    const settings: AnalysisSettings = {
+      sampleRate: info.sampleRate, segment, window, overlap: f.overlap as number, detrend: f.detrend as DetrendMode,
+    };
+    const skip = Math.round(((f['start-time'] as number | undefined) ?? 0) * info.sampleRate);
+    const available = info.frames - skip;
+    const wanted = f.seconds !== undefined ? Math.round((f.seconds as number) * info.sampleRate) : available;
+    if (wanted > available) {
+      throw new InputError(`floorline baseline: ${file} holds ${(available / info.sampleRate).toFixed(2)} s after the start; ask for at most that with --seconds.`);
+    }
+    const lobe = makeWindow(window, segment).mainLobeHalfWidth;
+    for (const b of bandsGiven) {
+      if (b.high > info.sampleRate / 2) throw new UsageError(`floorline baseline: --band ${b.low}:${b.high} reaches past Nyquist (${info.sampleRate / 2} Hz); lower HI.`);
+    }
+    let capture: BaselineCapture;
+    try {
+      capture = new BaselineCapture({
+        settings,
+        channels: info.channels.map((c) => ({ name: c.name, unit: c.unit })),
+        firstSample: info.firstSample + skip,
+        samples: wanted,
+        bands: bandsGiven.length ? bandsGiven : defaultBands(info.sampleRate, segment, lobe),
+        source: file,
+        notes: (f.notes as string | undefined) ?? '',
+      });
+    } catch (err) {
+      throw new InputError(`floorline baseline: ${file}: ${(err as Error).message}.`);
+    }
+    for (let b = await reader.read(); b && !capture.push(b); b = await reader.read());
+    const baseline = capture.result(new Date().toISOString());
+    await writeBaseline(out, baseline);
+    const c0 = baseline.channels[0];
+    process.stdout.write(
+      `baseline ${out}: ${baseline.channels.length} channel(s), ${baseline.span.seconds.toFixed(2)} s from sample ${baseline.span.firstSample}, ` +
+        `${c0.segments} segments (${c0.equivalentAverages.toFixed(1)} equivalent averages), settings ${baseline.settingsHash}\n`,
+    );
+    for (const w of baseline.settling.warnings) process.stderr.write(`floorline baseline: warning: ${w}\n`);
+    return 0;
+  } finally {
+    await reader.close();
+  }
+}
+
+export const baselineCommand: CommandSpec = {
+  name: 'baseline',
+  summary: "capture a noise-floor baseline from a recording, for the alarms to compare against",
+  details: [
+    'Stores the analysis settings and their hash, per channel the mean-averaged density with its equivalent number of',
+    'averages (Welch 1967) and the band RMS values, the capture span in sample time, notes, and a settling check:',
+    'when the floor differs between the two halves of the span beyond their statistical spread, a warning is printed',
+    'and recorded in the file. Use the same --segment/--window/--overlap/--detrend as the live run: a baseline with',
+    'other settings is refused at comparison time, naming the setting.',
+    'Example: floorline baseline quiet.wav -o floorline-data/baselines/rig.json --notes "LNA on, lid closed"',
+  ].join('\n'),
+  positionals: [{ name: 'FILE', help: 'WAV recording of the quiet rig', required: true }],
+  flags: [
+    { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'where to write the baseline JSON (required)' },
+    { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz to store (default: decade bands and the whole usable band)' },
+    { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'skip this many seconds of the recording first' },
+    { name: 'seconds', kind: 'number', value: 'S', min: 0, help: 'length of the span (default: the rest of the file)' },
+    { name: 'scale', kind: 'number', value: 'V', min: Number.MIN_VALUE, help: 'volts per full scale for integer PCM or unlabelled float files' },
+    { name: 'notes', kind: 'string', value: 'TEXT', help: 'free text stored with the baseline' },
+    ...PIPELINE_FLAGS.filter((fl) => ANALYSIS_FLAG_NAMES.includes(fl.name)),
+  ],
+  run: runBaseline,
+};
