@@ -10,6 +10,13 @@ import { Tone } from '../../dsp/synth/tone.ts';
 import { WhiteNoise } from '../../dsp/synth/white-noise.ts';
 import type { BoardDescriptor } from '../framing/descriptor.ts';
 import { framesPerFrame, type ChannelSpec, type Scenario, type SignalSpec } from './scenario.ts';
+import { GatedComponent } from './gate.ts';
+
+/** Tones and mains with start/end are switched on only then (agent/sim/gate.ts). */
+function gated(s: SignalSpec, comp: SynthComponent, rate: number): SynthComponent {
+  if ((s.kind !== 'tone' && s.kind !== 'mains') || (s.start === undefined && s.end === undefined)) return comp;
+  return new GatedComponent(comp, s.start ?? 0, s.end ?? Infinity, rate);
+}
 
 function makeComponent(s: SignalSpec, ch: ChannelSpec, rate: number, seed: number): SynthComponent {
   switch (s.kind) {
@@ -52,7 +59,7 @@ export class ScenarioPlayer {
     this.clipped = scenario.channels.map(() => 0);
     // Each signal draws from its own stream, so adding one signal leaves the others' samples unchanged.
     this.components = scenario.channels.map((ch, c) =>
-      ch.signals.map((s, k) => makeComponent(s, ch, scenario.rate, deriveSeed(seed, 1000 * c + k))),
+      ch.signals.map((s, k) => gated(s, makeComponent(s, ch, scenario.rate, deriveSeed(seed, 1000 * c + k)), scenario.rate)),
     );
   }
 

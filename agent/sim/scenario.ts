@@ -6,8 +6,8 @@ import { SAMPLE_FORMATS, formatFullScale, maxFramesPerFrame, MAX_CHANNELS, type 
 export type SignalSpec =
   | { kind: 'white'; density: number }
   | { kind: 'flicker'; density: number; corner: number; lowest?: number }
-  | { kind: 'tone'; frequency: number; rms: number; phase?: number }
-  | { kind: 'mains'; fundamental: number; harmonics: number[]; drift?: { span: number; period: number } }
+  | { kind: 'tone'; frequency: number; rms: number; phase?: number; start?: number; end?: number }
+  | { kind: 'mains'; fundamental: number; harmonics: number[]; drift?: { span: number; period: number }; start?: number; end?: number }
   | { kind: 'band-step'; density: number; low: number; high: number; start: number; end: number }
   | { kind: 'overload'; start: number; end: number; frequency: number; overdrive: number };
 
@@ -101,6 +101,12 @@ function parseSignal(ck: Checker, v: unknown, path: string, rate: number): Signa
     const end = ck.num(o, 'end', path, { above: start });
     return { start, end };
   };
+  // Optional on/off times for lines (tone, mains): absent = present all the time; end absent = to the end.
+  const optionalSpan = (): { start?: number; end?: number } => {
+    if (o.start === undefined && o.end === undefined) return {};
+    const start = o.start === undefined ? 0 : ck.num(o, 'start', path, { min: 0 });
+    return o.end === undefined ? { start } : { start, end: ck.num(o, 'end', path, { above: start }) };
+  };
   switch (o.kind) {
     case 'white':
       ck.keys(o, ['kind', 'density'], path);
@@ -111,12 +117,12 @@ function parseSignal(ck: Checker, v: unknown, path: string, rate: number): Signa
       return { kind: 'flicker', density: ck.num(o, 'density', path, { min: 0 }), corner: ck.num(o, 'corner', path, { above: 0 }), ...(Number.isNaN(lowest) ? {} : { lowest }) };
     }
     case 'tone': {
-      ck.keys(o, ['kind', 'frequency', 'rms', 'phase'], path);
+      ck.keys(o, ['kind', 'frequency', 'rms', 'phase', 'start', 'end'], path);
       const phase = ck.num(o, 'phase', path, { optional: true });
-      return { kind: 'tone', frequency: freq('frequency'), rms: ck.num(o, 'rms', path, { min: 0 }), ...(Number.isNaN(phase) ? {} : { phase }) };
+      return { kind: 'tone', frequency: freq('frequency'), rms: ck.num(o, 'rms', path, { min: 0 }), ...(Number.isNaN(phase) ? {} : { phase }), ...optionalSpan() };
     }
     case 'mains': {
-      ck.keys(o, ['kind', 'fundamental', 'harmonics', 'drift'], path);
+      ck.keys(o, ['kind', 'fundamental', 'harmonics', 'drift', 'start', 'end'], path);
       const fundamental = freq('fundamental');
       const harmonics = ck.arr(o, 'harmonics', path);
       if (harmonics.length === 0) ck.fail(`${path}.harmonics`, 'must list the RMS of the fundamental and any harmonics, e.g. [2e-6, 5e-7]');
@@ -132,7 +138,7 @@ function parseSignal(ck: Checker, v: unknown, path: string, rate: number): Signa
       if (harmonics.length * (fundamental + (drift?.span ?? 0)) >= nyq) {
         ck.fail(`${path}.harmonics`, `has ${harmonics.length} entries; the top one reaches Nyquist (${nyq} Hz); list fewer`);
       }
-      return { kind: 'mains', fundamental, harmonics: harmonics as number[], ...(drift ? { drift } : {}) };
+      return { kind: 'mains', fundamental, harmonics: harmonics as number[], ...(drift ? { drift } : {}), ...optionalSpan() };
     }
     case 'band-step': {
       ck.keys(o, ['kind', 'density', 'low', 'high', 'start', 'end'], path);
