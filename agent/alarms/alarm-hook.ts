@@ -25,12 +25,18 @@ export class AlarmHook implements Detector {
   private set: Detectors | undefined;
   private hash = '';
   private baselineDropped = false;
+  private readonly onBuild: ((d: Detectors) => void)[] = [];
 
   constructor(private readonly o: AlarmHookOptions = {}) {}
 
   /** The current detector set (after the first snapshot), for acknowledge/shelve and status. */
   get detectors(): Detectors | undefined {
     return this.set;
+  }
+
+  /** Runs `fn` on each detector set as it is built (e.g. to apply shelving from the first snapshot on). */
+  whenBuilt(fn: (d: Detectors) => void): void {
+    this.onBuild.push(fn);
   }
 
   onInfo(info: StreamInfo): void {
@@ -78,5 +84,6 @@ export class AlarmHook implements Detector {
       startWallTime: this.info?.startWallTime,
     }, { capture: this.o.capture }, this.o.baselineWhere);
     this.hash = settingsHash(snap.settings);
+    for (const fn of this.onBuild) fn(this.set);
   }
 }

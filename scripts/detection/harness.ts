@@ -162,13 +162,17 @@ export function runScenario(o: {
   rampSeconds?: number;
   seconds: number;
   seed: number;
+  /** Access to the detector hook before the run (acknowledge/shelve tests). */
+  onHook?: (hook: AlarmHook) => void;
 }): RunResult {
   const { bench } = o;
   const onset = Math.round(o.onsetSeconds * bench.sampleRate);
   const total = Math.round(o.seconds * bench.sampleRate);
   const g = generator(bench, o.fault, o.seed, onset, o.seconds, Math.round((o.rampSeconds ?? 0) * bench.sampleRate));
   const p = new Pipeline({ analysis: bench.analysis, averaging: bench.averaging, mode: 'lossless' });
-  p.addDetector(new AlarmHook({ baseline: o.baseline, rules: o.rules }));
+  const hook = new AlarmHook({ baseline: o.baseline, rules: o.rules });
+  o.onHook?.(hook);
+  p.addDetector(hook);
   const events: FloorlineEvent[] = [];
   p.on('event', (e) => events.push(e));
   let snapshots = 0;
