@@ -2,7 +2,8 @@
 import type { CommandSpec } from './args.ts';
 import { replayCommand } from './commands/replay.ts';
 import { analyzeCommand } from './commands/analyze.ts';
+import { repairCommand } from './commands/repair.ts';
 import { simulateCommand } from './commands/simulate.ts';
 import { baselineCommand } from './commands/baseline.ts';
 
-export const commands: CommandSpec[] = [replayCommand, analyzeCommand, simulateCommand, baselineCommand];
+export const commands: CommandSpec[] = [replayCommand, analyzeCommand, repairCommand, simulateCommand, baselineCommand];

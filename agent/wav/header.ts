@@ -95,7 +95,7 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
       // recording that crashed. Stop here rather than walk them 8 bytes at a time.
       warnings.push(
         `${path}: ${fileBytes - pos} bytes after offset ${pos} are not RIFF chunks and were ignored ` +
-          `(samples written after the last header update of an interrupted recording? repairing the file recovers them).`,
+          `(samples written after the last header update of an interrupted recording? \`floorline repair FILE\` recovers them).`,
       );
       break;
     }
