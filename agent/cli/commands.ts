@@ -4,6 +4,7 @@ import { replayCommand } from './commands/replay.ts';
 import { analyzeCommand } from './commands/analyze.ts';
 import { repairCommand } from './commands/repair.ts';
 import { simulateCommand } from './commands/simulate.ts';
+import { portsCommand } from './commands/ports.ts';
 import { baselineCommand } from './commands/baseline.ts';
 
-export const commands: CommandSpec[] = [replayCommand, analyzeCommand, repairCommand, simulateCommand, baselineCommand];
+export const commands: CommandSpec[] = [replayCommand, analyzeCommand, repairCommand, simulateCommand, portsCommand, baselineCommand];

@@ -1,6 +1,6 @@
 // Real pseudo-terminal pairs from socat, and the simulator CLI, for the serial integration tests.
 import { spawn, type ChildProcess } from 'node:child_process';
-import { existsSync } from 'node:fs';
+import { existsSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import type { SampleBlock, SourceSink, StreamInfo, GapNotice, LinkNotice } from '../../agent/core/stream.ts';
 
@@ -21,6 +21,9 @@ export class PtyPair {
   constructor(readonly board: string, readonly host: string) {}
 
   async start(): Promise<void> {
+    // Links left dangling by a killed socat would make the new one fail to create them.
+    rmSync(this.board, { force: true });
+    rmSync(this.host, { force: true });
     this.proc = spawn('socat', ['-d', '-d', `pty,raw,echo=0,link=${this.board}`, `pty,raw,echo=0,link=${this.host}`], { stdio: 'ignore' });
     await waitFor('socat pty links', () => existsSync(this.board) && existsSync(this.host), 5000);
   }
