@@ -1,4 +1,5 @@
-// Detrend and window one segment in a single pass: out[n] = (x[n] − trend[n])·w[n].
+// Detrend and window one segment: out[n] = (x[n] − trend[n])·w[n]. fit() finds the trend; the Welch hot path
+// folds the subtraction and the window into the FFT's load (RealFftPower.windowedPower), apply() is the plain form.
 // 'mean' removes the sample mean (scipy.signal.detrend type='constant'); 'linear' removes the least-squares line
 // over n = 0..N−1 (scipy type='linear'). With t = n − (N−1)/2 the fit decouples: slope = Σt·x / Σt², offset =
 // mean(x), so no matrix solve is needed. The mean is summed in numpy's pairwise order so that a large offset
@@ -21,6 +22,9 @@ export class SegmentConditioner {
   private readonly window: Float64Array;
   /** Σ t² with t = n − (N−1)/2, i.e. N(N²−1)/12. */
   private readonly sumT2: number;
+  /** Trend of the last segment given to fit(): out[n] = (x[n] − mean − slope·(n − (N−1)/2))·w[n]. */
+  mean = 0;
+  slope = 0;
 
   constructor(window: Float64Array, mode: DetrendMode) {
     this.mode = validateDetrend(mode);
@@ -30,23 +34,34 @@ export class SegmentConditioner {
     this.sumT2 = (n * (n * n - 1)) / 12;
   }
 
-  /** Writes the detrended, windowed copy of src[offset..offset+N) into out[0..N). */
-  apply(src: Float64Array, offset: number, out: Float64Array): void {
+  /** Fits the trend of src[offset..offset+N) for the chosen mode (zero for 'none') into mean and slope. */
+  fit(src: Float64Array, offset: number): void {
     const n = this.length;
-    const w = this.window;
     if (this.mode === 'none') {
-      for (let i = 0; i < n; i++) out[i] = src[offset + i] * w[i];
+      this.mean = 0;
+      this.slope = 0;
       return;
     }
     const mean = pairwiseSum(src, offset, n) / n;
+    this.mean = mean;
     if (this.mode === 'mean') {
-      for (let i = 0; i < n; i++) out[i] = (src[offset + i] - mean) * w[i];
+      this.slope = 0;
       return;
     }
     const centre = (n - 1) / 2;
     let sxt = 0;
     for (let i = 0; i < n; i++) sxt += (src[offset + i] - mean) * (i - centre);
-    const slope = sxt / this.sumT2;
+    this.slope = sxt / this.sumT2;
+  }
+
+  /** Writes the detrended, windowed copy of src[offset..offset+N) into out[0..N) (the unfused form). */
+  apply(src: Float64Array, offset: number, out: Float64Array): void {
+    this.fit(src, offset);
+    const n = this.length;
+    const w = this.window;
+    const mean = this.mean;
+    const slope = this.slope;
+    const centre = (n - 1) / 2;
     for (let i = 0; i < n; i++) out[i] = (src[offset + i] - mean - slope * (i - centre)) * w[i];
   }
 }

@@ -6,7 +6,7 @@
 import type { AveragingSpec, DetrendMode } from '../agent/core/settings.ts';
 import { makeAverager, validateAveraging, type Averager } from './averaging.ts';
 import { SegmentConditioner, validateDetrend } from './detrend.ts';
-import { RealFft } from './rfft.ts';
+import { RealFftPower } from './real-fft-power.ts';
 import { makeWindow, type WindowInfo } from './windows.ts';
 
 export type Scaling = 'density' | 'spectrum';
@@ -50,11 +50,10 @@ export class WelchEstimator {
   /** Absolute index of the last sample of the newest completed segment, −1 if none. */
   lastSegmentSample = -1;
 
-  private readonly fft: RealFft;
+  private readonly fft: RealFftPower;
   private readonly conditioner: SegmentConditioner;
   private readonly averager: Averager;
   private readonly pending: Float64Array;
-  private readonly windowed: Float64Array;
   private readonly power: Float64Array;
   /** Per-bin factor turning raw |X|² into the one-sided density or spectrum. */
   private readonly scale: Float64Array;
@@ -98,11 +97,10 @@ export class WelchEstimator {
     this.frequencies = new Float64Array(this.bins);
     for (let k = 0; k < this.bins; k++) this.frequencies[k] = k * this.binHz;
 
-    this.fft = new RealFft(segment);
+    this.fft = new RealFftPower(segment);
     this.conditioner = new SegmentConditioner(this.window.values, this.detrend);
     this.averager = makeAverager(this.averaging, this.bins, this.step / sampleRate);
     this.pending = new Float64Array(segment);
-    this.windowed = new Float64Array(segment);
     this.power = new Float64Array(this.bins);
     this.scale = oneSidedScale(this.window.values, sampleRate, scaling);
     this.rho = overlapRho(this.window.values, this.step);
@@ -130,9 +128,12 @@ export class WelchEstimator {
     }
     const pending = this.pending;
     const segment = this.segment;
+    const step = this.step;
+    const base = this.nextSample; // absolute index of samples[start]
     let completed = 0;
     let i = start;
-    while (i < end) {
+    // Pending path: finish a segment that began in an earlier block (and every segment of Float32 input).
+    while (i < end && (this.fill > 0 || !is64)) {
       const take = Math.min(end - i, segment - this.fill);
       if (is64) copy64(samples, i, pending, this.fill, take);
       else copy32(samples as Float32Array, i, pending, this.fill, take);
@@ -140,11 +141,31 @@ export class WelchEstimator {
       i += take;
       this.nextSample += take;
       if (this.fill === segment) {
-        this.processSegment();
+        this.processSegment(pending, 0, this.nextSample - 1);
         completed++;
-        pending.copyWithin(0, this.step, segment);
-        this.fill = this.noverlap;
+        const nextStart = this.nextSample - this.noverlap;
+        if (is64 && nextStart >= base) {
+          // The next segment lies wholly in this block: read it in place from here on.
+          i -= this.noverlap;
+          this.fill = 0;
+        } else {
+          pending.copyWithin(0, step, segment);
+          this.fill = this.noverlap;
+        }
       }
+    }
+    if (this.fill === 0 && is64) {
+      // Direct path: segments read in place from the caller's array; no copy.
+      const x = samples as Float64Array;
+      while (i + segment <= end) {
+        this.processSegment(x, i, base + (i - start) + segment - 1);
+        completed++;
+        i += step;
+      }
+      const rest = end - i;
+      copy64(x, i, pending, 0, rest);
+      this.fill = rest;
+      this.nextSample = base + (end - start);
     }
     return completed;
   }
@@ -201,12 +222,13 @@ export class WelchEstimator {
     this.lastSegmentSample = -1;
   }
 
-  private processSegment(): void {
-    this.conditioner.apply(this.pending, 0, this.windowed);
-    this.fft.power(this.windowed, this.power);
+  private processSegment(src: Float64Array, offset: number, lastSample: number): void {
+    const c = this.conditioner;
+    c.fit(src, offset);
+    this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
     this.averager.add(this.power);
     this.segmentsTotal++;
-    this.lastSegmentSample = this.nextSample - 1;
+    this.lastSegmentSample = lastSample;
   }
 }
 
