@@ -3,14 +3,27 @@
 // ρ(s) = (Σ w[n]·w[n+s])² / (Σw²)² the squared overlap correlation of the window at a shift of s samples.
 import { overlapCorrelation } from '../windows.ts';
 
-export function equivalentAverages(window: Float64Array, step: number, segments: number): number {
-  if (segments <= 1) return segments;
+/** ρ(l·D) for l = 1, 2, … while the shifted segments still overlap. */
+export function overlapCorrelations(window: Float64Array, step: number): Float64Array {
   let sumSq = 0;
   for (let i = 0; i < window.length; i++) sumSq += window[i] * window[i];
-  let factor = 1;
-  for (let l = 1; l < segments && l * step < window.length; l++) {
+  const lags = Math.max(0, Math.ceil(window.length / step) - 1);
+  const rho = new Float64Array(lags);
+  for (let l = 1; l <= lags; l++) {
     const oc = overlapCorrelation(window, l * step, sumSq);
-    factor += 2 * (1 - l / segments) * oc * oc;
+    rho[l - 1] = oc * oc;
   }
+  return rho;
+}
+
+/** K_eq for `segments` consecutive segments, from the correlations of overlapCorrelations(). */
+export function equivalentFromCorrelations(rho: Float64Array, segments: number): number {
+  if (segments <= 1) return segments;
+  let factor = 1;
+  for (let l = 1; l < segments && l <= rho.length; l++) factor += 2 * (1 - l / segments) * rho[l - 1];
   return segments / factor;
+}
+
+export function equivalentAverages(window: Float64Array, step: number, segments: number): number {
+  return equivalentFromCorrelations(overlapCorrelations(window, step), segments);
 }
