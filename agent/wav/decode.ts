@@ -4,18 +4,19 @@ import type { SampleEncoding } from './format.ts';
 
 /**
  * Decodes `frames` frames starting at byte 0 of `bytes` into out[c][outStart + i] = sample(i, c) * factor[c].
- * `bytes` must hold frames × channels × bytes-per-sample bytes.
+ * `bytes` must hold frames × channels × bytes-per-sample bytes; `view` is a DataView over the same bytes (the
+ * caller keeps one, so a block allocates nothing).
  */
 export function decodeFrames(
   encoding: SampleEncoding,
   bytes: Uint8Array,
+  view: DataView,
   frames: number,
   out: Float64Array[],
   factor: Float64Array,
   outStart = 0,
 ): void {
   const channels = out.length;
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   for (let c = 0; c < channels; c++) {
     const dst = out[c];
     const k = factor[c];

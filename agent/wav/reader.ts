@@ -100,6 +100,7 @@ function describeChannels(layout: WavLayout, meta: RecordingMetadata | undefined
 export class WavReader {
   private position = 0; // next frame to read
   private readonly bytes: Uint8Array;
+  private readonly view: DataView;
   private readonly data: Float64Array[];
   private readonly factors: Float64Array;
   private readonly block: WavBlock;
@@ -111,6 +112,7 @@ export class WavReader {
     readonly blockFrames: number,
   ) {
     this.bytes = new Uint8Array(blockFrames * layout.format.blockAlign);
+    this.view = new DataView(this.bytes.buffer);
     this.data = info.channels.map(() => new Float64Array(blockFrames));
     this.factors = Float64Array.from(info.channels, (c) => c.factor);
     this.block = { firstSample: info.firstSample, frames: 0, data: this.data };
@@ -200,7 +202,7 @@ export class WavReader {
       this.position = this.info.frames;
       return null;
     }
-    decodeFrames(encoding, this.bytes, frames, this.data, this.factors);
+    decodeFrames(encoding, this.bytes, this.view, frames, this.data, this.factors);
     this.block.firstSample = this.info.firstSample + this.position;
     this.block.frames = frames;
     this.position += frames;

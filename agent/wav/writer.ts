@@ -133,14 +133,23 @@ export class WavWriter {
   }
 
   /**
-   * Appends `frames` frames from one array per channel (starting at `start` in each). Allocates nothing; writes
-   * to disk whenever the buffer fills. Samples are stored as float32.
+   * Appends `frames` frames from one array per channel (starting at `start` in each): Float64Array as pipeline
+   * blocks carry them, or Float32Array from a capture ring. Allocates nothing; writes to disk whenever the buffer
+   * fills. Samples are stored as float32.
    */
-  append(data: ArrayLike<number>[], frames: number, start = 0): void {
+  append(data: readonly (Float64Array | Float32Array)[], frames: number, start = 0): void {
     if (this.closed) throw new WavError('WAV_MISUSE', `${this.path}: append() after close().`);
     const channels = this.channels;
+    if (!(Number.isInteger(frames) && Number.isInteger(start) && frames >= 0 && start >= 0)) {
+      throw new RangeError(`WavWriter.append: frames and start must be non-negative integers, got ${frames} and ${start}`);
+    }
     if (data.length !== channels) {
       throw new WavError('WAV_MISUSE', `${this.path}: append() got ${data.length} channel arrays, the file has ${channels}.`);
+    }
+    for (let c = 0; c < channels; c++) {
+      if (start + frames > data[c].length) {
+        throw new RangeError(`WavWriter.append: channel ${c} has ${data[c].length} samples, fewer than start ${start} + frames ${frames}`);
+      }
     }
     const buf = this.interleaved;
     let done = 0;
@@ -148,7 +157,11 @@ export class WavWriter {
       const n = Math.min(frames - done, this.bufferFrames - this.pending);
       for (let c = 0; c < channels; c++) {
         const src = data[c];
-        for (let i = 0, s = start + done, d = this.pending * channels + c; i < n; i++, s++, d += channels) buf[d] = src[s];
+        const from = start + done;
+        const to = this.pending * channels + c;
+        // One loop per array type keeps each monomorphic.
+        if (src instanceof Float64Array) interleave64(src, from, buf, to, channels, n);
+        else interleave32(src, from, buf, to, channels, n);
       }
       this.pending += n;
       done += n;
@@ -215,4 +228,12 @@ export class WavWriter {
       throw wavIoError(err, target, 'write');
     }
   }
+}
+
+function interleave64(src: Float64Array, from: number, dst: Float32Array, to: number, stride: number, n: number): void {
+  for (let i = 0, s = from, d = to; i < n; i++, s++, d += stride) dst[d] = src[s];
+}
+
+function interleave32(src: Float32Array, from: number, dst: Float32Array, to: number, stride: number, n: number): void {
+  for (let i = 0, s = from, d = to; i < n; i++, s++, d += stride) dst[d] = src[s];
 }

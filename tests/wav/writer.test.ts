@@ -177,9 +177,24 @@ describe('WavWriter', () => {
     expect(wavIoError(e, '/srv/x.wav', 'create').message).toMatch(/\/srv\/x\.wav: no permission; choose a folder you can write/);
   });
 
+  it('takes Float32Array channels (a capture ring) as well, stored bit for bit', async () => {
+    const path = join(dir, 'ring.wav');
+    const data = signal(8, 3000).map((d) => Float32Array.from(d));
+    const w = new WavWriter(path, meta, { bufferFrames: 1024, durable: false });
+    w.append(data, 1000);
+    w.append(data, 2000, 1000);
+    w.close();
+    const got = await scipyRead(path); // scipy.io.wavfile.read
+    let bad = 0;
+    for (let i = 0; i < 3000; i++) for (let c = 0; c < 3; c++) if (got.samples[i * 3 + c] !== data[c][i]) bad++;
+    expect(got.frames).toBe(3000);
+    expect(bad).toBe(0);
+  });
+
   it('refuses appends with the wrong channel count or after close', () => {
     const w = new WavWriter(join(dir, 'misuse.wav'), meta, { durable: false });
     expect(() => w.append(signal(7, 10, 2), 10)).toThrow(/got 2 channel arrays, the file has 3/);
+    expect(() => w.append(signal(7, 10), 10, 5)).toThrow(/channel 0 has 10 samples, fewer than start 5 \+ frames 10/);
     w.close();
     expect(() => w.append(signal(7, 10), 10)).toThrow(/after close/);
   });
