@@ -28,6 +28,14 @@ export interface DetectorOptions {
   capture?: CaptureRequester;
 }
 
+export interface DetectorStatus {
+  channel: string;
+  bands: { low: number; high: number; levelDb: number; thresholdDb: number; active: boolean }[];
+  /** Mains fundamental (0 when none seen) and RMS totals of its harmonics: all, odd, even. */
+  mains: { fundamental: number; total: number; odd: number; even: number };
+  lines: { frequency: number; amplitude: number; heightDb: number; harmonic: number; firstSeen: number; lastSeen: number; active: boolean }[];
+}
+
 interface ChannelDetectors {
   name: string;
   band?: BandDetector;
@@ -77,6 +85,25 @@ export class Detectors {
   /** Bands evaluated on a channel (empty without a baseline). */
   bandsOf(channel: string): readonly { low: number; high: number }[] {
     return this.channels.find((c) => c.name === channel)?.band?.bands ?? [];
+  }
+
+  /** Latest readings per channel, for status pages and metrics: band levels against thresholds, mains, lines. */
+  status(): DetectorStatus[] {
+    return this.channels.map((c) => {
+      const cmp = c.band?.compare;
+      const m = c.spur.mains;
+      return {
+        channel: c.name,
+        bands: (cmp?.bands ?? []).map((b, i) => ({
+          low: b.low, high: b.high, levelDb: cmp!.levelDb[i], thresholdDb: cmp!.thresholdDb[i], active: c.band!.state(i).active,
+        })),
+        mains: { fundamental: m.fundamental, total: m.total, odd: m.odd, even: m.even },
+        lines: c.spur.tracked.map((t) => ({
+          frequency: t.frequency, amplitude: t.amplitude, heightDb: t.heightDb, harmonic: t.harmonic,
+          firstSeen: t.firstSeen, lastSeen: t.lastSeen, active: t.state.active,
+        })),
+      };
+    });
   }
 
   onSnapshot(snap: SnapshotLike): FloorlineEvent[] {

@@ -15,6 +15,7 @@ import type { AnalysisChoice } from '../../agent/pipeline/analyser.ts';
 import { BaselineCapture } from '../../agent/baseline/capture.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
 import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import type { DetectorStatus } from '../../agent/alarms/detectors.ts';
 import { defaultBands } from '../../agent/alarms/default-bands.ts';
 import type { RulesConfig } from '../../agent/alarms/rules.ts';
 import { makeWindow } from '../../dsp/windows.ts';
@@ -149,6 +150,8 @@ export interface RunResult {
   events: FloorlineEvent[];
   snapshots: number;
   samples: number;
+  /** The detectors' readings after the last snapshot. */
+  status?: DetectorStatus[];
 }
 
 /** Runs the pipeline with the detectors over `seconds` of floor + fault (switched on at onsetSeconds). */
@@ -185,7 +188,7 @@ export function runScenario(o: {
     p.block({ firstSample: first, frames: n, data: [buf] });
   }
   p.end();
-  return { events, snapshots, samples: total };
+  return { events, snapshots, samples: total, status: hook.detectors?.status() };
 }
 
 /** First raised alarm of `rule` at or after the onset, as latency in seconds; undefined if none. */

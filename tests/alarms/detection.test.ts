@@ -49,6 +49,14 @@ describe('detection on seeded recordings', () => {
       // Mains lines are not spurs, and their lobes are not a floor rise.
       expect(r.events.filter((e) => e.rule === 'spur' || e.rule === 'band-rise')).toEqual([]);
       if (level >= 1e-6) expect(r.events.some((e) => e.rule === 'mains' && e.harmonic === 3)).toBe(true);
+      // After 20 s of the 10 s exponential average (86 % of the step), the mains totals read the generator's lines:
+      // total² = A₁² + A₃², odd = total, even = 0 (RMS of uncorrelated lines adds in power, common practice).
+      const m = r.status![0].mains;
+      const trueTotal = Math.hypot(level, level / 3);
+      expect(m.total / trueTotal).toBeGreaterThan(Math.sqrt(1 - Math.exp(-20 / TAU)) * 0.95);
+      expect(m.total / trueTotal).toBeLessThan(1.05);
+      expect(m.even).toBe(0);
+      expect(m.odd).toBe(m.total);
     });
   }
 

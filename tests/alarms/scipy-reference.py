@@ -8,6 +8,7 @@ usage: scipy-reference.py COMMAND < JSON_ARGS
                  noise, and how often the ratio of two independent estimates exceeded the given threshold
   median      {"x": [...], "h": H} -> running median with a truncated window at the edges (numpy.median)
   tone-psd    {"fs", "n", "segment", "freq", "rms", "noise", "seed", "window"} -> scipy.signal.welch density
+  welch       {"x", "fs", "segment"} -> scipy.signal.welch density (Hann, 50 %, detrend constant)
   batch       [[COMMAND, ARGS], ...] -> list of answers (one python start for many references)
 """
 import json
@@ -55,11 +56,17 @@ def tone_psd(a):
     return {"f": f.tolist(), "psd": p.tolist()}
 
 
+def welch(a):
+    f, p = signal.welch(np.asarray(a["x"], dtype=float), fs=a["fs"], window="hann", nperseg=a["segment"],
+                        noverlap=a["segment"] // 2, detrend="constant", scaling="density")
+    return {"psd": p.tolist()}
+
+
 def batch(a):
     return [COMMANDS[c](args) for c, args in a]
 
 
-COMMANDS = {"quantiles": quantiles, "band-mc": band_mc, "median": median, "tone-psd": tone_psd, "batch": batch}
+COMMANDS = {"quantiles": quantiles, "band-mc": band_mc, "median": median, "tone-psd": tone_psd, "welch": welch, "batch": batch}
 
 if __name__ == "__main__":
     print(json.dumps(COMMANDS[sys.argv[1]](json.load(sys.stdin))))

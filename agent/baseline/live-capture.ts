@@ -1,0 +1,84 @@
+// Live baseline capture from a running pipeline (what the dashboard calls): takes the pipeline's calibrated blocks
+// for `seconds` of sample time from the next block on, with the analysis settings running now, and resolves with the
+// baseline. A gap drops the partial segment (the capture goes on); a settings change or the end of the stream
+// before the span is complete rejects.
+import type { Pipeline } from '../pipeline/pipeline.ts';
+import { makeWindow } from '../../dsp/windows.ts';
+import { settingsHash } from '../core/settings.ts';
+import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
+import { defaultBands } from '../alarms/default-bands.ts';
+import { BaselineCapture } from './capture.ts';
+import type { BaselineFile } from './format.ts';
+
+export interface LiveCaptureOptions {
+  seconds: number;
+  bands?: BandSpec[];
+  notes?: string;
+}
+
+export interface LiveCapture {
+  /** Resolves with the baseline when the span is complete. */
+  result: Promise<BaselineFile>;
+  /** Fraction of the span captured so far, 0..1. */
+  progress(): number;
+  cancel(): void;
+}
+
+export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapture {
+  const settings = pipeline.analysisSettings;
+  const stream = pipeline.stream;
+  if (!settings || !stream) throw new RangeError('baseline capture: the stream has not started yet; wait for data from the board');
+  if (!(o.seconds > 0)) throw new RangeError(`baseline capture: seconds must be > 0, got ${o.seconds}`);
+  const hash = settingsHash(settings);
+  const samples = Math.round(o.seconds * settings.sampleRate);
+  if (samples < 4 * settings.segment) {
+    throw new RangeError(`baseline capture: ${o.seconds} s is shorter than 4 segments (${((4 * settings.segment) / settings.sampleRate).toFixed(2)} s); capture longer`);
+  }
+  const bands = o.bands?.length ? o.bands : defaultBands(settings.sampleRate, settings.segment, makeWindow(settings.window, settings.segment).mainLobeHalfWidth);
+  let capture: BaselineCapture | undefined;
+  let taken = 0;
+  const offs: (() => void)[] = [];
+  const stop = (): void => {
+    for (const off of offs.splice(0)) off();
+  };
+  let cancel = (): void => {};
+  const result = new Promise<BaselineFile>((resolve, reject) => {
+    cancel = () => {
+      stop();
+      reject(new Error('baseline capture: cancelled'));
+    };
+    offs.push(
+      pipeline.on('block', (b) => {
+        const now = pipeline.analysisSettings;
+        if (!now || settingsHash(now) !== hash) {
+          stop();
+          reject(new Error('baseline capture: the analysis settings changed during the capture; start it again'));
+          return;
+        }
+        capture ??= new BaselineCapture({
+          settings, channels: stream.channels.map((c) => ({ name: c.name, unit: c.unit })), firstSample: b.firstSample,
+          samples, bands, source: `live ${stream.source.kind} ${stream.source.label}`, notes: o.notes,
+        });
+        taken = Math.min(samples, b.firstSample + b.frames - capture.firstSample);
+        if (capture.push(b)) {
+          stop();
+          try {
+            resolve(capture.result(pipeline.wallTimeAt(capture.endSample - 1)));
+          } catch (err) {
+            reject(err);
+          }
+        }
+      }),
+      pipeline.on('gap', (g) => capture?.gap(g.sample + g.lost)),
+      pipeline.on('end', () => {
+        stop();
+        reject(new Error(`baseline capture: the stream ended after ${(taken / settings.sampleRate).toFixed(1)} s of the ${o.seconds} s span`));
+      }),
+    );
+  });
+  return {
+    result,
+    progress: () => taken / samples,
+    cancel: () => cancel(),
+  };
+}

@@ -1,0 +1,137 @@
+// Measures, at default settings on the seeded bench, for each fault type: the detection rate per level over 20
+// seeds, the smallest level detected in at least 19 of 20, the latency there and at a strong level; and false alarms
+// per hour of quiet running. Prints DETECTION.md to stdout. Run: node scripts/detection/run.mjs
+import { DEFAULT_BENCH, captureQuietBaseline, detectionLatency, runScenario, type Bench, type Fault } from './harness.ts';
+import { parseRules } from '../../agent/alarms/rules.ts';
+import type { RulesConfig } from '../../agent/alarms/rules.ts';
+import type { BaselineFile } from '../../agent/baseline/format.ts';
+
+const SEEDS = 20;
+const NEEDED = 19;
+const ONSET = 20;
+const SECONDS = 60;
+const QUIET_HOURS = Number(process.env.DETECTION_QUIET_HOURS ?? 4);
+
+interface Sweep {
+  title: string;
+  rule: string;
+  unit: string;
+  levels: number[];
+  bench: Bench;
+  rules?: RulesConfig;
+  fault: (level: number, seed: number) => Fault;
+  note: string;
+}
+
+const flickerBench: Bench = { ...DEFAULT_BENCH, floor: { white: 10e-9, corner: 10 } };
+
+const sweeps: Sweep[] = [
+  {
+    title: 'Mains pickup (50 Hz fundamental, 3rd harmonic at a third of it, ±0.05 Hz drift), switched on abruptly',
+    rule: 'mains', unit: 'V rms (fundamental)', bench: DEFAULT_BENCH,
+    levels: [3e-8, 5e-8, 7e-8, 1e-7, 1.5e-7, 3e-7, 1e-6],
+    fault: (a) => ({ kind: 'mains', fundamental: 50, harmonics: [a, 0, a / 3], driftSpan: 0.05 }),
+    note: 'detected = a `mains` alarm raised within 40 s of the onset',
+  },
+  {
+    title: 'New spur (a tone at 400 + 61.7·seed Hz, so it falls at a different place between bins for each seed)',
+    rule: 'spur', unit: 'V rms', bench: DEFAULT_BENCH,
+    levels: [3e-8, 5e-8, 7e-8, 1e-7, 1.5e-7, 3e-7, 1e-6],
+    fault: (a, seed) => ({ kind: 'tone', frequency: 400 + 61.7 * seed, rms: a }),
+    note: 'detected = a `spur` alarm raised within 40 s of the onset',
+  },
+  {
+    title: 'Floor rise confined to 200–800 Hz (band rule 200:800 configured, everything else default)',
+    rule: 'band-rise', unit: 'dB rise', bench: DEFAULT_BENCH,
+    rules: parseRules({ band: { bands: ['200:800'] } }, 'detection bench'),
+    levels: [2.5, 3, 3.25, 3.5, 4, 6, 10],
+    fault: (db) => ({ kind: 'band-rise', low: 200, high: 800, riseDb: db }),
+    note: 'detected = a `band-rise` alarm on 200–800 Hz raised within 40 s of the onset',
+  },
+  {
+    title: '1/f corner moving up from 10 Hz (default decade bands; the lowest is 11.7–100 Hz)',
+    rule: 'band-rise', unit: 'Hz new corner', bench: flickerBench,
+    levels: [20, 30, 40, 50, 70, 100, 200],
+    fault: (fc) => ({ kind: 'corner', to: fc }),
+    note: 'detected = any `band-rise` alarm raised within 40 s of the onset',
+  },
+];
+
+function median(xs: number[]): number {
+  const s = [...xs].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m] : 0.5 * (s[m - 1] + s[m]);
+}
+
+function fmt(x: number): string {
+  return Number(x.toPrecision(3)).toString();
+}
+
+const out: string[] = [];
+const t0 = performance.now();
+const baselines = new Map<Bench, BaselineFile>();
+const baselineFor = (b: Bench): BaselineFile => {
+  let x = baselines.get(b);
+  if (!x) baselines.set(b, (x = captureQuietBaseline(b, 60, 9001)));
+  return x;
+};
+
+out.push('# Detection figures', '');
+out.push('Regenerate with `node scripts/detection/run.mjs` (writes this file; about ten minutes on the 2-core machine).', '');
+out.push('Bench (scripts/detection/harness.ts): the real pipeline and detectors on seeded synthetic signals, in sample time.');
+out.push(`${DEFAULT_BENCH.sampleRate} S/s, one channel, white floor ${DEFAULT_BENCH.floor.white * 1e9} nV/√Hz; analysis segment ${DEFAULT_BENCH.analysis.segment}, ` +
+  `${DEFAULT_BENCH.analysis.window}, overlap ${DEFAULT_BENCH.analysis.overlap}, detrend ${DEFAULT_BENCH.analysis.detrend}; the pipeline's default averaging ` +
+  '(exponential, τ = 10 s) and snapshot rate; default rules (band margin 3 dB, α = 1e-6 per evaluation, on-delay 0.5 s, ' +
+  'off-delay 2 s, deadband 1 dB; spur margin 10 dB, α = 1e-6, deadband 3 dB). The baseline is 60 s of quiet floor from an ' +
+  `independent seed. Each fault starts at t = ${ONSET} s of a ${SECONDS} s run; ${SEEDS} seeds per level; latency = sample time of ` +
+  'the raised event minus the onset.', '');
+
+for (const s of sweeps) {
+  out.push(`## ${s.title}`, '', `${s.note}.`, '');
+  out.push(`| level (${s.unit}) | detected (of ${SEEDS}) | median latency, s | max latency, s | other alarms raised |`, '|---|---|---|---|---|');
+  let smallest: number | undefined;
+  for (const level of s.levels) {
+    const lat: number[] = [];
+    let other = 0;
+    for (let seed = 1; seed <= SEEDS; seed++) {
+      const r = runScenario({ bench: s.bench, baseline: baselineFor(s.bench), rules: s.rules, fault: s.fault(level, seed), onsetSeconds: ONSET, seconds: SECONDS, seed });
+      const l = detectionLatency(r.events, s.rule, ONSET, s.bench.sampleRate);
+      if (l !== undefined) lat.push(l);
+      other += r.events.filter((e) => e.kind === 'alarm' && e.state === 'raised' && e.rule !== s.rule).length;
+    }
+    if (smallest === undefined && lat.length >= NEEDED) smallest = level;
+    out.push(`| ${fmt(level)} | ${lat.length} | ${lat.length ? fmt(median(lat)) : '–'} | ${lat.length ? fmt(Math.max(...lat)) : '–'} | ${other} |`);
+  }
+  out.push('', `Smallest level detected in at least ${NEEDED} of ${SEEDS} seeds: **${smallest === undefined ? 'none of those tried' : `${fmt(smallest)} ${s.unit}`}**.`, '');
+}
+
+out.push('## False alarms in quiet running', '');
+out.push('| bench | hours of sample time | snapshots | alarms raised | rate, per hour |', '|---|---|---|---|---|');
+const quietBenches: [string, Bench][] = [
+  [`${DEFAULT_BENCH.sampleRate} S/s, white`, DEFAULT_BENCH],
+  [`${flickerBench.sampleRate} S/s, white + 1/f corner 10 Hz`, flickerBench],
+];
+for (const [name, bench] of quietBenches) {
+  let alarms = 0;
+  let snaps = 0;
+  const hours = QUIET_HOURS / quietBenches.length;
+  for (let h = 0; h < hours; h++) {
+    const r = runScenario({ bench, baseline: baselineFor(bench), fault: { kind: 'none' }, onsetSeconds: 0, seconds: 3600, seed: 5000 + h });
+    alarms += r.events.filter((e) => e.kind === 'alarm' && e.state === 'raised').length;
+    snaps += r.snapshots;
+  }
+  // Zero events in T hours: the one-sided 95 % upper limit of a Poisson rate is 3.0/T (−ln 0.05 = 3.0).
+  const rate = alarms === 0 ? `0 (95 % upper limit ${fmt(3 / hours)})` : fmt(alarms / hours);
+  out.push(`| ${name} | ${hours} | ${snaps} | ${alarms} | ${rate} |`);
+}
+out.push('');
+out.push('## Reading these figures', '');
+out.push('- Latency is set mostly by the averaging: the default exponential average (τ = 10 s) reaches a step of power ratio R');
+out.push('  past a threshold T after τ·ln((R − 1)/(R − T)); shorter τ (`--average exp:2`) detects faster and raises the');
+out.push('  statistical part of the threshold (fewer equivalent averages).');
+out.push('- A +3 dB band rise sits exactly on the default 3 dB margin and is not detected reliably at default settings; use a');
+out.push('  lower `band.marginDb` in a rules file to watch for it (tests/alarms/detection.test.ts catches +3 dB with 2 dB).');
+out.push('- A strong line switched on abruptly is also a short broadband transient in the one Welch segment holding the switch-on;');
+out.push('  the band rule may report it, and clears it once the average forgets that segment (see the “other alarms” column).');
+out.push(`- Measured in ${((performance.now() - t0) / 1000).toFixed(0)} s of wall time.`);
+process.stdout.write(out.join('\n') + '\n');
