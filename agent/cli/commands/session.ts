@@ -100,7 +100,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
       log?.close();
       await server?.close();
     }
-    if (!o.quiet || o.command === 'replay') printSummary(pipeline, performance.now() - wall0, digest, recorder);
+    printSummary(pipeline, performance.now() - wall0, digest, recorder);
   })();
   return { folder, recorder, digest, finished, stop };
 }
