@@ -104,6 +104,7 @@ describe('floorline analyze errors', () => {
     ['an unknown window', ['short.wav', '--window', 'hanning'], /unknown window "hanning": choose one of rect, hann/],
     ['an unknown detrend', ['short.wav', '--detrend', 'quadratic'], /--detrend 'quadratic' is not one of none, mean, linear/],
     ['an overlap out of range', ['short.wav', '--overlap', '1'], /--overlap 1 is out of range; give a number from 0 to 0.95/],
+    ['a scale that is not positive', ['short.wav', '--scale', '0'], /--scale 0 must be a positive number of volts per full scale/],
     ['--json with --csv', ['short.wav', '--json', '--csv'], /--json and --csv exclude each other/],
     ['an unknown flag', ['short.wav', '--segmnet', '64'], /unknown flag --segmnet/],
     ['a band with LO ≥ HI', ['short.wav', '--band', '200:100'], /--band 200:100: LO must be below HI; write e\.g\. --band 100:200/],

@@ -14,6 +14,9 @@ function optionsFrom(args: ParsedArgs): AnalyzeOptions {
   if (segment !== undefined && (segment & (segment - 1)) !== 0) {
     throw new UsageError(`floorline analyze: --segment ${segment} is not a power of two; give e.g. --segment ${2 ** Math.round(Math.log2(segment))}.`);
   }
+  if (f.scale !== undefined && !((f.scale as number) > 0)) {
+    throw new UsageError(`floorline analyze: --scale ${f.scale} must be a positive number of volts per full scale; e.g. --scale 2.5 for a ±2.5 V ADC.`);
+  }
   if (f.json && f.csv) throw new UsageError('floorline analyze: --json and --csv exclude each other; pick one (or neither for the text summary).');
   const options: AnalyzeOptions = {
     segment,
@@ -49,7 +52,7 @@ export const analyzeCommand: CommandSpec = {
     { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: 0.5, help: 'segment overlap fraction' },
     { name: 'detrend', kind: 'string', value: 'MODE', choices: ['none', 'mean', 'linear'], default: 'mean', help: 'remove per segment before windowing' },
     { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for a band RMS' },
-    { name: 'scale', kind: 'number', value: 'V', min: Number.MIN_VALUE, help: 'volts per full scale for integer PCM or unscaled float files' },
+    { name: 'scale', kind: 'number', value: 'V', help: 'volts per full scale for integer PCM or unscaled float files' },
     { name: 'json', kind: 'boolean', help: 'print the report as JSON' },
     { name: 'csv', kind: 'boolean', help: 'print the spectra as CSV' },
   ],
