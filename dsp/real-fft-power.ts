@@ -132,7 +132,10 @@ export class RealFftPower {
     const ny = re[0] - im[0];
     power[0] = dc * dc;
     power[m] = ny * ny;
-    for (let k = 1; k < m; k++) {
+    // Bins k and M−k share Z[k] and Z[M−k]: with E, O from the pair and u + iv = e^(−2πik/N)·O,
+    // X[k] = (er + u) + i(ei + v) and X[M−k] = (er − u) + i(v − ei) (cos(π − θ) = −cos θ, sin(π − θ) = sin θ).
+    const half = m >> 1;
+    for (let k = 1; k < half; k++) {
       const ar = re[k];
       const ai = im[k];
       const br = re[m - k];
@@ -143,9 +146,18 @@ export class RealFftPower {
       const oi = -0.5 * (ar - br);
       const c = cos[k];
       const s = sin[k];
-      const xr = er + c * or + s * oi;
-      const xi = ei + c * oi - s * or;
-      power[k] = xr * xr + xi * xi;
+      const u = c * or + s * oi;
+      const v = c * oi - s * or;
+      const pr = er + u;
+      const pi = ei + v;
+      const qr = er - u;
+      const qi = v - ei;
+      power[k] = pr * pr + pi * pi;
+      power[m - k] = qr * qr + qi * qi;
     }
+    // k = M/2 pairs with itself: X = Re Z − i·Im Z there (e^(−iπ/2) = −i).
+    const hr = re[half];
+    const hi = im[half];
+    power[half] = hr * hr + hi * hi;
   }
 }

@@ -3,13 +3,15 @@
 // Run: npm run bench -- welch
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import FFT from 'fft.js';
 import { SeededRandom } from '../../dsp/random.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
+import { makeWindow } from '../../dsp/windows.ts';
 
 const SAMPLES = 1 << 24;
 const SEGMENT = 4096;
 const FS = 100_000;
-const ROUNDS = 4;
+const ROUNDS = 3;
 const PER_ROUND = 3;
 
 function median(v: number[]): number {
@@ -41,7 +43,27 @@ for r in range(${PER_ROUND + 1}):
 p.astype('<f8').tofile(sys.argv[2])
 print(json.dumps(times[1:]))
 `;
+// A plain fft.js Welch (copy, mean, window, realTransform, |X|² sum) as a second, load-independent yardstick:
+// TOOLCHAIN.md measured this at 1.05–1.2× scipy on an idle machine.
+const plainFft = new FFT(SEGMENT);
+const plainWin = makeWindow('hann', SEGMENT).values;
+const plainSeg = new Float64Array(SEGMENT);
+const plainOut = new Float64Array(2 * SEGMENT);
+const plainSum = new Float64Array(SEGMENT / 2 + 1);
+function plainWelch(): void {
+  plainSum.fill(0);
+  for (let s0 = 0; s0 + SEGMENT <= SAMPLES; s0 += SEGMENT / 2) {
+    let mean = 0;
+    for (let i = 0; i < SEGMENT; i++) mean += x[s0 + i];
+    mean /= SEGMENT;
+    for (let i = 0; i < SEGMENT; i++) plainSeg[i] = (x[s0 + i] - mean) * plainWin[i];
+    plainFft.realTransform(plainOut, plainSeg);
+    for (let k = 0; k <= SEGMENT / 2; k++) plainSum[k] += plainOut[2 * k] ** 2 + plainOut[2 * k + 1] ** 2;
+  }
+}
+
 const ours: number[] = [];
+const plain: number[] = [];
 const theirs: number[] = [];
 let psd = new Float64Array(0);
 for (let round = 0; round < ROUNDS; round++) {
@@ -53,6 +75,12 @@ for (let round = 0; round < ROUNDS; round++) {
     psd = est.psd();
     const dt = Number(process.hrtime.bigint() - t0) / 1e9;
     if (!(round === 0 && r === 0)) ours.push(dt); // the very first run warms the JIT
+  }
+  for (let r = 0; r < PER_ROUND + (round === 0 ? 1 : 0); r++) {
+    const t0 = process.hrtime.bigint();
+    plainWelch();
+    const dt = Number(process.hrtime.bigint() - t0) / 1e9;
+    if (!(round === 0 && r === 0)) plain.push(dt);
   }
   const res = spawnSync('python3', ['-c', py, input, output], { encoding: 'utf8' });
   if (res.status !== 0) throw new Error(`python3 failed: ${res.stderr}`);
@@ -67,11 +95,14 @@ rmSync(output);
 
 const oursRate = SAMPLES / median(ours);
 const theirRate = SAMPLES / median(theirs);
+const plainRate = SAMPLES / median(plain);
 const fmt = (v: number): string => `${(v / 1e6).toFixed(1)} M samples/s`;
 console.log(`2^24 samples, segment ${SEGMENT}, hann, 50 % overlap, mean detrend; medians of ${ROUNDS * PER_ROUND} runs each, alternating`);
 console.log(`  floorline WelchEstimator : ${fmt(oursRate)}`);
+console.log(`  plain fft.js Welch       : ${fmt(plainRate)}`);
 console.log(`  scipy.signal.welch       : ${fmt(theirRate)}`);
 console.log(`  ratio floorline / scipy  : ${(oursRate / theirRate).toFixed(2)}×   (max relative difference ${worst.toExponential(1)})`);
+console.log(`  ratio floorline / plain fft.js Welch : ${(oursRate / plainRate).toFixed(2)}×`);
 
 // Streaming: 4 channels at 100 kS/s in 1000-sample blocks, 20 s of sample time, default settings.
 const CHANNELS = 4;
