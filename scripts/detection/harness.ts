@@ -71,7 +71,7 @@ function faultComponents(bench: Bench, fault: Fault, onsetSeconds: number, endSe
     case 'band-rise': {
       // Added power D² = floor² · (10^(rise/10) − 1) over the band makes the band's floor rise by riseDb.
       const density = bench.floor.white * Math.sqrt(10 ** (fault.riseDb / 10) - 1);
-      return [new BandStep({ density, low: fault.low, high: fault.high, start: onsetSeconds, end: endSeconds + 1, sampleRate: fs, seed: deriveSeed(seed, 3) })];
+      return [new BandStep({ density, low: fault.low, high: fault.high, start: onsetSeconds, end: endSeconds, sampleRate: fs, seed: deriveSeed(seed, 3) })];
     }
     case 'corner': {
       // D²·fc/f grows to D²·fc'/f: add an independent 1/f part with corner fc' − fc.
@@ -163,6 +163,8 @@ export function runScenario(o: {
   onsetSeconds: number;
   /** Fade-in of the fault, s (default 0: switched on abruptly). */
   rampSeconds?: number;
+  /** How long a band-rise fault lasts, s (default: to the end of the run). */
+  faultSeconds?: number;
   seconds: number;
   seed: number;
   /** Access to the detector hook before the run (acknowledge/shelve tests). */
@@ -171,7 +173,8 @@ export function runScenario(o: {
   const { bench } = o;
   const onset = Math.round(o.onsetSeconds * bench.sampleRate);
   const total = Math.round(o.seconds * bench.sampleRate);
-  const g = generator(bench, o.fault, o.seed, onset, o.seconds, Math.round((o.rampSeconds ?? 0) * bench.sampleRate));
+  const faultEnd = o.faultSeconds !== undefined ? o.onsetSeconds + o.faultSeconds : o.seconds + 1;
+  const g = generator(bench, o.fault, o.seed, onset, faultEnd, Math.round((o.rampSeconds ?? 0) * bench.sampleRate));
   const p = new Pipeline({ analysis: bench.analysis, averaging: bench.averaging, mode: 'lossless' });
   const hook = new AlarmHook({ baseline: o.baseline, rules: o.rules });
   o.onHook?.(hook);

@@ -121,6 +121,20 @@ describe('detection on seeded recordings', () => {
     expect(raised.some((e) => e.band![0] === 100)).toBe(false);
   });
 
+  it('a floor rise sitting on its threshold gives one raise and one clear, where no hysteresis would chatter', () => {
+    // +3.05 dB in 200–800 Hz against a 3 dB threshold: the averaged level wanders about ±0.1 dB around the threshold
+    // for 100 s; the rise stops at t = 110 s and the run goes on to 160 s. Without deadband and delays the same level
+    // crosses the threshold again and again.
+    const fault = { kind: 'band-rise', low: 200, high: 800, riseDb: 3.05 } as const;
+    const bands = { bands: ['200:800'] };
+    const withRules = (band: object) =>
+      runScenario({ bench: DEFAULT_BENCH, baseline, rules: parseRules({ band: { ...bands, ...band } }, 'test'), seed: 12, onsetSeconds: 10, faultSeconds: 100, seconds: 160, fault });
+    const hysteresis = withRules({}).events.filter((e) => e.rule === 'band-rise');
+    expect(hysteresis.map((e) => e.state)).toEqual(['raised', 'cleared']);
+    const bare = withRules({ onDelay: 0, offDelay: 0, deadband: 0 }).events.filter((e) => e.rule === 'band-rise');
+    expect(bare.length).toBeGreaterThan(4);
+  });
+
   it('two hours of quiet floor at default rules raise no alarm', () => {
     // 2 h of sample time at 1 kS/s (256-point segments) with a 1/f corner at 5 Hz: 56 000 snapshots.
     const bench: Bench = { sampleRate: 1000, analysis: { segment: 256, window: 'hann', overlap: 0.5, detrend: 'mean' }, floor: { white: 10e-9, corner: 5 } };
