@@ -1,6 +1,7 @@
 // The detector set the pipeline plugs in: band rise and spur/mains rules per channel (against a baseline), and
 // stream health. Narrow interface: onSnapshot/onGap/onLink/onClip/onOverrun each return the events to emit, in
 // sample order; decisions use sample time only, so a replay at any speed yields the same events.
+import type { AlarmState } from '../../dsp/alarms/alarm-state.ts';
 import { binPowerCorrelation } from '../../dsp/alarms/threshold.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 import type { EventRule, FloorlineEvent } from '../core/events.ts';
@@ -161,7 +162,7 @@ export class Detectors {
     return this.forStates(rule, channel, band, (s) => s.shelve(untilSample));
   }
 
-  private forStates(rule: EventRule, channel: string, band: [number, number] | undefined, fn: (s: import('../../dsp/alarms/alarm-state.ts').AlarmState) => void): number {
+  private forStates(rule: EventRule, channel: string, band: [number, number] | undefined, fn: (s: AlarmState) => void): number {
     const ch = this.channels.find((c) => c.name === channel);
     if (!ch) return 0;
     let n = 0;
