@@ -1,5 +1,6 @@
 // Plays a scenario: the samples of every channel, block by block in sample time, as volts and as the counts a
 // converter would report. Same scenario and seed → the same samples, bit for bit, whatever consumes them.
+import { randomBytes } from 'node:crypto';
 import { BandStep } from '../../dsp/synth/band-step.ts';
 import { deriveSeed, type SynthComponent } from '../../dsp/synth/component.ts';
 import { FlickerNoise } from '../../dsp/synth/flicker-noise.ts';
@@ -84,6 +85,9 @@ export class ScenarioPlayer {
     return first;
   }
 
+  /** Differs at every run, like a board's power-up: the host tells a restart from a replug by it. */
+  private readonly boot = randomBytes(4).toString('hex');
+
   /** The board's descriptor at its current sample clock. */
   descriptor(): BoardDescriptor {
     const s = this.scenario;
@@ -92,7 +96,7 @@ export class ScenarioPlayer {
       format: s.format,
       board: s.board,
       firmware: s.firmware,
-      boot: deriveSeed(this.seed, 0xb007).toString(16).padStart(8, '0'),
+      boot: this.boot,
       clock: this.position % 2 ** 32,
       channels: s.channels.map((c) => ({ name: c.name, unit: c.unit, perCount: c.perCount, fullScale: c.fullScale })),
     };

@@ -15,13 +15,19 @@ export class PortSink {
   private port: SerialPort | undefined;
   private opening = false;
   private lastTry = 0;
-  private pending = false;
+  private pendingBytes = 0;
   private readonly decoder: FrameDecoder;
   /** Bytes discarded while the path was gone. */
   discardedBytes = 0;
   connects = 0;
 
-  constructor(readonly path: string, private readonly baudRate: number, private readonly events: PortSinkEvents) {
+  constructor(
+    readonly path: string,
+    private readonly baudRate: number,
+    private readonly events: PortSinkEvents,
+    /** Bytes the simulated board can hold unsent (default 1 MiB). */
+    private readonly fifoBytes = 1 << 20,
+  ) {
     this.decoder = new FrameDecoder({ samples() {}, descriptor() {}, describeRequest: () => events.onConnectOrRequest() });
   }
 
@@ -54,32 +60,28 @@ export class PortSink {
   private drop(port: SerialPort): void {
     if (this.port !== port) return;
     this.port = undefined;
-    this.pending = false;
+    this.pendingBytes = 0;
     this.events.log(`simulate: ${this.path} went away; the board keeps counting samples`);
     if (port.isOpen) port.close(() => {});
   }
 
   /**
-   * Writes bytes (copied: serialport may keep the buffer until sent). Like a board whose USB buffer is full, a
-   * block is discarded while the previous write is still pending, and everything is discarded while
-   * disconnected; the sample counter runs on, so the host sees a gap. Waits at most `maxWaitMs` for a write.
+   * Queues bytes for the port (copied: serialport keeps the buffer until sent). Like a board with a FIFO of
+   * `fifoBytes`, a block that does not fit behind the writes still pending is discarded, and everything is
+   * discarded while disconnected; the sample counter runs on, so the host sees a gap.
    */
-  async write(bytes: Uint8Array, maxWaitMs = 500): Promise<void> {
+  write(bytes: Uint8Array): void {
     const port = this.port;
-    if (!port || !port.isOpen || this.pending) {
+    if (!port || !port.isOpen || this.pendingBytes + bytes.length > this.fifoBytes) {
       this.discardedBytes += bytes.length;
       return;
     }
-    this.pending = true;
-    const copy = Buffer.from(bytes);
-    await new Promise<void>((resolve) => {
-      const timer = setTimeout(resolve, maxWaitMs);
-      port.write(copy, (err) => {
-        this.pending = false;
-        clearTimeout(timer);
-        if (err) this.drop(port);
-        resolve();
-      });
+    this.pendingBytes += bytes.length;
+    const n = bytes.length;
+    port.write(Buffer.from(bytes), (err) => {
+      if (port !== this.port) return;
+      this.pendingBytes -= n;
+      if (err) this.drop(port);
     });
   }
 

@@ -82,7 +82,7 @@ export class Simulation {
     if (o.output.kind === 'port') {
       const sink = new PortSink(o.output.path, o.output.baudRate, { onConnectOrRequest: () => (describe = true), log: o.log });
       port = sink;
-      write = (b) => sink.write(b);
+      write = async (b) => sink.write(b);
     } else {
       write = (b) => new Promise<void>((resolve, reject) => process.stdout.write(b, (err) => (err ? reject(err) : resolve())));
     }

@@ -91,6 +91,7 @@ export class SampleSequencer {
     const delta = (sequence - this.expected) >>> 0;
     let lost = 0;
     let reason = '';
+    let restarted = false;
     if (this.restartPending || delta >= 2 ** 31) {
       const back = 2 ** 32 - delta;
       if (!this.restartPending && back <= DUPLICATE_WINDOW_S * d.rate) {
@@ -99,13 +100,15 @@ export class SampleSequencer {
       }
       this.restartPending = false;
       this.counters.restarts++;
+      restarted = true;
       lost = sequence;
       reason = `board restarted (new boot or counter reset): ${sequence} instants of the new boot before its first received frame; time while it was off is not counted`;
     } else if (delta > 0) {
       lost = delta;
       reason = `${delta} instants missing by the board's sequence counter`;
     }
-    if (lost > 0) {
+    // A restart is a discontinuity even when nothing was lost: the analysis must not join the two runs.
+    if (lost > 0 || restarted) {
       this.flush();
       this.out.gap({ sample: this.nextIndex, lost, reason });
       this.nextIndex += lost;

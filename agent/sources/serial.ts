@@ -210,7 +210,8 @@ export class SerialSource implements Source {
     if (this.stopping) return;
     this.binary?.flush();
     this.text?.flush();
-    if (!this.linkDown) {
+    // A link that never carried data was never up: close and retry quietly, but report no outage.
+    if (!this.linkDown && this.bytes > 0) {
       this.linkDown = true;
       this.o.log(`serial: link lost: ${why}`);
       this.sink!.link({ state: 'lost', sample: this.lastSample(), detail: why });

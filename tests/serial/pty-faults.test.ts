@@ -33,7 +33,7 @@ describe('serial source on a damaged link', () => {
     await source.start(sink);
     const sim = startSimulator([path, '--out', pair.board, '--duration', '4']);
     expect(await sim.exited, sim.stderr()).toBe(0);
-    await waitFor('the last sample', () => sink.lastIndex >= total - 1, 5000);
+    await waitFor('the last sample', () => sink.lastIndex >= total - 1, 15000);
     await source.stop();
     const d = source.detail().decoder!;
     expect(d.syncErrors).toBe(1);
@@ -44,7 +44,7 @@ describe('serial source on a damaged link', () => {
     const { counts } = regenerateCounts(scenario, 9, total);
     expect(firstMismatch(sink.data, counts, sink.seen)).toBe(-1);
     await pair.kill();
-  }, 30000);
+  }, 60000);
 
   it('reads text mode (--format text --rate) with channel names from the header line, values exact', async () => {
     const scenario = { rate: 5000, format: 'int24', seed: 4, channels };
@@ -57,12 +57,12 @@ describe('serial source on a damaged link', () => {
     await source.start(sink);
     const sim = startSimulator([path, '--out', pair.board, '--format', 'text', '--duration', '3']);
     expect(await sim.exited, sim.stderr()).toBe(0);
-    await waitFor('the last sample', () => sink.lastIndex >= total - 1, 5000);
+    await waitFor('the last sample', () => sink.lastIndex >= total - 1, 15000);
     await source.stop();
     expect(sink.infos[0].channels.map((c) => [c.name, c.unit, c.scale])).toEqual([['p', 'V', 1], ['q', 'V', 1]]);
     expect(sink.delivered).toBe(total);
     // Text carries volts printed shortest-round-trip (ECMAScript Number::toString), so parsing gives them back.
     const { volts } = regenerateCounts(scenario, 4, total);
     expect(firstMismatch(sink.data, volts, sink.seen)).toBe(-1);
-  }, 30000);
+  }, 60000);
 });

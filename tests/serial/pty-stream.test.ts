@@ -42,8 +42,9 @@ describe('serial source over a pty', () => {
     const sim = startSimulator([scenarioPath, '--out', pair.board, '--duration', String(SECONDS)]);
     const code = await sim.exited;
     expect(code, sim.stderr()).toBe(0);
-    await waitFor('all samples', () => sink.delivered >= total, 5000).catch(() => undefined);
+    await waitFor('all samples', () => sink.delivered >= total, 20000).catch(() => undefined);
     await source.stop();
+    const where = `first seen ${sink.seen.indexOf(1)}, last ${sink.lastIndex}, gaps ${JSON.stringify(sink.gaps)}, simulator: ${sim.stderr()}`;
 
     const c = source.counters();
     expect(sink.infos.length).toBe(1);
@@ -53,10 +54,10 @@ describe('serial source over a pty', () => {
     expect(c.lostSamples).toBe(0);
     expect(c.crcErrors).toBe(0);
     expect(c.syncErrors).toBe(0);
-    expect(sink.delivered).toBe(total);
+    expect(sink.delivered, where).toBe(total);
     expect(sink.outOfOrder).toBe(0);
     const { counts } = regenerateCounts(scenario, 21, total);
     expect(firstMismatch(sink.data, counts, sink.seen)).toBe(-1);
     expect(sink.ended).toBe(true);
-  }, 30000);
+  }, 60000);
 });

@@ -117,7 +117,7 @@ print(json.dumps([float((len(frac) - 1) / ((frac[-1] - frac[0]) / ${fs}))]))`,
 import sys, json, numpy as np
 v = np.frombuffer(sys.stdin.buffer.read(), dtype='<f8')
 q = np.rint(v * (1 / ${lsb}))
-print(json.dumps([np.clip(q, -32, 32).tolist(), int(np.sum(np.abs(q) > 32))]))`,
+print(json.dumps([(np.clip(q, -32, 32) + 0.0).tolist(), int(np.sum(np.abs(q) > 32))]))  # + 0.0: one zero code, no -0`,
         bytesOf(v),
       ),
     ) as [number[], number];
