@@ -16,11 +16,14 @@ export function overlapCorrelations(window: Float64Array, step: number): Float64
   return rho;
 }
 
-/** K_eq for `segments` consecutive segments, from the correlations of overlapCorrelations(). */
-export function equivalentFromCorrelations(rho: Float64Array, segments: number): number {
+/**
+ * K_eq for `segments` consecutive segments, from correlations rho[offset .. offset+lags) as
+ * overlapCorrelations() returns them (offset and lags let packed tables be read without a view).
+ */
+export function equivalentFromCorrelations(rho: Float64Array, segments: number, offset = 0, lags = rho.length - offset): number {
   if (segments <= 1) return segments;
   let factor = 1;
-  for (let l = 1; l < segments && l <= rho.length; l++) factor += 2 * (1 - l / segments) * rho[l - 1];
+  for (let l = 1; l < segments && l <= lags; l++) factor += 2 * (1 - l / segments) * rho[offset + l - 1];
   return segments / factor;
 }
 

@@ -7,27 +7,23 @@
 // deepest stage with f ≤ R_k/4 whose segment still has ≥ 64 samples; there the anti-alias filters have passed
 // f with < 0.01 % droop, which is divided out exactly from |H(f)|², and aliases land from ≥ 0.375·R_k, where the
 // filter is ≥ 100 dB down (tan-warped Butterworth magnitude). Each point accumulates its open segments sample by
-// sample (two multiply-adds per sample and segment) and keeps a rolling mean of its last K_j segment powers,
+// sample (two multiply-adds per sample and segment) and keeps a rolling mean of about its last K_j segment powers,
 // K_j being what fits in `spanSeconds`: every point shows roughly the last span of sample time.
+// The rolling mean is kept in at most 33 batch sums per point (K_j/32 segments each, the newest one filling),
+// so memory and a snapshot cost O(points), not O(segments), and the span moves in steps of 1/32.
 // Cost per input sample: about two filter cascades (Σ 2^-k) plus, per point, open segments × rate of its stage.
 import { makeWindow } from '../windows.ts';
 import { butterworthSos, sosPowerResponse, type SosFilter } from '../lowfreq/butterworth.ts';
 import { SosCascade } from '../lowfreq/sos-filter.ts';
-import { planLogFrequencies } from './plan.ts';
+import { planLogFrequencies, type LogFrequencyPlanOptions } from './plan.ts';
 import { SingleBinKernel } from './single-bin-dft.ts';
 import { equivalentFromCorrelations, overlapCorrelations } from './equivalent-averages.ts';
 
-export interface LiveLogFrequencyOptions {
-  sampleRate: number;
+/** Grid options as planLogFrequencies (defaults here: 120 points, 10 averages), plus the span and chunking. */
+export interface LiveLogFrequencyOptions
+  extends Pick<LogFrequencyPlanOptions, 'sampleRate' | 'minFrequency' | 'maxFrequency' | 'points' | 'averages' | 'window' | 'overlap'> {
   /** Sample time each point averages over (its rolling record), seconds. Default 100. */
   spanSeconds?: number;
-  minFrequency?: number;
-  maxFrequency?: number;
-  /** Desired points and averages, as in planLogFrequencies. Defaults 120 and 10. */
-  points?: number;
-  averages?: number;
-  window?: string;
-  overlap?: number;
   /** Absolute index of the first sample pushed. Default 0. */
   firstSample?: number;
   /** Largest block handled in one pass; longer pushes are split (no allocation). Default 8192. */
@@ -41,6 +37,7 @@ export const DECIMATOR_ORDER = 10;
 export const STAGE_TOP = 0.25;
 const MIN_STAGE_SEGMENT = 64;
 const MAX_STAGES = 30;
+const MAX_BATCHES = 32;
 
 export class LiveLogFrequency {
   readonly sampleRate: number;
@@ -53,8 +50,9 @@ export class LiveLogFrequency {
   readonly segment: Int32Array;
   readonly step: Int32Array;
   readonly rbwHz: Float64Array;
-  /** Segments each point's rolling mean holds when full. */
-  readonly capacity: Int32Array;
+  /** Segments per batch of each point's rolling mean, and complete batches kept (plus the one filling). */
+  readonly batch: Int32Array;
+  readonly batches: Int32Array;
   /** Divides out the decimators' |H(f)|² (1 on stage 0). */
   readonly droop: Float64Array;
   readonly stages: number;
@@ -88,12 +86,15 @@ export class LiveLogFrequency {
   private readonly slotIm: Float64Array;
   private readonly slotSum: Float64Array;
   private readonly nextStart: Float64Array;
-  // Finished segment powers: a ring of `capacity` per point.
+  // Finished segment powers: a ring of batches + 1 batch sums per point, the one at ringPos filling.
   private readonly ringOffset: Int32Array;
   private readonly ringPos: Int32Array;
-  private readonly ringCount: Int32Array;
   private readonly ring: Float64Array;
-  private readonly eqTable: Float64Array;
+  private readonly ringN: Int32Array;
+  // Squared overlap correlations ρ(l·D) per point, for the equivalent averages of any count.
+  private readonly rhoOffset: Int32Array;
+  private readonly rhoCount: Int32Array;
+  private readonly rho: Float64Array;
 
   constructor(options: LiveLogFrequencyOptions) {
     const fs = options.sampleRate;
@@ -124,7 +125,8 @@ export class LiveLogFrequency {
     this.segment = new Int32Array(n);
     this.step = new Int32Array(n);
     this.rbwHz = new Float64Array(n);
-    this.capacity = new Int32Array(n);
+    this.batch = new Int32Array(n);
+    this.batches = new Int32Array(n);
     this.droop = new Float64Array(n);
     this.decimatorFilter = butterworthSos('lowpass', DECIMATOR_ORDER, DECIMATOR_CUTOFF, 1);
     let stages = 1;
@@ -137,7 +139,9 @@ export class LiveLogFrequency {
       this.stage[j] = k;
       this.segment[j] = len;
       this.step[j] = Math.max(1, len - Math.floor(plan.overlap * len));
-      this.capacity[j] = Math.max(1, plan.averages[j]);
+      const want = Math.max(1, plan.averages[j]);
+      this.batch[j] = Math.ceil(want / MAX_BATCHES);
+      this.batches[j] = Math.ceil(want / this.batch[j]);
       let h2 = 1;
       for (let i = 0; i < k; i++) h2 *= sosPowerResponse(this.decimatorFilter, f / (fs / 2 ** i), 1);
       this.droop[j] = 1 / h2;
@@ -171,14 +175,14 @@ export class LiveLogFrequency {
       this.slotCap[j] = Math.ceil(this.segment[j] / this.step[j]) + 1;
       slotTotal += this.slotCap[j];
       this.ringOffset[j] = ringTotal;
-      ringTotal += this.capacity[j];
+      ringTotal += this.batches[j] + 1;
     }
     this.kRe = new Float64Array(tableTotal);
     this.kIm = new Float64Array(tableTotal);
     this.c0re = new Float64Array(n);
     this.c0im = new Float64Array(n);
     this.norm = new Float64Array(n);
-    this.eqTable = new Float64Array(ringTotal);
+    const rhos: Float64Array[] = [];
     let longest = 2;
     for (let j = 0; j < n; j++) longest = Math.max(longest, this.segment[j]);
     const kernel = new SingleBinKernel(longest);
@@ -196,8 +200,7 @@ export class LiveLogFrequency {
       // One-sided density as scipy.signal.welch: sides·|X|²/(R_k·Σw²), times the droop correction.
       this.norm[j] = (sides * this.droop[j]) / (rate * kernel.sumSq);
       this.rbwHz[j] = (info.nenbw * rate) / len;
-      const rho = overlapCorrelations(info.values, this.step[j]);
-      for (let c = 1; c <= this.capacity[j]; c++) this.eqTable[this.ringOffset[j] + c - 1] = equivalentFromCorrelations(rho, c);
+      rhos.push(overlapCorrelations(info.values, this.step[j]));
     }
     this.slotHead = new Int32Array(n);
     this.slotCount = new Int32Array(n);
@@ -207,8 +210,18 @@ export class LiveLogFrequency {
     this.slotSum = new Float64Array(slotTotal);
     this.nextStart = new Float64Array(n);
     this.ringPos = new Int32Array(n);
-    this.ringCount = new Int32Array(n);
     this.ring = new Float64Array(ringTotal);
+    this.ringN = new Int32Array(ringTotal);
+    this.rhoOffset = new Int32Array(n);
+    this.rhoCount = new Int32Array(n);
+    let rhoTotal = 0;
+    for (let j = 0; j < n; j++) {
+      this.rhoOffset[j] = rhoTotal;
+      this.rhoCount[j] = rhos[j].length;
+      rhoTotal += rhos[j].length;
+    }
+    this.rho = new Float64Array(rhoTotal);
+    for (let j = 0; j < n; j++) this.rho.set(rhos[j], this.rhoOffset[j]);
   }
 
   /** Feeds samples[start..end) (calibrated units). Allocates nothing. */
@@ -316,10 +329,16 @@ export class LiveLogFrequency {
     const xr = this.slotRe[s] - mean * this.c0re[p];
     const xi = this.slotIm[s] - mean * this.c0im[p];
     const off = this.ringOffset[p];
-    const cap = this.capacity[p];
-    this.ring[off + this.ringPos[p]] = xr * xr + xi * xi;
-    this.ringPos[p] = (this.ringPos[p] + 1) % cap;
-    if (this.ringCount[p] < cap) this.ringCount[p]++;
+    let at = off + this.ringPos[p];
+    if (this.ringN[at] === this.batch[p]) {
+      // The filling batch is full: start the next one, dropping the oldest.
+      this.ringPos[p] = (this.ringPos[p] + 1) % (this.batches[p] + 1);
+      at = off + this.ringPos[p];
+      this.ring[at] = 0;
+      this.ringN[at] = 0;
+    }
+    this.ring[at] += xr * xr + xi * xi;
+    this.ringN[at]++;
     const input = this.first + (lastStageSample + 1) * 2 ** this.stage[p] - 1;
     if (input > this.lastSegmentSample) this.lastSegmentSample = input;
   }
@@ -327,31 +346,34 @@ export class LiveLogFrequency {
   /** Current density per point (unit²/Hz); NaN where no segment has completed yet. */
   psd(out: Float64Array = new Float64Array(this.count)): Float64Array {
     for (let p = 0; p < this.count; p++) {
-      const c = this.ringCount[p];
-      if (c === 0) {
-        out[p] = NaN;
-        continue;
-      }
       const off = this.ringOffset[p];
+      const slots = this.batches[p] + 1;
       let sum = 0;
-      for (let i = 0; i < c; i++) sum += this.ring[off + i];
-      out[p] = (sum / c) * this.norm[p];
+      let c = 0;
+      for (let i = 0; i < slots; i++) {
+        sum += this.ring[off + i];
+        c += this.ringN[off + i];
+      }
+      out[p] = c === 0 ? NaN : (sum / c) * this.norm[p];
     }
     return out;
   }
 
   /** Segments in each point's current mean. */
   averagesUsed(out: Float64Array = new Float64Array(this.count)): Float64Array {
-    for (let p = 0; p < this.count; p++) out[p] = this.ringCount[p];
+    for (let p = 0; p < this.count; p++) {
+      const off = this.ringOffset[p];
+      let c = 0;
+      for (let i = 0; i <= this.batches[p]; i++) c += this.ringN[off + i];
+      out[p] = c;
+    }
     return out;
   }
 
   /** Overlap-corrected averages (Welch 1967) of each point's current mean. */
   equivalentAverages(out: Float64Array = new Float64Array(this.count)): Float64Array {
-    for (let p = 0; p < this.count; p++) {
-      const c = this.ringCount[p];
-      out[p] = c === 0 ? 0 : this.eqTable[this.ringOffset[p] + c - 1];
-    }
+    this.averagesUsed(out);
+    for (let p = 0; p < this.count; p++) out[p] = equivalentFromCorrelations(this.rho, out[p], this.rhoOffset[p], this.rhoCount[p]);
     return out;
   }
 
@@ -370,7 +392,8 @@ export class LiveLogFrequency {
   /** Drops everything, averages included. */
   clear(nextSample: number = this.lastSample + 1): void {
     this.reset(nextSample);
-    this.ringCount.fill(0);
+    this.ring.fill(0);
+    this.ringN.fill(0);
     this.ringPos.fill(0);
     this.lastSegmentSample = -1;
   }

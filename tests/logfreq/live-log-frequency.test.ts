@@ -82,6 +82,32 @@ out['lo'] = chi2.ppf(0.005, nu) / nu; out['hi'] = chi2.ppf(0.995, nu) / nu
     expect(Math.abs(sum / w - 1)).toBeLessThan(4 * Math.sqrt(2 / w));
   });
 
+  it('forgets what lies more than about one span back: after a level change it shows only the new level', () => {
+    const fs = 500;
+    const live = new LiveLogFrequency({ sampleRate: fs, spanSeconds: 20, points: 50, averages: 8 });
+    const rng = new SeededRandom(12);
+    live.push(rng.fillGaussian(new Float64Array(40 * fs), 1));
+    live.push(rng.fillGaussian(new Float64Array(30 * fs), 3));
+    const psd = live.psd();
+    const nu = Array.from(live.equivalentAverages(), (k) => 2 * k);
+    const truth = (2 * 9) / fs; // white noise of σ = 3 (common practice: 2σ²/fs)
+    let sum = 0;
+    let w = 0;
+    for (let p = 0; p < live.count; p++) {
+      // One old segment left in a mean of ν/2 would pull it down by ≥ 8/9 of 1/(ν/2); none may look mixed.
+      expect(psd[p] / truth).toBeGreaterThan(0.2);
+      sum += nu[p] * (psd[p] / truth);
+      w += nu[p];
+    }
+    expect(Math.abs(sum / w - 1)).toBeLessThan(4 * Math.sqrt(2 / w)); // pooled mean, variance 2/Σν
+    // The means hold roughly one span: about the number of segments a 20 s record fits (within a batch).
+    const used = live.averagesUsed();
+    for (let p = 0; p < live.count; p++) {
+      const span = ((used[p] - 1) * live.step[p] + live.segment[p]) * 2 ** live.stage[p];
+      expect(span / fs).toBeLessThan(30);
+    }
+  });
+
   it('gives bit-identical spectra whatever the block sizes', () => {
     const x = new SeededRandom(4).fillGaussian(new Float64Array(40_000), 1);
     const run = (block: number): number[] => {
