@@ -60,10 +60,11 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   /** Returns true when the context changed (and tells every client). */
   const updateContext = (s: ServerSnapshot): boolean => {
-    const key = JSON.stringify([s.settings, s.averaging, s.nenbw, s.binHz, s.channels.map((c) => [c.name, c.unit, c.psd.length])]);
+    const mains = backend.mainsHz();
+    const key = JSON.stringify([s.settings, s.averaging, s.nenbw, s.binHz, mains, s.channels.map((c) => [c.name, c.unit, c.psd.length])]);
     if (key === contextKey) return false;
     contextKey = key;
-    context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz());
+    context = contextOf(s, (context?.id ?? 0) + 1, mains);
     hub.json({ type: 'context', context });
     return true;
   };

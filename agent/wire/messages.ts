@@ -149,6 +149,8 @@ export interface AgentStatus {
   settings: AnalysisSettings | null;
   averaging: AveragingSpec | null;
   baseline: { file: string; hash: string } | null;
+  /** Sample index of the spectrum the band rows were computed from (null before the first). */
+  spectrumSample: number | null;
   bands: BandRow[];
   alarms: AlarmRow[];
   clients: { connected: number; framesSent: number; framesSkipped: number };

@@ -7,6 +7,9 @@ import { Pipeline } from '../../pipeline/pipeline.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { startSession } from './session.ts';
+import type { Detector } from '../../pipeline/types.ts';
+import { SERVER_FLAGS } from '../../server/cli-flags.ts';
+import { serveDashboard } from '../../server/serve.ts';
 
 async function runReplay(args: ParsedArgs): Promise<number> {
   const [file] = args.positionals;
@@ -33,6 +36,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   if (snapOut) pipeline.on('snapshot', (s) => snapOut.write(snapshotToJsonLine(s) + '\n'));
 
   let session;
+  let installed: Detector[] = [];
   try {
     session = await startSession({
       command: 'replay',
@@ -44,7 +48,11 @@ async function runReplay(args: ParsedArgs): Promise<number> {
       statusEvery: rec.statusEvery,
       quiet: f.quiet as boolean,
       frames: () => source.fileInfo?.frames,
-      detectors: (recorder) => alarmDetectors(alarms, recorder),
+      detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
+      serve: f['no-server'] ? undefined : serveDashboard({
+        pipeline, source, args, replay: source, replayLoop: f.loop as boolean, detectors: () => installed,
+        baseline: alarms.baseline && alarms.baselinePath ? { file: alarms.baselinePath, baseline: alarms.baseline } : undefined,
+      }),
       eventsOut: alarms.eventsOut,
     });
   } catch (err) {
@@ -81,6 +89,7 @@ export const replayCommand: CommandSpec = {
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
     { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
+    ...SERVER_FLAGS,
     ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,

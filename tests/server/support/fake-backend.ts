@@ -103,6 +103,7 @@ export class FakeBackend implements ServerBackend {
       settings: { sampleRate: this.sampleRate, segment: this.segment, window: 'hann', overlap: 0.5, detrend: 'mean' },
       averaging: { mode: 'mean' },
       baseline: null,
+      spectrumSample: this.last?.sample ?? null,
       bands,
       alarms: [{ rule: 'band-rise', channel: 'ch0', band: [20, 2000], state: 'clear', acknowledged: false, sample: 0 }],
     };

@@ -1,0 +1,140 @@
+// The dashboard application: routes agent messages to the views. `onJson` and `onBinary` are the only inputs,
+// so the benchmark drives exactly the path live data takes.
+import type { ServerMessage, AgentStatus, SpectrumContext } from '../agent/wire/messages.ts';
+import type { FloorlineEvent } from '../agent/core/events.ts';
+import { decodeFrame, type DecodedFrame } from '../agent/wire/frame.ts';
+import { Link } from './connection.ts';
+import { SpectrumView } from './views/spectrum.ts';
+import { WaterfallView } from './views/waterfall.ts';
+import { BandTable } from './views/band-table.ts';
+import { EventList } from './views/event-list.ts';
+import { TraceView } from './views/trace.ts';
+import { HealthStrip } from './views/health.ts';
+import { Controls } from './views/controls.ts';
+import { NoiseBudgetForm } from './views/noise-budget.ts';
+import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
+
+const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
+
+export class App {
+  readonly spectrum = new SpectrumView($('spectrum'), $('readout'));
+  readonly waterfall = new WaterfallView($('waterfall'), $('waterfall-legend'), $('waterfall-axis'));
+  readonly bands = new BandTable(($('bands') as HTMLTableElement).tBodies[0]);
+  readonly events = new EventList(($('events') as HTMLTableElement).tBodies[0], (e) => void this.acknowledge(e));
+  readonly trace = new TraceView($('trace'));
+  readonly health = new HealthStrip($('health'), $('replay-banner'));
+  readonly budget: NoiseBudgetForm;
+  readonly controls: Controls;
+  status: AgentStatus | null = null;
+  context: SpectrumContext | null = null;
+  /** Spectrum frames applied (tests and the benchmark read this). */
+  spectraApplied = 0;
+  private pendingBaseline: ArrayBuffer | null = null;
+
+  constructor(readonly link: Link) {
+    this.budget = new NoiseBudgetForm($('budget') as HTMLFormElement, $('nb-result'), (floor) => this.spectrum.setOverlays({ expectedFloor: floor }));
+    this.controls = new Controls(link, {
+      units: (u) => this.spectrum.setUnits(u),
+      maxHold: (on) => this.spectrum.setOverlays({ maxHold: on }),
+      resetMaxHold: () => this.spectrum.resetMaxHold(),
+      baselineOverlay: (on) => this.spectrum.setOverlays({ baseline: on }),
+      mains: (on) => this.spectrum.setOverlays({ mains: on }),
+      exportCsv: () => this.exportCsv(),
+      exportPng: () => void this.exportPng(),
+      exportEvents: () => download('floorline-events.jsonl', this.events.toJsonLines(), 'application/jsonl'),
+    });
+    $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
+      this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
+      this.waterfall.clear();
+    });
+  }
+
+  onJson(m: ServerMessage): void {
+    switch (m.type) {
+      case 'hello':
+        this.events.reset(m.events);
+        if (m.context) this.setContext(m.context);
+        this.setStatus(m.status);
+        break;
+      case 'context':
+        this.setContext(m.context);
+        break;
+      case 'status':
+        this.setStatus(m.status);
+        break;
+      case 'event':
+        this.events.add(m.event);
+        break;
+      case 'info':
+      case 'reply':
+      case 'error':
+        break;
+    }
+  }
+
+  onBinary(buf: ArrayBuffer): void {
+    const f = decodeFrame(buf);
+    if (f.kind === 'spectrum') this.applySpectrum(f);
+    else if (f.kind === 'baseline') {
+      if (this.context && (f.contextId === (this.context.id & 0xffff))) this.spectrum.setBaseline(f);
+      else this.pendingBaseline = buf;
+    } else if (f.kind === 'trace') this.trace.update(f, this.context?.channels.map((c) => c.name) ?? [], this.context?.channels[0]?.unit ?? 'V');
+  }
+
+  private applySpectrum(f: DecodedFrame): void {
+    const ctx = this.context;
+    if (!ctx || f.contextId !== (ctx.id & 0xffff)) return; // from before a settings change
+    this.spectrum.update(f);
+    this.waterfall.push(f.values[Math.min(this.waterfall.channel, f.channels - 1)], f.sample / f.sampleRate);
+    $('spectral-context').textContent = contextLine(ctx, f);
+    this.spectraApplied++;
+  }
+
+  private setContext(ctx: SpectrumContext): void {
+    this.context = ctx;
+    this.spectrum.setContext(ctx);
+    this.waterfall.setContext(ctx.bins, ctx.binHz, ctx.channels[0]?.unit ?? 'V');
+    const sel = $<HTMLSelectElement>('waterfall-channel');
+    sel.replaceChildren(...ctx.channels.map((c, i) => new Option(c.name, String(i))));
+    this.waterfall.channel = 0;
+    this.controls.showContext(ctx);
+    this.budget.sampleRate = ctx.settings.sampleRate;
+    this.budget.recompute();
+    $('spectral-context').textContent = contextLine(ctx, null);
+    if (this.pendingBaseline) {
+      const b = this.pendingBaseline;
+      this.pendingBaseline = null;
+      this.onBinary(b);
+    }
+  }
+
+  private setStatus(s: AgentStatus): void {
+    this.status = s;
+    this.health.update(s);
+    this.bands.update(s.bands, new Map(s.channels.map((c) => [c.name, c.unit])), s.spectrumSample);
+    this.spectrum.setBands(s.bands);
+    this.events.markAcknowledged(s.alarms);
+    this.controls.showStatus(s);
+  }
+
+  private async acknowledge(e: FloorlineEvent): Promise<void> {
+    try {
+      await this.link.request({ type: 'acknowledge', rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}) });
+    } catch {
+      // The next status shows the state either way.
+    }
+  }
+
+  private exportCsv(): void {
+    const f = this.spectrum.frame;
+    if (!this.context || !f) return;
+    download(`floorline-spectrum-${f.sample}.csv`, spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? ''), 'text/csv');
+  }
+
+  private async exportPng(): Promise<void> {
+    const c = this.spectrum.canvas;
+    const f = this.spectrum.frame;
+    if (!c || !this.context) return;
+    download(`floorline-spectrum-${f?.sample ?? 0}.png`, await spectrumPng(c, contextLine(this.context, f)));
+  }
+}

@@ -1,0 +1,78 @@
+// Exports: the current spectrum as CSV (spectral context in '#' header lines, a units row, '.' decimals) and as
+// PNG (the chart canvas with its context line), and the event log as JSON Lines.
+import type { SpectrumContext } from '../agent/wire/messages.ts';
+import type { DecodedFrame } from '../agent/wire/frame.ts';
+import { densityLabel, fromPsd, type DensityUnit } from './units.ts';
+
+function averagingText(ctx: SpectrumContext): string {
+  const a = ctx.averaging;
+  if (a.mode === 'rolling' || a.mode === 'median') return `${a.mode} ${a.count}`;
+  if (a.mode === 'exponential') return `exponential tau ${a.tauSeconds} s`;
+  return a.mode;
+}
+
+export function contextLine(ctx: SpectrumContext, f: DecodedFrame | null): string {
+  const s = ctx.settings;
+  const avg = f ? Array.from(f.averages).map((a) => a.toFixed(1)).join('/') : '—';
+  return `${s.window} window · ENBW ${ctx.nenbw.toFixed(3)} bins = ${ctx.enbwHz.toPrecision(4)} Hz (RBW) · bin ${ctx.binHz.toPrecision(4)} Hz · segment ${s.segment} · overlap ${(s.overlap * 100).toFixed(1)} % · detrend ${s.detrend} · averaging ${averagingText(ctx)} · equivalent averages ${avg}${f ? ` · t = ${(f.sample / f.sampleRate).toFixed(2)} s (sample ${f.sample})` : ''}`;
+}
+
+/** CSV text; numbers via String() (shortest round-trip, '.' decimal whatever the locale). */
+export function spectrumCsv(ctx: SpectrumContext, f: DecodedFrame, units: DensityUnit, wallTime: string): string {
+  const s = ctx.settings;
+  const lines = [
+    '# floorline spectrum',
+    `# sample,${f.sample}`,
+    `# t_s,${f.sample / f.sampleRate}`,
+    `# wall_time,${wallTime}`,
+    `# sample_rate_hz,${s.sampleRate}`,
+    `# segment,${s.segment}`,
+    `# window,${s.window}`,
+    `# overlap,${s.overlap}`,
+    `# detrend,${s.detrend}`,
+    `# nenbw_bins,${ctx.nenbw}`,
+    `# enbw_hz,${ctx.enbwHz}`,
+    `# bin_hz,${ctx.binHz}`,
+    `# averaging,${averagingText(ctx)}`,
+    `# equivalent_averages,${Array.from(f.averages).join(',')}`,
+    `# scaling,one-sided density (DC and Nyquist not doubled)`,
+    ['frequency', ...ctx.channels.map((c) => c.name)].join(','),
+    ['Hz', ...ctx.channels.map((c) => densityLabel(units, c.unit))].join(','),
+  ];
+  for (let k = 0; k < f.length; k++) {
+    const row = [String(k * f.binHz)];
+    for (let c = 0; c < f.channels; c++) {
+      const v = fromPsd(units, f.values[c][k]);
+      row.push(v === null ? '' : String(v));
+    }
+    lines.push(row.join(','));
+  }
+  return lines.join('\n') + '\n';
+}
+
+/** The chart canvas with a white background and the context line under it. */
+export function spectrumPng(chart: HTMLCanvasElement, caption: string): Promise<Blob> {
+  const pad = 28;
+  const out = document.createElement('canvas');
+  out.width = chart.width;
+  out.height = chart.height + pad;
+  const c = out.getContext('2d')!;
+  c.fillStyle = '#ffffff';
+  c.fillRect(0, 0, out.width, out.height);
+  c.drawImage(chart, 0, 0);
+  c.fillStyle = '#1c2630';
+  c.font = `${Math.round(12 * (chart.width / chart.clientWidth || 1))}px system-ui, sans-serif`;
+  c.fillText(caption, 8, chart.height + pad * 0.65, out.width - 16);
+  return new Promise((resolve, reject) => out.toBlob((b) => (b ? resolve(b) : reject(new Error('PNG export failed'))), 'image/png'));
+}
+
+export function download(name: string, data: Blob | string, type = 'text/plain'): void {
+  const blob = typeof data === 'string' ? new Blob([data], { type }) : data;
+  const a = document.createElement('a');
+  a.href = URL.createObjectURL(blob);
+  a.download = name;
+  document.body.appendChild(a);
+  a.click();
+  a.remove();
+  setTimeout(() => URL.revokeObjectURL(a.href), 10_000);
+}

@@ -1,0 +1,52 @@
+// Band table: live RMS, baseline RMS, Δ dB, threshold and state per channel and band, updated in place.
+import type { BandRow } from '../../agent/wire/messages.ts';
+import { si, fixed, short } from '../format.ts';
+
+export class BandTable {
+  private readonly rows = new Map<string, HTMLTableRowElement>();
+
+  constructor(private readonly body: HTMLTableSectionElement) {}
+
+  update(bands: BandRow[], units: Map<string, string>, spectrumSample: number | null): void {
+    this.body.dataset.sample = spectrumSample === null ? '' : String(spectrumSample);
+    const keep = new Set<string>();
+    for (const b of bands) {
+      const key = `${b.channel}|${b.low}|${b.high}`;
+      keep.add(key);
+      let tr = this.rows.get(key);
+      if (!tr) {
+        tr = document.createElement('tr');
+        tr.dataset.channel = b.channel;
+        tr.dataset.band = `${b.low}-${b.high}`;
+        for (let i = 0; i < 8; i++) tr.appendChild(document.createElement('td'));
+        tr.cells[0].className = 'text';
+        tr.cells[7].className = 'state';
+        this.body.appendChild(tr);
+        this.rows.set(key, tr);
+      }
+      const unit = units.get(b.channel) ?? '';
+      const cells = [
+        b.channel,
+        `${short(b.low)}–${short(b.high)}`,
+        si(b.rms, unit),
+        si(b.baselineRms, unit),
+        fixed(b.deltaDb, 2),
+        fixed(b.thresholdDb, 2),
+        si(b.floorDensity, `${unit}/√Hz`),
+        b.state === 'no-baseline' ? 'no baseline' : b.state === 'raised' ? 'ALARM' : 'ok',
+      ];
+      for (let i = 0; i < 8; i++) if (tr.cells[i].textContent !== cells[i]) tr.cells[i].textContent = cells[i];
+      // Exact figures for tests and for copying: the cell shows 3 significant figures.
+      tr.cells[2].dataset.value = String(b.rms);
+      tr.cells[3].dataset.value = b.baselineRms === null ? '' : String(b.baselineRms);
+      tr.className = b.state === 'raised' ? 'raised' : '';
+      tr.cells[7].classList.toggle('ok', b.state === 'ok');
+    }
+    for (const [key, tr] of this.rows) {
+      if (!keep.has(key)) {
+        tr.remove();
+        this.rows.delete(key);
+      }
+    }
+  }
+}

@@ -1,0 +1,65 @@
+// The expected-floor overlay from a noise budget the user enters, referred to the channel input (the unit the
+// channel is calibrated in): source resistor Johnson noise sqrt(4kTR), amplifier voltage noise eₙ, amplifier
+// current noise iₙ through the source resistance, and ADC quantisation q/sqrt(6·fs) divided by the gain ahead of
+// the ADC; uncorrelated, so they add in quadrature (dsp/noise-theory.ts).
+import { johnsonVoltageDensity, quantizationDensity, quadratureSum } from '../../dsp/noise-theory.ts';
+import { si } from '../format.ts';
+
+export interface BudgetInputs {
+  ohms: number;
+  kelvin: number;
+  enNv: number;
+  inPa: number;
+  bits: number;
+  spanV: number;
+  gain: number;
+}
+
+export interface BudgetResult {
+  total: number;
+  parts: { name: string; density: number }[];
+}
+
+export function noiseBudget(b: BudgetInputs, sampleRate: number): BudgetResult {
+  const parts = [
+    { name: 'source R (Johnson)', density: b.ohms > 0 ? johnsonVoltageDensity(b.ohms, b.kelvin) : 0 },
+    { name: 'amplifier eₙ', density: b.enNv * 1e-9 },
+    { name: 'amplifier iₙ·R', density: b.inPa * 1e-12 * b.ohms },
+    { name: 'ADC quantisation', density: quantizationDensity(b.spanV, b.bits, sampleRate) / b.gain },
+  ];
+  return { total: quadratureSum(parts.map((p) => p.density)), parts };
+}
+
+export class NoiseBudgetForm {
+  constructor(
+    private readonly form: HTMLFormElement,
+    private readonly result: HTMLElement,
+    private readonly onChange: (floor: number | null) => void,
+  ) {
+    form.addEventListener('input', () => this.recompute());
+  }
+
+  sampleRate = 0;
+
+  private read(id: string): number {
+    return Number((this.form.querySelector(`#${id}`) as HTMLInputElement).value);
+  }
+
+  recompute(): void {
+    const show = (this.form.querySelector('#nb-show') as HTMLInputElement).checked;
+    if (!this.sampleRate) return;
+    const inputs: BudgetInputs = {
+      ohms: this.read('nb-r'), kelvin: this.read('nb-t'), enNv: this.read('nb-en'), inPa: this.read('nb-in'),
+      bits: this.read('nb-bits'), spanV: this.read('nb-span'), gain: this.read('nb-gain'),
+    };
+    try {
+      if (!(inputs.gain > 0)) throw new RangeError('gain must be above 0');
+      const r = noiseBudget(inputs, this.sampleRate);
+      this.result.textContent = `total ${si(r.total, 'V/√Hz')} = √(${r.parts.map((p) => `${p.name} ${si(p.density, 'V/√Hz')}`).join('² + ')}²)`;
+      this.onChange(show ? r.total : null);
+    } catch (err) {
+      this.result.textContent = (err as Error).message;
+      this.onChange(null);
+    }
+  }
+}

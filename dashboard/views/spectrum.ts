@@ -1,0 +1,310 @@
+// The spectrum chart: one trace per channel on a log-frequency axis, with max-hold, baseline, threshold and
+// expected-floor overlays, band shading, mains-harmonic markers and a cursor readout (density and tone RMS).
+import uPlot from 'uplot';
+import type { SpectrumContext, BandRow } from '../../agent/wire/messages.ts';
+import type { DecodedFrame } from '../../agent/wire/frame.ts';
+import { makeWindow } from '../../dsp/windows.ts';
+import { peakBin, toneAt } from '../../dsp/tone.ts';
+import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from '../units.ts';
+import { channelColour, withAlpha } from '../colours.ts';
+import { si, hz } from '../format.ts';
+
+export interface SpectrumOverlays {
+  maxHold: boolean;
+  baseline: boolean;
+  mains: boolean;
+  /** Expected floor from the noise budget, unit/√Hz, or null. */
+  expectedFloor: number | null;
+}
+
+const MAX_HARMONICS = 40;
+
+/** From the window, not the element: sizing from the element's own height would feed back through the chart. */
+function chartHeight(): number {
+  return Math.round(Math.min(480, Math.max(280, window.innerHeight * 0.42)));
+}
+
+export class SpectrumView {
+  private plot: uPlot | null = null;
+  private ctx: SpectrumContext | null = null;
+  private units: DensityUnit = 'asd';
+  private x = new Float64Array(0);
+  private live: Float64Array[] = [];
+  private held: Float64Array[] = [];
+  private heldPsd: Float64Array[] = [];
+  private base: Float64Array[] = [];
+  private thr: (number | null)[][] = [];
+  private floor = new Float64Array(0);
+  private data: uPlot.AlignedData = [[]];
+  private latest: DecodedFrame | null = null;
+  private baselineFrame: DecodedFrame | null = null;
+  private bands: BandRow[] = [];
+  private lobeHalfWidth = 2;
+  private cursorIdx: number | null = null;
+  overlays: SpectrumOverlays = { maxHold: false, baseline: true, mains: true, expectedFloor: null };
+
+  constructor(
+    private readonly el: HTMLElement,
+    private readonly readout: HTMLElement,
+  ) {
+    el.addEventListener('keydown', (e) => this.onKey(e));
+    new ResizeObserver(() => this.resize()).observe(el);
+  }
+
+  get context(): SpectrumContext | null {
+    return this.ctx;
+  }
+
+  /** The newest frame (for exports). */
+  get frame(): DecodedFrame | null {
+    return this.latest;
+  }
+
+  get unitChoice(): DensityUnit {
+    return this.units;
+  }
+
+  get canvas(): HTMLCanvasElement | null {
+    return this.plot ? (this.plot.ctx.canvas as HTMLCanvasElement) : null;
+  }
+
+  setContext(ctx: SpectrumContext): void {
+    this.ctx = ctx;
+    const n = ctx.bins - 1; // bin 0 (DC) has no place on a log-frequency axis
+    this.x = new Float64Array(n);
+    for (let i = 0; i < n; i++) this.x[i] = (i + 1) * ctx.binHz;
+    const C = ctx.channels.length;
+    const mk = () => Array.from({ length: C }, () => new Float64Array(n).fill(NaN));
+    this.live = mk();
+    this.held = mk();
+    this.base = mk();
+    this.heldPsd = Array.from({ length: C }, () => new Float64Array(n));
+    this.thr = Array.from({ length: C }, () => new Array<number | null>(n).fill(null));
+    this.floor = new Float64Array(n).fill(NaN);
+    try {
+      this.lobeHalfWidth = makeWindow(ctx.settings.window, ctx.settings.segment).mainLobeHalfWidth;
+    } catch {
+      this.lobeHalfWidth = 2;
+    }
+    this.latest = null;
+    this.rebuild();
+  }
+
+  setUnits(u: DensityUnit): void {
+    if (u === this.units) return;
+    this.units = u;
+    this.recomputeOverlays();
+    if (this.latest) this.convertLive(this.latest);
+    for (let c = 0; c < this.held.length; c++) convertInto(u, this.heldPsd[c], 0, this.held[c]);
+    this.rebuild();
+  }
+
+  setOverlays(o: Partial<SpectrumOverlays>): void {
+    this.overlays = { ...this.overlays, ...o };
+    this.recomputeOverlays();
+    if (!this.plot || !this.ctx) return;
+    const C = this.ctx.channels.length;
+    for (let c = 0; c < C; c++) {
+      this.plot.setSeries(1 + C + c, { show: this.overlays.maxHold });
+      this.plot.setSeries(1 + 2 * C + c, { show: this.overlays.baseline && this.baselineFrame !== null });
+      this.plot.setSeries(1 + 3 * C + c, { show: this.overlays.baseline && this.baselineFrame !== null });
+    }
+    this.plot.setSeries(1 + 4 * C, { show: this.overlays.expectedFloor !== null });
+    this.redraw();
+  }
+
+  resetMaxHold(): void {
+    for (let c = 0; c < this.held.length; c++) {
+      this.heldPsd[c].fill(0);
+      this.held[c].fill(NaN);
+    }
+    this.redraw();
+  }
+
+  setBaseline(f: DecodedFrame | null): void {
+    this.baselineFrame = f && this.ctx && f.length === this.ctx.bins ? f : null;
+    this.recomputeOverlays();
+    this.setOverlays({});
+  }
+
+  setBands(rows: BandRow[]): void {
+    const changed = rows.length !== this.bands.length || rows.some((r, i) => r.thresholdDb !== this.bands[i]?.thresholdDb || r.low !== this.bands[i]?.low);
+    this.bands = rows;
+    if (changed) {
+      this.recomputeOverlays();
+      this.redraw();
+    }
+  }
+
+  /** One spectrum update: convert into the fixed arrays, fold into max-hold, redraw. Allocates nothing. */
+  update(f: DecodedFrame): void {
+    if (!this.ctx || f.length !== this.ctx.bins || f.channels !== this.live.length) return;
+    this.latest = f;
+    this.convertLive(f);
+    const n = this.x.length;
+    const u = this.units;
+    for (let c = 0; c < f.channels; c++) {
+      const src = f.values[c];
+      const hp = this.heldPsd[c];
+      const hd = this.held[c];
+      for (let i = 0; i < n; i++) {
+        const p = src[i + 1];
+        if (p > hp[i]) {
+          hp[i] = p;
+          hd[i] = u === 'asd' ? Math.sqrt(p) : u === 'psd' ? p : 10 * Math.log10(p);
+        }
+      }
+    }
+    this.redraw();
+    if (this.cursorIdx !== null) this.showReadout(this.cursorIdx);
+  }
+
+  private convertLive(f: DecodedFrame): void {
+    for (let c = 0; c < f.channels; c++) convertInto(this.units, f.values[c], 1, this.live[c]);
+  }
+
+  private recomputeOverlays(): void {
+    const n = this.x.length;
+    const u = this.units;
+    const b = this.baselineFrame;
+    for (let c = 0; c < this.base.length; c++) {
+      const out = this.base[c];
+      const t = this.thr[c];
+      t.fill(null);
+      if (!b || c >= b.channels) {
+        out.fill(NaN);
+        continue;
+      }
+      convertInto(u, b.values[c], 1, out);
+      const name = this.ctx!.channels[c].name;
+      for (const row of this.bands) {
+        if (row.channel !== name || row.thresholdDb === null) continue;
+        const gain = 10 ** (row.thresholdDb / 10);
+        for (let i = 0; i < n; i++) {
+          const fq = this.x[i];
+          if (fq >= row.low && fq <= row.high) t[i] = fromPsd(u, b.values[c][i + 1] * gain);
+        }
+      }
+    }
+    const e = this.overlays.expectedFloor;
+    this.floor.fill(e === null ? NaN : (fromPsd(u, e * e) ?? NaN));
+  }
+
+  private redraw(): void {
+    if (!this.plot) return;
+    this.plot.setData(this.data, true);
+  }
+
+  private resize(): void {
+    if (this.plot) this.plot.setSize({ width: this.el.clientWidth, height: chartHeight() });
+  }
+
+  private rebuild(): void {
+    this.plot?.destroy();
+    this.plot = null;
+    const ctx = this.ctx;
+    if (!ctx) return;
+    const C = ctx.channels.length;
+    const unit = ctx.channels[0]?.unit ?? 'V';
+    const label = densityLabel(this.units, unit);
+    const series: uPlot.Series[] = [{ label: 'f', value: (_u, v) => (v == null ? '—' : hz(v)) }];
+    const fmt = (_u: uPlot, v: number | null) => (v == null || !Number.isFinite(v) ? '—' : this.units === 'dbv' ? `${v.toFixed(1)}` : si(v, ''));
+    for (let c = 0; c < C; c++) series.push({ label: ctx.channels[c].name, stroke: channelColour(c), width: 1.25, value: fmt, spanGaps: false });
+    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} max`, stroke: withAlpha(channelColour(c), 0.45), width: 1, show: this.overlays.maxHold, value: fmt });
+    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} baseline`, stroke: withAlpha(channelColour(c), 0.8), dash: [6, 4], width: 1, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
+    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} threshold`, stroke: '#b4232c', dash: [2, 3], width: 1, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
+    series.push({ label: 'expected floor', stroke: '#2f7d32', dash: [10, 4], width: 1.5, show: this.overlays.expectedFloor !== null, value: fmt });
+    this.data = [this.x, ...this.live, ...this.held, ...this.base, ...this.thr, this.floor] as unknown as uPlot.AlignedData;
+    const log = isLogAxis(this.units);
+    const opts: uPlot.Options = {
+      width: Math.max(300, this.el.clientWidth),
+      height: chartHeight(),
+      pxAlign: 0,
+      legend: { show: true, live: false },
+      cursor: { drag: { x: true, y: false }, focus: { prox: 16 } },
+      scales: {
+        x: { time: false, distr: 3, log: 10 },
+        y: log ? { distr: 3, log: 10 } : { distr: 1 },
+      },
+      axes: [
+        { label: 'Frequency, Hz', values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${v / 1000}k` : `${v}`)), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+        { label, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : log ? si(v, '', 2) : v.toFixed(0))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+      ],
+      series,
+      hooks: {
+        drawClear: [(u) => this.drawBackdrop(u)],
+        setCursor: [(u) => {
+          this.cursorIdx = u.cursor.idx ?? null;
+          if (this.cursorIdx !== null) this.showReadout(this.cursorIdx);
+        }],
+      },
+    };
+    this.plot = new uPlot(opts, this.data, this.el);
+  }
+
+  /** Band shading and mains-harmonic markers, drawn under the traces. */
+  private drawBackdrop(u: uPlot): void {
+    const c = u.ctx;
+    const { top, height, left, width } = u.bbox;
+    c.save();
+    const seen = new Set<string>();
+    let shade = 0;
+    for (const b of this.bands) {
+      const key = `${b.low}-${b.high}`;
+      if (seen.has(key)) continue;
+      seen.add(key);
+      const x0 = Math.max(left, u.valToPos(Math.max(b.low, this.x[0] ?? 1), 'x', true));
+      const x1 = Math.min(left + width, u.valToPos(b.high, 'x', true));
+      if (!(x1 > x0)) continue;
+      c.fillStyle = shade++ % 2 ? 'rgba(13, 107, 99, 0.05)' : 'rgba(161, 92, 7, 0.06)';
+      c.fillRect(x0, top, x1 - x0, height);
+    }
+    const mains = this.ctx?.mainsHz;
+    if (this.overlays.mains && mains) {
+      c.strokeStyle = 'rgba(180, 35, 44, 0.35)';
+      c.setLineDash([3, 5]);
+      c.lineWidth = 1;
+      const fMax = this.x[this.x.length - 1] ?? 0;
+      for (let k = 1; k <= MAX_HARMONICS && k * mains <= fMax; k++) {
+        const px = Math.round(u.valToPos(k * mains, 'x', true)) + 0.5;
+        c.beginPath();
+        c.moveTo(px, top);
+        c.lineTo(px, top + height);
+        c.stroke();
+      }
+    }
+    c.restore();
+  }
+
+  private showReadout(idx: number): void {
+    const ctx = this.ctx;
+    const f = this.latest;
+    if (!ctx || !f || idx < 0 || idx >= this.x.length) return;
+    const unit = ctx.channels[0]?.unit ?? 'V';
+    const parts = [`f = ${hz(this.x[idx])}`];
+    const h = Math.ceil(this.lobeHalfWidth);
+    for (let c = 0; c < f.channels; c++) {
+      const psd = Float64Array.from(f.values[c]); // dsp/tone.ts reads float64; a copy only when the cursor moves
+      const bin = idx + 1;
+      const d = fromPsd(this.units, psd[bin]);
+      const dens = d === null ? '—' : this.units === 'dbv' ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}` : si(d, densityLabel(this.units, unit));
+      // Tone level: the largest bin within one main lobe of the cursor, summed over its lobe (dsp/tone.ts).
+      const peak = peakBin(psd, Math.max(1, bin - h), Math.min(psd.length - 1, bin + h));
+      const tone = toneAt(psd, ctx.binHz, this.lobeHalfWidth, peak);
+      parts.push(`${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)} at ${hz(tone.frequency)}`);
+    }
+    this.readout.textContent = parts.join(' · ');
+  }
+
+  private onKey(e: KeyboardEvent): void {
+    if (!this.plot || (e.key !== 'ArrowLeft' && e.key !== 'ArrowRight')) return;
+    e.preventDefault();
+    const step = (e.shiftKey ? 10 : 1) * (e.key === 'ArrowLeft' ? -1 : 1);
+    const n = this.x.length;
+    const idx = Math.min(n - 1, Math.max(0, (this.cursorIdx ?? Math.floor(n / 2)) + step));
+    const left = this.plot.valToPos(this.x[idx], 'x');
+    this.plot.setCursor({ left, top: this.plot.bbox.height / (2 * devicePixelRatio) });
+    this.cursorIdx = idx;
+    this.showReadout(idx);
+  }
+}

@@ -1,0 +1,195 @@
+// The dashboard in real headless Chromium against the real agent (`floorline replay` of a seeded recording of our
+// invented bench). Values shown are checked against the agent's own /api/status and against files on disk.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { execFileSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { BrowserContext, Page } from 'playwright-core';
+import { launchChromium, ARTIFACTS } from './support/browser.ts';
+import { startAgent, freePort, type Agent } from './support/agent.ts';
+import type { AgentStatus } from '../../agent/wire/messages.ts';
+
+const dir = mkdtempSync(join(tmpdir(), 'floorline-browser-'));
+let browser: BrowserContext;
+const agents: Agent[] = [];
+
+beforeAll(async () => {
+  execFileSync('python3', [new URL('./support/make_rig_recording.py', import.meta.url).pathname, dir]);
+  browser = await launchChromium();
+});
+afterAll(async () => {
+  await Promise.all(agents.map((a) => a.stop()));
+  await browser?.close();
+});
+
+async function agent(args: string[]): Promise<Agent> {
+  const a = await startAgent(args);
+  agents.push(a);
+  return a;
+}
+
+// Page-side code is passed as strings: the root tsconfig has no DOM types, on purpose (agent code must not use them).
+const applied = (p: Page): Promise<number> => p.evaluate('window.floorline.spectraApplied');
+
+/** Polls a page-side expression until it is truthy (page.evaluate runs under the page's CSP without eval). */
+async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
+  const end = Date.now() + timeoutMs;
+  while (!(await page.evaluate(expression))) {
+    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}`);
+    await new Promise((r) => setTimeout(r, 50));
+  }
+}
+
+async function openDashboard(url: string): Promise<Page> {
+  const page = await browser.newPage();
+  const errors: string[] = [];
+  page.on('pageerror', (e) => errors.push(e.message));
+  await page.goto(url);
+  await waitUntil(page, 'window.floorline !== undefined && window.floorline.spectraApplied >= 3', 20_000);
+  expect(errors).toEqual([]);
+  return page;
+}
+
+/** Pixels of the chart canvas that are neither background nor grid: drawn traces. */
+async function tracePixels(page: Page, rgb: [number, number, number]): Promise<number> {
+  return page.evaluate(`(() => {
+    const c = ${JSON.stringify(rgb)};
+    const canvas = document.querySelector('#spectrum canvas');
+    const d = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height).data;
+    let n = 0;
+    for (let i = 0; i < d.length; i += 4) if (Math.abs(d[i] - c[0]) < 24 && Math.abs(d[i + 1] - c[1]) < 24 && Math.abs(d[i + 2] - c[2]) < 24 && d[i + 3] > 200) n++;
+    return n;
+  })()`);
+}
+
+describe('dashboard against a running replay', () => {
+  let a: Agent;
+  let page: Page;
+
+  beforeAll(async () => {
+    a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--http-port', '0', '--data', join(dir, 'data')]);
+    page = await openDashboard(a.url);
+  });
+
+  it('loads the replay, shows the replay banner, and draws one trace per channel on the spectrum canvas', async () => {
+    await page.screenshot({ path: join(ARTIFACTS, 'dashboard-replay.png') });
+    expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*fault\.wav/);
+    expect(await page.isVisible('#replay-banner')).toBe(true);
+    // Channel colours #0b6e99 and #c2410c (dashboard/colours.ts): thousands of trace pixels each, none before data.
+    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0xc2, 0x41, 0x0c])).toBeGreaterThan(300);
+    expect(await page.textContent('#spectral-context')).toMatch(/hann window · ENBW 1\.500 bins/); // Hann NENBW = 1.5 bins (Harris 1978, Table 1)
+    const health = await page.textContent('#health');
+    expect(health).toMatch(/8\u2009000 S\/s/);
+  });
+
+  it('shows band figures identical to /api/status for the same spectrum', async () => {
+    const seen = new Map<number, AgentStatus['bands']>();
+    const deadline = Date.now() + 15_000;
+    let match: { sample: number; dom: string[][] } | null = null;
+    while (!match && Date.now() < deadline) {
+      const st = (await (await fetch(`${a.url}api/status`)).json()) as AgentStatus;
+      if (st.spectrumSample !== null) seen.set(st.spectrumSample, st.bands);
+      const dom: { sample: number; rows: string[][] } = await page.evaluate(`(() => {
+        const body = document.querySelector('#bands tbody');
+        return { sample: Number(body.dataset.sample), rows: Array.from(body.rows).map((r) => [r.dataset.channel, r.dataset.band, r.cells[2].dataset.value]) };
+      })()`);
+      if (seen.has(dom.sample)) match = { sample: dom.sample, dom: dom.rows };
+      else await new Promise((r) => setTimeout(r, 20));
+    }
+    expect(match, 'page and API never showed the same spectrum').not.toBeNull();
+    const api = seen.get(match!.sample)!;
+    expect(match!.dom.length).toBe(api.length);
+    expect(api.length).toBeGreaterThanOrEqual(4);
+    for (const b of api) {
+      const row = match!.dom.find((r) => r[0] === b.channel && r[1] === `${b.low}-${b.high}`);
+      expect(row, `${b.channel} ${b.low}-${b.high}`).toBeDefined();
+      expect(Number(row![2])).toBe(b.rms);
+    }
+    // And the figures are the floors the recording was made with: white noise of σ over a band B has RMS
+    // σ·sqrt(2B/fs) (one-sided density 2σ²/fs, common practice); ch0 σ = 1 µV, before the fault at 20 s.
+    const whole = api.find((b) => b.channel === 'ch0' && b.high - b.low > 3000)!;
+    expect(whole.rms / (1e-6 * Math.sqrt((2 * (whole.high - whole.low)) / 8000))).toBeGreaterThan(0.85);
+    expect(whole.rms / (1e-6 * Math.sqrt((2 * (whole.high - whole.low)) / 8000))).toBeLessThan(1.15);
+  });
+
+  it('captures a baseline when the button is clicked and writes it into the data folder', async () => {
+    await page.fill('#baseline-seconds', '3');
+    await page.click('#capture-baseline');
+    await waitUntil(page, `/baseline saved: baselines\\//.test(document.getElementById('control-message').textContent)`, 20_000);
+    const msg = (await page.textContent('#control-message'))!;
+    const file = /baselines\/\S+\.json/.exec(msg)![0];
+    const path = join(dir, 'data', file);
+    expect(existsSync(path)).toBe(true);
+    const b = JSON.parse(readFileSync(path, 'utf8'));
+    expect(b.schema).toBe('floorline.baseline/1');
+    expect(b.channels.map((c: { name: string }) => c.name)).toEqual(['ch0', 'ch1']);
+    expect(b.channels[0].psd.length).toBe(4096 / 2 + 1);
+    expect(b.span.seconds).toBeCloseTo(3, 3);
+    // The band table then carries baseline figures.
+    await waitUntil(page, `Array.from(document.querySelectorAll('#bands tbody tr')).every((r) => r.cells[3].dataset.value !== '')`, 10_000);
+  });
+
+  it('exports the spectrum as CSV that numpy reads, with its context header and units row', async () => {
+    const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#export-csv')]);
+    const path = join(dir, 'spectrum.csv');
+    await dl.saveAs(path);
+    const text = readFileSync(path, 'utf8');
+    expect(text).toMatch(/^# floorline spectrum\n/);
+    expect(Number(/\n# enbw_hz,(\S+)\n/.exec(text)![1])).toBeCloseTo(1.5 * (8000 / 4096), 12); // Hann: 1.5 bins × 8000/4096 Hz
+    const lines = text.split('\n').filter((l) => !l.startsWith('#'));
+    expect(lines[0]).toBe('frequency,ch0,ch1');
+    expect(lines[1]).toBe('Hz,V/√Hz,V/√Hz');
+    const skip = text.split('\n').findIndex((l) => /^[0-9]/.test(l)); // '#' context lines, the names row and the units row
+    const py = `import numpy as np; a = np.loadtxt(${JSON.stringify(path)}, delimiter=',', skiprows=${skip}, encoding='utf-8'); print(a.shape[0], a.shape[1], a[1,0], a[-1,0])`;
+    const out = execFileSync('python3', ['-c', py], { encoding: 'utf8' }).trim().split(' ');
+    expect(out.map(Number)).toEqual([2049, 3, 8000 / 4096, 4000]);
+  });
+});
+
+describe('alarms and restarts', () => {
+  it('lists the band-rise alarm when the recording’s fault plays (replay at 4×) and acknowledges it', async () => {
+    const base = join(dir, 'quiet-baseline.json');
+    execFileSync(process.execPath, ['bin/floorline.mjs', 'baseline', join(dir, 'quiet.wav'), '--scale', '1', '-o', base], { cwd: new URL('../../', import.meta.url).pathname });
+    // --loop keeps the agent up after the 40 s recording (10 s of wall time) so the acknowledge can be answered.
+    const a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--speed', '4', '--loop', '--snapshot-rate', '5', '--baseline', base, '--http-port', '0', '--data', join(dir, 'data-alarm')]);
+    const page = await openDashboard(a.url);
+    // Rows are newest first: the last matching row is the first raise.
+    const row = page.locator('#events tbody tr[data-rule="band-rise"][data-state="raised"][data-channel="ch1"]').last();
+    await row.waitFor({ state: 'attached', timeout: 30_000 }).catch(async (e) => {
+      console.log(await page.evaluate(`JSON.stringify(Array.from(document.querySelectorAll('#events tbody tr')).map((r) => [r.dataset.rule, r.dataset.channel, r.dataset.state, r.cells[0].textContent]))`));
+      await page.screenshot({ path: join(ARTIFACTS, 'dashboard-alarm-failed.png') });
+      throw e;
+    });
+    const t = Number(await row.locator('td').first().textContent());
+    expect(t).toBeGreaterThan(20); // the fault starts at t = 20 s of sample time
+    expect(t).toBeLessThan(32);
+    await page.screenshot({ path: join(ARTIFACTS, 'dashboard-alarm.png') });
+    await row.locator('button.ack').click();
+    // The agent's alarm state says so (the fault lasts 20 s of sample time, 5 s of wall time at 4×, so the click
+    // lands while the alarm is raised), and the row's button turns into a label.
+    await expect
+      .poll(async () => ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).alarms.find((x) => x.rule === 'band-rise' && x.channel === 'ch1')?.acknowledged, { timeout: 10_000 })
+      .toBe(true);
+    await expect.poll(() => row.locator('td').last().textContent(), { timeout: 10_000 }).toBe('acknowledged');
+    await page.close();
+    await a.stop();
+  });
+
+  it('reconnects and shows live data again after the agent restarts on the same port', async () => {
+    const port = await freePort();
+    const args = ['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--http-port', String(port), '--data', join(dir, 'data-restart')];
+    const first = await agent(args);
+    const page = await openDashboard(first.url);
+    await first.stop();
+    await waitUntil(page, `document.body.dataset.link === 'down'`, 10_000);
+    const before = await applied(page);
+    const second = await agent(args);
+    await waitUntil(page, `document.body.dataset.link === 'up'`, 15_000);
+    await expect.poll(() => applied(page), { timeout: 15_000 }).toBeGreaterThan(before + 3);
+    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
+    await page.close();
+    await second.stop();
+  });
+});
