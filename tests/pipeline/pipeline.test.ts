@@ -1,10 +1,17 @@
 // The pipeline's spectra against scipy.signal.welch on the same samples, and its sample-time rules.
-import { describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Pipeline, type PipelineOptions } from '../../agent/pipeline/pipeline.ts';
 import type { SpectrumSnapshot, ClipNotice, OverrunNotice } from '../../agent/pipeline/types.ts';
 import type { GapNotice, StreamInfo } from '../../agent/core/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { maxRelativeError, scipyWelch } from './scipy-welch.ts';
+import { Python } from '../wav/support.ts';
+
+let py: Python;
+beforeAll(() => {
+  py = new Python();
+});
+afterAll(() => py.close());
 
 const RATE = 2048;
 const SEGMENT = 256;
@@ -61,7 +68,7 @@ function collect(options: PipelineOptions = {}) {
 }
 
 describe('Pipeline', () => {
-  it('snapshot spectra equal scipy.signal.welch of the scaled samples up to the snapshot instant', () => {
+  it('snapshot spectra equal scipy.signal.welch of the scaled samples up to the snapshot instant', async () => {
     const frames = 6 * RATE;
     const raw = rawCounts(frames);
     const { p, snaps } = collect();
@@ -72,7 +79,7 @@ describe('Pipeline', () => {
     const chosen = [snaps[0], snaps[Math.floor(snaps.length / 2)], snaps[snaps.length - 1]];
     // Reference: scipy.signal.welch(x[:sample+1], fs, 'hann', nperseg=256, noverlap=128, detrend='constant'),
     // x = float32(raw · scale) (the precision recordings keep); scipy drops the trailing partial segment as we do.
-    const refs = scipyWelch({
+    const refs = await scipyWelch(py, {
       channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
       cases: chosen.map((s) => [[0, s.sample + 1]]), scale: SCALE, fround: true,
     });
@@ -83,7 +90,7 @@ describe('Pipeline', () => {
     }
   });
 
-  it('takes snapshots only at samples s with (s + 1) mod round(rate / snapshotRate) = 0 and stamps t = s / rate', () => {
+  it('takes snapshots only at samples s with (s + 1) mod round(rate / snapshotRate) = 0 and stamps t = s / rate', async () => {
     const frames = 5 * RATE;
     const raw = rawCounts(frames);
     const { p, snaps } = collect({ snapshotRate: 10 });
@@ -100,7 +107,7 @@ describe('Pipeline', () => {
     }
   });
 
-  it('gives bit-identical snapshots for any block sizes', () => {
+  it('gives bit-identical snapshots for any block sizes', async () => {
     const frames = 4 * RATE + 77;
     const raw = rawCounts(frames, 11);
     const runs: SpectrumSnapshot[][] = [];
@@ -120,14 +127,14 @@ describe('Pipeline', () => {
     p.info(streamInfo());
     feed(p, raw, 0, frames, [1, 999, 5000]);
     const last = snaps[snaps.length - 1];
-    const ref = scipyWelch({
+    const ref = (await scipyWelch(py, {
       channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
       cases: [[[0, last.sample + 1]]], scale: SCALE, fround: true,
-    })[0];
+    }))[0];
     expect(maxRelativeError(last.channels[1].psd, ref.psd[1])).toBeLessThan(1e-9);
   });
 
-  it('restarts segments at the first step multiple after a gap, so the estimate is the mean of both pieces', () => {
+  it('restarts segments at the first step multiple after a gap, so the estimate is the mean of both pieces', async () => {
     const frames = 6 * RATE;
     const raw = rawCounts(frames, 5);
     const gapAt = 2 * RATE + 100;
@@ -142,15 +149,15 @@ describe('Pipeline', () => {
     const last = snaps[snaps.length - 1];
     const resume = Math.ceil((gapAt + lost) / STEP) * STEP;
     // scipy.signal.welch on [0, gapAt) and on [resume, last.sample + 1), combined as the mean of all segments.
-    const ref = scipyWelch({
+    const ref = (await scipyWelch(py, {
       channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
       cases: [[[0, gapAt], [resume, last.sample + 1]]], scale: SCALE, fround: true,
-    })[0];
+    }))[0];
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     for (let c = 0; c < 2; c++) expect(maxRelativeError(last.channels[c].psd, ref.psd[c])).toBeLessThan(1e-9);
   });
 
-  it('treats a jump in block indices as a gap of the missing samples', () => {
+  it('treats a jump in block indices as a gap of the missing samples', async () => {
     const raw = rawCounts(3 * RATE);
     const { p, gaps } = collect();
     p.info(streamInfo());
@@ -160,7 +167,7 @@ describe('Pipeline', () => {
     expect(gaps[0]).toMatchObject({ sample: RATE, lost: 50 });
   });
 
-  it('counts samples within 0.1 % of full scale as clipped, as numpy counts |x| ≥ 0.999·FS', () => {
+  it('counts samples within 0.1 % of full scale as clipped, as numpy counts |x| ≥ 0.999·FS', async () => {
     const raw = rawCounts(RATE);
     // Samples at, just inside and just outside the 0.1 % band below full scale (32768 counts): common practice.
     const marks: [number, number][] = [[10, 32767], [20, -32768], [30, 32735], [40, 32734], [50, -32736], [60, 32700]];
@@ -195,10 +202,10 @@ describe('Pipeline', () => {
     // mean over both.
     const last = snaps[snaps.length - 1];
     expect(last.sample).toBeGreaterThan(5120 + SEGMENT);
-    const ref = scipyWelch({
+    const ref = (await scipyWelch(py, {
       channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
       cases: [[[0, 1024], [5120, last.sample + 1]]], scale: SCALE, fround: true,
-    })[0];
+    }))[0];
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
   });

@@ -1,11 +1,39 @@
-// Calls tests/pipeline/scipy_welch.py: scipy.signal.welch (average='mean') over pieces of interleaved samples.
-import { spawnSync } from 'node:child_process';
+// scipy.signal.welch (average='mean') over pieces of interleaved samples, through one long-lived python3 process
+// (tests/wav/support.ts Python: importing scipy costs seconds, so a test file pays it once).
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { Python } from '../wav/support.ts';
 
-const script = fileURLToPath(new URL('./scipy_welch.py', import.meta.url));
+// Each piece [a, b) goes to scipy.signal.welch on its own; the per-piece means are combined weighted by their
+// segment counts (the mean over every segment of every piece). Channels are scaled, then rounded to float32
+// when fround is set.
+const CODE = String.raw`
+req = args[0]
+raw = np.fromfile(req["path"], dtype="<f8").reshape(req["frames"], req["channels"])
+step = req["nperseg"] - req["noverlap"]
+xs = []
+for c in range(req["channels"]):
+    x = raw[:, c] * req["scale"][c]
+    if req["fround"]:
+        x = x.astype(np.float32).astype(np.float64)
+    xs.append(x)
+def case(pieces, x):
+    acc, k_all = None, 0
+    for a, b in pieces:
+        if b - a < req["nperseg"]:
+            continue
+        k = (b - a - req["nperseg"]) // step + 1
+        _, p = signal.welch(x[a:b], fs=req["fs"], window=req["window"], nperseg=req["nperseg"], noverlap=req["noverlap"],
+                            detrend=req["detrend"], scaling="density", average="mean")
+        acc = p * k if acc is None else acc + p * k
+        k_all += k
+    return (acc / k_all).tolist(), k_all
+result = []
+for pieces in req["cases"]:
+    rs = [case(pieces, x) for x in xs]
+    result.append({"psd": [r[0] for r in rs], "segments": rs[0][1]})
+`;
 
 export interface ScipyWelchRequest {
   channels: Float64Array[];
@@ -20,19 +48,17 @@ export interface ScipyWelchRequest {
   fround: boolean;
 }
 
-export function scipyWelch(req: ScipyWelchRequest): { psd: number[][]; segments: number }[] {
+export async function scipyWelch(py: Python, req: ScipyWelchRequest): Promise<{ psd: number[][]; segments: number }[]> {
   const frames = req.channels[0].length;
-  const inter = new Float64Array(frames * req.channels.length);
-  for (let i = 0; i < frames; i++) for (let c = 0; c < req.channels.length; c++) inter[i * req.channels.length + c] = req.channels[c][i];
+  const n = req.channels.length;
+  const inter = new Float64Array(frames * n);
+  for (let i = 0; i < frames; i++) for (let c = 0; c < n; c++) inter[i * n + c] = req.channels[c][i];
   const dir = mkdtempSync(join(tmpdir(), 'floorline-welch-'));
   try {
     const path = join(dir, 'x.f64');
     writeFileSync(path, new Uint8Array(inter.buffer));
     const { channels, ...rest } = req;
-    const input = JSON.stringify({ ...rest, path, channels: channels.length, frames });
-    const r = spawnSync('python3', [script], { input, encoding: 'utf8', maxBuffer: 256 << 20 });
-    if (r.status !== 0) throw new Error(`scipy_welch.py failed: ${r.stderr}`);
-    return JSON.parse(r.stdout);
+    return await py.run(CODE, { ...rest, path, channels: channels.length, frames });
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
