@@ -1,0 +1,98 @@
+// `floorline run --port PATH`: live from a board over USB serial (binary framed or text), through the pipeline,
+// with alarms, event log, recording and the dashboard.
+import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { UsageError } from '../usage-error.ts';
+import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, alarmDetectors, readAlarmFlags, readPipelineFlags, readRecordingFlags } from './pipeline-flags.ts';
+import { Pipeline } from '../../pipeline/pipeline.ts';
+import { SerialSource } from '../../sources/serial.ts';
+import { SERVER_FLAGS } from '../../server/cli-flags.ts';
+import { serveDashboard } from '../../server/serve.ts';
+import type { Detector } from '../../pipeline/types.ts';
+import { startSession } from './session.ts';
+
+async function runLive(args: ParsedArgs): Promise<number> {
+  const f = args.flags;
+  const port = f.port as string | undefined;
+  if (!port) throw new UsageError('floorline run: --port is required: a device path (/dev/serial/by-id/…), VID:PID or serial=SERIAL; see `floorline ports`.');
+  const format = f.format as 'binary' | 'text';
+  if (format === 'text' && f.rate === undefined) {
+    throw new UsageError('floorline run: --format text needs --rate HZ (a text board sends no descriptor), e.g. --rate 1000.');
+  }
+  const flags = readPipelineFlags(args, 'run');
+  const rec = readRecordingFlags(args);
+  const alarms = await readAlarmFlags(args, 'run');
+  const pipeline = new Pipeline({
+    analysis: flags.analysis,
+    averaging: flags.averaging,
+    snapshotRate: flags.snapshotRate,
+    mode: 'bounded',
+    queueCapacity: f.queue as number,
+  });
+  const quiet = f.quiet as boolean;
+  const source = new SerialSource({
+    port,
+    baudRate: f.baud as number,
+    format,
+    rate: f.rate as number | undefined,
+    unit: f.unit as string,
+    scale: f.scale as number,
+    log: (line) => process.stderr.write(`floorline run: ${line}\n`),
+  });
+  let installed: Detector[] = [];
+  const session = await startSession({
+    command: 'run',
+    pipeline,
+    source,
+    dataDir: flags.data,
+    record: rec.record,
+    recorder: rec.recorder,
+    statusEvery: rec.statusEvery,
+    quiet,
+    detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
+    eventsOut: alarms.eventsOut,
+    serve: f['no-server']
+      ? undefined
+      : serveDashboard({
+          pipeline, source, args, detectors: () => installed,
+          baseline: alarms.baseline && alarms.baselinePath ? { file: alarms.baselinePath, baseline: alarms.baseline } : undefined,
+        }),
+  });
+  const duration = f.duration as number | undefined;
+  if (duration !== undefined) {
+    // Stop after this much sample time (the wall clock plays no part).
+    pipeline.on('block', (b) => {
+      const rate = pipeline.stream?.sampleRate ?? 0;
+      if (rate && b.firstSample + b.frames >= (pipeline.stream!.firstSample) + duration * rate) void session.stop();
+    });
+  }
+  await session.finished;
+  return 0;
+}
+
+export const runCommand: CommandSpec = {
+  name: 'run',
+  summary: 'monitor a board live over USB serial: spectra, band RMS, alarms, recording, dashboard',
+  details: [
+    'Binary boards describe themselves (rate, channels, units, volts per count); text boards print one line per',
+    'sample instant and need --rate. Blocks the analysis cannot keep up with are dropped whole and counted.',
+    'Example: floorline run --port /dev/serial/by-id/usb-…-if00 --baseline floorline-data/baselines/quiet.json',
+  ].join('\n'),
+  positionals: [],
+  flags: [
+    { name: 'port', kind: 'string', value: 'PATH', help: 'serial device path, VID:PID[:SERIAL] or serial=SERIAL (see `floorline ports`)' },
+    { name: 'baud', kind: 'number', value: 'N', integer: true, min: 1, default: 921600, help: 'baud rate (ignored by USB CDC boards and ptys)' },
+    { name: 'format', kind: 'string', value: 'FMT', choices: ['binary', 'text'], default: 'binary', help: 'wire format' },
+    { name: 'rate', kind: 'number', value: 'HZ', min: 0.001, help: 'sample rate of a text-mode board' },
+    { name: 'unit', kind: 'string', value: 'U', default: 'V', help: 'unit of a text-mode board' },
+    { name: 'scale', kind: 'number', value: 'X', min: Number.MIN_VALUE, default: 1, help: 'unit per printed value of a text-mode board' },
+    { name: 'duration', kind: 'number', value: 'S', min: 0, help: 'stop after S seconds of sample time' },
+    { name: 'queue', kind: 'number', value: 'N', integer: true, min: 1, max: 100000, default: 64, help: 'blocks queued for analysis before whole blocks are dropped' },
+    { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard' },
+    { name: 'quiet', kind: 'boolean', help: 'print only errors and the summary' },
+    ...ALARM_FLAGS,
+    ...RECORDING_FLAGS,
+    ...PIPELINE_FLAGS,
+    ...SERVER_FLAGS,
+  ],
+  run: runLive,
+};

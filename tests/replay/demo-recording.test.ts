@@ -1,0 +1,100 @@
+// The bundled demo recording: it is what its committed scenario makes, its scripted events are in the samples
+// (checked with numpy/scipy.signal.welch), and `floorline demo` raises the matching alarms at those times.
+import { spawnSync } from 'node:child_process';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { Python, root, tempDir } from '../wav/support.ts';
+
+const bin = join(root, 'bin/floorline.mjs');
+const demo = join(root, 'recordings/demo.wav');
+const RATE = 8000;
+let dir: string;
+let py: Python;
+
+beforeAll(() => {
+  dir = tempDir('demo');
+  py = new Python();
+});
+afterAll(() => py.close());
+
+describe('demo recording', () => {
+  it('is what `floorline simulate recordings/demo-scenario.json` makes, sample for sample', async () => {
+    const out = join(dir, 'again.wav');
+    const r = spawnSync(process.execPath, [bin, 'simulate', join(root, 'recordings/demo-scenario.json'), '--out', out], { encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(0);
+    const same = await py.run<boolean>(`a = wavfile.read(args[0]); b = wavfile.read(args[1]); result = bool(a[0] == b[0] and np.array_equal(a[1], b[1]))`, demo, out);
+    expect(same).toBe(true);
+  });
+
+  it('holds the scripted events of recordings/README.md, as numpy and scipy.signal.welch see them', async () => {
+    const m = await py.run<Record<string, number>>(
+      `fs, x = wavfile.read(args[0]); x = x.astype(np.float64)
+def spec(c, a, b):
+    return signal.welch(x[int(a * fs):int(b * fs), c], fs=fs, nperseg=4096)
+def line_rms(c, a, b, f0):
+    # RMS of a line: band power within ±4 bins minus the local floor (median density) over the same width
+    f, p = spec(c, a, b); df = f[1]
+    k = np.abs(f - f0) <= 4 * df
+    floor = np.median(p[(np.abs(f - f0) > 10 * df) & (np.abs(f - f0) < 60 * df)])
+    return float(np.sqrt(max(np.sum(p[k] - floor) * df, 0.0)))
+def median_asd(c, a, b, lo, hi):
+    f, p = spec(c, a, b)
+    return float(np.sqrt(np.median(p[(f >= lo) & (f <= hi)])))
+fsv = 8388607 * 2.98e-7
+clip = np.nonzero(np.abs(x[:, 0]) >= 0.999 * fsv)[0]
+result = {
+  "mainsBefore": line_rms(0, 2, 19.5, 50), "mainsAfter": line_rms(0, 21, 37, 50), "h3After": line_rms(0, 21, 37, 150),
+  "spurBefore": line_rms(1, 2, 29.5, 1953.3), "spurAfter": line_rms(1, 31, 60, 1953.3),
+  "floorQuiet": median_asd(0, 2, 19.5, 400, 1100), "floorRise": median_asd(0, 38.5, 45.5, 400, 1100), "floorAfter": median_asd(0, 46.5, 51.5, 400, 1100),
+  "clipFirst": float(clip[0]) if len(clip) else -1.0, "clipLast": float(clip[-1]) if len(clip) else -1.0, "clipCount": float(len(clip)),
+}`,
+      demo,
+    );
+    // Mains 50 Hz at 3 µV rms from t = 20 s only (third harmonic 1.2 µV); within 20 %: the estimate has ~40 averages.
+    expect(m.mainsBefore).toBeLessThan(0.3e-6);
+    expect(m.mainsAfter).toBeGreaterThan(2.4e-6);
+    expect(m.mainsAfter).toBeLessThan(3.6e-6);
+    expect(m.h3After).toBeGreaterThan(0.96e-6);
+    expect(m.h3After).toBeLessThan(1.44e-6);
+    // Switching spur 0.6 µV rms on the board's shorted input from t = 30 s.
+    expect(m.spurBefore).toBeLessThan(0.1e-6);
+    expect(m.spurAfter).toBeGreaterThan(0.48e-6);
+    expect(m.spurAfter).toBeLessThan(0.72e-6);
+    // Floor 40 nV/√Hz; from 38 to 46 s 130 nV/√Hz is added in 300–1200 Hz: √(40² + 130²) = 136 nV/√Hz.
+    // (median of a χ² density is below its mean by ~1 − 2/(9ν) for ν = 2·K: small here; ±15 % covers it)
+    expect(m.floorQuiet).toBeGreaterThan(34e-9);
+    expect(m.floorQuiet).toBeLessThan(46e-9);
+    expect(m.floorRise).toBeGreaterThan(116e-9);
+    expect(m.floorRise).toBeLessThan(156e-9);
+    expect(m.floorAfter).toBeLessThan(46e-9);
+    // Clipped samples (|x| ≥ 0.999 FS) only inside the overload at 52.0–52.1 s.
+    expect(m.clipCount).toBeGreaterThan(0);
+    expect(m.clipFirst).toBeGreaterThanOrEqual(52 * RATE);
+    expect(m.clipLast).toBeLessThan(52.1 * RATE);
+  });
+
+  it('`floorline demo` raises mains, spur, band-rise and clip alarms after their scripted times', () => {
+    const data = join(dir, 'data');
+    const r = spawnSync(process.execPath, [bin, 'demo', '--speed', 'max', '--no-loop', '--no-server', '--quiet', '--data', data], { encoding: 'utf8', timeout: 120_000 });
+    expect(r.status, r.stderr).toBe(0);
+    const events = readFileSync(join(data, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+    const first = (rule: string, channel: string) => events.find((e) => e.rule === rule && e.channel === channel && e.state === 'raised');
+    const mains = first('mains', 'bridge');
+    const spur = first('spur', 'shorted');
+    const rise = first('band-rise', 'bridge');
+    const clip = first('clip', 'bridge');
+    // Scripted times (recordings/README.md): mains 20 s, spur 30 s, floor rise 38–46 s, clip 52.0–52.1 s.
+    expect(mains.t).toBeGreaterThanOrEqual(20);
+    expect(mains.t).toBeLessThan(25);
+    expect(spur.t).toBeGreaterThanOrEqual(30);
+    expect(spur.t).toBeLessThan(35);
+    expect(Math.abs(spur.frequency - 1953.3)).toBeLessThan(RATE / 4096);
+    expect(rise.t).toBeGreaterThanOrEqual(38);
+    expect(rise.t).toBeLessThan(47);
+    expect(clip.sample).toBeGreaterThanOrEqual(52 * RATE);
+    expect(clip.sample).toBeLessThan(52.1 * RATE);
+    // Nothing is raised during the quiet start the baseline was taken from.
+    expect(events.filter((e) => e.state === 'raised' && e.t < 20)).toEqual([]);
+  });
+});
