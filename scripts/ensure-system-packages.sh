@@ -1,0 +1,19 @@
+#!/usr/bin/env bash
+# Run before `npm test`: the integration suites need socat (pty pairs), Debian's Chromium (browser tests) and
+# python3 with numpy + scipy (reference values). Installs the Debian packages when missing and we are root;
+# otherwise says exactly what to install.
+set -euo pipefail
+missing=()
+command -v socat >/dev/null 2>&1 || missing+=(socat)
+[ -x /usr/bin/chromium ] || missing+=(chromium)
+python3 -c 'import numpy, scipy' >/dev/null 2>&1 || missing+=(python3-numpy python3-scipy)
+[ ${#missing[@]} -eq 0 ] && exit 0
+if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
+  echo "floorline tests: installing Debian packages ${missing[*]}" >&2
+  export DEBIAN_FRONTEND=noninteractive
+  apt-get update -qq
+  apt-get install -y -qq "${missing[@]}" >/dev/null
+else
+  echo "floorline tests need: ${missing[*]}. Install them, e.g. sudo apt-get install ${missing[*]}" >&2
+  exit 1
+fi
