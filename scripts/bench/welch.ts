@@ -14,6 +14,18 @@ const FS = 100_000;
 const ROUNDS = 3;
 const PER_ROUND = 3;
 
+/** A run's elapsed wall time and the process's CPU time over it, in seconds. */
+type Timing = [wall: number, cpu: number];
+
+function timed(fn: () => void): Timing {
+  const c0 = process.cpuUsage();
+  const t0 = process.hrtime.bigint();
+  fn();
+  const wall = Number(process.hrtime.bigint() - t0) / 1e9;
+  const c = process.cpuUsage(c0);
+  return [wall, (c.user + c.system) / 1e6];
+}
+
 function median(v: number[]): number {
   const s = [...v].sort((a, b) => a - b);
   return s[s.length >> 1];
@@ -37,9 +49,9 @@ x = np.fromfile(sys.argv[1], dtype='<f8')
 w = get_window('hann', ${SEGMENT})
 times = []
 for r in range(${PER_ROUND + 1}):
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), time.process_time()
     f, p = welch(x, fs=${FS}, window=w, nperseg=${SEGMENT}, noverlap=${SEGMENT / 2}, detrend='constant')
-    times.append(time.perf_counter() - t0)
+    times.append((time.perf_counter() - t0, time.process_time() - c0))
 p.astype('<f8').tofile(sys.argv[2])
 print(json.dumps(times[1:]))
 `;
@@ -62,29 +74,27 @@ function plainWelch(): void {
   }
 }
 
-const ours: number[] = [];
-const plain: number[] = [];
-const theirs: number[] = [];
+const ours: Timing[] = [];
+const plain: Timing[] = [];
+const theirs: Timing[] = [];
 let psd = new Float64Array(0);
 for (let round = 0; round < ROUNDS; round++) {
   // floorline: the constructor (plan, window) is outside the timing, as scipy's window is; push + psd are timed.
   for (let r = 0; r < PER_ROUND + (round === 0 ? 1 : 0); r++) {
     const est = make();
-    const t0 = process.hrtime.bigint();
-    est.push(x);
-    psd = est.psd();
-    const dt = Number(process.hrtime.bigint() - t0) / 1e9;
-    if (!(round === 0 && r === 0)) ours.push(dt); // the very first run warms the JIT
+    const t = timed(() => {
+      est.push(x);
+      psd = est.psd();
+    });
+    if (!(round === 0 && r === 0)) ours.push(t); // the very first run warms the JIT
   }
   for (let r = 0; r < PER_ROUND + (round === 0 ? 1 : 0); r++) {
-    const t0 = process.hrtime.bigint();
-    plainWelch();
-    const dt = Number(process.hrtime.bigint() - t0) / 1e9;
-    if (!(round === 0 && r === 0)) plain.push(dt);
+    const t = timed(plainWelch);
+    if (!(round === 0 && r === 0)) plain.push(t);
   }
   const res = spawnSync('python3', ['-c', py, input, output], { encoding: 'utf8' });
   if (res.status !== 0) throw new Error(`python3 failed: ${res.stderr}`);
-  theirs.push(...(JSON.parse(res.stdout) as number[]));
+  theirs.push(...(JSON.parse(res.stdout) as Timing[]));
 }
 const raw = readFileSync(output);
 const ref = new Float64Array(raw.buffer.slice(raw.byteOffset, raw.byteOffset + raw.byteLength));
@@ -93,16 +103,21 @@ for (let k = 0; k < ref.length; k++) worst = Math.max(worst, Math.abs(psd[k] - r
 rmSync(input);
 rmSync(output);
 
-const oursRate = SAMPLES / median(ours);
-const theirRate = SAMPLES / median(theirs);
-const plainRate = SAMPLES / median(plain);
-const fmt = (v: number): string => `${(v / 1e6).toFixed(1)} M samples/s`;
+const rate = (t: Timing[], which: 0 | 1): number => SAMPLES / median(t.map((v) => v[which]));
+const fmt = (v: number): string => `${(v / 1e6).toFixed(1).padStart(6)} M samples/s`;
 console.log(`2^24 samples, segment ${SEGMENT}, hann, 50 % overlap, mean detrend; medians of ${ROUNDS * PER_ROUND} runs each, alternating`);
-console.log(`  floorline WelchEstimator : ${fmt(oursRate)}`);
-console.log(`  plain fft.js Welch       : ${fmt(plainRate)}`);
-console.log(`  scipy.signal.welch       : ${fmt(theirRate)}`);
-console.log(`  ratio floorline / scipy  : ${(oursRate / theirRate).toFixed(2)}×   (max relative difference ${worst.toExponential(1)})`);
-console.log(`  ratio floorline / plain fft.js Welch : ${(oursRate / plainRate).toFixed(2)}×`);
+console.log('                            wall clock              process CPU time');
+for (const [name, t] of [
+  ['floorline WelchEstimator', ours],
+  ['plain fft.js Welch      ', plain],
+  ['scipy.signal.welch      ', theirs],
+] as const) {
+  console.log(`  ${name} : ${fmt(rate(t, 0))}     ${fmt(rate(t, 1))}`);
+}
+const ratio = (a: Timing[], b: Timing[], w: 0 | 1): string => (rate(a, w) / rate(b, w)).toFixed(2);
+console.log(`  ratio floorline / scipy  : ${ratio(ours, theirs, 0)}×                  ${ratio(ours, theirs, 1)}×`);
+console.log(`  ratio floorline / plain  : ${ratio(ours, plain, 0)}×                  ${ratio(ours, plain, 1)}×`);
+console.log(`  max relative difference from scipy: ${worst.toExponential(1)}`);
 
 // Streaming: 4 channels at 100 kS/s in 1000-sample blocks, 20 s of sample time, default settings.
 const CHANNELS = 4;
@@ -112,7 +127,7 @@ const ests = Array.from({ length: CHANNELS }, make);
 const block = new Float64Array(BLOCK);
 const costs: number[] = [];
 for (let rep = 0; rep < 5; rep++) {
-  const t0 = process.hrtime.bigint();
+  const c0 = process.cpuUsage();
   for (let b = 0; b < (SECONDS * FS) / BLOCK; b++) {
     const off = (b * BLOCK) % (SAMPLES - BLOCK);
     for (let c = 0; c < CHANNELS; c++) {
@@ -120,8 +135,9 @@ for (let rep = 0; rep < 5; rep++) {
       if (ests[c].push(block) > 0) ests[c].psd(psd);
     }
   }
-  costs.push(Number(process.hrtime.bigint() - t0) / 1e9);
+  const c = process.cpuUsage(c0);
+  costs.push((c.user + c.system) / 1e6);
 }
 console.log(
-  `  streaming 4 ch × 100 kS/s (1000-sample blocks, psd read per segment): ${((100 * median(costs)) / SECONDS).toFixed(2)} % of one core`,
+  `  streaming 4 ch × 100 kS/s (1000-sample blocks, psd read per segment): CPU ${((100 * median(costs)) / SECONDS).toFixed(2)} % of one core`,
 );
