@@ -3,7 +3,7 @@
 // is refused then (InputError naming the setting). If the analysis is reconfigured later in a live run, the set is
 // rebuilt; when the baseline no longer matches, the comparison rules stop and an info event says why.
 import type { FloorlineEvent } from '../core/events.ts';
-import { firstSettingMismatch, settingsHash } from '../core/settings.ts';
+import { firstSettingMismatch } from '../core/settings.ts';
 import type { GapNotice, LinkNotice, StreamInfo } from '../core/stream.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import type { ClipNotice, Detector, OverrunNotice, SpectrumSnapshot } from '../pipeline/types.ts';
@@ -23,7 +23,6 @@ export interface AlarmHookOptions {
 export class AlarmHook implements Detector {
   private info: StreamInfo | undefined;
   private set: Detectors | undefined;
-  private hash = '';
   private baselineDropped = false;
   private readonly onBuild: ((d: Detectors) => void)[] = [];
 
@@ -45,7 +44,7 @@ export class AlarmHook implements Detector {
 
   onSnapshot(snap: SpectrumSnapshot): FloorlineEvent[] {
     const pre: FloorlineEvent[] = [];
-    if (!this.set || settingsHash(snap.settings) !== this.hash) this.build(snap, pre);
+    if (!this.set || firstSettingMismatch(snap.settings, this.set.settings)) this.build(snap, pre);
     const events = this.set!.onSnapshot(snap);
     return pre.length ? [...pre, ...events] : events;
   }
@@ -83,7 +82,6 @@ export class AlarmHook implements Detector {
       firstSample: this.info?.firstSample,
       startWallTime: this.info?.startWallTime,
     }, { capture: this.o.capture }, this.o.baselineWhere);
-    this.hash = settingsHash(snap.settings);
     for (const fn of this.onBuild) fn(this.set);
   }
 }

@@ -5,7 +5,7 @@ import type { AlarmState } from '../../dsp/alarms/alarm-state.ts';
 import { binPowerCorrelation } from '../../dsp/alarms/threshold.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 import type { EventRule, FloorlineEvent } from '../core/events.ts';
-import { settingsHash, type AnalysisSettings } from '../core/settings.ts';
+import { firstSettingMismatch, type AnalysisSettings } from '../core/settings.ts';
 import type { GapNotice, LinkNotice } from '../core/stream.ts';
 import { InputError } from '../cli/usage-error.ts';
 import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
@@ -45,7 +45,6 @@ interface ChannelDetectors {
 
 export class Detectors {
   readonly settings: AnalysisSettings;
-  private readonly hash: string;
   private readonly channels: ChannelDetectors[];
   private readonly health: HealthDetector;
   private readonly sampleRate: number;
@@ -60,7 +59,6 @@ export class Detectors {
   ) {
     const s = stream.settings;
     this.settings = s;
-    this.hash = settingsHash(s);
     this.sampleRate = s.sampleRate;
     if (baseline) checkBaselineMatches(baseline, s, stream.channels.map((c) => c.name), baselineWhere);
     const win = makeWindow(s.window, s.segment);
@@ -108,8 +106,9 @@ export class Detectors {
   }
 
   onSnapshot(snap: SnapshotLike): FloorlineEvent[] {
-    if (settingsHash(snap.settings) !== this.hash) {
-      throw new InputError(`alarms: a spectrum arrived with other analysis settings than the detectors were built for (${settingsHash(snap.settings)} vs ${this.hash}); rebuild the detectors after changing settings.`);
+    const diff = firstSettingMismatch(snap.settings, this.settings);
+    if (diff) {
+      throw new InputError(`alarms: a spectrum arrived with other analysis settings than the detectors were built for: ${diff}; rebuild the detectors after changing settings.`);
     }
     this.lastWallTime = snap.wallTime;
     const out: FloorlineEvent[] = [];

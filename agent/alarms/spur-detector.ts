@@ -5,7 +5,7 @@ import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
 import { MainsClassifier } from '../../dsp/alarms/mains.ts';
 import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
 import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
-import { chi2MeanMedian, chi2MeanUpperQuantile } from '../../dsp/alarms/threshold.ts';
+import { chi2MeanMedian, chi2MeanUpperQuantile, conservativeAverages } from '../../dsp/alarms/threshold.ts';
 import type { FloorlineEvent } from '../core/events.ts';
 import { makeEvent, round } from './event-factory.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
@@ -64,11 +64,12 @@ export class SpurDetector {
 
   /** Ratio over the local median a noise bin exceeds with probability α/bins (Bonferroni over the bins searched). */
   thresholdRatio(liveK: number): number {
-    if (liveK !== this.cachedK) {
-      const nu = 2 * liveK;
+    const k = conservativeAverages(liveK);
+    if (k !== this.cachedK) {
+      const nu = 2 * k;
       const stat = chi2MeanUpperQuantile(this.rules.spur.alpha / this.finder.bins, nu) / chi2MeanMedian(nu);
       this.ratio = Math.max(this.marginRatio, stat);
-      this.cachedK = liveK;
+      this.cachedK = k;
     }
     return this.ratio;
   }
@@ -99,14 +100,14 @@ export class SpurDetector {
       if (!t.state.active) t.harmonic = this.mains.harmonic[i];
       t.lastSeen = sample;
     }
-    const floor = f.floor;
     this.lineMask.fill(0);
     for (let j = this.tracked.length - 1; j >= 0; j--) {
       const t = this.tracked[j];
       // Level: the line's height over both the local floor and the baseline, best bin within the lobe.
+      const floor = f.floorAt(psd, t.bin);
       let level = -Infinity;
       for (let b = Math.max(0, t.bin - lobe); b <= Math.min(psd.length - 1, t.bin + lobe); b++) {
-        const h = 10 * Math.log10(Math.min(psd[b] / floor[b], psd[b] / base[b]));
+        const h = 10 * Math.log10(Math.min(psd[b] / floor, psd[b] / base[b]));
         if (h > level) level = h;
       }
       if (Number.isNaN(level)) level = -Infinity;
@@ -116,7 +117,7 @@ export class SpurDetector {
         this.tracked.splice(j, 1);
         continue;
       }
-      this.maskLine(t.bin, psd);
+      this.maskLine(t.bin, psd, floor);
     }
   }
 
@@ -126,9 +127,8 @@ export class SpurDetector {
    * MAX_SKIRT_BINS either side. A strong line's sidelobes (Hann: −31 dB, falling 18 dB/octave) would otherwise
    * read as a floor rise in its band.
    */
-  private maskLine(bin: number, psd: Float64Array): void {
+  private maskLine(bin: number, psd: Float64Array, floor: number): void {
     const mask = this.lineMask;
-    const floor = this.finder.floor;
     const base = this.baselinePsd;
     const leak = this.leakage;
     const last = psd.length - 1;
@@ -138,14 +138,14 @@ export class SpurDetector {
       const hi = bin + d;
       let any = false;
       if (lo >= 0) {
-        const ref = base[lo] > 0 ? base[lo] : floor[lo];
+        const ref = base[lo] > 0 ? base[lo] : floor;
         if (d <= this.finder.lobe || peak * leak[d] > 0.1 * ref) {
           mask[lo] = 1;
           any = true;
         }
       }
       if (hi <= last) {
-        const ref = base[hi] > 0 ? base[hi] : floor[hi];
+        const ref = base[hi] > 0 ? base[hi] : floor;
         if (d <= this.finder.lobe || peak * leak[d] > 0.1 * ref) {
           mask[hi] = 1;
           any = true;

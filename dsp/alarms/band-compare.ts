@@ -1,7 +1,7 @@
 // Live band power against a baseline, with the rise threshold from the statistics of both estimates
 // (see threshold.ts). Bands select bins whose centre f satisfies low ≤ f ≤ high, as band RMS does.
 import { bandBins } from '../bands.ts';
-import { bandDegreesOfFreedom, riseThresholdDb } from './threshold.ts';
+import { bandDegreesOfFreedom, conservativeAverages, riseThresholdDb } from './threshold.ts';
 
 export interface BandSpec {
   low: number;
@@ -83,6 +83,7 @@ export class BandCompare {
     const n = this.bands.length;
     if (psd.length < this.baselineBins) throw new RangeError(`BandCompare.evaluate: psd has ${psd.length} bins, baseline ${this.baselineBins}`);
     const base = this.baselinePsd;
+    const k = conservativeAverages(liveK);
     for (let b = 0; b < n; b++) {
       const hi = this.lastBin[b];
       let p = 0;
@@ -104,11 +105,11 @@ export class BandCompare {
         this.levelDb[b] = NaN; // every bin belongs to a line: no floor to judge
         continue;
       }
-      if (liveK !== this.cachedK[b] || kept !== this.cachedBins[b]) {
-        const nuLive = bandDegreesOfFreedom(liveK, kept, this.correlation);
+      if (k !== this.cachedK[b] || kept !== this.cachedBins[b]) {
+        const nuLive = bandDegreesOfFreedom(k, kept, this.correlation);
         const nuBase = bandDegreesOfFreedom(this.baselineK, kept, this.correlation);
         this.thresholdDb[b] = riseThresholdDb(this.marginDb, this.alpha, nuLive, nuBase);
-        this.cachedK[b] = liveK;
+        this.cachedK[b] = k;
         this.cachedBins[b] = kept;
       }
       this.levelDb[b] = 10 * Math.log10(p / q);

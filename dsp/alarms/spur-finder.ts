@@ -1,7 +1,9 @@
-// Narrowband lines standing above the local floor (running median over neighbouring bins).
+// Narrowband lines standing above the local floor (median over the 2H+1 neighbouring bins).
 // A line is a bin that is the largest within ±L bins (L = the window's main-lobe half-width) and exceeds the
-// local floor by a power ratio. Its amplitude comes from the density over the main lobe with the floor taken off:
-//   A_rms² = Σ_lobe (psd[j] − floor[j])·Δf
+// local floor by a power ratio. The median is taken only at such local maxima (a fifth of the bins for Hann), and
+// is used as the floor across the line's lobe. Its amplitude comes from the density over the main lobe with the
+// floor taken off:
+//   A_rms² = Σ_lobe (psd[j] − floor)·Δf
 // (density scaling integrates to the signal's mean square, so a tone's lobe integrates to A_rms² wherever it falls
 // between bins; Heinzel, Rüdiger & Schilling 2002, §9–10). Frequency is the power-weighted centroid over the lobe.
 import { RunningMedian } from './running-median.ts';
@@ -25,8 +27,8 @@ export class SpurFinder {
   readonly bins: number;
   readonly lobe: number;
   readonly maxLines: number;
-  /** Local floor of the last find(), density units. */
-  readonly floor: Float64Array;
+  /** Local floor under each line of the last find(), density units. */
+  readonly lineFloor: Float64Array;
   readonly lineBin: Int32Array;
   readonly lineFrequency: Float64Array;
   readonly lineAmplitude: Float64Array;
@@ -62,7 +64,7 @@ export class SpurFinder {
     this.lastBin = last;
     this.maxLines = o.maxLines ?? 64;
     if (!Number.isInteger(this.maxLines) || this.maxLines < 1) throw new RangeError(`SpurFinder: maxLines must be a positive integer, got ${o.maxLines}`);
-    this.floor = new Float64Array(n);
+    this.lineFloor = new Float64Array(this.maxLines);
     this.lineBin = new Int32Array(this.maxLines);
     this.lineFrequency = new Float64Array(this.maxLines);
     this.lineAmplitude = new Float64Array(this.maxLines);
@@ -73,7 +75,9 @@ export class SpurFinder {
   find(psd: Float64Array, ratio: number): number {
     if (psd.length < this.bins) throw new RangeError(`SpurFinder.find: psd needs ${this.bins} bins, got ${psd.length}`);
     if (!(ratio > 1)) throw new RangeError(`SpurFinder.find: ratio must be > 1, got ${ratio}`);
-    const floor = this.median.apply(psd, this.floor);
+    const median = this.median;
+    const hw = median.halfWidth;
+    const n = this.bins;
     const L = this.lobe;
     const f = this.f;
     const df = this.binHz;
@@ -83,9 +87,9 @@ export class SpurFinder {
     const amp = this.lineAmplitude;
     const height = this.lineHeightDb;
     let count = 0;
+    const lineFloor = this.lineFloor;
     for (let k = this.firstBin; k <= this.lastBin; k++) {
       const p = psd[k];
-      if (!(p > ratio * floor[k])) continue;
       let isPeak = true;
       for (let j = k - L; j <= k + L; j++) {
         if (psd[j] > p || (psd[j] === p && j < k)) {
@@ -94,16 +98,30 @@ export class SpurFinder {
         }
       }
       if (!isPeak) continue;
+      if (k >= hw && k + hw < n) {
+        // Cheap rejection first: if H+1 or more window values are all ≥ x, the median (the (H+1)-th largest of
+        // 2H+1) is ≥ x. So the smallest of the outermost H+1 values bounds the median from below.
+        let lb = Infinity;
+        for (let d = hw, taken = 0; taken <= hw; d--, taken += 2) {
+          const a = psd[k - d];
+          const b = psd[k + d];
+          if (a < lb) lb = a;
+          if (b < lb) lb = b;
+        }
+        if (!(p > ratio * lb)) continue;
+      }
+      const fl = median.at(psd, k);
+      if (!(p > ratio * fl)) continue;
       let power = 0;
       let moment = 0;
       for (let j = k - L; j <= k + L; j++) {
-        const excess = psd[j] - floor[j];
+        const excess = psd[j] - fl;
         if (excess > 0) {
           power += excess;
           moment += excess * f[j];
         }
       }
-      const h = 10 * Math.log10(p / floor[k]);
+      const h = 10 * Math.log10(p / fl);
       let slot = count;
       if (count === cap) {
         // Full: replace the weakest line if this one stands higher.
@@ -116,7 +134,13 @@ export class SpurFinder {
       freq[slot] = moment / power;
       amp[slot] = Math.sqrt(power * df);
       height[slot] = h;
+      lineFloor[slot] = fl;
     }
     return count;
+  }
+
+  /** The local floor (median of the 2H+1 bins around k) of a density. */
+  floorAt(psd: Float64Array, k: number): number {
+    return this.median.at(psd, k);
   }
 }

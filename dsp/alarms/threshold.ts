@@ -99,3 +99,12 @@ export function chi2MeanMedian(nu: number): number {
   if (!(nu > 0)) throw new RangeError(`chi2MeanMedian: degrees of freedom must be > 0, got ${nu}`);
   return chi2Quantile(0.5, nu) / nu;
 }
+
+/**
+ * K rounded down onto a 1 % grid: thresholds computed for it are cached while a growing average's K creeps up
+ * (quantiles cost microseconds to milliseconds each), and rounding down only makes the threshold a little stricter.
+ */
+export function conservativeAverages(k: number): number {
+  if (!(k > 0)) return k;
+  return Math.exp(Math.floor(Math.log(k) / Math.log1p(0.01)) * Math.log1p(0.01));
+}

@@ -77,7 +77,7 @@ const baselineFor = (b: Bench): BaselineFile => {
 };
 
 out.push('# Detection figures', '');
-out.push('Regenerate with `node scripts/detection/run.mjs` (writes this file; about ten minutes on the 2-core machine).', '');
+out.push('Regenerate with `node scripts/detection/run.mjs` (writes this file; about twenty minutes on the shared 2-core machine).', '');
 out.push('Bench (scripts/detection/harness.ts): the real pipeline and detectors on seeded synthetic signals, in sample time.');
 out.push(`${DEFAULT_BENCH.sampleRate} S/s, one channel, white floor ${DEFAULT_BENCH.floor.white * 1e9} nV/√Hz; analysis segment ${DEFAULT_BENCH.analysis.segment}, ` +
   `${DEFAULT_BENCH.analysis.window}, overlap ${DEFAULT_BENCH.analysis.overlap}, detrend ${DEFAULT_BENCH.analysis.detrend}; the pipeline's default averaging ` +
@@ -129,6 +129,10 @@ out.push('## Reading these figures', '');
 out.push('- Latency is set mostly by the averaging: the default exponential average (τ = 10 s) reaches a step of power ratio R');
 out.push('  past a threshold T after τ·ln((R − 1)/(R − T)); shorter τ (`--average exp:2`) detects faster and raises the');
 out.push('  statistical part of the threshold (fewer equivalent averages).');
+out.push('- The smallest line follows from the spur margin: a line of RMS A over a white density e reads, in its peak bin,');
+out.push('  10·log10(1 + A²/(e²·ENBW)) dB above the floor (Heinzel 2002 §10), here ENBW = 1.5 × 3.906 Hz = 5.86 Hz, so 10 dB');
+out.push('  needs A ≥ e·√(9·ENBW) = 73 nV bin-centred and about 85 nV at the worst offset (Hann scalloping loss 1.42 dB);');
+out.push('  the table\'s 100 nV is the first level tried above that.');
 out.push('- A +3 dB band rise sits exactly on the default 3 dB margin and is not detected reliably at default settings; use a');
 out.push('  lower `band.marginDb` in a rules file to watch for it (tests/alarms/detection.test.ts catches +3 dB with 2 dB).');
 out.push('- A strong line switched on abruptly is also a short broadband transient in the one Welch segment holding the switch-on;');

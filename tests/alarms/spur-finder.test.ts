@@ -11,6 +11,8 @@ const tones = [[1234.5, 1e-3], [2000.0, 3e-4], [517.3, 1e-2]] as const;
 const rng = new SeededRandom(11);
 const x = new Float64Array(301);
 for (let i = 0; i < x.length; i++) x[i] = Math.exp(rng.gaussian());
+// Many ties: values rounded to a coarse grid, so the sorted window must remove the right copies.
+const ties = Float64Array.from(x, (v) => Math.round(v * 2) / 2);
 type Psd = { f: number[]; psd: number[] };
 let medians: { y: number[] }[];
 let tonePsds: Psd[];
@@ -21,13 +23,14 @@ beforeAll(() => {
   // numpy-generated sines in white noise (numpy default_rng seeds 3 and 4).
   const calls: [string, unknown][] = [
     ...medianWidths.map((h): [string, unknown] => ['median', { x: Array.from(x), h }]),
+    ['median', { x: Array.from(ties), h: 4 }],
     ...tones.map(([freq, rms]): [string, unknown] => ['tone-psd', { fs, n: fs * 8, segment, freq, rms, noise: 1e-5, seed: 3, window: 'hann' }]),
     ['tone-psd', { fs, n: fs * 8, segment, freq: 1000, rms: 0, noise: 1e-5, seed: 4, window: 'hann' }],
   ];
   const r = scipyBatch(calls);
-  medians = r.slice(0, 3) as { y: number[] }[];
-  tonePsds = r.slice(3, 6) as Psd[];
-  noisePsd = r[6] as Psd;
+  medians = r.slice(0, 4) as { y: number[] }[];
+  tonePsds = r.slice(4, 7) as Psd[];
+  noisePsd = r[7] as Psd;
 }, 60_000);
 
 describe('RunningMedian', () => {
@@ -38,6 +41,8 @@ describe('RunningMedian', () => {
       const out = new RunningMedian(x.length, h).apply(x, new Float64Array(x.length));
       ref.y.forEach((v, k) => expect(out[k]).toBeCloseTo(v, 14));
     }
+    const tied = new RunningMedian(ties.length, 4).apply(ties, new Float64Array(ties.length));
+    expect(Array.from(tied)).toEqual(medians[3].y);
   });
 });
 
