@@ -209,4 +209,29 @@ describe('Pipeline', () => {
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
   });
+
+  it('applies configure() at the next block: new settings, segments restart at the new step multiple', async () => {
+    const frames = 6 * RATE;
+    const raw = rawCounts(frames, 13);
+    const { p, snaps } = collect();
+    p.info(streamInfo());
+    feed(p, raw, 0, 2 * RATE + 10, [1000]);
+    p.configure({ analysis: { segment: 512 }, averaging: { mode: 'mean' } });
+    expect(() => p.configure({ analysis: { segment: 1000 } })).toThrow(/power of two/);
+    p.configure({ analysis: { segment: 512 }, averaging: { mode: 'mean' } });
+    feed(p, raw, 2 * RATE + 10, frames, [1000], 2 * RATE + 10);
+    const after = snaps.filter((s) => s.settings.segment === 512);
+    expect(after.length).toBeGreaterThan(5);
+    expect(snaps.filter((s) => s.settings.segment === 256).length).toBeGreaterThan(0);
+    const last = after[after.length - 1];
+    // The first block after configure() starts at 4106; segments of the new step (256) start at 4352.
+    const resume = Math.ceil((2 * RATE + 10) / 256) * 256;
+    // scipy.signal.welch(x[resume : sample + 1], nperseg=512, noverlap=256): the estimate after the change.
+    const ref = (await scipyWelch(py, {
+      channels: raw, fs: RATE, nperseg: 512, noverlap: 256, window: 'hann', detrend: 'constant',
+      cases: [[[resume, last.sample + 1]]], scale: SCALE, fround: true,
+    }))[0];
+    expect(last.channels[0].segmentsUsed).toBe(ref.segments);
+    expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
+  });
 });
