@@ -6,6 +6,7 @@ import { dataFolderAt, ensureDataFolder } from '../../agent/config/data-folder.t
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import { Recorder } from '../../agent/recorder/recorder.ts';
 import { ReplaySource } from '../../agent/sources/replay.ts';
+import { readWavFile } from '../../agent/wav/reader.ts';
 import { Python, tempDir } from '../wav/support.ts';
 
 const RATE = 4000;
@@ -97,5 +98,47 @@ result = bool(np.array_equal(cap, src[args[2]: args[2] + len(cap)])) and fs2 == 
     const e = await early!.done;
     expect(early!.firstSample).toBe(0);
     expect(e.frames).toBe(500 + RATE + 1);
+  });
+
+  it('starts a new file after a gap, its sidecar carrying the first sample after the gap', async () => {
+    const folder = ensureDataFolder(dataFolderAt(join(dir, 'gap')));
+    const pipeline = new Pipeline({ analysis: { segment: 1024 } });
+    const recorder = new Recorder(folder, { durable: false });
+    recorder.attach(pipeline);
+    recorder.startRecording();
+    const { info, data } = await readWavFile(source);
+    pipeline.info({
+      sampleRate: RATE,
+      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit, scale: 1, fullScaleCounts: Infinity })),
+      source: { kind: 'replay', label: 'gap test' },
+      firstSample: 0,
+      startWallTime: '2026-01-01T00:00:00.000Z',
+    });
+    const gapAt = 3 * RATE + 17;
+    const lost = 1000;
+    for (let i = 0; i < FRAMES; i += 500) {
+      if (i <= gapAt && gapAt < i + 500) {
+        pipeline.block({ firstSample: i, frames: gapAt - i, data: data.map((d) => d.slice(i, gapAt)) });
+        pipeline.gap({ sample: gapAt, lost, reason: 'test' });
+        const resume = gapAt + lost;
+        i = resume - 500; // continue in 500-frame blocks from the sample after the gap
+        continue;
+      }
+      const n = Math.min(500, FRAMES - i);
+      pipeline.block({ firstSample: i, frames: n, data: data.map((d) => d.slice(i, i + n)) });
+    }
+    pipeline.end();
+    recorder.close();
+    const files = recorder.status().files;
+    expect(files).toHaveLength(2);
+    const firsts = files.map((f) => JSON.parse(readFileSync(join(folder.root, `${f}.json`), 'utf8')).firstSample);
+    expect(firsts).toEqual([0, gapAt + lost]);
+    // scipy.io.wavfile: file 1 = source[0:gapAt], file 2 = source[gapAt+lost:].
+    const ok = await py.run<boolean>(
+      `fs, src = wavfile.read(args[0]); a = wavfile.read(args[1])[1]; b = wavfile.read(args[2])[1]
+result = bool(np.array_equal(a, src[:args[3]]) and np.array_equal(b, src[args[4]:]))`,
+      source, join(folder.root, files[0]), join(folder.root, files[1]), gapAt, gapAt + lost,
+    );
+    expect(ok).toBe(true);
   });
 });
