@@ -12,7 +12,8 @@ import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
 import { BandDetector } from './band-detector.ts';
 import { defaultBands } from './default-bands.ts';
 import { HealthDetector } from './health-detector.ts';
-import { SpurDetector } from './spur-detector.ts';
+import { MAX_SKIRT_BINS, SpurDetector } from './spur-detector.ts';
+import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
 import type { RulesConfig } from './rules.ts';
 import type { CaptureRequester, SnapshotLike } from './types.ts';
 import type { ClipNotice, OverrunNotice } from '../pipeline/types.ts';
@@ -63,6 +64,7 @@ export class Detectors {
     if (baseline) checkBaselineMatches(baseline, s, stream.channels.map((c) => c.name), baselineWhere);
     const win = makeWindow(s.window, s.segment);
     const corr = binPowerCorrelation(win.values);
+    const leakage = leakageEnvelope(win.values, MAX_SKIRT_BINS);
     const binHz = s.sampleRate / s.segment;
     const bins = s.segment / 2 + 1;
     const frequencies = new Float64Array(bins);
@@ -75,7 +77,7 @@ export class Detectors {
       return {
         name,
         band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate) : undefined,
-        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, win.values, basePsd, rules, s.sampleRate),
+        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, leakage, basePsd, rules, s.sampleRate),
       };
     });
     this.health = new HealthDetector(s.sampleRate, Math.round(rules.clipHold * s.sampleRate), Math.round(rules.overrunHold * s.sampleRate));

@@ -4,7 +4,6 @@
 import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
 import { MainsClassifier } from '../../dsp/alarms/mains.ts';
 import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
-import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
 import { chi2MeanMedian, chi2MeanUpperQuantile, conservativeAverages } from '../../dsp/alarms/threshold.ts';
 import type { FloorlineEvent } from '../core/events.ts';
 import { makeEvent, round } from './event-factory.ts';
@@ -33,7 +32,6 @@ export class SpurDetector {
   readonly tracked: TrackedLine[] = [];
   /** Bins inside the lobes of tracked new lines, after the last onSpectrum (band rules leave them out). */
   readonly lineMask: Uint8Array;
-  private readonly leakage: Float64Array;
   /** New lines start shelved until this sample (see Detectors.shelve). */
   shelvedUntil = -1;
   private readonly timing: AlarmTiming;
@@ -46,7 +44,8 @@ export class SpurDetector {
     frequencies: Float64Array,
     binHz: number,
     mainLobeHalfWidth: number,
-    windowValues: Float64Array,
+    /** leakageEnvelope(window, MAX_SKIRT_BINS), shared by the channels. */
+    private readonly leakage: Float64Array,
     private readonly baselinePsd: Float64Array,
     private readonly rules: RulesConfig,
     private readonly sampleRate: number,
@@ -57,7 +56,6 @@ export class SpurDetector {
     });
     this.mains = new MainsClassifier({ setting: rules.mains.frequency, binHz, maxHarmonic: rules.mains.maxHarmonic }, MAX_TRACKED_LINES);
     this.lineMask = new Uint8Array(frequencies.length);
-    this.leakage = leakageEnvelope(windowValues, MAX_SKIRT_BINS);
     this.timing = timingInSamples(rules.spur, sampleRate);
     this.marginRatio = 10 ** (rules.spur.marginDb / 10);
   }
