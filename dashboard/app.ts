@@ -30,6 +30,7 @@ export class App {
   /** Spectrum frames applied (tests and the benchmark read this). */
   spectraApplied = 0;
   private pendingBaseline: ArrayBuffer | null = null;
+  private contextShownAt = -Infinity;
 
   constructor(readonly link: Link) {
     this.budget = new NoiseBudgetForm($('budget') as HTMLFormElement, $('nb-result'), (floor) => this.spectrum.setOverlays({ expectedFloor: floor }));
@@ -86,7 +87,12 @@ export class App {
     if (!ctx || f.contextId !== (ctx.id & 0xffff)) return; // from before a settings change
     this.spectrum.update(f);
     this.waterfall.push(f.values[Math.min(this.waterfall.channel, f.channels - 1)], f.sample / f.sampleRate);
-    $('spectral-context').textContent = contextLine(ctx, f);
+    // Text changes cost a layout: the context line (it carries t and the averages) is refreshed 4 times a second.
+    const now = performance.now();
+    if (now - this.contextShownAt > 250) {
+      this.contextShownAt = now;
+      $('spectral-context').textContent = contextLine(ctx, f);
+    }
     this.spectraApplied++;
   }
 

@@ -131,17 +131,22 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     x.family('floorline_band_threshold_decibels', 'gauge', 'Rise at which the band alarm is raised.', 'decibels');
     for (const b of status.bands) if (b.thresholdDb !== null) x.sample('floorline_band_threshold_decibels', bandLabels(b), b.thresholdDb);
   }
+  // One series per rule, channel and band: lines of one rule (mains harmonics, spurs) fold into it (raised if any is).
+  const groups = new Map<string, { labels: Record<string, string>; active: boolean; acknowledged: boolean }>();
+  for (const a of status.alarms) {
+    const l: Record<string, string> = { rule: a.rule, channel: a.channel };
+    if (a.band) l.band = `${a.band[0]}-${a.band[1]}`;
+    const key = labels(l);
+    const g = groups.get(key) ?? { labels: l, active: false, acknowledged: true };
+    if (a.state === 'raised') {
+      g.active = true;
+      g.acknowledged &&= a.acknowledged;
+    }
+    groups.set(key, g);
+  }
   x.family('floorline_alarm_active', 'gauge', '1 while an alarm is raised (the agent applies hysteresis itself).');
-  for (const a of status.alarms) {
-    const l: Record<string, string> = { rule: a.rule, channel: a.channel };
-    if (a.band) l.band = `${a.band[0]}-${a.band[1]}`;
-    x.sample('floorline_alarm_active', l, a.state === 'raised' ? 1 : 0);
-  }
-  x.family('floorline_alarm_acknowledged', 'gauge', '1 when a raised alarm has been acknowledged.');
-  for (const a of status.alarms) {
-    const l: Record<string, string> = { rule: a.rule, channel: a.channel };
-    if (a.band) l.band = `${a.band[0]}-${a.band[1]}`;
-    x.sample('floorline_alarm_acknowledged', l, a.acknowledged ? 1 : 0);
-  }
+  for (const g of groups.values()) x.sample('floorline_alarm_active', g.labels, g.active ? 1 : 0);
+  x.family('floorline_alarm_acknowledged', 'gauge', '1 when every raised alarm of the series has been acknowledged.');
+  for (const g of groups.values()) x.sample('floorline_alarm_acknowledged', g.labels, g.active && g.acknowledged ? 1 : 0);
   return x.text();
 }

@@ -130,10 +130,23 @@ export class PipelineBackend implements ServerBackend {
     return null;
   }
 
+  /** One row per alarm: per band for band rules, per line (harmonic or 0.1 Hz) for mains and spur, else per channel. */
   private trackAlarm(e: FloorlineEvent): void {
     if (e.kind !== 'alarm') return;
-    const key = `${e.rule}|${e.channel}|${e.band ? e.band.join('-') : ''}`;
-    this.alarmRows.set(key, { rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}), state: e.state === 'raised' ? 'raised' : 'clear', acknowledged: false, sample: e.sample });
+    const line = e.rule === 'mains' ? `h${e.harmonic ?? ''}` : e.rule === 'spur' && e.frequency !== undefined ? e.frequency.toFixed(1) : '';
+    const key = `${e.rule}|${e.channel}|${e.band ? e.band.join('-') : ''}|${line}`;
+    const prev = this.alarmRows.get(key);
+    const raised = e.state === 'raised';
+    this.alarmRows.set(key, {
+      rule: e.rule,
+      channel: e.channel,
+      ...(e.band ? { band: e.band } : {}),
+      ...(line && e.frequency !== undefined ? { frequency: e.frequency } : {}),
+      state: raised ? 'raised' : 'clear',
+      // A repeat while still raised keeps the acknowledgement; a new raise after a clear asks again.
+      acknowledged: raised && prev?.state === 'raised' ? prev.acknowledged : false,
+      sample: e.sample,
+    });
   }
 
   private bandRows(): BandRow[] {
@@ -158,7 +171,7 @@ export class PipelineBackend implements ServerBackend {
         }
         const rms = Math.sqrt(p * s.binHz);
         const baselineRms = bch ? Math.sqrt(pb * s.binHz) : null;
-        const alarm = this.alarmRows.get(`band-rise|${ch.name}|${band.low}-${band.high}`);
+        const alarm = this.alarmRows.get(`band-rise|${ch.name}|${band.low}-${band.high}|`);
         const lastEvent = [...this.events].reverse().find((e) => e.rule === 'band-rise' && e.channel === ch.name && e.band?.[0] === band.low && e.band?.[1] === band.high);
         rows.push({
           channel: ch.name,

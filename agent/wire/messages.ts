@@ -108,6 +108,8 @@ export interface AlarmRow {
   rule: EventRule;
   channel: string;
   band?: [number, number];
+  /** For spur and mains: the line's frequency, Hz (one row per tracked line). */
+  frequency?: number;
   state: 'raised' | 'clear';
   acknowledged: boolean;
   /** Sample index of the last change. */

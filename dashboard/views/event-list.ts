@@ -64,8 +64,10 @@ export class EventList {
     for (const tr of Array.from(this.body.rows)) {
       const btn = tr.querySelector('button.ack');
       if (!btn) continue;
-      const a = alarms.find((x) => x.rule === tr.dataset.rule && x.channel === tr.dataset.channel && (x.band ? x.band.join('-') : undefined) === tr.dataset.band);
-      if (a && (a.acknowledged || a.state === 'clear')) btn.replaceWith(document.createTextNode(a.acknowledged ? 'acknowledged' : 'cleared'));
+      const rows = alarms.filter((x) => x.rule === tr.dataset.rule && x.channel === tr.dataset.channel && (x.band ? x.band.join('-') : undefined) === tr.dataset.band);
+      if (rows.length === 0) continue;
+      if (rows.some((x) => x.state === 'raised' && x.acknowledged)) btn.replaceWith(document.createTextNode('acknowledged'));
+      else if (rows.every((x) => x.state === 'clear')) btn.replaceWith(document.createTextNode('cleared'));
     }
   }
 

@@ -1,6 +1,6 @@
 """Writes the browser tests' recordings (our own invented bench, seeded so every run is identical):
-quiet.wav  -- 12 s, 2 channels at 8 kS/s, white floors of 1.0 and 1.5 uV RMS (ch0, ch1);
-fault.wav  -- 40 s, the same floors, and from t = 20 s the floor of ch1 rises by 4x in power (6 dB) in 200-1500 Hz.
+fault.wav -- 40 s, 2 channels at 8 kS/s, white floors of 1.0 and 1.5 uV RMS (ch0, ch1), and from t = 20 s the
+floor of ch1 rises by 4x in power (6 dB) in 200-1500 Hz.
 IEEE float32 samples in volts (scipy.io.wavfile writes format 3 for float32 arrays).
 Usage: python3 make_rig_recording.py OUTDIR
 """
@@ -17,8 +17,6 @@ rng = np.random.default_rng(20261201)
 def floors(n):
     return np.stack([rng.normal(0, 1.0e-6, n), rng.normal(0, 1.5e-6, n)], axis=1)
 
-
-wavfile.write(f"{out}/quiet.wav", fs, floors(12 * fs).astype(np.float32))
 
 n = 40 * fs
 x = floors(n)

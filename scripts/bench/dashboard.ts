@@ -1,0 +1,128 @@
+// Dashboard and server costs.
+// 1. Browser (headless Chromium): one update of 4 channels × 8193 bins plus a waterfall row, paced at 10 updates/s,
+//    through the page's real input path (App.onBinary: decode, unit conversion, max-hold, uPlot redraw, waterfall).
+//    Reference in the same run: the chart's redraw alone (uPlot setData + draw of the same arrays). Target: median < 8 ms.
+// 2. Agent: CPU time per snapshot with 0, 1, 4 and 16 connected clients (encode once, send to each), against
+//    encoding alone.
+import { encodeFrame, frameBytes } from '../../agent/wire/frame.ts';
+import { startServer } from '../../agent/server/server.ts';
+import { SeededRandom } from '../../dsp/random.ts';
+import { FakeBackend } from '../../tests/server/support/fake-backend.ts';
+import { launchChromium } from '../../tests/browser/support/browser.ts';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { WebSocket } from 'ws';
+
+const root = process.cwd() + '/'; // npm run bench runs from the repository root
+const CHANNELS = 4;
+const SEGMENT = 16384;
+const BINS = SEGMENT / 2 + 1;
+const FS = 48000;
+
+function median(xs: number[]): number {
+  const a = [...xs].sort((x, y) => x - y);
+  return a.length % 2 ? a[(a.length - 1) / 2] : (a[a.length / 2 - 1] + a[a.length / 2]) / 2;
+}
+const pct = (xs: number[], p: number) => [...xs].sort((x, y) => x - y)[Math.min(xs.length - 1, Math.floor(p * xs.length))];
+
+function frames(n: number): ArrayBuffer[] {
+  const rng = new SeededRandom(7);
+  const out: ArrayBuffer[] = [];
+  const psd = Array.from({ length: CHANNELS }, () => new Float64Array(BINS));
+  for (let i = 0; i < n; i++) {
+    for (const p of psd) for (let k = 0; k < BINS; k++) p[k] = 1e-16 * Math.exp(rng.gaussian()) * (1 + 30 / (k + 1));
+    const buf = new ArrayBuffer(frameBytes(CHANNELS, BINS));
+    encodeFrame(buf, { kind: 'spectrum', seq: i, channels: CHANNELS, contextId: 1, length: BINS, sample: (i + 1) * 4800, sampleRate: FS, binHz: FS / SEGMENT }, [10, 10, 10, 10], psd);
+    out.push(buf);
+  }
+  return out;
+}
+
+async function browserBench(): Promise<void> {
+  const dir = mkdtempSync(join(tmpdir(), 'floorline-bench-'));
+  const backend = new FakeBackend({ dataRoot: join(dir, 'data'), channels: CHANNELS });
+  const server = await startServer(backend, { port: 0, assetsDir: join(root, 'dist/dashboard') });
+  const ctx = await launchChromium({ width: 1440, height: 1000 });
+  const page = await ctx.newPage();
+  await page.goto(server.url);
+  // Polled with evaluate: waitForFunction with a string needs eval, which the page's CSP forbids.
+  for (let i = 0; i < 200 && !(await page.evaluate('window.floorline !== undefined')); i++) await new Promise((r) => setTimeout(r, 50));
+  const context = {
+    id: 1, settings: { sampleRate: FS, segment: SEGMENT, window: 'hann', overlap: 0.5, detrend: 'mean' }, averaging: { mode: 'exponential', tauSeconds: 10 },
+    nenbw: 1.5, enbwHz: (1.5 * FS) / SEGMENT, binHz: FS / SEGMENT, bins: BINS, channels: Array.from({ length: CHANNELS }, (_, i) => ({ name: `ch${i}`, unit: 'V' })), mainsHz: 50,
+  };
+  await page.evaluate(`window.floorline.onJson(${JSON.stringify({ type: 'context', context })}); window.floorline.waterfall.snapshotsPerRow = 1;`);
+  const bufs = frames(20).map((b) => Buffer.from(b).toString('base64'));
+  await page.evaluate(`window.__frames = ${JSON.stringify(bufs)}.map((s) => Uint8Array.from(atob(s), (c) => c.charCodeAt(0)).buffer)`);
+  // Each sample: the update (or the reference redraw), then a microtask so uPlot's batched commit has drawn.
+  const run = (mode: 'full' | 'chart' | 'waterfall', n: number): Promise<number[]> =>
+    page.evaluate(`(async () => {
+      const app = window.floorline, v = app.spectrum, times = [];
+      for (let i = 0; i < ${n}; i++) {
+        const buf = window.__frames[i % window.__frames.length].slice(0);
+        const t0 = performance.now();
+        const mode = ${JSON.stringify(mode)};
+        if (mode === 'full') app.onBinary(buf);
+        else if (mode === 'chart') v.plot.setData(v.data, true);
+        else app.waterfall.push(new Float32Array(buf, 48 + 8 * ${CHANNELS}, ${BINS}), i);
+        await new Promise((r) => queueMicrotask(r));
+        times.push(performance.now() - t0);
+        await new Promise((r) => setTimeout(r, 100)); // 10 updates/s
+      }
+      return times;
+    })()`) as Promise<number[]>;
+  await run('full', 10); // warm-up
+  const full = await run('full', 100);
+  const chart = await run('chart', 100);
+  const fall = await run('waterfall', 100);
+  console.log(`browser: one update, ${CHANNELS} ch × ${BINS} bins + waterfall row, at 10 updates/s (100 samples each, headless Chromium)`);
+  console.log(`  floorline update (decode, convert, max-hold, redraw, waterfall)  median ${median(full).toFixed(2)} ms  p90 ${pct(full, 0.9).toFixed(2)} ms  target < 8 ms: ${median(full) < 8 ? 'met' : 'NOT met'}`);
+  console.log(`  reference: uPlot setData + redraw of the same arrays             median ${median(chart).toFixed(2)} ms  p90 ${pct(chart, 0.9).toFixed(2)} ms`);
+  console.log(`  of which the waterfall row alone                               median ${median(fall).toFixed(2)} ms  p90 ${pct(fall, 0.9).toFixed(2)} ms`);
+  await ctx.close();
+  await server.close();
+}
+
+async function agentBench(): Promise<void> {
+  const dir = mkdtempSync(join(tmpdir(), 'floorline-bench-'));
+  const backend = new FakeBackend({ dataRoot: join(dir, 'data'), channels: CHANNELS, segment: SEGMENT, sampleRate: FS });
+  const server = await startServer(backend, { port: 0, assetsDir: dir, statusIntervalMs: 60_000 });
+  const N = 200;
+  // Reference: encoding one snapshot's frame alone.
+  const psd = Array.from({ length: CHANNELS }, () => new Float64Array(BINS).fill(1e-16));
+  const buf = new ArrayBuffer(frameBytes(CHANNELS, BINS));
+  let t = process.cpuUsage();
+  for (let i = 0; i < N; i++) encodeFrame(buf, { kind: 'spectrum', seq: i, channels: CHANNELS, contextId: 1, length: BINS, sample: i, sampleRate: FS, binHz: 1 }, null, psd);
+  const encodeUs = (process.cpuUsage(t).user + process.cpuUsage(t).system) / N;
+  console.log(`agent: CPU per snapshot (${CHANNELS} ch × ${BINS} bins, ${(frameBytes(CHANNELS, BINS) / 1024).toFixed(0)} KiB frame), ${N} snapshots each; clients read as fast as loopback allows`);
+  console.log(`  reference: encode the frame only          ${encodeUs.toFixed(0)} µs`);
+  const clients: WebSocket[] = [];
+  let base = 0;
+  for (const n of [0, 1, 4, 16]) {
+    while (clients.length < n) {
+      const ws = new WebSocket(server.url.replace('http', 'ws') + 'ws', { perMessageDeflate: false });
+      await new Promise((r) => ws.once('open', r));
+      clients.push(ws);
+    }
+    backend.step(FS / 10); // warm
+    await new Promise((r) => setTimeout(r, 200));
+    t = process.cpuUsage();
+    const w0 = performance.now();
+    for (let i = 0; i < N; i++) {
+      backend.step(FS / 10);
+      await new Promise((r) => setImmediate(r));
+    }
+    await new Promise((r) => setTimeout(r, 300)); // let sends drain (their CPU counts)
+    const c = process.cpuUsage(t);
+    const us = (c.user + c.system) / N;
+    if (n === 0) base = us;
+    const st = server.status().clients;
+    console.log(`  ${String(n).padStart(2)} client(s): ${us.toFixed(0).padStart(6)} µs per snapshot${n ? `, ${((us - base) / n).toFixed(0)} µs per client` : ' (backend double + trace ring, no sends)'}; wall ${((performance.now() - w0) / N).toFixed(2)} ms; frames sent ${st.framesSent}, skipped ${st.framesSkipped}`);
+  }
+  for (const c of clients) c.close();
+  await server.close();
+}
+
+if (!process.argv.includes('--browser-only')) await agentBench();
+await browserBench();
