@@ -4,6 +4,8 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import { Detectors } from '../../agent/alarms/detectors.ts';
+import { defaultRules } from '../../agent/alarms/rules.ts';
 import { EventLog } from '../../agent/events/event-log.ts';
 import type { FloorlineEvent } from '../../agent/core/events.ts';
 import type { StreamInfo } from '../../agent/core/stream.ts';
@@ -72,6 +74,24 @@ describe('health alarms', () => {
       ['raised', 11_999, 11_999 / FS],
       ['cleared', 11_999, 11_999 / FS],
     ]);
+  });
+});
+
+describe('analysis overrun', () => {
+  it('dropped blocks raise overrun once and clear it after a second of sample time without drops', () => {
+    const d = new Detectors(undefined, defaultRules(), { settings: { sampleRate: FS, segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' }, channels: [{ name: 'ch0' }], startWallTime: '2026-01-01T00:00:00.000Z' });
+    const psd = new Float64Array(513).fill(1e-16);
+    const snap = (sample: number) => ({
+      sample, t: sample / FS, wallTime: '', settings: d.settings, frequencies: new Float64Array(513),
+      channels: [{ name: 'ch0', unit: 'V', psd, segmentsUsed: 10, equivalentAverages: 10 }],
+    });
+    const raised = d.onOverrun({ sample: 8000, lost: 4000, droppedBlocks: 2 });
+    expect(raised.map((e) => [e.rule, e.state, e.sample, e.wallTime])).toEqual([['overrun', 'raised', 8000, '2026-01-01T00:00:02.000Z']]);
+    expect(d.onOverrun({ sample: 9000, lost: 1000, droppedBlocks: 1 })).toEqual([]);
+    expect(d.onSnapshot(snap(12_000)).filter((e) => e.rule === 'overrun')).toEqual([]);
+    const cleared = d.onSnapshot(snap(13_000)).filter((e) => e.rule === 'overrun');
+    expect(cleared.map((e) => e.state)).toEqual(['cleared']);
+    expect(cleared[0].detail).toMatch(/3 blocks dropped in all/);
   });
 });
 
