@@ -55,6 +55,7 @@ export class SerialSource implements Source {
   private everConnected = false;
   private stopping = false;
   private lastRequest = 0;
+  private hinted = false;
   private bytes = 0;
   private reconnects = 0;
   private finished: () => void = () => {};
@@ -190,11 +191,26 @@ export class SerialSource implements Source {
 
   private tick(): void {
     const now = performance.now();
-    if (this.port && this.binary && !this.binary.stream && now - this.lastRequest >= DESCRIBE_REPEAT_MS) this.requestDescriptor();
+    if (this.port && this.binary && !this.binary.stream && now - this.lastRequest >= DESCRIBE_REPEAT_MS) {
+      this.requestDescriptor();
+      this.hintWithoutDescriptor();
+    }
     if (!this.port) return;
     const verdict = this.watchdog.check(now, existsSync(this.path));
     if (verdict === 'path-gone') this.dropPort(`${this.path} disappeared (no data for ${(this.watchdog.idleMs(now) / 1000).toFixed(1)} s)`);
     else if (verdict === 'silent') this.dropPort(`no data for ${this.o.noDataSeconds} s on ${this.path}`);
+  }
+
+  /** Once, when bytes flow but no descriptor came after a few requests: say what the bytes look like. */
+  private hintWithoutDescriptor(): void {
+    const d = this.decoder!.counters;
+    if (this.hinted || d.bytes < 4096 || this.watchdog.idleMs(performance.now()) > 1000) return;
+    this.hinted = true;
+    if (d.sampleFrames === 0) {
+      this.o.log(`serial: ${d.bytes} bytes arrived but none formed a frame; if the board prints numbers, use --format text --rate HZ`);
+    } else {
+      this.o.log(`serial: ${d.sampleFrames} samples frames but no descriptor yet (held, up to 4 MiB); check that the board answers describe requests`);
+    }
   }
 
   private onClosed(port: SerialPort, why: string): void {
