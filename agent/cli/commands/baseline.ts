@@ -72,7 +72,11 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
     }
     for (let b = await reader.read(); b && !capture.push(b); b = await reader.read());
     const baseline = capture.result(new Date().toISOString());
-    await writeBaseline(out, baseline);
+    try {
+      await writeBaseline(out, baseline);
+    } catch (err) {
+      throw new InputError(`floorline baseline: cannot write ${out} (${(err as Error).message}); choose a writable path.`);
+    }
     const c0 = baseline.channels[0];
     process.stdout.write(
       `baseline ${out}: ${baseline.channels.length} channel(s), ${baseline.span.seconds.toFixed(2)} s from sample ${baseline.span.firstSample}, ` +
