@@ -199,7 +199,7 @@ export class MaxAverager implements Averager {
 
 /**
  * Bias of the sample median of n χ²₂ variates relative to their mean, as scipy.signal's _median_bias:
- * 1 + Σ_{i=1}^{(n−1)/2} (1/(2i+1) − 1/(2i)) (integer division; Allen et al. 2012, FINDCHIRP, eq. B12).
+ * 1 + Σ_{i=1}^{(n−1)/2} (1/(2i+1) − 1/(2i)) (integer division; Allen et al. 2012, FINDCHIRP, appendix B).
  */
 export function medianBias(n: number): number {
   let b = 1;

@@ -57,7 +57,7 @@ export class WelchEstimator {
   private readonly power: Float64Array;
   /** Per-bin factor turning raw |X|² into the one-sided density or spectrum. */
   private readonly scale: Float64Array;
-  /** ρ(j·step) for j = 1.. while j·step < segment (Welch 1967 eq. 11 with the window's autocorrelation). */
+  /** ρ(j·step) for j = 1.. while j·step < segment (Welch 1967, with the window's autocorrelation). */
   private readonly rho: Float64Array;
   private fill = 0;
   private nextSample: number;
@@ -271,7 +271,7 @@ export function overlapRho(w: Float64Array, step: number): Float64Array {
   return rho;
 }
 
-/** K / (1 + 2 Σ_{j=1}^{K−1} (1 − j/K) ρ_j)  (Welch 1967, eq. 11 / Heinzel 2002 eq. 27). */
+/** K / (1 + 2 Σ_{j=1}^{K−1} (1 − j/K) ρ_j)  (Welch 1967; Heinzel 2002 sec. 10). */
 export function equalWeightEquivalent(k: number, rho: Float64Array): number {
   let s = 0;
   const lags = Math.min(rho.length, k - 1);

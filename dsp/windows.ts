@@ -20,11 +20,11 @@ export interface WindowInfo {
   readonly name: string;
   readonly length: number;
   readonly values: Float64Array;
-  /** Σw/N (Heinzel eq. 15 divided by N). */
+  /** Σw/N (Heinzel 2002 sec. 9: S1/N). */
   readonly coherentGain: number;
-  /** Normalised equivalent noise bandwidth N·Σw²/(Σw)², in bins (Heinzel eq. 22). */
+  /** Normalised equivalent noise bandwidth N·Σw²/(Σw)², in bins (Heinzel 2002 sec. 9). */
   readonly nenbw: number;
-  /** Equivalent noise bandwidth in Hz: nenbw·fs/N (Heinzel eq. 21). */
+  /** Equivalent noise bandwidth in Hz: nenbw·fs/N (Heinzel 2002 sec. 9). */
   enbwHz(sampleRate: number): number;
   /** Heinzel's recommended overlap ROV, a fraction in [0, 1). */
   readonly recommendedOverlap: number;
@@ -193,7 +193,7 @@ export function optimalOverlap(w: Float64Array): number {
   return bestOverlap;
 }
 
-/** OC = Σ w[n]·w[n+step] / Σ w² (Heinzel eq. 26). */
+/** OC = Σ w[n]·w[n+step] / Σ w² (Heinzel 2002 sec. 10). */
 export function overlapCorrelation(w: Float64Array, step: number, sumSq: number): number {
   let s = 0;
   for (let i = 0; i + step < w.length; i++) s += w[i] * w[i + step];

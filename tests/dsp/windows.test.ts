@@ -46,10 +46,10 @@ describe('windows reproduce Heinzel (2002) appendix C', () => {
       const win = makeWindow(row.spec, N);
       const w = win.values;
       const peak = dtftMagnitude(w, 0);
-      // NENBW tabulated to 4 decimals (Heinzel eq. 22: N·Σw²/(Σw)²).
+      // NENBW tabulated to 4 decimals (Heinzel 2002 sec. 9: N·Σw²/(Σw)²).
       expect(Math.abs(win.nenbw - row.nenbw)).toBeLessThan(6e-5);
       expect(win.enbwHz(48000)).toBeCloseTo((win.nenbw * 48000) / N, 12);
-      // Coherent gain Σw/N equals |W(0)|/N by definition (Heinzel eq. 15).
+      // Coherent gain Σw/N equals |W(0)|/N by definition (Heinzel 2002 sec. 9).
       expect(win.coherentGain).toBeCloseTo(peak / N, 12);
       // Scalloping / emax: worst amplitude error over tone offsets 0..0.5 bin, tabulated to 4 decimals.
       let worst = 0;
