@@ -41,6 +41,8 @@ export interface GapNotice {
   /** Number of missing frames. */
   lost: number;
   reason: string;
+  /** For lost = 0 (a replay starting its file again): the file's own index of the sample the seam restarts at. */
+  restartsAt?: number;
 }
 
 export interface LinkNotice {

@@ -5,6 +5,8 @@
 //    the start of a stream or a gap, samples before the next such index are not analysed;
 //  - snapshot instants are the samples s with (s + 1) mod interval = 0, interval = round(rate / snapshotRate);
 //    a snapshot is taken at an instant only when a new segment completed since the previous one.
+// Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
+// starts again, so every loop is analysed on the same grid of file indices as the first.
 import { WelchEstimator } from '../../dsp/welch.ts';
 import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../core/settings.ts';
 import type { StreamInfo } from '../core/stream.ts';
@@ -21,9 +23,9 @@ export const DEFAULT_ANALYSIS: AnalysisChoice = { segment: 4096, window: 'hann',
 export const DEFAULT_AVERAGING: AveragingSpec = { mode: 'exponential', tauSeconds: 10 };
 export const DEFAULT_SNAPSHOT_RATE = 10;
 
-/** Smallest multiple of step that is ≥ sample. */
-export function alignUp(sample: number, step: number): number {
-  return Math.ceil(sample / step) * step;
+/** Smallest origin + k·step (k integer) that is ≥ sample. */
+export function alignUp(sample: number, step: number, origin = 0): number {
+  return origin + Math.ceil((sample - origin) / step) * step;
 }
 
 export class Analyser {
@@ -33,6 +35,8 @@ export class Analyser {
   private readonly estimators: WelchEstimator[];
   /** First absolute index that will be pushed after the latest start or gap. */
   private alignedFrom: number;
+  /** Where the segment and snapshot grids count from. */
+  private origin = 0;
   private lastSnapshotSegments = 0;
 
   constructor(
@@ -78,8 +82,16 @@ export class Analyser {
 
   /** Drops partial segments; analysis resumes at the first step multiple at or after `nextSample`. */
   restartAt(nextSample: number): void {
-    this.alignedFrom = alignUp(nextSample, this.step);
+    this.alignedFrom = alignUp(nextSample, this.step, this.origin);
     for (const e of this.estimators) e.reset(this.alignedFrom);
+  }
+
+  /** As restartAt, forgetting the averages too, with the grids counted from `origin`: a replay's loop seam. */
+  clearAt(nextSample: number, origin: number): void {
+    for (const e of this.estimators) e.clear();
+    this.lastSnapshotSegments = 0;
+    this.origin = origin;
+    this.restartAt(nextSample);
   }
 
   /**
@@ -89,11 +101,12 @@ export class Analyser {
   process(data: readonly Float64Array[], firstSample: number, frames: number, onInstant: (sample: number) => void): void {
     const end = firstSample + frames;
     const interval = this.interval;
+    const origin = this.origin;
     const estimators = this.estimators;
     const n = estimators.length;
     let pos = Math.max(firstSample, this.alignedFrom);
     while (pos < end) {
-      const boundary = Math.ceil((pos + 1) / interval) * interval - 1;
+      const boundary = origin + Math.ceil((pos - origin + 1) / interval) * interval - 1;
       const chunkEnd = boundary + 1 < end ? boundary + 1 : end;
       const from = pos - firstSample;
       const to = chunkEnd - firstSample;

@@ -229,10 +229,15 @@ export class Pipeline implements SourceSink {
     for (const d of this.detectors) if (d.onOverrun) this.emitAll(d.onOverrun(run));
   }
 
-  /** lost = 0 marks a seam in the signal (a replay loop) without missing samples: analysis restarts, no alarm. */
+  /**
+   * lost = 0 marks a seam in the signal without missing samples (a replay starting its recording again): the
+   * estimate starts over, so every loop of a replay gives the same spectra as the first, and detectors are not
+   * told of a gap. A real gap keeps the averages and only drops the partial segment.
+   */
   private applyGap(gap: GapNotice, notifyDetectors: boolean): void {
     this.expected = gap.sample + gap.lost;
-    this.analyser?.restartAt(this.expected);
+    if (gap.lost === 0) this.analyser?.clearAt(this.expected, this.expected - (gap.restartsAt ?? this.expected));
+    else this.analyser?.restartAt(this.expected);
     if (gap.lost > 0) {
       this.count.gaps++;
       this.count.lostSamples += gap.lost;

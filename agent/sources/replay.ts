@@ -151,7 +151,7 @@ export class ReplaySource implements Source {
           if (!this.options.loop || this.position.loops + 1 >= maxLoops) break;
           this.position.loops++;
           reader.seek(startFrame);
-          sink.gap({ sample: next, lost: 0, reason: 'replay loop: the recording starts again' });
+          sink.gap({ sample: next, lost: 0, reason: 'replay loop: the recording starts again', restartsAt: reader.info.firstSample + startFrame });
           continue;
         }
         sink.block({ firstSample: next, frames: block.frames, data: block.data });

@@ -234,4 +234,26 @@ describe('Pipeline', () => {
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
   });
+
+  it('starts the estimate over at a seam (a gap of 0 samples), as scipy.signal.welch of the samples after it', async () => {
+    const frames = 5 * RATE;
+    const raw = rawCounts(frames, 17);
+    const { p, snaps, gaps } = collect();
+    p.info(streamInfo());
+    const seam = 2 * RATE + 5;
+    feed(p, raw, 0, seam, [700]);
+    p.gap({ sample: seam, lost: 0, reason: 'replay loop' });
+    feed(p, raw, seam, frames, [700]);
+    expect(gaps).toHaveLength(1);
+    expect(p.counters()).toMatchObject({ gaps: 0, lostSamples: 0 });
+    const last = snaps[snaps.length - 1];
+    const resume = Math.ceil(seam / STEP) * STEP;
+    // Only segments after the seam: scipy.signal.welch(x[resume : sample + 1]).
+    const ref = (await scipyWelch(py, {
+      channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
+      cases: [[[resume, last.sample + 1]]], scale: SCALE, fround: true,
+    }))[0];
+    expect(last.channels[0].segmentsUsed).toBe(ref.segments);
+    expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
+  });
 });

@@ -125,13 +125,35 @@ describe('ReplaySource', () => {
       expect(b.firstSample).toBe(next);
       next += b.frames;
     }
-    expect(rec.gaps).toEqual([{ sample: FRAMES, lost: 0, reason: expect.stringMatching(/loop/) }]);
+    expect(rec.gaps).toEqual([{ sample: FRAMES, lost: 0, reason: expect.stringMatching(/loop/), restartsAt: 0 }]);
     // scipy.io.wavfile.read: samples 0..4 of ch1 and the first samples after the seam equal the file's first ones.
     const head = await py.run<number[]>(`fs, x = wavfile.read(args[0]); result = x[:5, 1].astype(float).tolist()`, floatWav);
     const seamBlock = rec.blocks.find((b) => b.firstSample <= FRAMES && b.firstSample + b.frames > FRAMES)!;
     const off = FRAMES - seamBlock.firstSample;
     expect(Array.from(rec.blocks[0].data[1].subarray(0, 5))).toEqual(head);
     expect(Array.from(seamBlock.data[1].subarray(off, off + 5))).toEqual(head);
+  });
+
+  it('analyses every loop of a looping replay exactly as the first (same spectra, shifted by the file length)', async () => {
+    // Step 512 and snapshot interval 1333 do not divide the 32000-frame file: the grids restart with each loop.
+    const p = new Pipeline({ analysis: { segment: 1024, overlap: 0.5 }, averaging: { mode: 'exponential', tauSeconds: 1 }, snapshotRate: 3 });
+    const snaps: SpectrumSnapshot[] = [];
+    p.on('snapshot', (s) => snaps.push(s));
+    const src = new ReplaySource(floatWav, { speed: 'max', loop: true, maxLoops: 2, blockFrames: 4321 });
+    await p.attach(src);
+    await src.done;
+    const first = snaps.filter((s) => s.sample < FRAMES);
+    const second = snaps.filter((s) => s.sample >= FRAMES);
+    expect(first.length).toBeGreaterThan(10);
+    expect(second.map((s) => s.sample - FRAMES)).toEqual(first.map((s) => s.sample));
+    for (let i = 0; i < first.length; i++) {
+      expect(second[i].channels[0].segmentsUsed).toBe(first[i].channels[0].segmentsUsed);
+      for (let c = 0; c < 2; c++) expect(second[i].channels[c].psd).toEqual(first[i].channels[c].psd);
+    }
+    // And the first loop is scipy's (checked in the CLI test above for mean averaging); here: same count of
+    // segments as scipy.signal.welch would use on x[:sample+1] (nperseg 1024, noverlap 512).
+    const s0 = first[first.length - 1];
+    expect(s0.channels[0].segmentsTotal).toBe(Math.floor((s0.sample + 1 - 1024) / 512) + 1);
   });
 
   it('starts at a sample index: the first analysed segment begins at the next step multiple', async () => {
