@@ -25,8 +25,8 @@ export class PortSink {
     readonly path: string,
     private readonly baudRate: number,
     private readonly events: PortSinkEvents,
-    /** Bytes the simulated board can hold unsent (default 1 MiB). */
-    private readonly fifoBytes = 1 << 20,
+    /** Bytes the simulated board can hold unsent (default 8 MiB: seconds of stall on a loaded host). */
+    private readonly fifoBytes = 8 << 20,
   ) {
     this.decoder = new FrameDecoder({ samples() {}, descriptor() {}, describeRequest: () => events.onConnectOrRequest() });
   }
