@@ -57,19 +57,25 @@ export class Conditioner {
       const dst = out[c];
       const scale = this.scales[c];
       const threshold = this.thresholds[c];
+      // Scaling and the peak in separate tight loops (measured faster in V8 than one loop doing both); clipped
+      // samples are counted in a third pass only when the peak reaches the threshold, which is rare.
+      for (let i = 0; i < frames; i++) dst[i] = Math.fround(src[start + i] * scale);
+      let peak = 0;
+      for (let i = 0; i < frames; i++) {
+        const a = Math.abs(src[start + i]);
+        peak = a > peak ? a : peak;
+      }
       let count = 0;
       let first = -1;
       let last = -1;
-      let peak = 0;
-      for (let i = 0; i < frames; i++) {
-        const v = src[start + i];
-        dst[i] = Math.fround(v * scale);
-        const a = v < 0 ? -v : v;
-        if (a > peak) peak = a;
-        if (a >= threshold) {
-          if (count === 0) first = i;
-          last = i;
-          count++;
+      if (peak >= threshold) {
+        for (let i = 0; i < frames; i++) {
+          const v = src[start + i];
+          if (v >= threshold || v <= -threshold) {
+            if (count === 0) first = i;
+            last = i;
+            count++;
+          }
         }
       }
       this.clipCount[c] = count;
