@@ -64,9 +64,13 @@ export function makeAverager(spec: AveragingSpec, bins: number, hopSeconds: numb
 /** Arithmetic mean of every segment since clear(). */
 export class MeanAverager implements Averager {
   used = 0;
-  private readonly sum: Float64Array;
+  /** Running Σ|X|²; a producer may add a segment into it directly and then call countAdded(). */
+  readonly sum: Float64Array;
   constructor(private readonly bins: number) {
     this.sum = new Float64Array(bins);
+  }
+  countAdded(): void {
+    this.used++;
   }
   add(power: Float64Array): void {
     const sum = this.sum;

@@ -55,13 +55,14 @@ export class RealFftPower {
       im[i] = y[j + 1];
     }
     this.fft.firstStage(re, im);
-    this.finish(power);
+    this.finish(power, false);
   }
 
   /**
    * |X[k]|² of y[n] = (src[offset+n] − mean − slope·(n − (N−1)/2))·w[n], the detrended and windowed segment,
    * without materialising y: the packing load and the first FFT stage run in the same pass. mean = slope = 0
-   * gives plain windowing with bit-identical values.
+   * gives plain windowing with bit-identical values. With accumulate, |X[k]|² is added to power[k] instead of
+   * written (a running sum without a second pass).
    */
   windowedPower(
     src: Float64Array,
@@ -70,6 +71,7 @@ export class RealFftPower {
     mean: number,
     slope: number,
     power: Float64Array,
+    accumulate = false,
   ): void {
     const m = this.size >> 1;
     const re = this.re;
@@ -126,7 +128,7 @@ export class RealFftPower {
         im[i + 3] = t1i + t3r;
       }
     }
-    this.finish(power);
+    this.finish(power, accumulate);
   }
 
   // Reorders a window into load order once per window array (a different array costs one O(N) pass).
@@ -141,7 +143,7 @@ export class RealFftPower {
   }
 
   // Remaining FFT stages, then the even/odd split into one-sided |X[k]|².
-  private finish(power: Float64Array): void {
+  private finish(power: Float64Array, accumulate: boolean): void {
     const m = this.size >> 1;
     const re = this.re;
     const im = this.im;
@@ -151,8 +153,13 @@ export class RealFftPower {
     // k = 0 and k = M: E[0] = Re Z0, O[0] = Im Z0; X[0] = E+O, X[M] = E−O (both real).
     const dc = re[0] + im[0];
     const ny = re[0] - im[0];
-    power[0] = dc * dc;
-    power[m] = ny * ny;
+    if (accumulate) {
+      power[0] += dc * dc;
+      power[m] += ny * ny;
+    } else {
+      power[0] = dc * dc;
+      power[m] = ny * ny;
+    }
     // Bins k and M−k share Z[k] and Z[M−k]: with E, O from the pair and u + iv = e^(−2πik/N)·O,
     // X[k] = (er + u) + i(ei + v) and X[M−k] = (er − u) + i(v − ei) (cos(π − θ) = −cos θ, sin(π − θ) = sin θ).
     const half = m >> 1;
@@ -173,12 +180,18 @@ export class RealFftPower {
       const pi = ei + v;
       const qr = er - u;
       const qi = v - ei;
-      power[k] = pr * pr + pi * pi;
-      power[m - k] = qr * qr + qi * qi;
+      if (accumulate) {
+        power[k] += pr * pr + pi * pi;
+        power[m - k] += qr * qr + qi * qi;
+      } else {
+        power[k] = pr * pr + pi * pi;
+        power[m - k] = qr * qr + qi * qi;
+      }
     }
     // k = M/2 pairs with itself: X = Re Z − i·Im Z there (e^(−iπ/2) = −i).
     const hr = re[half];
     const hi = im[half];
-    power[half] = hr * hr + hi * hi;
+    if (accumulate) power[half] += hr * hr + hi * hi;
+    else power[half] = hr * hr + hi * hi;
   }
 }

@@ -4,7 +4,7 @@
 // firstSample) and advance by step = segment − noverlap with noverlap = floor(overlap·segment), as scipy's
 // integer noverlap; samples that do not yet fill a segment wait for more data.
 import type { AveragingSpec, DetrendMode } from '../agent/core/settings.ts';
-import { makeAverager, validateAveraging, type Averager } from './averaging.ts';
+import { MeanAverager, makeAverager, validateAveraging, type Averager } from './averaging.ts';
 import { SegmentConditioner, validateDetrend } from './detrend.ts';
 import { RealFftPower } from './real-fft-power.ts';
 import { makeWindow, type WindowInfo } from './windows.ts';
@@ -225,8 +225,15 @@ export class WelchEstimator {
   private processSegment(src: Float64Array, offset: number, lastSample: number): void {
     const c = this.conditioner;
     c.fit(src, offset);
-    this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
-    this.averager.add(this.power);
+    const avg = this.averager;
+    if (avg instanceof MeanAverager) {
+      // Mean: add |X|² straight into the running sum (same additions as add(), one pass fewer).
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, avg.sum, true);
+      avg.countAdded();
+    } else {
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
+      avg.add(this.power);
+    }
     this.segmentsTotal++;
     this.lastSegmentSample = lastSample;
   }

@@ -76,6 +76,11 @@ describe('FFTs agree with numpy.fft to rounding', () => {
       const fused = new Float64Array(n / 2 + 1);
       p.windowedPower(x, 0, win, cond.mean, cond.slope, fused);
       expect(Array.from(fused)).toEqual(Array.from(power));
+      // accumulate adds onto what is there: twice the same segment is exactly twice its power.
+      const sum = new Float64Array(n / 2 + 1);
+      p.windowedPower(x, 0, win, cond.mean, cond.slope, sum, true);
+      p.windowedPower(x, 0, win, cond.mean, cond.slope, sum, true);
+      expect(Array.from(sum)).toEqual(Array.from(power, (v) => 2 * v));
     });
   });
 
