@@ -30,7 +30,8 @@ for (let j = 0; j < plan.count; j++) {
   work += plan.averages[j] * plan.segment[j];
 }
 
-const tmp = new URL('../../.bench-tmp/', import.meta.url).pathname;
+// bench.mjs runs every benchmark with the repository as its working directory.
+const tmp = `${process.cwd()}/.bench-tmp/`;
 mkdirSync(tmp, { recursive: true });
 writeFileSync(`${tmp}logfreq-x.bin`, new Uint8Array(x.buffer));
 writeFileSync(`${tmp}logfreq-plan.json`, JSON.stringify({ f: [...plan.frequency], L: [...plan.segment], D: [...plan.step], K: [...plan.averages] }));

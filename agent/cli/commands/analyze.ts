@@ -7,6 +7,7 @@ import { analyzeFile, reportToJson, validateSettings, type AnalyzeOptions } from
 import { parseBand } from '../../analysis/bands.ts';
 import { formatCsv } from '../../analysis/csv.ts';
 import { formatTextSummary } from '../../analysis/text-summary.ts';
+import { runLogFrequencyAnalysis } from '../../analysis/log-frequency-command.ts';
 
 function optionsFrom(args: ParsedArgs): AnalyzeOptions {
   const f = args.flags;
@@ -55,9 +56,11 @@ export const analyzeCommand: CommandSpec = {
     { name: 'scale', kind: 'number', value: 'V', help: 'volts per full scale for integer PCM or unscaled float files' },
     { name: 'json', kind: 'boolean', help: 'print the report as JSON' },
     { name: 'csv', kind: 'boolean', help: 'print the spectra as CSV' },
+    { name: 'log-frequency', kind: 'boolean', help: 'log-spaced density (per-frequency segments), 1/f corner fit and 0.1–10 Hz peak-to-peak instead of the Welch report' },
   ],
   async run(args) {
     const options = optionsFrom(args);
+    if (args.flags['log-frequency']) return runLogFrequencyAnalysis(args, options);
     const progress = createProgress('analyze');
     options.onProgress = (done, total) => progress.update(done, total);
     const file = args.positionals[0];
