@@ -82,13 +82,16 @@ result = {"psd": psd, "k": (len(x) - 1024) // 512 + 1}`,
     }
   });
 
-  it('refuses a bad --speed, a start outside the file and a missing file with exit 2 and a message', () => {
+  it('refuses a bad --speed, a start outside the file, an unknown window and a missing file with exit 2 and a message', () => {
     const speed = floorline('replay', floatWav, '--speed', 'fast', '--no-server');
     expect(speed.status).toBe(2);
     expect(speed.stderr).toMatch(/--speed 'fast'.*--speed max/);
     const start = floorline('replay', floatWav, '--start-time', '100', '--no-server');
     expect(start.status).toBe(2);
     expect(start.stderr).toMatch(/outside the recording.*pick a start inside it/);
+    const win = floorline('replay', floatWav, '--window', 'gauss', '--no-server');
+    expect(win.status).toBe(2);
+    expect(win.stderr).toMatch(/--window: unknown window "gauss": choose one of rect, hann/);
     const missing = floorline('replay', join(dir, 'none.wav'), '--no-server');
     expect(missing.status).toBe(2);
     expect(missing.stderr).toMatch(/none\.wav/);

@@ -11,6 +11,7 @@ import { defaultRules, loadRules, type RulesConfig } from '../../alarms/rules.ts
 import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import type { Recorder } from '../../recorder/recorder.ts';
+import { parseWindowName } from '../../../dsp/windows.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
   { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
@@ -68,8 +69,14 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
   if ((segment & (segment - 1)) !== 0) {
     throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`);
   }
+  let window: string;
+  try {
+    window = parseWindowName(f.window as string);
+  } catch (err) {
+    throw new UsageError(`floorline ${command}: --window: ${(err as Error).message}.`);
+  }
   return {
-    analysis: { segment, window: f.window as string, overlap: f.overlap as number, detrend: f.detrend as DetrendMode },
+    analysis: { segment, window, overlap: f.overlap as number, detrend: f.detrend as DetrendMode },
     averaging: parseAveraging(f.average as string, command),
     snapshotRate: f['snapshot-rate'] as number,
     data: f.data as string,
