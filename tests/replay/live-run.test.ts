@@ -43,7 +43,9 @@ describe('floorline run', () => {
     const scenarioPath = join(dir, 'scenario.json');
     writeFileSync(scenarioPath, JSON.stringify(scenario));
     const data = join(dir, 'data');
-    const run = spawn(process.execPath, [bin, 'run', '--port', pair.host, '--no-server', '--quiet', '--record', '--data', data, '--duration', '5', '--segment', '1024', '--status-every', '0'], {
+    // A deep analysis queue (4096 blocks ≈ 41 s here): this test is about live = replay, not about overruns, and a
+    // loaded CI machine may stall the agent for longer than the default 64 blocks (0.64 s) cover.
+    const run = spawn(process.execPath, [bin, 'run', '--port', pair.host, '--no-server', '--quiet', '--record', '--data', data, '--duration', '5', '--segment', '1024', '--status-every', '0', '--queue', '4096'], {
       stdio: ['ignore', 'pipe', 'pipe'], cwd: dir,
     });
     let out = '';
