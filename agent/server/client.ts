@@ -1,6 +1,6 @@
 // One dashboard connection. Binary frames are latest-wins per kind: while one is being sent, a newer frame
 // replaces the waiting one and the replaced frame is counted as skipped, so a slow client never slows the agent
-// and never grows a queue. JSON messages (replies, events, status) are small and always sent in order.
+// and never grows a queue; frames of one kind are also paced to a display rate. JSON messages (replies, events, status) are small and always sent in order.
 import type { WebSocket } from 'ws';
 import type { ServerMessage } from '../wire/messages.ts';
 import type { FrameKindName } from '../wire/frame.ts';
@@ -9,6 +9,9 @@ import type { PooledFrame } from './frame-pool.ts';
 interface Lane {
   inFlight: PooledFrame | null;
   waiting: PooledFrame | null;
+  /** performance.now() of the last send; frames are paced to minIntervalMs (display pacing, wall clock). */
+  lastSentAt: number;
+  timer: ReturnType<typeof setTimeout> | null;
 }
 
 export class ClientConnection {
@@ -22,6 +25,8 @@ export class ClientConnection {
     readonly id: number,
     private readonly ws: WebSocket,
     private readonly maxBufferedBytes: number,
+    /** Least time between two frames of one kind: a replay at 8× or max makes spectra far faster than a screen shows them. */
+    private readonly minIntervalMs = 0,
   ) {}
 
   sendJson(message: ServerMessage): void {
@@ -38,11 +43,12 @@ export class ClientConnection {
     if (this.closed || this.ws.readyState !== this.ws.OPEN) return;
     let lane = this.lanes.get(kind);
     if (!lane) {
-      lane = { inFlight: null, waiting: null };
+      lane = { inFlight: null, waiting: null, lastSentAt: -Infinity, timer: null };
       this.lanes.set(kind, lane);
     }
     frame.retain();
-    if (lane.inFlight === null) {
+    const wait = lane.lastSentAt + this.minIntervalMs - performance.now();
+    if (lane.inFlight === null && lane.waiting === null && wait <= 0) {
       this.transmit(lane, frame);
       return;
     }
@@ -51,20 +57,41 @@ export class ClientConnection {
       this.framesSkipped++;
     }
     lane.waiting = frame;
+    if (lane.inFlight === null && lane.timer === null) this.schedule(lane, wait);
+  }
+
+  private schedule(lane: Lane, ms: number): void {
+    lane.timer = setTimeout(() => {
+      lane.timer = null;
+      const next = lane.waiting;
+      if (next === null || lane.inFlight !== null) return;
+      lane.waiting = null;
+      if (this.closed || this.ws.readyState !== this.ws.OPEN) next.release();
+      else this.transmit(lane, next);
+    }, Math.max(0, ms));
   }
 
   private transmit(lane: Lane, frame: PooledFrame): void {
     lane.inFlight = frame;
+    lane.lastSentAt = performance.now();
     this.ws.send(frame.view(), { binary: true }, () => {
       // Called once the bytes left for the socket (or the send failed): only now may the buffer be reused.
       frame.release();
       lane.inFlight = null;
       if (!this.closed) this.framesSent++;
-      const next = lane.waiting;
-      lane.waiting = null;
-      if (next === null) return;
-      if (this.closed || this.ws.readyState !== this.ws.OPEN) next.release();
-      else this.transmit(lane, next);
+      if (lane.waiting === null) return;
+      if (this.closed || this.ws.readyState !== this.ws.OPEN) {
+        lane.waiting.release();
+        lane.waiting = null;
+        return;
+      }
+      const ms = lane.lastSentAt + this.minIntervalMs - performance.now();
+      if (ms > 0) this.schedule(lane, ms);
+      else {
+        const next = lane.waiting;
+        lane.waiting = null;
+        this.transmit(lane, next);
+      }
     });
   }
 
@@ -78,6 +105,8 @@ export class ClientConnection {
   release(): void {
     this.closed = true;
     for (const lane of this.lanes.values()) {
+      if (lane.timer !== null) clearTimeout(lane.timer);
+      lane.timer = null;
       lane.waiting?.release();
       lane.waiting = null;
     }

@@ -22,6 +22,8 @@ export interface ServerOptions {
   statusIntervalMs: number;
   /** Samples per channel in the time-trace frame. */
   traceLength: number;
+  /** Most binary frames of one kind per second to one client (display pacing; newer frames replace waiting ones). */
+  maxFramesPerSecond: number;
 }
 
 export class ServerConfigError extends Error {
@@ -48,6 +50,7 @@ export function resolveServerOptions(partial: Partial<ServerOptions> & { assetsD
     heartbeatMs: 15_000,
     statusIntervalMs: 500,
     traceLength: 2048,
+    maxFramesPerSecond: 20,
     ...partial,
   };
   if (!Number.isInteger(o.port) || o.port < 0 || o.port > 65535) {
@@ -65,5 +68,6 @@ export function resolveServerOptions(partial: Partial<ServerOptions> & { assetsD
   for (const [name, v] of [['maxPayload', o.maxPayload], ['maxBufferedBytes', o.maxBufferedBytes], ['traceLength', o.traceLength]] as const) {
     if (!Number.isInteger(v) || v < 1) throw new ServerConfigError(`server option ${name} must be a positive integer, got ${v}`);
   }
+  if (!(o.maxFramesPerSecond > 0)) throw new ServerConfigError(`server option maxFramesPerSecond must be above 0, got ${o.maxFramesPerSecond}`);
   return o;
 }

@@ -158,7 +158,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   });
 
   function onConnection(ws: WebSocket): void {
-    const client = new ClientConnection(nextClientId++, ws, options.maxBufferedBytes);
+    const client = new ClientConnection(nextClientId++, ws, options.maxBufferedBytes, 1000 / options.maxFramesPerSecond);
     hub.add(client);
     ws.on('pong', () => (client.alive = true));
     ws.on('close', () => hub.remove(client));

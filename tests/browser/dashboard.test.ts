@@ -131,6 +131,25 @@ describe('dashboard against a running replay', () => {
     await waitUntil(page, `Array.from(document.querySelectorAll('#bands tbody tr')).every((r) => r.cells[3].dataset.value !== '')`, 10_000);
   });
 
+  it('is usable from the keyboard: arrow keys move the chart readout, m toggles max-hold, u steps the unit', async () => {
+    await page.focus('#spectrum');
+    await page.keyboard.press('ArrowRight');
+    await page.keyboard.press('Shift+ArrowRight');
+    expect(await page.textContent('#readout')).toMatch(/^f = [0-9.]+ k?Hz · ch0: .*V\/√Hz, line .*V rms at/);
+    await page.keyboard.press('m');
+    expect(await page.isChecked('#maxhold')).toBe(true);
+    await page.keyboard.press('u');
+    expect(await page.inputValue('#units')).toBe('dbv');
+    await page.keyboard.press('u');
+    await page.keyboard.press('u');
+    expect(await page.inputValue('#units')).toBe('asd');
+    await page.keyboard.press('m');
+    // Tab order reaches the controls: from the units list the next stop is the max-hold box.
+    await page.focus('#units');
+    await page.keyboard.press('Tab');
+    expect(await page.evaluate('document.activeElement.id')).toBe('maxhold');
+  });
+
   it('exports the spectrum as CSV that numpy reads, with its context header and units row', async () => {
     const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#export-csv')]);
     const path = join(dir, 'spectrum.csv');
@@ -173,6 +192,22 @@ describe('alarms and restarts', () => {
     expect(tr).toBeLessThan(48);
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-demo-alarms.png') });
     await page.close();
+    await a.stop();
+  });
+
+  it('with a token: refuses the page without it, and with the printed ?token= URL serves page and socket', async () => {
+    const token = 'b7e1c0de5a1f00d2b7e1c0de5a1f00d2';
+    const a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--token', token, '--http-port', '0', '--data', join(dir, 'data-token')]);
+    expect(a.url).toContain(`?token=${token}`);
+    const bare = a.url.replace(/\?token=.*$/, '');
+    const page = await browser.newPage();
+    const r = await page.goto(bare);
+    expect(r?.status()).toBe(401);
+    await page.close();
+    const ok = await openDashboard(a.url);
+    expect(await ok.getAttribute('body', 'data-link')).toBe('up');
+    await ok.close();
+    await browser.clearCookies();
     await a.stop();
   });
 

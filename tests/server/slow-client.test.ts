@@ -13,7 +13,7 @@ afterEach(async () => {
 describe('latest-frame-only delivery', () => {
   it('skips and counts frames for a client that stops reading, and every frame it gets is intact', async () => {
     // 4 channels × 8193 bins: 131 kB a frame, so a paused reader fills the socket buffers after a few frames.
-    s = await startWithFake({}, { channels: 4, segment: 16384 });
+    s = await startWithFake({ maxFramesPerSecond: 1e6 }, { channels: 4, segment: 16384 });
     const slow = await TestClient.open(s.ws);
     const fast = await TestClient.open(s.ws);
     await slow.until(() => slow.json.find((m) => m.type === 'hello'));
@@ -48,5 +48,24 @@ describe('latest-frame-only delivery', () => {
     expect(s.server.poolStats().created).toBeLessThan(40);
     slow.close();
     fast.close();
+  });
+
+  it('paces frames to maxFramesPerSecond and still delivers the newest one', async () => {
+    s = await startWithFake({ maxFramesPerSecond: 10 });
+    const c = await TestClient.open(s.ws);
+    await c.until(() => c.json.find((m) => m.type === 'hello'));
+    const t0 = performance.now();
+    for (let i = 1; i <= 60; i++) {
+      s.backend.step(80, i);
+      await new Promise((r) => setTimeout(r, 5));
+    }
+    const elapsed = performance.now() - t0;
+    await c.until(() => c.frames.some((f) => f.kind === 'spectrum' && f.averages[0] === 60), 5000);
+    const spectra = c.frames.filter((f) => f.kind === 'spectrum');
+    // At most one frame per 100 ms of the run plus the first and the final flush; the newest is never lost.
+    expect(spectra.length).toBeLessThanOrEqual(Math.ceil(elapsed / 100) + 2);
+    expect(spectra.length).toBeGreaterThan(1);
+    expect(spectra.at(-1)!.averages[0]).toBe(60);
+    c.close();
   });
 });
