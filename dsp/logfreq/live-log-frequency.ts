@@ -64,6 +64,9 @@ export class LiveLogFrequency {
 
   private readonly chunk: number;
   private first: number;
+  /** A constant taken out of every sample (the first one after construction or reset): the mean removal per
+   * segment cancels it exactly, and without it a large DC offset would cancel digits in A − mean·C0. */
+  private offset = NaN;
   private readonly decimators: SosCascade[];
   private readonly phase: Uint8Array;
   private readonly stageCount: Float64Array;
@@ -230,6 +233,7 @@ export class LiveLogFrequency {
   }
 
   private pushChunk(x: Float64Array, start: number, end: number): void {
+    if (Number.isNaN(this.offset)) this.offset = x[start];
     // Stage 0 reads the input in place; each deeper stage fills its buffer from the one above.
     let src = x;
     let srcStart = start;
@@ -240,7 +244,7 @@ export class LiveLogFrequency {
       let ph = this.phase[k];
       let o = 0;
       for (let i = srcStart; i < srcEnd; i++) {
-        const v = dec.step(src[i]);
+        const v = dec.step(k === 1 ? src[i] - this.offset : src[i]);
         if (ph === 1) dst[o++] = v; // keep the second of each pair: stage-k sample q is input sample (q+1)·2^k − 1
         ph ^= 1;
       }
@@ -264,6 +268,7 @@ export class LiveLogFrequency {
   }
 
   private runPoint(p: number, y: Float64Array, from: number, base: number, end: number): void {
+    const stage0 = this.stage[p] === 0; // deeper stages are fed from input − offset already
     const len = this.segment[p];
     const step = this.step[p];
     const toff = this.tableOffset[p];
@@ -302,8 +307,9 @@ export class LiveLogFrequency {
         let im = sIm[s];
         let sum = sSum[s];
         const yOff = from - base;
+        const dc = stage0 ? this.offset : 0;
         for (let i = idx, t = t0; i < stop; i++, t++) {
-          const v = y[i + yOff];
+          const v = y[i + yOff] - dc;
           re += v * kRe[t];
           im += v * kIm[t];
           sum += v;
@@ -387,6 +393,7 @@ export class LiveLogFrequency {
     this.nextStart.fill(0);
     this.first = nextSample;
     this.lastSample = nextSample - 1;
+    this.offset = NaN;
   }
 
   /** Drops everything, averages included. */

@@ -56,7 +56,7 @@ export function logFrequencyPsd(
       `log-frequency PSD: the plan is for ${plan.samples} samples but the record has ${samples.length}; plan again for this record`,
     );
   }
-  const x = samples instanceof Float64Array ? samples : Float64Array.from(samples);
+  const x = detrend === 'none' ? toFloat64(samples) : withoutMean(samples);
   const fs = plan.sampleRate;
   const count = plan.count;
   let longest = 2;
@@ -109,4 +109,21 @@ export function logFrequencyPsd(
     sample,
     t: sample / fs,
   };
+}
+
+function toFloat64(samples: Float64Array | Float32Array): Float64Array {
+  return samples instanceof Float64Array ? samples : Float64Array.from(samples);
+}
+
+// Mean and linear detrending remove any constant exactly, so taking the record's mean out first changes nothing
+// in exact arithmetic; it keeps a large DC offset (a bridge at 1 V with nV noise) from cancelling digits when the
+// segment mean is removed after the sum (A − mean·C0).
+function withoutMean(samples: Float64Array | Float32Array): Float64Array {
+  const n = samples.length;
+  let sum = 0;
+  for (let i = 0; i < n; i++) sum += samples[i];
+  const mean = sum / n;
+  const out = new Float64Array(n);
+  for (let i = 0; i < n; i++) out[i] = samples[i] - mean;
+  return out;
 }

@@ -14,12 +14,14 @@ describe('LiveLogFrequency', () => {
     const live = new LiveLogFrequency({ sampleRate: fs, spanSeconds: 200, points: 70, averages: 10 });
     for (let at = 0, b = 5; at < n; at += b, b = ((b * 13 + 7) % 3001) + 1) live.push(x, at, Math.min(n, at + b));
     expect(live.stages).toBeGreaterThan(5);
-    // Reference stage signals: stage k+1 = sosfilt(butter(10, 0.2·R_k, fs=R_k), stage k)[1::2] (scipy.signal).
+    // Reference stage signals: stage k+1 = sosfilt(butter(10, 0.2·R_k, fs=R_k), stage k)[1::2] (scipy.signal),
+    // from x − x[0]: the live form takes its first sample out as a constant (mean removal cancels it), so its
+    // decimators start on that signal.
     const ref = runPython<{ stages: Float64Array[] }>(
       `
 from scipy.signal import butter, sosfilt
 sos = butter(int(inp['order']), inp['cut'] * 2, output='sos')  # cutoff as a fraction of Nyquist
-y = inp['x']; st = [y]
+y = inp['x'] - inp['x'][0]; st = [inp['x']]
 for k in range(1, int(inp['stages'])):
     y = sosfilt(sos, y)[1::2]; st.append(y)
 out['stages'] = st
