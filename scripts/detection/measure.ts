@@ -28,7 +28,7 @@ const flickerBench: Bench = { ...DEFAULT_BENCH, floor: { white: 10e-9, corner: 1
 const sweeps: Sweep[] = [
   {
     title: 'Mains pickup (50 Hz fundamental, 3rd harmonic at a third of it, ±0.05 Hz drift), switched on abruptly',
-    rule: 'mains', unit: 'V rms (fundamental)', bench: DEFAULT_BENCH,
+    rule: 'mains', unit: 'V rms of the fundamental', bench: DEFAULT_BENCH,
     levels: [3e-8, 5e-8, 7e-8, 1e-7, 1.5e-7, 3e-7, 1e-6],
     fault: (a) => ({ kind: 'mains', fundamental: 50, harmonics: [a, 0, a / 3], driftSpan: 0.05 }),
     note: 'detected = a `mains` alarm raised within 40 s of the onset',
@@ -64,7 +64,7 @@ function median(xs: number[]): number {
 }
 
 function fmt(x: number): string {
-  return Number(x.toPrecision(3)).toString();
+  return x !== 0 && Math.abs(x) < 1e-3 ? Number(x.toPrecision(3)).toExponential() : Number(x.toPrecision(3)).toString();
 }
 
 const out: string[] = [];
@@ -77,7 +77,7 @@ const baselineFor = (b: Bench): BaselineFile => {
 };
 
 out.push('# Detection figures', '');
-out.push('Regenerate with `node scripts/detection/run.mjs` (writes this file; about twenty minutes on the shared 2-core machine).', '');
+out.push('Regenerate with `node scripts/detection/run.mjs` (writes this file; about five minutes on the 2-core machine, longer while other suites load it).', '');
 out.push('Bench (scripts/detection/harness.ts): the real pipeline and detectors on seeded synthetic signals, in sample time.');
 out.push(`${DEFAULT_BENCH.sampleRate} S/s, one channel, white floor ${DEFAULT_BENCH.floor.white * 1e9} nV/√Hz; analysis segment ${DEFAULT_BENCH.analysis.segment}, ` +
   `${DEFAULT_BENCH.analysis.window}, overlap ${DEFAULT_BENCH.analysis.overlap}, detrend ${DEFAULT_BENCH.analysis.detrend}; the pipeline's default averaging ` +
@@ -133,6 +133,8 @@ out.push('- The smallest line follows from the spur margin: a line of RMS A over
 out.push('  10·log10(1 + A²/(e²·ENBW)) dB above the floor (Heinzel 2002 §10), here ENBW = 1.5 × 3.906 Hz = 5.86 Hz, so 10 dB');
 out.push('  needs A ≥ e·√(9·ENBW) = 73 nV bin-centred and about 85 nV at the worst offset (Hann scalloping loss 1.42 dB);');
 out.push('  the table\'s 100 nV is the first level tried above that.');
+out.push('- The 1/f corner shows in 11.7–100 Hz as R = (88.3 + 2.146·fc)/109.8 (white part 88.3 Hz·e², 1/f part');
+out.push('  e²·fc·ln(100/11.72)), which passes the 3 dB margin at fc = 61 Hz: 50 Hz is below it, 70 Hz above.');
 out.push('- A +3 dB band rise sits exactly on the default 3 dB margin and is not detected reliably at default settings; use a');
 out.push('  lower `band.marginDb` in a rules file to watch for it (tests/alarms/detection.test.ts catches +3 dB with 2 dB).');
 out.push('- A strong line switched on abruptly is also a short broadband transient in the one Welch segment holding the switch-on;');
