@@ -5,8 +5,8 @@
 // Design (ours): stage 0 runs at the input rate; stage k+1 is stage k through a 10th-order Butterworth
 // low-pass at 0.2·R_k, keeping every second sample (R_{k+1} = R_k/2). A point at frequency f runs on the
 // deepest stage with f ≤ R_k/4 whose segment still has ≥ 64 samples; there the anti-alias filters have passed
-// f with < 0.01 % droop, which is divided out exactly from |H(f)|², and aliases land from ≥ 0.375·R_k, where the
-// filter is ≥ 100 dB down (tan-warped Butterworth magnitude). Each point accumulates its open segments sample by
+// f with < 0.01 % droop, which is divided out exactly from |H(f)|², and what aliases onto [0, R_k/4] comes from
+// ≥ 0.375·R_{k−1}, where the filter is ≥ 100 dB down (tan-warped Butterworth magnitude). Each point accumulates its open segments sample by
 // sample (two multiply-adds per sample and segment) and keeps a rolling mean of about its last K_j segment powers,
 // K_j being what fits in `spanSeconds`: every point shows roughly the last span of sample time.
 // The rolling mean is kept in at most 33 batch sums per point (K_j/32 segments each, the newest one filling),

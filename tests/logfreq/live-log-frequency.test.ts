@@ -84,6 +84,33 @@ out['lo'] = chi2.ppf(0.005, nu) / nu; out['hi'] = chi2.ppf(0.995, nu) / nu
     expect(Math.abs(sum / w - 1)).toBeLessThan(4 * Math.sqrt(2 / w));
   });
 
+  it('keeps a full-scale tone near Nyquist out of the decimated low-frequency points (no aliasing)', () => {
+    const fs = 1000;
+    const sigma = 1e-4;
+    const live = new LiveLogFrequency({ sampleRate: fs, spanSeconds: 40, points: 60, averages: 10 });
+    const x = new SeededRandom(55).fillGaussian(new Float64Array(60 * fs), sigma);
+    // 1 V at 450 Hz, 80 dB above the noise: its alias after one halving would sit at 50 Hz.
+    for (let i = 0; i < x.length; i++) x[i] += Math.SQRT2 * Math.sin((2 * Math.PI * 450 * i) / fs);
+    live.push(x);
+    const psd = live.psd();
+    const nu = live.equivalentAverages();
+    const truth = (2 * sigma * sigma) / fs; // white floor (common practice)
+    let sum = 0;
+    let w = 0;
+    let worst = 0;
+    for (let p = 0; p < live.count; p++) {
+      if (live.stage[p] === 0 || !(nu[p] > 0)) continue; // stage 0 holds the tone itself
+      const r = psd[p] / truth;
+      worst = Math.max(worst, r);
+      sum += 2 * nu[p] * r;
+      w += 2 * nu[p];
+    }
+    expect(w).toBeGreaterThan(0);
+    // Pooled ratio within 4σ (variance 2/Σν) and no point above 20 (P(χ²₂/2 > 20) = e^-20 for the rawest point).
+    expect(Math.abs(sum / w - 1)).toBeLessThan(4 * Math.sqrt(2 / w));
+    expect(worst).toBeLessThan(20);
+  });
+
   it('forgets what lies more than about one span back: after a level change it shows only the new level', () => {
     const fs = 500;
     const live = new LiveLogFrequency({ sampleRate: fs, spanSeconds: 20, points: 50, averages: 8 });
