@@ -27,15 +27,21 @@ const HEINZEL: Row[] = [
 
 const N = 1024;
 
-/** |Σ w[n] e^(−2πi·f·n/N)| at f in bins. */
+/** |Σ w[n] e^(−2πi·f·n/N)| at f in bins; the phasor advances by one complex multiply per sample (no trig in the loop). */
 function dtftMagnitude(w: Float64Array, f: number): number {
+  const n = w.length;
+  const stepRe = Math.cos((-2 * Math.PI * f) / n);
+  const stepIm = Math.sin((-2 * Math.PI * f) / n);
+  let pr = 1;
+  let pi = 0;
   let re = 0;
   let im = 0;
-  const n = w.length;
   for (let i = 0; i < n; i++) {
-    const ph = (-2 * Math.PI * f * i) / n;
-    re += w[i] * Math.cos(ph);
-    im += w[i] * Math.sin(ph);
+    re += w[i] * pr;
+    im += w[i] * pi;
+    const t = pr * stepRe - pi * stepIm;
+    pi = pr * stepIm + pi * stepRe;
+    pr = t;
   }
   return Math.hypot(re, im);
 }
