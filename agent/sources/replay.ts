@@ -6,6 +6,7 @@ import { statSync } from 'node:fs';
 import { basename } from 'node:path';
 import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../core/stream.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
+import { nextFileOfRun } from './rotated-run.ts';
 
 export type ReplaySpeed = number | 'max';
 
@@ -22,6 +23,8 @@ export interface ReplayOptions {
   scale?: number;
   /** Stop after this many loops (for tests); default unlimited when looping. */
   maxLoops?: number;
+  /** At the end of the file, go on with the next file of the same rotated recording (not with loop). */
+  follow?: boolean;
 }
 
 /** Parses a --speed value: 1, any positive number, or "max". */
@@ -63,6 +66,7 @@ export class ReplaySource implements Source {
     if (s !== 'max' && !(typeof s === 'number' && s > 0 && Number.isFinite(s))) {
       throw new RangeError(`replay speed must be a positive number or 'max', got ${String(s)}`);
     }
+    if (options.follow && options.loop) throw new RangeError('replay: give --follow or --loop, not both');
   }
 
   get speed(): ReplaySpeed {
@@ -135,6 +139,23 @@ export class ReplaySource implements Source {
     return sample - info.firstSample;
   }
 
+  /** Opens the file after the current one in its rotated run; undefined at the end of the run. */
+  private async openNextOfRun(current: WavReader, next: number): Promise<WavReader | undefined> {
+    const found = nextFileOfRun(current.info.path, next);
+    if (!found) return undefined;
+    const reader = await WavReader.open(found.path, { scale: this.options.scale, blockFrames: current.blockFrames });
+    const a = current.info;
+    const b = reader.info;
+    if (b.sampleRate !== a.sampleRate || b.channels.length !== a.channels.length) {
+      await reader.close();
+      throw Object.assign(
+        new RangeError(`${found.path} (${b.channels.length} ch at ${b.sampleRate} Hz) does not continue ${a.path} (${a.channels.length} ch at ${a.sampleRate} Hz); replay them separately.`),
+        { exitCode: 2 },
+      );
+    }
+    return reader;
+  }
+
   private async play(sink: SourceSink, reader: WavReader, startFrame: number, firstSample: number): Promise<void> {
     const rate = reader.info.sampleRate;
     const speed = this.speed;
@@ -147,6 +168,18 @@ export class ReplaySource implements Source {
       for (;;) {
         const block = await reader.read();
         if (this.stopping) break;
+        if (!block && this.options.follow) {
+          const following = await this.openNextOfRun(reader, next);
+          if (!following) break;
+          await reader.close();
+          reader = following;
+          this.reader = following;
+          const first = following.info.firstSample;
+          // A hole between files is a gap the live run had too (the recorder starts a new file at each gap).
+          if (first > next) sink.gap({ sample: next, lost: first - next, reason: `no recording between files (${basename(following.info.path)} starts at sample ${first})` });
+          next = first;
+          continue;
+        }
         if (!block) {
           if (!this.options.loop || this.position.loops + 1 >= maxLoops) break;
           this.position.loops++;

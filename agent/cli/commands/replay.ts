@@ -21,6 +21,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   if (speed === undefined) {
     throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);
   }
+  if (f.follow && f.loop) throw new UsageError('floorline replay: give --follow or --loop, not both.');
   if (f['start-sample'] !== undefined && f['start-time'] !== undefined) {
     throw new UsageError('floorline replay: give --start-sample or --start-time, not both.');
   }
@@ -28,6 +29,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   const source = new ReplaySource(file, {
     speed,
     loop: f.loop as boolean,
+    follow: f.follow as boolean,
     startSample: f['start-sample'] as number | undefined,
     startTime: f['start-time'] as number | undefined,
     scale: f.scale as number | undefined,
@@ -83,6 +85,7 @@ export const replayCommand: CommandSpec = {
   flags: [
     { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed: 1 = real time, N times faster, or max' },
     { name: 'loop', kind: 'boolean', help: 'start again at the end (sample time keeps counting)' },
+    { name: 'follow', kind: 'boolean', help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them' },
     { name: 'start-sample', kind: 'number', value: 'N', integer: true, min: 0, help: 'start at this sample index (as printed in events)' },
     { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'start at this sample time t in seconds' },
     { name: 'scale', kind: 'number', value: 'V', min: 0, help: 'volts per full scale for integer PCM or unlabelled float files' },
