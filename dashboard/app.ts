@@ -119,15 +119,22 @@ export class App {
     this.health.update(s);
     this.bands.update(s.bands, new Map(s.channels.map((c) => [c.name, c.unit])), s.spectrumSample);
     this.spectrum.setBands(s.bands);
+    this.spectrum.setMains(s.mainsHz);
     this.events.markAcknowledged(s.alarms);
     this.controls.showStatus(s);
   }
 
   private async acknowledge(e: FloorlineEvent): Promise<void> {
+    const say = (text: string): void => {
+      const p = $('control-message');
+      p.textContent = text;
+      p.classList.toggle('error', !text.startsWith('acknowledged'));
+    };
     try {
-      await this.link.request({ type: 'acknowledge', rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}) });
-    } catch {
-      // The next status shows the state either way.
+      const r = await this.link.request({ type: 'acknowledge', rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}) });
+      say(r.ok ? `acknowledged: ${e.rule} on ${e.channel}` : `acknowledge: ${r.error.message}`);
+    } catch (err) {
+      say(`acknowledge: ${(err as Error).message}`);
     }
   }
 

@@ -39,8 +39,8 @@ export interface BackendSubscriber {
   event(event: FloorlineEvent): void;
 }
 
-/** The status fields the backend owns; the server adds protocol, clients and wallTime. */
-export type BackendStatus = Omit<AgentStatus, 'protocol' | 'clients' | 'wallTime'>;
+/** The status fields the backend owns; the server adds protocol, clients, mainsHz and wallTime. */
+export type BackendStatus = Omit<AgentStatus, 'protocol' | 'clients' | 'wallTime' | 'mainsHz'>;
 
 export interface AnalysisChange {
   averaging?: AveragingSpec;

@@ -107,6 +107,10 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     x.family('floorline_sample_rate_hertz', 'gauge', 'Sample rate of the stream.', 'hertz');
     x.sample('floorline_sample_rate_hertz', {}, status.sampleRate);
   }
+  if (status.mainsHz !== null) {
+    x.family('floorline_mains_frequency_hertz', 'gauge', 'Mains fundamental, configured or measured.', 'hertz');
+    x.sample('floorline_mains_frequency_hertz', {}, status.mainsHz);
+  }
   x.family('floorline_dashboard_clients', 'gauge', 'Connected dashboard clients.');
   x.sample('floorline_dashboard_clients', {}, status.clients.connected);
   x.family('floorline_recording_active', 'gauge', '1 while a continuous recording is being written.');

@@ -13,6 +13,7 @@ import type { AgentStatus, AlarmRow, BandRow, RecordingState, ReplayState } from
 import { BaselineCapture } from '../baseline/capture.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { defaultBands } from '../alarms/default-bands.ts';
+import type { DetectorStatus } from '../alarms/detectors.ts';
 import { bandBins } from '../../dsp/bands.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type ServerBackend } from './backend.ts';
@@ -38,6 +39,8 @@ export interface PipelineBackendOptions {
   /** Bands per channel for the table (undefined: the alarm rules' default bands for the live settings). */
   bands?: (channel: string) => readonly { low: number; high: number }[] | undefined;
   mainsHz?: () => number | null;
+  /** The alarm rules' latest readings (band level and threshold with lines masked out, alarm state). */
+  detectorStatus?: () => readonly DetectorStatus[] | undefined;
   /** Events kept for clients that connect later. */
   eventHistory?: number;
 }
@@ -157,7 +160,9 @@ export class PipelineBackend implements ServerBackend {
     const comparable = base !== undefined && firstSettingMismatch(base.settings, s.settings) === undefined;
     const rows: BandRow[] = [];
     const half = makeWindow(s.settings.window, s.settings.segment).mainLobeHalfWidth;
+    const rules = this.o.detectorStatus?.();
     for (const ch of s.channels) {
+      const ruled = rules?.find((r) => r.channel === ch.name)?.bands;
       const bands = this.o.bands?.(ch.name) ?? defaultBands(s.settings.sampleRate, s.settings.segment, half);
       const bch = comparable ? base!.channels.find((c) => c.name === ch.name) : undefined;
       if (this.scratch.length < ch.psd.length) this.scratch = new Float64Array(ch.psd.length);
@@ -171,17 +176,20 @@ export class PipelineBackend implements ServerBackend {
         }
         const rms = Math.sqrt(p * s.binHz);
         const baselineRms = bch ? Math.sqrt(pb * s.binHz) : null;
+        // The rule's own reading when it runs (its level leaves out new lines, so it can differ from the plain
+        // ratio of band powers shown otherwise); the alarm state is the rule's, with its hysteresis.
+        const rule = ruled?.find((r) => r.low === band.low && r.high === band.high);
         const alarm = this.alarmRows.get(`band-rise|${ch.name}|${band.low}-${band.high}|`);
-        const lastEvent = [...this.events].reverse().find((e) => e.rule === 'band-rise' && e.channel === ch.name && e.band?.[0] === band.low && e.band?.[1] === band.high);
+        const finite = (x: number | undefined): number | null => (x !== undefined && Number.isFinite(x) ? x : null);
         rows.push({
           channel: ch.name,
           low: band.low,
           high: band.high,
           rms,
           baselineRms,
-          deltaDb: baselineRms ? DB((rms * rms) / (baselineRms * baselineRms)) : null,
-          thresholdDb: lastEvent?.thresholdDb ?? null,
-          state: !bch ? 'no-baseline' : alarm?.state === 'raised' ? 'raised' : 'ok',
+          deltaDb: finite(rule?.levelDb) ?? (baselineRms ? DB((rms * rms) / (baselineRms * baselineRms)) : null),
+          thresholdDb: finite(rule?.thresholdDb),
+          state: !bch ? 'no-baseline' : (rule ? rule.active : alarm?.state === 'raised') ? 'raised' : 'ok',
           floorDensity: Math.sqrt(median(ch.psd, r.first, r.last, this.scratch)),
         });
       }

@@ -62,6 +62,8 @@ export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; reco
         : undefined,
       baseline: w.baseline ? () => w.baseline! : undefined,
       acknowledge: w.detectors ? (ref) => (hook()?.detectors?.acknowledge(ref.rule, ref.channel, ref.band) ?? 0) > 0 : undefined,
+      detectorStatus: () => hook()?.detectors?.status(),
+      mainsHz: () => hook()?.detectors?.status().find((c) => c.mains.fundamental > 0)?.mains.fundamental ?? null,
       bands: (channel) => {
         const b = hook()?.detectors?.bandsOf(channel);
         return b && b.length ? b : undefined;

@@ -56,15 +56,15 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   let contextKey = '';
   let nextClientId = 1;
 
-  const status = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), wallTime: new Date().toISOString() });
+  const status = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
 
   /** Returns true when the context changed (and tells every client). */
   const updateContext = (s: ServerSnapshot): boolean => {
-    const mains = backend.mainsHz();
-    const key = JSON.stringify([s.settings, s.averaging, s.nenbw, s.binHz, mains, s.channels.map((c) => [c.name, c.unit, c.psd.length])]);
+    // Not the mains frequency: a measured one drifts, and a new context makes every page rebuild its charts.
+    const key = JSON.stringify([s.settings, s.averaging, s.nenbw, s.binHz, s.channels.map((c) => [c.name, c.unit, c.psd.length])]);
     if (key === contextKey) return false;
     contextKey = key;
-    context = contextOf(s, (context?.id ?? 0) + 1, mains);
+    context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz());
     hub.json({ type: 'context', context });
     return true;
   };

@@ -82,7 +82,7 @@ export interface SpectrumContext {
   binHz: number;
   bins: number;
   channels: { name: string; unit: string }[];
-  /** Mains fundamental for the harmonic markers, Hz (configured or measured); null when unknown. */
+  /** Mains fundamental when the context was made, Hz; later values come with each status. */
   mainsHz: number | null;
 }
 
@@ -156,6 +156,8 @@ export interface AgentStatus {
   bands: BandRow[];
   alarms: AlarmRow[];
   clients: { connected: number; framesSent: number; framesSkipped: number };
+  /** Mains fundamental for the harmonic markers (configured or measured), Hz; null when unknown. */
+  mainsHz: number | null;
   /** Wall-clock label of this status, ISO-8601 UTC. */
   wallTime: string;
 }

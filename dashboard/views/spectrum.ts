@@ -127,6 +127,15 @@ export class SpectrumView {
     this.setOverlays({});
   }
 
+  /** Moves the harmonic markers when the measured fundamental moves by more than 0.01 Hz. */
+  setMains(hz: number | null): void {
+    if (!this.ctx) return;
+    const old = this.ctx.mainsHz;
+    if (hz === old || (hz !== null && old !== null && Math.abs(hz - old) < 0.01)) return;
+    this.ctx = { ...this.ctx, mainsHz: hz };
+    this.redraw();
+  }
+
   setBands(rows: BandRow[]): void {
     const changed = rows.length !== this.bands.length || rows.some((r, i) => r.thresholdDb !== this.bands[i]?.thresholdDb || r.low !== this.bands[i]?.low);
     this.bands = rows;

@@ -168,11 +168,11 @@ describe('dashboard against a running replay', () => {
 });
 
 describe('alarms and restarts', () => {
-  it('plays the bundled demo: its mains pickup and band floor rise appear as alarms at their sample times (8×), and an alarm can be acknowledged', async () => {
+  it('plays the bundled demo: its mains pickup and band floor rise appear as alarms at their sample times (4×), and an alarm can be acknowledged', async () => {
     // Scripted in recordings/README.md: mains pickup on `bridge` from t = 20 s, floor rise in 300–1200 Hz at 38–46 s.
-    const a = await agent(['demo', '--speed', '8', '--http-port', '0', '--data', join(dir, 'data-demo')]);
+    const a = await agent(['demo', '--speed', '4', '--http-port', '0', '--data', join(dir, 'data-demo')]);
     const page = await openDashboard(a.url);
-    expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*demo\.wav .* at 8×, looping/);
+    expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*demo\.wav .* at 4×, looping/);
     expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
     // Rows are newest first: the last matching row is the first raise.
     const mains = page.locator('#events tbody tr[data-rule="mains"][data-state="raised"][data-channel="bridge"]').last();
@@ -180,8 +180,9 @@ describe('alarms and restarts', () => {
     const tm = Number(await mains.locator('td').first().textContent());
     expect(tm).toBeGreaterThanOrEqual(20);
     expect(tm).toBeLessThan(26);
-    // Mains stays until the recording ends at 60 s (5 s of wall time at 8×): the click lands while it is raised.
-    await mains.locator('button.ack').click();
+    // Mains stays until the recording ends at 60 s (10 s of wall time at 4×): the click lands while it is raised.
+    await page.locator('#events tbody tr[data-rule="mains"][data-state="raised"][data-channel="bridge"] button.ack').first().click();
+    await expect.poll(() => page.textContent('#control-message'), { timeout: 10_000 }).toMatch(/^acknowledged: mains on bridge/);
     await expect
       .poll(async () => ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).alarms.some((x) => x.rule === 'mains' && x.channel === 'bridge' && x.acknowledged), { timeout: 10_000 })
       .toBe(true);

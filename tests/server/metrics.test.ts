@@ -59,6 +59,7 @@ describe('GET /metrics', () => {
     for (let k = 0; k <= 512; k++) if (k * binHz >= 20 && k * binHz <= 2000) bins++;
     expect(row[2]).toBeCloseTo(1e-6 * Math.sqrt((2 * bins * binHz) / 8000), 18);
     expect(byName.get('floorline_floor_density_volts_per_root_hertz')?.unit).toBe('volts_per_root_hertz');
+    expect(byName.get('floorline_mains_frequency_hertz')?.samples[0][2]).toBe(50);
     expect(byName.get('floorline_alarm_active')?.samples[0]).toEqual(['floorline_alarm_active', { rule: 'band-rise', channel: 'ch0', band: '20-2000' }, 0]);
   });
 
