@@ -150,6 +150,21 @@ describe('dashboard against a running replay', () => {
     expect(await page.evaluate('document.activeElement.id')).toBe('maxhold');
   });
 
+  it('draws the expected floor of the noise budget entered, the quadrature sum of its parts', async () => {
+    await page.click('.budget summary');
+    await page.check('#nb-show');
+    const text = (await page.textContent('#nb-result'))!;
+    // Defaults: 1 kΩ at 296 K, eₙ 4 nV/√Hz, iₙ 0.5 pA/√Hz, 24-bit ADC over 5 V at 8 kS/s, gain 1. Independent sum with
+    // scipy.constants.k (CODATA) and the quantisation density q/sqrt(6·fs), q = span/2^bits (common practice).
+    const py = 'from scipy.constants import k; import math; j = math.sqrt(4*k*296*1000); q = 5/2**24/math.sqrt(6*8000); print(math.sqrt(j*j + 4e-9**2 + (0.5e-12*1000)**2 + q*q))';
+    const expected = Number(execFileSync('python3', ['-c', py], { encoding: 'utf8' }));
+    const shown = Number(/^total ([0-9.]+) nV\/√Hz/.exec(text)![1]) * 1e-9;
+    expect(Math.abs(shown / expected - 1)).toBeLessThan(0.002); // 3 significant figures shown
+    // The overlay series is now shown (uPlot greys the legend entry of hidden series).
+    expect(await page.locator('.u-legend .u-series', { hasText: 'expected floor' }).first().getAttribute('class')).not.toMatch(/u-off/);
+    await page.uncheck('#nb-show');
+  });
+
   it('exports the spectrum as CSV that numpy reads, with its context header and units row', async () => {
     const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#export-csv')]);
     const path = join(dir, 'spectrum.csv');
