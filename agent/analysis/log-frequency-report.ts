@@ -152,7 +152,8 @@ function describeFit(label: string, f: CornerFit | null, unit: string): string {
   const alpha = f.exponentFree ? `, α = ${f.exponent.toFixed(3)} ± ${f.exponentSigma.toFixed(3)}` : '';
   return (
     `  ${label.padEnd(30)} white ${formatSi(f.whiteAsd, `${unit}/√Hz`)} ± ${formatSi(f.whiteAsdSigma, `${unit}/√Hz`)}, ` +
-    `corner ${formatSi(f.corner, 'Hz')} ± ${formatSi(f.cornerSigma, 'Hz')}${alpha} (χ²/dof ${f.reducedChiSquare.toFixed(2)}, ${f.points} points)`
+    `corner ${formatSi(f.corner, 'Hz')} ± ${formatSi(f.cornerSigma, 'Hz')}${alpha} (χ²/dof ${f.reducedChiSquare.toFixed(2)}, ${f.points} points)` +
+    (f.corner < 2 * f.cornerSigma ? '; corner not significant (< 2σ): the floor looks white here' : '')
   );
 }
 

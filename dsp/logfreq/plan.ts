@@ -54,7 +54,7 @@ export function planLogFrequencies(options: LogFrequencyPlanOptions): LogFrequen
   const n = options.samples;
   if (!(fs > 0) || !Number.isFinite(fs)) throw new RangeError(`log-frequency plan: sampleRate must be a positive number of Hz, got ${fs}`);
   if (!Number.isInteger(n) || n < 2 * MIN_SEGMENT) {
-    throw new RangeError(`log-frequency plan: samples must be an integer of at least ${2 * MIN_SEGMENT}, got ${n}`);
+    throw new RangeError(`log-frequency plan: a record of ${n} samples is too short; give at least ${2 * MIN_SEGMENT} samples (a longer recording)`);
   }
   const windowSpec = options.window ?? 'hann';
   const probe = makeWindow(windowSpec, 64);
