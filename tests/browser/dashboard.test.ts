@@ -180,6 +180,40 @@ describe('dashboard against a running replay', () => {
     const out = execFileSync('python3', ['-c', py], { encoding: 'utf8' }).trim().split(' ');
     expect(out.map(Number)).toEqual([2049, 3, 8000 / 4096, 4000]);
   });
+
+  it('exports the chart as a PNG of the canvas size with the spectral context under it', async () => {
+    const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#export-png')]);
+    const path = join(dir, 'spectrum.png');
+    await dl.saveAs(path);
+    const png = readFileSync(path);
+    // PNG signature and IHDR (ISO/IEC 15948 §5.2, §11.2.2): width and height big-endian at bytes 16 and 20.
+    expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+    const size: [number, number] = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return [c.width, c.height]; })()`);
+    expect(png.readUInt32BE(16)).toBe(size[0]);
+    expect(png.readUInt32BE(20)).toBe(size[1] + 28);
+  });
+
+  it('starts and stops a recording from the button, writing a WAV into the data folder', async () => {
+    await page.click('#recording');
+    await expect.poll(() => page.textContent('#recording'), { timeout: 10_000 }).toBe('Stop recording');
+    const file = ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).recording.file;
+    await new Promise((r) => setTimeout(r, 1500));
+    await page.click('#recording');
+    await expect.poll(() => page.textContent('#recording'), { timeout: 10_000 }).toBe('Start recording');
+    expect(file).toMatch(/^recordings\/.+\.wav$/);
+    // scipy reads it: float32, 2 channels at 8 kS/s (the recording format of DESIGN.md).
+    const py = `from scipy.io import wavfile; r, x = wavfile.read(${JSON.stringify(join(dir, 'data', file!))}); print(r, x.dtype, x.shape[1], x.shape[0] > 0)`;
+    expect(execFileSync('python3', ['-c', py], { encoding: 'utf8' }).trim()).toBe('8000 float32 2 True');
+  });
+
+  it('changes the segment length from the controls; the agent and the chart follow', async () => {
+    await page.selectOption('#segment', '2048');
+    await page.click('#apply-analysis');
+    await waitUntil(page, `/segment 2048/.test(document.getElementById('spectral-context').textContent)`, 15_000);
+    const st = (await (await fetch(`${a.url}api/status`)).json()) as AgentStatus;
+    expect(st.settings?.segment).toBe(2048);
+    expect(await page.textContent('#spectral-context')).toMatch(/bin 3\.906 Hz/); // 8000 / 2048
+  });
 });
 
 describe('alarms and restarts', () => {
