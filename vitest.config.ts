@@ -1,13 +1,30 @@
 import { defineConfig } from 'vitest/config';
 
+// Suites that run against the wall clock (a pty streaming at rate, a browser watching a replay, kill -9 of a
+// recording agent) run after the others, one file at a time, so they never compete for the two cores with
+// CPU-heavy reference checks or with each other.
+const realtime = [
+  'tests/serial/pty-*.test.ts',
+  'tests/replay/live-run.test.ts',
+  'tests/recorder/crash.test.ts',
+  'tests/browser/**/*.test.ts',
+];
+
 export default defineConfig({
   test: {
-    include: ['tests/**/*.test.ts'],
     reporters: ['default', './tests/support/summary-reporter.ts'],
     testTimeout: 60_000,
     hookTimeout: 60_000,
-    // Integration suites open ptys, ports and a browser: keep files from fighting over the two cores.
-    fileParallelism: true,
     maxWorkers: 2,
+    projects: [
+      {
+        extends: true,
+        test: { name: 'unit', include: ['tests/**/*.test.ts'], exclude: realtime, sequence: { groupOrder: 0 } },
+      },
+      {
+        extends: true,
+        test: { name: 'realtime', include: realtime, fileParallelism: false, sequence: { groupOrder: 1 } },
+      },
+    ],
   },
 });
