@@ -5,6 +5,7 @@ import type { FloorlineEvent, EventRule } from '../core/events.ts';
 import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
 import type { StreamInfo } from '../core/stream.ts';
 import type { AgentStatus, RecordingState } from '../wire/messages.ts';
+import type { LowFrequencyContext, LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
 
 export interface ServerSnapshot {
   /** Index of the last sample the estimate used; t = sample / sampleRate. */
@@ -37,6 +38,8 @@ export interface BackendSubscriber {
   snapshot(snapshot: ServerSnapshot): void;
   block(block: ServerBlock): void;
   event(event: FloorlineEvent): void;
+  /** Live low-frequency view (when the backend runs one): its context and paced updates. */
+  lowFrequency?(message: { type: 'lowfreq-context'; context: LowFrequencyContext } | { type: 'lowfreq'; update: LowFrequencyUpdate }): void;
 }
 
 /** The status fields the backend owns; the server adds protocol, clients, mainsHz and wallTime. */
@@ -84,4 +87,6 @@ export interface ServerBackend {
   /** Applies new analysis settings from the next snapshot on; throws BackendRefusal or RangeError naming what is wrong. */
   setAnalysis(change: AnalysisChange): void;
   acknowledge(ref: AlarmRef): boolean;
+  /** The low-frequency context and newest update, for a client that connects later (absent: no such view). */
+  lowFrequencyLatest?(): { context: LowFrequencyContext; update: LowFrequencyUpdate | null } | null;
 }

@@ -135,6 +135,26 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     x.family('floorline_band_threshold_decibels', 'gauge', 'Rise at which the band alarm is raised.', 'decibels');
     for (const b of status.bands) if (b.thresholdDb !== null) x.sample('floorline_band_threshold_decibels', bandLabels(b), b.thresholdDb);
   }
+  // Live low-frequency figures: three per channel (never one series per point).
+  const lf = status.lowFrequency ?? [];
+  const lfFamilies: [string, string, (r: NonNullable<AgentStatus['lowFrequency']>[number]) => number | undefined, (u: string) => string][] = [
+    ['floorline_lowfreq_corner', 'Corner of the 1/f fit to the log-frequency density.', (r) => r.fit?.corner, () => 'hertz'],
+    ['floorline_lowfreq_white_density', 'White density e_w of the 1/f fit.', (r) => r.fit?.whiteAsd, (u) => `${u}_per_root_hertz`],
+    ['floorline_lowfreq_peak_to_peak', 'Max minus min over the newest 0.1-10 Hz window.', (r) => r.peakToPeak?.peakToPeak, (u) => u],
+  ];
+  for (const [stem, help, pick, unit] of lfFamilies) {
+    const byFamily = new Map<string, [string, number][]>();
+    for (const r of lf) {
+      const v = pick(r);
+      if (v === undefined) continue;
+      const name = `${stem}_${unit(unitSuffix(r.unit))}`;
+      byFamily.set(name, [...(byFamily.get(name) ?? []), [r.channel, v]]);
+    }
+    for (const [name, rows] of byFamily) {
+      x.family(name, 'gauge', help, name.slice(stem.length + 1));
+      for (const [channel, v] of rows) x.sample(name, { channel }, v);
+    }
+  }
   // One series per rule, channel and band: lines of one rule (mains harmonics, spurs) fold into it (raised if any is).
   const groups = new Map<string, { labels: Record<string, string>; active: boolean; acknowledged: boolean }>();
   for (const a of status.alarms) {

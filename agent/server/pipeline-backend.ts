@@ -16,6 +16,8 @@ import { defaultBands } from '../alarms/default-bands.ts';
 import type { DetectorStatus } from '../alarms/detectors.ts';
 import { bandBins } from '../../dsp/bands.ts';
 import { makeWindow } from '../../dsp/windows.ts';
+import type { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
+import { LatestPacer } from '../lowfreq/latest-pacer.ts';
 import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type ServerBackend } from './backend.ts';
 
 export interface RecorderHooks {
@@ -43,6 +45,8 @@ export interface PipelineBackendOptions {
   detectorStatus?: () => readonly DetectorStatus[] | undefined;
   /** Events kept for clients that connect later. */
   eventHistory?: number;
+  /** The live low-frequency view fed from the same pipeline (updates to clients at most 10 a second). */
+  lowFrequency?: LiveLowFrequency;
 }
 
 const DB = (ratio: number): number => 10 * Math.log10(ratio);
@@ -89,6 +93,17 @@ export class PipelineBackend implements ServerBackend {
       this.trackAlarm(e);
       this.subscribers.forEach((s) => s.event(e));
     });
+    const lf = o.lowFrequency;
+    if (lf) {
+      const pacer = new LatestPacer<Parameters<Parameters<LiveLowFrequency['onUpdate']>[0]>[0]>((update) => this.subscribers.forEach((s) => s.lowFrequency?.({ type: 'lowfreq', update })), 100);
+      lf.onContext((context) => this.subscribers.forEach((s) => s.lowFrequency?.({ type: 'lowfreq-context', context })));
+      lf.onUpdate((u) => pacer.offer(u));
+    }
+  }
+
+  lowFrequencyLatest(): ReturnType<NonNullable<ServerBackend['lowFrequencyLatest']>> {
+    const context = this.o.lowFrequency?.context();
+    return context ? { context, update: this.o.lowFrequency!.latest() } : null;
   }
 
   subscribe(s: BackendSubscriber): () => void {
@@ -222,6 +237,7 @@ export class PipelineBackend implements ServerBackend {
       spectrumSample: this.last?.sample ?? null,
       bands: this.bandRows(),
       alarms: [...this.alarmRows.values()],
+      ...(this.o.lowFrequency ? { lowFrequency: this.o.lowFrequency.status() } : {}),
     };
   }
 

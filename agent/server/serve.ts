@@ -16,6 +16,7 @@ import { ServerConfigError } from './options.ts';
 import type { Detector } from '../pipeline/types.ts';
 import { AlarmHook } from '../alarms/alarm-hook.ts';
 import type { BaselineFile } from '../baseline/format.ts';
+import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
 
 export interface ServeWiring {
   pipeline: Pipeline;
@@ -45,6 +46,7 @@ export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; reco
     const hook = (): AlarmHook | undefined => w.detectors?.().find((d): d is AlarmHook => d instanceof AlarmHook);
     const backend = new PipelineBackend({
       pipeline: w.pipeline,
+      lowFrequency: new LiveLowFrequency().attach(w.pipeline),
       data: folder,
       sourceCounters: () => w.source.counters(),
       replay: r

@@ -100,6 +100,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
       if (trace) hub.offer('trace', trace);
     },
     event: (event) => hub.json({ type: 'event', event }),
+    lowFrequency: (m) => hub.json(m),
   });
 
   const httpServer = createServer((req, res) => onRequest(req, res));
@@ -181,6 +182,11 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     if (latest && latest.channels.length) updateContext(latest);
     client.sendJson({ type: 'hello', protocol: PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
     sendBaseline(client);
+    const lf = backend.lowFrequencyLatest?.();
+    if (lf) {
+      client.sendJson({ type: 'lowfreq-context', context: lf.context });
+      if (lf.update) client.sendJson({ type: 'lowfreq', update: lf.update });
+    }
     if (latest && latest.channels.length && context) {
       const f = hub.spectrumFrame(latest, context.id);
       client.offerFrame('spectrum', f);

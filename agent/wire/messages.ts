@@ -3,6 +3,7 @@
 import type { FloorlineEvent, EventRule } from '../core/events.ts';
 import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
 import type { StreamInfo, SourceKind } from '../core/stream.ts';
+import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
 export const PROTOCOL_VERSION = 1;
@@ -158,6 +159,8 @@ export interface AgentStatus {
   clients: { connected: number; framesSent: number; framesSkipped: number };
   /** Mains fundamental for the harmonic markers (configured or measured), Hz; null when unknown. */
   mainsHz: number | null;
+  /** Live low-frequency figures per channel (1/f fit, 0.1–10 Hz peak-to-peak); absent when the view is not wired. */
+  lowFrequency?: LowFrequencyStatus[];
   /** Wall-clock label of this status, ISO-8601 UTC. */
   wallTime: string;
 }
@@ -189,6 +192,9 @@ export type ServerMessage =
   | { type: 'context'; context: SpectrumContext }
   | { type: 'status'; status: AgentStatus }
   | { type: 'event'; event: FloorlineEvent }
+  /** Added in protocol 1 without a bump: new message types only, which older pages ignore. */
+  | { type: 'lowfreq-context'; context: LowFrequencyContext }
+  | { type: 'lowfreq'; update: LowFrequencyUpdate }
   | ReplyMessage
   /** A message that could not be answered as a reply (bad JSON, no usable id). */
   | { type: 'error'; error: WireError };
