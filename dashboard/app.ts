@@ -12,6 +12,7 @@ import { TraceView } from './views/trace.ts';
 import { HealthStrip } from './views/health.ts';
 import { Controls } from './views/controls.ts';
 import { NoiseBudgetForm } from './views/noise-budget.ts';
+import { LogFrequencyView } from './views/log-frequency.ts';
 import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
@@ -23,6 +24,7 @@ export class App {
   readonly events = new EventList(($('events') as HTMLTableElement).tBodies[0], (e) => void this.acknowledge(e));
   readonly trace = new TraceView($('trace'));
   readonly health = new HealthStrip($('health'), $('replay-banner'));
+  readonly logFrequency = new LogFrequencyView($('logf-chart'), $('logf-readout'), $('logf-fits'), $('logf-pp'));
   readonly budget: NoiseBudgetForm;
   readonly controls: Controls;
   status: AgentStatus | null = null;
@@ -44,6 +46,7 @@ export class App {
       exportPng: () => void this.exportPng(),
       exportEvents: () => download('floorline-events.jsonl', this.events.toJsonLines(), 'application/jsonl'),
     });
+    $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) => this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'));
     $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
       this.waterfall.clear();
@@ -66,6 +69,12 @@ export class App {
       case 'event':
         this.events.add(m.event);
         break;
+      case 'lowfreq-context':
+        this.logFrequency.setContext(m.context);
+        break;
+      case 'lowfreq':
+        this.logFrequency.update(m.update);
+        break;
       case 'info':
       case 'reply':
       case 'error':
@@ -77,7 +86,10 @@ export class App {
     const f = decodeFrame(buf);
     if (f.kind === 'spectrum') this.applySpectrum(f);
     else if (f.kind === 'baseline') {
-      if (this.context && (f.contextId === (this.context.id & 0xffff))) this.spectrum.setBaseline(f);
+      if (this.context && (f.contextId === (this.context.id & 0xffff))) {
+        this.spectrum.setBaseline(f);
+        this.logFrequency.setBaseline(f, this.context.binHz);
+      }
       else this.pendingBaseline = buf;
     } else if (f.kind === 'trace') this.trace.update(f, this.context?.channels.map((c) => c.name) ?? [], this.context?.channels[0]?.unit ?? 'V');
   }
@@ -94,6 +106,13 @@ export class App {
       $('spectral-context').textContent = contextLine(ctx, f);
     }
     this.spectraApplied++;
+  }
+
+  /** Linear bins (Welch) or the log-frequency view in the spectrum panel; alarms come from the Welch rules either way. */
+  setSpectrumMode(logf: boolean): void {
+    $('welch-view').hidden = logf;
+    $('logf-view').hidden = !logf;
+    this.logFrequency.show(logf);
   }
 
   private setContext(ctx: SpectrumContext): void {
@@ -132,7 +151,9 @@ export class App {
     };
     try {
       const r = await this.link.request({ type: 'acknowledge', rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}) });
-      say(r.ok ? `acknowledged: ${e.rule} on ${e.channel}` : `acknowledge: ${r.error.message}`);
+      if (!r.ok) say(`acknowledge: ${r.error.message}`);
+      else if (r.request === 'acknowledge' && r.result.acknowledged) say(`acknowledged: ${e.rule} on ${e.channel}`);
+      else say(`acknowledge: no ${e.rule} alarm on ${e.channel} is active any more`);
     } catch (err) {
       say(`acknowledge: ${(err as Error).message}`);
     }
