@@ -14,6 +14,7 @@ import { defaultBands } from './default-bands.ts';
 import { HealthDetector } from './health-detector.ts';
 import { MAX_SKIRT_BINS, SpurDetector } from './spur-detector.ts';
 import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
+import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/alarms/contamination.ts';
 import type { RulesConfig } from './rules.ts';
 import type { CaptureRequester, SnapshotLike } from './types.ts';
 import type { ClipNotice, OverrunNotice } from '../pipeline/types.ts';
@@ -32,16 +33,28 @@ export interface DetectorOptions {
 
 export interface DetectorStatus {
   channel: string;
-  bands: { low: number; high: number; levelDb: number; thresholdDb: number; active: boolean }[];
-  /** Mains fundamental (0 when none seen) and RMS totals of its harmonics: all, odd, even. */
-  mains: { fundamental: number; total: number; odd: number; even: number };
+  /**
+   * `active`: raised as the event log shows it (announced and not cleared); `held`: new alarms are being held
+   * because the average still holds clipped segments; `coveredByLines`: not judged, new lines cover every bin
+   * (level and threshold then over all bins).
+   */
+  bands: { low: number; high: number; levelDb: number; thresholdDb: number; active: boolean; held: boolean; coveredByLines: boolean }[];
+  /** Mains fundamental (0 when none measured in the last spectrum), its nominal (0 until picked), RMS totals. */
+  mains: { fundamental: number; nominal: number; total: number; odd: number; even: number };
   lines: { frequency: number; amplitude: number; heightDb: number; harmonic: number; firstSeen: number; lastSeen: number; active: boolean }[];
+  /** First clipped sample of the overload whose segments still weigh in the average (−1: none): alarms held. */
+  overloadFrom: number;
 }
 
 interface ChannelDetectors {
   name: string;
   band?: BandDetector;
   spur: SpurDetector;
+  /** First and last clipped sample of the current overload (−1: none). */
+  clipFirst: number;
+  clipLast: number;
+  /** overloadFrom of the last spectrum (−1: not held). */
+  heldFrom: number;
 }
 
 export class Detectors {
@@ -78,6 +91,9 @@ export class Detectors {
         name,
         band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate) : undefined,
         spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, leakage, basePsd, rules, s.sampleRate),
+        clipFirst: -1,
+        clipLast: -1,
+        heldFrom: -1,
       };
     });
     this.health = new HealthDetector(s.sampleRate, Math.round(rules.clipHold * s.sampleRate), Math.round(rules.overrunHold * s.sampleRate));
@@ -96,13 +112,15 @@ export class Detectors {
       return {
         channel: c.name,
         bands: (cmp?.bands ?? []).map((b, i) => ({
-          low: b.low, high: b.high, levelDb: cmp!.levelDb[i], thresholdDb: cmp!.thresholdDb[i], active: c.band!.state(i).active,
+          low: b.low, high: b.high, levelDb: cmp!.levelDb[i], thresholdDb: cmp!.thresholdDb[i], active: c.band!.state(i).raised,
+          held: c.heldFrom >= 0, coveredByLines: cmp!.coveredByLines[i] === 1,
         })),
-        mains: { fundamental: m.fundamental, total: m.total, odd: m.odd, even: m.even },
+        mains: { fundamental: m.fundamental, nominal: m.nominal, total: m.total, odd: m.odd, even: m.even },
         lines: c.spur.tracked.map((t) => ({
           frequency: t.frequency, amplitude: t.amplitude, heightDb: t.heightDb, harmonic: t.harmonic,
-          firstSeen: t.firstSeen, lastSeen: t.lastSeen, active: t.state.active,
+          firstSeen: t.firstSeen, lastSeen: t.lastSeen, active: t.state.raised,
         })),
+        overloadFrom: c.heldFrom,
       };
     });
   }
@@ -118,11 +136,30 @@ export class Detectors {
     for (const ch of snap.channels) {
       const d = this.channels.find((c) => c.name === ch.name);
       if (!d) continue;
+      d.heldFrom = this.overloadHold(d, ch, snap);
       // Lines first: the band rules judge the floor without the lobes of the new lines the spur rule tracks.
-      d.spur.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out);
-      d.band?.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out, d.spur.lineMask);
+      d.spur.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out, d.heldFrom);
+      d.band?.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out, d.spur.lineMask, d.heldFrom);
     }
     return this.withCaptures(out);
+  }
+
+  /**
+   * Overload hold: while a channel's clip alarm is raised, and after it until the newest segment holding clipped
+   * samples weighs less than CONTAMINATION_HOLD_WEIGHT (1 %) of what it entered with (dsp/alarms/contamination.ts),
+   * new spectral alarms on that channel are held: the clipped segments spread the overload's harmonics and
+   * intermodulation over the spectrum. Returns the overload's first clipped sample while held, else −1.
+   */
+  private overloadHold(d: ChannelDetectors, ch: SnapshotLike['channels'][number], snap: SnapshotLike): number {
+    if (d.clipLast < 0) return -1;
+    if (this.health.clipActive(d.name)) return d.clipFirst;
+    const s = this.settings;
+    const step = s.segment - Math.floor(s.overlap * s.segment);
+    const newer = segmentsAfter(ch.lastSegmentSample ?? snap.sample, d.clipLast, s.segment, step);
+    const averaging = snap.averaging ?? { mode: 'exponential', tauSeconds: 10 }; // the pipeline's default
+    if (contaminationWeight(averaging, newer, ch.segmentsUsed, step / s.sampleRate) > CONTAMINATION_HOLD_WEIGHT) return d.clipFirst;
+    d.clipFirst = d.clipLast = -1;
+    return -1;
   }
 
   onGap(gap: GapNotice): FloorlineEvent[] {
@@ -140,6 +177,11 @@ export class Detectors {
   /** Samples of a channel within 0.1 % of full scale (the pipeline's ClipNotice). */
   onClip(clip: ClipNotice): FloorlineEvent[] {
     const out: FloorlineEvent[] = [];
+    const d = this.channels.find((c) => c.name === clip.channel);
+    if (d) {
+      if (d.clipLast < 0) d.clipFirst = clip.firstSample;
+      d.clipLast = Math.max(d.clipLast, clip.lastSample);
+    }
     this.health.onClip(clip.channel, clip.firstSample, clip.count, this.wallTimeAt(clip.firstSample), out);
     return this.withCaptures(out);
   }

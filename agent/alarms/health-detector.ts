@@ -29,6 +29,11 @@ export class HealthDetector {
     }
   }
 
+  /** True while the clip alarm of a channel is raised. */
+  clipActive(channel: string): boolean {
+    return this.clipLast.has(channel);
+  }
+
   onGap(gap: GapNotice, wallTime: string, out: FloorlineEvent[]): void {
     const first = !this.gapOpen;
     this.gapOpen = this.gapOpen ? { ...this.gapOpen, lost: this.gapOpen.lost + gap.lost } : gap;

@@ -16,6 +16,12 @@ interface TrackedLine {
   amplitude: number;
   heightDb: number;
   harmonic: number;
+  /** Fundamental the harmonic order was found against (0 when not mains). */
+  fundamental: number;
+  /** Frequency announced when raised: repeats and the clear carry it, so a log reader can pair them. */
+  announcedFrequency: number;
+  /** First clipped sample of the overload this line was first seen under, else −1. */
+  overloadFrom: number;
   firstSeen: number;
   lastSeen: number;
   state: AlarmState;
@@ -72,7 +78,11 @@ export class SpurDetector {
     return this.ratio;
   }
 
-  onSpectrum(psd: Float64Array, liveK: number, sample: number, wallTime: string, out: FloorlineEvent[]): void {
+  /**
+   * `overloadFrom` ≥ 0: the average still holds segments with clipped samples from that sample on, so new alarms are
+   * held (see Detectors) and lines first seen now are marked as seen during the overload.
+   */
+  onSpectrum(psd: Float64Array, liveK: number, sample: number, wallTime: string, out: FloorlineEvent[], overloadFrom = -1): void {
     if (!(liveK > 0)) return;
     const ratio = this.thresholdRatio(liveK);
     const thresholdDb = 10 * Math.log10(ratio);
@@ -87,7 +97,10 @@ export class SpurDetector {
       let t = this.tracked.find((x) => Math.abs(x.bin - k) <= lobe);
       if (!t) {
         if (this.tracked.length >= MAX_TRACKED_LINES) continue;
-        t = { bin: k, frequency: 0, amplitude: 0, heightDb: 0, harmonic: 0, firstSeen: sample, lastSeen: sample, state: new AlarmState(this.timing) };
+        t = {
+          bin: k, frequency: 0, amplitude: 0, heightDb: 0, harmonic: 0, fundamental: 0, announcedFrequency: 0,
+          overloadFrom, firstSeen: sample, lastSeen: sample, state: new AlarmState(this.timing),
+        };
         if (this.shelvedUntil > sample) t.state.shelve(this.shelvedUntil);
         this.tracked.push(t);
       }
@@ -95,7 +108,10 @@ export class SpurDetector {
       t.frequency = f.lineFrequency[i];
       t.amplitude = f.lineAmplitude[i];
       t.heightDb = f.lineHeightDb[i];
-      if (!t.state.active) t.harmonic = this.mains.harmonic[i];
+      if (!t.state.active) {
+        t.harmonic = this.mains.harmonic[i];
+        t.fundamental = t.harmonic > 0 ? this.mains.fundamental : 0;
+      }
       t.lastSeen = sample;
     }
     this.lineMask.fill(0);
@@ -109,6 +125,7 @@ export class SpurDetector {
         if (h > level) level = h;
       }
       if (Number.isNaN(level)) level = -Infinity;
+      if (overloadFrom >= 0) t.state.hold(sample + 1);
       const tr = t.state.update(sample, level, thresholdDb);
       if (tr !== AlarmTransition.None) out.push(this.event(t, tr, sample, wallTime, level, thresholdDb));
       if (!t.state.active && t.lastSeen < sample) {
@@ -157,17 +174,22 @@ export class SpurDetector {
     const isMains = t.harmonic > 0;
     const raised = tr !== AlarmTransition.Cleared;
     const m = this.mains;
+    if (tr === AlarmTransition.Raised) t.announcedFrequency = t.frequency;
+    const f = t.announcedFrequency;
     const what = isMains
-      ? `mains harmonic ${t.harmonic} of ${m.fundamental.toFixed(2)} Hz at ${t.frequency.toFixed(2)} Hz`
-      : `new line at ${t.frequency.toFixed(2)} Hz`;
-    const totals = isMains
+      ? `mains harmonic ${t.harmonic} of ${t.fundamental.toFixed(2)} Hz at ${f.toFixed(2)} Hz`
+      : `new line at ${f.toFixed(2)} Hz`;
+    const totals = isMains && m.measured
       ? `; mains total ${m.total.toExponential(3)}, odd ${m.odd.toExponential(3)}, even ${m.even.toExponential(3)} rms`
       : '';
+    const overload = t.overloadFrom >= 0
+      ? `; first seen while the average held segments with clipped samples (from sample ${t.overloadFrom}): likely an overload product`
+      : '';
     const detail = raised
-      ? `${this.channel} ${what}, ${t.amplitude.toExponential(3)} rms, ${t.heightDb.toFixed(1)} dB over the floor (first seen at sample ${t.firstSeen})${totals}`
-      : `${this.channel} ${what} gone (last seen at sample ${t.lastSeen})`;
+      ? `${this.channel} ${what}, ${t.amplitude.toExponential(3)} rms, ${t.heightDb.toFixed(1)} dB over the floor (first seen at sample ${t.firstSeen})${totals}${overload}`
+      : `${this.channel} ${what} gone (last seen at sample ${t.lastSeen}, last at ${t.frequency.toFixed(2)} Hz)`;
     return makeEvent(isMains ? 'mains' : 'spur', raised ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime, detail, {
-      frequency: round(t.frequency, 7),
+      frequency: round(f, 7),
       amplitude: round(t.amplitude),
       levelDb: round(level),
       thresholdDb: round(thresholdDb),

@@ -8,6 +8,8 @@ export interface SnapshotChannel {
   psd: Float64Array;
   segmentsUsed: number;
   equivalentAverages: number;
+  /** Absolute index of the last sample of the newest segment (the overload hold counts segments after a clip). */
+  lastSegmentSample?: number;
 }
 
 export interface SnapshotLike {

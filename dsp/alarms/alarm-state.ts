@@ -35,6 +35,7 @@ export class AlarmState {
   private announced = false;
   private acked = false;
   private shelvedUntil = -1;
+  private heldUntil = -1;
 
   constructor(timing: AlarmTiming) {
     for (const k of ['onDelay', 'offDelay', 'reAlarm'] as const) {
@@ -55,13 +56,18 @@ export class AlarmState {
     return this.phase === ACTIVE || this.phase === CLEARING;
   }
 
+  /** True while active and announced: what the event log shows as raised. */
+  get raised(): boolean {
+    return this.active && this.announced;
+  }
+
   get acknowledged(): boolean {
     return this.acked;
   }
 
   /** Feeds one evaluation at `sample` (non-decreasing). Returns the transition to announce, if any. */
   update(sample: number, level: number, threshold: number): AlarmTransition {
-    const shelved = sample < this.shelvedUntil;
+    const shelved = sample < this.shelvedUntil || sample < this.heldUntil;
     switch (this.phase) {
       case NORMAL:
       case PENDING: {
@@ -94,6 +100,7 @@ export class AlarmState {
           this.since = sample;
         }
         if (sample - this.since < this.offDelay) return AlarmTransition.None;
+        if (sample < this.heldUntil) return AlarmTransition.None; // held: the clear waits for the hold's end
         this.phase = NORMAL;
         const wasAnnounced = this.announced;
         this.announced = false;
@@ -111,6 +118,15 @@ export class AlarmState {
   /** Suppresses announcements until `untilSample`; an alarm still active then is announced at that point. */
   shelve(untilSample: number): void {
     this.shelvedUntil = untilSample;
+  }
+
+  /**
+   * Holds the state until `untilSample`: a new raise is not announced (as when shelved) and an active alarm does not
+   * clear; both happen at the first update after the hold if the level still says so. Only ever extends, and is
+   * apart from shelve (a rule's own hold, e.g. during an overload, must not shorten a user's shelving).
+   */
+  hold(untilSample: number): void {
+    if (untilSample > this.heldUntil) this.heldUntil = untilSample;
   }
 
   private announce(sample: number, shelved: boolean, t: AlarmTransition): AlarmTransition {

@@ -31,6 +31,8 @@ export class BandCompare {
   readonly levelDb: Float64Array;
   /** Threshold of the last evaluate(), dB. */
   readonly thresholdDb: Float64Array;
+  /** 1 when new lines covered every bin of the band in the last evaluate(): level and threshold are then over all bins. */
+  readonly coveredByLines: Uint8Array;
   private readonly baselinePsd: Float64Array;
   private readonly baselineK: number;
   private readonly cachedK: Float64Array;
@@ -57,6 +59,7 @@ export class BandCompare {
     this.cachedBins = new Int32Array(n);
     this.levelDb = new Float64Array(n);
     this.thresholdDb = new Float64Array(n);
+    this.coveredByLines = new Uint8Array(n);
     this.correlation = o.correlation;
     this.marginDb = o.marginDb;
     this.alpha = o.alpha;
@@ -77,7 +80,10 @@ export class BandCompare {
   /**
    * Fills levelDb and thresholdDb for a live density (same bins as the baseline) with `liveK` equivalent averages.
    * Bins flagged in `exclude` (e.g. the lobes of new narrowband lines, reported by their own rule) are left out
-   * of both the live and the baseline sums, and the degrees of freedom follow the bins kept.
+   * of both the live and the baseline sums, and the degrees of freedom follow the bins kept (fewer bins, fewer
+   * degrees of freedom, a higher F bound). When lines cover every bin (an overload's lobes and skirts can) nothing is
+   * left to stand for the floor: level and threshold are then over all bins, so the reading is a real number rather
+   * than a blank, and the band is flagged in coveredByLines (the band rule reports it as not judged).
    */
   evaluate(psd: Float64Array, liveK: number, exclude?: Uint8Array): void {
     const n = this.bands.length;
@@ -101,9 +107,12 @@ export class BandCompare {
         q = this.baselinePower[b];
         kept = this.binsIn[b];
       }
+      this.coveredByLines[b] = 0;
       if (kept === 0) {
-        this.levelDb[b] = NaN; // every bin belongs to a line: no floor to judge
-        continue;
+        for (let k = this.firstBin[b]; k <= hi; k++) p += psd[k];
+        q = this.baselinePower[b];
+        kept = this.binsIn[b];
+        this.coveredByLines[b] = 1;
       }
       if (k !== this.cachedK[b] || kept !== this.cachedBins[b]) {
         const nuLive = bandDegreesOfFreedom(k, kept, this.correlation);

@@ -1,14 +1,17 @@
 // Mains tracker and harmonic classifier. The supply frequency stays within ±0.2 Hz of 50 or 60 Hz in normal
 // operation (EN 50160: 50 Hz ± 1 % for 99.5 % of a year on interconnected grids; the tighter ±0.2 Hz is typical
-// practice for synchronous grids, used here as the search range). Mains counts as present only with a line at
-// harmonic 1, 2 or 3 of the nominal (a lone line near 700 Hz is as likely an unrelated tone as a 14th harmonic).
-// The fundamental is measured from the strongest of those lines divided by its order, and a line is
+// practice for synchronous grids, used here as the accepted range; both from memory). The nominal is picked once:
+// the configured 50 or 60, else (auto) the first of the two with a line at order k = 1, 2 or 3 whose f/k lies
+// within ±0.2 Hz of it; it never changes afterwards, so a strong unrelated tone (a 120 Hz overload on a 50 Hz
+// rig) cannot move the tracker to the other grid. Mains counts as present only with such a low-order line (a lone
+// line near 700 Hz is as likely an unrelated tone as a 14th harmonic). The fundamental is measured from the
+// strongest of those lines divided by its order and accepted only within ±0.2 Hz of the nominal; a line is then
 // classified as harmonic k when |f − k·f0| ≤ Δf/2 + k·δ: the tolerance widens with k because an error δ in f0
 // grows k-fold at the k-th harmonic.
 
 export type MainsSetting = 'auto' | 50 | 60;
 
-/** Search half-range around the nominal fundamental, Hz. */
+/** Accepted half-range of the measured fundamental around the nominal, Hz. */
 export const MAINS_RANGE_HZ = 0.2;
 /** Mains counts as present only with a line at one of these low orders. */
 export const PRESENCE_MAX_ORDER = 3;
@@ -26,6 +29,8 @@ export class MainsClassifier {
   readonly setting: MainsSetting;
   readonly binHz: number;
   readonly maxHarmonic: number;
+  /** The nominal in force: the configured one, else 0 until auto-detection picks 50 or 60 (then fixed). */
+  nominal: 0 | 50 | 60;
   /** Measured fundamental of the last classify(), Hz; 0 when no mains line was seen. */
   fundamental = 0;
   /** True when mains was found (then `fundamental` is measured from a line). */
@@ -45,22 +50,22 @@ export class MainsClassifier {
     this.setting = o.setting;
     this.binHz = o.binHz;
     this.maxHarmonic = o.maxHarmonic ?? 40;
+    this.nominal = o.setting === 'auto' ? 0 : o.setting;
     this.harmonic = new Int32Array(maxLines);
   }
 
   /** Classifies `count` lines (frequency, rms amplitude). Sets fundamental, harmonic[], totals. */
   classify(freq: Float64Array, amp: Float64Array, count: number): void {
-    let nominal: number;
-    if (this.setting === 'auto') {
+    if (this.nominal === 0) {
       const s50 = this.score(50, freq, amp, count);
       const s60 = this.score(60, freq, amp, count);
       if (s50 === 0 && s60 === 0) {
         this.reset(count);
         return;
       }
-      nominal = s60 > s50 ? 60 : 50;
-    } else nominal = this.setting;
-    const f0 = this.measure(nominal, freq, amp, count);
+      this.nominal = s60 > s50 ? 60 : 50;
+    }
+    const f0 = this.measure(this.nominal, freq, amp, count);
     if (f0 === 0) {
       this.reset(count);
       return;
@@ -92,21 +97,21 @@ export class MainsClassifier {
     this.total = this.odd = this.even = 0;
   }
 
-  /** Line power at the low orders (1..3) of a nominal frequency within the normal range. */
+  /** Line power at the low orders (1..3) of a nominal frequency within the accepted range. */
   private score(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
     let s = 0;
     for (let i = 0; i < count; i++) {
-      if (harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, PRESENCE_MAX_ORDER) > 0) s += amp[i] * amp[i];
+      if (lowOrderInRange(freq[i], nominal) > 0) s += amp[i] * amp[i];
     }
     return s;
   }
 
-  /** f0 from the strongest line at a low order (1..3) of the nominal within range, divided by its order; 0 if none. */
+  /** f0 from the strongest line at a low order (1..3) whose f/k is within range of the nominal; 0 if none. */
   private measure(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
     let best = -1;
     let bestK = 0;
     for (let i = 0; i < count; i++) {
-      const k = harmonicOrder(freq[i], nominal, this.binHz, MAINS_RANGE_HZ, PRESENCE_MAX_ORDER);
+      const k = lowOrderInRange(freq[i], nominal);
       if (k > 0 && (best < 0 || amp[i] > amp[best])) {
         best = i;
         bestK = k;
@@ -114,6 +119,13 @@ export class MainsClassifier {
     }
     return best < 0 ? 0 : freq[best] / bestK;
   }
+}
+
+/** k in 1..3 when f/k lies within ±MAINS_RANGE_HZ of the nominal (|f − k·nominal| ≤ k·range), else 0. */
+export function lowOrderInRange(f: number, nominal: number): number {
+  const k = Math.round(f / nominal);
+  if (k < 1 || k > PRESENCE_MAX_ORDER) return 0;
+  return Math.abs(f - k * nominal) <= k * MAINS_RANGE_HZ ? k : 0;
 }
 
 /** k when |f − k·f0| ≤ binHz/2 + k·delta for some 1 ≤ k ≤ maxK, else 0. */
