@@ -38,6 +38,8 @@ export class SpurDetector {
   readonly tracked: TrackedLine[] = [];
   /** Bins inside the lobes of tracked new lines, after the last onSpectrum (band rules leave them out). */
   readonly lineMask: Uint8Array;
+  /** Per found line: 1 when it may count as mains evidence (see onSpectrum). */
+  private readonly evidence = new Uint8Array(MAX_TRACKED_LINES);
   /** New lines start shelved until this sample (see Detectors.shelve). */
   shelvedUntil = -1;
   private readonly timing: AlarmTiming;
@@ -88,9 +90,15 @@ export class SpurDetector {
     const thresholdDb = 10 * Math.log10(ratio);
     const f = this.finder;
     const n = f.find(psd, ratio);
-    this.mains.classify(f.lineFrequency, f.lineAmplitude, n);
-    const base = this.baselinePsd;
     const lobe = f.lobe;
+    // Overload products (lines first seen under an overload, or any line while held) are no evidence of the grid.
+    const evidence = this.evidence;
+    for (let i = 0; i < n; i++) {
+      const product = overloadFrom >= 0 || this.tracked.some((x) => x.overloadFrom >= 0 && Math.abs(x.bin - f.lineBin[i]) <= lobe);
+      evidence[i] = product ? 0 : 1;
+    }
+    this.mains.classify(f.lineFrequency, f.lineAmplitude, n, evidence);
+    const base = this.baselinePsd;
     for (let i = 0; i < n; i++) {
       const k = f.lineBin[i];
       if (!(psd[k] > ratio * base[k])) continue; // present in the baseline already

@@ -37,6 +37,7 @@ export class MainsClassifier {
   measured = false;
   /** Harmonic order per line of the last classify() (0 = not mains). */
   readonly harmonic: Int32Array;
+  private evidence: Uint8Array | undefined;
   /** RMS totals over classified lines: all harmonics, odd k, even k (unit RMS). */
   total = 0;
   odd = 0;
@@ -54,8 +55,13 @@ export class MainsClassifier {
     this.harmonic = new Int32Array(maxLines);
   }
 
-  /** Classifies `count` lines (frequency, rms amplitude). Sets fundamental, harmonic[], totals. */
-  classify(freq: Float64Array, amp: Float64Array, count: number): void {
+  /**
+   * Classifies `count` lines (frequency, rms amplitude). Sets fundamental, harmonic[], totals. `evidence[i]` = 0
+   * leaves line i out of picking the nominal and measuring the fundamental (e.g. an overload's products, which
+   * prove nothing about the grid); it may still be classified against a fundamental measured from other lines.
+   */
+  classify(freq: Float64Array, amp: Float64Array, count: number, evidence?: Uint8Array): void {
+    this.evidence = evidence;
     if (this.nominal === 0) {
       const s50 = this.score(50, freq, amp, count);
       const s60 = this.score(60, freq, amp, count);
@@ -101,6 +107,7 @@ export class MainsClassifier {
   private score(nominal: number, freq: Float64Array, amp: Float64Array, count: number): number {
     let s = 0;
     for (let i = 0; i < count; i++) {
+      if (this.evidence && !this.evidence[i]) continue;
       if (lowOrderInRange(freq[i], nominal) > 0) s += amp[i] * amp[i];
     }
     return s;
@@ -111,6 +118,7 @@ export class MainsClassifier {
     let best = -1;
     let bestK = 0;
     for (let i = 0; i < count; i++) {
+      if (this.evidence && !this.evidence[i]) continue;
       const k = lowOrderInRange(freq[i], nominal);
       if (k > 0 && (best < 0 || amp[i] > amp[best])) {
         best = i;

@@ -32,13 +32,17 @@ export type Fault =
   | { kind: 'tone'; frequency: number; rms: number }
   | { kind: 'mains'; fundamental: number; harmonics: number[]; driftSpan?: number }
   | { kind: 'band-rise'; low: number; high: number; riseDb: number }
-  | { kind: 'corner'; to: number };
+  | { kind: 'corner'; to: number }
+  /** A sine of `peak` volts for `seconds`, clipped at the bench's full scale (an overload). */
+  | { kind: 'overload'; frequency: number; peak: number; seconds: number };
 
 export interface Bench {
   sampleRate: number;
   analysis: AnalysisChoice;
   averaging?: AveragingSpec;
   floor: Floor;
+  /** Converter full scale, V (scale 1 V per count): samples are clipped to ±fullScale. Default: no limit. */
+  fullScale?: number;
 }
 
 /** The frequently used bench: 4 kS/s, 1024-point Hann segments at 50 %, the pipeline's default averaging. */
@@ -73,6 +77,8 @@ function faultComponents(bench: Bench, fault: Fault, onsetSeconds: number, endSe
       const density = bench.floor.white * Math.sqrt(10 ** (fault.riseDb / 10) - 1);
       return [new BandStep({ density, low: fault.low, high: fault.high, start: onsetSeconds, end: endSeconds, sampleRate: fs, seed: deriveSeed(seed, 3) })];
     }
+    case 'overload':
+      return [new Tone({ frequency: fault.frequency, rms: fault.peak / Math.SQRT2, sampleRate: fs })];
     case 'corner': {
       // D²·fc/f grows to D²·fc'/f: add an independent 1/f part with corner fc' − fc.
       const base = bench.floor.corner ?? 0;
@@ -95,11 +101,13 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
   const floor = floorComponents(bench, seed);
   const faults = faultComponents(bench, fault, onset / bench.sampleRate, endSeconds, seed);
   const selfGated = fault.kind === 'band-rise';
+  const until = fault.kind === 'overload' ? Math.round(fault.seconds * bench.sampleRate) : Infinity;
+  const fullScale = bench.fullScale ?? Infinity;
   const scratch = new Float64Array(BLOCK);
   return {
     info: {
       sampleRate: bench.sampleRate,
-      channels: [{ name: 'ch0', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+      channels: [{ name: 'ch0', unit: 'V', scale: 1, fullScaleCounts: fullScale }],
       source: { kind: 'simulator', label: `detection bench seed ${seed}` },
       firstSample: 0,
       startWallTime: '2026-01-01T00:00:00.000Z',
@@ -116,10 +124,11 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
         c.addTo(scratch, 0, frames);
         for (let i = 0; i < frames; i++) {
           const age = first + i - onset;
-          if (age < 0) continue;
+          if (age < 0 || age >= until) continue;
           out[i] += age >= ramp ? scratch[i] : scratch[i] * 0.5 * (1 - Math.cos((Math.PI * age) / ramp));
         }
       }
+      if (fullScale < Infinity) for (let i = 0; i < frames; i++) out[i] = Math.max(-fullScale, Math.min(fullScale, out[i]));
     },
   };
 }

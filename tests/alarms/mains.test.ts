@@ -41,4 +41,50 @@ describe('MainsClassifier', () => {
     expect(harmonicOrder(500.9, 50, 0, 0.1, 40)).toBe(10);
     expect(harmonicOrder(100.9, 50, 0, 0.1, 40)).toBe(0);
   });
+  // The ranges below: EN 50160 gives 50 Hz ± 1 % for 99.5 % of a year on interconnected systems; ±0.2 Hz is the
+  // usual normal range of a synchronous grid (both from memory), used as the accepted range of the fundamental.
+  it('keeps the nominal it picked: after a 50 Hz line, a strong 119.8 Hz line is a spur and the fundamental stays at 50 Hz', () => {
+    const m = new MainsClassifier({ setting: 'auto', binHz: 1.953125 }, 8);
+    let l = lines([[50.02, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.nominal).toBe(50);
+    l = lines([[119.8, 1e-2], [50.01, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.fundamental).toBeCloseTo(50.01, 9);
+    expect(Array.from(m.harmonic.subarray(0, l.n))).toEqual([0, 1]);
+    l = lines([[119.8, 1e-2]]);
+    m.classify(l.f, l.a, l.n);
+    expect([m.nominal, m.fundamental, m.measured, m.harmonic[0]]).toEqual([50, 0, false, 0]);
+  });
+
+  it('accepts a measured fundamental only within ±0.2 Hz of the nominal', () => {
+    const m = new MainsClassifier({ setting: 50, binHz: 1.953125 }, 8);
+    let l = lines([[50.3, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.fundamental).toBe(0);
+    l = lines([[49.85, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.fundamental).toBeCloseTo(49.85, 9);
+    // Third harmonic at 150.5 Hz: f/3 = 50.167 Hz is in range; 150.7 Hz (f/3 = 50.233 Hz) is not.
+    l = lines([[150.5, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.fundamental).toBeCloseTo(150.5 / 3, 9);
+    l = lines([[150.7, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.fundamental).toBe(0);
+  });
+
+  it('does not pick 60 Hz from a line 0.53 Hz off its second harmonic, nor from lines marked as no evidence', () => {
+    const m = new MainsClassifier({ setting: 'auto', binHz: 1.953125 }, 8);
+    let l = lines([[119.47, 1]]);
+    m.classify(l.f, l.a, l.n);
+    expect([m.nominal, m.fundamental]).toEqual([0, 0]);
+    l = lines([[119.9, 1]]);
+    m.classify(l.f, l.a, l.n, Uint8Array.of(0));
+    expect([m.nominal, m.fundamental]).toEqual([0, 0]);
+    l = lines([[59.9, 1e-6]]);
+    m.classify(l.f, l.a, l.n);
+    expect(m.nominal).toBe(60);
+    expect(m.fundamental).toBeCloseTo(59.9, 9);
+  });
 });
