@@ -24,9 +24,26 @@ export class AlarmHook implements Detector {
   private info: StreamInfo | undefined;
   private set: Detectors | undefined;
   private baselineDropped = false;
+  /** A baseline handed over while running (e.g. captured from the dashboard), applied at the next snapshot. */
+  private pendingBaseline: { baseline: BaselineFile; where: string } | undefined;
   private readonly onBuild: ((d: Detectors) => void)[] = [];
+  private o: AlarmHookOptions;
 
-  constructor(private readonly o: AlarmHookOptions = {}) {}
+  constructor(options: AlarmHookOptions = {}) {
+    this.o = { ...options };
+  }
+
+  /**
+   * Compares against `baseline` from the next snapshot on (the detector set is rebuilt there, and an info event
+   * says so). Refused at once, naming the setting, when it was taken with other analysis settings than the
+   * running ones.
+   */
+  useBaseline(baseline: BaselineFile, where: string): void {
+    const running = this.set?.settings;
+    const mismatch = running ? firstSettingMismatch(baseline.settings, running) : undefined;
+    if (mismatch) throw new Error(`baseline ${where} was taken with other analysis settings: ${mismatch}; capture one with the running settings`);
+    this.pendingBaseline = { baseline, where };
+  }
 
   /** The current detector set (after the first snapshot), for acknowledge/shelve and status. */
   get detectors(): Detectors | undefined {
@@ -44,6 +61,15 @@ export class AlarmHook implements Detector {
 
   onSnapshot(snap: SpectrumSnapshot): FloorlineEvent[] {
     const pre: FloorlineEvent[] = [];
+    if (this.pendingBaseline) {
+      const { baseline, where } = this.pendingBaseline;
+      this.pendingBaseline = undefined;
+      this.o = { ...this.o, baseline, baselineWhere: where };
+      this.baselineDropped = false;
+      this.set = undefined;
+      pre.push(makeEvent('baseline', 'raised', '*', snap.sample, snap.settings.sampleRate, snap.wallTime,
+        `comparing against baseline ${where} from this snapshot on (alarm rules restarted)`, {}, 'info'));
+    }
     if (!this.set || firstSettingMismatch(snap.settings, this.set.settings)) this.build(snap, pre);
     const events = this.set!.onSnapshot(snap);
     return pre.length ? [...pre, ...events] : events;

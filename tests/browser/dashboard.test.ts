@@ -129,6 +129,13 @@ describe('dashboard against a running replay', () => {
     expect(b.span.seconds).toBeCloseTo(3, 3);
     // The band table then carries baseline figures.
     await waitUntil(page, `Array.from(document.querySelectorAll('#bands tbody tr')).every((r) => r.cells[3].dataset.value !== '')`, 10_000);
+    // And the alarm rules compare against it from then on: the status names it, and the event log says when.
+    await expect
+      .poll(async () => ((await (await fetch(`${a.url}api/status`)).json()) as { baseline: { file: string } | null }).baseline?.file, { timeout: 10_000 })
+      .toBe(file);
+    await expect
+      .poll(() => (existsSync(join(dir, 'data', 'events.jsonl')) ? readFileSync(join(dir, 'data', 'events.jsonl'), 'utf8') : ''), { timeout: 10_000 })
+      .toContain(`comparing against baseline ${file}`);
   });
 
   it('is usable from the keyboard: arrow keys move the chart readout, m toggles max-hold, u steps the unit', async () => {

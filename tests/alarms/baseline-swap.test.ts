@@ -1,0 +1,72 @@
+import { describe, expect, it } from 'vitest';
+import { Pipeline } from '../../agent/pipeline/pipeline.ts';
+import { captureLive } from '../../agent/baseline/live-capture.ts';
+import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import type { FloorlineEvent } from '../../agent/core/events.ts';
+import type { StreamInfo } from '../../agent/core/stream.ts';
+import { SeededRandom } from '../../dsp/random.ts';
+
+const FS = 4000;
+const info: StreamInfo = {
+  sampleRate: FS,
+  channels: [{ name: 'ch0', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+  source: { kind: 'simulator', label: 'baseline swap test' },
+  firstSample: 0,
+};
+const analysis = { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' as const };
+
+function feed(p: Pipeline, rng: SeededRandom, from: number, seconds: number, sigma: number): number {
+  const blk = 1000;
+  for (let first = from; first < from + seconds * FS; first += blk) {
+    p.block({ firstSample: first, frames: blk, data: [rng.fillGaussian(new Float64Array(blk), sigma)] });
+  }
+  return from + seconds * FS;
+}
+
+describe('AlarmHook.useBaseline', () => {
+  it('starts comparing against a baseline captured while running, and a doubled noise amplitude then raises band-rise near +6.02 dB', async () => {
+    const p = new Pipeline({ analysis, averaging: { mode: 'exponential', tauSeconds: 2 }, mode: 'lossless' });
+    const hook = new AlarmHook();
+    p.addDetector(hook);
+    const events: FloorlineEvent[] = [];
+    p.on('event', (e) => events.push(e));
+    p.info(info);
+    const rng = new SeededRandom(4242);
+    let next = feed(p, rng, 0, 2, 1e-6);
+    const cap = captureLive(p, { seconds: 10 });
+    next = feed(p, rng, next, 12, 1e-6);
+    const baseline = await cap.result;
+    hook.useBaseline(baseline, 'baselines/live.json');
+    next = feed(p, rng, next, 10, 1e-6);
+    const swapAt = events.find((e) => e.rule === 'baseline' && e.state === 'raised');
+    expect(swapAt?.kind).toBe('info');
+    // Without a baseline there is nothing to compare a band with: no band-rise before the swap, none on the same floor after it.
+    expect(events.filter((e) => e.rule === 'band-rise')).toEqual([]);
+    const riseFrom = next;
+    feed(p, rng, next, 20, 2e-6);
+    const raised = events.filter((e) => e.rule === 'band-rise' && e.state === 'raised');
+    expect(raised.length).toBeGreaterThan(0);
+    expect(raised[0].sample).toBeGreaterThan(riseFrom);
+    // Doubling an amplitude is 20·log10(2) = 6.02 dB (common practice); the whole-band rule settles within its
+    // averaging scatter of that (exp τ = 2 s, ±0.5 dB is several standard deviations at ~2 k bins).
+    const settled = raised.find((e) => e.band && e.band[1] - e.band[0] > FS / 4);
+    expect(settled).toBeDefined();
+    expect(settled!.levelDb!).toBeGreaterThan(3);
+    expect(settled!.levelDb!).toBeLessThan(6.02 + 0.5);
+  });
+
+  it('refuses at once a baseline taken with other analysis settings, naming the setting', async () => {
+    const p = new Pipeline({ analysis, mode: 'lossless' });
+    const hook = new AlarmHook();
+    p.addDetector(hook);
+    p.info(info);
+    const rng = new SeededRandom(7);
+    feed(p, rng, 0, 1, 1e-6);
+    const other = new Pipeline({ analysis: { ...analysis, segment: 2048 }, mode: 'lossless' });
+    other.info(info);
+    const cap = captureLive(other, { seconds: 5 });
+    feed(other, rng, 0, 6, 1e-6);
+    const b = await cap.result;
+    expect(() => hook.useBaseline(b, 'baselines/other.json')).toThrow(/segment \(2048 vs 1024\)/);
+  });
+});
