@@ -104,3 +104,24 @@ const snapUs = (cpuSeconds(process.cpuUsage(s0)) * 1e6) / 1000;
 console.log(`live: ${CHANNELS} ch × ${FS} S/s, ${BLOCK}-sample blocks, ${l0.count} points on ${l0.stages} stages, span 100 s`);
 console.log(`  CPU time / sample time, one core: median ${median(liveRuns).toFixed(2)} %  (${liveRuns.map((v) => v.toFixed(2)).join(', ')})`);
 console.log(`  psd() snapshot: ${snapUs.toFixed(1)} µs CPU per channel`);
+
+// The agent's whole live view (agent/lowfreq/live-low-frequency.ts) at the same load: the estimators above plus
+// the 0.1–10 Hz meters, 2 frames per second of sample time (ASD, band, averages, JSON-ready arrays) and a 1/f fit
+// every 4th frame, span 60 s; beside it in this run, the bare estimator figure above.
+const { LiveLowFrequency } = await import('../../agent/lowfreq/live-low-frequency.ts');
+const viewRuns: number[] = [];
+let updates = 0;
+for (let run = 0; run < ROUNDS; run++) {
+  const view = new LiveLowFrequency();
+  view.start(FS, Array.from({ length: CHANNELS }, (_, c) => ({ name: `ch${c}`, unit: 'V' })));
+  view.onUpdate(() => updates++);
+  const data = Array.from({ length: CHANNELS }, () => new Float64Array(BLOCK));
+  const c0 = process.cpuUsage();
+  for (let b = 0; b < (LIVE_SECONDS * FS) / BLOCK; b++) {
+    for (let c = 0; c < CHANNELS; c++) data[c] = blocks[(b + c) % blocks.length];
+    view.block(b * BLOCK, BLOCK, data);
+  }
+  viewRuns.push((cpuSeconds(process.cpuUsage(c0)) / LIVE_SECONDS) * 100);
+}
+console.log(`live view (agent): ${CHANNELS} ch × ${FS} S/s, estimator + 0.1–10 Hz meter + 2 frames/s + a fit every 2 s, ${updates / ROUNDS} updates per run`);
+console.log(`  CPU time / sample time, one core: median ${median(viewRuns).toFixed(2)} %  (${viewRuns.map((v) => v.toFixed(2)).join(', ')}); bare estimator above: ${median(liveRuns).toFixed(2)} %`);
