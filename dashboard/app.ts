@@ -24,7 +24,7 @@ export class App {
   readonly events = new EventList(($('events') as HTMLTableElement).tBodies[0], (e) => void this.acknowledge(e));
   readonly trace = new TraceView($('trace'));
   readonly health = new HealthStrip($('health'), $('replay-banner'));
-  readonly logFrequency = new LogFrequencyView($('logf-chart'), $('logf-readout'), $('logf-fits'), $('logf-pp'));
+  readonly logFrequency = new LogFrequencyView($('logf-chart'), $('logf-readout'), $('logf-fits'), $('logf-pp'), $('logf-context'));
   readonly budget: NoiseBudgetForm;
   readonly controls: Controls;
   status: AgentStatus | null = null;

@@ -30,6 +30,7 @@ export class LogFrequencyView {
     private readonly readout: HTMLElement,
     private readonly fits: HTMLElement,
     private readonly peaks: HTMLElement,
+    private readonly contextLine: HTMLElement,
   ) {
     new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.chart.clientWidth), height: 360 })).observe(chart);
   }
@@ -171,6 +172,10 @@ export class LogFrequencyView {
       } else box.append(el('dd', 'context', ctx.peakToPeak ? `first window after ${fixed(ctx.peakToPeak.settleSeconds + ctx.peakToPeak.windowSeconds, 1)} s of sample time` : 'sample rate too low for 0.1–10 Hz'));
       ppRows.push(box);
     });
+    this.contextLine.textContent =
+      `${ctx.frequency.length} log-spaced points, each averaging ≤ ${ctx.spanSeconds} s · ${Math.round(ctx.level * 100)} % band (χ² on equivalent averages) · ` +
+      `${ctx.updatesPerSecond} updates/s, a 1/f fit every ${ctx.fitEvery} to points ≤ ${si(ctx.fitMaxHz, 'Hz')}` +
+      (u ? ` · t = ${fixed(u.t, 2)} s (sample ${count(u.sample)})` : '');
     this.fits.replaceChildren(...fitRows);
     this.peaks.replaceChildren(el('h3', '', '0.1–10 Hz noise'), ...ppRows);
   }
