@@ -6,7 +6,7 @@ import type { GapNotice, StreamInfo } from '../core/stream.ts';
 import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 import { LogFrequencyFrameBuilder, type LogFrequencyFrame } from '../../dsp/logfreq/live-frame.ts';
 import { PeakToPeakMeter } from '../../dsp/lowfreq/peak-to-peak.ts';
-import { fitCorner, type CornerFit } from '../../dsp/lowfreq/corner-fit.ts';
+import { fitCorner, logChiSquareBias, logChiSquareVariance, logCornerModel, type CornerFit } from '../../dsp/lowfreq/corner-fit.ts';
 import type { CornerFitReading, LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate, PeakToPeakFigures } from '../wire/low-frequency-messages.ts';
 
 export interface LiveLowFrequencyOptions {
@@ -40,7 +40,7 @@ interface ChannelState {
 
 const nullable = (a: Float64Array): (number | null)[] => Array.from(a, (v) => (Number.isFinite(v) ? v : null));
 
-function reading(f: CornerFit, frame: LogFrequencyFrame): CornerFitReading {
+function reading(f: CornerFit, excluded: number, frame: LogFrequencyFrame): CornerFitReading {
   return {
     sample: frame.sample,
     t: frame.t,
@@ -53,21 +53,14 @@ function reading(f: CornerFit, frame: LogFrequencyFrame): CornerFitReading {
     exponentFree: f.exponentFree,
     reducedChiSquare: f.reducedChiSquare,
     points: f.points,
+    excludedPoints: excluded,
   };
 }
 
-/** Fits the points that have an estimate, at or below fitMaxHz: free α first, α = 1 when that fails. */
-export function fitFrame(frame: LogFrequencyFrame, equivalentAverages: Float64Array, fitMaxHz: number): CornerFit | null {
-  const f: number[] = [];
-  const psd: number[] = [];
-  const dof: number[] = [];
-  for (let p = 0; p < frame.frequency.length; p++) {
-    const a = frame.asd[p];
-    if (!(a > 0) || !(equivalentAverages[p] >= 1) || frame.frequency[p] > fitMaxHz) continue;
-    f.push(frame.frequency[p]);
-    psd.push(a * a);
-    dof.push(2 * equivalentAverages[p]);
-  }
+/** Standardised residuals above this leave the fit as lines (mains, spurs raise a density; noise rarely does). */
+export const LINE_CLIP_SIGMA = 4;
+
+function fitOnce(f: number[], psd: number[], dof: number[], fitMaxHz: number): CornerFit | null {
   for (const exponent of ['free', 1] as const) {
     try {
       const r = fitCorner({ frequency: f, psd, dof }, { maxFrequency: fitMaxHz, exponent });
@@ -77,6 +70,37 @@ export function fitFrame(frame: LogFrequencyFrame, equivalentAverages: Float64Ar
     }
   }
   return null;
+}
+
+/**
+ * Fits the points that have an estimate, at or below fitMaxHz: free α first, α = 1 when that fails. Points whose
+ * log density sits more than LINE_CLIP_SIGMA above the fitted model (in units of the log-chi-square spread,
+ * ψ'(ν/2)) are left out and the fit repeated, at most 4 times: one-sided sigma clipping (common practice), so
+ * narrow lines do not pull the floor up. `excluded` counts the points left out.
+ */
+export function fitFrame(frame: LogFrequencyFrame, equivalentAverages: Float64Array, fitMaxHz: number): { fit: CornerFit; excluded: number } | null {
+  let f: number[] = [];
+  let psd: number[] = [];
+  let dof: number[] = [];
+  for (let p = 0; p < frame.frequency.length; p++) {
+    const a = frame.asd[p];
+    if (!(a > 0) || !(equivalentAverages[p] >= 1) || frame.frequency[p] > fitMaxHz) continue;
+    f.push(frame.frequency[p]);
+    psd.push(a * a);
+    dof.push(2 * equivalentAverages[p]);
+  }
+  const total = f.length;
+  for (let round = 0; ; round++) {
+    const fit = fitOnce(f, psd, dof, fitMaxHz);
+    if (!fit || round === 4) return fit ? { fit, excluded: total - f.length } : null;
+    const a = Math.log(fit.whitePsd);
+    const b = Math.log(fit.corner);
+    const keep = f.map((fi, i) => (Math.log(psd[i]) - logChiSquareBias(dof[i]) - logCornerModel(Math.log(fi), a, b, fit.exponent)) / Math.sqrt(logChiSquareVariance(dof[i])) <= LINE_CLIP_SIGMA);
+    if (keep.every(Boolean)) return { fit, excluded: total - f.length };
+    f = f.filter((_, i) => keep[i]);
+    psd = psd.filter((_, i) => keep[i]);
+    dof = dof.filter((_, i) => keep[i]);
+  }
 }
 
 export class LiveLowFrequency {
@@ -226,7 +250,7 @@ export class LiveLowFrequency {
         if (fitNow) {
           c.live.equivalentAverages(this.eq);
           const fit = fitFrame(frame, this.eq, ctx.fitMaxHz);
-          c.fit = fit ? reading(fit, frame) : null;
+          c.fit = fit ? reading(fit.fit, fit.excluded, frame) : null;
         }
         return {
           name: c.name,

@@ -39,6 +39,8 @@ export interface CornerFitReading {
   exponentFree: boolean;
   reducedChiSquare: number;
   points: number;
+  /** Points left out as lines (more than 4σ above the model in log space). */
+  excludedPoints: number;
 }
 
 /** The newest completed 0.1–10 Hz window of one channel. */

@@ -156,7 +156,7 @@ export class LogFrequencyView {
         Object.assign(row.dataset, { white: String(fit.whiteAsd), corner: String(fit.corner), alpha: String(fit.exponent), sample: String(fit.sample) });
         row.textContent =
           `${c.name}: white ${si(fit.whiteAsd, d)} ± ${si(fit.whiteAsdSigma, d)} · corner ${si(fit.corner, 'Hz')} ± ${si(fit.cornerSigma, 'Hz')} · ` +
-          `α ${fixed(fit.exponent, 2)} ± ${fit.exponentFree ? fixed(fit.exponentSigma, 2) : 'fixed'} (fit to ${fit.points} points at t = ${fixed(fit.t, 1)} s)`;
+          `α ${fixed(fit.exponent, 2)} ± ${fit.exponentFree ? fixed(fit.exponentSigma, 2) : 'fixed'} (fit to ${fit.points} points${fit.excludedPoints ? `, ${fit.excludedPoints} left out as lines` : ''} at t = ${fixed(fit.t, 1)} s)`;
       } else row.textContent = `${c.name}: no 1/f fit yet (too few averaged points)`;
       fitRows.push(row);
       const pp = ch?.peakToPeak ?? null;

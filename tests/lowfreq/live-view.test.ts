@@ -68,7 +68,23 @@ describe('LiveLowFrequency (agent view)', () => {
       expect(Math.abs(f.corner - truth[c].fc)).toBeLessThan(3 * f.cornerSigma);
       if (f.exponentFree) expect(Math.abs(f.exponent - 1)).toBeLessThan(3 * f.exponentSigma);
       expect(f.cornerSigma / f.corner).toBeLessThan(0.25); // a usable fit, not one that passes on huge error bars
+      expect(f.excludedPoints).toBeLessThanOrEqual(1); // plain noise: (almost) nothing is clipped as a line
     }
+  });
+
+  it('leaves mains lines out of the fit (one-sided 4σ clipping) and still finds the floor the noise was made with', () => {
+    const y = Float64Array.from(x[0]);
+    // Mains pickup of our invented rig: 50 Hz and harmonics, 0.5–2 µV rms, far above a 20 nV/√Hz floor.
+    const lines: [number, number][] = [[50, 2e-6], [100, 0.5e-6], [150, 1e-6], [250, 0.5e-6]];
+    for (let i = 0; i < y.length; i++) for (const [f, rms] of lines) y[i] += rms * Math.SQRT2 * Math.sin((2 * Math.PI * f * i) / FS + f);
+    const view = new LiveLowFrequency({ spanSeconds: 120 });
+    view.start(FS, [{ name: 'a', unit: 'V' }]);
+    run(view, [y], () => 1000);
+    const f = view.status()[0].fit!;
+    expect(f.excludedPoints).toBeGreaterThan(3);
+    // Known by construction (numpy shaping in shapedNoise): e_w = 20 nV/√Hz, f_c = 5 Hz, α = 1.
+    expect(Math.abs(f.whiteAsd - ew)).toBeLessThan(3 * f.whiteAsdSigma);
+    expect(Math.abs(f.corner - fc)).toBeLessThan(3 * f.cornerSigma);
   });
 
   it('reports the newest 0.1–10 Hz window equal to numpy on scipy.signal.sosfilt output started in steady state', () => {
