@@ -33,6 +33,16 @@ export class LogFrequencyView {
     private readonly contextLine: HTMLElement,
   ) {
     new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.chart.clientWidth), height: 360 })).observe(chart);
+    chart.addEventListener('keydown', (e) => {
+      const step = e.key === 'ArrowRight' ? 1 : e.key === 'ArrowLeft' ? -1 : 0;
+      if (step === 0 || !this.plot || !this.ctx) return;
+      e.preventDefault();
+      const n = this.ctx.frequency.length;
+      const idx = Math.min(n - 1, Math.max(0, (this.cursorIdx ?? Math.floor(n / 2)) + step));
+      this.plot.setCursor({ left: this.plot.valToPos(this.ctx.frequency[idx], 'x'), top: this.plot.bbox.height / (2 * devicePixelRatio) });
+      this.cursorIdx = idx;
+      this.showCursor();
+    });
   }
 
   get canvas(): HTMLCanvasElement | null {
@@ -187,6 +197,7 @@ export class LogFrequencyView {
     const u = this.latest;
     const parts = ctx.channels.map((c, i) => `${c.name} ${si(u?.channels[i]?.asd[p] ?? null, `${c.unit}/√Hz`)}`);
     const avg = u?.channels[0]?.averages[p];
+    Object.assign(this.readout.dataset, { index: String(p), frequency: String(ctx.frequency[p]), rbw: String(ctx.rbwHz[p]) });
     this.readout.textContent = `${si(ctx.frequency[p], 'Hz', 4)}: ${parts.join(' · ')} · RBW ${si(ctx.rbwHz[p], 'Hz')} · ${avg ?? 0} averages`;
   }
 }

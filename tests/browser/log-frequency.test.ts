@@ -9,6 +9,7 @@ import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
 import type { AgentStatus } from '../../agent/wire/messages.ts';
+import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'floorline-logf-'));
 let browser: BrowserContext;
@@ -61,6 +62,20 @@ describe('log-frequency view on the demo replay', () => {
     const box = (await page.locator('#logf-chart .u-over').boundingBox())!;
     await page.mouse.move(box.x + box.width * 0.3, box.y + box.height / 2);
     await expect.poll(() => page.textContent('#logf-readout'), { timeout: 5_000 }).toMatch(/RBW .*Hz · \d+ averages/);
+    // From the keyboard: focus the chart, arrows step point by point.
+    await page.focus('#logf-chart');
+    const at = async (): Promise<Record<string, string>> => (await page.evaluate(`({ ...document.getElementById('logf-readout').dataset })`)) as Record<string, string>;
+    const before = Number((await at()).index);
+    for (let i = 0; i < 5; i++) await page.keyboard.press('ArrowRight');
+    const r = await at();
+    expect(Number(r.index)).toBe(before + 5);
+    // The RBW shown is the point’s Hann ENBW: 1.5 bins of its segment at its stage’s rate (Heinzel, Rüdiger & Schilling
+    // 2002, Hann window: NENBW = 1.5 bins), from an estimator of the same grid built here (8000 S/s, 60 s span, the view's defaults).
+    const grid = new LiveLogFrequency({ sampleRate: 8000, spanSeconds: 60 });
+    const p = Number(r.index);
+    expect(Number(r.frequency)).toBe(grid.frequency[p]);
+    expect(Number(r.rbw)).toBeCloseTo((1.5 * (8000 / 2 ** grid.stage[p])) / grid.segment[p], 12);
+    expect(Number(r.rbw)).toBe(grid.rbwHz[p]);
   });
 
   it('shows fit and 0.1–10 Hz figures equal to /api/status for the same sample, and the shorted fit lands on 15 nV/√Hz and 5 Hz within its uncertainty', async () => {
