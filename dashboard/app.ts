@@ -14,6 +14,7 @@ import { Controls } from './views/controls.ts';
 import { NoiseBudgetForm } from './views/noise-budget.ts';
 import { LogFrequencyView } from './views/log-frequency.ts';
 import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
+import { logFrequencyCsv } from './log-frequency-csv.ts';
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
 
@@ -32,6 +33,8 @@ export class App {
   /** Spectrum frames applied (tests and the benchmark read this). */
   spectraApplied = 0;
   private pendingBaseline: ArrayBuffer | null = null;
+  /** The spectrum panel shows the log-frequency view (exports follow what is shown). */
+  private logfMode = false;
   private contextShownAt = -Infinity;
 
   constructor(readonly link: Link) {
@@ -110,6 +113,7 @@ export class App {
 
   /** Linear bins (Welch) or the log-frequency view in the spectrum panel; alarms come from the Welch rules either way. */
   setSpectrumMode(logf: boolean): void {
+    this.logfMode = logf;
     $('welch-view').hidden = logf;
     $('logf-view').hidden = !logf;
     this.logFrequency.show(logf);
@@ -160,12 +164,22 @@ export class App {
   }
 
   private exportCsv(): void {
+    const lf = this.logFrequency;
+    if (this.logfMode) {
+      if (lf.context && lf.shownUpdate) download(`floorline-log-frequency-${lf.shownUpdate.sample}.csv`, logFrequencyCsv(lf.context, lf.shownUpdate, this.status?.wallTime ?? ''), 'text/csv');
+      return;
+    }
     const f = this.spectrum.frame;
     if (!this.context || !f) return;
     download(`floorline-spectrum-${f.sample}.csv`, spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? ''), 'text/csv');
   }
 
   private async exportPng(): Promise<void> {
+    const lf = this.logFrequency;
+    if (this.logfMode) {
+      if (lf.canvas && lf.shownUpdate) download(`floorline-log-frequency-${lf.shownUpdate.sample}.png`, await spectrumPng(lf.canvas, $('logf-context').textContent ?? ''));
+      return;
+    }
     const c = this.spectrum.canvas;
     const f = this.spectrum.frame;
     if (!c || !this.context) return;

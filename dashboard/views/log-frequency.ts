@@ -45,6 +45,15 @@ export class LogFrequencyView {
     });
   }
 
+  get context(): LowFrequencyContext | null {
+    return this.ctx;
+  }
+
+  /** The newest update shown (for exports). */
+  get shownUpdate(): LowFrequencyUpdate | null {
+    return this.latest;
+  }
+
   get canvas(): HTMLCanvasElement | null {
     return this.plot ? (this.plot.ctx.canvas as HTMLCanvasElement) : null;
   }

@@ -2,6 +2,7 @@
 // draws, the fit and 0.1–10 Hz readouts equal /api/status's lowFrequency section, and the `shorted` channel's
 // live 1/f fit lands on the floor it was simulated with (recordings/README.md: 15 nV/√Hz white, 5 Hz corner).
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { execFileSync } from 'node:child_process';
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -132,6 +133,39 @@ describe('log-frequency view on the demo replay', () => {
     expect(t).toBeGreaterThanOrEqual(38);
     expect(t).toBeLessThan(48);
     expect(await page.textContent('#logf-context')).toMatch(/log-spaced points, .* 95 % band .* t = [\d.]+ s \(sample /);
+  });
+
+  it('exports what the view shows as CSV that numpy reads: one row per point, ASD inside its band, fits in the header', async () => {
+    // What is shown and the click in one page task, so no update lands between them.
+    const [dl, shown] = (await Promise.all([
+      page.waitForEvent('download'),
+      page.evaluate(
+        `(() => { const v = window.floorline.logFrequency; const snap = { f: v.context.frequency, asd: v.shownUpdate.channels[1].asd, sample: v.shownUpdate.sample }; document.getElementById('export-csv').click(); return snap; })()`,
+      ),
+    ])) as [import('playwright-core').Download, { f: number[]; asd: (number | null)[]; sample: number }];
+    expect(dl.suggestedFilename()).toMatch(/^floorline-log-frequency-\d+\.csv$/);
+    const path = join(dir, 'logf.csv');
+    await dl.saveAs(path);
+    // Reference: numpy.genfromtxt (empty cells → nan) over the rows after the '#' lines, the names row and the units row.
+    const py = `
+import numpy as np, json, sys
+lines = open(sys.argv[1], encoding='utf-8').read().split('\\n')
+head = [l for l in lines if l.startswith('#')]
+a = np.genfromtxt(sys.argv[1], delimiter=',', skip_header=len(head) + 2, encoding='utf-8')
+asd, lo, hi = a[:, 6], a[:, 7], a[:, 8]
+ok = np.isfinite(asd)
+print(json.dumps({'rows': a.shape[0], 'cols': a.shape[1], 'f': a[:, 0].tolist(), 'asd': [None if np.isnan(x) else x for x in asd.tolist()],
+  'inside': bool(np.all((lo[ok] <= asd[ok]) & (asd[ok] <= hi[ok]))), 'sample': [l for l in head if l.startswith('# sample,')][0].split(',')[1],
+  'fit': [l for l in head if l.startswith('# fit shorted,')][0]}))
+`;
+    const out = JSON.parse(execFileSync('python3', ['-c', py, path], { encoding: 'utf8' })) as { rows: number; cols: number; f: number[]; asd: (number | null)[]; inside: boolean; sample: string; fit: string };
+    expect(out.rows).toBe(shown.f.length);
+    expect(out.cols).toBe(3 + 3 * 2);
+    expect(out.f).toEqual(shown.f);
+    expect(out.asd).toEqual(shown.asd); // channel 1 = shorted
+    expect(out.inside).toBe(true);
+    expect(Number(out.sample)).toBe(shown.sample);
+    expect(out.fit).toMatch(/^# fit shorted,(none|white_asd,[\d.e+-]+,)/);
   });
 
   it('exposes the fit and p-p as gauges in /metrics, one series per channel', { timeout: 40_000 }, async () => {
