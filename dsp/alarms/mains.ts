@@ -5,7 +5,8 @@
 // within ±0.2 Hz of it; it never changes afterwards, so a strong unrelated tone (a 120 Hz overload on a 50 Hz
 // rig) cannot move the tracker to the other grid. Mains counts as present only with such a low-order line (a lone
 // line near 700 Hz is as likely an unrelated tone as a 14th harmonic). The fundamental is measured from the
-// strongest of those lines divided by its order and accepted only within ±0.2 Hz of the nominal; a line is then
+// strongest of those lines divided by its order and accepted only within ±0.2 Hz of the nominal (plus the line
+// estimate's error, 0.05 Hz at the line: see lowOrderInRange); a line is then
 // classified as harmonic k when |f − k·f0| ≤ Δf/2 + k·δ: the tolerance widens with k because an error δ in f0
 // grows k-fold at the k-th harmonic.
 
@@ -129,11 +130,15 @@ export class MainsClassifier {
   }
 }
 
-/** k in 1..3 when f/k lies within ±MAINS_RANGE_HZ of the nominal (|f − k·nominal| ≤ k·range), else 0. */
+/**
+ * k in 1..3 when |f − k·nominal| ≤ k·MAINS_RANGE_HZ + MEASURED_F0_TOLERANCE_HZ, else 0: the grid's own offset
+ * grows k-fold at harmonic k, the error of a line's frequency estimate does not (so f/k may sit up to
+ * 0.2 + 0.05/k Hz from the nominal).
+ */
 export function lowOrderInRange(f: number, nominal: number): number {
   const k = Math.round(f / nominal);
   if (k < 1 || k > PRESENCE_MAX_ORDER) return 0;
-  return Math.abs(f - k * nominal) <= k * MAINS_RANGE_HZ ? k : 0;
+  return Math.abs(f - k * nominal) <= k * MAINS_RANGE_HZ + MEASURED_F0_TOLERANCE_HZ ? k : 0;
 }
 
 /** k when |f − k·f0| ≤ binHz/2 + k·delta for some 1 ≤ k ≤ maxK, else 0. */

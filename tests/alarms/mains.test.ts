@@ -42,7 +42,8 @@ describe('MainsClassifier', () => {
     expect(harmonicOrder(100.9, 50, 0, 0.1, 40)).toBe(0);
   });
   // The ranges below: EN 50160 gives 50 Hz ± 1 % for 99.5 % of a year on interconnected systems; ±0.2 Hz is the
-  // usual normal range of a synchronous grid (both from memory), used as the accepted range of the fundamental.
+  // usual normal range of a synchronous grid (both from memory), used as the accepted range of the fundamental;
+  // a line at order k may sit k·0.2 Hz + 0.05 Hz (its frequency estimate's error) from k × nominal.
   it('keeps the nominal it picked: after a 50 Hz line, a strong 119.8 Hz line is a spur and the fundamental stays at 50 Hz', () => {
     const m = new MainsClassifier({ setting: 'auto', binHz: 1.953125 }, 8);
     let l = lines([[50.02, 1e-6]]);
@@ -65,7 +66,7 @@ describe('MainsClassifier', () => {
     l = lines([[49.85, 1e-6]]);
     m.classify(l.f, l.a, l.n);
     expect(m.fundamental).toBeCloseTo(49.85, 9);
-    // Third harmonic at 150.5 Hz: f/3 = 50.167 Hz is in range; 150.7 Hz (f/3 = 50.233 Hz) is not.
+    // Third harmonic at 150.5 Hz: 0.5 Hz ≤ 3·0.2 + 0.05 Hz is in range; 150.7 Hz (0.7 Hz off) is not.
     l = lines([[150.5, 1e-6]]);
     m.classify(l.f, l.a, l.n);
     expect(m.fundamental).toBeCloseTo(150.5 / 3, 9);
@@ -74,7 +75,7 @@ describe('MainsClassifier', () => {
     expect(m.fundamental).toBe(0);
   });
 
-  it('does not pick 60 Hz from a line 0.53 Hz off its second harmonic, nor from lines marked as no evidence', () => {
+  it('does not pick 60 Hz from a line 0.53 Hz off its second harmonic (> 2·0.2 + 0.05 Hz), nor from lines marked as no evidence', () => {
     const m = new MainsClassifier({ setting: 'auto', binHz: 1.953125 }, 8);
     let l = lines([[119.47, 1]]);
     m.classify(l.f, l.a, l.n);
