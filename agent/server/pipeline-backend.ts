@@ -17,6 +17,7 @@ import type { DetectorStatus } from '../alarms/detectors.ts';
 import { bandBins } from '../../dsp/bands.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 import type { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
+import type { LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
 import { LatestPacer } from '../lowfreq/latest-pacer.ts';
 import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type ServerBackend } from './backend.ts';
 
@@ -95,7 +96,7 @@ export class PipelineBackend implements ServerBackend {
     });
     const lf = o.lowFrequency;
     if (lf) {
-      const pacer = new LatestPacer<Parameters<Parameters<LiveLowFrequency['onUpdate']>[0]>[0]>((update) => this.subscribers.forEach((s) => s.lowFrequency?.({ type: 'lowfreq', update })), 100);
+      const pacer = new LatestPacer<LowFrequencyUpdate>((update) => this.subscribers.forEach((s) => s.lowFrequency?.({ type: 'lowfreq', update })), 100);
       lf.onContext((context) => this.subscribers.forEach((s) => s.lowFrequency?.({ type: 'lowfreq-context', context })));
       lf.onUpdate((u) => pacer.offer(u));
     }
