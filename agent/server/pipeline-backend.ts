@@ -205,7 +205,15 @@ export class PipelineBackend implements ServerBackend {
           baselineRms,
           deltaDb: finite(rule?.levelDb) ?? (baselineRms ? DB((rms * rms) / (baselineRms * baselineRms)) : null),
           thresholdDb: finite(rule?.thresholdDb),
-          state: !bch ? 'no-baseline' : (rule ? rule.active : alarm?.state === 'raised') ? 'raised' : 'ok',
+          state: !bch
+            ? 'no-baseline'
+            : (rule ? rule.active : alarm?.state === 'raised')
+              ? 'raised'
+              : rule?.coveredByLines
+                ? 'not-judged'
+                : rule?.held
+                  ? 'held'
+                  : 'ok',
           floorDensity: Math.sqrt(median(ch.psd, r.first, r.last, this.scratch)),
         });
       }

@@ -87,7 +87,11 @@ export interface SpectrumContext {
   mainsHz: number | null;
 }
 
-export type AlarmCondition = 'ok' | 'raised' | 'no-baseline';
+/**
+ * A band's state in the table: `raised` (alarm announced), `held` (new alarms held while clipped segments still
+ * weigh in the average), `not-judged` (new lines cover every bin of the band), `ok`, or `no-baseline`.
+ */
+export type AlarmCondition = 'ok' | 'raised' | 'held' | 'not-judged' | 'no-baseline';
 
 /** One row of the band table. Densities and RMS in the channel unit. */
 export interface BandRow {

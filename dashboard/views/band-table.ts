@@ -1,6 +1,14 @@
 // Band table: live RMS, baseline RMS, Δ dB, threshold and state per channel and band, updated in place.
-import type { BandRow } from '../../agent/wire/messages.ts';
+import type { AlarmCondition, BandRow } from '../../agent/wire/messages.ts';
 import { si, fixed, short } from '../format.ts';
+
+const STATE_LABEL: Record<AlarmCondition, string> = {
+  ok: 'ok',
+  raised: 'ALARM',
+  held: 'held: overload',
+  'not-judged': 'not judged: lines',
+  'no-baseline': 'no baseline',
+};
 
 export class BandTable {
   private readonly rows = new Map<string, HTMLTableRowElement>();
@@ -33,7 +41,7 @@ export class BandTable {
         fixed(b.deltaDb, 2),
         fixed(b.thresholdDb, 2),
         si(b.floorDensity, `${unit}/√Hz`),
-        b.state === 'no-baseline' ? 'no baseline' : b.state === 'raised' ? 'ALARM' : 'ok',
+        STATE_LABEL[b.state],
       ];
       for (let i = 0; i < 8; i++) if (tr.cells[i].textContent !== cells[i]) tr.cells[i].textContent = cells[i];
       // Exact figures for tests and for copying: the cell shows 3 significant figures.
