@@ -39,7 +39,7 @@ function optionsFrom(args: ParsedArgs): AnalyzeOptions {
 
 export const analyzeCommand: CommandSpec = {
   name: 'analyze',
-  summary: 'Offline report of a whole WAV recording: PSD/ASD per channel, total and band RMS.',
+  summary: 'offline report of a whole WAV recording: PSD/ASD per channel, total and band RMS',
   details: [
     'Output: a text summary by default, --json (one object, keys as documented) or --csv (frequency, psd and asd per channel).',
     'Integer PCM reads as a fraction of full scale (unit FS) unless --scale gives volts per full scale.',

@@ -26,7 +26,7 @@ async function run(args: ParsedArgs): Promise<number> {
 
 export const portsCommand: CommandSpec = {
   name: 'ports',
-  summary: 'List serial ports with their stable /dev/serial/by-id paths and USB ids (vendor:product, serial, manufacturer).',
+  summary: 'list serial ports with their stable /dev/serial/by-id paths and USB ids (vendor:product, serial, manufacturer)',
   details: [
     '`floorline run --port` takes a path, VID:PID, VID:PID:SERIAL or serial=SERIAL; USB ids are looked up again',
     'at every reconnect, so the board is found after a replug even if it comes back as another ttyUSBn.',

@@ -4,7 +4,7 @@ import { repairWav } from '../../wav/repair.ts';
 
 export const repairCommand: CommandSpec = {
   name: 'repair',
-  summary: 'Fix the header sizes of a WAV recording cut off by a crash, keeping every whole frame on disk.',
+  summary: 'fix the header sizes of a WAV recording cut off by a crash, keeping every whole frame on disk',
   details: [
     'The data chunk is taken to run to the end of the file (as floorline writes recordings), cut to whole frames,',
     'and the RIFF, data and fact sizes rewritten (RF64 past 4 GiB). A file that needs nothing is left untouched.',

@@ -69,7 +69,7 @@ async function run(args: ParsedArgs): Promise<number> {
 
 export const simulateCommand: CommandSpec = {
   name: 'simulate',
-  summary: 'Board simulator: plays a scenario file as framed samples to a serial/pty path, stdout, or a WAV recording.',
+  summary: 'board simulator: plays a scenario file as framed samples to a serial/pty path, stdout, or a WAV recording',
   details: [
     'SCENARIO.json describes the board (rate, sample format), its channels (name, unit, perCount, fullScale) and',
     'the signals on each (white, flicker, tone, mains, band-step, overload) plus link faults (drop, corrupt,',
