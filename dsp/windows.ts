@@ -77,6 +77,19 @@ export function parseWindowName(spec: string): string {
   throw new RangeError(`unknown window "${spec}": choose one of ${WINDOW_NAMES.join(', ')}`);
 }
 
+/**
+ * Half-width of the window's main lobe in bins, from its definition alone (no window is built): the first zero of
+ * a K-term cosine sum sits at K bins; of the Kaiser kernel at sqrt(1 + α²) bins (β = πα).
+ */
+export function windowMainLobeHalfWidth(spec: string): number {
+  const name = parseWindowName(spec);
+  if (name.startsWith('kaiser:')) {
+    const alpha = Number(name.slice('kaiser:'.length));
+    return Math.sqrt(1 + alpha * alpha);
+  }
+  return COSINE_SUMS[name].coefficients.length;
+}
+
 /** Builds a periodic window of the given length with its gains. Allocates; call once per configuration. */
 export function makeWindow(spec: string, length: number): WindowInfo {
   const name = parseWindowName(spec);
@@ -85,19 +98,16 @@ export function makeWindow(spec: string, length: number): WindowInfo {
   }
   let values: Float64Array;
   let recommendedOverlap: number;
-  let mainLobeHalfWidth: number;
   if (name.startsWith('kaiser:')) {
     const alpha = Number(name.slice('kaiser:'.length));
     values = kaiserValues(alpha, length);
     recommendedOverlap = kaiserOverlap(alpha);
-    // Zeros of the Kaiser kernel sit at sqrt(k² + α²) bins, the first at sqrt(1 + α²) (β = πα).
-    mainLobeHalfWidth = Math.sqrt(1 + alpha * alpha);
   } else {
     const def = COSINE_SUMS[name];
     values = cosineSumValues(def.coefficients, length);
     recommendedOverlap = def.overlap;
-    mainLobeHalfWidth = def.coefficients.length;
   }
+  const mainLobeHalfWidth = windowMainLobeHalfWidth(name);
   let sum = 0;
   let sumSq = 0;
   for (let i = 0; i < length; i++) {

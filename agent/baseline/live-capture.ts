@@ -3,7 +3,7 @@
 // baseline. A gap drops the partial segment (the capture goes on); a settings change or the end of the stream
 // before the span is complete rejects.
 import type { Pipeline } from '../pipeline/pipeline.ts';
-import { makeWindow } from '../../dsp/windows.ts';
+import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { settingsHash } from '../core/settings.ts';
 import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
 import { defaultBands } from '../alarms/default-bands.ts';
@@ -34,7 +34,7 @@ export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapt
   if (samples < 4 * settings.segment) {
     throw new RangeError(`baseline capture: ${o.seconds} s is shorter than 4 segments (${((4 * settings.segment) / settings.sampleRate).toFixed(2)} s); capture longer`);
   }
-  const bands = o.bands?.length ? o.bands : defaultBands(settings.sampleRate, settings.segment, makeWindow(settings.window, settings.segment).mainLobeHalfWidth);
+  const bands = o.bands?.length ? o.bands : defaultBands(settings.sampleRate, settings.segment, windowMainLobeHalfWidth(settings.window));
   let capture: BaselineCapture | undefined;
   let taken = 0;
   const offs: (() => void)[] = [];

@@ -15,7 +15,7 @@ import type { BaselineFile } from '../baseline/format.ts';
 import { defaultBands } from '../alarms/default-bands.ts';
 import type { DetectorStatus } from '../alarms/detectors.ts';
 import { bandBins } from '../../dsp/bands.ts';
-import { makeWindow } from '../../dsp/windows.ts';
+import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import type { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
 import type { LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
 import { LatestPacer } from '../lowfreq/latest-pacer.ts';
@@ -175,7 +175,7 @@ export class PipelineBackend implements ServerBackend {
     // Bin-by-bin comparison only with a baseline taken with the same settings (otherwise the table says so).
     const comparable = base !== undefined && firstSettingMismatch(base.settings, s.settings) === undefined;
     const rows: BandRow[] = [];
-    const half = makeWindow(s.settings.window, s.settings.segment).mainLobeHalfWidth;
+    const half = windowMainLobeHalfWidth(s.settings.window);
     const rules = this.o.detectorStatus?.();
     for (const ch of s.channels) {
       const ruled = rules?.find((r) => r.channel === ch.name)?.bands;
@@ -259,7 +259,7 @@ export class PipelineBackend implements ServerBackend {
     const name = req.name ?? `baseline-${p.counters().lastSample + 1}.json`;
     const file = `baselines/${name}`;
     this.o.data.resolve(file, 'baseline'); // refuse a bad name now (PathOutsideError → path-refused), not after the span
-    const half = makeWindow(settings.window, settings.segment).mainLobeHalfWidth;
+    const half = windowMainLobeHalfWidth(settings.window);
     const run = new BaselineCapture({
       settings,
       channels: info.channels.map((c) => ({ name: c.name, unit: c.unit })),

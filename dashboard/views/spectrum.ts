@@ -3,7 +3,7 @@
 import uPlot from 'uplot';
 import type { SpectrumContext, BandRow } from '../../agent/wire/messages.ts';
 import type { DecodedFrame } from '../../agent/wire/frame.ts';
-import { makeWindow } from '../../dsp/windows.ts';
+import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { peakBin, toneAt } from '../../dsp/tone.ts';
 import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from '../units.ts';
 import { channelColour, withAlpha } from '../colours.ts';
@@ -82,7 +82,7 @@ export class SpectrumView {
     this.thr = Array.from({ length: C }, () => new Array<number | null>(n).fill(null));
     this.floor = new Float64Array(n).fill(NaN);
     try {
-      this.lobeHalfWidth = makeWindow(ctx.settings.window, ctx.settings.segment).mainLobeHalfWidth;
+      this.lobeHalfWidth = windowMainLobeHalfWidth(ctx.settings.window);
     } catch {
       this.lobeHalfWidth = 2;
     }

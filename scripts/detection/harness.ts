@@ -18,7 +18,7 @@ import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
 import type { DetectorStatus } from '../../agent/alarms/detectors.ts';
 import { defaultBands } from '../../agent/alarms/default-bands.ts';
 import type { RulesConfig } from '../../agent/alarms/rules.ts';
-import { makeWindow } from '../../dsp/windows.ts';
+import { makeWindow, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 
 export interface Floor {
   /** White density, V/√Hz. */
@@ -137,7 +137,7 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
 export function captureQuietBaseline(bench: Bench, seconds: number, seed: number): BaselineFile {
   const g = generator(bench, { kind: 'none' }, seed, Infinity, seconds);
   const total = Math.round(seconds * bench.sampleRate);
-  const lobe = makeWindow(bench.analysis.window, bench.analysis.segment).mainLobeHalfWidth;
+  const lobe = windowMainLobeHalfWidth(bench.analysis.window);
   const cap = new BaselineCapture({
     settings: { sampleRate: bench.sampleRate, ...bench.analysis, window: makeWindow(bench.analysis.window, 64).name },
     channels: [{ name: 'ch0', unit: 'V' }],

@@ -5,7 +5,7 @@ import { InputError, UsageError } from '../usage-error.ts';
 import { PIPELINE_FLAGS } from './pipeline-flags.ts';
 import type { AnalysisSettings, DetrendMode } from '../../core/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
-import { parseWindowName, makeWindow } from '../../../dsp/windows.ts';
+import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
 import { BaselineCapture } from '../../baseline/capture.ts';
 import { writeBaseline } from '../../baseline/format.ts';
 import { defaultBands, parseBand } from '../../alarms/default-bands.ts';
@@ -52,7 +52,7 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
     if (wanted > available) {
       throw new InputError(`floorline baseline: ${file} holds ${(available / info.sampleRate).toFixed(2)} s after the start; ask for at most that with --seconds.`);
     }
-    const lobe = makeWindow(window, segment).mainLobeHalfWidth;
+    const lobe = windowMainLobeHalfWidth(window);
     for (const b of bandsGiven) {
       if (b.high > info.sampleRate / 2) throw new UsageError(`floorline baseline: --band ${b.low}:${b.high} reaches past Nyquist (${info.sampleRate / 2} Hz); lower HI.`);
     }
