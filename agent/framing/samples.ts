@@ -1,6 +1,6 @@
 // Interleaved little-endian sample payloads ↔ per-channel Float64Array counts.
 // Integer formats are two's complement; float32 is IEEE 754 binary32. Hot loops: indexed, no allocation.
-import type { SampleFormat } from './protocol.ts';
+import { bytesPerSample, formatFullScale, type SampleFormat } from './protocol.ts';
 
 // Scratch for unaligned float32 reads/writes (a Float32Array view needs 4-byte alignment).
 const scratchBytes = new Uint8Array(4);
@@ -77,9 +77,10 @@ export function encodeInterleaved(
   frames: number,
 ): number {
   const channels = data.length;
-  const bps = format === 'int16' ? 2 : format === 'int24' ? 3 : 4;
-  const lo = format === 'int16' ? -32768 : format === 'int24' ? -8388608 : -2147483648;
-  const hi = -lo - 1;
+  const bps = bytesPerSample(format);
+  // Two's complement end codes (unused for float32, whose full scale is Infinity).
+  const hi = formatFullScale(format);
+  const lo = -hi - 1;
   for (let c = 0; c < channels; c++) {
     const src = data[c];
     const stride = bps * channels;
