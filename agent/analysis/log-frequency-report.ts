@@ -7,7 +7,7 @@ import { readWavFile, type WavInfo } from '../wav/reader.ts';
 import { planLogFrequencies } from '../../dsp/logfreq/plan.ts';
 import { logFrequencyPsd } from '../../dsp/logfreq/log-frequency-psd.ts';
 import { fitCorner, type CornerFit } from '../../dsp/lowfreq/corner-fit.ts';
-import { PeakToPeakMeter, PEAK_TO_PEAK_LABELS } from '../../dsp/lowfreq/peak-to-peak.ts';
+import { PeakToPeakMeter, PEAK_TO_PEAK_LABELS, peakToPeakFigures, type PeakToPeakFigures } from '../../dsp/lowfreq/peak-to-peak.ts';
 import { formatSi } from './si.ts';
 
 export interface LogFrequencyOptions {
@@ -20,14 +20,6 @@ export interface LogFrequencyOptions {
   averages?: number;
 }
 
-export interface PeakToPeakWindow {
-  startSample: number;
-  sample: number;
-  t: number;
-  peakToPeak: number;
-  rms: number;
-  gaussianPeakToPeak: number;
-}
 
 export interface LogFrequencyChannel {
   name: string;
@@ -42,7 +34,7 @@ export interface LogFrequencyChannel {
   /** Fits over points at or below fitMaxHz; null when too few points or the fit fails. */
   corner: { fitMaxHz: number; oneOverF: CornerFit | null; freeExponent: CornerFit | null };
   /** 0.1–10 Hz figures per window; null with a reason when the file is too short or its rate too low. */
-  peakToPeak: { lowHz: number; highHz: number; windowSeconds: number; settleSeconds: number; windows: PeakToPeakWindow[] } | { skipped: string };
+  peakToPeak: { lowHz: number; highHz: number; windowSeconds: number; settleSeconds: number; windows: PeakToPeakFigures[] } | { skipped: string };
 }
 
 export interface LogFrequencyReport {
@@ -80,11 +72,11 @@ export async function analyzeLogFrequency(path: string, options: LogFrequencyOpt
     const fitInput = { frequency: est.frequency, psd: est.psd, dof };
     let peakToPeak: LogFrequencyChannel['peakToPeak'];
     try {
-      const windows: PeakToPeakWindow[] = [];
+      const windows: PeakToPeakFigures[] = [];
       const meter = new PeakToPeakMeter({
         sampleRate: fs,
         firstSample: info.firstSample,
-        onWindow: (r) => windows.push({ startSample: r.startSample, sample: r.sample, t: r.t, peakToPeak: r.peakToPeak, rms: r.rms, gaussianPeakToPeak: r.gaussianPeakToPeak }),
+        onWindow: (r) => windows.push(peakToPeakFigures(r)),
       });
       meter.push(data[c]);
       peakToPeak =

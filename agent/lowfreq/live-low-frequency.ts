@@ -5,7 +5,7 @@
 import type { GapNotice, StreamInfo } from '../core/stream.ts';
 import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 import { LogFrequencyFrameBuilder, type LogFrequencyFrame } from '../../dsp/logfreq/live-frame.ts';
-import { PeakToPeakMeter } from '../../dsp/lowfreq/peak-to-peak.ts';
+import { PeakToPeakMeter, peakToPeakFigures } from '../../dsp/lowfreq/peak-to-peak.ts';
 import { fitCorner, logChiSquareBias, logChiSquareVariance, logCornerModel, type CornerFit } from '../../dsp/lowfreq/corner-fit.ts';
 import type { CornerFitReading, LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate, PeakToPeakFigures } from '../wire/low-frequency-messages.ts';
 
@@ -227,7 +227,7 @@ export class LiveLowFrequency {
         ch.live.push(data[c], from, end);
         if (ch.meter && ch.meter.push(data[c], from, end) > 0) {
           const r = ch.meter.latest;
-          ch.peakToPeak = { startSample: r.startSample, sample: r.sample, t: r.t, peakToPeak: r.peakToPeak, rms: r.rms, gaussianPeakToPeak: r.gaussianPeakToPeak };
+          ch.peakToPeak = peakToPeakFigures(r);
         }
       }
       const lastPushed = firstSample + end - 1;

@@ -1,6 +1,7 @@
 // Payloads of the live low-frequency view (agent → dashboard): a context with what stays fixed per stream
 // (frequencies, resolution bandwidth per point) and updates stamped in sample time. Pure types (the dashboard
 // imports them). JSON carries no NaN: a point without a completed segment yet is null.
+import type { PeakToPeakFigures } from '../../dsp/lowfreq/peak-to-peak.ts';
 
 /** Sent once per stream (and again if the rate or channels change). */
 export interface LowFrequencyContext {
@@ -44,14 +45,7 @@ export interface CornerFitReading {
 }
 
 /** The newest completed 0.1–10 Hz window of one channel. */
-export interface PeakToPeakFigures {
-  startSample: number;
-  sample: number;
-  t: number;
-  peakToPeak: number;
-  rms: number;
-  gaussianPeakToPeak: number;
-}
+export type { PeakToPeakFigures };
 
 export interface LowFrequencyChannelUpdate {
   name: string;

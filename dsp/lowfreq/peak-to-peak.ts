@@ -51,6 +51,13 @@ export interface PeakToPeakReading {
   gaussianPeakToPeak: number;
 }
 
+/** The figures a report or the dashboard shows of one window: its span and the three labelled levels. */
+export type PeakToPeakFigures = Pick<PeakToPeakReading, 'startSample' | 'sample' | 't' | 'peakToPeak' | 'rms' | 'gaussianPeakToPeak'>;
+
+export function peakToPeakFigures(r: PeakToPeakReading): PeakToPeakFigures {
+  return { startSample: r.startSample, sample: r.sample, t: r.t, peakToPeak: r.peakToPeak, rms: r.rms, gaussianPeakToPeak: r.gaussianPeakToPeak };
+}
+
 export class PeakToPeakMeter {
   readonly sampleRate: number;
   readonly filter: SosFilter;
