@@ -33,7 +33,7 @@ export interface PipelineBackendOptions {
   /** The source's decoder counters (CRC errors); absent for sources without framing. */
   sourceCounters?: () => SourceCounters;
   replay?: () => ReplayState | null;
-  /** The baseline the detectors compare against (from --baseline or one captured here). */
+  /** The baseline the run started with (--baseline); one captured here takes its place. */
   baseline?: () => { file: string; baseline: BaselineFile } | null;
   /** Called with each baseline captured from the dashboard (e.g. to rebuild the detectors with it). */
   onBaselineCaptured?: (file: string, baseline: BaselineFile) => void;
@@ -120,8 +120,9 @@ export class PipelineBackend implements ServerBackend {
     return this.last;
   }
 
+  /** The newest baseline: one captured here replaces the one the run started with. */
   private currentBaseline(): { file: string; baseline: BaselineFile } | null {
-    return this.o.baseline?.() ?? this.captured;
+    return this.captured ?? this.o.baseline?.() ?? null;
   }
 
   baseline(): BaselineOverlay | null {

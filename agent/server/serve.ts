@@ -44,8 +44,6 @@ export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; reco
     }
     const r = w.replay;
     const hook = (): AlarmHook | undefined => w.detectors?.().find((d): d is AlarmHook => d instanceof AlarmHook);
-    // The baseline in use: the one given with --baseline until one is captured from the dashboard.
-    let current = w.baseline;
     const backend = new PipelineBackend({
       pipeline: w.pipeline,
       lowFrequency: new LiveLowFrequency().attach(w.pipeline),
@@ -64,11 +62,8 @@ export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; reco
             state: () => recordingState(recorder.status()),
           }
         : undefined,
-      baseline: () => current ?? null,
-      onBaselineCaptured: (file, baseline) => {
-        current = { file, baseline };
-        hook()?.useBaseline(baseline, file);
-      },
+      baseline: w.baseline ? () => w.baseline! : undefined,
+      onBaselineCaptured: (file, baseline) => hook()?.useBaseline(baseline, file),
       acknowledge: w.detectors ? (ref) => (hook()?.detectors?.acknowledge(ref.rule, ref.channel, ref.band) ?? 0) > 0 : undefined,
       detectorStatus: () => hook()?.detectors?.status(),
       mainsHz: () => hook()?.detectors?.status().find((c) => c.mains.fundamental > 0)?.mains.fundamental ?? null,
