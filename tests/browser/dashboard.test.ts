@@ -203,7 +203,11 @@ describe('dashboard against a running replay', () => {
   it('starts and stops a recording from the button, writing a WAV into the data folder', async () => {
     await page.click('#recording');
     await expect.poll(() => page.textContent('#recording'), { timeout: 10_000 }).toBe('Stop recording');
-    const file = ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).recording.file;
+    // The recorder opens its file with the first block after the start: wait for the status to name it.
+    let file: string | undefined;
+    await expect
+      .poll(async () => (file = ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).recording.file), { timeout: 10_000 })
+      .toMatch(/^recordings\/.+\.wav$/);
     await new Promise((r) => setTimeout(r, 1500));
     await page.click('#recording');
     await expect.poll(() => page.textContent('#recording'), { timeout: 10_000 }).toBe('Start recording');
