@@ -56,11 +56,29 @@ out['p2'] = p2; out['e2'] = np.sqrt(np.diag(c2)); out['p3'] = p3; out['e3'] = np
     );
     expect(fixed.converged && free.converged).toBe(true);
     const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
-    expect(rel(Math.log(fixed.whitePsd), ref.p2[0])).toBeLessThan(1e-7);
-    expect(Math.abs(Math.log(fixed.corner) - ref.p2[1])).toBeLessThan(1e-7);
-    expect(rel(Math.log(free.whitePsd), ref.p3[0])).toBeLessThan(1e-7);
-    expect(Math.abs(Math.log(free.corner) - ref.p3[1])).toBeLessThan(1e-7);
-    expect(rel(free.exponent, ref.p3[2])).toBeLessThan(1e-7);
+    // The minimum is flat: two optimisers stop at slightly different points of it depending on the machine's
+    // floating-point and BLAS paths, so a parameter-to-parameter tolerance of 1e-7 is tighter than the problem's
+    // conditioning. What is defined: each parameter lies within 1e-3 of its own standard error (curve_fit's
+    // covariance) of the reference, and the χ² objective, evaluated by numpy at both optima, agrees to 1e-9.
+    const ours2 = [Math.log(fixed.whitePsd), Math.log(fixed.corner)];
+    const ours3 = [Math.log(free.whitePsd), Math.log(free.corner), free.exponent];
+    ours2.forEach((p, i) => expect(Math.abs(p - ref.p2[i])).toBeLessThan(1e-3 * ref.e2[i]));
+    ours3.forEach((p, i) => expect(Math.abs(p - ref.p3[i])).toBeLessThan(1e-3 * ref.e3[i]));
+    const chi = runPython<{ ours2: number; ref2: number; ours3: number; ref3: number }>(
+      `
+from scipy.special import digamma, polygamma
+f, s, nu = inp['f'], inp['s'], inp['nu']
+y = np.log(s) - (digamma(nu / 2) - np.log(nu / 2))
+sig = np.sqrt(polygamma(1, nu / 2))
+lnf = np.log(f)
+m3 = lambda x, a, b, al: a + np.logaddexp(0, al * (b - x))
+chi2 = lambda p: float(np.sum(((y - m3(lnf, p[0], p[1], p[2] if len(p) > 2 else 1.0)) / sig) ** 2))
+out['ours2'] = chi2(inp['o2']); out['ref2'] = chi2(inp['r2']); out['ours3'] = chi2(inp['o3']); out['ref3'] = chi2(inp['r3'])
+`,
+      { f: pts.f, s: pts.s, nu: pts.nu, o2: ours2, r2: Array.from(ref.p2), o3: ours3, r3: Array.from(ref.p3) },
+    );
+    expect(rel(chi.ours2, chi.ref2)).toBeLessThan(1e-9);
+    expect(rel(chi.ours3, chi.ref3)).toBeLessThan(1e-9);
     // Uncertainties: ours are in e_w and f_c, curve_fit's in ln e_w² and ln f_c (σ_ew = e_w·σ_a/2, σ_fc = f_c·σ_b).
     expect(rel((2 * fixed.whiteAsdSigma) / fixed.whiteAsd, ref.e2[0])).toBeLessThan(1e-5);
     expect(rel(fixed.cornerSigma / fixed.corner, ref.e2[1])).toBeLessThan(1e-5);
