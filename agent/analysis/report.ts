@@ -1,6 +1,6 @@
 // The offline report of a whole recording: one Welch mean over every whole segment, per channel, with total and
 // band RMS. Shared by `floorline analyze` (printed as JSON, CSV or text) and, later, `floorline baseline`.
-import type { DetrendMode } from '../core/settings.ts';
+import type { DetrendMode } from '../../protocol/settings.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
