@@ -3,7 +3,8 @@
 
 export type EventKind = 'alarm' | 'info';
 export type EventState = 'raised' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'internal';
+// 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {
   kind: EventKind;

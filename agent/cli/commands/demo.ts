@@ -3,16 +3,12 @@
 import { existsSync } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { RECORDING_FLAGS, alarmDetectors, readRecordingFlags } from './pipeline-flags.ts';
+import { RECORDING_FLAGS, monitorOptionsFromFlags } from './monitor-flags.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { defaultRules } from '../../rules/rules.ts';
 import { readBaseline } from '../../baseline/format.ts';
-import { Pipeline } from '../../pipeline/pipeline.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
-import { serveDashboard } from '../../server/serve.ts';
-import type { Detector } from '../../pipeline/types.ts';
-import { startSession } from './session.ts';
+import { startMonitor } from '../../monitor/monitor.ts';
 
 /** recordings/ of the package (beside dist/ where the CLI is bundled, or beside agent/ when run from source). */
 export function bundledRecording(name: string): string {
@@ -31,9 +27,6 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   const baselinePath = bundledRecording('demo-baseline.json');
   if (!existsSync(file)) throw new InputError(`floorline demo: the demo recording ${file} is missing; reinstall, or make it with \`floorline simulate recordings/demo-scenario.json --out recordings/demo.wav\`.`);
   const baseline = existsSync(baselinePath) ? await readBaseline(baselinePath) : undefined;
-  const rec = readRecordingFlags(args);
-  // The baseline was taken with the default analysis settings, so the demo runs with them.
-  const pipeline = new Pipeline({ mode: 'lossless' });
   const loop = !(f['no-loop'] as boolean);
   const source = new ReplaySource(file, { speed, loop });
   process.stdout.write(
@@ -41,27 +34,15 @@ async function runDemo(args: ParsedArgs): Promise<number> {
       `  ${speed === 1 ? 'in real time' : `at ${speed === 'max' ? 'full' : `${speed}×`} speed`}, ${loop ? 'looping' : 'once'}, ` +
       `against ${baseline ? 'recordings/demo-baseline.json' : 'no baseline'}; Ctrl-C stops it.\n`,
   );
-  let installed: Detector[] = [];
-  const session = await startSession({
-    command: 'demo',
-    pipeline,
-    source,
-    dataDir: f.data as string,
-    record: rec.record,
-    recorder: rec.recorder,
-    statusEvery: rec.statusEvery,
-    quiet: f.quiet as boolean,
+  // The baseline was taken with the default analysis settings, so the demo runs with them (it has no analysis flags).
+  const options = await monitorOptionsFromFlags(args, 'demo', {
+    mode: 'lossless',
     frames: () => source.fileInfo?.frames,
-    detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: defaultRules() }, recorder)),
-    serve: f['no-server']
-      ? undefined
-      : serveDashboard({
-          pipeline, source, args, replay: source, replayLoop: loop, detectors: () => installed,
-          baseline: baseline ? { file: 'recordings/demo-baseline.json', baseline } : undefined,
-        }),
+    baseline: baseline ? { baseline, where: baselinePath, label: 'recordings/demo-baseline.json' } : undefined,
   });
+  const monitor = await startMonitor(source, options);
   await source.done;
-  await session.finished;
+  await monitor.finished;
   return 0;
 }
 

@@ -1,17 +1,19 @@
-// Flags shared by the commands that run the pipeline (run, replay, demo): analysis settings, averaging,
-// snapshot rate and the data folder. Parsed once here so the three commands accept the same spellings.
+// Flags shared by the commands that run a monitor (run, replay, demo): analysis settings, averaging, snapshot
+// rate, data folder, recording, alarms and the dashboard. monitorOptionsFromFlags is the one place where they
+// become a MonitorOptions, so the three commands accept the same spellings and mean the same by them.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
 import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
-import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
+import { DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { AlarmHook } from '../../rules/alarm-hook.ts';
 import { parseBand } from '../../rules/default-bands.ts';
 import { defaultRules, loadRules, type RulesConfig } from '../../rules/rules.ts';
 import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
-import type { Detector } from '../../pipeline/types.ts';
-import type { Recorder } from '../../recorder/recorder.ts';
 import { parseWindowName } from '../../../dsp/windows.ts';
+import type { MonitorOptions, PartSpec } from '../../monitor/options.ts';
+import { defaultAssetsDir, serverOptionsFromArgs } from '../../server/cli-flags.ts';
+import { serveDashboard } from '../../server/serve.ts';
+import { consolePart } from './console-part.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
   { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
@@ -135,14 +137,49 @@ export async function readAlarmFlags(args: ParsedArgs, command: string): Promise
   return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined };
 }
 
-/** The alarm detectors, asking the recorder (when there is one) for a capture on each raised alarm. */
-export function alarmDetectors(a: AlarmFlagValues, recorder: Recorder | undefined): Detector[] {
-  return [
-    new AlarmHook({
-      baseline: a.baseline,
-      baselineWhere: a.baselinePath,
-      rules: a.rules,
-      capture: recorder ? (sample, label) => recorder.capture(sample, label).file : undefined,
-    }),
-  ];
+export interface CommandWiring {
+  mode: MonitorOptions['mode'];
+  queueCapacity?: number;
+  durationSeconds?: number;
+  /** A baseline the command brings itself (demo); else --baseline when the command has it. */
+  baseline?: MonitorOptions['baseline'];
+  /** Frames in the file, for a replay's header. */
+  frames?: () => number | undefined;
+  /** Parts of this command only, attached after the terminal report and before the server. */
+  parts?: PartSpec[];
+}
+
+const has = (args: ParsedArgs, name: string): boolean => Object.hasOwn(args.flags, name);
+
+/**
+ * Turns the parsed flags of run, replay or demo into the options of one monitor. Flags a command does not
+ * declare take the defaults (demo has no analysis or alarm flags: its baseline was taken with the defaults).
+ */
+export async function monitorOptionsFromFlags(args: ParsedArgs, command: string, w: CommandWiring): Promise<MonitorOptions> {
+  const f = args.flags;
+  const pipeline = has(args, 'segment')
+    ? readPipelineFlags(args, command)
+    : { analysis: DEFAULT_ANALYSIS, averaging: DEFAULT_AVERAGING, snapshotRate: DEFAULT_SNAPSHOT_RATE, data: f.data as string };
+  const alarms: AlarmFlagValues = has(args, 'band') ? await readAlarmFlags(args, command) : { rules: defaultRules() };
+  const rec = readRecordingFlags(args);
+  const baseline = w.baseline ?? (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
+  const quiet = f.quiet as boolean;
+  const parts: PartSpec[] = [consolePart({ quiet, statusEvery: rec.statusEvery, frames: w.frames }), ...(w.parts ?? [])];
+  if (!f['no-server']) parts.push(serveDashboard(serverOptionsFromArgs(args, defaultAssetsDir())));
+  return {
+    command,
+    analysis: pipeline.analysis,
+    averaging: pipeline.averaging,
+    snapshotRate: pipeline.snapshotRate,
+    mode: w.mode,
+    queueCapacity: w.queueCapacity,
+    dataDir: pipeline.data,
+    record: rec.record,
+    recorder: rec.recorder,
+    rules: alarms.rules,
+    baseline,
+    eventsOut: alarms.eventsOut,
+    durationSeconds: w.durationSeconds,
+    parts,
+  };
 }
