@@ -6,6 +6,7 @@ import { WelchEstimator } from '../../dsp/welch.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
 import { parseWindowName } from '../../dsp/windows.ts';
 import { defaultSegment } from './segment-choice.ts';
+import { forEachFiniteRun } from '../pipeline/conditioner.ts';
 import type { Band } from './bands.ts';
 
 export interface AnalyzeOptions {
@@ -64,7 +65,7 @@ export function validateSettings(options: AnalyzeOptions): string {
   return parseWindowName(options.window);
 }
 
-export async function analyzeFile(path: string, options: AnalyzeOptions): Promise<{ report: AnalysisReport; info: WavInfo }> {
+export async function analyzeFile(path: string, options: AnalyzeOptions): Promise<{ report: AnalysisReport; info: WavInfo; excludedFrames: number }> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
   try {
@@ -87,12 +88,25 @@ export async function analyzeFile(path: string, options: AnalyzeOptions): Promis
       () => new WelchEstimator({ sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, averaging: { mode: 'mean' } }),
     );
     let done = 0;
+    let excluded = 0;
     for (let block = await reader.read(); block; block = await reader.read()) {
-      for (let c = 0; c < estimators.length; c++) estimators[c].push(block.data[c], 0, block.frames);
+      const data = block.data;
+      const at = done;
+      excluded += forEachFiniteRun(data, 0, block.frames, (from, to, finite) => {
+        // A fault is excluded like a gap: the partial segment is dropped and the next one starts after it.
+        if (!finite) for (const e of estimators) e.reset(at + to);
+        else for (let c = 0; c < estimators.length; c++) estimators[c].push(data[c], from, to);
+      });
       done += block.frames;
       options.onProgress?.(done, info.frames);
     }
     const first = estimators[0];
+    if (first.segmentsUsed === 0) {
+      throw new AnalysisInputError(
+        `${path}: no whole segment of ${segment} finite samples (${excluded} frames hold NaN, ±Inf or values beyond float32 and are excluded); ` +
+          `give a smaller --segment or a recording with finite samples.`,
+      );
+    }
     const settings: ReportSettings = {
       segment,
       window: first.window.name,
@@ -118,7 +132,7 @@ export async function analyzeFile(path: string, options: AnalyzeOptions): Promis
         bands: options.bands.map((b, i) => ({ low: b.low, high: b.high, rms: bandRmsInBins(psd, first.binHz, ranges[i].first, ranges[i].last) })),
       };
     });
-    return { report: { file: path, sampleRate: info.sampleRate, samples: done, settings, channels }, info };
+    return { report: { file: path, sampleRate: info.sampleRate, samples: done, settings, channels }, info, excludedFrames: excluded };
   } finally {
     await reader.close();
   }

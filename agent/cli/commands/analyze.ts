@@ -72,6 +72,9 @@ export const analyzeCommand: CommandSpec = {
     }
     const { report, info } = result;
     for (const w of info.warnings) process.stderr.write(`floorline analyze: warning: ${w}\n`);
+    if (result.excludedFrames > 0) {
+      process.stderr.write(`floorline analyze: warning: ${result.excludedFrames} frames hold NaN, ±Inf or values beyond float32; they are excluded like a gap\n`);
+    }
     if (args.flags.json) process.stdout.write(reportToJson(report) + '\n');
     else if (args.flags.csv) process.stdout.write(formatCsv(report));
     else process.stdout.write(formatTextSummary(report));
