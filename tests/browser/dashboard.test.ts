@@ -76,9 +76,9 @@ describe('dashboard against a running replay', () => {
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-replay.png') });
     expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*fault\.wav/);
     expect(await page.isVisible('#replay-banner')).toBe(true);
-    // Channel colours #0b6e99 and #c2410c (dashboard/colours.ts): thousands of trace pixels each, none before data.
-    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
-    expect(await tracePixels(page, [0xc2, 0x41, 0x0c])).toBeGreaterThan(300);
+    // Channel colours #0072b2 and #d55e00 (dashboard/colours.ts): thousands of trace pixels each, none before data.
+    expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0xd5, 0x5e, 0x00])).toBeGreaterThan(300);
     expect(await page.textContent('#spectral-context')).toMatch(/hann window · ENBW 1\.500 bins/); // Hann NENBW = 1.5 bins (Harris 1978, Table 1)
     const health = await page.textContent('#health');
     expect(health).toMatch(/8\u2009000 S\/s/);
@@ -233,7 +233,7 @@ describe('alarms and restarts', () => {
     const a = await agent(['demo', '--speed', '4', '--http-port', '0', '--data', join(dir, 'data-demo')]);
     const page = await openDashboard(a.url);
     expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*demo\.wav .* at 4×, looping/);
-    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
     // Rows are newest first: the last matching row is the first raise.
     const mains = page.locator('#events tbody tr[data-rule="mains"][data-state="raised"][data-channel="bridge"]').last();
     await mains.waitFor({ state: 'attached', timeout: 30_000 });
@@ -282,7 +282,7 @@ describe('alarms and restarts', () => {
     const second = await agent(args);
     await waitUntil(page, `document.body.dataset.link === 'up'`, 15_000);
     await expect.poll(() => applied(page), { timeout: 15_000 }).toBeGreaterThan(before + 3);
-    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
     await page.close();
     await second.stop();
   });
