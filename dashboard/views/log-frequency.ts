@@ -186,6 +186,7 @@ export class LogFrequencyView {
       if (!this.plot) return;
       const hasData = this.data.slice(1).some((s) => s.some((v) => v !== null));
       this.plot.setData(this.data as uPlot.AlignedData, !this.scaled);
+      if (this.scaled) this.plot.redraw(); // with scales kept, setData does not draw by itself
       if (hasData) this.scaled = true;
     });
   }

@@ -22,6 +22,18 @@ const MAX_HARMONICS = 40;
 /** Harmonic markers closer than this on screen are skipped, so high orders never merge into a hatch. */
 const MIN_MARKER_SPACING_PX = 14;
 
+/** Ticks at 1, 2 and 5 × each decade inside [min, max]: the range ends at Nyquist, not on a decade. */
+function logTicks(min: number, max: number): number[] {
+  const out: number[] = [];
+  for (let d = Math.floor(Math.log10(min)); d <= Math.ceil(Math.log10(max)); d++) {
+    for (const m of [1, 2, 5]) {
+      const f = m * 10 ** d;
+      if (f >= min * 0.999 && f <= max * 1.001) out.push(f);
+    }
+  }
+  return out;
+}
+
 /** From the window, not the element: sizing from the element's own height would feed back through the chart. */
 function chartHeight(): number {
   return Math.round(Math.min(480, Math.max(280, window.innerHeight * 0.42)));
@@ -249,7 +261,8 @@ export class SpectrumView {
   flushDraw(): void {
     if (!this.drawPending || !this.plot) return;
     this.drawPending = false;
-    this.plot.setData(this.data, false);
+    this.plot.setData(this.data, false); // uPlot's own way to keep scales: new data, then an explicit redraw
+    this.plot.redraw();
     if (this.followY && this.plot.scales.x.min === this.x[0] && this.plot.scales.x.max === this.x[this.x.length - 1]) {
       const [min, max] = this.yRange();
       this.plot.setScale('y', { min, max });
@@ -292,7 +305,7 @@ export class SpectrumView {
         y: { ...(log ? { distr: 3, log: 10 } : { distr: 1 }), auto: false, range: () => this.yRange() },
       },
       axes: [
-        { label: 'Frequency, Hz', values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${v / 1000}k` : `${v}`)), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+        { label: 'Frequency, Hz', splits: (_u, _i, min, max) => logTicks(min, max), values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${short(v / 1000)}k` : short(v))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
         { label, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : log ? si(v, '', 2) : v.toFixed(0))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
       ],
       series,
@@ -328,9 +341,10 @@ export class SpectrumView {
       c.fillRect(x0, top, x1 - x0, height);
       const label = `${short(b.low)}–${short(b.high)} Hz`;
       c.font = `${Math.round(10 * devicePixelRatio)}px system-ui, sans-serif`;
+      // One label row per band, so bands that start together (a wide band over narrow ones) stay readable.
       if (c.measureText(label).width + 6 * devicePixelRatio < x1 - x0) {
         c.fillStyle = '#5b6670';
-        c.fillText(label, x0 + 3 * devicePixelRatio, top + 12 * devicePixelRatio);
+        c.fillText(label, x0 + 3 * devicePixelRatio, top + (12 + 12 * (shade - 1)) * devicePixelRatio);
       }
     }
     const mains = this.ctx?.mainsHz;

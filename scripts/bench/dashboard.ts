@@ -71,7 +71,7 @@ async function browserBench(): Promise<void> {
         out.full.push(performance.now() - t0);
         await tick();
         t0 = performance.now();
-        v.plot.setData(v.data, false);
+        v.plot.setData(v.data, false); v.plot.redraw();
         await new Promise((r) => queueMicrotask(r));
         out.chart.push(performance.now() - t0);
         await tick();
