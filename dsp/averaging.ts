@@ -1,7 +1,14 @@
 // Averaging of per-segment periodograms for the streaming Welch estimator.
 // Every averager takes raw |X[k]|² rows (add) and writes their average (read); scaling is the caller's.
 // Constructors allocate; add/read allocate nothing.
-import type { AveragingSpec } from '../agent/core/settings.ts';
+
+/** How segment periodograms are averaged into one estimate (shared by the pipeline, baselines and the wire). */
+export type AveragingSpec =
+  | { mode: 'mean' }
+  | { mode: 'rolling'; count: number }
+  | { mode: 'exponential'; tauSeconds: number }
+  | { mode: 'max' }
+  | { mode: 'median'; count: number };
 
 export interface Averager {
   /** Segments contributing to the current estimate. */

@@ -3,7 +3,7 @@
 // conj(X)·Y scaled 1/(fs·Σw²), bins 1..N/2−1 doubled (one-sided, even N), and coherence |Pxy|²/(Pxx·Pyy) with Pxx,
 // Pyy the mean auto-spectra of the same segments (Carter, Knapp & Nuttall 1973). Always a mean: scipy's coherence
 // has no median. Segments start at the first sample pushed and advance by step = N − floor(overlap·N).
-import type { DetrendMode } from '../agent/core/settings.ts';
+import type { DetrendMode } from './detrend.ts';
 import { SegmentConditioner } from './detrend.ts';
 import { RealFft } from './rfft.ts';
 import { makeWindow } from './windows.ts';

@@ -3,9 +3,8 @@
 // Nyquist bin (segment lengths here are even) not doubled; segments start at sample 0 of the stream (or
 // firstSample) and advance by step = segment − noverlap with noverlap = floor(overlap·segment), as scipy's
 // integer noverlap; samples that do not yet fill a segment wait for more data.
-import type { AveragingSpec, DetrendMode } from '../agent/core/settings.ts';
-import { MeanAverager, makeAverager, validateAveraging, type Averager } from './averaging.ts';
-import { SegmentConditioner, validateDetrend } from './detrend.ts';
+import { MeanAverager, makeAverager, validateAveraging, type Averager, type AveragingSpec } from './averaging.ts';
+import { SegmentConditioner, validateDetrend, type DetrendMode } from './detrend.ts';
 import { RealFftPower } from './real-fft-power.ts';
 import { makeWindow, type WindowInfo } from './windows.ts';
 

@@ -1,11 +1,11 @@
-// Offline line list: the live spur and mains finder (dsp/alarms SpurFinder, MainsClassifier and the same
+// Offline line list: the live spur and mains finder (dsp/detection SpurFinder, MainsClassifier and the same
 // threshold, lineThresholdRatio with the default rules) run once on a report's spectrum, so `analyze --lines`
 // names the lines the live rules would see in the same samples. Amplitude is floor-subtracted RMS over the lobe.
-import { MainsClassifier } from '../../dsp/alarms/mains.ts';
-import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
-import { conservativeAverages, lineThresholdRatio } from '../../dsp/alarms/threshold.ts';
-import { defaultRules, type RulesConfig } from '../alarms/rules.ts';
-import { MAX_TRACKED_LINES } from '../alarms/spur-detector.ts';
+import { MainsClassifier } from '../../dsp/detection/mains.ts';
+import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
+import { conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
+import { defaultRules, type RulesConfig } from '../rules/rules.ts';
+import { MAX_TRACKED_LINES } from '../rules/spur-detector.ts';
 
 export interface ReportLine {
   frequency: number;

@@ -2,7 +2,7 @@
 // bias-corrected as scipy.signal.welch(average='median')), total and band RMS, and on request the line list,
 // cumulative RMS, a limit-mask verdict, noise figure and cross-channel coherence. Clipped samples are counted;
 // segments that touch one can be left out. Shared by `floorline analyze` (printed as JSON, CSV or text).
-import type { DetrendMode } from '../core/settings.ts';
+import type { DetrendMode } from '../../protocol/settings.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
 import { WholeMedianAverager } from '../../dsp/averaging.ts';
 import { CrossSpectrum } from '../../dsp/cross-spectrum.ts';
@@ -10,7 +10,7 @@ import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
 import { judgeMask, maskOnBins, type MaskVerdict } from '../../dsp/measure/limit-mask.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
-import { defaultBands } from '../alarms/default-bands.ts';
+import { defaultBands } from '../rules/default-bands.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
 import { channelFullScale, ClipScan } from './clip-scan.ts';
 import { AnalysisInputError } from './input-error.ts';

@@ -2,7 +2,7 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
 import { createProgress } from '../progress.ts';
-import type { DetrendMode } from '../../core/settings.ts';
+import type { DetrendMode } from '../../../protocol/settings.ts';
 import { analyzeFile, reportToJson, validateSettings, type AnalyzeOptions, type AverageMode, type ClipSummary } from '../../analysis/report.ts';
 import { parseBand } from '../../analysis/bands.ts';
 import { csvChunks } from '../../analysis/csv.ts';
