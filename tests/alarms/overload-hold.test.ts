@@ -4,7 +4,7 @@ import { spawnSync } from 'node:child_process';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { DEFAULT_BENCH, captureQuietBaseline, runScenario, type Bench } from '../../scripts/detection/harness.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
-import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/alarms/contamination.ts';
+import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/detection/contamination.ts';
 
 const TAU = 2;
 // 1 V full scale and an exponential average of τ = 2 s keep the run short; 4 kS/s, 1024-point Hann at 50 %.

@@ -1,7 +1,7 @@
 // Payloads of the live low-frequency view (agent → dashboard): a context with what stays fixed per stream
 // (frequencies, resolution bandwidth per point) and updates stamped in sample time. Pure types (the dashboard
 // imports them). JSON carries no NaN: a point without a completed segment yet is null.
-import type { PeakToPeakFigures } from '../../dsp/lowfreq/peak-to-peak.ts';
+import type { PeakToPeakFigures } from '../dsp/flicker/peak-to-peak.ts';
 
 /** Sent once per stream (and again if the rate or channels change). */
 export interface LowFrequencyContext {

@@ -1,6 +1,6 @@
 // What the detectors consume: the pipeline's spectrum snapshot (DEVELOPERS.md "Pipeline"), stated structurally so
 // any object with these fields is accepted.
-import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
+import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
 
 export interface SnapshotChannel {
   name: string;

@@ -3,8 +3,8 @@
 // observation window (default 10 s) once the filter has settled. Three figures, each labelled: the true
 // max − min, the RMS, and 6.6 × σ, the Gaussian-equivalent peak-to-peak (±3.3σ holds 99.9 % of a Gaussian's
 // samples, erf(3.3/√2) = 0.99903; common practice).
-import { butterworthSos, cascadeSos, settleSamples, type SosFilter } from './butterworth.ts';
-import { SosCascade } from './sos-filter.ts';
+import { butterworthSos, cascadeSos, settleSamples, type SosFilter } from '../filters/butterworth.ts';
+import { SosCascade } from '../filters/sos-filter.ts';
 
 export const PEAK_TO_PEAK_LABELS = {
   peakToPeak: 'peak-to-peak (max − min)',

@@ -2,9 +2,9 @@
 // analysis settings and channels, so callers need not know them in advance. A baseline taken with other settings
 // is refused then (InputError naming the setting). If the analysis is reconfigured later in a live run, the set is
 // rebuilt; when the baseline no longer matches, the comparison rules stop and an info event says why.
-import type { FloorlineEvent } from '../core/events.ts';
-import { firstSettingMismatch } from '../core/settings.ts';
-import type { GapNotice, LinkNotice, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import { firstSettingMismatch } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice, StreamInfo } from '../../protocol/stream.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import type { ClipNotice, Detector, OverrunNotice, SpectrumSnapshot } from '../pipeline/types.ts';
 import { Detectors } from './detectors.ts';

@@ -1,14 +1,9 @@
 // Analysis settings shared by the live pipeline, analyze, baselines and the dashboard.
-// Pure TypeScript: the dashboard imports it too.
+// Pure TypeScript: the dashboard imports it too. The averaging and detrend vocabularies belong to dsp/.
+import type { AveragingSpec } from '../dsp/averaging.ts';
+import type { DetrendMode } from '../dsp/detrend.ts';
 
-export type DetrendMode = 'none' | 'mean' | 'linear';
-
-export type AveragingSpec =
-  | { mode: 'mean' }
-  | { mode: 'rolling'; count: number }
-  | { mode: 'exponential'; tauSeconds: number }
-  | { mode: 'max' }
-  | { mode: 'median'; count: number };
+export type { AveragingSpec, DetrendMode };
 
 export interface AnalysisSettings {
   sampleRate: number;

@@ -1,8 +1,8 @@
 // Validation of every client → agent message. The server trusts nothing it did not check here:
 // unknown fields are refused too, so a typo never silently does nothing.
-import type { EventRule } from '../core/events.ts';
-import type { AveragingSpec } from '../core/settings.ts';
-import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from './messages.ts';
+import type { EventRule } from '../../protocol/events.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from '../../protocol/messages.ts';
 
 export type ParseResult =
   | { ok: true; message: ClientMessage }

@@ -1,7 +1,7 @@
 // Default band rules: decade bands inside the usable range plus the whole usable band. The usable range starts past
 // the DC lobe (the window's main-lobe half-width plus one bin: below it detrending and leakage from DC dominate) and
 // ends one bin below Nyquist (DC and Nyquist bins carry half the degrees of freedom of the others).
-import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
+import type { BandSpec } from '../../dsp/detection/band-compare.ts';
 
 export function usableRange(sampleRate: number, segment: number, mainLobeHalfWidth: number): BandSpec {
   const binHz = sampleRate / segment;

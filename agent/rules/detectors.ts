@@ -1,20 +1,20 @@
 // The detector set the pipeline plugs in: band rise and spur/mains rules per channel (against a baseline), and
 // stream health. Narrow interface: onSnapshot/onGap/onLink/onClip/onOverrun each return the events to emit, in
 // sample order; decisions use sample time only, so a replay at any speed yields the same events.
-import type { AlarmState } from '../../dsp/alarms/alarm-state.ts';
-import { binPowerCorrelation } from '../../dsp/alarms/threshold.ts';
+import type { AlarmState } from '../../dsp/detection/alarm-state.ts';
+import { binPowerCorrelation } from '../../dsp/detection/threshold.ts';
 import { makeWindow } from '../../dsp/windows.ts';
-import type { EventRule, FloorlineEvent } from '../core/events.ts';
-import { firstSettingMismatch, type AnalysisSettings } from '../core/settings.ts';
-import type { GapNotice, LinkNotice } from '../core/stream.ts';
+import type { EventRule, FloorlineEvent } from '../../protocol/events.ts';
+import { firstSettingMismatch, type AnalysisSettings } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
 import { InputError } from '../cli/usage-error.ts';
 import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
 import { BandDetector } from './band-detector.ts';
 import { defaultBands } from './default-bands.ts';
 import { HealthDetector } from './health-detector.ts';
 import { MAX_SKIRT_BINS, SpurDetector } from './spur-detector.ts';
-import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
-import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/alarms/contamination.ts';
+import { leakageEnvelope } from '../../dsp/detection/leakage.ts';
+import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/detection/contamination.ts';
 import type { RulesConfig } from './rules.ts';
 import type { CaptureRequester, SnapshotLike } from './types.ts';
 import type { ClipNotice, OverrunNotice } from '../pipeline/types.ts';
@@ -146,7 +146,7 @@ export class Detectors {
 
   /**
    * Overload hold: while a channel's clip alarm is raised, and after it until the newest segment holding clipped
-   * samples weighs less than CONTAMINATION_HOLD_WEIGHT (1 %) of what it entered with (dsp/alarms/contamination.ts),
+   * samples weighs less than CONTAMINATION_HOLD_WEIGHT (1 %) of what it entered with (dsp/detection/contamination.ts),
    * new spectral alarms on that channel are held: the clipped segments spread the overload's harmonics and
    * intermodulation over the spectrum. Returns the overload's first clipped sample while held, else −1.
    */

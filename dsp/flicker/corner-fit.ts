@@ -4,8 +4,8 @@
 // (the log-chi-square moments; e.g. Percival & Walden 1993, "Spectral Analysis for Physical Applications",
 // section on the log spectrum). Levenberg–Marquardt on the parameters a = ln e_w², b = ln f_c, α; the
 // uncertainties come from the inverse normal matrix with these known variances (absolute sigma).
-import { digamma, trigamma } from './polygamma.ts';
-import { invertSmall, solveSmall } from './small-linear.ts';
+import { digamma, trigamma } from '../special/polygamma.ts';
+import { invertSmall, solveSmall } from '../linalg/small-linear.ts';
 
 export interface CornerFitInput {
   frequency: ArrayLike<number>;

@@ -1,8 +1,8 @@
 // Every message between the agent and the dashboard, as one discriminated union per direction (on `type`).
 // Pure types plus a few constants: the dashboard bundle imports this module, so no Node or DOM here.
-import type { FloorlineEvent, EventRule } from '../core/events.ts';
-import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
-import type { StreamInfo, SourceKind } from '../core/stream.ts';
+import type { FloorlineEvent, EventRule } from './events.ts';
+import type { AnalysisSettings, AveragingSpec } from './settings.ts';
+import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */

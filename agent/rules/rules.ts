@@ -1,9 +1,9 @@
 // Rule configuration: margins, probabilities and timings (given in seconds of sample time, used in samples),
 // from defaults, a JSON config file and --band flags. Every field is validated with a message naming it.
 import { readFile } from 'node:fs/promises';
-import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
-import type { AlarmTiming } from '../../dsp/alarms/alarm-state.ts';
-import type { MainsSetting } from '../../dsp/alarms/mains.ts';
+import type { BandSpec } from '../../dsp/detection/band-compare.ts';
+import type { AlarmTiming } from '../../dsp/detection/alarm-state.ts';
+import type { MainsSetting } from '../../dsp/detection/mains.ts';
 import { InputError } from '../cli/usage-error.ts';
 import { parseBand } from './default-bands.ts';
 

@@ -1,7 +1,7 @@
 // Band rise rule for one channel: live band power over the baseline's, against max(margin, F bound).
-import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
-import { BandCompare, type BandSpec } from '../../dsp/alarms/band-compare.ts';
-import type { FloorlineEvent } from '../core/events.ts';
+import { AlarmState, AlarmTransition } from '../../dsp/detection/alarm-state.ts';
+import { BandCompare, type BandSpec } from '../../dsp/detection/band-compare.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import { makeEvent, round } from './event-factory.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
 

@@ -6,7 +6,7 @@
 //   rolling / median over K: w = 1 while it is among the last K segments, 0 once n ≥ K;
 //   max hold: w = 1 until the average restarts.
 // An average restarted after it (a replay loop seam, a reconfiguration) holds n ≥ N newer segments only: w = 0.
-import type { AveragingSpec } from '../../agent/core/settings.ts';
+import type { AveragingSpec } from '../averaging.ts';
 
 /** Spectral alarms on a channel stay held while the contaminated weight exceeds this (−20 dB). */
 export const CONTAMINATION_HOLD_WEIGHT = 0.01;

@@ -1,8 +1,8 @@
 // Health alarms of the stream: clip (samples within 0.1 % of full scale, found by the conditioner), gap (lost
 // samples), link (board lost/back) and analysis overrun (whole blocks dropped). A gap is raised when reported and
 // cleared by the next spectrum after it; clip and overrun clear after a hold time without new occurrences.
-import type { FloorlineEvent } from '../core/events.ts';
-import type { GapNotice, LinkNotice } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
 import { makeEvent } from './event-factory.ts';
 
 export class HealthDetector {

@@ -1,5 +1,5 @@
 // Builds FloorlineEvent records with the sample-time stamp every event carries.
-import type { EventKind, EventRule, EventState, FloorlineEvent } from '../core/events.ts';
+import type { EventKind, EventRule, EventState, FloorlineEvent } from '../../protocol/events.ts';
 
 export function makeEvent(
   rule: EventRule,

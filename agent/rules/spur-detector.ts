@@ -1,14 +1,14 @@
 // New narrowband lines on one channel: lines above the local floor by max(margin, χ² bound) that also stand that far
 // above the baseline's density at the same bin (so lines already in the baseline are not reported). Each line is
 // tracked by bin with its own alarm state; lines at k × mains are reported under the mains rule.
-import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
-import { MainsClassifier } from '../../dsp/alarms/mains.ts';
-import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
-import { chi2MeanMedian, chi2MeanUpperQuantile, conservativeAverages } from '../../dsp/alarms/threshold.ts';
-import type { FloorlineEvent } from '../core/events.ts';
+import { AlarmState, AlarmTransition } from '../../dsp/detection/alarm-state.ts';
+import { MainsClassifier } from '../../dsp/detection/mains.ts';
+import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
+import { conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import { makeEvent, round } from './event-factory.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
-import type { AlarmTiming } from '../../dsp/alarms/alarm-state.ts';
+import type { AlarmTiming } from '../../dsp/detection/alarm-state.ts';
 
 interface TrackedLine {
   bin: number;
@@ -72,9 +72,7 @@ export class SpurDetector {
   thresholdRatio(liveK: number): number {
     const k = conservativeAverages(liveK);
     if (k !== this.cachedK) {
-      const nu = 2 * k;
-      const stat = chi2MeanUpperQuantile(this.rules.spur.alpha / this.finder.bins, nu) / chi2MeanMedian(nu);
-      this.ratio = Math.max(this.marginRatio, stat);
+      this.ratio = lineThresholdRatio(k, this.rules.spur.alpha, this.finder.bins, this.marginRatio);
       this.cachedK = k;
     }
     return this.ratio;
@@ -146,7 +144,7 @@ export class SpurDetector {
 
   /**
    * Flags the line's main lobe and its leakage skirt: every bin d away where the line's worst-case leakage
-   * (peak · L(d), dsp/alarms/leakage.ts) exceeds a tenth of the reference floor (baseline, else local floor), up to
+   * (peak · L(d), dsp/detection/leakage.ts) exceeds a tenth of the reference floor (baseline, else local floor), up to
    * MAX_SKIRT_BINS either side. A strong line's sidelobes (Hann: −31 dB, falling 18 dB/octave) would otherwise
    * read as a floor rise in its band.
    */
