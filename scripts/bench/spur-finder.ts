@@ -3,8 +3,8 @@
 // in use, the plain scan it replaced (every bin against its ±L neighbours), and the floor taken everywhere by the
 // incremental sorted-window median (RunningMedian.apply) before the maxima test — the "whole running median" route.
 // Alternating rounds, medians. Every variant must report the same lines (checked before timing).
-import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
-import { RunningMedian } from '../../dsp/alarms/running-median.ts';
+import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
+import { RunningMedian } from '../../dsp/detection/running-median.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { PlainScanSpurFinder } from '../../tests/alarms/plain-scan-spur-finder.ts';

@@ -1,7 +1,7 @@
 // SpurFinder's maxima scan as it was before the one-pass scan: every bin tested against its ±L neighbours, then the
 // lower bound on the median taken with comparisons. Kept frozen as the oracle the faster scan must match bit for
 // bit, and as the benchmark's reference. What follows a surviving maximum (median, lobe sum, slots) is shared.
-import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
+import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
 
 export class PlainScanSpurFinder extends SpurFinder {
   override find(psd: Float64Array, ratio: number): number {

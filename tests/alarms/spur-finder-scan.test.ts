@@ -3,7 +3,7 @@
 // flat runs, a small line capacity and NaN bins. The plain scan itself is checked against scipy in
 // spur-finder.test.ts; this file proves the faster scan changes nothing.
 import { describe, expect, it } from 'vitest';
-import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
+import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { PlainScanSpurFinder } from './plain-scan-spur-finder.ts';
 
