@@ -287,6 +287,9 @@ export async function analyzeFile(
         const perBand = bands.map((b, i) => ({ low: b.low, high: b.high, ...judgeMask(asd, limits, first.frequencies, Math.max(1, ranges[i].first), ranges[i].last) }));
         out.mask = { ...whole, bands: perBand };
       }
+      if (options.source && ch.unit !== 'V') {
+        throw new AnalysisInputError(`--source-ohms: channel ${ch.name} is in ${ch.unit}, but a noise figure compares volts with Johnson noise; give --scale or --unit V for a volts recording.`);
+      }
       if (options.source) out.noiseFigure = bandNoiseFigures(psd, first.binHz, bands, ranges, options.source);
       return out;
     });
