@@ -4,7 +4,7 @@
 import { AlarmState, AlarmTransition } from '../../dsp/detection/alarm-state.ts';
 import { MainsClassifier } from '../../dsp/detection/mains.ts';
 import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
-import { chi2MeanMedian, chi2MeanUpperQuantile, conservativeAverages } from '../../dsp/detection/threshold.ts';
+import { conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { makeEvent, round } from './event-factory.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
@@ -72,9 +72,7 @@ export class SpurDetector {
   thresholdRatio(liveK: number): number {
     const k = conservativeAverages(liveK);
     if (k !== this.cachedK) {
-      const nu = 2 * k;
-      const stat = chi2MeanUpperQuantile(this.rules.spur.alpha / this.finder.bins, nu) / chi2MeanMedian(nu);
-      this.ratio = Math.max(this.marginRatio, stat);
+      this.ratio = lineThresholdRatio(k, this.rules.spur.alpha, this.finder.bins, this.marginRatio);
       this.cachedK = k;
     }
     return this.ratio;
