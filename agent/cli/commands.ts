@@ -8,5 +8,6 @@ import { repairCommand } from './commands/repair.ts';
 import { simulateCommand } from './commands/simulate.ts';
 import { portsCommand } from './commands/ports.ts';
 import { baselineCommand } from './commands/baseline.ts';
+import { configCommand } from './commands/config.ts';
 
-export const commands: CommandSpec[] = [demoCommand, runCommand, replayCommand, analyzeCommand, repairCommand, simulateCommand, portsCommand, baselineCommand];
+export const commands: CommandSpec[] = [demoCommand, runCommand, replayCommand, analyzeCommand, repairCommand, simulateCommand, portsCommand, baselineCommand, configCommand];
