@@ -3,7 +3,7 @@
 
 export type EventKind = 'alarm' | 'info';
 export type EventState = 'raised' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention';
 
 export interface FloorlineEvent {
   kind: EventKind;

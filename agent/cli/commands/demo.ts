@@ -55,6 +55,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   let installed: Detector[] = [];
   const session = await startSession({
     command: 'demo',
+    notify: rig?.config.notify,
     pipeline,
     source: fed,
     dataDir: f.data as string,

@@ -47,6 +47,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   try {
     session = await startSession({
       command: 'replay',
+    notify: rig?.config.notify,
       pipeline,
       source: fed,
       dataDir: flags.data,

@@ -46,6 +46,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
   let installed: Detector[] = [];
   const session = await startSession({
     command: 'run',
+    notify: rig?.config.notify,
     pipeline,
     source,
     dataDir: flags.data,
