@@ -13,6 +13,7 @@ import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import { startSession } from './session.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 /** recordings/ of the package (beside dist/ where the CLI is bundled, or beside agent/ when run from source). */
 export function bundledRecording(name: string): string {
@@ -53,6 +54,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     quiet: f.quiet as boolean,
     frames: () => source.fileInfo?.frames,
     detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: defaultRules() }, recorder)),
+    history: withSource(historyFromArgs(args, 'demo', f.data as string), file),
     serve: f['no-server']
       ? undefined
       : serveDashboard({
@@ -78,6 +80,7 @@ export const demoCommand: CommandSpec = {
     { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
     ...RECORDING_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runDemo,
 };

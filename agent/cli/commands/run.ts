@@ -9,6 +9,7 @@ import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import { startSession } from './session.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 async function runLive(args: ParsedArgs): Promise<number> {
   const f = args.flags;
@@ -50,6 +51,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
     quiet,
     detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
     eventsOut: alarms.eventsOut,
+    history: withSource(historyFromArgs(args, 'run', flags.data), port, alarms.rules.band.bands),
     serve: f['no-server']
       ? undefined
       : serveDashboard({
@@ -93,6 +95,7 @@ export const runCommand: CommandSpec = {
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runLive,
 };
