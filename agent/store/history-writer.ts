@@ -79,6 +79,7 @@ export class HistoryWriter {
       seriesIds: db.prepare('SELECT id FROM series'),
       maxK: (l: Level) => db.prepare(`SELECT max(k) AS k FROM trend_${l} WHERE run = ?`),
       prune: (l: Level) => db.prepare(`DELETE FROM trend_${l} WHERE series = ? AND run = ? AND k < ?`),
+      pruneSnap: db.prepare('DELETE FROM trend_snap WHERE run = ? AND k < ?'),
     };
     this.repairRollups();
   }
@@ -216,7 +217,8 @@ export class HistoryWriter {
             const sample = r.first_sample + ((cutoffMs - r.start_wall_ms) / 1000) * r.sample_rate;
             const k = Math.floor(sample / len);
             if (k <= 0) continue;
-            for (const s of series) prune.run(s, r.id, k);
+            if (l === 'snap') this.stmt.pruneSnap.run(r.id, k);
+            else for (const s of series) prune.run(s, r.id, k);
           }
         }
       })();

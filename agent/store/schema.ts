@@ -9,6 +9,9 @@ export const APPLICATION_ID = 0x464c524c;
 export const LEVELS = ['snap', '1s', '1m', '1h'] as const;
 export type Level = (typeof LEVELS)[number];
 
+// The snapshot level is keyed by time first: its rows arrive 10 a second for every series and are kept minutes,
+// so appending in key order matters more than reading one series (its table stays small). Coarser levels are
+// keyed by series first, so a long query of one series is one range scan.
 const trendTable = (level: Level): string => `
 CREATE TABLE trend_${level} (
   series INTEGER NOT NULL REFERENCES series(id),
@@ -18,7 +21,7 @@ CREATE TABLE trend_${level} (
   power REAL NOT NULL,         -- mean power over them (unit², or unit²/Hz for floorDensity)
   min REAL NOT NULL,           -- smallest RMS (or density) of one of them
   max REAL NOT NULL,           -- largest
-  PRIMARY KEY (series, run, k)
+  PRIMARY KEY ${level === 'snap' ? '(run, k, series)' : '(series, run, k)'}
 ) WITHOUT ROWID;`;
 
 const VERSION_1 = `
