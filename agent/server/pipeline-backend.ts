@@ -152,7 +152,7 @@ export class PipelineBackend implements ServerBackend {
 
   /** One row per alarm: per band for band rules, per line (harmonic or 0.1 Hz) for mains and spur, else per channel. */
   private trackAlarm(e: FloorlineEvent): void {
-    if (e.kind !== 'alarm') return;
+    if (e.kind !== 'alarm' || e.state === 'settled') return; // settled restates a raised alarm's level
     const line = e.rule === 'mains' ? `h${e.harmonic ?? ''}` : e.rule === 'spur' && e.frequency !== undefined ? e.frequency.toFixed(1) : '';
     const key = `${e.rule}|${e.channel}|${e.band ? e.band.join('-') : ''}|${line}`;
     const prev = this.alarmRows.get(key);
