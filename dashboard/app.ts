@@ -1,8 +1,8 @@
 // The dashboard application: routes agent messages to the views. `onJson` and `onBinary` are the only inputs,
 // so the benchmark drives exactly the path live data takes.
-import type { ServerMessage, AgentStatus, SpectrumContext } from '../agent/wire/messages.ts';
-import type { FloorlineEvent } from '../agent/core/events.ts';
-import { decodeFrame, type DecodedFrame } from '../agent/wire/frame.ts';
+import type { ServerMessage, AgentStatus, SpectrumContext } from '../protocol/messages.ts';
+import type { FloorlineEvent } from '../protocol/events.ts';
+import { decodeFrame, type DecodedFrame } from '../protocol/frame.ts';
 import { Link } from './connection.ts';
 import { SpectrumView } from './views/spectrum.ts';
 import { WaterfallView } from './views/waterfall.ts';

@@ -4,8 +4,8 @@
 // says so, analysis carries on. Every open file is flushed (samples written, header sizes patched) every
 // flushMs of wall time, so a crash loses at most that much.
 import { join, relative } from 'node:path';
-import type { FloorlineEvent } from '../core/events.ts';
-import type { StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import type { DataFolder } from '../config/data-folder.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { CalibratedBlock } from '../pipeline/types.ts';

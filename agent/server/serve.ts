@@ -3,18 +3,18 @@
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import type { ParsedArgs } from '../cli/args.ts';
-import type { Source } from '../core/stream.ts';
+import type { Source } from '../../protocol/stream.ts';
 import type { DataFolder } from '../config/data-folder.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { Recorder } from '../recorder/recorder.ts';
 import type { ReplaySource } from '../sources/replay.ts';
-import type { RecordingState } from '../wire/messages.ts';
+import type { RecordingState } from '../../protocol/messages.ts';
 import { PipelineBackend } from './pipeline-backend.ts';
 import { startServer } from './server.ts';
 import { defaultAssetsDir, serverOptionsFromArgs } from './cli-flags.ts';
 import { ServerConfigError } from './options.ts';
 import type { Detector } from '../pipeline/types.ts';
-import { AlarmHook } from '../alarms/alarm-hook.ts';
+import { AlarmHook } from '../rules/alarm-hook.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
 

@@ -1,6 +1,6 @@
 // The control panel: display choices act locally; analysis, baseline and recording go to the agent as requests.
-import type { AveragingSpec } from '../../agent/core/settings.ts';
-import type { ReplyMessage, SpectrumContext, AgentStatus } from '../../agent/wire/messages.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import type { ReplyMessage, SpectrumContext, AgentStatus } from '../../protocol/messages.ts';
 import type { Link } from '../connection.ts';
 import { DENSITY_UNITS, type DensityUnit } from '../units.ts';
 

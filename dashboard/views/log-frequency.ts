@@ -2,8 +2,8 @@
 // the fitted 1/f model e_w·sqrt(1 + (f_c/f)^α), and the Welch baseline interpolated at the same points; a
 // readout of the fit, a 0.1–10 Hz box (p-p, RMS, 6.6σ with the window's sample span), RBW and averages at the cursor.
 import uPlot from 'uplot';
-import type { DecodedFrame } from '../../agent/wire/frame.ts';
-import type { LowFrequencyContext, LowFrequencyUpdate } from '../../agent/wire/low-frequency-messages.ts';
+import type { DecodedFrame } from '../../protocol/frame.ts';
+import type { LowFrequencyContext, LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 import { channelColour, withAlpha } from '../colours.ts';
 import { si, fixed, count } from '../format.ts';
 

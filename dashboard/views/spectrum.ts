@@ -1,11 +1,11 @@
 // The spectrum chart: one trace per channel on a log-frequency axis, with max-hold, baseline, threshold and
 // expected-floor overlays, band shading, mains-harmonic markers and a cursor readout (density and tone RMS).
 import uPlot from 'uplot';
-import type { SpectrumContext, BandRow } from '../../agent/wire/messages.ts';
-import type { DecodedFrame } from '../../agent/wire/frame.ts';
+import type { SpectrumContext, BandRow } from '../../protocol/messages.ts';
+import type { DecodedFrame } from '../../protocol/frame.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { lineAboveFloor, peakBin } from '../../dsp/tone.ts';
-import { RunningMedian } from '../../dsp/alarms/running-median.ts';
+import { RunningMedian } from '../../dsp/detection/running-median.ts';
 import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from '../units.ts';
 import { channelColour, withAlpha } from '../colours.ts';
 import { si, hz } from '../format.ts';

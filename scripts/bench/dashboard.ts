@@ -4,7 +4,7 @@
 //    Reference in the same run: the chart's redraw alone (uPlot setData + draw of the same arrays). Target: median < 8 ms.
 // 2. Agent: CPU time per snapshot with 0, 1, 4 and 16 connected clients (encode once, send to each), against
 //    encoding alone.
-import { encodeFrame, frameBytes } from '../../agent/wire/frame.ts';
+import { encodeFrame, frameBytes } from '../../protocol/frame.ts';
 import { startServer } from '../../agent/server/server.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { FakeBackend } from '../../tests/server/support/fake-backend.ts';

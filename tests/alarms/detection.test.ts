@@ -12,7 +12,7 @@ import {
   type Bench,
 } from '../../scripts/detection/harness.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
-import { defaultRules, parseRules } from '../../agent/alarms/rules.ts';
+import { defaultRules, parseRules } from '../../agent/rules/rules.ts';
 
 const TAU = 10;
 const ON_DELAY = 0.5;

@@ -4,8 +4,8 @@ import { spawnSync } from 'node:child_process';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { DEFAULT_BENCH, captureQuietBaseline, runScenario, type Bench } from '../../scripts/detection/harness.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
-import { defaultRules } from '../../agent/alarms/rules.ts';
-import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/alarms/contamination.ts';
+import { defaultRules } from '../../agent/rules/rules.ts';
+import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/detection/contamination.ts';
 
 const TAU = 2;
 // 1 V full scale and an exponential average of τ = 2 s keep the run short; 4 kS/s, 1024-point Hann at 50 %.
@@ -14,7 +14,7 @@ const FS = BENCH.sampleRate;
 const SEGMENT = BENCH.analysis.segment;
 const STEP = SEGMENT / 2;
 const SPECTRAL = new Set(['spur', 'mains', 'band-rise']);
-// The rules' default recent window (agent/alarms/rules.ts), seconds.
+// The rules' default recent window (agent/rules/rules.ts), seconds.
 const BENCH_RECENT_SECONDS = defaultRules().recentWindow;
 
 function python(code: string): unknown {

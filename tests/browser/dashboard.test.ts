@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, freePort, type Agent } from './support/agent.ts';
-import type { AgentStatus } from '../../agent/wire/messages.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'floorline-browser-'));
 let browser: BrowserContext;

@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
-import type { AgentStatus } from '../../agent/wire/messages.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
 import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'floorline-logf-'));

@@ -10,8 +10,8 @@ import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { defaultRules } from '../../agent/alarms/rules.ts';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
+import { defaultRules } from '../../agent/rules/rules.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import { Python, root, tempDir } from '../wav/support.ts';
 
 interface Signal { kind: string; start?: number; end?: number; [k: string]: unknown }
@@ -27,7 +27,7 @@ const baseline = JSON.parse(readFileSync(join(root, 'recordings/demo-baseline.js
 const FS = sidecar.sampleRate;
 const SEGMENT = baseline.settings.segment;
 const STEP = SEGMENT - Math.floor(baseline.settings.overlap * SEGMENT);
-// The recent window the rules judge settled levels on (agent/alarms/rules.ts default), in whole segments.
+// The recent window the rules judge settled levels on (agent/rules/rules.ts default), in whole segments.
 const RECENT_SEGMENTS = Math.max(1, Math.ceil((defaultRules().recentWindow * FS - SEGMENT) / STEP) + 1);
 const SPAN = SEGMENT + (RECENT_SEGMENTS - 1) * STEP;
 const FAULT_KINDS = new Set(['mains', 'tone', 'band-step', 'overload']);
