@@ -4,7 +4,7 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { Python, tempDir } from '../wav/support.ts';
+import { Python, root, tempDir } from '../wav/support.ts';
 import { runCli } from '../analyze/support.ts';
 
 let py: Python;
@@ -61,5 +61,21 @@ describe('analyze --input-referred', () => {
     const r = runCli('analyze', path, '--input-referred');
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/channel ref of .*nogain\.wav has no positive "gain" in its metadata; add "gain" \(V\/V ahead of the ADC\) to channels\[1\]/);
+  });
+
+  it('gives the floor at the ADC in dBFS/√Hz (re a full-scale sine, AES17) and LSB/√Hz where full scale is known', () => {
+    const demo = join(root, 'recordings/demo.wav');
+    const j = JSON.parse(runCli('analyze', demo, '--exclude-clipped', '--json').stdout) as { channels: { asd: number[]; fullScale: number; lsb: number }[] };
+    const ch = j.channels[1];
+    // recordings/demo.wav.json: 8388607 counts full scale at 2.98e-7 V per count.
+    expect(ch.lsb).toBe(2.98e-7);
+    expect(ch.fullScale).toBeCloseTo(8388607 * 2.98e-7, 12);
+    const sorted = ch.asd.slice(1).sort((a, b) => a - b);
+    const floor = (sorted[(sorted.length >> 1) - 1] + sorted[sorted.length >> 1]) / 2;
+    const text = runCli('analyze', demo, '--exclude-clipped').stdout;
+    const m = /shorted \[V\][^]*?at the ADC +(-[0-9.]+) dBFS\/√Hz, ([0-9.]+) LSB\/√Hz/.exec(text);
+    expect(m, text).not.toBeNull();
+    expect(Number(m![1])).toBeCloseTo(20 * Math.log10((floor * Math.SQRT2) / ch.fullScale), 1); // AES17: 0 dBFS = full-scale sine
+    expect(Number(m![2]) / (floor / ch.lsb)).toBeCloseTo(1, 2);
   });
 });
