@@ -3,9 +3,8 @@
 // Nyquist bin (segment lengths here are even) not doubled; segments start at sample 0 of the stream (or
 // firstSample) and advance by step = segment − noverlap with noverlap = floor(overlap·segment), as scipy's
 // integer noverlap; samples that do not yet fill a segment wait for more data.
-import type { AveragingSpec, DetrendMode } from '../agent/core/settings.ts';
-import { MeanAverager, makeAverager, validateAveraging, type Averager } from './averaging.ts';
-import { SegmentConditioner, validateDetrend } from './detrend.ts';
+import { MeanAverager, makeAverager, validateAveraging, type Averager, type AveragingSpec } from './averaging.ts';
+import { SegmentConditioner, validateDetrend, type DetrendMode } from './detrend.ts';
 import { RealFftPower } from './real-fft-power.ts';
 import { makeWindow, type WindowInfo } from './windows.ts';
 
@@ -24,6 +23,13 @@ export interface WelchOptions {
   averaging?: AveragingSpec;
   /** Absolute index of the first sample pushed (default 0). */
   firstSample?: number;
+  /** Averager to use instead of the one `averaging` names (e.g. a median over a whole file); `averaging` still labels it. */
+  averager?: Averager;
+  /**
+   * Called with each completed segment's first and last absolute sample index; false leaves the segment out of the
+   * average (counted in segmentsExcluded). For offline reports that drop segments touching clipped samples.
+   */
+  accept?: (firstSample: number, lastSample: number) => boolean;
 }
 
 /**
@@ -55,6 +61,8 @@ export class WelchEstimator {
   segmentsTotal = 0;
   /** Absolute index of the last sample of the newest completed segment, −1 if none. */
   lastSegmentSample = -1;
+  /** Completed segments that `accept` refused since construction or clear(). */
+  segmentsExcluded = 0;
 
   private readonly fft: RealFftPower;
   private readonly conditioner: SegmentConditioner;
@@ -65,6 +73,7 @@ export class WelchEstimator {
   private readonly scale: Float64Array;
   /** ρ(j·step) for j = 1.. while j·step < segment (Welch 1967, with the window's autocorrelation). */
   private readonly rho: Float64Array;
+  private readonly accept: ((firstSample: number, lastSample: number) => boolean) | undefined;
   private fill = 0;
   private nextSample: number;
   private listener: SegmentListener | undefined;
@@ -108,7 +117,8 @@ export class WelchEstimator {
 
     this.fft = new RealFftPower(segment);
     this.conditioner = new SegmentConditioner(this.window.values, this.detrend);
-    this.averager = makeAverager(this.averaging, this.bins, this.step / sampleRate);
+    this.averager = options.averager ?? makeAverager(this.averaging, this.bins, this.step / sampleRate);
+    this.accept = options.accept;
     this.pending = new Float64Array(segment);
     this.power = new Float64Array(this.bins);
     this.scale = oneSidedScale(this.window.values, sampleRate, scaling);
@@ -234,10 +244,17 @@ export class WelchEstimator {
     this.fill = 0;
     this.averager.clear();
     this.segmentsTotal = 0;
+    this.segmentsExcluded = 0;
     this.lastSegmentSample = -1;
   }
 
   private processSegment(src: Float64Array, offset: number, lastSample: number): void {
+    if (this.accept && !this.accept(lastSample - this.segment + 1, lastSample)) {
+      this.segmentsExcluded++;
+      this.segmentsTotal++;
+      this.lastSegmentSample = lastSample;
+      return;
+    }
     const c = this.conditioner;
     c.fit(src, offset);
     const avg = this.averager;

@@ -8,8 +8,8 @@
 // Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
 // starts again, so every loop is analysed on the same grid of file indices as the first.
 import { WelchEstimator } from '../../dsp/welch.ts';
-import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../core/settings.ts';
-import type { StreamInfo } from '../core/stream.ts';
+import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import type { SnapshotChannel, SpectrumSnapshot } from './types.ts';
 
 export interface AnalysisChoice {

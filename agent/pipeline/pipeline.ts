@@ -5,9 +5,9 @@
 //  - 'bounded' (live): blocks are copied into a bounded queue and analysed from setImmediate in slices of at most
 //    drainBudgetMs, so the event loop keeps reading the port; when the queue is full the incoming block is dropped
 //    whole and counted, and the analysis restarts cleanly after the hole (as after a gap).
-import type { FloorlineEvent } from '../core/events.ts';
-import type { AveragingSpec } from '../core/settings.ts';
-import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
 import { BlockQueue } from './block-queue.ts';
 import { Conditioner } from './conditioner.ts';

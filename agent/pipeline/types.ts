@@ -1,8 +1,8 @@
 // What the pipeline hands to its subscribers and detectors. Time is sample time: every item carries the index of
 // a sample and t = sample / sampleRate; wallTime is a label derived from the stream's start wall time.
-import type { FloorlineEvent } from '../core/events.ts';
-import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
-import type { GapNotice, LinkNotice, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice, StreamInfo } from '../../protocol/stream.ts';
 
 /** One conditioned block in channel units (volts for a calibrated board). Arrays (length ≥ frames) are owned by the pipeline and
  * reused after the 'block' callbacks return: copy what you keep. */
@@ -60,7 +60,7 @@ export interface OverrunNotice {
   droppedBlocks: number;
 }
 
-/** The hook for agent/alarms: each call returns the events it raises or clears (possibly none). */
+/** The hook for agent/rules: each call returns the events it raises or clears (possibly none). */
 export interface Detector {
   onInfo?(info: StreamInfo): void;
   onSnapshot(snapshot: SpectrumSnapshot): FloorlineEvent[];

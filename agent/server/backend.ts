@@ -1,11 +1,11 @@
 // What the server needs from the rest of the agent, and nothing more. The pipeline (live, demo or replay) adapts
 // itself to this; tests use a small double of it. Shapes are structural: the pipeline's SpectrumSnapshot and
 // CalibratedBlock satisfy ServerSnapshot and ServerBlock as they are.
-import type { FloorlineEvent, EventRule } from '../core/events.ts';
-import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
-import type { StreamInfo } from '../core/stream.ts';
-import type { AgentStatus, RecordingState } from '../wire/messages.ts';
-import type { LowFrequencyContext, LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
+import type { FloorlineEvent, EventRule } from '../../protocol/events.ts';
+import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
+import type { AgentStatus, RecordingState } from '../../protocol/messages.ts';
+import type { LowFrequencyContext, LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 
 export interface ServerSnapshot {
   /** Index of the last sample the estimate used; t = sample / sampleRate. */

@@ -1,5 +1,5 @@
 // Carries out one validated client request against the backend and builds the reply.
-import type { ClientMessage, ReplyMessage, SpectrumContext, AgentStatus, WireError } from '../wire/messages.ts';
+import type { ClientMessage, ReplyMessage, SpectrumContext, AgentStatus, WireError } from '../../protocol/messages.ts';
 import { BackendRefusal, type ServerBackend } from './backend.ts';
 
 export interface ControlDeps {

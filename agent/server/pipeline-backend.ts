@@ -3,21 +3,21 @@
 // server works with whatever a command has wired and says "unsupported" for the rest.
 import { writeFile } from 'node:fs/promises';
 import { mkdirSync } from 'node:fs';
-import type { FloorlineEvent } from '../core/events.ts';
-import { firstSettingMismatch } from '../core/settings.ts';
-import type { SourceCounters, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import { firstSettingMismatch } from '../../protocol/settings.ts';
+import type { SourceCounters, StreamInfo } from '../../protocol/stream.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { SpectrumSnapshot } from '../pipeline/types.ts';
 import type { DataFolder } from '../config/data-folder.ts';
-import type { AgentStatus, AlarmRow, BandRow, RecordingState, ReplayState } from '../wire/messages.ts';
+import type { AgentStatus, AlarmRow, BandRow, RecordingState, ReplayState } from '../../protocol/messages.ts';
 import { BaselineCapture } from '../baseline/capture.ts';
 import type { BaselineFile } from '../baseline/format.ts';
-import { defaultBands } from '../alarms/default-bands.ts';
-import type { DetectorStatus } from '../alarms/detectors.ts';
+import { defaultBands } from '../rules/default-bands.ts';
+import type { DetectorStatus } from '../rules/detectors.ts';
 import { bandBins } from '../../dsp/bands.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import type { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
-import type { LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
+import type { LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 import { LatestPacer } from '../lowfreq/latest-pacer.ts';
 import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type HistoryAccess, type ServerBackend } from './backend.ts';
 
@@ -156,7 +156,7 @@ export class PipelineBackend implements ServerBackend {
 
   /** One row per alarm: per band for band rules, per line (harmonic or 0.1 Hz) for mains and spur, else per channel. */
   private trackAlarm(e: FloorlineEvent): void {
-    if (e.kind !== 'alarm') return;
+    if (e.kind !== 'alarm' || e.state === 'settled') return; // settled restates a raised alarm's level
     const line = e.rule === 'mains' ? `h${e.harmonic ?? ''}` : e.rule === 'spur' && e.frequency !== undefined ? e.frequency.toFixed(1) : '';
     const key = `${e.rule}|${e.channel}|${e.band ? e.band.join('-') : ''}|${line}`;
     const prev = this.alarmRows.get(key);

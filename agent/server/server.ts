@@ -3,8 +3,8 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
-import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../wire/messages.ts';
-import { parseClientMessage } from '../wire/validate.ts';
+import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
+import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
 import { resolveServerOptions, ServerConfigError, type ServerOptions } from './options.ts';

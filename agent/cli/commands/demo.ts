@@ -5,7 +5,7 @@ import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
 import { RECORDING_FLAGS, alarmDetectors, readRecordingFlags } from './pipeline-flags.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { defaultRules } from '../../alarms/rules.ts';
+import { defaultRules } from '../../rules/rules.ts';
 import { readBaseline } from '../../baseline/format.ts';
 import { Pipeline } from '../../pipeline/pipeline.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';

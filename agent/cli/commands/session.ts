@@ -1,7 +1,7 @@
 // The run/replay/demo session: one pipeline, one source, and what hangs off it — recorder (continuous and event
 // captures), detectors, event log, terminal report, dashboard server. Stops cleanly on SIGINT/SIGTERM.
-import type { FloorlineEvent } from '../../core/events.ts';
-import type { Source } from '../../core/stream.ts';
+import type { FloorlineEvent } from '../../../protocol/events.ts';
+import type { Source } from '../../../protocol/stream.ts';
 import { dataFolderAt, ensureDataFolder, type DataFolder } from '../../config/data-folder.ts';
 import type { Pipeline } from '../../pipeline/pipeline.ts';
 import type { Detector } from '../../pipeline/types.ts';
