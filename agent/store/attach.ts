@@ -3,8 +3,8 @@
 import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
 import type { Pipeline } from '../pipeline/pipeline.ts';
-import type { DetectorStatus } from '../alarms/detectors.ts';
-import type { FloorlineEvent } from '../core/events.ts';
+import type { DetectorStatus } from '../rules/detectors.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import { lockStore, type StoreLock } from './store-lock.ts';
 import { openStoreForWriting, type StoreDb } from './open-store.ts';
 import { HistoryWriter } from './history-writer.ts';

@@ -1,6 +1,6 @@
 // Median of src[first..last] by quickselect on a scratch copy (Hoare's selection; for an even count the mean of
 // the two middle values, the usual definition). NaN for an empty range.
-import { select } from '../../dsp/alarms/running-median.ts';
+import { select } from '../../dsp/detection/running-median.ts';
 
 export function medianInRange(src: Float64Array, first: number, last: number, scratch: Float64Array): number {
   const n = last - first + 1;

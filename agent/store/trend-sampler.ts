@@ -3,9 +3,9 @@
 // over the usable range), mains total and strongest line. Values go into one accumulator per level.
 import { bandBins, type BinRange } from '../../dsp/bands.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
-import { defaultBands, usableRange } from '../alarms/default-bands.ts';
+import { defaultBands, usableRange } from '../rules/default-bands.ts';
 import type { AnalysisGrid, SegmentObserver, SpectrumSnapshot } from '../pipeline/types.ts';
-import type { DetectorStatus } from '../alarms/detectors.ts';
+import type { DetectorStatus } from '../rules/detectors.ts';
 import { IntervalAccumulator } from './interval-accumulator.ts';
 import { levelSamples } from './levels.ts';
 import { LEVELS } from './schema.ts';

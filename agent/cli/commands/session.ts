@@ -11,7 +11,7 @@ import { repairRecordings } from '../../recorder/repair-on-start.ts';
 import { EventLog } from '../../events/event-log.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
 import { attachHistory, type History } from '../../store/attach.ts';
-import { AlarmHook } from '../../alarms/alarm-hook.ts';
+import { AlarmHook } from '../../rules/alarm-hook.ts';
 import type { Level } from '../../store/schema.ts';
 
 export interface SessionOptions {
