@@ -1,7 +1,7 @@
 // Exports: the current spectrum as CSV (spectral context in '#' header lines, a units row, '.' decimals) and as
 // PNG (the chart canvas with its context line), and the event log as JSON Lines.
-import type { SpectrumContext } from '../agent/wire/messages.ts';
-import type { DecodedFrame } from '../agent/wire/frame.ts';
+import type { SpectrumContext } from '../protocol/messages.ts';
+import type { DecodedFrame } from '../protocol/frame.ts';
 import { densityLabel, fromPsd, type DensityUnit } from './units.ts';
 
 function averagingText(ctx: SpectrumContext): string {

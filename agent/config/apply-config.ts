@@ -1,7 +1,7 @@
 // Flags override the rig config: the config fills every flag the command line left at its default. So the
 // commands read their settings the one way they always did, from the parsed flags.
 import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
-import { defaultRules } from '../alarms/rules.ts';
+import { defaultRules } from '../rules/rules.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE } from '../pipeline/analyser.ts';
 import { DEFAULT_DATA_FOLDER } from './data-folder.ts';
 import { DEFAULT_HOST, DEFAULT_HTTP_PORT } from '../server/options.ts';

@@ -2,7 +2,7 @@
 // unit per count), so the conditioner's one multiplication by `scale` applies it and everything downstream
 // (spectra, bands, events, recordings and their sidecars) is in calibrated, optionally input-referred, units.
 // A recording made that way carries the calibration in its sidecar; replaying it applies nothing twice.
-import type { ChannelCalibration, ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { ChannelCalibration, ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import type { ChannelConfig } from './rig-config.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 

@@ -6,8 +6,8 @@ import { accessSync, constants, readFileSync, statSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import schema from './rig-config.schema.json';
-import { parseBand } from '../alarms/default-bands.ts';
-import { parseRules, type RulesConfig } from '../alarms/rules.ts';
+import { parseBand } from '../rules/default-bands.ts';
+import { parseRules, type RulesConfig } from '../rules/rules.ts';
 import { parseWindowName } from '../../dsp/windows.ts';
 
 export type NotifyState = 'raised' | 'settled' | 'cleared';

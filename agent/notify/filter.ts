@@ -1,7 +1,7 @@
 // Which alarm events a sink is told about: its rules and states, a minimum duration (a raised alarm that clears
 // sooner notifies nothing), and a quiet period per incident (a flapping fault notifies once, then settle and clear).
 // All times are sample time, so a replay decides exactly as the live run did.
-import type { FloorlineEvent } from '../core/events.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { NotifyState, SinkConfig } from '../config/rig-config.ts';
 
 export const DEFAULT_STATES: readonly NotifyState[] = ['raised', 'settled', 'cleared'];

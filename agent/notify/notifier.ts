@@ -4,7 +4,7 @@
 // one at a time; while it is down only its oldest notification is retried. One still failing after maxTries is
 // given up and reported as an info event (rule "notify").
 import { randomUUID } from 'node:crypto';
-import type { FloorlineEvent } from '../core/events.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { SinkConfig } from '../config/rig-config.ts';
 import { Outbox, type OutboxEntry } from './outbox.ts';
 import { SinkFilter, alarmKey } from './filter.ts';

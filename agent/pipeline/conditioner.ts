@@ -4,7 +4,7 @@
 // Values are rounded to float32 (Math.fround), the precision recordings store, so the live analysis sees exactly
 // the samples a replay of its recording will see: replays reproduce live spectra bit for bit. float32 keeps a
 // 24-bit mantissa, so a 24-bit ADC loses nothing.
-import type { ChannelInfo } from '../core/stream.ts';
+import type { ChannelInfo } from '../../protocol/stream.ts';
 import type { ClipNotice } from './types.ts';
 
 export const CLIP_FRACTION = 0.001;

@@ -4,7 +4,7 @@
 // sample count across the seam, which is announced as a zero-length gap so estimates restart cleanly there.
 import { statSync } from 'node:fs';
 import { basename } from 'node:path';
-import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
 import { nextFileOfRun } from './rotated-run.ts';
 

@@ -1,7 +1,7 @@
 // Our recording metadata: the same JSON travels in the sidecar NAME.wav.json and in an embedded 'flmd' chunk.
 // When both exist the sidecar wins (it is the copy a user may edit); the chunk keeps a lone WAV self-describing.
-import type { AnalysisSettings } from '../core/settings.ts';
-import type { ChannelCalibration, SourceKind } from '../core/stream.ts';
+import type { AnalysisSettings } from '../../protocol/settings.ts';
+import type { ChannelCalibration, SourceKind } from '../../protocol/stream.ts';
 import { WavError } from './errors.ts';
 
 /** Chunk id of the embedded metadata (our own naming: "floorline metadata"). */

@@ -1,5 +1,5 @@
 // Band table: live RMS, baseline RMS, Δ dB, threshold and state per channel and band, updated in place.
-import type { AlarmCondition, BandRow } from '../../agent/wire/messages.ts';
+import type { AlarmCondition, BandRow } from '../../protocol/messages.ts';
 import { si, fixed, short } from '../format.ts';
 
 const STATE_LABEL: Record<AlarmCondition, string> = {

@@ -1,6 +1,6 @@
 // The event list, newest first: alarms with an Acknowledge button while raised, and a link to each capture.
-import type { FloorlineEvent } from '../../agent/core/events.ts';
-import type { AlarmRow } from '../../agent/wire/messages.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AlarmRow } from '../../protocol/messages.ts';
 import { count, fixed } from '../format.ts';
 
 const MAX_ROWS = 500;

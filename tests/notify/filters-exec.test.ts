@@ -5,7 +5,7 @@ import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import { SinkFilter } from '../../agent/notify/filter.ts';
 
 const root = new URL('../..', import.meta.url).pathname;

@@ -5,7 +5,7 @@ import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
 import { RECORDING_FLAGS, alarmDetectors, readRecordingFlags } from './pipeline-flags.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { defaultRules } from '../../alarms/rules.ts';
+import { defaultRules } from '../../rules/rules.ts';
 import { readBaseline } from '../../baseline/format.ts';
 import { Pipeline } from '../../pipeline/pipeline.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
@@ -15,6 +15,7 @@ import type { Detector } from '../../pipeline/types.ts';
 import { startSession } from './session.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { CalibratedSource, rescaleBaselineForReplay } from '../../config/calibration.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 /** recordings/ of the package (beside dist/ where the CLI is bundled, or beside agent/ when run from source). */
 export function bundledRecording(name: string): string {
@@ -65,6 +66,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     quiet: f.quiet as boolean,
     frames: () => source.fileInfo?.frames,
     detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: rig?.rules ? structuredClone(rig.rules) : defaultRules() }, recorder)),
+    history: withSource(historyFromArgs(args, 'demo', f.data as string), file),
     serve: f['no-server']
       ? undefined
       : serveDashboard({
@@ -91,6 +93,7 @@ export const demoCommand: CommandSpec = {
     { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
     ...RECORDING_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runDemo,
 };

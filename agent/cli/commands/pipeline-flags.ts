@@ -2,12 +2,12 @@
 // snapshot rate and the data folder. Parsed once here so the three commands accept the same spellings.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
-import type { AveragingSpec, DetrendMode } from '../../core/settings.ts';
+import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { AlarmHook } from '../../alarms/alarm-hook.ts';
-import { parseBand } from '../../alarms/default-bands.ts';
-import { defaultRules, loadRules, type RulesConfig } from '../../alarms/rules.ts';
+import { AlarmHook } from '../../rules/alarm-hook.ts';
+import { parseBand } from '../../rules/default-bands.ts';
+import { defaultRules, loadRules, type RulesConfig } from '../../rules/rules.ts';
 import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import type { Recorder } from '../../recorder/recorder.ts';

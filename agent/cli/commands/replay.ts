@@ -7,6 +7,7 @@ import { Pipeline } from '../../pipeline/pipeline.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { startSession } from './session.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
@@ -62,6 +63,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
         baseline: alarms.baseline && alarms.baselinePath ? { file: alarms.baselinePath, baseline: alarms.baseline } : undefined,
       }),
       eventsOut: alarms.eventsOut,
+      history: withSource(historyFromArgs(args, 'replay', flags.data, file), file, alarms.rules.band.bands),
     });
   } catch (err) {
     const e = err as Error & { exitCode?: number };
@@ -100,6 +102,7 @@ export const replayCommand: CommandSpec = {
     { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
     ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,

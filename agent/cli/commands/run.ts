@@ -11,6 +11,7 @@ import type { Detector } from '../../pipeline/types.ts';
 import { startSession } from './session.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { CalibratedSource } from '../../config/calibration.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 async function runLive(args: ParsedArgs): Promise<number> {
   const rig = readConfigFlag(args, runCommand.flags);
@@ -56,6 +57,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
     quiet,
     detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
     eventsOut: alarms.eventsOut,
+    history: withSource(historyFromArgs(args, 'run', flags.data), port, alarms.rules.band.bands),
     serve: f['no-server']
       ? undefined
       : serveDashboard({
@@ -100,6 +102,7 @@ export const runCommand: CommandSpec = {
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runLive,
 };
