@@ -6,12 +6,16 @@ import type { NotifyState, SinkConfig } from '../config/rig-config.ts';
 
 export const DEFAULT_STATES: readonly NotifyState[] = ['raised', 'settled', 'cleared'];
 
-/** Stable identity of one alarm (not of one raise): rule, channel and what it is about. */
+/** The incident an event belongs to (several alarms, e.g. mains harmonics, may share one). */
+export function incidentKey(e: FloorlineEvent): string {
+  return (e as FloorlineEvent & { incident?: string }).incident ?? alarmKey(e);
+}
+
+/** Stable identity of one alarm within its incident: rule, channel and what it is about. */
 export function alarmKey(e: FloorlineEvent): string {
-  const x = e as FloorlineEvent & { incident?: string };
-  if (x.incident) return x.incident;
   const about = e.band ? e.band.join('-') : e.harmonic !== undefined ? `h${e.harmonic}` : e.rule === 'spur' && e.frequency !== undefined ? `${Math.round(e.frequency)}Hz` : '';
-  return `${e.rule}:${e.channel}${about ? ':' + about : ''}`;
+  const inc = (e as FloorlineEvent & { incident?: string }).incident;
+  return `${inc ? inc + '/' : ''}${e.rule}:${e.channel}${about ? ':' + about : ''}`;
 }
 
 export class SinkFilter {
@@ -23,7 +27,7 @@ export class SinkFilter {
   private readonly held = new Map<string, FloorlineEvent>();
   /** Keys whose raise was never notified (too short): their settle/clear are not notified either. */
   private readonly suppressed = new Set<string>();
-  /** key|state → t of the last notification, for the quiet period. */
+  /** incident|state → t of the last notification, for the quiet period. */
   private readonly last = new Map<string, number>();
 
   constructor(sink: SinkConfig) {
@@ -37,8 +41,8 @@ export class SinkFilter {
     return e.kind === 'alarm' && this.states.has(e.state) && (this.rules === undefined || this.rules.has(e.rule));
   }
 
-  private pass(e: FloorlineEvent, key: string): FloorlineEvent[] {
-    const q = `${key}|${e.state}`;
+  private pass(e: FloorlineEvent): FloorlineEvent[] {
+    const q = `${incidentKey(e)}|${e.state}`;
     const prev = this.last.get(q);
     if (this.quiet > 0 && prev !== undefined && e.t - prev < this.quiet) return [];
     this.last.set(q, e.t);
@@ -53,7 +57,7 @@ export class SinkFilter {
     if (e.state === 'raised') {
       this.suppressed.delete(key);
       if (this.minDuration > 0) this.held.set(key, e);
-      else out.push(...this.pass(e, key));
+      else out.push(...this.pass(e));
       return out;
     }
     if (this.held.has(key)) {
@@ -68,7 +72,7 @@ export class SinkFilter {
       if ((e.state as string) === 'cleared') this.suppressed.delete(key);
       return out;
     }
-    out.push(...this.pass(e, key));
+    out.push(...this.pass(e));
     return out;
   }
 
@@ -78,7 +82,7 @@ export class SinkFilter {
     for (const [key, e] of this.held) {
       if (t - e.t >= this.minDuration) {
         this.held.delete(key);
-        out.push(...this.pass(e, key));
+        out.push(...this.pass(e));
       }
     }
     return out;

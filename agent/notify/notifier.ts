@@ -7,7 +7,7 @@ import { randomUUID } from 'node:crypto';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { SinkConfig } from '../config/rig-config.ts';
 import { Outbox, type OutboxEntry } from './outbox.ts';
-import { SinkFilter, alarmKey } from './filter.ts';
+import { SinkFilter, incidentKey } from './filter.ts';
 import { sinkDeliver, sinkLabel, type Deliver } from './sinks.ts';
 
 export const DEFAULT_MAX_TRIES = 10;
@@ -75,7 +75,7 @@ export class Notifier {
 
   private enqueue(sink: number, e: FloorlineEvent): void {
     const id = randomUUID();
-    const body = { ...e, id, incident: (e as { incident?: string }).incident ?? alarmKey(e) };
+    const body = { ...e, id, incident: incidentKey(e) };
     this.outbox.add({ id, sink, body, due: Date.now(), tries: 0 });
     this.counters.queued++;
     this.counters.pending = this.outbox.size;
