@@ -4,7 +4,8 @@ import uPlot from 'uplot';
 import type { SpectrumContext, BandRow } from '../../protocol/messages.ts';
 import type { DecodedFrame } from '../../protocol/frame.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
-import { peakBin, toneAt } from '../../dsp/tone.ts';
+import { lineAboveFloor, peakBin } from '../../dsp/tone.ts';
+import { RunningMedian } from '../../dsp/detection/running-median.ts';
 import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from '../units.ts';
 import { channelColour, channelDash, withAlpha } from '../colours.ts';
 import { fixedDensityRange, paddedRange } from './y-range.ts';
@@ -379,9 +380,11 @@ export class SpectrumView {
       const bin = idx + 1;
       const d = fromPsd(this.units, psd[bin]);
       const dens = d === null ? '—' : this.units === 'dbv' ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}` : si(d, densityLabel(this.units, unit));
-      // Tone level: the largest bin within one main lobe of the cursor, summed over its lobe (dsp/tone.ts).
+      // Line level: the largest bin within one main lobe of the cursor, its lobe's power less the local floor's
+      // share (dsp/tone.ts lineAboveFloor, the rule the spur and mains events use; floor = local median as there).
       const peak = peakBin(psd, Math.max(1, bin - h), Math.min(psd.length - 1, bin + h));
-      const tone = toneAt(psd, ctx.binHz, this.lobeHalfWidth, peak);
+      const floor = new RunningMedian(psd.length, Math.max(8, 4 * h)).at(psd, peak);
+      const tone = lineAboveFloor(psd, ctx.binHz, this.lobeHalfWidth, peak, floor);
       parts.push(`${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)} at ${hz(tone.frequency)}`);
     }
     this.readout.textContent = parts.join(' · ');
