@@ -5,9 +5,9 @@
 // One estimator covers the whole span; two more cover its halves for the settling check.
 import { WelchEstimator } from '../../dsp/welch.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
-import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
-import { binPowerCorrelation } from '../../dsp/alarms/threshold.ts';
-import { settingsHash, type AnalysisSettings } from '../core/settings.ts';
+import type { BandSpec } from '../../dsp/detection/band-compare.ts';
+import { binPowerCorrelation } from '../../dsp/detection/threshold.ts';
+import { settingsHash, type AnalysisSettings } from '../../protocol/settings.ts';
 import { BASELINE_SCHEMA, type BaselineFile } from './format.ts';
 import { combineSettling, settlingCheck } from './settling.ts';
 

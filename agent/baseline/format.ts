@@ -1,7 +1,7 @@
 // The baseline file (JSON): analysis settings and their hash, per channel the averaged density with its equivalent
 // number of averages and band powers, the capture span in sample time, the settling check and free-text notes.
 import { readFile, writeFile } from 'node:fs/promises';
-import { firstSettingMismatch, settingsHash, type AnalysisSettings } from '../core/settings.ts';
+import { firstSettingMismatch, settingsHash, type AnalysisSettings } from '../../protocol/settings.ts';
 import { InputError } from '../cli/usage-error.ts';
 
 export const BASELINE_SCHEMA = 'floorline.baseline/1';

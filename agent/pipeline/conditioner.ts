@@ -8,7 +8,7 @@
 // float32, is a fault. condition() counts such values and returns the count; the pipeline then excludes every
 // frame holding one exactly as it excludes a gap, so no analyser, detector or recording ever sees a non-finite
 // value. Such samples are never counted as clipped.
-import type { ChannelInfo } from '../core/stream.ts';
+import type { ChannelInfo } from '../../protocol/stream.ts';
 import type { ClipNotice } from './types.ts';
 
 export const CLIP_FRACTION = 0.001;

@@ -5,16 +5,16 @@
 //  - 'bounded' (live): blocks are copied into a bounded queue and analysed from setImmediate in slices of at most
 //    drainBudgetMs, so the event loop keeps reading the port; when the queue is full the incoming block is dropped
 //    whole and counted, and the analysis restarts cleanly after the hole (as after a gap).
-import type { FloorlineEvent } from '../core/events.ts';
-import type { AveragingSpec } from '../core/settings.ts';
-import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
 import { BlockQueue } from './block-queue.ts';
 import { Conditioner, forEachFiniteRun } from './conditioner.ts';
 import { rateProblem } from '../core/limits.ts';
 import { makeEvent } from '../alarms/event-factory.ts';
 import { Emitter, type Listener } from './emitter.ts';
-import type { CalibratedBlock, Detector, NonFiniteNotice, OverrunNotice, PipelineCounters, PipelineEvents } from './types.ts';
+import type { CalibratedBlock, Detector, NonFiniteNotice, OverrunNotice, PipelineCounters, PipelineEvents, SegmentObserver } from './types.ts';
 
 export interface PipelineOptions {
   analysis?: Partial<AnalysisChoice>;
@@ -31,6 +31,7 @@ export interface PipelineOptions {
 export class Pipeline implements SourceSink {
   private readonly emitter = new Emitter<PipelineEvents>();
   private readonly detectors: Detector[] = [];
+  private readonly segmentObservers: SegmentObserver[] = [];
   private choice: AnalysisChoice;
   private averagingSpec: AveragingSpec;
   private readonly snapshotRate: number;
@@ -90,6 +91,31 @@ export class Pipeline implements SourceSink {
   addDetector(d: Detector): void {
     this.detectors.push(d);
     if (this.streamInfo && d.onInfo) d.onInfo(this.streamInfo);
+  }
+
+  /** Adds an observer of every completed Welch segment (see SegmentObserver). */
+  addSegmentObserver(o: SegmentObserver): void {
+    this.segmentObservers.push(o);
+    if (this.analyser && this.streamInfo) this.installObservers(this.analyser, this.streamInfo, this.expected);
+  }
+
+  private readonly dispatchSegment = (channel: number, density: Float64Array, lastSample: number): void => {
+    const list = this.segmentObservers;
+    for (let i = 0; i < list.length; i++) list[i].onSegment(channel, density, lastSample);
+  };
+
+  private installObservers(a: Analyser, info: StreamInfo, firstSample: number): void {
+    if (this.segmentObservers.length === 0) return;
+    a.observeSegments(this.dispatchSegment);
+    const grid = {
+      settings: { ...a.settings },
+      frequencies: a.frequencies,
+      binHz: a.binHz,
+      snapshotInterval: a.interval,
+      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit })),
+      firstSample,
+    };
+    for (const o of this.segmentObservers) o.onAnalysis(grid);
   }
 
   /** Starts the source with this pipeline as its sink; resolves when the source has started. */
@@ -167,6 +193,7 @@ export class Pipeline implements SourceSink {
       this.startWallMs = Number.isFinite(start) ? start : Date.now();
       this.conditioner = new Conditioner(info.channels);
       this.analyser = new Analyser(info, this.choice, this.averagingSpec, this.snapshotRate, info.firstSample);
+      this.installObservers(this.analyser, info, info.firstSample);
       this.units = info.channels.map(() => new Float64Array(0));
       this.queue = this.mode === 'bounded' ? new BlockQueue(this.queueCapacity, info.channels.length) : undefined;
       this.count.queueCapacity = this.mode === 'bounded' ? this.queueCapacity : 0;
@@ -298,6 +325,7 @@ export class Pipeline implements SourceSink {
       this.choice = choice;
       this.averagingSpec = averaging;
       this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start);
+      this.installObservers(this.analyser, info, firstSample + start);
     }
     const n = frames - start;
     const first = firstSample + start;

@@ -2,7 +2,7 @@
 // stream counters; never one series per FFT bin. Rules followed (OpenMetrics 1.0 spec, "Text format"):
 // counters are exposed as NAME_total under "# TYPE NAME counter"; a family with a unit ends in _UNIT and
 // declares "# UNIT"; label values escape \ " and newline; the exposition ends with "# EOF".
-import type { AgentStatus, BandRow } from '../wire/messages.ts';
+import type { AgentStatus, BandRow } from '../../protocol/messages.ts';
 
 export const OPENMETRICS_CONTENT_TYPE = 'application/openmetrics-text; version=1.0.0; charset=utf-8';
 

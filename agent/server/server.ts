@@ -3,8 +3,8 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
-import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../wire/messages.ts';
-import { parseClientMessage } from '../wire/validate.ts';
+import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
+import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
 import { resolveServerOptions, ServerConfigError, type ServerOptions } from './options.ts';
@@ -13,6 +13,7 @@ import { ClientConnection } from './client.ts';
 import { handleRequest } from './control.ts';
 import { renderMetrics, OPENMETRICS_CONTENT_TYPE } from './metrics.ts';
 import { sendError, sendFileInside } from './static-files.ts';
+import { handleHistoryApi } from '../store/api.ts';
 
 export const AGENT_VERSION = '0.1.0';
 const EVENTS_ON_CONNECT = 200;
@@ -139,6 +140,8 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
       const body = JSON.stringify(status());
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);
+    } else if (handleHistoryApi(path, url, res, head, backend.history?.path)) {
+      // /api/trend, /api/incidents: answered from the history store
     } else if (path === '/metrics') {
       res.writeHead(200, { 'content-type': OPENMETRICS_CONTENT_TYPE, 'cache-control': 'no-store' });
       res.end(head ? undefined : renderMetrics(status(), AGENT_VERSION));

@@ -1,7 +1,7 @@
 // Our recording metadata: the same JSON travels in the sidecar NAME.wav.json and in an embedded 'flmd' chunk.
 // When both exist the sidecar wins (it is the copy a user may edit); the chunk keeps a lone WAV self-describing.
-import type { AnalysisSettings } from '../core/settings.ts';
-import type { SourceKind } from '../core/stream.ts';
+import type { AnalysisSettings } from '../../protocol/settings.ts';
+import type { ChannelCalibration, SourceKind } from '../../protocol/stream.ts';
 import { WavError } from './errors.ts';
 import { MAX_CHANNELS, MAX_NAME_LENGTH, hasControlCharacters, printable, MAX_FIRST_SAMPLE, WALL_TIME_MAX_MS, WALL_TIME_MIN_MS, rateProblem } from '../core/limits.ts';
 
@@ -19,6 +19,8 @@ export interface ChannelMetadata {
   gain?: number;
   /** Full scale in raw counts of the board, for clip detection on replay. */
   fullScaleCounts?: number;
+  /** The rig config's calibration the samples already carry (a replay applies nothing twice). */
+  calibration?: ChannelCalibration;
 }
 
 export interface RecordingMetadata {
@@ -67,6 +69,10 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
         fail(where, `channels[${i}].${k} must be a finite number`);
       }
       if (ch[k] !== undefined && k !== 'gain' && !((ch[k] as number) > 0)) fail(where, `channels[${i}].${k} must be above 0, got ${ch[k]}`);
+    }
+    const cal = ch.calibration as Record<string, unknown> | undefined;
+    if (cal !== undefined && (typeof cal !== 'object' || cal === null || typeof cal.unit !== 'string' || typeof cal.inputReferred !== 'boolean')) {
+      fail(where, `channels[${i}].calibration must be an object with "unit" and "inputReferred"`);
     }
   });
   if (typeof m.firstSample !== 'number' || !Number.isSafeInteger(m.firstSample) || m.firstSample < 0 || m.firstSample > MAX_FIRST_SAMPLE) {

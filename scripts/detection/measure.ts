@@ -2,8 +2,8 @@
 // seeds, the smallest level detected in at least 19 of 20, the latency there and at a strong level; and false alarms
 // per hour of quiet running. Prints DETECTION.md to stdout. Run: node scripts/detection/run.mjs
 import { DEFAULT_BENCH, captureQuietBaseline, detectionLatency, runScenario, type Bench, type Fault } from './harness.ts';
-import { parseRules } from '../../agent/alarms/rules.ts';
-import type { RulesConfig } from '../../agent/alarms/rules.ts';
+import { parseRules } from '../../agent/rules/rules.ts';
+import type { RulesConfig } from '../../agent/rules/rules.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
 
 const SEEDS = 20;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
+import { AlarmState, AlarmTransition } from '../../dsp/detection/alarm-state.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 const T = 3; // threshold, dB

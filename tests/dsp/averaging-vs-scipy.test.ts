@@ -4,7 +4,7 @@
 // an exponential average row by row; the bin-wise max. Python runs once per file (child_process).
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import type { AveragingSpec } from '../../agent/core/settings.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
 import { medianBias } from '../../dsp/averaging.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
 

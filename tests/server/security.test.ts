@@ -7,7 +7,7 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { startServer } from '../../agent/server/index.ts';
 import { ServerConfigError } from '../../agent/server/options.ts';
-import { MAX_CLIENT_MESSAGE_BYTES } from '../../agent/wire/messages.ts';
+import { MAX_CLIENT_MESSAGE_BYTES } from '../../protocol/messages.ts';
 import { startWithFake, type Started } from './support/start.ts';
 import { TestClient } from './support/ws-client.ts';
 import { FakeBackend } from './support/fake-backend.ts';

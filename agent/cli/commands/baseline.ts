@@ -3,13 +3,13 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
 import { PIPELINE_FLAGS } from './pipeline-flags.ts';
-import type { AnalysisSettings, DetrendMode } from '../../core/settings.ts';
+import type { AnalysisSettings, DetrendMode } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
 import { BaselineCapture } from '../../baseline/capture.ts';
 import { forEachFiniteRun } from '../../pipeline/conditioner.ts';
 import { writeBaseline } from '../../baseline/format.ts';
-import { defaultBands, parseBand } from '../../alarms/default-bands.ts';
+import { defaultBands, parseBand } from '../../rules/default-bands.ts';
 
 const ANALYSIS_FLAG_NAMES = ['segment', 'window', 'overlap', 'detrend'];
 
