@@ -8,7 +8,7 @@ const root = new URL('..', import.meta.url).pathname;
 // them there).
 const node = { bundle: true, platform: 'node', format: 'esm', target: 'node20', packages: 'external', sourcemap: true, logLevel: 'warning' };
 await build({ ...node, entryPoints: [`${root}agent/cli/main.ts`], outfile: `${root}dist/floorline.mjs` });
-await build({ ...node, entryPoints: [`${root}agent/workers/channel-worker.ts`], outdir: `${root}dist`, outExtension: { '.js': '.mjs' } });
+await build({ ...node, entryPoints: [`${root}agent/workers/channel-worker.ts`, `${root}agent/workers/span-worker.ts`], outdir: `${root}dist`, outExtension: { '.js': '.mjs' } });
 
 if (existsSync(`${root}dashboard/main.ts`)) {
   mkdirSync(`${root}dist/dashboard`, { recursive: true });
