@@ -27,6 +27,13 @@ export function channelFullScale(ch: WavChannel, info: WavInfo): number {
   return ch.unit === 'FS' || info.metadataFrom === 'none' ? ch.factor : Infinity;
 }
 
+/** One converter step in the channel unit: our metadata's unit per count, or an integer PCM code; else undefined. */
+export function channelLsb(ch: WavChannel, info: WavInfo): number | undefined {
+  if (info.format.encoding.startsWith('int')) return ch.factor;
+  const m = info.metadata?.channels.find((c) => c.name === ch.name);
+  return m?.scale !== undefined && m.unit === ch.unit ? m.scale : undefined;
+}
+
 export class ClipScan {
   readonly channels: ChannelClips[];
   /** Union of bad samples over channels: runs [start, end] (inclusive, absolute indices), in order. */

@@ -12,7 +12,7 @@ import { chooseChannelSpectra } from '../workers/choose-channel-spectra.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { defaultBands } from '../rules/default-bands.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
-import { channelFullScale, ClipScan } from './clip-scan.ts';
+import { channelFullScale, channelLsb, ClipScan } from './clip-scan.ts';
 import { AnalysisInputError } from './input-error.ts';
 import { findLines, makeLineSearch, type ReportLine } from './lines.ts';
 import { readMaskFile } from './mask-file.ts';
@@ -92,6 +92,10 @@ export interface ChannelReport {
   clippedSamples: number;
   /** Non-finite samples (a gap written as NaN). */
   missingSamples: number;
+  /** Full-scale peak at the ADC in the channel unit, when known (for dBFS/√Hz). */
+  fullScale?: number;
+  /** One converter step (LSB) at the ADC in the channel unit, when known (for LSB/√Hz). */
+  lsb?: number;
   lines?: ReportLine[];
   cumulativeRms?: Float64Array;
   mask?: MaskVerdict & { bands: ({ low: number; high: number } & MaskVerdict)[] };
@@ -204,7 +208,8 @@ export async function analyzeFile(
       );
     }
     const firstSample = info.firstSample + span.start;
-    const scan = new ClipScan(info.channels.map((ch) => channelFullScale(ch, info)));
+    const fullScales = info.channels.map((ch) => channelFullScale(ch, info));
+    const scan = new ClipScan(fullScales);
     const plan: ChannelEstimatorPlan = {
       sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
       medianOf: average === 'median' ? planned : undefined,
@@ -277,6 +282,8 @@ export async function analyzeFile(
         bands: bands.map((b, i) => ({ low: b.low, high: b.high, rms: bandRmsInBins(psd, first.binHz, ranges[i].first, ranges[i].last) })),
         clippedSamples: clip.count,
         missingSamples: clip.missing,
+        ...(Number.isFinite(fullScales[c]) ? { fullScale: fullScales[c] } : {}),
+        ...(channelLsb(ch, info) !== undefined ? { lsb: channelLsb(ch, info) } : {}),
       };
       if (lineSearch) out.lines = findLines(lineSearch, psd, keq);
       if (options.cumulative) out.cumulativeRms = cumulativeRms(psd, first.binHz);
@@ -288,6 +295,9 @@ export async function analyzeFile(
         if (!whole.pass) maskFailed = true;
         const perBand = bands.map((b, i) => ({ low: b.low, high: b.high, ...judgeMask(asd, limits, first.frequencies, Math.max(1, ranges[i].first), ranges[i].last) }));
         out.mask = { ...whole, bands: perBand };
+      }
+      if (options.source && ch.unit !== 'V') {
+        throw new AnalysisInputError(`--source-ohms: channel ${ch.name} is in ${ch.unit}, but a noise figure compares volts with Johnson noise; give --scale or --unit V for a volts recording.`);
       }
       if (options.source) out.noiseFigure = bandNoiseFigures(psd, first.binHz, bands, ranges, options.source);
       return out;

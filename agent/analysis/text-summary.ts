@@ -2,6 +2,7 @@
 // RMS, the floor density (median ASD over the non-DC bins, robust to a few spurs) with its confidence interval,
 // each band's RMS, and what was asked for (lines, cumulative RMS, mask verdict, noise figure), with SI prefixes.
 import { densityIntervalFactors } from '../../dsp/logfreq/confidence.ts';
+import { rmsToDbfs } from '../../dsp/units.ts';
 import type { AnalysisReport, ChannelReport } from './report.ts';
 import { formatSi } from './si.ts';
 
@@ -41,6 +42,14 @@ function channelLines(r: AnalysisReport, ch: ChannelReport): string[] {
   const ci = densityIntervalFactors(2 * s.equivalentAverages, 0.95);
   // A bin's density S lies in [Ŝ·lower, Ŝ·upper] (χ² with ν = 2·K_eq); the ASD interval is its square root.
   out.push(row('floor density (median ASD)', `${formatSi(floor, du)} (95 % interval of a bin: ${formatSi(floor * Math.sqrt(ci.lower), du)} to ${formatSi(floor * Math.sqrt(ci.upper), du)})`));
+  // The same floor re the converter, at the ADC (× gain when input-referred): dBFS/√Hz re a full-scale sine's RMS
+  // (AES17, dsp/units.ts) and LSB/√Hz.
+  const atAdc = floor * (ch.gain ?? 1);
+  const views = [
+    ch.fullScale !== undefined ? `${rmsToDbfs(atAdc, ch.fullScale).toFixed(1)} dBFS/√Hz` : '',
+    ch.lsb !== undefined ? `${(atAdc / ch.lsb).toPrecision(3)} LSB/√Hz` : '',
+  ].filter(Boolean);
+  if (views.length > 0) out.push(row('  at the ADC', views.join(', ')));
   for (const b of ch.bands) out.push(row(`band ${bandLabel(b.low, b.high)} RMS`, formatSi(b.rms, au)));
   if (ch.clippedSamples > 0) out.push(row('clipped samples', String(ch.clippedSamples)));
   if (ch.missingSamples > 0) out.push(row('missing (non-finite) samples', String(ch.missingSamples)));

@@ -2,6 +2,7 @@
 // clip warning, the confidence interval in the text report and a CSV piped into `head`. Every figure is checked
 // against scipy/numpy on the same samples (the call is named beside each check).
 import { spawnSync } from 'node:child_process';
+import { copyFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Python, root, tempDir } from '../wav/support.ts';
@@ -139,6 +140,21 @@ describe('analyze that survives a clip', () => {
     const { report } = json(clipPath, '--segment', String(N), '--from', String(FROM / RATE), '--to', String(TO / RATE), '--average', 'median');
     expect(report.settings.average).toBe('median');
     for (let c = 0; c < 2; c++) expect(worstRel(report.channels[c].psd, ref.psdMedian[c])).toBeLessThan(1e-9);
+  });
+
+  it('takes ISO-8601 wall times for --from/--to when the metadata has a start, the same span as seconds', () => {
+    const stamped = join(dir, 'stamped.wav');
+    copyFileSync(clipPath, stamped);
+    writeFileSync(`${stamped}.json`, JSON.stringify({
+      schema: 'floorline.recording/1', sampleRate: RATE, firstSample: 0, startWallTime: '2026-12-02T10:00:00.000Z',
+      channels: [{ name: 'a', unit: 'FS' }, { name: 'b', unit: 'FS' }],
+    }));
+    const iso = json(stamped, '--segment', String(N), '--from', '2026-12-02T10:00:01Z', '--to', '2026-12-02T10:00:09Z').report;
+    expect(iso.settings.span).toMatchObject({ firstSample: FROM, endSample: TO });
+    for (let c = 0; c < 2; c++) expect(worstRel(iso.channels[c].psd, ref.psdSpan[c])).toBeLessThan(1e-9); // scipy.signal.welch on x[a:b]
+    const none = runCli('analyze', clipPath, '--from', '2026-12-02T10:00:01Z');
+    expect(none.status).toBe(2);
+    expect(none.stderr).toMatch(/has no start wall time in its metadata; give seconds of sample time instead/);
   });
 
   it('refuses a span outside the file and an unknown averaging, naming the fix', () => {

@@ -88,7 +88,8 @@ describe('floorline analyze --json', () => {
     expect(Object.keys(report.settings)).toEqual([
       'segment', 'window', 'overlap', 'detrend', 'averages', 'nenbw', 'enbwHz', 'binHz', 'average', 'excludedSegments', 'equivalentAverages', 'span',
     ]);
-    expect(Object.keys(report.channels[0])).toEqual(['name', 'unit', 'referredTo', 'frequency', 'psd', 'asd', 'rms', 'bands', 'clippedSamples', 'missingSamples']);
+    // A float file from elsewhere reads as FS: full scale ±1 is known (fullScale), its step is not (no lsb).
+    expect(Object.keys(report.channels[0])).toEqual(['name', 'unit', 'referredTo', 'frequency', 'psd', 'asd', 'rms', 'bands', 'clippedSamples', 'missingSamples', 'fullScale']);
     expect(report.channels.map((c) => `${c.name}/${c.unit}`)).toEqual(['ch0/FS', 'ch1/FS', 'ch2/FS']);
     await expectMatchesScipy(path, report, {
       segment: 4096,
