@@ -9,6 +9,8 @@ import { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
 import { Recorder, type RecorderOptions } from '../../recorder/recorder.ts';
 import { repairRecordings } from '../../recorder/repair-on-start.ts';
 import { EventLog } from '../../events/event-log.ts';
+import type { SinkConfig } from '../../config/rig-config.ts';
+import { attachNotifier } from '../../notify/attach.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
 import { attachHistory, type History } from '../../store/attach.ts';
 import { AlarmHook } from '../../rules/alarm-hook.ts';
@@ -32,6 +34,8 @@ export interface SessionOptions {
   /** Also append every event to this file (besides the data folder's events.jsonl). */
   eventsOut?: string;
   /** Starts the dashboard server when given; returns its URL and a close function. */
+  /** Notification sinks of the rig config (their outbox lives in the data folder). */
+  notify?: readonly SinkConfig[];
   serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined }) => Promise<{ url: string; close(): Promise<void> }>;
   /** Keep the trend history in this store file (see agent/store); absent: no history. */
   history?: { path: string; source: string; bands?: readonly { low: number; high: number }[]; retention?: Record<Level, number> };
@@ -88,6 +92,10 @@ export async function startSession(o: SessionOptions): Promise<Session> {
 
   const logPaths = [...(folderOk && o.detectors ? [folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
   const log = logPaths.length ? new EventLog(logPaths) : undefined;
+  const notifier = folderOk && o.notify?.length
+    ? attachNotifier(pipeline, folder.root, o.notify, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`))
+    : undefined;
+  if (o.notify?.length && !notifier) process.stderr.write(`floorline ${o.command}: notifications are off: no usable data folder for their outbox.\n`);
   const digest = new SnapshotDigest();
   pipeline.on('snapshot', (s) => digest.add(s));
   pipeline.on('event', (e: FloorlineEvent) => {
@@ -117,6 +125,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
       process.off('SIGINT', onSignal);
       process.off('SIGTERM', onSignal);
       recorder?.close();
+      await notifier?.close();
       history?.close();
       log?.close();
       await server?.close();
