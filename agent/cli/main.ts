@@ -1,7 +1,7 @@
 // The `floorline` command: dispatches to one subcommand module each.
 import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
-import { printable } from '../core/limits.ts';
+import { printable } from '../../protocol/limits.ts';
 
 function topHelp(): string {
   const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);

@@ -1,7 +1,7 @@
 // The descriptor message: what a board tells the host about its stream. Sent by the board right after it
 // starts streaming and whenever the host sends a describe request. Body is UTF-8 JSON (see PROTOCOL.md).
 import { MAX_CHANNELS, SAMPLE_FORMATS, formatFullScale, type SampleFormat } from './protocol.ts';
-import { MAX_NAME_LENGTH, SAMPLE_RATE_MAX, SAMPLE_RATE_MIN, hasControlCharacters, printable, rateProblem } from '../core/limits.ts';
+import { MAX_NAME_LENGTH, SAMPLE_RATE_MAX, SAMPLE_RATE_MIN, hasControlCharacters, printable, rateProblem } from '../../protocol/limits.ts';
 
 /** Largest unit per count: an int32 full scale times this stays well inside float32. */
 export const PER_COUNT_MAX = 1e20;

@@ -11,8 +11,8 @@ import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo
 import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
 import { BlockQueue } from './block-queue.ts';
 import { Conditioner, forEachFiniteRun } from './conditioner.ts';
-import { rateProblem } from '../core/limits.ts';
-import { makeEvent } from '../alarms/event-factory.ts';
+import { rateProblem } from '../../protocol/limits.ts';
+import { makeEvent } from '../rules/event-factory.ts';
 import { Emitter, type Listener } from './emitter.ts';
 import type { CalibratedBlock, Detector, NonFiniteNotice, OverrunNotice, PipelineCounters, PipelineEvents, SegmentObserver } from './types.ts';
 

@@ -1,7 +1,7 @@
 // The 'fmt ' chunk: which sample encodings we decode, and how to recognise them.
 // Sources: Microsoft "Multimedia Programming Interface and Data Specifications 1.0" (1991) for RIFF/WAVE and
 // WAVEFORMATEX; Microsoft "WAVEFORMATEXTENSIBLE" (KSDATAFORMAT_SUBTYPE_* GUIDs); EBU Tech 3306 (RF64).
-import { MAX_CHANNELS, rateProblem } from '../core/limits.ts';
+import { MAX_CHANNELS, rateProblem } from '../../protocol/limits.ts';
 import { WavError } from './errors.ts';
 
 export const WAVE_FORMAT_PCM = 0x0001;

@@ -4,7 +4,7 @@
 import type { FileHandle } from 'node:fs/promises';
 import { WavError } from './errors.ts';
 import { parseFmtChunk, type WavFormat } from './format.ts';
-import { MAX_METADATA_BYTES } from '../core/limits.ts';
+import { MAX_METADATA_BYTES } from '../../protocol/limits.ts';
 import { METADATA_CHUNK_ID, parseMetadataText, type RecordingMetadata } from './metadata.ts';
 
 export type Container = 'RIFF' | 'RF64';

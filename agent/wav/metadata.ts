@@ -3,7 +3,7 @@
 import type { AnalysisSettings } from '../../protocol/settings.ts';
 import type { ChannelCalibration, SourceKind } from '../../protocol/stream.ts';
 import { WavError } from './errors.ts';
-import { MAX_CHANNELS, MAX_NAME_LENGTH, hasControlCharacters, printable, MAX_FIRST_SAMPLE, WALL_TIME_MAX_MS, WALL_TIME_MIN_MS, rateProblem } from '../core/limits.ts';
+import { MAX_CHANNELS, MAX_NAME_LENGTH, hasControlCharacters, printable, MAX_FIRST_SAMPLE, WALL_TIME_MAX_MS, WALL_TIME_MIN_MS, rateProblem } from '../../protocol/limits.ts';
 
 /** Chunk id of the embedded metadata (our own naming: "floorline metadata"). */
 export const METADATA_CHUNK_ID = 'flmd';

@@ -10,7 +10,7 @@ import { WavError, wavIoError } from './errors.ts';
 import { fullScaleCounts, type WavFormat } from './format.ts';
 import { readWavLayout, type Container, type WavLayout } from './header.ts';
 import { openRegularFile, readSmallTextFile } from './regular-file.ts';
-import { MAX_METADATA_BYTES } from '../core/limits.ts';
+import { MAX_METADATA_BYTES } from '../../protocol/limits.ts';
 import { sidecarPath, parseMetadataText, type RecordingMetadata } from './metadata.ts';
 import { decodeFrames } from './decode.ts';
 

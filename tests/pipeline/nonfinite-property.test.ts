@@ -7,12 +7,12 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
-import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
 import { Recorder } from '../../agent/recorder/recorder.ts';
 import { dataFolderAt, ensureDataFolder } from '../../agent/config/data-folder.ts';
 import { readWavFile } from '../../agent/wav/reader.ts';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 
 export const PROPERTY_RUNS = 40;
 const dir = mkdtempSync(join(tmpdir(), 'floorline-nonfinite-'));
