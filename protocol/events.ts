@@ -2,8 +2,9 @@
 // Pure types: the dashboard imports this module too.
 
 export type EventKind = 'alarm' | 'info';
-export type EventState = 'raised' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'internal';
+/** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
+export type EventState = 'raised' | 'settled' | 'cleared';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention';
 // 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {
@@ -30,6 +31,15 @@ export interface FloorlineEvent {
   amplitude?: number;
   /** For mains: harmonic number k of k × fundamental. */
   harmonic?: number;
+  /** Stable id of the incident the alarm belongs to (one fault = one incident; DEVELOPERS.md "Incidents"). */
+  incident?: string;
+  /** cleared: the highest recent-window level over the alarm's life, dB, and the sample it was read at. */
+  peakLevelDb?: number;
+  peakSample?: number;
+  /** cleared, spur and mains: the highest floor-subtracted line amplitude over the alarm's life, unit RMS. */
+  peakAmplitude?: number;
+  /** cleared: from the raise to the clear, seconds of sample time. */
+  durationSeconds?: number;
   /** Path of the capture recording, relative to the data folder, when one was triggered. */
   capture?: string;
   /** Human-readable summary. */

@@ -67,12 +67,20 @@ export interface ShelveRequest {
   seconds: number;
 }
 
+/** An operator note, stamped by the agent with its current sample (stored in the history and the event log). */
+export interface NoteRequest {
+  type: 'note';
+  id: number;
+  text: string;
+  incident?: string;
+}
+
 export interface StatusRequest {
   type: 'get-status';
   id: number;
 }
 
-export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | ShelveRequest | StatusRequest;
+export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | ShelveRequest | NoteRequest | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
 // ---------------------------------------------------------------- agent → client
@@ -187,6 +195,7 @@ export interface ReplyResults {
   'set-analysis': { context: SpectrumContext };
   acknowledge: { acknowledged: boolean };
   shelve: { shelved: boolean; untilSample: number };
+  note: { sample: number; t: number; wallTime: string };
   'get-status': { status: AgentStatus };
 }
 

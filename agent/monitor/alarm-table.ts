@@ -9,7 +9,7 @@ export class AlarmTable {
   private readonly rows = new Map<string, AlarmRow>();
 
   onEvent(e: FloorlineEvent): void {
-    if (e.kind !== 'alarm') return;
+    if (e.kind !== 'alarm' || e.state === 'settled') return; // settled restates a raised alarm's level
     const id = alarmId(e);
     const prev = this.rows.get(id);
     const raised = e.state === 'raised';

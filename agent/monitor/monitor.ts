@@ -22,6 +22,9 @@ import { AlarmHook } from '../rules/alarm-hook.ts';
 import type { DetectorStatus } from '../rules/detectors.ts';
 import { makeEvent } from '../rules/event-factory.ts';
 import { ReplaySource } from '../sources/replay.ts';
+import { attachHistory, type History } from '../store/attach.ts';
+import { attachNotifier } from '../notify/attach.ts';
+import type { Notifier } from '../notify/notifier.ts';
 import { AlarmTable } from './alarm-table.ts';
 import { BandTable } from './band-table.ts';
 import { EventHistory } from './event-history.ts';
@@ -62,9 +65,11 @@ export class Monitor {
   finished: Promise<void> = Promise.resolve();
   private recorderRef: Recorder | undefined;
   private log: EventLog | undefined;
+  private historyRef: History | undefined;
+  private notifier: Notifier | undefined;
   private readonly hook: AlarmHook;
   private readonly parts: PartHost;
-  private readonly history: EventHistory;
+  private readonly recent: EventHistory;
   private readonly alarmTable = new AlarmTable();
   private readonly bandTable = new BandTable();
   private last: SpectrumSnapshot | null = null;
@@ -80,7 +85,7 @@ export class Monitor {
     this.say = o.log ?? ((line) => process.stderr.write(`floorline ${o.command}: ${line}\n`));
     this.pipeline = new Pipeline({ analysis: o.analysis, averaging: o.averaging, snapshotRate: o.snapshotRate, mode: o.mode, queueCapacity: o.queueCapacity });
     this.folder = dataFolderAt(o.dataDir);
-    this.history = new EventHistory(o.eventHistory ?? 1000);
+    this.recent = new EventHistory(o.eventHistory ?? 1000);
     this.baselineNow = o.baseline ? baselineView(o.baseline.label ?? o.baseline.where, o.baseline.baseline) : null;
     this.parts = new PartHost((part, where, err) => this.partFailed(part, where, err));
     this.hook = new AlarmHook({
@@ -94,6 +99,11 @@ export class Monitor {
 
   get recorder(): Recorder | undefined {
     return this.recorderRef;
+  }
+
+  /** The history store the monitor writes, when it keeps one. */
+  get history(): History | undefined {
+    return this.historyRef;
   }
 
   /** Attaches a part; from the next callback on it sees the stream (attach before the source starts to see all). */
@@ -121,8 +131,24 @@ export class Monitor {
     if (o.record && this.recorderRef) this.recorderRef.startRecording();
     else if (o.record) this.say(`recording failed: no usable data folder at ${this.folder.root}.`);
     p.addDetector(this.hook);
+    const hook = this.hook;
+    // Refused (another agent holds the store) before the source starts: nothing is read, nothing is written.
+    if (o.history) {
+      this.historyRef = attachHistory(p, {
+        ...o.history,
+        command: o.command,
+        detectorStatus: () => hook.detectors?.status(),
+        incidentRecords: () => hook.detectors?.incidentRecords(),
+        onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
+        warn: (m) => this.say(m),
+      });
+    }
     const logPaths = [...(folderOk ? [this.folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
     this.log = logPaths.length ? new EventLog(logPaths) : undefined;
+    if (o.notify?.length) {
+      if (folderOk) this.notifier = attachNotifier(p, this.folder.root, o.notify, this.say);
+      else this.say('notifications are off: no usable data folder for their outbox.');
+    }
     this.lowFrequency?.attach(p);
 
     p.on('info', (i) => this.parts.call('onInfo', i));
@@ -135,7 +161,7 @@ export class Monitor {
     });
     p.on('event', (e: FloorlineEvent) => {
       this.log?.write(e);
-      this.history.add(e);
+      this.recent.add(e);
       this.alarmTable.onEvent(e);
       this.parts.call('onEvent', e);
     });
@@ -174,6 +200,10 @@ export class Monitor {
   async close(): Promise<void> {
     this.capturing?.run.cancel();
     this.recorderRef?.close();
+    await this.notifier?.close();
+    this.notifier = undefined;
+    this.historyRef?.close();
+    this.historyRef = undefined;
     this.log?.close();
     this.log = undefined;
     await this.parts.closeAll();
@@ -195,14 +225,14 @@ export class Monitor {
   }
 
   recentEvents(limit: number): FloorlineEvent[] {
-    return this.history.recent(limit);
+    return this.recent.recent(limit);
   }
 
   /** Mains fundamental, Hz: the rules' measurement, else the newest mains event's frequency over its harmonic. */
   mainsHz(): number | null {
     const measured = this.hook.detectors?.status().find((c) => c.mains.fundamental > 0)?.mains.fundamental;
     if (measured) return measured;
-    const e = this.history.findLast((x) => x.rule === 'mains' && x.frequency !== undefined && !!x.harmonic);
+    const e = this.recent.findLast((x) => x.rule === 'mains' && x.frequency !== undefined && !!x.harmonic);
     return e ? e.frequency! / e.harmonic! : null;
   }
 
@@ -227,7 +257,7 @@ export class Monitor {
   }
 
   replayState(): ReplayState | null {
-    const r = this.source;
+    const r = this.o.replay ?? this.source;
     if (!(r instanceof ReplaySource)) return null;
     const frames = r.fileInfo?.frames ?? 0;
     return { position: frames ? r.position.sample % frames : r.position.sample, duration: frames, speed: r.speed, loop: r.loops, file: r.path };

@@ -6,6 +6,9 @@ import type { AnalysisChoice } from '../pipeline/analyser.ts';
 import type { RecorderOptions } from '../recorder/recorder.ts';
 import type { RulesConfig } from '../rules/rules.ts';
 import type { Monitor } from './monitor.ts';
+import type { SinkConfig } from '../config/rig-config.ts';
+import type { Level } from '../store/schema.ts';
+import type { ReplaySource } from '../sources/replay.ts';
 import type { MonitorPart } from './parts.ts';
 
 /** A part, or a function that makes one from the monitor (for parts that read the monitor, e.g. a server). */
@@ -37,6 +40,12 @@ export interface MonitorOptions {
   lowFrequency?: boolean;
   /** Events kept for clients that connect later (default 1000). */
   eventHistory?: number;
+  /** Keep the trend history in this store (agent/store); absent: no history. */
+  history?: { path: string; source: string; bands?: readonly { low: number; high: number }[]; retention?: Record<Level, number> };
+  /** Notification sinks (their outbox lives in the data folder). */
+  notify?: readonly SinkConfig[];
+  /** The replay behind the source (which may wrap it, e.g. to calibrate), for the replay position in status. */
+  replay?: ReplaySource;
   /** Extra parts, attached before the source starts, in this order. */
   parts?: PartSpec[];
   /** Where the monitor's own warnings go (default stderr). */

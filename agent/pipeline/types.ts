@@ -52,6 +52,16 @@ export interface ClipNotice {
   fullScaleCounts: number;
 }
 
+/** A run of frames holding a non-finite value (NaN, ±Inf, float32 overflow): excluded from everything like a gap. */
+export interface NonFiniteNotice {
+  /** First excluded sample index. */
+  sample: number;
+  /** Frames excluded. */
+  frames: number;
+  /** Channels with a non-finite value in the run. */
+  channels: string[];
+}
+
 /** Whole blocks dropped because analysis fell behind the source. */
 export interface OverrunNotice {
   /** First dropped sample index. */
@@ -70,6 +80,27 @@ export interface Detector {
   onOverrun?(overrun: OverrunNotice): FloorlineEvent[];
 }
 
+/** What a segment observer is told when an analysis (re)starts: the grid of the estimates that follow. */
+export interface AnalysisGrid {
+  settings: AnalysisSettings;
+  frequencies: Float64Array;
+  binHz: number;
+  /** Samples between snapshot instants. */
+  snapshotInterval: number;
+  channels: readonly { name: string; unit: string }[];
+  firstSample: number;
+}
+
+/**
+ * Told of every Welch segment of every channel as it completes, with the segment's own one-sided density
+ * (unit²/Hz, a reused buffer valid only during the call) and the absolute index of its last sample. The
+ * per-segment values let a consumer average exactly the segments that end inside an interval.
+ */
+export interface SegmentObserver {
+  onAnalysis(grid: AnalysisGrid): void;
+  onSegment(channel: number, density: Float64Array, lastSample: number): void;
+}
+
 export interface PipelineEvents {
   info: StreamInfo;
   block: CalibratedBlock;
@@ -79,6 +110,7 @@ export interface PipelineEvents {
   link: LinkNotice;
   clip: ClipNotice;
   overrun: OverrunNotice;
+  nonfinite: NonFiniteNotice;
   end: { sample: number };
 }
 
@@ -93,6 +125,9 @@ export interface PipelineCounters {
   droppedBlocks: number;
   droppedSamples: number;
   clippedSamples: number[];
+  /** Frames excluded because they held a non-finite value, and the first sample of the latest such run (-1: none). */
+  nonfiniteFrames: number;
+  lastNonfiniteSample: number;
   events: number;
   queueDepth: number;
   queueCapacity: number;

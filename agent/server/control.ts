@@ -44,6 +44,11 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
         const r = backend.shelve(m.alarm, m.seconds);
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: r };
       }
+      case 'note': {
+        if (!backend.history) throw new MonitorRefusal('failed', 'this agent keeps no history store; notes need one (start it without --no-history)');
+        const stamped = backend.history.note(m.text, m.incident);
+        return { type: 'reply', id: m.id, request: m.type, ok: true, result: stamped };
+      }
       case 'get-status':
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { status: deps.status() } };
     }

@@ -28,8 +28,10 @@ export function monitorBackend(m: Monitor): { backend: ServerBackend; part: Moni
     onBlock: (b) => subscribers.forEach((s) => s.block(b)),
     onEvent: (e) => subscribers.forEach((s) => s.event(e)),
   };
+  const history = m.history;
   const backend: ServerBackend = {
     dataRoot: m.folder.root,
+    history: history ? { path: history.path, note: (text, incident) => history.note(text, incident) } : undefined,
     subscribe(s) {
       subscribers.add(s);
       return () => subscribers.delete(s);

@@ -13,6 +13,7 @@ const TYPES: Record<ClientMessageType, readonly string[]> = {
   'set-analysis': ['type', 'id', 'averaging', 'segment', 'window'],
   acknowledge: ['type', 'id', 'alarm'],
   shelve: ['type', 'id', 'alarm', 'seconds'],
+  note: ['type', 'id', 'text', 'incident'],
   'get-status': ['type', 'id'],
 };
 
@@ -27,6 +28,7 @@ export const SHELVE_SECONDS_MAX = 7 * 86_400;
 
 /** An alarm id as protocol/ids.ts makes them: printable, no control characters. */
 const ALARM_ID = /^[a-z-]+\/[\x20-\x7e\u00a0-\uffff]{1,200}$/;
+export const NOTE_TEXT_MAX = 2000;
 
 /** A baseline file name the client may choose: one plain name, no folders, no leading dot. */
 export const SAFE_FILE_NAME = /^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$/;
@@ -125,6 +127,20 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       return { type, id, alarm: alarm(o) };
     case 'shelve':
       return { type, id, alarm: alarm(o), seconds: num(o, 'seconds', 1, SHELVE_SECONDS_MAX, false) };
+    case 'note': {
+      const text = str(o, 'text', NOTE_TEXT_MAX);
+      // eslint-disable-next-line no-control-regex
+      if (text.trim() === '' || /[\u0000-\u0008\u000b-\u001f\u007f]/.test(text)) {
+        throw new Invalid('bad-message', `'text' must be plain text, not empty (tabs and line breaks are fine)`);
+      }
+      const m: ClientMessage = { type, id, text };
+      if (o.incident !== undefined) {
+        const incident = str(o, 'incident', 200);
+        if (!/^[A-Za-z0-9._:-]+$/.test(incident)) throw new Invalid('bad-message', `'incident' is not an incident id`);
+        m.incident = incident;
+      }
+      return m;
+    }
     case 'get-status':
       return { type, id };
   }

@@ -2,10 +2,12 @@
 // A line is a bin that is the largest within ±L bins (L = the window's main-lobe half-width) and exceeds the
 // local floor by a power ratio. The median is taken only at such local maxima (a fifth of the bins for Hann), and
 // is used as the floor across the line's lobe. Its amplitude comes from the density over the main lobe with the
-// floor taken off:
-//   A_rms² = Σ_lobe (psd[j] − floor)·Δf
+// floor's share taken off (dsp/tone.ts lineAboveFloor, the one rule for every line readout):
+//   A_rms² = (Σ_lobe psd[j] − n·floor)·Δf
 // (density scaling integrates to the signal's mean square, so a tone's lobe integrates to A_rms² wherever it falls
-// between bins; Heinzel, Rüdiger & Schilling 2002, §9–10). Frequency is the power-weighted centroid over the lobe.
+// between bins; Heinzel, Rüdiger & Schilling 2002, §9–10). The median of averaged noise bins sits below their mean
+// (χ²(ν)/ν is skewed), so the floor subtracted is the median divided by chi2MeanMedian(ν) when ν is given.
+import { lineAboveFloor } from '../tone.ts';
 import { RunningMedian } from './running-median.ts';
 
 export interface SpurFinderOptions {
@@ -34,11 +36,13 @@ export class SpurFinder {
   readonly lineAmplitude: Float64Array;
   /** Peak bin over local floor, dB. */
   readonly lineHeightDb: Float64Array;
-  private readonly f: Float64Array;
-  private readonly binHz: number;
-  private readonly median: RunningMedian;
-  private readonly firstBin: number;
-  private readonly lastBin: number;
+  protected readonly f: Float64Array;
+  protected readonly binHz: number;
+  protected readonly median: RunningMedian;
+  protected readonly firstBin: number;
+  protected readonly lastBin: number;
+  /** chi2MeanMedian of the estimate being searched (set by find): turns the local median into a mean floor. */
+  protected medianToMean = 1;
 
   constructor(o: SpurFinderOptions) {
     const n = o.frequencies.length;
@@ -71,71 +75,103 @@ export class SpurFinder {
     this.lineHeightDb = new Float64Array(this.maxLines);
   }
 
-  /** Finds lines whose peak exceeds the local floor by `ratio` (power). Returns the count; results in line*. */
-  find(psd: Float64Array, ratio: number): number {
+  /**
+   * Finds lines whose peak exceeds the local floor by `ratio` (power). Returns the count; results in line*.
+   * `medianToMean` (chi2MeanMedian of the estimate's ν; 1 = no correction) turns the local median into the mean
+   * floor density that the amplitude subtracts.
+   */
+  find(psd: Float64Array, ratio: number, medianToMean = 1): number {
+    this.medianToMean = medianToMean;
     if (psd.length < this.bins) throw new RangeError(`SpurFinder.find: psd needs ${this.bins} bins, got ${psd.length}`);
     if (!(ratio > 1)) throw new RangeError(`SpurFinder.find: ratio must be > 1, got ${ratio}`);
-    const median = this.median;
-    const hw = median.halfWidth;
-    const n = this.bins;
     const L = this.lobe;
-    const f = this.f;
-    const df = this.binHz;
-    const cap = this.maxLines;
-    const bin = this.lineBin;
-    const freq = this.lineFrequency;
-    const amp = this.lineAmplitude;
-    const height = this.lineHeightDb;
+    const last = this.lastBin;
     let count = 0;
-    const lineFloor = this.lineFloor;
-    for (let k = this.firstBin; k <= this.lastBin; k++) {
+    // Local maxima (largest within ±L, the earliest of equals) in one pass that skips bins already known not to be
+    // maxima, so it finds the same set as testing every bin: when psd[k+1..j−1] ≤ psd[k] < psd[j] with j ≤ k+L,
+    // none of k..j−1 is a maximum (psd[j] is in reach of each); when psd[k+1..k+L] ≤ psd[k], none of k+1..k+L is
+    // (k is in reach, not smaller, and earlier). A NaN stops the skipping: that bin is tested on its own.
+    let k = this.firstBin;
+    while (k <= last) {
       const p = psd[k];
+      const reach = k + L;
+      let j = k + 1;
+      while (j <= reach && psd[j] <= p) j++;
+      let next = reach + 1;
       let isPeak = true;
-      for (let j = k - L; j <= k + L; j++) {
-        if (psd[j] > p || (psd[j] === p && j < k)) {
-          isPeak = false;
-          break;
+      if (j <= reach) {
+        if (psd[j] > p) {
+          k = j;
+          continue;
+        }
+        next = k + 1;
+        for (let i = j; i <= reach; i++) {
+          if (psd[i] > p) {
+            isPeak = false;
+            break;
+          }
         }
       }
-      if (!isPeak) continue;
-      if (k >= hw && k + hw < n) {
-        // Cheap rejection first: if H+1 or more window values are all ≥ x, the median (the (H+1)-th largest of
-        // 2H+1) is ≥ x. So the smallest of the outermost H+1 values bounds the median from below.
-        let lb = Infinity;
-        for (let d = hw, taken = 0; taken <= hw; d--, taken += 2) {
-          const a = psd[k - d];
-          const b = psd[k + d];
-          if (a < lb) lb = a;
-          if (b < lb) lb = b;
-        }
-        if (!(p > ratio * lb)) continue;
-      }
-      const fl = median.at(psd, k);
-      if (!(p > ratio * fl)) continue;
-      let power = 0;
-      let moment = 0;
-      for (let j = k - L; j <= k + L; j++) {
-        const excess = psd[j] - fl;
-        if (excess > 0) {
-          power += excess;
-          moment += excess * f[j];
+      if (isPeak) {
+        for (let i = k - L; i < k; i++) {
+          if (psd[i] >= p) {
+            isPeak = false;
+            break;
+          }
         }
       }
-      const h = 10 * Math.log10(p / fl);
-      let slot = count;
-      if (count === cap) {
-        // Full: replace the weakest line if this one stands higher.
-        let weakest = 0;
-        for (let i = 1; i < cap; i++) if (height[i] < height[weakest]) weakest = i;
-        if (height[weakest] >= h) continue;
-        slot = weakest;
-      } else count++;
-      bin[slot] = k;
-      freq[slot] = moment / power;
-      amp[slot] = Math.sqrt(power * df);
-      height[slot] = h;
-      lineFloor[slot] = fl;
+      if (isPeak && this.mayStand(psd, k, p, ratio)) count = this.consider(psd, k, ratio, count);
+      k = next;
     }
+    return count;
+  }
+
+  /**
+   * False when the median around the maximum at k is surely too high for a line: if H+1 or more window values are
+   * all ≥ x, the median (the (H+1)-th largest of 2H+1) is ≥ x, so the smallest of the outermost H+1 values bounds
+   * it from below. Math.min compiles to a branch-free minimum; it gives NaN where a value is NaN, and then the
+   * comparison form (which skips NaN) decides instead. Edge windows are always worth the median.
+   */
+  private mayStand(psd: Float64Array, k: number, p: number, ratio: number): boolean {
+    const hw = this.median.halfWidth;
+    if (k < hw || k + hw >= this.bins) return true;
+    let lb = Infinity;
+    for (let d = hw, taken = 0; taken <= hw; d--, taken += 2) lb = Math.min(lb, psd[k - d], psd[k + d]);
+    if (lb !== lb) {
+      lb = Infinity;
+      for (let d = hw, taken = 0; taken <= hw; d--, taken += 2) {
+        const a = psd[k - d];
+        const b = psd[k + d];
+        if (a < lb) lb = a;
+        if (b < lb) lb = b;
+      }
+    }
+    return p > ratio * lb;
+  }
+
+  /** Keeps the local maximum at k if it stands `ratio` over its median floor; returns the new line count. */
+  protected consider(psd: Float64Array, k: number, ratio: number, count: number): number {
+    const L = this.lobe;
+    const p = psd[k];
+    const fl = this.median.at(psd, k);
+    if (!(p > ratio * fl)) return count;
+    const line = lineAboveFloor(psd, this.binHz, L, k, fl / this.medianToMean);
+    const h = 10 * Math.log10(p / fl);
+    const height = this.lineHeightDb;
+    const cap = this.maxLines;
+    let slot = count;
+    if (count === cap) {
+      // Full: replace the weakest line if this one stands higher.
+      let weakest = 0;
+      for (let i = 1; i < cap; i++) if (height[i] < height[weakest]) weakest = i;
+      if (height[weakest] >= h) return count;
+      slot = weakest;
+    } else count++;
+    this.lineBin[slot] = k;
+    this.lineFrequency[slot] = line.frequency;
+    this.lineAmplitude[slot] = line.rms;
+    height[slot] = h;
+    this.lineFloor[slot] = fl;
     return count;
   }
 

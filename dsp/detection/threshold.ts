@@ -108,3 +108,13 @@ export function conservativeAverages(k: number): number {
   if (!(k > 0)) return k;
   return Math.exp(Math.floor(Math.log(k) / Math.log1p(0.01)) * Math.log1p(0.01));
 }
+
+/**
+ * Power ratio over the local median a line must exceed, for K equivalent averages: max(margin, the ratio a noise
+ * bin exceeds with probability α/bins) (Bonferroni over the bins searched). Shared by the live spur rule and the
+ * offline line list, so both call the same lines on the same spectrum. Both pass K through conservativeAverages.
+ */
+export function lineThresholdRatio(equivalentAverages: number, alpha: number, bins: number, marginRatio: number): number {
+  const nu = 2 * equivalentAverages;
+  return Math.max(marginRatio, chi2MeanUpperQuantile(alpha / bins, nu) / chi2MeanMedian(nu));
+}

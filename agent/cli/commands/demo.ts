@@ -3,7 +3,10 @@
 import { existsSync } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { RECORDING_FLAGS, monitorOptionsFromFlags } from './monitor-flags.ts';
+import { RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { rescaleBaselineForReplay } from '../../config/calibration.ts';
+import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
 import { readBaseline } from '../../baseline/format.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
@@ -20,13 +23,21 @@ export function bundledRecording(name: string): string {
 }
 
 async function runDemo(args: ParsedArgs): Promise<number> {
+  const rig = readConfigFlag(args, demoCommand.flags);
   const f = args.flags;
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) throw new UsageError(`floorline demo: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 4.`);
   const file = bundledRecording('demo.wav');
   const baselinePath = bundledRecording('demo-baseline.json');
   if (!existsSync(file)) throw new InputError(`floorline demo: the demo recording ${file} is missing; reinstall, or make it with \`floorline simulate recordings/demo-scenario.json --out recordings/demo.wav\`.`);
-  const baseline = existsSync(baselinePath) ? await readBaseline(baselinePath) : undefined;
+  let baseline = existsSync(baselinePath) ? await readBaseline(baselinePath) : undefined;
+  const channels = rig?.config.channels;
+  if (baseline && channels) {
+    // The bundled baseline is in the recording's own units; follow the config's calibration, and say so.
+    const r = rescaleBaselineForReplay(baseline, channels);
+    baseline = r.baseline;
+    if (r.changed.length) process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
+  }
   const loop = !(f['no-loop'] as boolean);
   const source = new ReplaySource(file, { speed, loop });
   process.stdout.write(
@@ -37,10 +48,13 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   // The baseline was taken with the default analysis settings, so the demo runs with them (it has no analysis flags).
   const options = await monitorOptionsFromFlags(args, 'demo', {
     mode: 'lossless',
+    rig,
+    sourceLabel: file,
+    replay: source,
     frames: () => source.fileInfo?.frames,
     baseline: baseline ? { baseline, where: baselinePath, label: 'recordings/demo-baseline.json' } : undefined,
   });
-  const monitor = await startMonitor(source, options);
+  const monitor = await startMonitor(calibratedSource(source, rig, 'demo'), options);
   await source.done;
   await monitor.finished;
   return 0;
@@ -52,6 +66,7 @@ export const demoCommand: CommandSpec = {
   details: 'The recording and its scripted events (mains pickup, a switching spur, a band floor rise, a clip) are described in recordings/README.md.',
   positionals: [],
   flags: [
+    CONFIG_FLAG,
     { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed' },
     { name: 'no-loop', kind: 'boolean', help: 'play the recording once' },
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard' },
@@ -59,6 +74,7 @@ export const demoCommand: CommandSpec = {
     { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
     ...RECORDING_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runDemo,
 };

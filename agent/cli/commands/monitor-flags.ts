@@ -14,6 +14,11 @@ import type { MonitorOptions, PartSpec } from '../../monitor/options.ts';
 import { defaultAssetsDir, serverOptionsFromArgs } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
 import { consolePart } from './console-part.ts';
+import type { LoadedRigConfig } from '../../config/rig-config.ts';
+import { CalibratedSource } from '../../config/calibration.ts';
+import type { Source } from '../../../protocol/stream.ts';
+import type { ReplaySource } from '../../sources/replay.ts';
+import { historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
   { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
@@ -121,9 +126,9 @@ export interface AlarmFlagValues {
 }
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
-export async function readAlarmFlags(args: ParsedArgs, command: string): Promise<AlarmFlagValues> {
+export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig): Promise<AlarmFlagValues> {
   const f = args.flags;
-  const rules = f.rules ? await loadRules(f.rules as string) : defaultRules();
+  const rules = f.rules ? await loadRules(f.rules as string) : configRules ? structuredClone(configRules) : defaultRules();
   const bands = (f.band as string[]).map((b) => {
     try {
       return parseBand(b);
@@ -139,6 +144,12 @@ export async function readAlarmFlags(args: ParsedArgs, command: string): Promise
 
 export interface CommandWiring {
   mode: MonitorOptions['mode'];
+  /** The --config file, read first thing by the command (it fills flags the command line left out). */
+  rig?: LoadedRigConfig;
+  /** What feeds the monitor, kept with each run in the history store (port path or recording). */
+  sourceLabel: string;
+  /** The replay behind the source (for status and a replay's own history store name). */
+  replay?: ReplaySource;
   queueCapacity?: number;
   durationSeconds?: number;
   /** A baseline the command brings itself (demo); else --baseline when the command has it. */
@@ -160,7 +171,10 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
   const pipeline = has(args, 'segment')
     ? readPipelineFlags(args, command)
     : { analysis: DEFAULT_ANALYSIS, averaging: DEFAULT_AVERAGING, snapshotRate: DEFAULT_SNAPSHOT_RATE, data: f.data as string };
-  const alarms: AlarmFlagValues = has(args, 'band') ? await readAlarmFlags(args, command) : { rules: defaultRules() };
+  const rig = w.rig;
+  const alarms: AlarmFlagValues = has(args, 'band')
+    ? await readAlarmFlags(args, command, rig?.rules)
+    : { rules: rig?.rules ? structuredClone(rig.rules) : defaultRules() };
   const rec = readRecordingFlags(args);
   const baseline = w.baseline ?? (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
   const quiet = f.quiet as boolean;
@@ -180,6 +194,15 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
     baseline,
     eventsOut: alarms.eventsOut,
     durationSeconds: w.durationSeconds,
+    history: withSource(historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path), w.sourceLabel, alarms.rules.band.bands),
+    notify: rig?.config.notify,
+    replay: w.replay,
     parts,
   };
+}
+
+/** The source as the monitor sees it: calibrated by the rig config's channels when it has any. */
+export function calibratedSource(source: Source, rig: LoadedRigConfig | undefined, command: string): Source {
+  const channels = rig?.config.channels;
+  return channels ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline ${command}: calibration: ${n}\n`)) : source;
 }

@@ -2,7 +2,9 @@
 import { createWriteStream } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags } from './monitor-flags.ts';
+import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
@@ -21,6 +23,7 @@ function snapshotWriter(path: string): MonitorPart {
 
 async function runReplay(args: ParsedArgs): Promise<number> {
   const [file] = args.positionals;
+  const rig = readConfigFlag(args, replayCommand.flags);
   const f = args.flags;
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
@@ -41,12 +44,15 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   const snapshotsOut = f['snapshots-out'] as string | undefined;
   const options = await monitorOptionsFromFlags(args, 'replay', {
     mode: 'lossless',
+    rig,
+    sourceLabel: file,
+    replay: source,
     frames: () => source.fileInfo?.frames,
     parts: snapshotsOut ? [snapshotWriter(snapshotsOut)] : [],
   });
   let monitor;
   try {
-    monitor = await startMonitor(source, options);
+    monitor = await startMonitor(calibratedSource(source, rig, 'replay'), options);
   } catch (err) {
     const e = err as Error & { exitCode?: number };
     if (e instanceof UsageError) throw err;
@@ -69,6 +75,7 @@ export const replayCommand: CommandSpec = {
   ].join('\n'),
   positionals: [{ name: 'FILE', help: 'recording to replay (our float32 WAV, or int16/24/32 or float WAV from elsewhere)', required: true }],
   flags: [
+    CONFIG_FLAG,
     { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed: 1 = real time, N times faster, or max' },
     { name: 'loop', kind: 'boolean', help: 'start again at the end (sample time keeps counting)' },
     { name: 'follow', kind: 'boolean', help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them' },
@@ -79,6 +86,7 @@ export const replayCommand: CommandSpec = {
     { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
     ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,

@@ -2,12 +2,15 @@
 // with alarms, event log, recording and the dashboard.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
-import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags } from './monitor-flags.ts';
+import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { SerialSource } from '../../sources/serial.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { startMonitor } from '../../monitor/monitor.ts';
 
 async function runLive(args: ParsedArgs): Promise<number> {
+  const rig = readConfigFlag(args, runCommand.flags);
   const f = args.flags;
   const port = f.port as string | undefined;
   if (!port) throw new UsageError('floorline run: --port is required: a device path (/dev/serial/by-id/…), VID:PID or serial=SERIAL; see `floorline ports`.');
@@ -17,10 +20,12 @@ async function runLive(args: ParsedArgs): Promise<number> {
   }
   const options = await monitorOptionsFromFlags(args, 'run', {
     mode: 'bounded',
+    rig,
+    sourceLabel: port,
     queueCapacity: f.queue as number,
     durationSeconds: f.duration as number | undefined,
   });
-  const source = new SerialSource({
+  const serial = new SerialSource({
     port,
     baudRate: f.baud as number,
     format,
@@ -29,7 +34,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
     scale: f.scale as number,
     log: (line) => process.stderr.write(`floorline run: ${line}\n`),
   });
-  const monitor = await startMonitor(source, options);
+  const monitor = await startMonitor(calibratedSource(serial, rig, 'run'), options);
   await monitor.finished;
   return 0;
 }
@@ -44,6 +49,7 @@ export const runCommand: CommandSpec = {
   ].join('\n'),
   positionals: [],
   flags: [
+    CONFIG_FLAG,
     { name: 'port', kind: 'string', value: 'PATH', help: 'serial device path, VID:PID[:SERIAL] or serial=SERIAL (see `floorline ports`)' },
     { name: 'baud', kind: 'number', value: 'N', integer: true, min: 1, default: 921600, help: 'baud rate (ignored by USB CDC boards and ptys)' },
     { name: 'format', kind: 'string', value: 'FMT', choices: ['binary', 'text'], default: 'binary', help: 'wire format' },
@@ -58,6 +64,7 @@ export const runCommand: CommandSpec = {
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runLive,
 };
