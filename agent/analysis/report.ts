@@ -4,11 +4,11 @@
 // segments that touch one can be left out. Shared by `floorline analyze` (printed as JSON, CSV or text).
 import type { DetrendMode } from '../../protocol/settings.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
-import { WholeMedianAverager } from '../../dsp/averaging.ts';
 import { CrossSpectrum } from '../../dsp/cross-spectrum.ts';
 import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
 import { judgeMask, maskOnBins, type MaskVerdict } from '../../dsp/measure/limit-mask.ts';
-import { WelchEstimator } from '../../dsp/welch.ts';
+import { makeEstimator, type ChannelEstimatorPlan } from '../workers/channel-spectra.ts';
+import { chooseChannelSpectra } from '../workers/choose-channel-spectra.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { defaultBands } from '../rules/default-bands.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
@@ -41,6 +41,8 @@ export interface AnalyzeOptions {
   to?: string;
   average?: AverageMode;
   excludeClipped?: boolean;
+  /** Threads for the per-channel estimates (default 1: all on the calling thread); results are identical. */
+  threads?: number;
   lines?: boolean;
   cumulative?: boolean;
   /** Limit-mask CSV path. */
@@ -172,6 +174,7 @@ export async function analyzeFile(
 ): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array }> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
+  let closeSpectra: (() => Promise<void>) | undefined;
   try {
     const { info } = reader;
     applyUnit(info, options.unit, path);
@@ -207,16 +210,12 @@ export async function analyzeFile(
     const firstSample = info.firstSample + span.start;
     const fullScales = info.channels.map((ch) => channelFullScale(ch, info));
     const scan = new ClipScan(fullScales);
-    const estimators = info.channels.map(
-      () =>
-        new WelchEstimator({
-          sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
-          // With the median averager injected, the spec only picks the equal-weight equivalent-averages formula.
-          averaging: { mode: 'mean' },
-          averager: average === 'median' ? new WholeMedianAverager(segment / 2 + 1, planned) : undefined,
-          accept: options.excludeClipped ? scan.makeAccept() : undefined,
-        }),
-    );
+    const plan: ChannelEstimatorPlan = {
+      sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
+      medianOf: average === 'median' ? planned : undefined,
+    };
+    const spectra = chooseChannelSpectra(plan, info.channels.length, options.threads ?? 1, options.excludeClipped ? () => scan.makeAccept() : undefined);
+    if (spectra.close) closeSpectra = () => spectra.close!();
     const crosses = pairs.map(
       () =>
         new CrossSpectrum({
@@ -229,29 +228,32 @@ export async function analyzeFile(
     for (let block = await reader.read(); block && done < spanFrames; block = await reader.read()) {
       const frames = Math.min(block.frames, spanFrames - done);
       scan.scan(block.data, frames, firstSample + done);
-      for (let c = 0; c < estimators.length; c++) estimators[c].push(block.data[c], 0, frames);
+      await spectra.push(block.data, frames);
       for (let p = 0; p < pairs.length; p++) crosses[p].push(block.data[pairs[p].a], block.data[pairs[p].b], 0, frames);
       done += frames;
       options.onProgress?.(done, spanFrames);
     }
-    const first = estimators[0];
-    if (first.segmentsUsed === 0) {
+    closeSpectra = undefined;
+    const results = await spectra.finish();
+    // Window, bins and frequencies of the estimates (never fed).
+    const first = makeEstimator(plan);
+    if (results[0].segmentsUsed === 0) {
       throw new AnalysisInputError(
-        `${path}: every one of the ${first.segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
+        `${path}: every one of the ${results[0].segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
       );
     }
-    const keq = first.equivalentAverages() * (average === 'median' ? MEDIAN_EFFICIENCY : 1);
+    const keq = results[0].equivalentAverages * (average === 'median' ? MEDIAN_EFFICIENCY : 1);
     const settings: ReportSettings = {
       segment,
       window: first.window.name,
       overlap: options.overlap,
       detrend: options.detrend,
-      averages: first.segmentsUsed,
+      averages: results[0].segmentsUsed,
       nenbw: first.window.nenbw,
       enbwHz: first.window.enbwHz(info.sampleRate),
       binHz: first.binHz,
       average,
-      excludedSegments: first.segmentsExcluded,
+      excludedSegments: results[0].segmentsExcluded,
       equivalentAverages: keq,
       span: { firstSample, endSample: firstSample + done, from: firstSample / info.sampleRate, to: (firstSample + done) / info.sampleRate },
     };
@@ -262,7 +264,7 @@ export async function analyzeFile(
     const limits = mask ? maskOnBins(mask, first.frequencies) : undefined;
     let maskFailed = false;
     const channels: ChannelReport[] = info.channels.map((ch, c) => {
-      const psd = estimators[c].psd();
+      const psd = results[c].psd;
       const gain = gains?.[c];
       if (gain !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= gain * gain;
       const asd = new Float64Array(psd.length);
@@ -315,6 +317,7 @@ export async function analyzeFile(
     const clips = info.channels.map((ch, c) => ({ channel: ch.name, count: scan.channels[c].count, missing: scan.channels[c].missing, first: scan.channels[c].first, last: scan.channels[c].last }));
     return { report, info, clips, maskFailed, maskLimits: limits };
   } finally {
+    await closeSpectra?.();
     await reader.close();
   }
 }

@@ -210,7 +210,10 @@ export class Recorder {
     const p = this.pipeline!;
     return {
       sampleRate: info.sampleRate,
-      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit, scale: c.scale, fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined })),
+      channels: info.channels.map((c) => ({
+        name: c.name, unit: c.unit, scale: c.scale, fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined,
+        ...(c.calibration ? { gain: c.calibration.gain, calibration: c.calibration } : {}),
+      })),
       source: { kind: info.source.kind, label: info.source.label },
       boardId: info.boardId,
       firstSample,

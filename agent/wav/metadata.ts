@@ -1,7 +1,7 @@
 // Our recording metadata: the same JSON travels in the sidecar NAME.wav.json and in an embedded 'flmd' chunk.
 // When both exist the sidecar wins (it is the copy a user may edit); the chunk keeps a lone WAV self-describing.
 import type { AnalysisSettings } from '../../protocol/settings.ts';
-import type { SourceKind } from '../../protocol/stream.ts';
+import type { ChannelCalibration, SourceKind } from '../../protocol/stream.ts';
 import { WavError } from './errors.ts';
 
 /** Chunk id of the embedded metadata (our own naming: "floorline metadata"). */
@@ -18,6 +18,8 @@ export interface ChannelMetadata {
   gain?: number;
   /** Full scale in raw counts of the board, for clip detection on replay. */
   fullScaleCounts?: number;
+  /** The rig config's calibration the samples already carry (a replay applies nothing twice). */
+  calibration?: ChannelCalibration;
 }
 
 export interface RecordingMetadata {
@@ -58,6 +60,10 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
       if (ch[k] !== undefined && (typeof ch[k] !== 'number' || !Number.isFinite(ch[k] as number))) {
         fail(where, `channels[${i}].${k} must be a finite number`);
       }
+    }
+    const cal = ch.calibration as Record<string, unknown> | undefined;
+    if (cal !== undefined && (typeof cal !== 'object' || cal === null || typeof cal.unit !== 'string' || typeof cal.inputReferred !== 'boolean')) {
+      fail(where, `channels[${i}].calibration must be an object with "unit" and "inputReferred"`);
     }
   });
   if (typeof m.firstSample !== 'number' || !Number.isSafeInteger(m.firstSample) || m.firstSample < 0) {
