@@ -6,20 +6,17 @@ import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { root, tempDir } from '../wav/support.ts';
+import { tempDir } from '../wav/support.ts';
+import { cliIn, replayDemoIntoStore } from '../store/support.ts';
 
-const bin = join(root, 'bin/floorline.mjs');
 let dir: string;
 let store: string;
-const floorline = (...args: string[]) => spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', cwd: dir, timeout: 120_000 });
+const floorline = cliIn(() => dir);
 const HOSTILE = `<script>alert("x")</script> it's "quoted" & <img src=x onerror=alert(1)>`;
 
 beforeAll(() => {
   dir = tempDir('report');
-  store = join(dir, 'demo.sqlite');
-  const r = floorline('replay', join(root, 'recordings/demo.wav'), '--speed', 'max', '--no-server', '--quiet', '--data', join(dir, 'data'),
-    '--store', store, '--baseline', join(root, 'recordings/demo-baseline.json'));
-  expect(r.status, r.stderr).toBe(0);
+  store = replayDemoIntoStore(dir);
   expect(floorline('note', '--store', store, '--incident', 'mains-bridge-s167999', HOSTILE).status).toBe(0);
 }, 120_000);
 
