@@ -3,7 +3,7 @@
 
 export type EventKind = 'alarm' | 'info';
 export type EventState = 'raised' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'limit';
 
 export interface FloorlineEvent {
   kind: EventKind;
@@ -23,12 +23,14 @@ export interface FloorlineEvent {
   levelDb?: number;
   /** Threshold the level was compared with, dB. */
   thresholdDb?: number;
-  /** For spur and mains: line frequency in Hz. */
+  /** For spur and mains: line frequency in Hz; for limit: frequency of the worst excess. */
   frequency?: number;
   /** For spur and mains: line amplitude in channel unit RMS. */
   amplitude?: number;
   /** For mains: harmonic number k of k × fundamental. */
   harmonic?: number;
+  /** For limit: margin below the mask at the worst bin, dB (negative: the estimate exceeds the mask). */
+  marginDb?: number;
   /** Path of the capture recording, relative to the data folder, when one was triggered. */
   capture?: string;
   /** Human-readable summary. */
