@@ -16,6 +16,7 @@ import { channelFullScale, channelLsb, ClipScan } from './clip-scan.ts';
 import { AnalysisInputError } from './input-error.ts';
 import { findLines, makeLineSearch, type ReportLine } from './lines.ts';
 import { readMaskFile } from './mask-file.ts';
+import { budgetReport, type BudgetReport } from './budget-report.ts';
 import { bandNoiseFigures, type NoiseFigureReport, type SourceSpec } from './noise-figure-report.ts';
 import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
@@ -98,6 +99,8 @@ export interface ChannelReport {
   cumulativeRms?: Float64Array;
   mask?: MaskVerdict & { bands: ({ low: number; high: number } & MaskVerdict)[] };
   noiseFigure?: NoiseFigureReport;
+  /** The recording metadata's noise budget against the measured density near 1 kHz. */
+  budget?: BudgetReport;
 }
 
 export interface CoherenceReport {
@@ -283,6 +286,9 @@ export async function analyzeFile(
         ...(Number.isFinite(fullScales[c]) ? { fullScale: fullScales[c] } : {}),
         ...(channelLsb(ch, info) !== undefined ? { lsb: channelLsb(ch, info) } : {}),
       };
+      const meta = info.metadata?.channels[c];
+      const budget = meta ? budgetReport(meta, psd, first.binHz, info.sampleRate, out.lsb, out.referredTo) : undefined;
+      if (budget) out.budget = budget;
       if (lineSearch) out.lines = findLines(lineSearch, psd, keq);
       if (options.cumulative) out.cumulativeRms = cumulativeRms(psd, first.binHz);
       if (mask && limits) {

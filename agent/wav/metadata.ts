@@ -18,6 +18,8 @@ export interface ChannelMetadata {
   gain?: number;
   /** Full scale in raw counts of the board, for clip detection on replay. */
   fullScaleCounts?: number;
+  /** Noise budget at the amplifier input: source resistance (Ω) and temperature (K), amplifier densities. */
+  budget?: { sourceOhms: number; kelvin: number; amplifierDensity: number; amplifierCurrent: number };
 }
 
 export interface RecordingMetadata {
@@ -57,6 +59,15 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
     for (const k of ['scale', 'gain', 'fullScaleCounts']) {
       if (ch[k] !== undefined && (typeof ch[k] !== 'number' || !Number.isFinite(ch[k] as number))) {
         fail(where, `channels[${i}].${k} must be a finite number`);
+      }
+    }
+    if (ch.budget !== undefined) {
+      const b = ch.budget as Record<string, unknown>;
+      if (typeof b !== 'object' || b === null) fail(where, `channels[${i}].budget must be an object`);
+      for (const k of ['sourceOhms', 'kelvin', 'amplifierDensity', 'amplifierCurrent']) {
+        if (typeof b[k] !== 'number' || !Number.isFinite(b[k] as number) || (b[k] as number) < 0) {
+          fail(where, `channels[${i}].budget.${k} must be a number ≥ 0`);
+        }
       }
     }
   });
