@@ -32,6 +32,12 @@ export interface WelchOptions {
   accept?: (firstSample: number, lastSample: number) => boolean;
 }
 
+/**
+ * Told of every completed segment: its own one-sided estimate (same scaling as psd()) and the absolute index of
+ * its last sample. `estimate` is the estimator's reused buffer, valid only during the call.
+ */
+export type SegmentListener = (estimate: Float64Array, lastSample: number) => void;
+
 export const MIN_SEGMENT = 64;
 export const MAX_SEGMENT = 1 << 20;
 
@@ -70,6 +76,9 @@ export class WelchEstimator {
   private readonly accept: ((firstSample: number, lastSample: number) => boolean) | undefined;
   private fill = 0;
   private nextSample: number;
+  private listener: SegmentListener | undefined;
+  /** The latest segment's scaled estimate, filled only while a listener is set. */
+  private segmentEstimate: Float64Array | undefined;
 
   constructor(options: WelchOptions) {
     const { sampleRate, segment, overlap } = options;
@@ -213,6 +222,12 @@ export class WelchEstimator {
     return equalWeightEquivalent(used, this.rho);
   }
 
+  /** Sets (or with undefined removes) the one listener told of each completed segment's own estimate. */
+  onSegment(listener: SegmentListener | undefined): void {
+    this.listener = listener;
+    this.segmentEstimate = listener ? (this.segmentEstimate ?? new Float64Array(this.bins)) : undefined;
+  }
+
   /** Drops the partial segment (at a gap); the averages stay. The next sample gets index nextSample if given. */
   reset(nextSample?: number): void {
     if (nextSample !== undefined) {
@@ -243,6 +258,20 @@ export class WelchEstimator {
     const c = this.conditioner;
     c.fit(src, offset);
     const avg = this.averager;
+    const listener = this.listener;
+    if (listener) {
+      // The segment's own power is needed apart from the average: same additions as the fast path below.
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
+      avg.add(this.power);
+      const est = this.segmentEstimate!;
+      const power = this.power;
+      const scale = this.scale;
+      for (let k = 0; k < est.length; k++) est[k] = power[k] * scale[k];
+      this.segmentsTotal++;
+      this.lastSegmentSample = lastSample;
+      listener(est, lastSample);
+      return;
+    }
     if (avg instanceof MeanAverager) {
       // Mean: add |X|² straight into the running sum (same additions as add(), one pass fewer).
       this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, avg.sum, true);

@@ -2,8 +2,9 @@
 // Pure types: the dashboard imports this module too.
 
 export type EventKind = 'alarm' | 'info';
-export type EventState = 'raised' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'limit';
+/** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
+export type EventState = 'raised' | 'settled' | 'cleared';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention' | 'limit';
 
 export interface FloorlineEvent {
   kind: EventKind;
@@ -29,6 +30,15 @@ export interface FloorlineEvent {
   amplitude?: number;
   /** For mains: harmonic number k of k × fundamental. */
   harmonic?: number;
+  /** Stable id of the incident the alarm belongs to (one fault = one incident; DEVELOPERS.md "Incidents"). */
+  incident?: string;
+  /** cleared: the highest recent-window level over the alarm's life, dB, and the sample it was read at. */
+  peakLevelDb?: number;
+  peakSample?: number;
+  /** cleared, spur and mains: the highest floor-subtracted line amplitude over the alarm's life, unit RMS. */
+  peakAmplitude?: number;
+  /** cleared: from the raise to the clear, seconds of sample time. */
+  durationSeconds?: number;
   /** For limit: margin below the mask at the worst bin, dB (negative: the estimate exceeds the mask). */
   marginDb?: number;
   /** Path of the capture recording, relative to the data folder, when one was triggered. */

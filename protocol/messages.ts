@@ -60,12 +60,20 @@ export interface AcknowledgeRequest {
   band?: [number, number];
 }
 
+/** An operator note, stamped by the agent with its current sample (stored in the history and the event log). */
+export interface NoteRequest {
+  type: 'note';
+  id: number;
+  text: string;
+  incident?: string;
+}
+
 export interface StatusRequest {
   type: 'get-status';
   id: number;
 }
 
-export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | StatusRequest;
+export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | NoteRequest | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
 // ---------------------------------------------------------------- agent → client
@@ -175,6 +183,7 @@ export interface ReplyResults {
   recording: { recording: RecordingState };
   'set-analysis': { context: SpectrumContext };
   acknowledge: { acknowledged: boolean };
+  note: { sample: number; t: number; wallTime: string };
   'get-status': { status: AgentStatus };
 }
 

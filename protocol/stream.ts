@@ -10,6 +10,21 @@ export interface ChannelInfo {
   scale: number;
   /** Full scale in raw counts (peak magnitude); clip detection uses this. Infinity if unknown. */
   fullScaleCounts: number;
+  /** The rig config's calibration, once applied (recordings carry it so a replay does not apply it twice). */
+  calibration?: ChannelCalibration;
+}
+
+/** Per-channel calibration from a rig config, as applied to the samples. */
+export interface ChannelCalibration {
+  unit: string;
+  /** Unit per raw ADC count that replaced the board's own. */
+  voltsPerCount?: number;
+  /** Front-end gain ahead of the ADC, V/V. */
+  gain?: number;
+  /** Samples were divided by the gain: they read at the amplifier input. */
+  inputReferred: boolean;
+  /** Expected white floor from the noise budget, unit/√Hz. */
+  budget?: number;
 }
 
 export type SourceKind = 'serial' | 'replay' | 'simulator';

@@ -3,7 +3,7 @@
 // names the lines the live rules would see in the same samples. Amplitude is floor-subtracted RMS over the lobe.
 import { MainsClassifier } from '../../dsp/detection/mains.ts';
 import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
-import { conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
+import { chi2MeanMedian, conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
 import { defaultRules, type RulesConfig } from '../rules/rules.ts';
 import { MAX_TRACKED_LINES } from '../rules/spur-detector.ts';
 
@@ -33,8 +33,10 @@ export function makeLineSearch(frequencies: Float64Array, binHz: number, mainLob
 /** Lines of one channel's density with `equivalentAverages` behind it, in increasing frequency. */
 export function findLines(search: LineSearch, psd: Float64Array, equivalentAverages: number): ReportLine[] {
   const { finder, rules } = search;
-  const ratio = lineThresholdRatio(conservativeAverages(equivalentAverages), rules.spur.alpha, finder.bins, 10 ** (rules.spur.marginDb / 10));
-  const n = finder.find(psd, ratio);
+  const k = conservativeAverages(equivalentAverages);
+  const ratio = lineThresholdRatio(k, rules.spur.alpha, finder.bins, 10 ** (rules.spur.marginDb / 10));
+  // The median floor corrected to a mean, as the live spur rule does (SpurDetector.thresholdRatio).
+  const n = finder.find(psd, ratio, chi2MeanMedian(2 * k));
   const mains = new MainsClassifier({ setting: rules.mains.frequency, binHz: search.binHz, maxHarmonic: rules.mains.maxHarmonic }, finder.maxLines);
   mains.classify(finder.lineFrequency, finder.lineAmplitude, n);
   const lines: ReportLine[] = [];

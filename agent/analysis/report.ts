@@ -4,11 +4,11 @@
 // segments that touch one can be left out. Shared by `floorline analyze` (printed as JSON, CSV or text).
 import type { DetrendMode } from '../../protocol/settings.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
-import { WholeMedianAverager } from '../../dsp/averaging.ts';
 import { CrossSpectrum } from '../../dsp/cross-spectrum.ts';
 import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
 import { judgeMask, maskOnBins, type MaskVerdict } from '../../dsp/measure/limit-mask.ts';
-import { WelchEstimator } from '../../dsp/welch.ts';
+import { makeEstimator, type ChannelEstimatorPlan } from '../workers/channel-spectra.ts';
+import { chooseChannelSpectra } from '../workers/choose-channel-spectra.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { defaultBands } from '../rules/default-bands.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
@@ -42,6 +42,8 @@ export interface AnalyzeOptions {
   to?: string;
   average?: AverageMode;
   excludeClipped?: boolean;
+  /** Threads for the per-channel estimates (default 1: all on the calling thread); results are identical. */
+  threads?: number;
   lines?: boolean;
   cumulative?: boolean;
   /** Limit-mask CSV path. */
@@ -157,15 +159,29 @@ function applyUnit(info: WavInfo, unit: string | undefined, path: string): void 
   }
 }
 
-function channelGains(info: WavInfo, path: string): number[] {
+/** How a channel is referred: `divide` is the gain to divide by (none when the samples stay as they are). */
+interface Referral {
+  referredTo: 'input' | 'adc';
+  gain?: number;
+  divide?: number;
+}
+
+/**
+ * Per channel: samples a rig config already divided by the gain (metadata `calibration.inputReferred`) read at the
+ * input as they are; with --input-referred the others are divided by the metadata gain (or the calibration's).
+ */
+function channelReferrals(info: WavInfo, path: string, inputReferred: boolean): Referral[] {
   return info.channels.map((ch, c) => {
-    const g = info.metadata?.channels[c]?.gain;
+    const m = info.metadata?.channels[c];
+    const g = m?.gain ?? m?.calibration?.gain;
+    if (m?.calibration?.inputReferred) return { referredTo: 'input', ...(g !== undefined ? { gain: g } : {}) };
+    if (!inputReferred) return { referredTo: 'adc' };
     if (g === undefined || !(g > 0)) {
       throw new AnalysisInputError(
         `--input-referred: channel ${ch.name} of ${path} has no positive "gain" in its metadata; add "gain" (V/V ahead of the ADC) to channels[${c}] of ${path}.json, or drop --input-referred.`,
       );
     }
-    return g;
+    return { referredTo: 'input', gain: g, divide: g };
   });
 }
 
@@ -175,6 +191,7 @@ export async function analyzeFile(
 ): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array }> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
+  let closeSpectra: (() => Promise<void>) | undefined;
   try {
     const { info } = reader;
     applyUnit(info, options.unit, path);
@@ -186,7 +203,7 @@ export async function analyzeFile(
     }
     const mask = options.mask !== undefined ? readMaskFile(options.mask, nyquist) : undefined;
     const pairs = resolveChannelPairs(options.coherence ?? [], info.channels.map((c) => c.name));
-    const gains = options.inputReferred ? channelGains(info, path) : undefined;
+    const referrals = channelReferrals(info, path, options.inputReferred === true);
     const span = frameSpan(info, options.from, options.to);
     const spanFrames = span.end - span.start;
     const segment = options.segment ?? defaultSegment(spanFrames, options.overlap);
@@ -210,16 +227,12 @@ export async function analyzeFile(
     const firstSample = info.firstSample + span.start;
     const fullScales = info.channels.map((ch) => channelFullScale(ch, info));
     const scan = new ClipScan(fullScales);
-    const estimators = info.channels.map(
-      () =>
-        new WelchEstimator({
-          sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
-          // With the median averager injected, the spec only picks the equal-weight equivalent-averages formula.
-          averaging: { mode: 'mean' },
-          averager: average === 'median' ? new WholeMedianAverager(segment / 2 + 1, planned) : undefined,
-          accept: options.excludeClipped ? scan.makeAccept() : undefined,
-        }),
-    );
+    const plan: ChannelEstimatorPlan = {
+      sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
+      medianOf: average === 'median' ? planned : undefined,
+    };
+    const spectra = chooseChannelSpectra(plan, info.channels.length, options.threads ?? 1, options.excludeClipped ? () => scan.makeAccept() : undefined);
+    if (spectra.close) closeSpectra = () => spectra.close!();
     const crosses = pairs.map(
       () =>
         new CrossSpectrum({
@@ -232,29 +245,32 @@ export async function analyzeFile(
     for (let block = await reader.read(); block && done < spanFrames; block = await reader.read()) {
       const frames = Math.min(block.frames, spanFrames - done);
       scan.scan(block.data, frames, firstSample + done);
-      for (let c = 0; c < estimators.length; c++) estimators[c].push(block.data[c], 0, frames);
+      await spectra.push(block.data, frames);
       for (let p = 0; p < pairs.length; p++) crosses[p].push(block.data[pairs[p].a], block.data[pairs[p].b], 0, frames);
       done += frames;
       options.onProgress?.(done, spanFrames);
     }
-    const first = estimators[0];
-    if (first.segmentsUsed === 0) {
+    closeSpectra = undefined;
+    const results = await spectra.finish();
+    // Window, bins and frequencies of the estimates (never fed).
+    const first = makeEstimator(plan);
+    if (results[0].segmentsUsed === 0) {
       throw new AnalysisInputError(
-        `${path}: every one of the ${first.segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
+        `${path}: every one of the ${results[0].segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
       );
     }
-    const keq = first.equivalentAverages() * (average === 'median' ? MEDIAN_EFFICIENCY : 1);
+    const keq = results[0].equivalentAverages * (average === 'median' ? MEDIAN_EFFICIENCY : 1);
     const settings: ReportSettings = {
       segment,
       window: first.window.name,
       overlap: options.overlap,
       detrend: options.detrend,
-      averages: first.segmentsUsed,
+      averages: results[0].segmentsUsed,
       nenbw: first.window.nenbw,
       enbwHz: first.window.enbwHz(info.sampleRate),
       binHz: first.binHz,
       average,
-      excludedSegments: first.segmentsExcluded,
+      excludedSegments: results[0].segmentsExcluded,
       equivalentAverages: keq,
       span: { firstSample, endSample: firstSample + done, from: firstSample / info.sampleRate, to: (firstSample + done) / info.sampleRate },
     };
@@ -265,16 +281,16 @@ export async function analyzeFile(
     const limits = mask ? maskOnBins(mask, first.frequencies) : undefined;
     let maskFailed = false;
     const channels: ChannelReport[] = info.channels.map((ch, c) => {
-      const psd = estimators[c].psd();
-      const gain = gains?.[c];
-      if (gain !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= gain * gain;
+      const psd = results[c].psd;
+      const { referredTo, gain, divide } = referrals[c];
+      if (divide !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= divide * divide;
       const asd = new Float64Array(psd.length);
       for (let k = 0; k < psd.length; k++) asd[k] = Math.sqrt(psd[k]);
       const clip = scan.channels[c];
       const out: ChannelReport = {
         name: ch.name,
         unit: ch.unit,
-        referredTo: gain !== undefined ? 'input' : 'adc',
+        referredTo,
         ...(gain !== undefined ? { gain } : {}),
         frequency: first.frequencies,
         psd,
@@ -310,7 +326,7 @@ export async function analyzeFile(
     if (pairs.length > 0) {
       report.coherence = pairs.map((p, i) => {
         const r = crosses[i].result();
-        const g = gains ? gains[p.a] * gains[p.b] : 1;
+        const g = (referrals[p.a].divide ?? 1) * (referrals[p.b].divide ?? 1);
         for (let k = 0; k < r.csdRe.length; k++) {
           r.csdRe[k] /= g;
           r.csdIm[k] /= g;
@@ -321,6 +337,7 @@ export async function analyzeFile(
     const clips = info.channels.map((ch, c) => ({ channel: ch.name, count: scan.channels[c].count, missing: scan.channels[c].missing, first: scan.channels[c].first, last: scan.channels[c].last }));
     return { report, info, clips, maskFailed, maskLimits: limits };
   } finally {
+    await closeSpectra?.();
     await reader.close();
   }
 }

@@ -76,6 +76,15 @@ export class Analyser {
     this.settings.window = this.estimators[0].window.name;
   }
 
+  /** Hands every completed segment of channel c to fn(c, density, lastSample) (undefined: stop). */
+  observeSegments(fn: ((channel: number, density: Float64Array, lastSample: number) => void) | undefined): void {
+    this.estimators.forEach((e, c) => e.onSegment(fn ? (density, last) => fn(c, density, last) : undefined));
+  }
+
+  get binHz(): number {
+    return this.estimators[0].binHz;
+  }
+
   get frequencies(): Float64Array {
     return this.estimators[0].frequencies;
   }

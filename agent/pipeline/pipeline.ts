@@ -12,7 +12,7 @@ import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, t
 import { BlockQueue } from './block-queue.ts';
 import { Conditioner } from './conditioner.ts';
 import { Emitter, type Listener } from './emitter.ts';
-import type { CalibratedBlock, Detector, OverrunNotice, PipelineCounters, PipelineEvents } from './types.ts';
+import type { CalibratedBlock, Detector, OverrunNotice, PipelineCounters, PipelineEvents, SegmentObserver } from './types.ts';
 
 export interface PipelineOptions {
   analysis?: Partial<AnalysisChoice>;
@@ -29,6 +29,7 @@ export interface PipelineOptions {
 export class Pipeline implements SourceSink {
   private readonly emitter = new Emitter<PipelineEvents>();
   private readonly detectors: Detector[] = [];
+  private readonly segmentObservers: SegmentObserver[] = [];
   private choice: AnalysisChoice;
   private averagingSpec: AveragingSpec;
   private readonly snapshotRate: number;
@@ -85,6 +86,31 @@ export class Pipeline implements SourceSink {
   addDetector(d: Detector): void {
     this.detectors.push(d);
     if (this.streamInfo && d.onInfo) d.onInfo(this.streamInfo);
+  }
+
+  /** Adds an observer of every completed Welch segment (see SegmentObserver). */
+  addSegmentObserver(o: SegmentObserver): void {
+    this.segmentObservers.push(o);
+    if (this.analyser && this.streamInfo) this.installObservers(this.analyser, this.streamInfo, this.expected);
+  }
+
+  private readonly dispatchSegment = (channel: number, density: Float64Array, lastSample: number): void => {
+    const list = this.segmentObservers;
+    for (let i = 0; i < list.length; i++) list[i].onSegment(channel, density, lastSample);
+  };
+
+  private installObservers(a: Analyser, info: StreamInfo, firstSample: number): void {
+    if (this.segmentObservers.length === 0) return;
+    a.observeSegments(this.dispatchSegment);
+    const grid = {
+      settings: { ...a.settings },
+      frequencies: a.frequencies,
+      binHz: a.binHz,
+      snapshotInterval: a.interval,
+      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit })),
+      firstSample,
+    };
+    for (const o of this.segmentObservers) o.onAnalysis(grid);
   }
 
   /** Starts the source with this pipeline as its sink; resolves when the source has started. */
@@ -161,6 +187,7 @@ export class Pipeline implements SourceSink {
       this.startWallMs = Number.isFinite(start) ? start : Date.now();
       this.conditioner = new Conditioner(info.channels);
       this.analyser = new Analyser(info, this.choice, this.averagingSpec, this.snapshotRate, info.firstSample);
+      this.installObservers(this.analyser, info, info.firstSample);
       this.units = info.channels.map(() => new Float64Array(0));
       this.queue = this.mode === 'bounded' ? new BlockQueue(this.queueCapacity, info.channels.length) : undefined;
       this.count.queueCapacity = this.mode === 'bounded' ? this.queueCapacity : 0;
@@ -292,6 +319,7 @@ export class Pipeline implements SourceSink {
       this.choice = choice;
       this.averagingSpec = averaging;
       this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start);
+      this.installObservers(this.analyser, info, firstSample + start);
     }
     const n = frames - start;
     const first = firstSample + start;

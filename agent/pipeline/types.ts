@@ -70,6 +70,27 @@ export interface Detector {
   onOverrun?(overrun: OverrunNotice): FloorlineEvent[];
 }
 
+/** What a segment observer is told when an analysis (re)starts: the grid of the estimates that follow. */
+export interface AnalysisGrid {
+  settings: AnalysisSettings;
+  frequencies: Float64Array;
+  binHz: number;
+  /** Samples between snapshot instants. */
+  snapshotInterval: number;
+  channels: readonly { name: string; unit: string }[];
+  firstSample: number;
+}
+
+/**
+ * Told of every Welch segment of every channel as it completes, with the segment's own one-sided density
+ * (unit²/Hz, a reused buffer valid only during the call) and the absolute index of its last sample. The
+ * per-segment values let a consumer average exactly the segments that end inside an interval.
+ */
+export interface SegmentObserver {
+  onAnalysis(grid: AnalysisGrid): void;
+  onSegment(channel: number, density: Float64Array, lastSample: number): void;
+}
+
 export interface PipelineEvents {
   info: StreamInfo;
   block: CalibratedBlock;

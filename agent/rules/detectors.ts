@@ -4,6 +4,9 @@
 import type { AlarmState } from '../../dsp/detection/alarm-state.ts';
 import { binPowerCorrelation } from '../../dsp/detection/threshold.ts';
 import { makeWindow } from '../../dsp/windows.ts';
+import { overlapRho } from '../../dsp/welch.ts';
+import { RecentSpectrum } from '../../dsp/detection/recent-spectrum.ts';
+import { IncidentBook, type IncidentRecord, type Member } from './incidents.ts';
 import type { EventRule, FloorlineEvent } from '../../protocol/events.ts';
 import { firstSettingMismatch, type AnalysisSettings } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
@@ -16,12 +19,13 @@ import { MAX_SKIRT_BINS, SpurDetector } from './spur-detector.ts';
 import { leakageEnvelope } from '../../dsp/detection/leakage.ts';
 import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/detection/contamination.ts';
 import type { RulesConfig } from './rules.ts';
+import { round } from './event-factory.ts';
 import type { CaptureRequester, SnapshotLike } from './types.ts';
 import type { ClipNotice, OverrunNotice } from '../pipeline/types.ts';
 
 export interface DetectorStream {
   settings: AnalysisSettings;
-  channels: readonly { name: string }[];
+  channels: readonly { name: string; unit?: string }[];
   firstSample?: number;
   startWallTime?: string;
 }
@@ -48,6 +52,8 @@ export interface DetectorStatus {
 
 interface ChannelDetectors {
   name: string;
+  /** Built at the first snapshot (it needs the averaging in force). */
+  recent?: RecentSpectrum;
   band?: BandDetector;
   spur: SpurDetector;
   /** First and last clipped sample of the current overload (−1: none). */
@@ -63,6 +69,12 @@ export class Detectors {
   private readonly health: HealthDetector;
   private readonly sampleRate: number;
   private lastWallTime: string | undefined;
+  /** Incidents of this detector set: one fault, one incident (agent/rules/incidents.ts). */
+  readonly incidents: IncidentBook;
+  /** Raised stream-health alarms (clip, gap, link, overrun) by rule and channel, with their raise sample. */
+  private readonly healthMembers = new Map<string, { member: Member; since: number }>();
+  private readonly rho: Float64Array;
+  private readonly step: number;
 
   constructor(
     readonly baseline: BaselineFile | undefined,
@@ -80,17 +92,20 @@ export class Detectors {
     const leakage = leakageEnvelope(win.values, MAX_SKIRT_BINS);
     const binHz = s.sampleRate / s.segment;
     const bins = s.segment / 2 + 1;
+    this.incidents = new IncidentBook(s.sampleRate, binHz);
+    this.step = s.segment - Math.floor(s.overlap * s.segment);
+    this.rho = overlapRho(win.values, this.step);
     const frequencies = new Float64Array(bins);
     for (let k = 0; k < bins; k++) frequencies[k] = k * binHz;
     const defaults = defaultBands(s.sampleRate, s.segment, win.mainLobeHalfWidth);
-    this.channels = stream.channels.map(({ name }) => {
+    this.channels = stream.channels.map(({ name, unit }) => {
       const b = baseline?.channels.find((c) => c.name === name);
       const basePsd = b ? Float64Array.from(b.psd) : new Float64Array(bins);
       const bands = rules.band.channelBands[name] ?? (rules.band.bands.length ? rules.band.bands : defaults);
       return {
         name,
-        band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate) : undefined,
-        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, leakage, basePsd, rules, s.sampleRate),
+        band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate, this.incidents) : undefined,
+        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, leakage, basePsd, rules, s.sampleRate, unit ?? 'V', this.incidents),
         clipFirst: -1,
         clipLast: -1,
         heldFrom: -1,
@@ -137,11 +152,24 @@ export class Detectors {
       const d = this.channels.find((c) => c.name === ch.name);
       if (!d) continue;
       d.heldFrom = this.overloadHold(d, ch, snap);
+      const recent = this.recentOf(d, snap);
+      recent.push(ch.psd, ch.segmentsUsed);
       // Lines first: the band rules judge the floor without the lobes of the new lines the spur rule tracks.
-      d.spur.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out, d.heldFrom);
-      d.band?.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, out, d.spur.lineMask, d.heldFrom);
+      d.spur.onSpectrum(ch.psd, ch.equivalentAverages, recent, snap.sample, snap.wallTime, out, d.heldFrom);
+      d.band?.onSpectrum(ch.psd, ch.equivalentAverages, recent, snap.sample, snap.wallTime, out, d.spur.lineMask, d.heldFrom);
     }
     return this.withCaptures(out);
+  }
+
+  private recentOf(d: ChannelDetectors, snap: SnapshotLike): RecentSpectrum {
+    if (d.recent) return d.recent;
+    const s = this.settings;
+    const averaging = snap.averaging ?? { mode: 'exponential', tauSeconds: 10 }; // the pipeline's default
+    const windowSegments = Math.max(1, Math.ceil((this.rules.recentWindow * s.sampleRate - s.segment) / this.step) + 1);
+    d.recent = new RecentSpectrum({
+      bins: s.segment / 2 + 1, averaging, segment: s.segment, step: this.step, sampleRate: s.sampleRate, windowSegments, rho: this.rho,
+    });
+    return d.recent;
   }
 
   /**
@@ -152,6 +180,8 @@ export class Detectors {
    */
   private overloadHold(d: ChannelDetectors, ch: SnapshotLike['channels'][number], snap: SnapshotLike): number {
     if (d.clipLast < 0) return -1;
+    // A clip notice comes with its block, which may reach past this snapshot: no hold before the first clipped sample.
+    if (snap.sample < d.clipFirst) return -1;
     if (this.health.clipActive(d.name)) return d.clipFirst;
     const s = this.settings;
     const step = s.segment - Math.floor(s.overlap * s.segment);
@@ -193,19 +223,42 @@ export class Detectors {
     return this.withCaptures(out);
   }
 
-  /** Acknowledges active alarms of a rule on a channel (optionally one band): no re-alarms until they clear. */
-  acknowledge(rule: EventRule, channel: string, band?: [number, number]): number {
-    return this.forStates(rule, channel, band, (s) => s.acknowledge());
+  /**
+   * Acknowledges active alarms of a rule on a channel (optionally one band, or one line by its announced
+   * frequency): no re-alarms until they clear.
+   */
+  acknowledge(rule: EventRule, channel: string, band?: [number, number], frequency?: number): number {
+    return this.forStates(rule, channel, band, (s) => s.acknowledge(), frequency);
   }
 
-  /** Silences a rule on a channel (optionally one band) until `untilSample`. */
-  shelve(rule: EventRule, channel: string, untilSample: number, band?: [number, number]): number {
+  /** Silences a rule on a channel (optionally one band or one line) until `untilSample`. */
+  shelve(rule: EventRule, channel: string, untilSample: number, band?: [number, number], frequency?: number): number {
     const ch = this.channels.find((c) => c.name === channel);
-    if (ch && (rule === 'spur' || rule === 'mains')) ch.spur.shelvedUntil = untilSample;
-    return this.forStates(rule, channel, band, (s) => s.shelve(untilSample));
+    if (ch && (rule === 'spur' || rule === 'mains') && frequency === undefined) ch.spur.shelvedUntil = untilSample;
+    return this.forStates(rule, channel, band, (s) => s.shelve(untilSample), frequency);
   }
 
-  private forStates(rule: EventRule, channel: string, band: [number, number] | undefined, fn: (s: AlarmState) => void): number {
+  /** Acknowledges every alarm of an incident (and those that join it later). False: no such incident. */
+  acknowledgeIncident(id: string): boolean {
+    return this.incidents.acknowledge(id);
+  }
+
+  /** Shelves every alarm of an incident (and those that join it later) until `untilSample`. */
+  shelveIncident(id: string, untilSample: number): boolean {
+    return this.incidents.shelve(id, untilSample);
+  }
+
+  /** Attaches an operator note to an incident at sample time `sample`. */
+  noteIncident(id: string, text: string, sample: number): boolean {
+    return this.incidents.note(id, text, { sample, t: sample / this.sampleRate, wallTime: this.wallTimeAt(sample) });
+  }
+
+  /** Incidents kept in memory, oldest first, in the shape the incident listings use. */
+  incidentRecords(): IncidentRecord[] {
+    return this.incidents.all().map((i) => this.incidents.record(i));
+  }
+
+  private forStates(rule: EventRule, channel: string, band: [number, number] | undefined, fn: (s: AlarmState) => void, frequency?: number): number {
     const ch = this.channels.find((c) => c.name === channel);
     if (!ch) return 0;
     let n = 0;
@@ -217,6 +270,7 @@ export class Detectors {
       });
     } else if (rule === 'spur' || rule === 'mains') {
       for (const t of ch.spur.tracked) {
+        if (frequency !== undefined && Math.abs(t.announcedFrequency - frequency) > 1e-6 * Math.max(1, frequency)) continue;
         if ((t.harmonic > 0) === (rule === 'mains')) {
           fn(t.state);
           n++;
@@ -226,15 +280,41 @@ export class Detectors {
     return n;
   }
 
+  /**
+   * Gives stream-health alarms their incidents, and asks for a capture at each raise, named after the incident and
+   * the channel that raised it (a later alarm of the same incident extends that capture).
+   */
   private withCaptures(events: FloorlineEvent[]): FloorlineEvent[] {
+    for (const e of events) if (e.kind === 'alarm' && !e.incident) this.healthIncident(e);
     const cap = this.options.capture;
     if (!cap) return events;
     for (const e of events) {
       if (e.kind !== 'alarm' || e.state !== 'raised') continue;
-      const file = cap(e.sample, `${e.rule}-${e.channel === '*' ? 'stream' : e.channel}`);
-      if (file) e.capture = file;
+      const who = e.channel === '*' ? 'stream' : e.channel;
+      const file = cap(e.sample, e.incident ? `${e.incident}-${who}` : `${e.rule}-${who}`);
+      if (file) {
+        e.capture = file;
+        const inc = e.incident ? this.incidents.get(e.incident) : undefined;
+        if (inc && !inc.capture) inc.capture = file;
+      }
     }
     return events;
+  }
+
+  private healthIncident(e: FloorlineEvent): void {
+    const key = `${e.rule}|${e.channel}`;
+    const at = { sample: e.sample, t: e.t, wallTime: e.wallTime };
+    const held = this.healthMembers.get(key);
+    if (e.state === 'raised') {
+      const h = held ?? { member: this.incidents.join({ rule: e.rule, channel: e.channel }, at), since: e.sample };
+      this.healthMembers.set(key, h);
+      this.incidents.stamp(e, h.member);
+    } else if (e.state === 'cleared' && held) {
+      e.durationSeconds = round((e.sample - held.since) / this.sampleRate, 6);
+      this.incidents.stamp(e, held.member);
+      this.incidents.leave(held.member, at);
+      this.healthMembers.delete(key);
+    }
   }
 
   private wallTimeAt(sample: number): string {

@@ -33,6 +33,11 @@ export interface RulesConfig {
     floorHalfWidth: number;
   };
   mains: { frequency: MainsSetting; maxHarmonic: number };
+  /**
+   * Length of the recent estimate, s: the short window beside the long average that judges clears and gives the
+   * settled and peak levels (dsp/detection/recent-spectrum.ts). Shorter stamps ends sooner; longer is steadier.
+   */
+  recentWindow: number;
   /** Clip clears after this long without a clipped sample, s. */
   clipHold: number;
   /** Overrun clears after this long without a dropped block, s. */
@@ -44,6 +49,7 @@ export function defaultRules(): RulesConfig {
     band: { marginDb: 3, alpha: 1e-6, bands: [], channelBands: {}, onDelay: 0.5, offDelay: 2, deadband: 1, reAlarm: 0 },
     spur: { marginDb: 10, alpha: 1e-6, floorHalfWidth: 0, onDelay: 0.5, offDelay: 2, deadband: 3, reAlarm: 0 },
     mains: { frequency: 'auto', maxHarmonic: 40 },
+    recentWindow: 3,
     clipHold: 1,
     overrunHold: 1,
   };
@@ -114,6 +120,7 @@ export function parseRules(value: unknown, where: string): RulesConfig {
     }
     num(m, 'maxHarmonic', 'mains', 1, 200, r.mains as unknown as Record<string, unknown>);
   }
+  num(v, 'recentWindow', '', 0.1, 600, r as unknown as Record<string, unknown>);
   num(v, 'clipHold', '', 0, 3600, r as unknown as Record<string, unknown>);
   num(v, 'overrunHold', '', 0, 3600, r as unknown as Record<string, unknown>);
   return r;

@@ -24,3 +24,11 @@ export interface SnapshotLike {
 
 /** Asks the recorder for a pre/post capture around `triggerSample`; returns the file (relative to the data folder). */
 export type CaptureRequester = (triggerSample: number, label: string) => string | undefined;
+
+/** The short-window estimate the rules judge clears, settled levels and peaks on (dsp/detection/recent-spectrum.ts). */
+export interface RecentView {
+  psd: Float64Array;
+  equivalentAverages: number;
+  /** Samples the window spans back from the end of its newest segment. */
+  spanSamples: number;
+}

@@ -71,6 +71,8 @@ export class BackendRefusal extends Error {
 export interface ServerBackend {
   /** Absolute path of the data folder: the only place client-named files are read from or written to. */
   readonly dataRoot: string;
+  /** The history store the session writes (read by /api/trend and /api/incidents; notes go in through it). */
+  readonly history?: HistoryAccess;
   /** Registers a subscriber; returns the function that removes it. */
   subscribe(subscriber: BackendSubscriber): () => void;
   streamInfo(): StreamInfo | null;
@@ -89,4 +91,11 @@ export interface ServerBackend {
   acknowledge(ref: AlarmRef): boolean;
   /** The low-frequency context and newest update, for a client that connects later (absent: no such view). */
   lowFrequencyLatest?(): { context: LowFrequencyContext; update: LowFrequencyUpdate | null } | null;
+}
+
+export interface HistoryAccess {
+  /** The store file. */
+  path: string;
+  /** Adds an operator note at the current sample; returns where it was stamped. */
+  note(text: string, incident?: string): { sample: number; t: number; wallTime: string };
 }

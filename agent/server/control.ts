@@ -39,6 +39,11 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
         const acknowledged = backend.acknowledge({ rule: m.rule, channel: m.channel, band: m.band });
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { acknowledged } };
       }
+      case 'note': {
+        if (!backend.history) throw new BackendRefusal('failed', 'this agent keeps no history store; notes need one (start it without --no-history)');
+        const stamped = backend.history.note(m.text, m.incident);
+        return { type: 'reply', id: m.id, request: m.type, ok: true, result: stamped };
+      }
       case 'get-status':
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { status: deps.status() } };
     }

@@ -19,7 +19,7 @@ import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import type { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
 import type { LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 import { LatestPacer } from '../lowfreq/latest-pacer.ts';
-import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type ServerBackend } from './backend.ts';
+import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type HistoryAccess, type ServerBackend } from './backend.ts';
 
 export interface RecorderHooks {
   start(): Promise<RecordingState>;
@@ -48,6 +48,8 @@ export interface PipelineBackendOptions {
   eventHistory?: number;
   /** The live low-frequency view fed from the same pipeline (updates to clients at most 10 a second). */
   lowFrequency?: LiveLowFrequency;
+  /** The session's history store, when it keeps one. */
+  history?: HistoryAccess;
 }
 
 const DB = (ratio: number): number => 10 * Math.log10(ratio);
@@ -64,6 +66,7 @@ function median(psd: Float64Array, first: number, last: number, scratch: Float64
 
 export class PipelineBackend implements ServerBackend {
   readonly dataRoot: string;
+  readonly history?: HistoryAccess;
   private readonly o: PipelineBackendOptions;
   private last: SpectrumSnapshot | null = null;
   private readonly events: FloorlineEvent[] = [];
@@ -76,6 +79,7 @@ export class PipelineBackend implements ServerBackend {
   constructor(o: PipelineBackendOptions) {
     this.o = o;
     this.dataRoot = o.data.root;
+    this.history = o.history;
     const p = o.pipeline;
     p.on('info', (i) => this.subscribers.forEach((s) => s.info(i)));
     p.on('snapshot', (s) => {
@@ -152,7 +156,7 @@ export class PipelineBackend implements ServerBackend {
 
   /** One row per alarm: per band for band rules, per line (harmonic or 0.1 Hz) for mains and spur, else per channel. */
   private trackAlarm(e: FloorlineEvent): void {
-    if (e.kind !== 'alarm') return;
+    if (e.kind !== 'alarm' || e.state === 'settled') return; // settled restates a raised alarm's level
     const line = e.rule === 'mains' ? `h${e.harmonic ?? ''}` : e.rule === 'spur' && e.frequency !== undefined ? e.frequency.toFixed(1) : '';
     const key = `${e.rule}|${e.channel}|${e.band ? e.band.join('-') : ''}|${line}`;
     const prev = this.alarmRows.get(key);

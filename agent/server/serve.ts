@@ -17,6 +17,7 @@ import type { Detector } from '../pipeline/types.ts';
 import { AlarmHook } from '../rules/alarm-hook.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
+import type { History } from '../store/attach.ts';
 
 export interface ServeWiring {
   pipeline: Pipeline;
@@ -36,8 +37,10 @@ function recordingState(s: { state: RecordingState['state']; file?: string; erro
   return { state: s.state, ...(s.file ? { file: s.file } : {}), ...(s.error ? { error: s.error } : {}) };
 }
 
-export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; recorder: Recorder | undefined }) => Promise<{ url: string; close(): Promise<void> }> {
-  return async ({ folder, recorder }) => {
+export function serveDashboard(
+  w: ServeWiring,
+): (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined }) => Promise<{ url: string; close(): Promise<void> }> {
+  return async ({ folder, recorder, history }) => {
     const assetsDir = w.assetsDir ?? defaultAssetsDir();
     if (!existsSync(join(assetsDir, 'index.html'))) {
       throw new ServerConfigError(`the dashboard is not built (${assetsDir}index.html is missing); run \`npm run build\`, or pass --no-server.`);
@@ -48,6 +51,7 @@ export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; reco
       pipeline: w.pipeline,
       lowFrequency: new LiveLowFrequency().attach(w.pipeline),
       data: folder,
+      history: history ? { path: history.path, note: (text, incident) => history.note(text, incident) } : undefined,
       sourceCounters: () => w.source.counters(),
       replay: r
         ? () => {

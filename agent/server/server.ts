@@ -13,6 +13,7 @@ import { ClientConnection } from './client.ts';
 import { handleRequest } from './control.ts';
 import { renderMetrics, OPENMETRICS_CONTENT_TYPE } from './metrics.ts';
 import { sendError, sendFileInside } from './static-files.ts';
+import { handleHistoryApi } from '../store/api.ts';
 
 export const AGENT_VERSION = '0.1.0';
 const EVENTS_ON_CONNECT = 200;
@@ -126,6 +127,8 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
       const body = JSON.stringify(status());
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);
+    } else if (handleHistoryApi(path, url, res, head, backend.history?.path)) {
+      // /api/trend, /api/incidents: answered from the history store
     } else if (path === '/metrics') {
       res.writeHead(200, { 'content-type': OPENMETRICS_CONTENT_TYPE, 'cache-control': 'no-store' });
       res.end(head ? undefined : renderMetrics(status(), AGENT_VERSION));

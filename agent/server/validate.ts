@@ -10,13 +10,15 @@ export type ParseResult =
 
 // A Record over the union makes the compiler flag a rule added to EventRule but not here.
 const RULES: Record<EventRule, true> = {
-  'band-rise': true, spur: true, mains: true, clip: true, gap: true, link: true, overrun: true, recording: true, baseline: true, limit: true,
+  'band-rise': true, spur: true, mains: true, clip: true, gap: true, link: true, overrun: true, recording: true, baseline: true,
+  notify: true, disk: true, retention: true, limit: true,
 };
 const TYPES: Record<ClientMessageType, readonly string[]> = {
   'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes'],
   recording: ['type', 'id', 'action'],
   'set-analysis': ['type', 'id', 'averaging', 'segment', 'window'],
   acknowledge: ['type', 'id', 'rule', 'channel', 'band'],
+  note: ['type', 'id', 'text', 'incident'],
   'get-status': ['type', 'id'],
 };
 
@@ -27,6 +29,7 @@ export const AVERAGE_COUNT_MAX = 100_000;
 export const TAU_SECONDS_MIN = 0.01;
 export const TAU_SECONDS_MAX = 86_400;
 export const BASELINE_SECONDS_MAX = 3600;
+export const NOTE_TEXT_MAX = 2000;
 
 /** A baseline file name the client may choose: one plain name, no folders, no leading dot. */
 export const SAFE_FILE_NAME = /^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$/;
@@ -129,6 +132,20 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       }
       const m: ClientMessage = { type, id, rule: rule as EventRule, channel: str(o, 'channel', 64) };
       if (o.band !== undefined) m.band = band(o.band);
+      return m;
+    }
+    case 'note': {
+      const text = str(o, 'text', NOTE_TEXT_MAX);
+      // eslint-disable-next-line no-control-regex
+      if (text.trim() === '' || /[\u0000-\u0008\u000b-\u001f\u007f]/.test(text)) {
+        throw new Invalid('bad-message', `'text' must be plain text, not empty (tabs and line breaks are fine)`);
+      }
+      const m: ClientMessage = { type, id, text };
+      if (o.incident !== undefined) {
+        const incident = str(o, 'incident', 200);
+        if (!/^[A-Za-z0-9._:-]+$/.test(incident)) throw new Invalid('bad-message', `'incident' is not an incident id`);
+        m.incident = incident;
+      }
       return m;
     }
     case 'get-status':

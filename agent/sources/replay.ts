@@ -42,7 +42,7 @@ function channelInfo(info: WavInfo): ChannelInfo[] {
     let fullScale = Infinity;
     if (meta?.fullScaleCounts !== undefined && meta.scale !== undefined) fullScale = meta.fullScaleCounts * meta.scale;
     else if (isInt) fullScale = c.factor * 2 ** (info.format.bytesPerSample * 8 - 1);
-    return { name: c.name, unit: c.unit, scale: 1, fullScaleCounts: fullScale };
+    return { name: c.name, unit: c.unit, scale: 1, fullScaleCounts: fullScale, ...(meta?.calibration ? { calibration: meta.calibration } : {}) };
   });
 }
 

@@ -1,7 +1,7 @@
 // Our recording metadata: the same JSON travels in the sidecar NAME.wav.json and in an embedded 'flmd' chunk.
 // When both exist the sidecar wins (it is the copy a user may edit); the chunk keeps a lone WAV self-describing.
 import type { AnalysisSettings } from '../../protocol/settings.ts';
-import type { SourceKind } from '../../protocol/stream.ts';
+import type { ChannelCalibration, SourceKind } from '../../protocol/stream.ts';
 import { WavError } from './errors.ts';
 
 /** Chunk id of the embedded metadata (our own naming: "floorline metadata"). */
@@ -20,6 +20,8 @@ export interface ChannelMetadata {
   fullScaleCounts?: number;
   /** Noise budget at the amplifier input: source resistance (Ω) and temperature (K), amplifier densities. */
   budget?: { sourceOhms: number; kelvin: number; amplifierDensity: number; amplifierCurrent: number };
+  /** The rig config's calibration the samples already carry (a replay applies nothing twice). */
+  calibration?: ChannelCalibration;
 }
 
 export interface RecordingMetadata {
@@ -69,6 +71,10 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
           fail(where, `channels[${i}].budget.${k} must be a number ≥ 0`);
         }
       }
+    }
+    const cal = ch.calibration as Record<string, unknown> | undefined;
+    if (cal !== undefined && (typeof cal !== 'object' || cal === null || typeof cal.unit !== 'string' || typeof cal.inputReferred !== 'boolean')) {
+      fail(where, `channels[${i}].calibration must be an object with "unit" and "inputReferred"`);
     }
   });
   if (typeof m.firstSample !== 'number' || !Number.isSafeInteger(m.firstSample) || m.firstSample < 0) {

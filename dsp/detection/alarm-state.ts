@@ -3,6 +3,12 @@
 // has stayed below (threshold − deadband) for offDelay samples. Levels between the two keep the current state, so a
 // fault flickering around its threshold gives one raise and one clear (common practice for process alarms,
 // e.g. the deadband and on/off-delay parameters of alarm-management practice, ISA-18.2 / EEMUA 191).
+//
+// Two estimates may feed it: `level` (the long average, sensitive and steady: it raises) and `recent` (a short
+// window that forgets within seconds: it judges the clear, so a fault's end is stamped near its real end). A clear
+// taken on the short estimate while the long one is still above threshold − deadband leaves the state waiting to
+// re-arm: a new raise then needs the short estimate back above the threshold, so the long average's slow decay
+// cannot re-raise a fault that has ended, and the deadband still separates raise and clear on the short estimate.
 
 export interface AlarmTiming {
   /** Samples the level must stay above the threshold before raising (0 = at once). */
@@ -36,6 +42,8 @@ export class AlarmState {
   private acked = false;
   private shelvedUntil = -1;
   private heldUntil = -1;
+  /** Cleared on the recent estimate while the long one still read high: a raise needs the recent one too. */
+  private rearmOnRecent = false;
 
   constructor(timing: AlarmTiming) {
     for (const k of ['onDelay', 'offDelay', 'reAlarm'] as const) {
@@ -65,13 +73,18 @@ export class AlarmState {
     return this.acked;
   }
 
-  /** Feeds one evaluation at `sample` (non-decreasing). Returns the transition to announce, if any. */
-  update(sample: number, level: number, threshold: number): AlarmTransition {
+  /**
+   * Feeds one evaluation at `sample` (non-decreasing). `recent` is the short-window level (default: `level`).
+   * Returns the transition to announce, if any.
+   */
+  update(sample: number, level: number, threshold: number, recent = level): AlarmTransition {
     const shelved = sample < this.shelvedUntil || sample < this.heldUntil;
     switch (this.phase) {
       case NORMAL:
       case PENDING: {
-        if (!(level > threshold)) {
+        if (this.rearmOnRecent && !(level >= threshold - this.deadband)) this.rearmOnRecent = false;
+        const up = level > threshold && (this.rearmOnRecent ? recent > threshold : !(recent < threshold - this.deadband));
+        if (!up) {
           this.phase = NORMAL;
           return AlarmTransition.None;
         }
@@ -85,7 +98,7 @@ export class AlarmState {
         return this.announce(sample, shelved, AlarmTransition.Raised);
       }
       default: {
-        const below = level < threshold - this.deadband;
+        const below = recent < threshold - this.deadband;
         if (!below) {
           this.phase = ACTIVE;
           if (!this.announced) return this.announce(sample, shelved, AlarmTransition.Raised);
@@ -102,6 +115,7 @@ export class AlarmState {
         if (sample - this.since < this.offDelay) return AlarmTransition.None;
         if (sample < this.heldUntil) return AlarmTransition.None; // held: the clear waits for the hold's end
         this.phase = NORMAL;
+        this.rearmOnRecent = level >= threshold - this.deadband;
         const wasAnnounced = this.announced;
         this.announced = false;
         this.acked = false;

@@ -96,7 +96,7 @@ function removeSorted(s: Float64Array, m: number, x: number): number {
 }
 
 /** k-th smallest of a[0..m) by quickselect (Hoare partition); reorders a. */
-function select(a: Float64Array, m: number, k: number): number {
+export function select(a: Float64Array, m: number, k: number): number {
   let lo = 0;
   let hi = m - 1;
   while (lo < hi) {

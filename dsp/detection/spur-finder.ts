@@ -2,10 +2,12 @@
 // A line is a bin that is the largest within ±L bins (L = the window's main-lobe half-width) and exceeds the
 // local floor by a power ratio. The median is taken only at such local maxima (a fifth of the bins for Hann), and
 // is used as the floor across the line's lobe. Its amplitude comes from the density over the main lobe with the
-// floor taken off:
-//   A_rms² = Σ_lobe (psd[j] − floor)·Δf
+// floor's share taken off (dsp/tone.ts lineAboveFloor, the one rule for every line readout):
+//   A_rms² = (Σ_lobe psd[j] − n·floor)·Δf
 // (density scaling integrates to the signal's mean square, so a tone's lobe integrates to A_rms² wherever it falls
-// between bins; Heinzel, Rüdiger & Schilling 2002, §9–10). Frequency is the power-weighted centroid over the lobe.
+// between bins; Heinzel, Rüdiger & Schilling 2002, §9–10). The median of averaged noise bins sits below their mean
+// (χ²(ν)/ν is skewed), so the floor subtracted is the median divided by chi2MeanMedian(ν) when ν is given.
+import { lineAboveFloor } from '../tone.ts';
 import { RunningMedian } from './running-median.ts';
 
 export interface SpurFinderOptions {
@@ -39,6 +41,8 @@ export class SpurFinder {
   protected readonly median: RunningMedian;
   protected readonly firstBin: number;
   protected readonly lastBin: number;
+  /** chi2MeanMedian of the estimate being searched (set by find): turns the local median into a mean floor. */
+  protected medianToMean = 1;
 
   constructor(o: SpurFinderOptions) {
     const n = o.frequencies.length;
@@ -71,8 +75,13 @@ export class SpurFinder {
     this.lineHeightDb = new Float64Array(this.maxLines);
   }
 
-  /** Finds lines whose peak exceeds the local floor by `ratio` (power). Returns the count; results in line*. */
-  find(psd: Float64Array, ratio: number): number {
+  /**
+   * Finds lines whose peak exceeds the local floor by `ratio` (power). Returns the count; results in line*.
+   * `medianToMean` (chi2MeanMedian of the estimate's ν; 1 = no correction) turns the local median into the mean
+   * floor density that the amplitude subtracts.
+   */
+  find(psd: Float64Array, ratio: number, medianToMean = 1): number {
+    this.medianToMean = medianToMean;
     if (psd.length < this.bins) throw new RangeError(`SpurFinder.find: psd needs ${this.bins} bins, got ${psd.length}`);
     if (!(ratio > 1)) throw new RangeError(`SpurFinder.find: ratio must be > 1, got ${ratio}`);
     const L = this.lobe;
@@ -146,16 +155,7 @@ export class SpurFinder {
     const p = psd[k];
     const fl = this.median.at(psd, k);
     if (!(p > ratio * fl)) return count;
-    const f = this.f;
-    let power = 0;
-    let moment = 0;
-    for (let j = k - L; j <= k + L; j++) {
-      const excess = psd[j] - fl;
-      if (excess > 0) {
-        power += excess;
-        moment += excess * f[j];
-      }
-    }
+    const line = lineAboveFloor(psd, this.binHz, L, k, fl / this.medianToMean);
     const h = 10 * Math.log10(p / fl);
     const height = this.lineHeightDb;
     const cap = this.maxLines;
@@ -168,8 +168,8 @@ export class SpurFinder {
       slot = weakest;
     } else count++;
     this.lineBin[slot] = k;
-    this.lineFrequency[slot] = moment / power;
-    this.lineAmplitude[slot] = Math.sqrt(power * this.binHz);
+    this.lineFrequency[slot] = line.frequency;
+    this.lineAmplitude[slot] = line.rms;
     height[slot] = h;
     this.lineFloor[slot] = fl;
     return count;

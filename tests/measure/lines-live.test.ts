@@ -8,6 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { leakageEnvelope } from '../../dsp/detection/leakage.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 import { defaultRules } from '../../agent/rules/rules.ts';
+import { IncidentBook } from '../../agent/rules/incidents.ts';
 import { MAX_SKIRT_BINS, SpurDetector } from '../../agent/rules/spur-detector.ts';
 import { Python, tempDir } from '../wav/support.ts';
 import { runCli } from '../analyze/support.ts';
@@ -92,9 +93,11 @@ describe('analyze --lines', () => {
     const win = makeWindow('hann', offline.settings.segment);
     const detector = new SpurDetector(
       'ch0', Float64Array.from(ch.frequency), offline.settings.binHz, win.mainLobeHalfWidth,
-      leakageEnvelope(win.values, MAX_SKIRT_BINS), new Float64Array(ch.psd.length), defaultRules(), 8000,
+      leakageEnvelope(win.values, MAX_SKIRT_BINS), new Float64Array(ch.psd.length), defaultRules(), 8000, 'V',
+      new IncidentBook(8000, offline.settings.binHz),
     );
-    detector.onSpectrum(Float64Array.from(live.psd), live.equivalentAverages, last.sample, '2026-01-01T00:00:00Z', []);
+    const psd = Float64Array.from(live.psd);
+    detector.onSpectrum(psd, live.equivalentAverages, { psd, equivalentAverages: live.equivalentAverages, spanSamples: 0 }, last.sample, '2026-01-01T00:00:00Z', []);
     const found = detector.tracked.map((t) => ({ frequency: t.frequency, amplitude: t.amplitude, harmonic: t.harmonic })).sort((a, b) => a.frequency - b.frequency);
     expect(found).toEqual(ch.lines.map((l) => ({ frequency: l.frequency, amplitude: l.amplitude, harmonic: l.harmonic ?? 0 })));
 

@@ -119,9 +119,9 @@ export interface AlarmFlagValues {
 }
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
-export async function readAlarmFlags(args: ParsedArgs, command: string): Promise<AlarmFlagValues> {
+export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig): Promise<AlarmFlagValues> {
   const f = args.flags;
-  const rules = f.rules ? await loadRules(f.rules as string) : defaultRules();
+  const rules = f.rules ? await loadRules(f.rules as string) : configRules ? structuredClone(configRules) : defaultRules();
   const bands = (f.band as string[]).map((b) => {
     try {
       return parseBand(b);

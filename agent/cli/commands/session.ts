@@ -9,7 +9,12 @@ import { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
 import { Recorder, type RecorderOptions } from '../../recorder/recorder.ts';
 import { repairRecordings } from '../../recorder/repair-on-start.ts';
 import { EventLog } from '../../events/event-log.ts';
+import type { SinkConfig } from '../../config/rig-config.ts';
+import { attachNotifier } from '../../notify/attach.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
+import { attachHistory, type History } from '../../store/attach.ts';
+import { AlarmHook } from '../../rules/alarm-hook.ts';
+import type { Level } from '../../store/schema.ts';
 
 export interface SessionOptions {
   command: string;
@@ -29,12 +34,17 @@ export interface SessionOptions {
   /** Also append every event to this file (besides the data folder's events.jsonl). */
   eventsOut?: string;
   /** Starts the dashboard server when given; returns its URL and a close function. */
-  serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined }) => Promise<{ url: string; close(): Promise<void> }>;
+  /** Notification sinks of the rig config (their outbox lives in the data folder). */
+  notify?: readonly SinkConfig[];
+  serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined }) => Promise<{ url: string; close(): Promise<void> }>;
+  /** Keep the trend history in this store file (see agent/store); absent: no history. */
+  history?: { path: string; source: string; bands?: readonly { low: number; high: number }[]; retention?: Record<Level, number> };
 }
 
 export interface Session {
   folder: DataFolder;
   recorder: Recorder | undefined;
+  history: History | undefined;
   digest: SnapshotDigest;
   /** Resolves when the source ended (or was stopped) and everything is flushed. */
   finished: Promise<void>;
@@ -64,10 +74,26 @@ export async function startSession(o: SessionOptions): Promise<Session> {
   }
   if (o.record && recorder) recorder.startRecording();
   else if (o.record) process.stderr.write(`floorline ${o.command}: recording failed: no usable data folder at ${folder.root}.\n`);
-  for (const d of o.detectors?.(recorder, folder) ?? []) pipeline.addDetector(d);
+  const installed = o.detectors?.(recorder, folder) ?? [];
+  for (const d of installed) pipeline.addDetector(d);
+  const hook = installed.find((d): d is AlarmHook => d instanceof AlarmHook);
+  // Refused (another agent holds the store) before the source starts: nothing is read, nothing is written.
+  const history = o.history
+    ? attachHistory(pipeline, {
+        ...o.history,
+        command: o.command,
+        detectorStatus: () => hook?.detectors?.status(),
+        warn: (m) => process.stderr.write(`floorline ${o.command}: ${m}\n`),
+      })
+    : undefined;
+  if (history && !o.quiet) process.stdout.write(`history    ${history.path}\n`);
 
   const logPaths = [...(folderOk && o.detectors ? [folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
   const log = logPaths.length ? new EventLog(logPaths) : undefined;
+  const notifier = folderOk && o.notify?.length
+    ? attachNotifier(pipeline, folder.root, o.notify, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`))
+    : undefined;
+  if (o.notify?.length && !notifier) process.stderr.write(`floorline ${o.command}: notifications are off: no usable data folder for their outbox.\n`);
   const digest = new SnapshotDigest();
   pipeline.on('snapshot', (s) => digest.add(s));
   pipeline.on('event', (e: FloorlineEvent) => {
@@ -78,7 +104,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
     if (!o.quiet) printStreamHeader(info, pipeline, o.frames?.());
   });
 
-  const server = o.serve ? await o.serve({ folder, recorder }) : undefined;
+  const server = o.serve ? await o.serve({ folder, recorder, history }) : undefined;
   if (server) process.stdout.write(`dashboard  ${server.url}\n`);
 
   const wall0 = performance.now();
@@ -97,10 +123,12 @@ export async function startSession(o: SessionOptions): Promise<Session> {
       process.off('SIGINT', onSignal);
       process.off('SIGTERM', onSignal);
       recorder?.close();
+      await notifier?.close();
+      history?.close();
       log?.close();
       await server?.close();
     }
     printSummary(pipeline, performance.now() - wall0, digest, recorder);
   })();
-  return { folder, recorder, digest, finished, stop };
+  return { folder, recorder, history, digest, finished, stop };
 }
