@@ -21,6 +21,7 @@ import { bandNoiseFigures, type NoiseFigureReport, type SourceSpec } from './noi
 import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
 import { resolveChannelPairs } from './channel-pairs.ts';
+import { CLIP_FRACTION, FLOAT32_MAX } from '../pipeline/conditioner.ts';
 import type { Band } from './bands.ts';
 
 export { AnalysisInputError } from './input-error.ts';
@@ -188,7 +189,7 @@ function channelReferrals(info: WavInfo, path: string, inputReferred: boolean): 
 export async function analyzeFile(
   path: string,
   options: AnalyzeOptions,
-): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array }> {
+): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array; excludedFrames: number }> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
   let closeSpectra: (() => Promise<void>) | undefined;
@@ -227,17 +228,30 @@ export async function analyzeFile(
     const firstSample = info.firstSample + span.start;
     const fullScales = info.channels.map((ch) => channelFullScale(ch, info));
     const scan = new ClipScan(fullScales);
+    // The non-finite policy of the live pipeline: a segment touching NaN, ±Inf or a value beyond float32 is left
+    // out always, not only under --exclude-clipped (a scan whose "full scale" is the float32 limit finds them).
+    // A segment filter keeps the work on this thread, so with --threads the filter is added only when a fault
+    // turns up (the file is then read again, on one thread).
+    const faults = new ClipScan(info.channels.map(() => FLOAT32_MAX / (1 - CLIP_FRACTION)));
+    const threads = options.threads ?? 1;
+    const filterFaults = threads <= 1;
+    const acceptFor = (): ((a: number, b: number) => boolean) => {
+      const finite = faults.makeAccept();
+      if (!options.excludeClipped) return finite;
+      const clean = scan.makeAccept();
+      return (a, b) => finite(a, b) && clean(a, b);
+    };
     const plan: ChannelEstimatorPlan = {
       sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
       medianOf: average === 'median' ? planned : undefined,
     };
-    const spectra = chooseChannelSpectra(plan, info.channels.length, options.threads ?? 1, options.excludeClipped ? () => scan.makeAccept() : undefined);
+    const spectra = chooseChannelSpectra(plan, info.channels.length, threads, filterFaults ? acceptFor : options.excludeClipped ? () => scan.makeAccept() : undefined);
     if (spectra.close) closeSpectra = () => spectra.close!();
     const crosses = pairs.map(
       () =>
         new CrossSpectrum({
           sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
-          accept: options.excludeClipped ? scan.makeAccept() : undefined,
+          accept: acceptFor(),
         }),
     );
     reader.seek(span.start);
@@ -245,6 +259,7 @@ export async function analyzeFile(
     for (let block = await reader.read(); block && done < spanFrames; block = await reader.read()) {
       const frames = Math.min(block.frames, spanFrames - done);
       scan.scan(block.data, frames, firstSample + done);
+      faults.scan(block.data, frames, firstSample + done);
       await spectra.push(block.data, frames);
       for (let p = 0; p < pairs.length; p++) crosses[p].push(block.data[pairs[p].a], block.data[pairs[p].b], 0, frames);
       done += frames;
@@ -252,8 +267,17 @@ export async function analyzeFile(
     }
     closeSpectra = undefined;
     const results = await spectra.finish();
+    if (!filterFaults && faults.total > 0) {
+      return analyzeFile(path, { ...options, threads: 1 }); // this reader is closed by the finally below
+    }
     // Window, bins and frequencies of the estimates (never fed).
     const first = makeEstimator(plan);
+    if (results[0].segmentsUsed === 0 && !options.excludeClipped && faults.total > 0) {
+      throw new AnalysisInputError(
+        `${path}: no whole segment of ${segment} finite samples (${faults.total} samples are NaN, ±Inf or beyond float32 and are excluded); ` +
+          `give a smaller --segment or a span of finite samples (--from/--to).`,
+      );
+    }
     if (results[0].segmentsUsed === 0) {
       throw new AnalysisInputError(
         `${path}: every one of the ${results[0].segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
@@ -335,7 +359,7 @@ export async function analyzeFile(
       });
     }
     const clips = info.channels.map((ch, c) => ({ channel: ch.name, count: scan.channels[c].count, missing: scan.channels[c].missing, first: scan.channels[c].first, last: scan.channels[c].last }));
-    return { report, info, clips, maskFailed, maskLimits: limits };
+    return { report, info, clips, maskFailed, maskLimits: limits, excludedFrames: faults.total };
   } finally {
     await closeSpectra?.();
     await reader.close();

@@ -1,6 +1,7 @@
 // The `floorline` command: dispatches to one subcommand module each.
 import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
+import { printable } from '../../protocol/limits.ts';
 
 function topHelp(): string {
   const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);
@@ -27,7 +28,7 @@ export async function main(argv: string[]): Promise<number> {
   } catch (err) {
     const e = err as Error & { exitCode?: number };
     if (e && typeof e.exitCode === 'number') {
-      process.stderr.write(`${e.message}\n`);
+      process.stderr.write(`${printable(e.message)}\n`);
       return e.exitCode;
     }
     throw err;
