@@ -7,6 +7,8 @@ const realtime = [
   'tests/serial/pty-*.test.ts',
   'tests/replay/live-run.test.ts',
   'tests/recorder/crash.test.ts',
+  'tests/service/shutdown.test.ts',
+  'tests/notify/webhook-outage.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 

@@ -11,6 +11,7 @@ import { repairRecordings } from '../../recorder/repair-on-start.ts';
 import { EventLog } from '../../events/event-log.ts';
 import type { SinkConfig } from '../../config/rig-config.ts';
 import { attachNotifier } from '../../notify/attach.ts';
+import { installShutdown } from '../../service/shutdown.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
 import { attachHistory, type History } from '../../store/attach.ts';
 import { AlarmHook } from '../../rules/alarm-hook.ts';
@@ -112,16 +113,13 @@ export async function startSession(o: SessionOptions): Promise<Session> {
   const timer = o.statusEvery > 0 ? setInterval(() => printStatusLine(pipeline, recorder), o.statusEvery * 1000) : undefined;
   let stopping: Promise<void> | undefined;
   const stop = (): Promise<void> => (stopping ??= source.stop());
-  const onSignal = () => void stop();
-  process.once('SIGINT', onSignal);
-  process.once('SIGTERM', onSignal);
+  const signals = installShutdown(stop, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`));
   const finished = (async () => {
     try {
       await pipeline.whenEnded();
     } finally {
       if (timer) clearInterval(timer);
-      process.off('SIGINT', onSignal);
-      process.off('SIGTERM', onSignal);
+      signals.uninstall();
       recorder?.close();
       await notifier?.close();
       history?.close();
