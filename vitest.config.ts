@@ -9,6 +9,7 @@ const realtime = [
   'tests/recorder/crash.test.ts',
   'tests/service/shutdown.test.ts',
   'tests/notify/webhook-outage.test.ts',
+  'tests/retention/small-disk.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 
