@@ -48,6 +48,8 @@ export interface PipelineBackendOptions {
   eventHistory?: number;
   /** The live low-frequency view fed from the same pipeline (updates to clients at most 10 a second). */
   lowFrequency?: LiveLowFrequency;
+  /** Liveness verdict for GET /healthz. */
+  health?: () => { ok: boolean; reason: string };
   /** Disk accounting of the retention keeper, when there is one. */
   disk?: () => DiskState;
   /** The session's history store, when it keeps one. */
@@ -226,6 +228,10 @@ export class PipelineBackend implements ServerBackend {
       }
     }
     return rows;
+  }
+
+  health(): { ok: boolean; reason: string } {
+    return this.o.health?.() ?? { ok: true, reason: 'no health checks configured' };
   }
 
   status(): BackendStatus {

@@ -19,6 +19,7 @@ import type { BaselineFile } from '../baseline/format.ts';
 import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
 import type { History } from '../store/attach.ts';
 import type { RetentionKeeper } from '../retention/retention.ts';
+import { HealthWatch } from '../service/health.ts';
 
 export interface ServeWiring {
   pipeline: Pipeline;
@@ -52,6 +53,7 @@ export function serveDashboard(
       pipeline: w.pipeline,
       lowFrequency: new LiveLowFrequency().attach(w.pipeline),
       disk: retention ? () => retention.status() : undefined,
+      health: ((h) => () => h.check())(new HealthWatch(w.pipeline)),
       data: folder,
       history: history ? { path: history.path, note: (text, incident) => history.note(text, incident) } : undefined,
       sourceCounters: () => w.source.counters(),
