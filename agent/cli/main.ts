@@ -1,6 +1,10 @@
 // The `floorline` command: dispatches to one subcommand module each.
 import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
+import { installStructuredLogs, structuredLogsWanted } from '../service/log-lines.ts';
+
+/** The long-running commands, whose output becomes JSON lines under a service manager. */
+const SERVICE_COMMANDS = ['run', 'replay', 'demo'];
 
 function topHelp(): string {
   const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);
@@ -22,6 +26,7 @@ export async function main(argv: string[]): Promise<number> {
     process.stdout.write(formatHelp(spec));
     return 0;
   }
+  if (SERVICE_COMMANDS.includes(spec.name) && structuredLogsWanted()) installStructuredLogs(spec.name);
   try {
     return await spec.run(parseArgs(spec, rest));
   } catch (err) {

@@ -12,6 +12,7 @@ import { EventLog } from '../../events/event-log.ts';
 import type { SinkConfig } from '../../config/rig-config.ts';
 import { attachNotifier } from '../../notify/attach.ts';
 import { installShutdown } from '../../service/shutdown.ts';
+import { registerSecret } from '../../service/log-lines.ts';
 import { attachRetention } from '../../retention/attach.ts';
 import type { RetentionKeeper, RetentionPolicy } from '../../retention/retention.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
@@ -61,6 +62,8 @@ export interface Session {
 /** Prepares the data folder and recorder, subscribes the report, starts server and source. */
 export async function startSession(o: SessionOptions): Promise<Session> {
   const { pipeline, source } = o;
+  registerSecret(process.env.FLOORLINE_TOKEN);
+  for (const s of o.notify ?? []) if ('headers' in s) for (const v of Object.values(s.headers ?? {})) registerSecret(v);
   const folder = dataFolderAt(o.dataDir);
   let recorder: Recorder | undefined;
   let folderOk = false;
