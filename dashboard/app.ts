@@ -15,6 +15,8 @@ import { NoiseBudgetForm } from './views/noise-budget.ts';
 import { LogFrequencyView } from './views/log-frequency.ts';
 import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
 import { logFrequencyCsv } from './log-frequency-csv.ts';
+import { channelColour, channelDash } from './colours.ts';
+import { densityLabel } from './units.ts';
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
 
@@ -205,7 +207,10 @@ export class App {
     }
     const c = this.spectrum.canvas;
     const f = this.spectrum.frame;
-    if (!c || !this.context) return;
-    download(`floorline-spectrum-${f?.sample ?? 0}.png`, await spectrumPng(c, contextLine(this.context, f)));
+    const ctx = this.context;
+    if (!c || !ctx) return;
+    const legend = ctx.channels.map((ch, i) => ({ label: `${ch.name} (${ch.unit})`, colour: channelColour(i), dash: channelDash(i) }));
+    const when = this.status?.wallTime ? ` · ${this.status.wallTime}` : '';
+    download(`floorline-spectrum-${f?.sample ?? 0}.png`, await spectrumPng(c, contextLine(ctx, f) + when, legend, densityLabel(this.spectrum.unitChoice, ctx.channels[0]?.unit ?? 'V')));
   }
 }

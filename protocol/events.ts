@@ -4,7 +4,7 @@
 export type EventKind = 'alarm' | 'info';
 /** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
 export type EventState = 'raised' | 'settled' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention';
 
 export interface FloorlineEvent {
   kind: EventKind;

@@ -1,12 +1,15 @@
 #!/usr/bin/env bash
 # Run before `npm test`: the integration suites need socat (pty pairs), Debian's Chromium (browser tests) and
-# python3 with numpy + scipy (reference values). Installs the Debian packages when missing and we are root;
+# python3 with numpy + scipy (reference values), and g++ + make so that `npm ci` can compile better-sqlite3 where its
+# prebuilt binary cannot be fetched (about 70 s). Installs the Debian packages when missing and we are root;
 # otherwise says exactly what to install.
 set -euo pipefail
 missing=()
 command -v socat >/dev/null 2>&1 || missing+=(socat)
 [ -x /usr/bin/chromium ] || missing+=(chromium)
 python3 -c 'import numpy, scipy' >/dev/null 2>&1 || missing+=(python3-numpy python3-scipy)
+command -v g++ >/dev/null 2>&1 || missing+=(g++)
+command -v make >/dev/null 2>&1 || missing+=(make)
 [ ${#missing[@]} -eq 0 ] && exit 0
 if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
   echo "floorline tests: installing Debian packages ${missing[*]}" >&2

@@ -4,11 +4,11 @@
 // segments that touch one can be left out. Shared by `floorline analyze` (printed as JSON, CSV or text).
 import type { DetrendMode } from '../../protocol/settings.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
-import { WholeMedianAverager } from '../../dsp/averaging.ts';
 import { CrossSpectrum } from '../../dsp/cross-spectrum.ts';
 import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
 import { judgeMask, maskOnBins, type MaskVerdict } from '../../dsp/measure/limit-mask.ts';
-import { WelchEstimator } from '../../dsp/welch.ts';
+import { makeEstimator, type ChannelEstimatorPlan } from '../workers/channel-spectra.ts';
+import { chooseChannelSpectra } from '../workers/choose-channel-spectra.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { defaultBands } from '../rules/default-bands.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
@@ -20,6 +20,7 @@ import { bandNoiseFigures, type NoiseFigureReport, type SourceSpec } from './noi
 import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
 import { resolveChannelPairs } from './channel-pairs.ts';
+import { CLIP_FRACTION, FLOAT32_MAX } from '../pipeline/conditioner.ts';
 import type { Band } from './bands.ts';
 
 export { AnalysisInputError } from './input-error.ts';
@@ -41,6 +42,8 @@ export interface AnalyzeOptions {
   to?: string;
   average?: AverageMode;
   excludeClipped?: boolean;
+  /** Threads for the per-channel estimates (default 1: all on the calling thread); results are identical. */
+  threads?: number;
   lines?: boolean;
   cumulative?: boolean;
   /** Limit-mask CSV path. */
@@ -169,9 +172,10 @@ function channelGains(info: WavInfo, path: string): number[] {
 export async function analyzeFile(
   path: string,
   options: AnalyzeOptions,
-): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array }> {
+): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array; excludedFrames: number }> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
+  let closeSpectra: (() => Promise<void>) | undefined;
   try {
     const { info } = reader;
     applyUnit(info, options.unit, path);
@@ -207,21 +211,30 @@ export async function analyzeFile(
     const firstSample = info.firstSample + span.start;
     const fullScales = info.channels.map((ch) => channelFullScale(ch, info));
     const scan = new ClipScan(fullScales);
-    const estimators = info.channels.map(
-      () =>
-        new WelchEstimator({
-          sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
-          // With the median averager injected, the spec only picks the equal-weight equivalent-averages formula.
-          averaging: { mode: 'mean' },
-          averager: average === 'median' ? new WholeMedianAverager(segment / 2 + 1, planned) : undefined,
-          accept: options.excludeClipped ? scan.makeAccept() : undefined,
-        }),
-    );
+    // The non-finite policy of the live pipeline: a segment touching NaN, ±Inf or a value beyond float32 is left
+    // out always, not only under --exclude-clipped (a scan whose "full scale" is the float32 limit finds them).
+    // A segment filter keeps the work on this thread, so with --threads the filter is added only when a fault
+    // turns up (the file is then read again, on one thread).
+    const faults = new ClipScan(info.channels.map(() => FLOAT32_MAX / (1 - CLIP_FRACTION)));
+    const threads = options.threads ?? 1;
+    const filterFaults = threads <= 1;
+    const acceptFor = (): ((a: number, b: number) => boolean) => {
+      const finite = faults.makeAccept();
+      if (!options.excludeClipped) return finite;
+      const clean = scan.makeAccept();
+      return (a, b) => finite(a, b) && clean(a, b);
+    };
+    const plan: ChannelEstimatorPlan = {
+      sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
+      medianOf: average === 'median' ? planned : undefined,
+    };
+    const spectra = chooseChannelSpectra(plan, info.channels.length, threads, filterFaults ? acceptFor : options.excludeClipped ? () => scan.makeAccept() : undefined);
+    if (spectra.close) closeSpectra = () => spectra.close!();
     const crosses = pairs.map(
       () =>
         new CrossSpectrum({
           sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
-          accept: options.excludeClipped ? scan.makeAccept() : undefined,
+          accept: acceptFor(),
         }),
     );
     reader.seek(span.start);
@@ -229,29 +242,42 @@ export async function analyzeFile(
     for (let block = await reader.read(); block && done < spanFrames; block = await reader.read()) {
       const frames = Math.min(block.frames, spanFrames - done);
       scan.scan(block.data, frames, firstSample + done);
-      for (let c = 0; c < estimators.length; c++) estimators[c].push(block.data[c], 0, frames);
+      faults.scan(block.data, frames, firstSample + done);
+      await spectra.push(block.data, frames);
       for (let p = 0; p < pairs.length; p++) crosses[p].push(block.data[pairs[p].a], block.data[pairs[p].b], 0, frames);
       done += frames;
       options.onProgress?.(done, spanFrames);
     }
-    const first = estimators[0];
-    if (first.segmentsUsed === 0) {
+    closeSpectra = undefined;
+    const results = await spectra.finish();
+    if (!filterFaults && faults.total > 0) {
+      return analyzeFile(path, { ...options, threads: 1 }); // this reader is closed by the finally below
+    }
+    // Window, bins and frequencies of the estimates (never fed).
+    const first = makeEstimator(plan);
+    if (results[0].segmentsUsed === 0 && !options.excludeClipped && faults.total > 0) {
       throw new AnalysisInputError(
-        `${path}: every one of the ${first.segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
+        `${path}: no whole segment of ${segment} finite samples (${faults.total} samples are NaN, ±Inf or beyond float32 and are excluded); ` +
+          `give a smaller --segment or a span of finite samples (--from/--to).`,
       );
     }
-    const keq = first.equivalentAverages() * (average === 'median' ? MEDIAN_EFFICIENCY : 1);
+    if (results[0].segmentsUsed === 0) {
+      throw new AnalysisInputError(
+        `${path}: every one of the ${results[0].segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
+      );
+    }
+    const keq = results[0].equivalentAverages * (average === 'median' ? MEDIAN_EFFICIENCY : 1);
     const settings: ReportSettings = {
       segment,
       window: first.window.name,
       overlap: options.overlap,
       detrend: options.detrend,
-      averages: first.segmentsUsed,
+      averages: results[0].segmentsUsed,
       nenbw: first.window.nenbw,
       enbwHz: first.window.enbwHz(info.sampleRate),
       binHz: first.binHz,
       average,
-      excludedSegments: first.segmentsExcluded,
+      excludedSegments: results[0].segmentsExcluded,
       equivalentAverages: keq,
       span: { firstSample, endSample: firstSample + done, from: firstSample / info.sampleRate, to: (firstSample + done) / info.sampleRate },
     };
@@ -262,7 +288,7 @@ export async function analyzeFile(
     const limits = mask ? maskOnBins(mask, first.frequencies) : undefined;
     let maskFailed = false;
     const channels: ChannelReport[] = info.channels.map((ch, c) => {
-      const psd = estimators[c].psd();
+      const psd = results[c].psd;
       const gain = gains?.[c];
       if (gain !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= gain * gain;
       const asd = new Float64Array(psd.length);
@@ -313,8 +339,9 @@ export async function analyzeFile(
       });
     }
     const clips = info.channels.map((ch, c) => ({ channel: ch.name, count: scan.channels[c].count, missing: scan.channels[c].missing, first: scan.channels[c].first, last: scan.channels[c].last }));
-    return { report, info, clips, maskFailed, maskLimits: limits };
+    return { report, info, clips, maskFailed, maskLimits: limits, excludedFrames: faults.total };
   } finally {
+    await closeSpectra?.();
     await reader.close();
   }
 }

@@ -1,6 +1,7 @@
 // The `floorline` command: dispatches to one subcommand module each.
 import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
+import { printable } from '../../protocol/limits.ts';
 import { installStructuredLogs, structuredLogsWanted } from '../service/log-lines.ts';
 
 /** The long-running commands, whose output becomes JSON lines under a service manager. */
@@ -32,7 +33,7 @@ export async function main(argv: string[]): Promise<number> {
   } catch (err) {
     const e = err as Error & { exitCode?: number };
     if (e && typeof e.exitCode === 'number') {
-      process.stderr.write(`${e.message}\n`);
+      process.stderr.write(`${printable(e.message)}\n`);
       return e.exitCode;
     }
     throw err;

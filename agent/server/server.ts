@@ -36,6 +36,15 @@ const SECURITY_HEADERS = {
   'content-security-policy': "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; connect-src 'self'; frame-ancestors 'none'",
 };
 
+/** The request target as a URL, or null when it does not parse (checked before anything else reads it). */
+function requestUrl(req: IncomingMessage): URL | null {
+  try {
+    return new URL(req.url ?? '/', 'http://agent.invalid');
+  } catch {
+    return null;
+  }
+}
+
 function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): SpectrumContext {
   return {
     id,
@@ -109,7 +118,11 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   function onRequest(req: IncomingMessage, res: ServerResponse): void {
     for (const [k, v] of Object.entries(SECURITY_HEADERS)) res.setHeader(k, v);
-    const url = new URL(req.url ?? '/', 'http://agent.invalid');
+    const url = requestUrl(req);
+    if (!url) {
+      sendError(res, 400, 'bad-url', 'request target is not a valid path');
+      return;
+    }
     const verdict = checkAccess(req, url, options);
     if (!verdict.ok) {
       sendError(res, verdict.status, verdict.status === 401 ? 'token' : 'forbidden', verdict.reason);
@@ -156,10 +169,14 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   }
 
   httpServer.on('upgrade', (req, socket, head) => {
-    const url = new URL(req.url ?? '/', 'http://agent.invalid');
-    const verdict = url.pathname === '/ws' ? checkAccess(req, url, options) : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
+    const url = requestUrl(req);
+    const verdict = !url
+      ? ({ ok: false, status: 400, reason: 'request target is not a valid path' } as const)
+      : url.pathname === '/ws'
+        ? checkAccess(req, url, options)
+        : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
     if (!verdict.ok) {
-      const text = verdict.status === 401 ? 'Unauthorized' : 'Forbidden';
+      const text = verdict.status === 401 ? 'Unauthorized' : verdict.status === 400 ? 'Bad Request' : 'Forbidden';
       socket.end(`HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`);
       return;
     }

@@ -9,7 +9,7 @@ import { lockStore, type StoreLock } from './store-lock.ts';
 import { openStoreForWriting, type StoreDb } from './open-store.ts';
 import { HistoryWriter } from './history-writer.ts';
 import { TrendSampler } from './trend-sampler.ts';
-import { IncidentBook, type AlarmEventLike } from './incident-book.ts';
+import { IncidentBook, type AlarmEventLike, type IncidentRecord } from './incident-book.ts';
 import type { Level } from './schema.ts';
 
 export interface HistoryOptions {
@@ -21,6 +21,10 @@ export interface HistoryOptions {
   bands?: readonly { low: number; high: number }[];
   retention?: Record<Level, number>;
   detectorStatus?: () => readonly DetectorStatus[] | undefined;
+  /** The detectors' own incident records (grouping, acknowledge state); absent: incidents are built from events. */
+  incidentRecords?: () => readonly IncidentRecord[] | undefined;
+  /** Tells the detectors of a note on an incident (so their listing shows it too). */
+  onIncidentNote?: (incident: string, text: string, sample: number) => void;
   warn: (message: string) => void;
   /** Wall ms between commits (default 500; at most 1000 keeps kill -9 losses within a second). */
   commitMs?: number;
@@ -61,11 +65,27 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
         writer.note({ sample: ev.sample, t: ev.t, wallTime: ev.wallTime, text: ev.text, incident: ev.incident });
       }
       const inc = book.apply(ev);
-      if (inc) writer.incident(inc);
+      if (inc && !o.incidentRecords?.()) writer.incident(inc);
     }),
     pipeline.on('end', () => sampler.finish()),
   ];
-  const timer = setInterval(() => writer.flush(), Math.min(1000, o.commitMs ?? 500));
+  // The detectors' records, when there are any, are the incidents: changed ones are written with each commit.
+  const written = new Map<string, string>();
+  const syncIncidents = (): void => {
+    for (const r of o.incidentRecords?.() ?? []) {
+      const { notes: _notes, ...rest } = r as IncidentRecord & { notes?: unknown };
+      // An open incident has no peak in the detectors' record yet: the one its events show so far stands in.
+      if (!rest.peak) rest.peak = book.peakOf(r.id);
+      const key = JSON.stringify(rest);
+      if (written.get(r.id) === key) continue;
+      written.set(r.id, key);
+      writer.incident(rest as IncidentRecord);
+    }
+  };
+  const timer = setInterval(() => {
+    syncIncidents();
+    writer.flush();
+  }, Math.min(1000, o.commitMs ?? 500));
   timer.unref();
   let closed = false;
   return {
@@ -75,6 +95,7 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
       const sample = Math.max(0, pipeline.counters().lastSample);
       const rate = pipeline.stream?.sampleRate ?? 1;
       const e = { kind: 'note', text, sample, t: sample / rate, wallTime: pipeline.wallTimeAt(sample), ...(incident ? { incident } : {}) };
+      if (incident) o.onIncidentNote?.(incident, text, sample);
       pipeline.emitEvent(e as unknown as FloorlineEvent);
       return e;
     },
@@ -83,6 +104,7 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
       closed = true;
       clearInterval(timer);
       for (const off of offs) off();
+      syncIncidents();
       sampler.finish();
       writer.close();
       db.close();

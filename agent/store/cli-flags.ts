@@ -1,6 +1,6 @@
 // Store flags of run, replay and demo, and where each command's store lives: a live run keeps the rig's history
 // in DATA/floorline.sqlite; a replay writes to --store FILE or to a store of its own under DATA/replays/, never
-// into the rig's; the demo keeps DATA/demo.sqlite (its invented rig is not yours).
+// into the rig's; the demo (a replay of the bundled recording) keeps DATA/replays/demo.sqlite.
 import { basename, join, resolve } from 'node:path';
 import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
 import { UsageError } from '../cli/usage-error.ts';
@@ -44,7 +44,7 @@ export function historyFromArgs(args: ParsedArgs, command: 'run' | 'replay' | 'd
   if (f.store) return { path: resolve(f.store as string), retention };
   const root = resolve(dataDir);
   if (command === 'run') return { path: join(root, STORE_FILE), retention };
-  if (command === 'demo') return { path: join(root, 'demo.sqlite'), retention };
+  if (command === 'demo') return { path: join(root, 'replays', 'demo.sqlite'), retention };
   const stamp = new Date().toISOString().replace(/[-:]/g, '').replace(/\.\d+Z$/, 'Z');
   const name = basename(recording ?? 'replay').replace(/\.(wav|rf64)$/i, '').replace(/[^A-Za-z0-9._-]/g, '_');
   return { path: join(root, 'replays', `${name}-${stamp}.sqlite`), retention };

@@ -24,7 +24,8 @@ export interface IncidentRecord {
   start: StampedPoint;
   end: StampedPoint | null;
   settled: { levelDb: number; amplitude?: number; frequency?: number } | null;
-  peak: { levelDb: number; amplitude?: number; sample: number };
+  /** Highest level over the incident's life; null while none was measured (clip, gap, link). */
+  peak: { levelDb: number; amplitude?: number; sample: number } | null;
   acknowledged: boolean;
   capture: string | null;
 }
@@ -58,7 +59,7 @@ function memberKey(e: AlarmEventLike): string {
 }
 
 export class IncidentBook {
-  private readonly incidents = new Map<string, IncidentRecord & { open: Set<string> }>();
+  private readonly incidents = new Map<string, Omit<IncidentRecord, 'peak'> & { peak: { levelDb: number; amplitude?: number; sample: number }; open: Set<string> }>();
   /** Open member key → incident id, for events that carry no incident id. */
   private readonly openByMember = new Map<string, string>();
 
@@ -101,15 +102,21 @@ export class IncidentBook {
     return this.view(inc);
   }
 
-  private peak(inc: IncidentRecord, levelDb: number | undefined, amplitude: number | undefined, sample: number): void {
+  /** The highest level seen so far in the events of an incident (null: none yet). */
+  peakOf(id: string): IncidentRecord['peak'] {
+    const p = this.incidents.get(id)?.peak;
+    return p && Number.isFinite(p.levelDb) ? { ...p } : null;
+  }
+
+  private peak(inc: { peak: { levelDb: number; amplitude?: number; sample: number } }, levelDb: number | undefined, amplitude: number | undefined, sample: number): void {
     if (levelDb === undefined || !Number.isFinite(levelDb)) return;
     if (levelDb > inc.peak.levelDb || !Number.isFinite(inc.peak.levelDb)) {
       inc.peak = { levelDb, ...(amplitude !== undefined ? { amplitude } : {}), sample };
     }
   }
 
-  private view(inc: IncidentRecord & { open: Set<string> }): IncidentRecord {
+  private view(inc: Omit<IncidentRecord, 'peak'> & { peak: { levelDb: number; amplitude?: number; sample: number }; open: Set<string> }): IncidentRecord {
     const { open: _open, ...rest } = inc;
-    return { ...rest, peak: { ...rest.peak, levelDb: Number.isFinite(rest.peak.levelDb) ? rest.peak.levelDb : (null as unknown as number) } };
+    return { ...rest, peak: Number.isFinite(rest.peak.levelDb) ? { ...rest.peak } : null };
   }
 }

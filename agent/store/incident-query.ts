@@ -3,9 +3,8 @@ import type { StoreDb } from './open-store.ts';
 import type { IncidentMember, IncidentRecord } from './incident-book.ts';
 import type { TimeBound } from './time-bound.ts';
 
-/** An incident as the store keeps it, with its notes (peak levelDb null when no level was ever seen). */
-export interface IncidentView extends Omit<IncidentRecord, 'peak'> {
-  peak: { levelDb: number | null; amplitude?: number; sample: number };
+/** An incident as the store keeps it, with its notes. */
+export interface IncidentView extends IncidentRecord {
   notes: { text: string; t: number | null; wallTime: string }[];
 }
 
@@ -45,7 +44,7 @@ export function incidentsCsv(list: IncidentView[]): string {
   for (const i of list) {
     lines.push([
       q(i.id), q(i.channel), q(i.rules.join(' ')), i.start.t, i.start.sample, i.start.wallTime, n(i.end?.t), n(i.end?.sample), i.end?.wallTime ?? '',
-      n(i.settled?.levelDb), n(i.settled?.amplitude), n(i.peak.levelDb), n(i.peak.amplitude), i.peak.sample, i.acknowledged ? 1 : 0,
+      n(i.settled?.levelDb), n(i.settled?.amplitude), n(i.peak?.levelDb), n(i.peak?.amplitude), n(i.peak?.sample), i.acknowledged ? 1 : 0,
       q(i.notes.map((x) => x.text).join(' | ')), q(i.capture ?? ''),
     ].join(','));
   }

@@ -31,6 +31,8 @@ export class Controls {
   /** Settings under which the band rules last compared against the baseline (for the way back). */
   private comparedSettings: { segment: number; window: string; averaging: AveragingSpec } | null = null;
   private comparisonOffSince: number | null = null;
+  private settingsKey = '';
+  private settingsSince = 0;
   private armed: { what: string; until: number } | null = null;
 
   constructor(
@@ -108,7 +110,16 @@ export class Controls {
   private showComparison(s: AgentStatus): void {
     const banner = document.getElementById('comparison-banner');
     const on = Controls.comparing(s);
-    if (on && s.settings && s.averaging) this.comparedSettings = { segment: s.settings.segment, window: s.settings.window, averaging: s.averaging };
+    // Band rows of the spectrum before a settings change still carry thresholds: take the settings as compared
+    // only once a status has shown them for two seconds of sample time.
+    const key = s.settings ? `${s.settings.segment}|${s.settings.window}|${JSON.stringify(s.averaging)}` : '';
+    if (key !== this.settingsKey) {
+      this.settingsKey = key;
+      this.settingsSince = s.t;
+    }
+    if (on && s.settings && s.averaging && s.t - this.settingsSince >= 2) {
+      this.comparedSettings = { segment: s.settings.segment, window: s.settings.window, averaging: s.averaging };
+    }
     const off = s.baseline !== null && !on && s.bands.length > 0;
     if (off && this.comparisonOffSince === null) this.comparisonOffSince = s.t;
     if (!off) this.comparisonOffSince = null;

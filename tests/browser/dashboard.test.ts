@@ -188,7 +188,7 @@ describe('dashboard against a running replay', () => {
     expect(out.map(Number)).toEqual([2049, 3, 8000 / 4096, 4000]);
   });
 
-  it('exports the chart as a PNG of the canvas size with the spectral context under it', async () => {
+  it('exports the chart as a PNG of the canvas size with a legend and the spectral context under it', async () => {
     const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#export-png')]);
     const path = join(dir, 'spectrum.png');
     await dl.saveAs(path);
@@ -197,7 +197,9 @@ describe('dashboard against a running replay', () => {
     expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
     const size: [number, number] = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return [c.width, c.height]; })()`);
     expect(png.readUInt32BE(16)).toBe(size[0]);
-    expect(png.readUInt32BE(20)).toBe(size[1] + 28);
+    // dashboard/export.ts PNG_CAPTION_PX (44 CSS px: legend row, then context and time), at the canvas's pixel ratio.
+    const ratio: number = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return c.width / c.clientWidth; })()`);
+    expect(png.readUInt32BE(20)).toBe(size[1] + Math.round(44 * ratio));
   });
 
   it('starts and stops a recording from the button, writing a WAV into the data folder', async () => {
@@ -234,6 +236,7 @@ describe('dashboard against a running replay', () => {
     expect(await page.textContent('#comparison-text')).toMatch(/Baseline comparison off since t = [\d.]+ s/);
     // One click back to the baseline's settings.
     await page.click('#comparison-restore');
+    await expect.poll(() => page.textContent('#control-message'), { timeout: 15_000 }).toMatch(/back to segment 4096/);
     await waitUntil(page, `/segment 4096/.test(document.getElementById('spectral-context').textContent)`, 15_000);
   });
 

@@ -1,4 +1,6 @@
 // `floorline analyze FILE`: offline report of a whole recording (DESIGN.md "analyze --json output").
+import { threadsFlag } from './threads-flag.ts';
+import { resolveThreads } from '../../workers/threads.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
 import { createProgress } from '../progress.ts';
@@ -56,6 +58,7 @@ function optionsFrom(args: ParsedArgs): AnalyzeOptions {
     coherence: f.coherence as string[],
     unit: f.unit as string | undefined,
     inputReferred: f['input-referred'] === true,
+    threads: resolveThreads(f.threads as number | undefined),
   };
   if (f['source-ohms'] !== undefined) {
     options.source = { ohms: f['source-ohms'] as number, kelvin: f['source-kelvin'] as number };
@@ -90,6 +93,7 @@ export const analyzeCommand: CommandSpec = {
   ].join('\n'),
   positionals: [{ name: 'FILE', help: 'WAV recording (RIFF/RF64; PCM 16/24/32-bit or float 32/64-bit)', required: true }],
   flags: [
+    threadsFlag,
     { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, help: 'Welch segment length, a power of two (default 4096, or the largest giving ≥ 8 averages)' },
     { name: 'window', kind: 'string', value: 'NAME', default: 'hann', help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA' },
     { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: 0.5, help: 'segment overlap fraction' },
@@ -129,6 +133,9 @@ export const analyzeCommand: CommandSpec = {
     // The text report carries the clip warnings itself; JSON and CSV readers get them on stderr.
     const toStderr = args.flags.json || args.flags.csv ? [...info.warnings, ...warnings] : info.warnings;
     for (const w of toStderr) process.stderr.write(`floorline analyze: warning: ${w}\n`);
+    if (result.excludedFrames > 0) {
+      process.stderr.write(`floorline analyze: warning: ${result.excludedFrames} frames hold NaN, ±Inf or values beyond float32; they are excluded like a gap\n`);
+    }
     if (args.flags.json) await writeOutput([reportToJson(report) + '\n']);
     else if (args.flags.csv) await writeOutput(csvChunks(report, maskLimits));
     else await writeOutput([formatTextSummary(report, warnings)]);

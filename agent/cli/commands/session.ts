@@ -93,6 +93,8 @@ export async function startSession(o: SessionOptions): Promise<Session> {
         ...o.history,
         command: o.command,
         detectorStatus: () => hook?.detectors?.status(),
+        incidentRecords: () => hook?.detectors?.incidentRecords(),
+        onIncidentNote: (id, text, sample) => void hook?.detectors?.noteIncident(id, text, sample),
         warn: (m) => process.stderr.write(`floorline ${o.command}: ${m}\n`),
       })
     : undefined;
