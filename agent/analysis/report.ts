@@ -16,10 +16,12 @@ import { channelFullScale, channelLsb, ClipScan } from './clip-scan.ts';
 import { AnalysisInputError } from './input-error.ts';
 import { findLines, makeLineSearch, type ReportLine } from './lines.ts';
 import { readMaskFile } from './mask-file.ts';
+import { budgetReport, type BudgetReport } from './budget-report.ts';
 import { bandNoiseFigures, type NoiseFigureReport, type SourceSpec } from './noise-figure-report.ts';
 import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
 import { resolveChannelPairs } from './channel-pairs.ts';
+import { CLIP_FRACTION, FLOAT32_MAX } from '../pipeline/conditioner.ts';
 import type { Band } from './bands.ts';
 
 export { AnalysisInputError } from './input-error.ts';
@@ -100,6 +102,8 @@ export interface ChannelReport {
   cumulativeRms?: Float64Array;
   mask?: MaskVerdict & { bands: ({ low: number; high: number } & MaskVerdict)[] };
   noiseFigure?: NoiseFigureReport;
+  /** The recording metadata's noise budget against the measured density near 1 kHz. */
+  budget?: BudgetReport;
 }
 
 export interface CoherenceReport {
@@ -156,22 +160,36 @@ function applyUnit(info: WavInfo, unit: string | undefined, path: string): void 
   }
 }
 
-function channelGains(info: WavInfo, path: string): number[] {
+/** How a channel is referred: `divide` is the gain to divide by (none when the samples stay as they are). */
+interface Referral {
+  referredTo: 'input' | 'adc';
+  gain?: number;
+  divide?: number;
+}
+
+/**
+ * Per channel: samples a rig config already divided by the gain (metadata `calibration.inputReferred`) read at the
+ * input as they are; with --input-referred the others are divided by the metadata gain (or the calibration's).
+ */
+function channelReferrals(info: WavInfo, path: string, inputReferred: boolean): Referral[] {
   return info.channels.map((ch, c) => {
-    const g = info.metadata?.channels[c]?.gain;
+    const m = info.metadata?.channels[c];
+    const g = m?.gain ?? m?.calibration?.gain;
+    if (m?.calibration?.inputReferred) return { referredTo: 'input', ...(g !== undefined ? { gain: g } : {}) };
+    if (!inputReferred) return { referredTo: 'adc' };
     if (g === undefined || !(g > 0)) {
       throw new AnalysisInputError(
         `--input-referred: channel ${ch.name} of ${path} has no positive "gain" in its metadata; add "gain" (V/V ahead of the ADC) to channels[${c}] of ${path}.json, or drop --input-referred.`,
       );
     }
-    return g;
+    return { referredTo: 'input', gain: g, divide: g };
   });
 }
 
 export async function analyzeFile(
   path: string,
   options: AnalyzeOptions,
-): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array }> {
+): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array; excludedFrames: number }> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
   let closeSpectra: (() => Promise<void>) | undefined;
@@ -186,7 +204,7 @@ export async function analyzeFile(
     }
     const mask = options.mask !== undefined ? readMaskFile(options.mask, nyquist) : undefined;
     const pairs = resolveChannelPairs(options.coherence ?? [], info.channels.map((c) => c.name));
-    const gains = options.inputReferred ? channelGains(info, path) : undefined;
+    const referrals = channelReferrals(info, path, options.inputReferred === true);
     const span = frameSpan(info, options.from, options.to);
     const spanFrames = span.end - span.start;
     const segment = options.segment ?? defaultSegment(spanFrames, options.overlap);
@@ -210,17 +228,30 @@ export async function analyzeFile(
     const firstSample = info.firstSample + span.start;
     const fullScales = info.channels.map((ch) => channelFullScale(ch, info));
     const scan = new ClipScan(fullScales);
+    // The non-finite policy of the live pipeline: a segment touching NaN, ±Inf or a value beyond float32 is left
+    // out always, not only under --exclude-clipped (a scan whose "full scale" is the float32 limit finds them).
+    // A segment filter keeps the work on this thread, so with --threads the filter is added only when a fault
+    // turns up (the file is then read again, on one thread).
+    const faults = new ClipScan(info.channels.map(() => FLOAT32_MAX / (1 - CLIP_FRACTION)));
+    const threads = options.threads ?? 1;
+    const filterFaults = threads <= 1;
+    const acceptFor = (): ((a: number, b: number) => boolean) => {
+      const finite = faults.makeAccept();
+      if (!options.excludeClipped) return finite;
+      const clean = scan.makeAccept();
+      return (a, b) => finite(a, b) && clean(a, b);
+    };
     const plan: ChannelEstimatorPlan = {
       sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
       medianOf: average === 'median' ? planned : undefined,
     };
-    const spectra = chooseChannelSpectra(plan, info.channels.length, options.threads ?? 1, options.excludeClipped ? () => scan.makeAccept() : undefined);
+    const spectra = chooseChannelSpectra(plan, info.channels.length, threads, filterFaults ? acceptFor : options.excludeClipped ? () => scan.makeAccept() : undefined);
     if (spectra.close) closeSpectra = () => spectra.close!();
     const crosses = pairs.map(
       () =>
         new CrossSpectrum({
           sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
-          accept: options.excludeClipped ? scan.makeAccept() : undefined,
+          accept: acceptFor(),
         }),
     );
     reader.seek(span.start);
@@ -228,6 +259,7 @@ export async function analyzeFile(
     for (let block = await reader.read(); block && done < spanFrames; block = await reader.read()) {
       const frames = Math.min(block.frames, spanFrames - done);
       scan.scan(block.data, frames, firstSample + done);
+      faults.scan(block.data, frames, firstSample + done);
       await spectra.push(block.data, frames);
       for (let p = 0; p < pairs.length; p++) crosses[p].push(block.data[pairs[p].a], block.data[pairs[p].b], 0, frames);
       done += frames;
@@ -235,8 +267,17 @@ export async function analyzeFile(
     }
     closeSpectra = undefined;
     const results = await spectra.finish();
+    if (!filterFaults && faults.total > 0) {
+      return analyzeFile(path, { ...options, threads: 1 }); // this reader is closed by the finally below
+    }
     // Window, bins and frequencies of the estimates (never fed).
     const first = makeEstimator(plan);
+    if (results[0].segmentsUsed === 0 && !options.excludeClipped && faults.total > 0) {
+      throw new AnalysisInputError(
+        `${path}: no whole segment of ${segment} finite samples (${faults.total} samples are NaN, ±Inf or beyond float32 and are excluded); ` +
+          `give a smaller --segment or a span of finite samples (--from/--to).`,
+      );
+    }
     if (results[0].segmentsUsed === 0) {
       throw new AnalysisInputError(
         `${path}: every one of the ${results[0].segmentsExcluded} segments touches a clipped or missing sample; choose a span without them (--from/--to) or drop --exclude-clipped.`,
@@ -265,15 +306,15 @@ export async function analyzeFile(
     let maskFailed = false;
     const channels: ChannelReport[] = info.channels.map((ch, c) => {
       const psd = results[c].psd;
-      const gain = gains?.[c];
-      if (gain !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= gain * gain;
+      const { referredTo, gain, divide } = referrals[c];
+      if (divide !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= divide * divide;
       const asd = new Float64Array(psd.length);
       for (let k = 0; k < psd.length; k++) asd[k] = Math.sqrt(psd[k]);
       const clip = scan.channels[c];
       const out: ChannelReport = {
         name: ch.name,
         unit: ch.unit,
-        referredTo: gain !== undefined ? 'input' : 'adc',
+        referredTo,
         ...(gain !== undefined ? { gain } : {}),
         frequency: first.frequencies,
         psd,
@@ -285,6 +326,9 @@ export async function analyzeFile(
         ...(Number.isFinite(fullScales[c]) ? { fullScale: fullScales[c] } : {}),
         ...(channelLsb(ch, info) !== undefined ? { lsb: channelLsb(ch, info) } : {}),
       };
+      const meta = info.metadata?.channels[c];
+      const budget = meta ? budgetReport(meta, psd, first.binHz, info.sampleRate, out.lsb, out.referredTo) : undefined;
+      if (budget) out.budget = budget;
       if (lineSearch) out.lines = findLines(lineSearch, psd, keq);
       if (options.cumulative) out.cumulativeRms = cumulativeRms(psd, first.binHz);
       if (mask && limits) {
@@ -306,7 +350,7 @@ export async function analyzeFile(
     if (pairs.length > 0) {
       report.coherence = pairs.map((p, i) => {
         const r = crosses[i].result();
-        const g = gains ? gains[p.a] * gains[p.b] : 1;
+        const g = (referrals[p.a].divide ?? 1) * (referrals[p.b].divide ?? 1);
         for (let k = 0; k < r.csdRe.length; k++) {
           r.csdRe[k] /= g;
           r.csdIm[k] /= g;
@@ -315,7 +359,7 @@ export async function analyzeFile(
       });
     }
     const clips = info.channels.map((ch, c) => ({ channel: ch.name, count: scan.channels[c].count, missing: scan.channels[c].missing, first: scan.channels[c].first, last: scan.channels[c].last }));
-    return { report, info, clips, maskFailed, maskLimits: limits };
+    return { report, info, clips, maskFailed, maskLimits: limits, excludedFrames: faults.total };
   } finally {
     await closeSpectra?.();
     await reader.close();

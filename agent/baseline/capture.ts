@@ -101,6 +101,15 @@ export class BaselineCapture {
         );
       }
       const psd = est.psd();
+      let floor = 0;
+      for (let k = 1; k < psd.length; k++) floor += psd[k];
+      if (!(floor > 0)) {
+        // A zero floor cannot be compared against: every rise over it would be infinite.
+        throw new RangeError(
+          `baseline capture: channel ${this.o.channels[c].name} is silent (its density is zero above DC: a constant or disconnected input); ` +
+            'capture a span where every channel carries its noise',
+        );
+      }
       settlingParts.push(
         settlingCheck(this.o.channels[c].name, { psd: h1.psd(), equivalentAverages: h1.equivalentAverages() },
           { psd: h2.psd(), equivalentAverages: h2.equivalentAverages() }, binHz, this.o.bands, corr),

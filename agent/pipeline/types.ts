@@ -52,6 +52,16 @@ export interface ClipNotice {
   fullScaleCounts: number;
 }
 
+/** A run of frames holding a non-finite value (NaN, ±Inf, float32 overflow): excluded from everything like a gap. */
+export interface NonFiniteNotice {
+  /** First excluded sample index. */
+  sample: number;
+  /** Frames excluded. */
+  frames: number;
+  /** Channels with a non-finite value in the run. */
+  channels: string[];
+}
+
 /** Whole blocks dropped because analysis fell behind the source. */
 export interface OverrunNotice {
   /** First dropped sample index. */
@@ -100,6 +110,7 @@ export interface PipelineEvents {
   link: LinkNotice;
   clip: ClipNotice;
   overrun: OverrunNotice;
+  nonfinite: NonFiniteNotice;
   end: { sample: number };
 }
 
@@ -114,6 +125,9 @@ export interface PipelineCounters {
   droppedBlocks: number;
   droppedSamples: number;
   clippedSamples: number[];
+  /** Frames excluded because they held a non-finite value, and the first sample of the latest such run (-1: none). */
+  nonfiniteFrames: number;
+  lastNonfiniteSample: number;
   events: number;
   queueDepth: number;
   queueCapacity: number;

@@ -36,6 +36,15 @@ const SECURITY_HEADERS = {
   'content-security-policy': "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; connect-src 'self'; frame-ancestors 'none'",
 };
 
+/** The request target as a URL, or null when it does not parse (checked before anything else reads it). */
+function requestUrl(req: IncomingMessage): URL | null {
+  try {
+    return new URL(req.url ?? '/', 'http://agent.invalid');
+  } catch {
+    return null;
+  }
+}
+
 function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): SpectrumContext {
   return {
     id,
@@ -109,7 +118,11 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   function onRequest(req: IncomingMessage, res: ServerResponse): void {
     for (const [k, v] of Object.entries(SECURITY_HEADERS)) res.setHeader(k, v);
-    const url = new URL(req.url ?? '/', 'http://agent.invalid');
+    const url = requestUrl(req);
+    if (!url) {
+      sendError(res, 400, 'bad-url', 'request target is not a valid path');
+      return;
+    }
     const verdict = checkAccess(req, url, options);
     if (!verdict.ok) {
       sendError(res, verdict.status, verdict.status === 401 ? 'token' : 'forbidden', verdict.reason);
@@ -123,7 +136,12 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     }
     const head = req.method === 'HEAD';
     const path = url.pathname;
-    if (path === '/api/status') {
+    if (path === '/healthz') {
+      // For supervisors: 200 while samples arrive and analysis keeps up, else 503 with the reason.
+      const h = backend.health?.() ?? { ok: true, reason: 'no health checks' };
+      res.writeHead(h.ok ? 200 : 503, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
+      res.end(head ? undefined : JSON.stringify({ ok: h.ok, reason: h.reason }));
+    } else if (path === '/api/status') {
       const body = JSON.stringify(status());
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);
@@ -151,10 +169,14 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   }
 
   httpServer.on('upgrade', (req, socket, head) => {
-    const url = new URL(req.url ?? '/', 'http://agent.invalid');
-    const verdict = url.pathname === '/ws' ? checkAccess(req, url, options) : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
+    const url = requestUrl(req);
+    const verdict = !url
+      ? ({ ok: false, status: 400, reason: 'request target is not a valid path' } as const)
+      : url.pathname === '/ws'
+        ? checkAccess(req, url, options)
+        : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
     if (!verdict.ok) {
-      const text = verdict.status === 401 ? 'Unauthorized' : 'Forbidden';
+      const text = verdict.status === 401 ? 'Unauthorized' : verdict.status === 400 ? 'Bad Request' : 'Forbidden';
       socket.end(`HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`);
       return;
     }

@@ -72,7 +72,8 @@ export class BandCompare {
       this.binsIn[b] = hi - lo + 1;
       let p = 0;
       for (let k = lo; k <= hi; k++) p += o.baselinePsd[k];
-      if (!(p > 0)) throw new RangeError(`BandCompare: baseline power in band ${low}:${high} Hz is ${p}; a floor must be positive`);
+      // A zero floor (a silent channel's baseline) cannot be compared against: such a band is not judged.
+      if (!(p >= 0) || !Number.isFinite(p)) throw new RangeError(`BandCompare: baseline power in band ${low}:${high} Hz is ${p}; a floor must be a finite number ≥ 0`);
       this.baselinePower[b] = p;
     }
   }
@@ -121,7 +122,8 @@ export class BandCompare {
         this.cachedK[b] = k;
         this.cachedBins[b] = kept;
       }
-      this.levelDb[b] = 10 * Math.log10(p / q);
+      // NaN marks "no baseline floor" (q = 0): the band rule never raises on it.
+      this.levelDb[b] = q > 0 ? 10 * Math.log10(p / q) : NaN;
     }
   }
 }

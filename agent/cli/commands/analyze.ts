@@ -133,6 +133,9 @@ export const analyzeCommand: CommandSpec = {
     // The text report carries the clip warnings itself; JSON and CSV readers get them on stderr.
     const toStderr = args.flags.json || args.flags.csv ? [...info.warnings, ...warnings] : info.warnings;
     for (const w of toStderr) process.stderr.write(`floorline analyze: warning: ${w}\n`);
+    if (result.excludedFrames > 0) {
+      process.stderr.write(`floorline analyze: warning: ${result.excludedFrames} frames hold NaN, ±Inf or values beyond float32; they are excluded like a gap\n`);
+    }
     if (args.flags.json) await writeOutput([reportToJson(report) + '\n']);
     else if (args.flags.csv) await writeOutput(csvChunks(report, maskLimits));
     else await writeOutput([formatTextSummary(report, warnings)]);
