@@ -9,7 +9,7 @@ import type { SourceCounters, StreamInfo } from '../../protocol/stream.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { SpectrumSnapshot } from '../pipeline/types.ts';
 import type { DataFolder } from '../config/data-folder.ts';
-import type { AgentStatus, AlarmRow, BandRow, RecordingState, ReplayState } from '../../protocol/messages.ts';
+import type { AgentStatus, AlarmRow, DiskState, BandRow, RecordingState, ReplayState } from '../../protocol/messages.ts';
 import { BaselineCapture } from '../baseline/capture.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { defaultBands } from '../rules/default-bands.ts';
@@ -48,6 +48,10 @@ export interface PipelineBackendOptions {
   eventHistory?: number;
   /** The live low-frequency view fed from the same pipeline (updates to clients at most 10 a second). */
   lowFrequency?: LiveLowFrequency;
+  /** Liveness verdict for GET /healthz. */
+  health?: () => { ok: boolean; reason: string };
+  /** Disk accounting of the retention keeper, when there is one. */
+  disk?: () => DiskState;
   /** The session's history store, when it keeps one. */
   history?: HistoryAccess;
 }
@@ -226,6 +230,10 @@ export class PipelineBackend implements ServerBackend {
     return rows;
   }
 
+  health(): { ok: boolean; reason: string } {
+    return this.o.health?.() ?? { ok: true, reason: 'no health checks configured' };
+  }
+
   status(): BackendStatus {
     const p = this.o.pipeline;
     const info = p.stream;
@@ -252,6 +260,7 @@ export class PipelineBackend implements ServerBackend {
       bands: this.bandRows(),
       alarms: [...this.alarmRows.values()],
       ...(this.o.lowFrequency ? { lowFrequency: this.o.lowFrequency.status() } : {}),
+      ...(this.o.disk ? { disk: this.o.disk() } : {}),
     };
   }
 

@@ -18,6 +18,8 @@ import { AlarmHook } from '../rules/alarm-hook.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
 import type { History } from '../store/attach.ts';
+import type { RetentionKeeper } from '../retention/retention.ts';
+import { HealthWatch } from '../service/health.ts';
 
 export interface ServeWiring {
   pipeline: Pipeline;
@@ -39,8 +41,8 @@ function recordingState(s: { state: RecordingState['state']; file?: string; erro
 
 export function serveDashboard(
   w: ServeWiring,
-): (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined }) => Promise<{ url: string; close(): Promise<void> }> {
-  return async ({ folder, recorder, history }) => {
+): (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined; retention?: RetentionKeeper }) => Promise<{ url: string; close(): Promise<void> }> {
+  return async ({ folder, recorder, history, retention }) => {
     const assetsDir = w.assetsDir ?? defaultAssetsDir();
     if (!existsSync(join(assetsDir, 'index.html'))) {
       throw new ServerConfigError(`the dashboard is not built (${assetsDir}index.html is missing); run \`npm run build\`, or pass --no-server.`);
@@ -50,6 +52,8 @@ export function serveDashboard(
     const backend = new PipelineBackend({
       pipeline: w.pipeline,
       lowFrequency: new LiveLowFrequency().attach(w.pipeline),
+      disk: retention ? () => retention.status() : undefined,
+      health: ((h) => () => h.check())(new HealthWatch(w.pipeline)),
       data: folder,
       history: history ? { path: history.path, note: (text, incident) => history.note(text, incident) } : undefined,
       sourceCounters: () => w.source.counters(),

@@ -11,7 +11,7 @@ export type ParseResult =
 // A Record over the union makes the compiler flag a rule added to EventRule but not here.
 const RULES: Record<EventRule, true> = {
   'band-rise': true, spur: true, mains: true, clip: true, gap: true, link: true, overrun: true, nonfinite: true, internal: true, recording: true, baseline: true,
-  notify: true, disk: true, retention: true,
+  notify: true, disk: true, retention: true, limit: true,
 };
 const TYPES: Record<ClientMessageType, readonly string[]> = {
   'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes'],

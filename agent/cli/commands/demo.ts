@@ -57,6 +57,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   const session = await startSession({
     command: 'demo',
     notify: rig?.config.notify,
+    retention: rig?.config.retention,
     pipeline,
     source: fed,
     dataDir: f.data as string,

@@ -49,6 +49,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
     session = await startSession({
       command: 'replay',
     notify: rig?.config.notify,
+    retention: rig?.config.retention,
       pipeline,
       source: fed,
       dataDir: flags.data,

@@ -48,6 +48,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
   const session = await startSession({
     command: 'run',
     notify: rig?.config.notify,
+    retention: rig?.config.retention,
     pipeline,
     source,
     dataDir: flags.data,

@@ -11,6 +11,10 @@ import { repairRecordings } from '../../recorder/repair-on-start.ts';
 import { EventLog } from '../../events/event-log.ts';
 import type { SinkConfig } from '../../config/rig-config.ts';
 import { attachNotifier } from '../../notify/attach.ts';
+import { installShutdown } from '../../service/shutdown.ts';
+import { registerSecret } from '../../service/log-lines.ts';
+import { attachRetention } from '../../retention/attach.ts';
+import type { RetentionKeeper, RetentionPolicy } from '../../retention/retention.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
 import { attachHistory, type History } from '../../store/attach.ts';
 import { AlarmHook } from '../../rules/alarm-hook.ts';
@@ -34,15 +38,19 @@ export interface SessionOptions {
   /** Also append every event to this file (besides the data folder's events.jsonl). */
   eventsOut?: string;
   /** Starts the dashboard server when given; returns its URL and a close function. */
+  /** Disk retention of the rig config (quotas, free-space floor). */
+  retention?: RetentionPolicy;
   /** Notification sinks of the rig config (their outbox lives in the data folder). */
   notify?: readonly SinkConfig[];
-  serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined }) => Promise<{ url: string; close(): Promise<void> }>;
+  serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined; retention?: RetentionKeeper }) => Promise<{ url: string; close(): Promise<void> }>;
   /** Keep the trend history in this store file (see agent/store); absent: no history. */
   history?: { path: string; source: string; bands?: readonly { low: number; high: number }[]; retention?: Record<Level, number> };
 }
 
 export interface Session {
   folder: DataFolder;
+  /** Disk retention, when the rig config sets one. */
+  retention?: RetentionKeeper;
   recorder: Recorder | undefined;
   history: History | undefined;
   digest: SnapshotDigest;
@@ -54,6 +62,8 @@ export interface Session {
 /** Prepares the data folder and recorder, subscribes the report, starts server and source. */
 export async function startSession(o: SessionOptions): Promise<Session> {
   const { pipeline, source } = o;
+  registerSecret(process.env.FLOORLINE_TOKEN);
+  for (const s of o.notify ?? []) if ('headers' in s) for (const v of Object.values(s.headers ?? {})) registerSecret(v);
   const folder = dataFolderAt(o.dataDir);
   let recorder: Recorder | undefined;
   let folderOk = false;
@@ -96,6 +106,8 @@ export async function startSession(o: SessionOptions): Promise<Session> {
     ? attachNotifier(pipeline, folder.root, o.notify, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`))
     : undefined;
   if (o.notify?.length && !notifier) process.stderr.write(`floorline ${o.command}: notifications are off: no usable data folder for their outbox.\n`);
+  let retention: RetentionKeeper | undefined;
+  if (recorder && o.retention) retention = attachRetention(pipeline, recorder, folder.recordings, o.retention, () => o.record);
   const digest = new SnapshotDigest();
   pipeline.on('snapshot', (s) => digest.add(s));
   pipeline.on('event', (e: FloorlineEvent) => {
@@ -106,7 +118,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
     if (!o.quiet) printStreamHeader(info, pipeline, o.frames?.());
   });
 
-  const server = o.serve ? await o.serve({ folder, recorder, history }) : undefined;
+  const server = o.serve ? await o.serve({ folder, recorder, history, retention }) : undefined;
   if (server) process.stdout.write(`dashboard  ${server.url}\n`);
 
   const wall0 = performance.now();
@@ -114,16 +126,14 @@ export async function startSession(o: SessionOptions): Promise<Session> {
   const timer = o.statusEvery > 0 ? setInterval(() => printStatusLine(pipeline, recorder), o.statusEvery * 1000) : undefined;
   let stopping: Promise<void> | undefined;
   const stop = (): Promise<void> => (stopping ??= source.stop());
-  const onSignal = () => void stop();
-  process.once('SIGINT', onSignal);
-  process.once('SIGTERM', onSignal);
+  const signals = installShutdown(stop, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`));
   const finished = (async () => {
     try {
       await pipeline.whenEnded();
     } finally {
       if (timer) clearInterval(timer);
-      process.off('SIGINT', onSignal);
-      process.off('SIGTERM', onSignal);
+      signals.uninstall();
+      retention?.stop();
       recorder?.close();
       await notifier?.close();
       history?.close();
@@ -132,5 +142,5 @@ export async function startSession(o: SessionOptions): Promise<Session> {
     }
     printSummary(pipeline, performance.now() - wall0, digest, recorder);
   })();
-  return { folder, recorder, history, digest, finished, stop };
+  return { folder, recorder, history, retention, digest, finished, stop };
 }
