@@ -3,7 +3,7 @@
 import { existsSync } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { RECORDING_FLAGS, alarmDetectors, readRecordingFlags } from './pipeline-flags.ts';
+import { RECORDING_FLAGS, alarmDetectors, readMasks, readRecordingFlags } from './pipeline-flags.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
 import { defaultRules } from '../../rules/rules.ts';
 import { readBaseline } from '../../baseline/format.ts';
@@ -43,6 +43,12 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     if (r.changed.length) process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
   }
   const rec = readRecordingFlags(args);
+  let masks;
+  try {
+    masks = readMasks(undefined, rig?.config.masks);
+  } catch (err) {
+    throw new UsageError(`floorline demo: ${(err as Error).message}`);
+  }
   // The baseline was taken with the default analysis settings, so the demo runs with them.
   const pipeline = new Pipeline({ mode: 'lossless' });
   const loop = !(f['no-loop'] as boolean);
@@ -66,7 +72,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     statusEvery: rec.statusEvery,
     quiet: f.quiet as boolean,
     frames: () => source.fileInfo?.frames,
-    detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: rig?.rules ? structuredClone(rig.rules) : defaultRules() }, recorder)),
+    detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(), masks }, recorder)),
     history: withSource(historyFromArgs(args, 'demo', f.data as string), file),
     serve: f['no-server']
       ? undefined

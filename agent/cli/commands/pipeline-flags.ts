@@ -1,6 +1,7 @@
 // Flags shared by the commands that run the pipeline (run, replay, demo): analysis settings, averaging,
 // snapshot rate and the data folder. Parsed once here so the three commands accept the same spellings.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
+import { readMaskFile, type MaskFile } from '../../analysis/mask-file.ts';
 import { UsageError } from '../usage-error.ts';
 import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
@@ -109,6 +110,7 @@ export const ALARM_FLAGS: FlagSpec[] = [
   { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for the band rules (default: decade bands and the whole usable band)' },
   { name: 'rules', kind: 'string', value: 'FILE', help: 'alarm rules JSON (margins, timings, bands)' },
   { name: 'events-out', kind: 'string', value: 'FILE', help: 'also append every event to this JSON Lines file' },
+  { name: 'mask', kind: 'string', value: 'FILE', help: 'ASD limit mask (CSV frequency,limit[,unit]) for every channel: the live limit rule' },
 ];
 
 export interface AlarmFlagValues {
@@ -116,10 +118,20 @@ export interface AlarmFlagValues {
   baselinePath?: string;
   rules: RulesConfig;
   eventsOut?: string;
+  /** Limit masks by channel name ('*' = every channel), from --mask and the rig config's `masks`. */
+  masks?: Record<string, MaskFile>;
+}
+
+/** --mask FILE (every channel) and the config's masks (by channel); Nyquist is checked when the stream is known. */
+export function readMasks(flag: string | undefined, config: Record<string, string> | undefined): Record<string, MaskFile> | undefined {
+  const out: Record<string, MaskFile> = {};
+  for (const [ch, file] of Object.entries(config ?? {})) out[ch] = readMaskFile(file, Infinity);
+  if (flag) out['*'] = readMaskFile(flag, Infinity);
+  return Object.keys(out).length > 0 ? out : undefined;
 }
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
-export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig): Promise<AlarmFlagValues> {
+export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig, configMasks?: Record<string, string>): Promise<AlarmFlagValues> {
   const f = args.flags;
   const rules = f.rules ? await loadRules(f.rules as string) : configRules ? structuredClone(configRules) : defaultRules();
   const bands = (f.band as string[]).map((b) => {
@@ -132,7 +144,13 @@ export async function readAlarmFlags(args: ParsedArgs, command: string, configRu
   if (bands.length) rules.band.bands = bands;
   const baselinePath = f.baseline as string | undefined;
   const baseline = baselinePath ? await readBaseline(baselinePath) : undefined;
-  return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined };
+  let masks: Record<string, MaskFile> | undefined;
+  try {
+    masks = readMasks(f.mask as string | undefined, configMasks);
+  } catch (err) {
+    throw new UsageError(`floorline ${command}: ${(err as Error).message}`);
+  }
+  return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined, masks };
 }
 
 /** The alarm detectors, asking the recorder (when there is one) for a capture on each raised alarm. */
@@ -142,6 +160,7 @@ export function alarmDetectors(a: AlarmFlagValues, recorder: Recorder | undefine
       baseline: a.baseline,
       baselineWhere: a.baselinePath,
       rules: a.rules,
+      masks: a.masks,
       capture: recorder ? (sample, label) => recorder.capture(sample, label).file : undefined,
     }),
   ];

@@ -20,7 +20,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   const f = args.flags;
   const flags = readPipelineFlags(args, 'replay');
   const rec = readRecordingFlags(args);
-  const alarms = await readAlarmFlags(args, 'replay', rig?.rules);
+  const alarms = await readAlarmFlags(args, 'replay', rig?.rules, rig?.config.masks);
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
     throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);

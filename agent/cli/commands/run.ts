@@ -24,7 +24,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
   }
   const flags = readPipelineFlags(args, 'run');
   const rec = readRecordingFlags(args);
-  const alarms = await readAlarmFlags(args, 'run', rig?.rules);
+  const alarms = await readAlarmFlags(args, 'run', rig?.rules, rig?.config.masks);
   const pipeline = new Pipeline({
     analysis: flags.analysis,
     averaging: flags.averaging,
