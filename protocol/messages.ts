@@ -157,8 +157,23 @@ export interface ReplayState {
   file: string;
 }
 
+/** Disk accounting of the data folder's recordings (present when the rig config sets a retention). */
+export interface DiskState {
+  usedBytes: number;
+  recordingsBytes: number;
+  capturesBytes: number;
+  freeBytes: number;
+  minFreeBytes: number;
+  /** Days between the oldest kept recording and now. */
+  historyDays: number;
+  /** Continuous recording paused by the free-space floor. */
+  paused: boolean;
+  deletedFiles: number;
+}
+
 export interface AgentStatus {
   protocol: number;
+  disk?: DiskState;
   source: { kind: SourceKind; label: string } | null;
   sampleRate: number | null;
   channels: { name: string; unit: string }[];

@@ -25,6 +25,11 @@ import { ReplaySource } from '../sources/replay.ts';
 import { attachHistory, type History } from '../store/attach.ts';
 import { attachNotifier } from '../notify/attach.ts';
 import type { Notifier } from '../notify/notifier.ts';
+import { attachRetention } from '../retention/attach.ts';
+import type { RetentionKeeper } from '../retention/retention.ts';
+import { HealthWatch, type HealthVerdict } from '../service/health.ts';
+import { registerSecret } from '../service/log-lines.ts';
+import { installShutdown } from '../service/shutdown.ts';
 import { AlarmTable } from './alarm-table.ts';
 import { BandTable } from './band-table.ts';
 import { EventHistory } from './event-history.ts';
@@ -67,6 +72,8 @@ export class Monitor {
   private log: EventLog | undefined;
   private historyRef: History | undefined;
   private notifier: Notifier | undefined;
+  private retention: RetentionKeeper | undefined;
+  private readonly healthWatch: HealthWatch;
   private readonly hook: AlarmHook;
   private readonly parts: PartHost;
   private readonly recent: EventHistory;
@@ -92,8 +99,10 @@ export class Monitor {
       baseline: o.baseline?.baseline,
       baselineWhere: o.baseline?.where,
       rules: o.rules,
+      masks: o.masks,
       capture: (sample, label) => this.recorderRef?.capture(sample, label).file,
     });
+    this.healthWatch = new HealthWatch(this.pipeline);
     this.lowFrequency = o.lowFrequency === false ? undefined : new LiveLowFrequency();
   }
 
@@ -115,6 +124,9 @@ export class Monitor {
   async prepare(): Promise<void> {
     const o = this.o;
     const p = this.pipeline;
+    // Values that must never reach a log line.
+    registerSecret(process.env.FLOORLINE_TOKEN);
+    for (const s of o.notify ?? []) if ('headers' in s) for (const v of Object.values(s.headers ?? {})) registerSecret(v);
     let folderOk = false;
     try {
       ensureDataFolder(this.folder);
@@ -145,6 +157,9 @@ export class Monitor {
     }
     const logPaths = [...(folderOk ? [this.folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
     this.log = logPaths.length ? new EventLog(logPaths) : undefined;
+    if (this.recorderRef && o.retention) {
+      this.retention = attachRetention(p, this.recorderRef, this.folder.recordings, o.retention, () => o.record);
+    }
     if (o.notify?.length) {
       if (folderOk) this.notifier = attachNotifier(p, this.folder.root, o.notify, this.say);
       else this.say('notifications are off: no usable data folder for their outbox.');
@@ -178,15 +193,12 @@ export class Monitor {
   /** Starts the source; `finished` then resolves once it has ended and everything is flushed and closed. */
   async start(): Promise<void> {
     await this.pipeline.attach(this.source);
-    const onSignal = (): void => void this.stop();
-    process.once('SIGINT', onSignal);
-    process.once('SIGTERM', onSignal);
+    const signals = installShutdown(() => this.stop(), this.say);
     this.finished = (async () => {
       try {
         await this.pipeline.whenEnded();
       } finally {
-        process.off('SIGINT', onSignal);
-        process.off('SIGTERM', onSignal);
+        signals.uninstall();
         await this.close();
       }
     })();
@@ -199,6 +211,7 @@ export class Monitor {
   /** Releases what prepare() opened (also when startup failed half-way). */
   async close(): Promise<void> {
     this.capturing?.run.cancel();
+    this.retention?.stop();
     this.recorderRef?.close();
     await this.notifier?.close();
     this.notifier = undefined;
@@ -287,6 +300,7 @@ export class Monitor {
       bands: this.bands(),
       alarms: this.alarms(),
       ...(this.lowFrequency ? { lowFrequency: this.lowFrequency.status() } : {}),
+      ...(this.retention ? { disk: this.retention.status() } : {}),
     };
   }
 
@@ -357,6 +371,11 @@ export class Monitor {
       analysis: { ...(change.segment !== undefined ? { segment: change.segment } : {}), ...(change.window !== undefined ? { window: change.window } : {}) },
       averaging: change.averaging,
     });
+  }
+
+  /** Liveness (GET /healthz): samples arriving and analysis keeping up. */
+  health(): HealthVerdict {
+    return this.healthWatch.check();
   }
 
   /** Names of the parts still running (a failed part is left out). */

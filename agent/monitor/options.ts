@@ -9,6 +9,8 @@ import type { Monitor } from './monitor.ts';
 import type { SinkConfig } from '../config/rig-config.ts';
 import type { Level } from '../store/schema.ts';
 import type { ReplaySource } from '../sources/replay.ts';
+import type { RetentionPolicy } from '../retention/retention.ts';
+import type { AlarmHookOptions } from '../rules/alarm-hook.ts';
 import type { MonitorPart } from './parts.ts';
 
 /** A part, or a function that makes one from the monitor (for parts that read the monitor, e.g. a server). */
@@ -42,6 +44,10 @@ export interface MonitorOptions {
   eventHistory?: number;
   /** Keep the trend history in this store (agent/store); absent: no history. */
   history?: { path: string; source: string; bands?: readonly { low: number; high: number }[]; retention?: Record<Level, number> };
+  /** Limit masks by channel name ('*' = every channel) for the limit rule. */
+  masks?: AlarmHookOptions['masks'];
+  /** Disk retention (quotas, free-space floor) of the rig config. */
+  retention?: RetentionPolicy;
   /** Notification sinks (their outbox lives in the data folder). */
   notify?: readonly SinkConfig[];
   /** The replay behind the source (which may wrap it, e.g. to calibrate), for the replay position in status. */

@@ -61,6 +61,8 @@ export interface ServerBackend {
   subscribe(subscriber: BackendSubscriber): () => void;
   streamInfo(): StreamInfo | null;
   status(): BackendStatus;
+  /** Liveness for GET /healthz: samples arriving and analysis keeping up. */
+  health?(): { ok: boolean; reason: string };
   latestSnapshot(): ServerSnapshot | null;
   baseline(): BaselineOverlay | null;
   /** Newest events, oldest first, at most `limit`. */

@@ -136,7 +136,12 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     }
     const head = req.method === 'HEAD';
     const path = url.pathname;
-    if (path === '/api/status') {
+    if (path === '/healthz') {
+      // For supervisors: 200 while samples arrive and analysis keeps up, else 503 with the reason.
+      const h = backend.health?.() ?? { ok: true, reason: 'no health checks' };
+      res.writeHead(h.ok ? 200 : 503, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
+      res.end(head ? undefined : JSON.stringify({ ok: h.ok, reason: h.reason }));
+    } else if (path === '/api/status') {
       const body = JSON.stringify(status());
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);

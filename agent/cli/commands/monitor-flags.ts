@@ -2,6 +2,7 @@
 // rate, data folder, recording, alarms and the dashboard. monitorOptionsFromFlags is the one place where they
 // become a MonitorOptions, so the three commands accept the same spellings and mean the same by them.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
+import { readMaskFile, type MaskFile } from '../../analysis/mask-file.ts';
 import { UsageError } from '../usage-error.ts';
 import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
@@ -116,6 +117,7 @@ export const ALARM_FLAGS: FlagSpec[] = [
   { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for the band rules (default: decade bands and the whole usable band)' },
   { name: 'rules', kind: 'string', value: 'FILE', help: 'alarm rules JSON (margins, timings, bands)' },
   { name: 'events-out', kind: 'string', value: 'FILE', help: 'also append every event to this JSON Lines file' },
+  { name: 'mask', kind: 'string', value: 'FILE', help: 'ASD limit mask (CSV frequency,limit[,unit]) for every channel: the live limit rule' },
 ];
 
 export interface AlarmFlagValues {
@@ -123,10 +125,29 @@ export interface AlarmFlagValues {
   baselinePath?: string;
   rules: RulesConfig;
   eventsOut?: string;
+  /** Limit masks by channel name ('*' = every channel), from --mask and the rig config's `masks`. */
+  masks?: Record<string, MaskFile>;
+}
+
+/** --mask FILE (every channel) and the config's masks (by channel); Nyquist is checked when the stream is known. */
+export function readMasks(flag: string | undefined, config: Record<string, string> | undefined): Record<string, MaskFile> | undefined {
+  const out: Record<string, MaskFile> = {};
+  for (const [ch, file] of Object.entries(config ?? {})) out[ch] = readMaskFile(file, Infinity);
+  if (flag) out['*'] = readMaskFile(flag, Infinity);
+  return Object.keys(out).length > 0 ? out : undefined;
+}
+
+/** A mask file that cannot be read is a usage error naming the command. */
+function masksOrUsage(command: string, read: () => Record<string, MaskFile> | undefined): Record<string, MaskFile> | undefined {
+  try {
+    return read();
+  } catch (err) {
+    throw new UsageError(`floorline ${command}: ${(err as Error).message}`);
+  }
 }
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
-export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig): Promise<AlarmFlagValues> {
+export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig, configMasks?: Record<string, string>): Promise<AlarmFlagValues> {
   const f = args.flags;
   const rules = f.rules ? await loadRules(f.rules as string) : configRules ? structuredClone(configRules) : defaultRules();
   const bands = (f.band as string[]).map((b) => {
@@ -139,7 +160,8 @@ export async function readAlarmFlags(args: ParsedArgs, command: string, configRu
   if (bands.length) rules.band.bands = bands;
   const baselinePath = f.baseline as string | undefined;
   const baseline = baselinePath ? await readBaseline(baselinePath) : undefined;
-  return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined };
+  const masks = masksOrUsage(command, () => readMasks(f.mask as string | undefined, configMasks));
+  return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined, masks };
 }
 
 export interface CommandWiring {
@@ -173,8 +195,8 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
     : { analysis: DEFAULT_ANALYSIS, averaging: DEFAULT_AVERAGING, snapshotRate: DEFAULT_SNAPSHOT_RATE, data: f.data as string };
   const rig = w.rig;
   const alarms: AlarmFlagValues = has(args, 'band')
-    ? await readAlarmFlags(args, command, rig?.rules)
-    : { rules: rig?.rules ? structuredClone(rig.rules) : defaultRules() };
+    ? await readAlarmFlags(args, command, rig?.rules, rig?.config.masks)
+    : { rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(), masks: masksOrUsage(command, () => readMasks(undefined, rig?.config.masks)) };
   const rec = readRecordingFlags(args);
   const baseline = w.baseline ?? (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
   const quiet = f.quiet as boolean;
@@ -196,6 +218,8 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
     durationSeconds: w.durationSeconds,
     history: withSource(historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path), w.sourceLabel, alarms.rules.band.bands),
     notify: rig?.config.notify,
+    retention: rig?.config.retention,
+    masks: alarms.masks,
     replay: w.replay,
     parts,
   };
