@@ -4,7 +4,7 @@
 import { densityIntervalFactors } from '../../dsp/logfreq/confidence.ts';
 import { rmsToDbfs } from '../../dsp/units.ts';
 import type { AnalysisReport, ChannelReport } from './report.ts';
-import { formatSi } from './si.ts';
+import { formatSi } from '../../protocol/si.ts';
 
 /** Median of asd[1..] (DC excluded). */
 export function medianFloor(asd: Float64Array): number {

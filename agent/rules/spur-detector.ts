@@ -8,7 +8,7 @@ import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
 import { chi2MeanMedian, conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
 import { lineAboveFloor } from '../../dsp/tone.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
-import { formatSi } from '../analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import { makeEvent, round, roundDb } from './event-factory.ts';
 import type { IncidentBook, Member } from './incidents.ts';
 import type { RecentView } from './types.ts';

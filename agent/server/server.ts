@@ -3,7 +3,7 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
-import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
+import { WIRE_PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
 import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
@@ -66,7 +66,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   let contextKey = '';
   let nextClientId = 1;
 
-  const status = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
+  const status = (): AgentStatus => ({ protocol: WIRE_PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
 
   /** Returns true when the context changed (and tells every client). */
   const updateContext = (s: ServerSnapshot): boolean => {
@@ -205,7 +205,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     });
     const latest = backend.latestSnapshot();
     if (latest && latest.channels.length) updateContext(latest);
-    client.sendJson({ type: 'hello', protocol: PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
+    client.sendJson({ type: 'hello', protocol: WIRE_PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
     sendBaseline(client);
     const lf = backend.lowFrequencyLatest?.();
     if (lf) {
