@@ -6,7 +6,7 @@ import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
-export const PROTOCOL_VERSION = 1;
+export const PROTOCOL_VERSION = 2;
 
 /** Largest client → agent message the server accepts, bytes. Control messages are tiny; anything larger closes that client. */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
@@ -55,9 +55,16 @@ export interface SetAnalysisRequest {
 export interface AcknowledgeRequest {
   type: 'acknowledge';
   id: number;
-  rule: EventRule;
-  channel: string;
-  band?: [number, number];
+  /** The alarm's stable id (AlarmRow.id; protocol/ids.ts alarmId of any of its events). */
+  alarm: string;
+}
+
+export interface ShelveRequest {
+  type: 'shelve';
+  id: number;
+  alarm: string;
+  /** Silence it for this much sample time from the newest sample, seconds. */
+  seconds: number;
 }
 
 /** An operator note, stamped by the agent with its current sample (stored in the history and the event log). */
@@ -73,7 +80,7 @@ export interface StatusRequest {
   id: number;
 }
 
-export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | NoteRequest | StatusRequest;
+export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | ShelveRequest | NoteRequest | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
 // ---------------------------------------------------------------- agent → client
@@ -103,6 +110,8 @@ export type AlarmCondition = 'ok' | 'raised' | 'held' | 'not-judged' | 'no-basel
 
 /** One row of the band table. Densities and RMS in the channel unit. */
 export interface BandRow {
+  /** Stable id of the band (protocol/ids.ts bandId), e.g. "bridge:20-2000". */
+  id: string;
   channel: string;
   low: number;
   high: number;
@@ -118,6 +127,8 @@ export interface BandRow {
 }
 
 export interface AlarmRow {
+  /** Stable id of the alarm (protocol/ids.ts alarmId): what acknowledge and shelve name. */
+  id: string;
   rule: EventRule;
   channel: string;
   band?: [number, number];
@@ -198,6 +209,7 @@ export interface ReplyResults {
   recording: { recording: RecordingState };
   'set-analysis': { context: SpectrumContext };
   acknowledge: { acknowledged: boolean };
+  shelve: { shelved: boolean; untilSample: number };
   note: { sample: number; t: number; wallTime: string };
   'get-status': { status: AgentStatus };
 }
