@@ -2,7 +2,7 @@
 // as optional hooks (detectors' acknowledge, the recorder, the replay position, the current baseline), so the
 // server works with whatever a command has wired and says "unsupported" for the rest.
 import { writeFile } from 'node:fs/promises';
-import { mkdirSync } from 'node:fs';
+import { mkdirSync, existsSync } from 'node:fs';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { firstSettingMismatch } from '../../protocol/settings.ts';
 import type { SourceCounters, StreamInfo } from '../../protocol/stream.ts';
@@ -255,7 +255,7 @@ export class PipelineBackend implements ServerBackend {
     };
   }
 
-  captureBaseline(req: { seconds: number; name?: string; notes?: string }): Promise<{ file: string }> {
+  captureBaseline(req: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }> {
     const p = this.o.pipeline;
     const info = p.stream;
     const settings = p.analysisSettings;
@@ -263,7 +263,10 @@ export class PipelineBackend implements ServerBackend {
     if (this.capture) return Promise.reject(new BackendRefusal('failed', `a baseline capture into ${this.capture.file} is still running`));
     const name = req.name ?? `baseline-${p.counters().lastSample + 1}.json`;
     const file = `baselines/${name}`;
-    this.o.data.resolve(file, 'baseline'); // refuse a bad name now (PathOutsideError → path-refused), not after the span
+    const target = this.o.data.resolve(file, 'baseline'); // refuse a bad name now (PathOutsideError → path-refused), not after the span
+    if (!req.replace && existsSync(target)) {
+      return Promise.reject(new BackendRefusal('exists', `${file} exists; choose another name, or send "replace": true to overwrite it`));
+    }
     const half = windowMainLobeHalfWidth(settings.window);
     const run = new BaselineCapture({
       settings,

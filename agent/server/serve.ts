@@ -77,6 +77,8 @@ export function serveDashboard(
       },
     });
     const server = await startServer(backend, serverOptionsFromArgs(w.args, assetsDir));
-    return { url: server.url, close: () => server.close() };
+    // The token stays out of the terminal (and so out of logs and screen shares) unless asked for.
+    const url = w.args.flags['show-token'] ? server.urlWithToken : server.url + (server.urlWithToken !== server.url ? '  (token required: add ?token=… once, or pass --show-token)' : '');
+    return { url, close: () => server.close() };
   };
 }

@@ -1,6 +1,6 @@
 // The adapter from the pipeline to the server: alarm rows and acknowledgement, band figures from the snapshot.
 import { describe, expect, it } from 'vitest';
-import { mkdtempSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { PipelineBackend } from '../../agent/server/pipeline-backend.ts';
@@ -81,5 +81,17 @@ describe('PipelineBackend', () => {
     expect(row.rms).toBeCloseTo(Math.sqrt((510 * 4e-16 + 4e-12) * 7.8125), 15);
     expect(row.floorDensity).toBeCloseTo(2e-8, 20);
     expect(row.state).toBe('no-baseline');
+  });
+
+  it('never overwrites an existing baseline unless the request says replace', async () => {
+    const { b } = setup();
+    const data = (b as unknown as { o: { data: { baselines: string } } }).o.data;
+    mkdirSync(data.baselines, { recursive: true });
+    writeFileSync(join(data.baselines, 'quiet.json'), 'keep me');
+    await expect(b.captureBaseline({ seconds: 1, name: 'quiet.json' })).rejects.toMatchObject({ code: 'exists', message: expect.stringMatching(/baselines\/quiet\.json exists; .*"replace": true/) });
+    expect(readFileSync(join(data.baselines, 'quiet.json'), 'utf8')).toBe('keep me');
+    const pending = b.captureBaseline({ seconds: 1, name: 'quiet.json', replace: true });
+    expect(pending).toBeInstanceOf(Promise); // accepted: the capture now waits for its span
+    pending.catch(() => undefined);
   });
 });
