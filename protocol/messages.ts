@@ -6,7 +6,7 @@ import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
-export const PROTOCOL_VERSION = 1;
+export const PROTOCOL_VERSION = 2;
 
 /** Largest client → agent message the server accepts, bytes. Control messages are tiny; anything larger closes that client. */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
@@ -59,9 +59,16 @@ export interface SetAnalysisRequest {
 export interface AcknowledgeRequest {
   type: 'acknowledge';
   id: number;
-  rule: EventRule;
-  channel: string;
-  band?: [number, number];
+  /** The alarm's stable id (AlarmRow.id; protocol/ids.ts alarmId of any of its events). */
+  alarm: string;
+}
+
+export interface ShelveRequest {
+  type: 'shelve';
+  id: number;
+  alarm: string;
+  /** Silence it for this much sample time from the newest sample, seconds. */
+  seconds: number;
 }
 
 /** An operator note, stamped by the agent with its current sample (stored in the history and the event log). */
@@ -77,7 +84,7 @@ export interface StatusRequest {
   id: number;
 }
 
-export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | NoteRequest | StatusRequest;
+export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | ShelveRequest | NoteRequest | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
 // ---------------------------------------------------------------- agent → client
@@ -107,6 +114,8 @@ export type AlarmCondition = 'ok' | 'raised' | 'held' | 'not-judged' | 'no-basel
 
 /** One row of the band table. Densities and RMS in the channel unit. */
 export interface BandRow {
+  /** Stable id of the band (protocol/ids.ts bandId), e.g. "bridge:20-2000". */
+  id: string;
   channel: string;
   low: number;
   high: number;
@@ -122,6 +131,8 @@ export interface BandRow {
 }
 
 export interface AlarmRow {
+  /** Stable id of the alarm (protocol/ids.ts alarmId): what acknowledge and shelve name. */
+  id: string;
   rule: EventRule;
   channel: string;
   band?: [number, number];
@@ -150,8 +161,23 @@ export interface ReplayState {
   file: string;
 }
 
+/** Disk accounting of the data folder's recordings (present when the rig config sets a retention). */
+export interface DiskState {
+  usedBytes: number;
+  recordingsBytes: number;
+  capturesBytes: number;
+  freeBytes: number;
+  minFreeBytes: number;
+  /** Days between the oldest kept recording and now. */
+  historyDays: number;
+  /** Continuous recording paused by the free-space floor. */
+  paused: boolean;
+  deletedFiles: number;
+}
+
 export interface AgentStatus {
   protocol: number;
+  disk?: DiskState;
   source: { kind: SourceKind; label: string } | null;
   sampleRate: number | null;
   channels: { name: string; unit: string }[];
@@ -187,6 +213,7 @@ export interface ReplyResults {
   recording: { recording: RecordingState };
   'set-analysis': { context: SpectrumContext };
   acknowledge: { acknowledged: boolean };
+  shelve: { shelved: boolean; untilSample: number };
   note: { sample: number; t: number; wallTime: string };
   'get-status': { status: AgentStatus };
 }

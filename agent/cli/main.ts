@@ -2,6 +2,10 @@
 import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
 import { printable } from '../../protocol/limits.ts';
+import { installStructuredLogs, structuredLogsWanted } from '../service/log-lines.ts';
+
+/** The long-running commands, whose output becomes JSON lines under a service manager. */
+const SERVICE_COMMANDS = ['run', 'replay', 'demo'];
 
 function topHelp(): string {
   const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);
@@ -23,6 +27,7 @@ export async function main(argv: string[]): Promise<number> {
     process.stdout.write(formatHelp(spec));
     return 0;
   }
+  if (SERVICE_COMMANDS.includes(spec.name) && structuredLogsWanted()) installStructuredLogs(spec.name);
   try {
     return await spec.run(parseArgs(spec, rest));
   } catch (err) {

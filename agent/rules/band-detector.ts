@@ -3,7 +3,7 @@ import { AlarmLife } from '../../dsp/detection/alarm-life.ts';
 import { AlarmState, AlarmTransition } from '../../dsp/detection/alarm-state.ts';
 import { BandCompare, type BandSpec } from '../../dsp/detection/band-compare.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
-import { makeEvent, round } from './event-factory.ts';
+import { makeEvent, round, roundDb } from './event-factory.ts';
 import type { IncidentBook, Member } from './incidents.ts';
 import type { RecentView } from './types.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
@@ -79,9 +79,9 @@ export class BandDetector {
         const band = `${this.channel} ${low.toPrecision(4)}–${high.toPrecision(4)} Hz`;
         out.push(makeEvent('band-rise', covered ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime,
           covered
-            ? `${band} not judged: new lines and their skirts cover all its bins (all-bin level ${level0.toFixed(2)} dB); the band's alarm state is held until floor bins show again`
+            ? `${band} not judged: new lines and their skirts cover all its bins (all-bin level ${roundDb(level0)} dB); the band's alarm state is held until floor bins show again`
             : `${band} judged again: floor bins clear of lines`,
-          { band: [round(low, 6), round(high, 6)], levelDb: round(level0), thresholdDb: round(c.thresholdDb[b]) }, 'info'));
+          { band: [round(low, 6), round(high, 6)], levelDb: roundDb(level0), thresholdDb: roundDb(c.thresholdDb[b]) }, 'info'));
       }
       if (covered) state.hold(sample + 1);
       if (overloadFrom >= 0) {
@@ -104,12 +104,12 @@ export class BandDetector {
       if (tr !== AlarmTransition.None) {
         const raised = tr !== AlarmTransition.Cleared;
         // The raise quotes the long estimate at its first crossing; the clear the recent one that judged it.
-        const levelDb = round(raised ? c.levelDb[b] : recentLevel, 3);
-        const thresholdDb = round(c.thresholdDb[b], 3);
+        const levelDb = roundDb(raised ? c.levelDb[b] : recentLevel);
+        const thresholdDb = roundDb(c.thresholdDb[b]);
         const overload = raised && this.riseUnderOverload[b] >= 0
           ? `; the rise began while the average held segments with clipped samples (from sample ${this.riseUnderOverload[b]})`
           : '';
-        const peakLevelDb = round(life.peakLevel, 3);
+        const peakLevelDb = roundDb(life.peakLevel);
         const durationSeconds = round((sample - life.raisedAt) / this.sampleRate, 6);
         const detail = raised
           ? `${name} floor ${levelDb} dB above baseline (threshold ${thresholdDb} dB)${tr === AlarmTransition.Repeated ? ', still active' : ''}${overload}`
@@ -129,10 +129,10 @@ export class BandDetector {
         out.push(e);
       }
       if (state.raised && life.settlesNow(sample - recent.spanSamples + 1)) {
-        const levelDb = round(recentLevel, 3);
+        const levelDb = roundDb(recentLevel);
         const e = makeEvent('band-rise', 'settled', this.channel, sample, this.sampleRate, wallTime,
           `${name} floor settled at ${levelDb} dB above baseline (the recent estimate holds only samples after the onset)`,
-          { band, levelDb, thresholdDb: round(c.thresholdDb[b], 3) });
+          { band, levelDb, thresholdDb: roundDb(c.thresholdDb[b]) });
         if (member) this.book.stamp(e, member);
         out.push(e);
       }

@@ -19,3 +19,8 @@ export function makeEvent(
 export function round(x: number, digits = 4): number {
   return Number(x.toPrecision(digits));
 }
+
+/** Rounds a level in dB to 0.01 dB: the same number goes into `levelDb` and the event's detail. */
+export function roundDb(x: number): number {
+  return Number(x.toFixed(2));
+}

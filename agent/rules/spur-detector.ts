@@ -9,7 +9,7 @@ import { chi2MeanMedian, conservativeAverages, lineThresholdRatio } from '../../
 import { lineAboveFloor } from '../../dsp/tone.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { formatSi } from '../analysis/si.ts';
-import { makeEvent, round } from './event-factory.ts';
+import { makeEvent, round, roundDb } from './event-factory.ts';
 import type { IncidentBook, Member } from './incidents.ts';
 import type { RecentView } from './types.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
@@ -236,7 +236,7 @@ export class SpurDetector {
   }
 
   private settledEvent(t: TrackedLine, sample: number, wallTime: string, r: { level: number; amplitude: number; frequency: number }, thresholdDb: number): FloorlineEvent {
-    const levelDb = round(r.level, 3);
+    const levelDb = roundDb(r.level);
     const amplitude = round(r.amplitude);
     const e = makeEvent(t.harmonic > 0 ? 'mains' : 'spur', 'settled', this.channel, sample, this.sampleRate, wallTime,
       `${this.channel} ${this.describe(t)} settled at ${formatSi(amplitude, this.unit)} rms, ${levelDb} dB over the floor, at ${r.frequency.toFixed(2)} Hz (the recent estimate holds only samples after the onset)`, {
@@ -261,10 +261,10 @@ export class SpurDetector {
     const overload = t.overloadFrom >= 0
       ? `; first seen while the average held segments with clipped samples (from sample ${t.overloadFrom}): likely an overload product`
       : '';
-    const levelDb = round(level, 3);
+    const levelDb = roundDb(level);
     const amplitude = round(raised ? t.amplitude : recentAmplitude);
     const life = t.life;
-    const peakLevelDb = round(life.peakLevel, 3);
+    const peakLevelDb = roundDb(life.peakLevel);
     const peakAmplitude = round(life.peakAmplitude);
     const durationSeconds = round((sample - life.raisedAt) / this.sampleRate, 6);
     const detail = raised

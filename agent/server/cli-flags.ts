@@ -2,6 +2,7 @@
 // `run --port` names the serial device.
 import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
 import { readFileSync } from 'node:fs';
+import { registerSecret } from '../service/log-lines.ts';
 import { connectionBudget, DEFAULT_HOST, DEFAULT_HTTP_PORT, ServerConfigError, type ServerOptions } from './options.ts';
 import { openFileLimit } from './rate-limit.ts';
 
@@ -32,8 +33,10 @@ function tokenFrom(f: ParsedArgs['flags']): string | undefined {
 export function serverOptionsFromArgs(args: ParsedArgs, assetsDir: string): Partial<ServerOptions> & { assetsDir: string } {
   const f = args.flags;
   const token = tokenFrom(f);
+  registerSecret(token);
   return {
     assetsDir,
+    showToken: f['show-token'] === true,
     maxConnections: connectionBudget(openFileLimit(() => readFileSync('/proc/self/limits', 'utf8'))),
     port: f['http-port'] as number,
     host: f.host as string,

@@ -30,6 +30,8 @@ export interface ServerOptions {
   maxMessagesPerSecond: number;
   /** Least wall time between two control actions (recording, capture-baseline, set-analysis), agent-wide, ms. */
   controlIntervalMs: number;
+  /** Print the dashboard URL with its ?token=… (the CLI's --show-token). */
+  showToken?: boolean;
   /** Most open HTTP connections; kept well below the process's file-handle limit so recordings can always open files. */
   maxConnections: number;
 }

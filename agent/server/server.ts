@@ -73,11 +73,12 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   // Status is computed at most once per status tick and shared by the push, get-status replies and /api/status:
   // many clients asking often cost one computation, not one each.
+  const computeStatus = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
   let shared: { at: number; value: AgentStatus; json: string } | null = null;
   const sharedStatus = (): { value: AgentStatus; json: string } => {
     const now = performance.now();
     if (!shared || now - shared.at >= options.statusIntervalMs) {
-      const value: AgentStatus = { protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() };
+      const value = computeStatus();
       shared = { at: now, value, json: JSON.stringify(value) };
     }
     return shared;
@@ -173,7 +174,12 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     }
     const head = req.method === 'HEAD';
     const path = url.pathname;
-    if (path === '/api/status') {
+    if (path === '/healthz') {
+      // For supervisors: 200 while samples arrive and analysis keeps up, else 503 with the reason.
+      const h = backend.health?.() ?? { ok: true, reason: 'no health checks' };
+      res.writeHead(h.ok ? 200 : 503, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
+      res.end(head ? undefined : JSON.stringify({ ok: h.ok, reason: h.reason }));
+    } else if (path === '/api/status') {
       const body = sharedStatus().json;
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);
@@ -308,7 +314,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     urlWithToken,
     port,
     host: options.host,
-    status,
+    status: computeStatus, // fresh: for the agent itself and tests; clients share the tick's copy
     poolStats: () => hub.poolStats(),
     connections: () => new Promise<number>((resolve) => httpServer.getConnections((_err, n) => resolve(n))),
     close: async () => {

@@ -101,7 +101,9 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
   const floor = floorComponents(bench, seed);
   const faults = faultComponents(bench, fault, onset / bench.sampleRate, endSeconds, seed);
   const selfGated = fault.kind === 'band-rise';
-  const until = fault.kind === 'overload' ? Math.round(fault.seconds * bench.sampleRate) : Infinity;
+  // Gated faults stop at `endSeconds` too (faultSeconds), so a fault's end can be measured like its onset.
+  const ends = Number.isFinite(endSeconds) ? Math.round(endSeconds * bench.sampleRate) - onset : Infinity;
+  const until = Math.min(fault.kind === 'overload' ? Math.round(fault.seconds * bench.sampleRate) : Infinity, ends);
   const fullScale = bench.fullScale ?? Infinity;
   const scratch = new Float64Array(BLOCK);
   return {
