@@ -11,6 +11,7 @@ const realtime = [
   'tests/service/shutdown.test.ts',
   'tests/notify/webhook-outage.test.ts',
   'tests/retention/small-disk.test.ts',
+  'tests/notify/pty-incidents.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 
