@@ -14,6 +14,9 @@ import { serveDashboard } from '../../server/serve.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import { startSession } from './session.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import type { LoadedRigConfig } from '../../config/rig-config.ts';
+import { parseBand } from '../../rules/default-bands.ts';
+import type { RulesConfig } from '../../rules/rules.ts';
 import { CalibratedSource, rescaleBaselineForReplay } from '../../config/calibration.ts';
 import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
@@ -24,6 +27,14 @@ export function bundledRecording(name: string): string {
     if (existsSync(p)) return p;
   }
   return new URL('../recordings/' + name, import.meta.url).pathname;
+}
+
+/** The config's rules and bands (the analysis settings stay the baseline's: the demo has no analysis flags). */
+function demoRules(rig: LoadedRigConfig | undefined): RulesConfig {
+  const rules = rig?.rules ? structuredClone(rig.rules) : defaultRules();
+  if (rig?.config.bands?.length) rules.band.bands = rig.config.bands.map(parseBand);
+  if (rig?.config.analysis) process.stderr.write('floorline demo: the config\'s "analysis" is not used: the demo runs with its baseline\'s settings.\n');
+  return rules;
 }
 
 async function runDemo(args: ParsedArgs): Promise<number> {
@@ -66,7 +77,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     statusEvery: rec.statusEvery,
     quiet: f.quiet as boolean,
     frames: () => source.fileInfo?.frames,
-    detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: rig?.rules ? structuredClone(rig.rules) : defaultRules() }, recorder)),
+    detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: demoRules(rig) }, recorder)),
     history: withSource(historyFromArgs(args, 'demo', f.data as string), file),
     serve: f['no-server']
       ? undefined
