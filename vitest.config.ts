@@ -12,6 +12,8 @@ const realtime = [
   'tests/notify/webhook-outage.test.ts',
   'tests/retention/small-disk.test.ts',
   'tests/notify/pty-incidents.test.ts',
+  'tests/service/reload.test.ts',
+  'tests/service/log-lines.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 

@@ -67,6 +67,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   let installed: Detector[] = [];
   const session = await startSession({
     command: 'demo',
+    rig,
     notify: rig?.config.notify,
     retention: rig?.config.retention,
     pipeline,

@@ -48,6 +48,7 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   try {
     session = await startSession({
       command: 'replay',
+    rig,
     notify: rig?.config.notify,
     retention: rig?.config.retention,
       pipeline,

@@ -47,6 +47,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
   let installed: Detector[] = [];
   const session = await startSession({
     command: 'run',
+    rig,
     notify: rig?.config.notify,
     retention: rig?.config.retention,
     pipeline,

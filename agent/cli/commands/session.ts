@@ -13,6 +13,8 @@ import type { SinkConfig } from '../../config/rig-config.ts';
 import { attachNotifier } from '../../notify/attach.ts';
 import { installShutdown } from '../../service/shutdown.ts';
 import { registerSecret } from '../../service/log-lines.ts';
+import { installReload } from '../../service/reload.ts';
+import type { LoadedRigConfig } from '../../config/rig-config.ts';
 import { attachRetention } from '../../retention/attach.ts';
 import type { RetentionKeeper, RetentionPolicy } from '../../retention/retention.ts';
 import { describeEvent, printStatusLine, printStreamHeader, printSummary } from './console-report.ts';
@@ -40,6 +42,8 @@ export interface SessionOptions {
   /** Starts the dashboard server when given; returns its URL and a close function. */
   /** Disk retention of the rig config (quotas, free-space floor). */
   retention?: RetentionPolicy;
+  /** The rig config the command was started with: SIGHUP reloads it (see agent/service/reload.ts). */
+  rig?: LoadedRigConfig;
   /** Notification sinks of the rig config (their outbox lives in the data folder). */
   notify?: readonly SinkConfig[];
   serve?: (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined; retention?: RetentionKeeper }) => Promise<{ url: string; close(): Promise<void> }>;
@@ -126,6 +130,9 @@ export async function startSession(o: SessionOptions): Promise<Session> {
   const timer = o.statusEvery > 0 ? setInterval(() => printStatusLine(pipeline, recorder), o.statusEvery * 1000) : undefined;
   let stopping: Promise<void> | undefined;
   const stop = (): Promise<void> => (stopping ??= source.stop());
+  const uninstallReload = o.rig
+    ? installReload(o.rig, { setNotifyFilters: (sinks) => notifier?.setFilters(sinks), setRetention: (r) => retention?.setPolicy(r) }, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`))
+    : undefined;
   const signals = installShutdown(stop, (line) => process.stderr.write(`floorline ${o.command}: ${line}\n`));
   const finished = (async () => {
     try {
@@ -133,6 +140,7 @@ export async function startSession(o: SessionOptions): Promise<Session> {
     } finally {
       if (timer) clearInterval(timer);
       signals.uninstall();
+      uninstallReload?.();
       retention?.stop();
       recorder?.close();
       await notifier?.close();
