@@ -4,7 +4,8 @@
 export type EventKind = 'alarm' | 'info';
 /** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
 export type EventState = 'raised' | 'settled' | 'cleared';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention';
+export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention' | 'limit';
+// 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {
   kind: EventKind;
@@ -24,7 +25,7 @@ export interface FloorlineEvent {
   levelDb?: number;
   /** Threshold the level was compared with, dB. */
   thresholdDb?: number;
-  /** For spur and mains: line frequency in Hz. */
+  /** For spur and mains: line frequency in Hz; for limit: frequency of the worst excess. */
   frequency?: number;
   /** For spur and mains: line amplitude in channel unit RMS. */
   amplitude?: number;
@@ -39,6 +40,8 @@ export interface FloorlineEvent {
   peakAmplitude?: number;
   /** cleared: from the raise to the clear, seconds of sample time. */
   durationSeconds?: number;
+  /** For limit: margin below the mask at the worst bin, dB (negative: the estimate exceeds the mask). */
+  marginDb?: number;
   /** Path of the capture recording, relative to the data folder, when one was triggered. */
   capture?: string;
   /** Human-readable summary. */

@@ -1,6 +1,7 @@
 // Offline line list: the live spur and mains finder (dsp/detection SpurFinder, MainsClassifier and the same
 // threshold, lineThresholdRatio with the default rules) run once on a report's spectrum, so `analyze --lines`
-// names the lines the live rules would see in the same samples. Amplitude is floor-subtracted RMS over the lobe.
+// names the lines the live rules would see in the same samples. Amplitude is floor-subtracted RMS over the lobe
+// (dsp/tone.ts lineAboveFloor, the one rule for every line readout).
 import { MainsClassifier } from '../../dsp/detection/mains.ts';
 import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
 import { chi2MeanMedian, conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';

@@ -16,6 +16,7 @@ import { channelFullScale, channelLsb, ClipScan } from './clip-scan.ts';
 import { AnalysisInputError } from './input-error.ts';
 import { findLines, makeLineSearch, type ReportLine } from './lines.ts';
 import { readMaskFile } from './mask-file.ts';
+import { budgetReport, type BudgetReport } from './budget-report.ts';
 import { bandNoiseFigures, type NoiseFigureReport, type SourceSpec } from './noise-figure-report.ts';
 import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
@@ -101,6 +102,8 @@ export interface ChannelReport {
   cumulativeRms?: Float64Array;
   mask?: MaskVerdict & { bands: ({ low: number; high: number } & MaskVerdict)[] };
   noiseFigure?: NoiseFigureReport;
+  /** The recording metadata's noise budget against the measured density near 1 kHz. */
+  budget?: BudgetReport;
 }
 
 export interface CoherenceReport {
@@ -157,15 +160,29 @@ function applyUnit(info: WavInfo, unit: string | undefined, path: string): void 
   }
 }
 
-function channelGains(info: WavInfo, path: string): number[] {
+/** How a channel is referred: `divide` is the gain to divide by (none when the samples stay as they are). */
+interface Referral {
+  referredTo: 'input' | 'adc';
+  gain?: number;
+  divide?: number;
+}
+
+/**
+ * Per channel: samples a rig config already divided by the gain (metadata `calibration.inputReferred`) read at the
+ * input as they are; with --input-referred the others are divided by the metadata gain (or the calibration's).
+ */
+function channelReferrals(info: WavInfo, path: string, inputReferred: boolean): Referral[] {
   return info.channels.map((ch, c) => {
-    const g = info.metadata?.channels[c]?.gain;
+    const m = info.metadata?.channels[c];
+    const g = m?.gain ?? m?.calibration?.gain;
+    if (m?.calibration?.inputReferred) return { referredTo: 'input', ...(g !== undefined ? { gain: g } : {}) };
+    if (!inputReferred) return { referredTo: 'adc' };
     if (g === undefined || !(g > 0)) {
       throw new AnalysisInputError(
         `--input-referred: channel ${ch.name} of ${path} has no positive "gain" in its metadata; add "gain" (V/V ahead of the ADC) to channels[${c}] of ${path}.json, or drop --input-referred.`,
       );
     }
-    return g;
+    return { referredTo: 'input', gain: g, divide: g };
   });
 }
 
@@ -187,7 +204,7 @@ export async function analyzeFile(
     }
     const mask = options.mask !== undefined ? readMaskFile(options.mask, nyquist) : undefined;
     const pairs = resolveChannelPairs(options.coherence ?? [], info.channels.map((c) => c.name));
-    const gains = options.inputReferred ? channelGains(info, path) : undefined;
+    const referrals = channelReferrals(info, path, options.inputReferred === true);
     const span = frameSpan(info, options.from, options.to);
     const spanFrames = span.end - span.start;
     const segment = options.segment ?? defaultSegment(spanFrames, options.overlap);
@@ -289,15 +306,15 @@ export async function analyzeFile(
     let maskFailed = false;
     const channels: ChannelReport[] = info.channels.map((ch, c) => {
       const psd = results[c].psd;
-      const gain = gains?.[c];
-      if (gain !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= gain * gain;
+      const { referredTo, gain, divide } = referrals[c];
+      if (divide !== undefined) for (let k = 0; k < psd.length; k++) psd[k] /= divide * divide;
       const asd = new Float64Array(psd.length);
       for (let k = 0; k < psd.length; k++) asd[k] = Math.sqrt(psd[k]);
       const clip = scan.channels[c];
       const out: ChannelReport = {
         name: ch.name,
         unit: ch.unit,
-        referredTo: gain !== undefined ? 'input' : 'adc',
+        referredTo,
         ...(gain !== undefined ? { gain } : {}),
         frequency: first.frequencies,
         psd,
@@ -309,6 +326,9 @@ export async function analyzeFile(
         ...(Number.isFinite(fullScales[c]) ? { fullScale: fullScales[c] } : {}),
         ...(channelLsb(ch, info) !== undefined ? { lsb: channelLsb(ch, info) } : {}),
       };
+      const meta = info.metadata?.channels[c];
+      const budget = meta ? budgetReport(meta, psd, first.binHz, info.sampleRate, out.lsb, out.referredTo) : undefined;
+      if (budget) out.budget = budget;
       if (lineSearch) out.lines = findLines(lineSearch, psd, keq);
       if (options.cumulative) out.cumulativeRms = cumulativeRms(psd, first.binHz);
       if (mask && limits) {
@@ -330,7 +350,7 @@ export async function analyzeFile(
     if (pairs.length > 0) {
       report.coherence = pairs.map((p, i) => {
         const r = crosses[i].result();
-        const g = gains ? gains[p.a] * gains[p.b] : 1;
+        const g = (referrals[p.a].divide ?? 1) * (referrals[p.b].divide ?? 1);
         for (let k = 0; k < r.csdRe.length; k++) {
           r.csdRe[k] /= g;
           r.csdIm[k] /= g;

@@ -78,6 +78,11 @@ function channelLines(r: AnalysisReport, ch: ChannelReport): string[] {
     out.push(row('limit mask', verdict(m)));
     for (const b of m.bands) out.push(row(`  mask, band ${bandLabel(b.low, b.high)}`, verdict(b)));
   }
+  if (ch.budget) {
+    const b = ch.budget;
+    out.push(row('noise budget (metadata)', `${formatSi(b.total, du)} = √(${b.parts.map((p) => `${p.name} ${formatSi(p.density, '')}`.trimEnd()).join('² + ')}²)`));
+    out.push(row(`  measured near ${b.at} Hz`, `${formatSi(b.measured, du)}: ${b.differenceDb >= 0 ? '+' : ''}${b.differenceDb.toFixed(2)} dB against the budget`));
+  }
   if (ch.noiseFigure) {
     const nf = ch.noiseFigure;
     out.push(row('source', `${formatSi(nf.sourceOhms, 'Ω')} at ${nf.sourceKelvin} K: Johnson ${formatSi(nf.sourceDensity, 'V/√Hz')}`));

@@ -12,5 +12,6 @@ import { configCommand } from './commands/config.ts';
 import { trendCommand } from '../store/commands/trend.ts';
 import { incidentsCommand } from '../store/commands/incidents.ts';
 import { noteCommand } from '../store/commands/note.ts';
+import { reportCommand } from '../report/command.ts';
 
-export const commands: CommandSpec[] = [demoCommand, runCommand, replayCommand, analyzeCommand, repairCommand, simulateCommand, portsCommand, baselineCommand, trendCommand, incidentsCommand, noteCommand, configCommand];
+export const commands: CommandSpec[] = [demoCommand, runCommand, replayCommand, analyzeCommand, repairCommand, simulateCommand, portsCommand, baselineCommand, trendCommand, incidentsCommand, noteCommand, reportCommand, configCommand];

@@ -72,7 +72,13 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
   // The detectors' records, when there are any, are the incidents: changed ones are written with each commit.
   const written = new Map<string, string>();
   const syncIncidents = (): void => {
-    for (const r of o.incidentRecords?.() ?? []) {
+    const records = o.incidentRecords?.() ?? [];
+    // The detectors keep a bounded list; forget what they forgot, so this map stays bounded too.
+    if (written.size > 2 * records.length + 100) {
+      const live = new Set(records.map((r) => r.id));
+      for (const id of written.keys()) if (!live.has(id)) written.delete(id);
+    }
+    for (const r of records) {
       const { notes: _notes, ...rest } = r as IncidentRecord & { notes?: unknown };
       // An open incident has no peak in the detectors' record yet: the one its events show so far stands in.
       if (!rest.peak) rest.peak = book.peakOf(r.id);

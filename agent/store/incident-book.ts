@@ -58,7 +58,11 @@ function memberKey(e: AlarmEventLike): string {
   return `${e.rule}|${e.channel}|${band}|${line}`;
 }
 
+/** Closed incidents remembered (for a late event of theirs); older ones are forgotten, the store keeps them. */
+const CLOSED_KEPT = 200;
+
 export class IncidentBook {
+  private readonly closed: string[] = [];
   private readonly incidents = new Map<string, Omit<IncidentRecord, 'peak'> & { peak: { levelDb: number; amplitude?: number; sample: number }; open: Set<string> }>();
   /** Open member key → incident id, for events that carry no incident id. */
   private readonly openByMember = new Map<string, string>();
@@ -97,7 +101,14 @@ export class IncidentBook {
     } else if (e.state === 'cleared') {
       inc.open.delete(key);
       this.openByMember.delete(key);
-      if (inc.open.size === 0) inc.end = { sample: e.sample, t: e.t, wallTime: e.wallTime };
+      if (inc.open.size === 0) {
+        inc.end = { sample: e.sample, t: e.t, wallTime: e.wallTime };
+        this.closed.push(id);
+        if (this.closed.length > CLOSED_KEPT) {
+          const old = this.closed.shift()!;
+          if (this.incidents.get(old)?.open.size === 0) this.incidents.delete(old);
+        }
+      }
     }
     return this.view(inc);
   }

@@ -19,6 +19,8 @@ export interface ChannelMetadata {
   gain?: number;
   /** Full scale in raw counts of the board, for clip detection on replay. */
   fullScaleCounts?: number;
+  /** Noise budget at the amplifier input: source resistance (Ω) and temperature (K), amplifier densities. */
+  budget?: { sourceOhms: number; kelvin: number; amplifierDensity: number; amplifierCurrent: number };
   /** The rig config's calibration the samples already carry (a replay applies nothing twice). */
   calibration?: ChannelCalibration;
 }
@@ -69,6 +71,15 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
         fail(where, `channels[${i}].${k} must be a finite number`);
       }
       if (ch[k] !== undefined && k !== 'gain' && !((ch[k] as number) > 0)) fail(where, `channels[${i}].${k} must be above 0, got ${ch[k]}`);
+    }
+    if (ch.budget !== undefined) {
+      const b = ch.budget as Record<string, unknown>;
+      if (typeof b !== 'object' || b === null) fail(where, `channels[${i}].budget must be an object`);
+      for (const k of ['sourceOhms', 'kelvin', 'amplifierDensity', 'amplifierCurrent']) {
+        if (typeof b[k] !== 'number' || !Number.isFinite(b[k] as number) || (b[k] as number) < 0) {
+          fail(where, `channels[${i}].budget.${k} must be a number ≥ 0`);
+        }
+      }
     }
     const cal = ch.calibration as Record<string, unknown> | undefined;
     if (cal !== undefined && (typeof cal !== 'object' || cal === null || typeof cal.unit !== 'string' || typeof cal.inputReferred !== 'boolean')) {

@@ -1,23 +1,19 @@
 // `floorline incidents` on the bundled demo replayed into a store: one incident per scripted fault (recordings/
 // README.md lists four: mains pickup, a switching spur, a band floor rise, a clip), in the contract's shape, with
 // the same settled levels as the event log's settled events, and a note attached to one of them.
-import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { root, tempDir } from '../wav/support.ts';
+import { tempDir } from '../wav/support.ts';
+import { cliIn, replayDemoIntoStore } from './support.ts';
 
-const bin = join(root, 'bin/floorline.mjs');
 let dir: string;
 let store: string;
-const floorline = (...args: string[]) => spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', cwd: dir, timeout: 120_000 });
+const floorline = cliIn(() => dir);
 
 beforeAll(() => {
   dir = tempDir('store-incidents');
-  store = join(dir, 'demo.sqlite');
-  const r = floorline('replay', join(root, 'recordings/demo.wav'), '--speed', 'max', '--no-server', '--quiet', '--data', join(dir, 'data'),
-    '--store', store, '--baseline', join(root, 'recordings/demo-baseline.json'));
-  expect(r.status, r.stderr).toBe(0);
+  store = replayDemoIntoStore(dir);
 }, 120_000);
 
 describe('floorline incidents', () => {
