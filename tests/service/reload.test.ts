@@ -20,9 +20,11 @@ describe('reload on SIGHUP', () => {
       data: 'data',
     };
     writeFileSync(config, JSON.stringify(base));
-    const child = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'replay', join(root, 'recordings/demo.wav'), '--config', config, '--speed', '1', '--no-server', '--no-history', '--quiet'], { stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'replay', join(root, 'recordings/demo.wav'), '--config', config, '--speed', '1', '--no-server', '--no-history', '--status-every', '0'], { stdio: ['ignore', 'pipe', 'pipe'] });
     let err = '';
+    let out = '';
     child.stderr.on('data', (c) => (err += c));
+    child.stdout.on('data', (c) => (out += c));
     const exited = new Promise<number | null>((r) => child.on('exit', r));
     const hup = async (cfg: unknown) => {
       writeFileSync(config, typeof cfg === 'string' ? cfg : JSON.stringify(cfg));
@@ -31,7 +33,8 @@ describe('reload on SIGHUP', () => {
       for (let i = 0; i < 100 && !err.slice(before).includes('reload'); i++) await sleep(20);
       return err.slice(before);
     };
-    await sleep(1500);
+    // Running (the stream header is printed once the source has started; SIGHUP is handled from then on).
+    for (let i = 0; i < 1000 && !/^stream /m.test(out); i++) await sleep(20);
     expect(await hup({ ...base, notify: [{ exec: ['/bin/true'], states: ['raised', 'cleared'] }], retention: { recordings: { maxBytes: 5e8 } } })).toMatch(/reloaded .*notification filters and retention updated/);
     const refused = await hup({ ...base, channels: [{ name: 'bridge', unit: 'V', gain: 10, inputReferred: true }, { name: 'shorted', unit: 'V' }] });
     expect(refused).toMatch(/reload refused: channels cannot change while running; restart to apply/);
@@ -42,5 +45,5 @@ describe('reload on SIGHUP', () => {
     expect(child.exitCode).toBeNull();
     child.kill('SIGTERM');
     expect(await exited).toBe(0);
-  }, 30_000);
+  }, 60_000);
 });
