@@ -43,7 +43,7 @@ export interface ChannelReport {
   bands: { low: number; high: number; rms: number }[];
 }
 
-/** The key order of this object is the order of DESIGN.md's "analyze --json output". */
+/** The key order of this object is the order of docs/ARCHITECTURE.md "analyze --json". */
 export interface AnalysisReport {
   file: string;
   sampleRate: number;
@@ -124,7 +124,7 @@ export async function analyzeFile(path: string, options: AnalyzeOptions): Promis
   }
 }
 
-/** The report as DESIGN.md's JSON (typed arrays as plain number arrays, keys in contract order). */
+/** The report as docs/ARCHITECTURE.md's JSON (typed arrays as plain number arrays, keys in contract order). */
 export function reportToJson(report: AnalysisReport): string {
   return JSON.stringify(report, (_key, value) => (value instanceof Float64Array ? Array.from(value) : value));
 }

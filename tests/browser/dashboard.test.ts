@@ -212,7 +212,7 @@ describe('dashboard against a running replay', () => {
     await page.click('#recording');
     await expect.poll(() => page.textContent('#recording'), { timeout: 10_000 }).toBe('Start recording');
     expect(file).toMatch(/^recordings\/.+\.wav$/);
-    // scipy reads it: float32, 2 channels at 8 kS/s (the recording format of DESIGN.md).
+    // scipy reads it: float32, 2 channels at 8 kS/s (the recording format of docs/ARCHITECTURE.md).
     const py = `from scipy.io import wavfile; r, x = wavfile.read(${JSON.stringify(join(dir, 'data', file!))}); print(r, x.dtype, x.shape[1], x.shape[0] > 0)`;
     expect(execFileSync('python3', ['-c', py], { encoding: 'utf8' }).trim()).toBe('8000 float32 2 True');
   });

@@ -71,7 +71,7 @@ describe('PipelineBackend', () => {
     expect(b.mainsHz()).toBeCloseTo(50.02, 10);
   });
 
-  it('computes band RMS as sqrt(Σ psd · binHz) over the band’s bins (DESIGN.md), and the band floor as the median density', () => {
+  it('computes band RMS as sqrt(Σ psd · binHz) over the band’s bins (docs/ARCHITECTURE.md), and the band floor as the median density', () => {
     const { p, b } = setup();
     const psd = new Float64Array(513).fill(4e-16);
     psd[100] = 4e-12; // a line: moves the RMS, not the median floor

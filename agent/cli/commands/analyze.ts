@@ -1,4 +1,4 @@
-// `floorline analyze FILE`: offline report of a whole recording (DESIGN.md "analyze --json output").
+// `floorline analyze FILE`: offline report of a whole recording (docs/ARCHITECTURE.md "analyze --json").
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
 import { createProgress } from '../progress.ts';
