@@ -5,8 +5,12 @@ import { defineConfig } from 'vitest/config';
 // CPU-heavy reference checks or with each other.
 const realtime = [
   'tests/serial/pty-*.test.ts',
+  'tests/service/healthz.test.ts',
   'tests/replay/live-run.test.ts',
   'tests/recorder/crash.test.ts',
+  'tests/service/shutdown.test.ts',
+  'tests/notify/webhook-outage.test.ts',
+  'tests/retention/small-disk.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 

@@ -1,8 +1,8 @@
 // The dashboard application: routes agent messages to the views. `onJson` and `onBinary` are the only inputs,
 // so the benchmark drives exactly the path live data takes.
-import type { ServerMessage, AgentStatus, SpectrumContext } from '../agent/wire/messages.ts';
-import type { FloorlineEvent } from '../agent/core/events.ts';
-import { decodeFrame, type DecodedFrame } from '../agent/wire/frame.ts';
+import type { ServerMessage, AgentStatus, SpectrumContext } from '../protocol/messages.ts';
+import type { FloorlineEvent } from '../protocol/events.ts';
+import { decodeFrame, type DecodedFrame } from '../protocol/frame.ts';
 import { Link } from './connection.ts';
 import { SpectrumView } from './views/spectrum.ts';
 import { WaterfallView } from './views/waterfall.ts';
@@ -15,12 +15,14 @@ import { NoiseBudgetForm } from './views/noise-budget.ts';
 import { LogFrequencyView } from './views/log-frequency.ts';
 import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
 import { logFrequencyCsv } from './log-frequency-csv.ts';
+import { channelColour, channelDash } from './colours.ts';
+import { densityLabel } from './units.ts';
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
 
 export class App {
   readonly spectrum = new SpectrumView($('spectrum'), $('readout'));
-  readonly waterfall = new WaterfallView($('waterfall'), $('waterfall-legend'), $('waterfall-axis'));
+  readonly waterfall = new WaterfallView($('waterfall'), $('waterfall-legend'), $('waterfall-axis'), $('waterfall-freq'), $('waterfall-time'));
   readonly bands = new BandTable(($('bands') as HTMLTableElement).tBodies[0]);
   readonly events = new EventList(($('events') as HTMLTableElement).tBodies[0], (e) => void this.acknowledge(e));
   readonly trace = new TraceView($('trace'));
@@ -33,6 +35,7 @@ export class App {
   /** Spectrum frames applied (tests and the benchmark read this). */
   spectraApplied = 0;
   private pendingBaseline: ArrayBuffer | null = null;
+  private baselineFrame: DecodedFrame | null = null;
   /** The spectrum panel shows the log-frequency view (exports follow what is shown). */
   private logfMode = false;
   private contextShownAt = -Infinity;
@@ -48,10 +51,14 @@ export class App {
       exportCsv: () => this.exportCsv(),
       exportPng: () => void this.exportPng(),
       exportEvents: () => download('floorline-events.jsonl', this.events.toJsonLines(), 'application/jsonl'),
+      resetZoom: () => (this.logfMode ? this.logFrequency.resetZoom() : this.spectrum.resetZoom()),
+      followY: (on) => this.spectrum.setFollowY(on),
     });
+    new ResizeObserver(() => this.alignWaterfall()).observe($('spectrum'));
     $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) => this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'));
     $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
+      this.waterfall.setBaselineFloor(this.baselinePsd());
       this.waterfall.clear();
     });
   }
@@ -92,6 +99,8 @@ export class App {
       if (this.context && (f.contextId === (this.context.id & 0xffff))) {
         this.spectrum.setBaseline(f);
         this.logFrequency.setBaseline(f, this.context.binHz);
+        this.baselineFrame = f;
+        this.waterfall.setBaselineFloor(this.baselinePsd());
       }
       else this.pendingBaseline = buf;
     } else if (f.kind === 'trace') this.trace.update(f, this.context?.channels.map((c) => c.name) ?? [], this.context?.channels[0]?.unit ?? 'V');
@@ -123,6 +132,7 @@ export class App {
     this.context = ctx;
     this.spectrum.setContext(ctx);
     this.waterfall.setContext(ctx.bins, ctx.binHz, ctx.channels[0]?.unit ?? 'V');
+    this.alignWaterfall();
     const sel = $<HTMLSelectElement>('waterfall-channel');
     sel.replaceChildren(...ctx.channels.map((c, i) => new Option(c.name, String(i))));
     this.waterfall.channel = 0;
@@ -135,6 +145,21 @@ export class App {
       this.pendingBaseline = null;
       this.onBinary(b);
     }
+  }
+
+  /** The baseline PSD of the waterfall's channel (sets its colour range), or null. */
+  private baselinePsd(): Float32Array | null {
+    const f = this.baselineFrame;
+    return f && this.waterfall.channel < f.channels ? f.values[this.waterfall.channel] : null;
+  }
+
+  /** Puts the waterfall under the spectrum's plot area, so one frequency sits in one screen column in both. */
+  private alignWaterfall(): void {
+    const box = this.spectrum.plotBox();
+    if (!box) return;
+    const chart = $('spectrum').getBoundingClientRect();
+    const wrap = $('waterfall').parentElement!.getBoundingClientRect();
+    this.waterfall.align(Math.max(0, chart.left + box.left - wrap.left), box.width);
   }
 
   private setStatus(s: AgentStatus): void {
@@ -182,7 +207,10 @@ export class App {
     }
     const c = this.spectrum.canvas;
     const f = this.spectrum.frame;
-    if (!c || !this.context) return;
-    download(`floorline-spectrum-${f?.sample ?? 0}.png`, await spectrumPng(c, contextLine(this.context, f)));
+    const ctx = this.context;
+    if (!c || !ctx) return;
+    const legend = ctx.channels.map((ch, i) => ({ label: `${ch.name} (${ch.unit})`, colour: channelColour(i), dash: channelDash(i) }));
+    const when = this.status?.wallTime ? ` · ${this.status.wallTime}` : '';
+    download(`floorline-spectrum-${f?.sample ?? 0}.png`, await spectrumPng(c, contextLine(ctx, f) + when, legend, densityLabel(this.spectrum.unitChoice, ctx.channels[0]?.unit ?? 'V')));
   }
 }

@@ -1,6 +1,6 @@
 // The WebSocket link to the agent: reconnects with backoff after the agent restarts, matches replies to
 // requests by id, and hands JSON and binary messages to the app.
-import type { ClientMessage, ServerMessage, ReplyMessage } from '../agent/wire/messages.ts';
+import type { ClientMessage, ServerMessage, ReplyMessage } from '../protocol/messages.ts';
 
 type Request = ClientMessage extends infer M ? (M extends ClientMessage ? Omit<M, 'id'> : never) : never;
 

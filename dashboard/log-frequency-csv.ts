@@ -1,6 +1,6 @@
 // CSV of the log-frequency view as shown: '#' context lines (sample, t, span, level, each channel's fit), a names
 // row, a units row, then one row per point: frequency, RBW, averages, and per channel ASD with its band.
-import type { LowFrequencyContext, LowFrequencyUpdate } from '../agent/wire/low-frequency-messages.ts';
+import type { LowFrequencyContext, LowFrequencyUpdate } from '../protocol/low-frequency-messages.ts';
 
 const cell = (v: number | null | undefined): string => (v === null || v === undefined ? '' : String(v));
 

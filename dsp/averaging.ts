@@ -1,7 +1,14 @@
 // Averaging of per-segment periodograms for the streaming Welch estimator.
 // Every averager takes raw |X[k]|² rows (add) and writes their average (read); scaling is the caller's.
 // Constructors allocate; add/read allocate nothing.
-import type { AveragingSpec } from '../agent/core/settings.ts';
+
+/** How segment periodograms are averaged into one estimate (shared by the pipeline, baselines and the wire). */
+export type AveragingSpec =
+  | { mode: 'mean' }
+  | { mode: 'rolling'; count: number }
+  | { mode: 'exponential'; tauSeconds: number }
+  | { mode: 'max' }
+  | { mode: 'median'; count: number };
 
 export interface Averager {
   /** Segments contributing to the current estimate. */
@@ -138,6 +145,47 @@ export class RollingAverager implements Averager {
     this.ring.fill(0);
     this.used = 0;
     this.next = 0;
+  }
+}
+
+/**
+ * Median over every segment since clear(), up to a capacity fixed at construction (an offline report knows how many
+ * segments its span holds), divided by medianBias(n) as scipy.signal.welch(average='median') does. Each bin's column
+ * is sorted with the typed-array sort, O(n log n), so thousands of segments stay quick.
+ */
+export class WholeMedianAverager implements Averager {
+  used = 0;
+  private readonly rows: Float64Array;
+  private readonly column: Float64Array;
+  constructor(
+    private readonly bins: number,
+    readonly capacity: number,
+  ) {
+    if (!(Number.isInteger(capacity) && capacity >= 1)) throw new RangeError(`WholeMedianAverager: capacity must be a positive integer, got ${capacity}`);
+    this.rows = new Float64Array(bins * capacity);
+    this.column = new Float64Array(capacity);
+  }
+  add(power: Float64Array): void {
+    if (this.used === this.capacity) throw new RangeError(`WholeMedianAverager: more than the ${this.capacity} segments planned for`);
+    const bins = this.bins;
+    this.rows.set(power.subarray(0, bins), this.used * bins);
+    this.used++;
+  }
+  read(out: Float64Array): void {
+    const bins = this.bins;
+    const n = this.used;
+    const rows = this.rows;
+    const column = this.column.subarray(0, n);
+    const bias = medianBias(n);
+    const h = n >> 1;
+    for (let k = 0; k < bins; k++) {
+      for (let r = 0; r < n; r++) column[r] = rows[r * bins + k];
+      column.sort();
+      out[k] = (n % 2 === 1 ? column[h] : 0.5 * (column[h - 1] + column[h])) / bias;
+    }
+  }
+  clear(): void {
+    this.used = 0;
   }
 }
 

@@ -4,7 +4,7 @@
 // over n = 0..N−1 (scipy type='linear'). With t = n − (N−1)/2 the fit decouples: slope = Σt·x / Σt², offset =
 // mean(x), so no matrix solve is needed. The mean is summed in numpy's pairwise order so that a large offset
 // cancels exactly as in scipy (the DC bin of an offset channel is otherwise off by an ulp of the offset).
-import type { DetrendMode } from '../agent/core/settings.ts';
+export type DetrendMode = 'none' | 'mean' | 'linear';
 
 export const DETREND_MODES: readonly DetrendMode[] = ['none', 'mean', 'linear'];
 

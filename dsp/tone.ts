@@ -53,6 +53,37 @@ export function toneAt(psd: Float64Array, binHz: number, mainLobeHalfWidth: numb
   return { peakBin: peak, rms: Math.sqrt(power * binHz), frequency, first, last };
 }
 
+/**
+ * The line at `peak` with the local floor taken off: the power in the main lobe minus the floor's share of it,
+ *   A_rms² = (Σ_lobe psd[k] − n·floor)·Δf   (n = bins summed; clipped at 0),
+ * so bare noise reads near 0 instead of the lobe's share of the floor (Heinzel, Rüdiger & Schilling 2002, §9–10:
+ * a density's lobe integrates to the tone's mean square plus the noise in the lobe's bandwidth). The frequency is
+ * the centroid of the excess over the floor. `floor` is the floor density (unit²/Hz) under the line, e.g. a local
+ * median corrected to a mean. One rule for the spur and mains events and the dashboard's cursor readout.
+ */
+export function lineAboveFloor(psd: Float64Array, binHz: number, mainLobeHalfWidth: number, peak: number, floor: number): ToneReading {
+  if (!(Number.isInteger(peak) && peak >= 0 && peak < psd.length)) {
+    throw new RangeError(`lineAboveFloor: peak bin ${peak} is outside the ${psd.length} bins`);
+  }
+  const h = Math.ceil(mainLobeHalfWidth - 1e-9);
+  const first = Math.max(0, peak - h);
+  const last = Math.min(psd.length - 1, peak + h);
+  const fl = floor > 0 ? floor : 0;
+  let excess = 0;
+  let weight = 0;
+  let moment = 0;
+  for (let k = first; k <= last; k++) {
+    const e = psd[k] - fl;
+    excess += e;
+    if (e > 0) {
+      weight += e;
+      moment += k * e;
+    }
+  }
+  const frequency = weight > 0 ? (moment / weight) * binHz : peak * binHz;
+  return { peakBin: peak, rms: excess > 0 ? Math.sqrt(excess * binHz) : 0, frequency, first, last };
+}
+
 /** Finds the largest line with centre between lowHz and highHz and reads it. */
 export function findTone(
   psd: Float64Array,

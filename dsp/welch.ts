@@ -3,9 +3,8 @@
 // Nyquist bin (segment lengths here are even) not doubled; segments start at sample 0 of the stream (or
 // firstSample) and advance by step = segment − noverlap with noverlap = floor(overlap·segment), as scipy's
 // integer noverlap; samples that do not yet fill a segment wait for more data.
-import type { AveragingSpec, DetrendMode } from '../agent/core/settings.ts';
-import { MeanAverager, makeAverager, validateAveraging, type Averager } from './averaging.ts';
-import { SegmentConditioner, validateDetrend } from './detrend.ts';
+import { MeanAverager, makeAverager, validateAveraging, type Averager, type AveragingSpec } from './averaging.ts';
+import { SegmentConditioner, validateDetrend, type DetrendMode } from './detrend.ts';
 import { RealFftPower } from './real-fft-power.ts';
 import { makeWindow, type WindowInfo } from './windows.ts';
 
@@ -24,7 +23,20 @@ export interface WelchOptions {
   averaging?: AveragingSpec;
   /** Absolute index of the first sample pushed (default 0). */
   firstSample?: number;
+  /** Averager to use instead of the one `averaging` names (e.g. a median over a whole file); `averaging` still labels it. */
+  averager?: Averager;
+  /**
+   * Called with each completed segment's first and last absolute sample index; false leaves the segment out of the
+   * average (counted in segmentsExcluded). For offline reports that drop segments touching clipped samples.
+   */
+  accept?: (firstSample: number, lastSample: number) => boolean;
 }
+
+/**
+ * Told of every completed segment: its own one-sided estimate (same scaling as psd()) and the absolute index of
+ * its last sample. `estimate` is the estimator's reused buffer, valid only during the call.
+ */
+export type SegmentListener = (estimate: Float64Array, lastSample: number) => void;
 
 export const MIN_SEGMENT = 64;
 export const MAX_SEGMENT = 1 << 20;
@@ -49,6 +61,8 @@ export class WelchEstimator {
   segmentsTotal = 0;
   /** Absolute index of the last sample of the newest completed segment, −1 if none. */
   lastSegmentSample = -1;
+  /** Completed segments that `accept` refused since construction or clear(). */
+  segmentsExcluded = 0;
 
   private readonly fft: RealFftPower;
   private readonly conditioner: SegmentConditioner;
@@ -59,8 +73,12 @@ export class WelchEstimator {
   private readonly scale: Float64Array;
   /** ρ(j·step) for j = 1.. while j·step < segment (Welch 1967, with the window's autocorrelation). */
   private readonly rho: Float64Array;
+  private readonly accept: ((firstSample: number, lastSample: number) => boolean) | undefined;
   private fill = 0;
   private nextSample: number;
+  private listener: SegmentListener | undefined;
+  /** The latest segment's scaled estimate, filled only while a listener is set. */
+  private segmentEstimate: Float64Array | undefined;
 
   constructor(options: WelchOptions) {
     const { sampleRate, segment, overlap } = options;
@@ -99,7 +117,8 @@ export class WelchEstimator {
 
     this.fft = new RealFftPower(segment);
     this.conditioner = new SegmentConditioner(this.window.values, this.detrend);
-    this.averager = makeAverager(this.averaging, this.bins, this.step / sampleRate);
+    this.averager = options.averager ?? makeAverager(this.averaging, this.bins, this.step / sampleRate);
+    this.accept = options.accept;
     this.pending = new Float64Array(segment);
     this.power = new Float64Array(this.bins);
     this.scale = oneSidedScale(this.window.values, sampleRate, scaling);
@@ -203,6 +222,12 @@ export class WelchEstimator {
     return equalWeightEquivalent(used, this.rho);
   }
 
+  /** Sets (or with undefined removes) the one listener told of each completed segment's own estimate. */
+  onSegment(listener: SegmentListener | undefined): void {
+    this.listener = listener;
+    this.segmentEstimate = listener ? (this.segmentEstimate ?? new Float64Array(this.bins)) : undefined;
+  }
+
   /** Drops the partial segment (at a gap); the averages stay. The next sample gets index nextSample if given. */
   reset(nextSample?: number): void {
     if (nextSample !== undefined) {
@@ -219,13 +244,34 @@ export class WelchEstimator {
     this.fill = 0;
     this.averager.clear();
     this.segmentsTotal = 0;
+    this.segmentsExcluded = 0;
     this.lastSegmentSample = -1;
   }
 
   private processSegment(src: Float64Array, offset: number, lastSample: number): void {
+    if (this.accept && !this.accept(lastSample - this.segment + 1, lastSample)) {
+      this.segmentsExcluded++;
+      this.segmentsTotal++;
+      this.lastSegmentSample = lastSample;
+      return;
+    }
     const c = this.conditioner;
     c.fit(src, offset);
     const avg = this.averager;
+    const listener = this.listener;
+    if (listener) {
+      // The segment's own power is needed apart from the average: same additions as the fast path below.
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
+      avg.add(this.power);
+      const est = this.segmentEstimate!;
+      const power = this.power;
+      const scale = this.scale;
+      for (let k = 0; k < est.length; k++) est[k] = power[k] * scale[k];
+      this.segmentsTotal++;
+      this.lastSegmentSample = lastSample;
+      listener(est, lastSample);
+      return;
+    }
     if (avg instanceof MeanAverager) {
       // Mean: add |X|² straight into the running sum (same additions as add(), one pass fewer).
       this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, avg.sum, true);

@@ -12,6 +12,15 @@ export async function runLogFrequencyAnalysis(args: ParsedArgs, options: Analyze
   if (options.bands.length > 0) {
     throw new UsageError('floorline analyze: --band does not apply with --log-frequency; run analyze without --log-frequency for band RMS.');
   }
+  const f = args.flags;
+  const notHere = ['from', 'to', 'exclude-clipped', 'lines', 'cumulative', 'mask', 'input-referred', 'source-ohms', 'unit'].filter(
+    (k) => f[k] !== undefined && f[k] !== false,
+  );
+  if ((f.coherence as string[] | undefined)?.length) notHere.push('coherence');
+  if (f.average === 'median') notHere.push('average');
+  if (notHere.length > 0) {
+    throw new UsageError(`floorline analyze: --${notHere.join(', --')} do(es) not apply with --log-frequency yet; run analyze without --log-frequency for them.`);
+  }
   const file = args.positionals[0];
   let result;
   try {

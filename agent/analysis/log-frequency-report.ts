@@ -2,12 +2,12 @@
 // log-frequency density (dsp/logfreq, Tröbs & Heinzel 2006) with each point's resolution bandwidth and averages,
 // the 1/f corner fit (α = 1 and free α) below a tenth of the sample rate, and the 0.1–10 Hz peak-to-peak figures
 // per 10 s window. The record is held in memory (the estimate revisits it once per frequency).
-import type { DetrendMode } from '../core/settings.ts';
+import type { DetrendMode } from '../../protocol/settings.ts';
 import { readWavFile, type WavInfo } from '../wav/reader.ts';
 import { planLogFrequencies } from '../../dsp/logfreq/plan.ts';
 import { logFrequencyPsd } from '../../dsp/logfreq/log-frequency-psd.ts';
-import { fitCorner, type CornerFit } from '../../dsp/lowfreq/corner-fit.ts';
-import { PeakToPeakMeter, PEAK_TO_PEAK_LABELS, peakToPeakFigures, type PeakToPeakFigures } from '../../dsp/lowfreq/peak-to-peak.ts';
+import { fitCorner, type CornerFit } from '../../dsp/flicker/corner-fit.ts';
+import { PeakToPeakMeter, PEAK_TO_PEAK_LABELS, peakToPeakFigures, type PeakToPeakFigures } from '../../dsp/flicker/peak-to-peak.ts';
 import { formatSi } from './si.ts';
 
 export interface LogFrequencyOptions {

@@ -5,9 +5,9 @@
 // One estimator covers the whole span; two more cover its halves for the settling check.
 import { WelchEstimator } from '../../dsp/welch.ts';
 import { bandBins, bandRmsInBins } from '../../dsp/bands.ts';
-import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
-import { binPowerCorrelation } from '../../dsp/alarms/threshold.ts';
-import { settingsHash, type AnalysisSettings } from '../core/settings.ts';
+import type { BandSpec } from '../../dsp/detection/band-compare.ts';
+import { binPowerCorrelation } from '../../dsp/detection/threshold.ts';
+import { settingsHash, type AnalysisSettings } from '../../protocol/settings.ts';
 import { BASELINE_SCHEMA, type BaselineFile } from './format.ts';
 import { combineSettling, settlingCheck } from './settling.ts';
 
@@ -101,6 +101,15 @@ export class BaselineCapture {
         );
       }
       const psd = est.psd();
+      let floor = 0;
+      for (let k = 1; k < psd.length; k++) floor += psd[k];
+      if (!(floor > 0)) {
+        // A zero floor cannot be compared against: every rise over it would be infinite.
+        throw new RangeError(
+          `baseline capture: channel ${this.o.channels[c].name} is silent (its density is zero above DC: a constant or disconnected input); ` +
+            'capture a span where every channel carries its noise',
+        );
+      }
       settlingParts.push(
         settlingCheck(this.o.channels[c].name, { psd: h1.psd(), equivalentAverages: h1.equivalentAverages() },
           { psd: h2.psd(), equivalentAverages: h2.equivalentAverages() }, binHz, this.o.bands, corr),

@@ -1,7 +1,7 @@
 // The baseline file (JSON): analysis settings and their hash, per channel the averaged density with its equivalent
 // number of averages and band powers, the capture span in sample time, the settling check and free-text notes.
 import { readFile, writeFile } from 'node:fs/promises';
-import { firstSettingMismatch, settingsHash, type AnalysisSettings } from '../core/settings.ts';
+import { firstSettingMismatch, settingsHash, type AnalysisSettings } from '../../protocol/settings.ts';
 import { InputError } from '../cli/usage-error.ts';
 
 export const BASELINE_SCHEMA = 'floorline.baseline/1';
@@ -88,18 +88,20 @@ export function validateBaseline(v: unknown, where: string): BaselineFile {
   const b = v as Partial<BaselineFile>;
   if (b.schema !== BASELINE_SCHEMA) fail(`schema is ${JSON.stringify(b.schema)}, expected ${BASELINE_SCHEMA}`);
   const s = b.settings;
+  if (typeof s !== 'object' || s === null) fail('settings are missing');
   if (!s || typeof s.sampleRate !== 'number' || typeof s.segment !== 'number' || typeof s.window !== 'string' ||
       typeof s.overlap !== 'number' || typeof s.detrend !== 'string') fail('settings are incomplete');
   if (b.settingsHash !== settingsHash(s!)) fail(`settingsHash ${b.settingsHash} does not match its settings (${settingsHash(s!)}): the file was edited`);
   if (!Array.isArray(b.channels) || b.channels.length === 0) fail('has no channels');
   const bins = s!.segment / 2 + 1;
   for (const c of b.channels!) {
+    if (typeof c !== 'object' || c === null || Array.isArray(c)) fail('a channel entry is not an object');
     if (typeof c.name !== 'string') fail('a channel has no name');
     if (!Array.isArray(c.psd) || c.psd.length !== bins) fail(`channel ${c.name} has ${c.psd?.length} density bins, settings need ${bins}`);
     if (!c.psd.every((x) => typeof x === 'number' && Number.isFinite(x) && x >= 0)) fail(`channel ${c.name} density holds a value that is not a finite number ≥ 0`);
-    if (!(typeof c.equivalentAverages === 'number' && c.equivalentAverages > 0)) fail(`channel ${c.name} equivalentAverages must be > 0`);
+    if (!(typeof c.equivalentAverages === 'number' && c.equivalentAverages > 0 && Number.isFinite(c.equivalentAverages))) fail(`channel ${c.name} equivalentAverages must be > 0`);
   }
-  if (!b.span || typeof b.span.firstSample !== 'number') fail('span is missing');
+  if (typeof b.span !== 'object' || b.span === null || typeof b.span.firstSample !== 'number') fail('span is missing');
   return b as BaselineFile;
 }
 

@@ -4,9 +4,9 @@
 // before the span is complete rejects.
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
-import { settingsHash } from '../core/settings.ts';
-import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
-import { defaultBands } from '../alarms/default-bands.ts';
+import { settingsHash } from '../../protocol/settings.ts';
+import type { BandSpec } from '../../dsp/detection/band-compare.ts';
+import { defaultBands } from '../rules/default-bands.ts';
 import { BaselineCapture } from './capture.ts';
 import type { BaselineFile } from './format.ts';
 

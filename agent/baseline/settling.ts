@@ -1,9 +1,9 @@
 // Settling check: did the floor drift during the capture? The second half's band power over the first half's is
 // F(ν₂, ν₁) distributed when the floor is stationary (both are Welch estimates of the same density; dof from
-// dsp/alarms/threshold.ts). Outside the two-sided F interval at probability α the band has drifted.
+// dsp/detection/threshold.ts). Outside the two-sided F interval at probability α the band has drifted.
 import { bandBins } from '../../dsp/bands.ts';
-import type { BandSpec } from '../../dsp/alarms/band-compare.ts';
-import { bandDegreesOfFreedom, fLowerQuantile, fUpperQuantile } from '../../dsp/alarms/threshold.ts';
+import type { BandSpec } from '../../dsp/detection/band-compare.ts';
+import { bandDegreesOfFreedom, fLowerQuantile, fUpperQuantile } from '../../dsp/detection/threshold.ts';
 import type { Settling, SettlingBand } from './format.ts';
 
 /** Default probability of calling a stationary band drifting. */

@@ -30,6 +30,8 @@ export interface PositionalSpec {
 export interface ParsedArgs {
   flags: Record<string, string | number | boolean | string[] | undefined>;
   positionals: string[];
+  /** Flags written on the command line (the rest hold defaults, which a rig config may replace). */
+  given?: Set<string>;
 }
 
 export interface CommandSpec {
@@ -75,6 +77,7 @@ function parseNumber(flag: FlagSpec, raw: string, command: string): number {
 export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArgs {
   const flags: ParsedArgs['flags'] = {};
   const positionals: string[] = [];
+  const given = new Set<string>();
   for (const f of spec.flags) {
     if (f.default !== undefined) flags[f.name] = f.default;
     else if (f.kind === 'list') flags[f.name] = [];
@@ -103,6 +106,7 @@ export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArg
         `floorline ${spec.name}: unknown flag ${token}; known flags: ${known || '(none)'}. See \`floorline ${spec.name} --help\`.`,
       );
     }
+    given.add(flag.name);
     if (flag.kind === 'boolean') {
       if (inline !== undefined && inline !== 'true' && inline !== 'false') {
         throw new UsageError(`floorline ${spec.name}: --${flag.name} takes no value (got '${inline}'); write just --${flag.name}.`);
@@ -140,7 +144,7 @@ export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArg
         `this command takes ${spec.positionals.length === 0 ? 'no arguments' : spec.positionals.map((p) => p.name).join(' ')}.`,
     );
   }
-  return { flags, positionals };
+  return { flags, positionals, given };
 }
 
 export function formatHelp(spec: CommandSpec): string {

@@ -1,6 +1,11 @@
 // The `floorline` command: dispatches to one subcommand module each.
 import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
+import { printable } from '../../protocol/limits.ts';
+import { installStructuredLogs, structuredLogsWanted } from '../service/log-lines.ts';
+
+/** The long-running commands, whose output becomes JSON lines under a service manager. */
+const SERVICE_COMMANDS = ['run', 'replay', 'demo'];
 
 function topHelp(): string {
   const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);
@@ -22,12 +27,13 @@ export async function main(argv: string[]): Promise<number> {
     process.stdout.write(formatHelp(spec));
     return 0;
   }
+  if (SERVICE_COMMANDS.includes(spec.name) && structuredLogsWanted()) installStructuredLogs(spec.name);
   try {
     return await spec.run(parseArgs(spec, rest));
   } catch (err) {
     const e = err as Error & { exitCode?: number };
     if (e && typeof e.exitCode === 'number') {
-      process.stderr.write(`${e.message}\n`);
+      process.stderr.write(`${printable(e.message)}\n`);
       return e.exitCode;
     }
     throw err;

@@ -2,7 +2,7 @@
 // --events-out), written through with a synchronous write per event so a crash loses no reported event.
 import { closeSync, mkdirSync, openSync, writeSync } from 'node:fs';
 import { dirname } from 'node:path';
-import { eventToJsonLine, type FloorlineEvent } from '../core/events.ts';
+import { eventToJsonLine, type FloorlineEvent } from '../../protocol/events.ts';
 import { InputError } from '../cli/usage-error.ts';
 
 export class EventLog {

@@ -19,7 +19,7 @@ export const KIND_DESCRIBE_REQUEST = 0x10;
 
 /** Samples body: channels(1) format(1) sequence(4, LE) then interleaved samples. */
 export const SAMPLES_PREFIX = 6;
-export const MAX_CHANNELS = 64;
+export { MAX_CHANNELS } from '../../protocol/limits.ts';
 
 export type SampleFormat = 'int16' | 'int24' | 'int32' | 'float32';
 export const SAMPLE_FORMATS: readonly SampleFormat[] = ['int16', 'int24', 'int32', 'float32'];

@@ -2,12 +2,12 @@
 // pipeline's calibrated blocks, a frame (ASD, confidence band, averages) at fixed sample instants and a 1/f corner
 // fit every few frames. Instants are the samples s with (s − seamOffset + 1) mod stride = 0, the pipeline's own
 // snapshot rule, so any block size or replay speed gives the same updates, and each replay loop the first one's.
-import type { GapNotice, StreamInfo } from '../core/stream.ts';
+import type { GapNotice, StreamInfo } from '../../protocol/stream.ts';
 import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 import { LogFrequencyFrameBuilder, type LogFrequencyFrame } from '../../dsp/logfreq/live-frame.ts';
-import { PeakToPeakMeter, peakToPeakFigures } from '../../dsp/lowfreq/peak-to-peak.ts';
-import { fitCorner, logChiSquareBias, logChiSquareVariance, logCornerModel, type CornerFit } from '../../dsp/lowfreq/corner-fit.ts';
-import type { CornerFitReading, LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate, PeakToPeakFigures } from '../wire/low-frequency-messages.ts';
+import { PeakToPeakMeter, peakToPeakFigures } from '../../dsp/flicker/peak-to-peak.ts';
+import { fitCorner, logChiSquareBias, logChiSquareVariance, logCornerModel, type CornerFit } from '../../dsp/flicker/corner-fit.ts';
+import type { CornerFitReading, LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate, PeakToPeakFigures } from '../../protocol/low-frequency-messages.ts';
 
 export interface LiveLowFrequencyOptions {
   /** Updates per second of sample time (default 2). */

@@ -8,8 +8,8 @@
 // Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
 // starts again, so every loop is analysed on the same grid of file indices as the first.
 import { WelchEstimator } from '../../dsp/welch.ts';
-import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../core/settings.ts';
-import type { StreamInfo } from '../core/stream.ts';
+import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import type { SnapshotChannel, SpectrumSnapshot } from './types.ts';
 
 export interface AnalysisChoice {
@@ -74,6 +74,15 @@ export class Analyser {
     );
     // The estimator canonicalises the window name (e.g. "Hann" → "hann").
     this.settings.window = this.estimators[0].window.name;
+  }
+
+  /** Hands every completed segment of channel c to fn(c, density, lastSample) (undefined: stop). */
+  observeSegments(fn: ((channel: number, density: Float64Array, lastSample: number) => void) | undefined): void {
+    this.estimators.forEach((e, c) => e.onSegment(fn ? (density, last) => fn(c, density, last) : undefined));
+  }
+
+  get binHz(): number {
+    return this.estimators[0].binHz;
   }
 
   get frequencies(): Float64Array {

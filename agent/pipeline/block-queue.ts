@@ -1,7 +1,7 @@
 // A bounded FIFO of raw sample blocks between a live source and the analysis. Slots are preallocated and reused
 // (their arrays grow only when a larger block arrives), so a steady stream allocates nothing. When the queue is
 // full the incoming block is refused whole: the caller counts it as dropped, never queues without limit.
-import type { SampleBlock } from '../core/stream.ts';
+import type { SampleBlock } from '../../protocol/stream.ts';
 
 export interface QueuedBlock {
   firstSample: number;

@@ -5,14 +5,16 @@
 //  - 'bounded' (live): blocks are copied into a bounded queue and analysed from setImmediate in slices of at most
 //    drainBudgetMs, so the event loop keeps reading the port; when the queue is full the incoming block is dropped
 //    whole and counted, and the analysis restarts cleanly after the hole (as after a gap).
-import type { FloorlineEvent } from '../core/events.ts';
-import type { AveragingSpec } from '../core/settings.ts';
-import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
 import { BlockQueue } from './block-queue.ts';
-import { Conditioner } from './conditioner.ts';
+import { Conditioner, forEachFiniteRun } from './conditioner.ts';
+import { rateProblem } from '../../protocol/limits.ts';
+import { makeEvent } from '../rules/event-factory.ts';
 import { Emitter, type Listener } from './emitter.ts';
-import type { CalibratedBlock, Detector, OverrunNotice, PipelineCounters, PipelineEvents } from './types.ts';
+import type { CalibratedBlock, Detector, NonFiniteNotice, OverrunNotice, PipelineCounters, PipelineEvents, SegmentObserver } from './types.ts';
 
 export interface PipelineOptions {
   analysis?: Partial<AnalysisChoice>;
@@ -29,6 +31,7 @@ export interface PipelineOptions {
 export class Pipeline implements SourceSink {
   private readonly emitter = new Emitter<PipelineEvents>();
   private readonly detectors: Detector[] = [];
+  private readonly segmentObservers: SegmentObserver[] = [];
   private choice: AnalysisChoice;
   private averagingSpec: AveragingSpec;
   private readonly snapshotRate: number;
@@ -46,6 +49,7 @@ export class Pipeline implements SourceSink {
   private pendingReconfigure: { choice: AnalysisChoice; averaging: AveragingSpec } | undefined;
   private drainScheduled = false;
   private dropRun: OverrunNotice | undefined;
+  private nonfiniteOpen: { sample: number; frames: number } | undefined;
   private ended = false;
   private endWaiters: (() => void)[] = [];
   private readonly count: PipelineCounters = {
@@ -58,6 +62,8 @@ export class Pipeline implements SourceSink {
     droppedBlocks: 0,
     droppedSamples: 0,
     clippedSamples: [],
+    nonfiniteFrames: 0,
+    lastNonfiniteSample: -1,
     events: 0,
     queueDepth: 0,
     queueCapacity: 0,
@@ -85,6 +91,31 @@ export class Pipeline implements SourceSink {
   addDetector(d: Detector): void {
     this.detectors.push(d);
     if (this.streamInfo && d.onInfo) d.onInfo(this.streamInfo);
+  }
+
+  /** Adds an observer of every completed Welch segment (see SegmentObserver). */
+  addSegmentObserver(o: SegmentObserver): void {
+    this.segmentObservers.push(o);
+    if (this.analyser && this.streamInfo) this.installObservers(this.analyser, this.streamInfo, this.expected);
+  }
+
+  private readonly dispatchSegment = (channel: number, density: Float64Array, lastSample: number): void => {
+    const list = this.segmentObservers;
+    for (let i = 0; i < list.length; i++) list[i].onSegment(channel, density, lastSample);
+  };
+
+  private installObservers(a: Analyser, info: StreamInfo, firstSample: number): void {
+    if (this.segmentObservers.length === 0) return;
+    a.observeSegments(this.dispatchSegment);
+    const grid = {
+      settings: { ...a.settings },
+      frequencies: a.frequencies,
+      binHz: a.binHz,
+      snapshotInterval: a.interval,
+      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit })),
+      firstSample,
+    };
+    for (const o of this.segmentObservers) o.onAnalysis(grid);
   }
 
   /** Starts the source with this pipeline as its sink; resolves when the source has started. */
@@ -117,7 +148,9 @@ export class Pipeline implements SourceSink {
   wallTimeAt(sample: number): string {
     const info = this.streamInfo;
     if (!info) return new Date(this.startWallMs || 0).toISOString();
-    return new Date(this.startWallMs + ((sample - info.firstSample) / info.sampleRate) * 1000).toISOString();
+    const ms = this.startWallMs + ((sample - info.firstSample) / info.sampleRate) * 1000;
+    // A label only: clamped into the Date range so an odd start time can never throw here.
+    return new Date(Math.min(Math.max(ms, -8.64e15), 8.64e15)).toISOString();
   }
 
   /** Changes segment/window/overlap/detrend/averaging; takes effect at the next block (estimates restart). */
@@ -146,9 +179,8 @@ export class Pipeline implements SourceSink {
   // ---- SourceSink ----
 
   info(info: StreamInfo): void {
-    if (!(info.sampleRate > 0) || !Number.isFinite(info.sampleRate)) {
-      throw new RangeError(`stream sample rate must be positive, got ${info.sampleRate}`);
-    }
+    const rate = rateProblem(info.sampleRate);
+    if (rate) throw new RangeError(`stream ${rate}`);
     const same =
       this.streamInfo !== undefined &&
       this.streamInfo.sampleRate === info.sampleRate &&
@@ -161,6 +193,7 @@ export class Pipeline implements SourceSink {
       this.startWallMs = Number.isFinite(start) ? start : Date.now();
       this.conditioner = new Conditioner(info.channels);
       this.analyser = new Analyser(info, this.choice, this.averagingSpec, this.snapshotRate, info.firstSample);
+      this.installObservers(this.analyser, info, info.firstSample);
       this.units = info.channels.map(() => new Float64Array(0));
       this.queue = this.mode === 'bounded' ? new BlockQueue(this.queueCapacity, info.channels.length) : undefined;
       this.count.queueCapacity = this.mode === 'bounded' ? this.queueCapacity : 0;
@@ -292,27 +325,74 @@ export class Pipeline implements SourceSink {
       this.choice = choice;
       this.averagingSpec = averaging;
       this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start);
+      this.installObservers(this.analyser, info, firstSample + start);
     }
     const n = frames - start;
     const first = firstSample + start;
     const units = this.units;
     for (let c = 0; c < units.length; c++) if (units[c].length < n) units[c] = new Float64Array(Math.max(n, units[c].length * 2));
     const cond = this.conditioner!;
-    cond.condition(raw, start, n, first, units);
+    const nonFinite = cond.condition(raw, start, n, first, units);
     this.count.blocks++;
     this.count.samples += n;
     this.count.lastSample = first + n - 1;
     this.expected = first + n;
-    const calibrated: CalibratedBlock = { firstSample: first, frames: n, data: units };
-    this.emitter.emit('block', calibrated);
-    for (let c = 0; c < units.length; c++) {
+    if (nonFinite === 0) {
+      this.emitter.emit('block', { firstSample: first, frames: n, data: units });
+      this.emitClips(cond);
+      this.analyser!.process(units, first, n, this.onInstant);
+      return;
+    }
+    // Rare path: split the block into runs of whole finite frames and runs of excluded frames.
+    this.emitClips(cond);
+    forEachFiniteRun(units, 0, n, (from, to, finite) => {
+      if (!finite) {
+        this.excludeNonFinite({ sample: first + from, frames: to - from, channels: cond.nonFiniteChannels(units, from, to) });
+        return;
+      }
+      const data = from === 0 ? units : units.map((u) => u.subarray(from));
+      const calibrated: CalibratedBlock = { firstSample: first + from, frames: to - from, data };
+      this.emitter.emit('block', calibrated);
+      this.analyser!.process(data, first + from, to - from, this.onInstant);
+    });
+  }
+
+  private emitClips(cond: Conditioner): void {
+    for (let c = 0; c < this.units.length; c++) {
       const clip = cond.clipNotice(c);
       if (!clip) continue;
       this.count.clippedSamples[c] += clip.count;
       this.emitter.emit('clip', clip);
       for (const d of this.detectors) if (d.onClip) this.emitAll(d.onClip(clip));
     }
-    this.analyser!.process(units, first, n, this.onInstant);
+  }
+
+  /** Non-finite frames are a counted fault: subscribers see a gap there (recordings end their file, estimates drop
+   * the partial segment), detectors see the fault itself (the 'nonfinite' health alarm). */
+  private excludeNonFinite(notice: NonFiniteNotice): void {
+    this.count.nonfiniteFrames += notice.frames;
+    this.count.lastNonfiniteSample = notice.sample;
+    this.analyser!.restartAt(notice.sample + notice.frames);
+    this.emitter.emit('gap', { sample: notice.sample, lost: notice.frames, reason: `non-finite samples on ${notice.channels.join(', ')}` });
+    this.emitter.emit('nonfinite', notice);
+    // The health alarm is the pipeline's own: it must be raised even before any spectrum or baseline exists.
+    if (this.nonfiniteOpen) {
+      this.nonfiniteOpen.frames += notice.frames;
+      return;
+    }
+    this.nonfiniteOpen = { sample: notice.sample, frames: notice.frames };
+    this.emitEvent(makeEvent('nonfinite', 'raised', notice.channels.length === 1 ? notice.channels[0] : '*', notice.sample, this.streamInfo!.sampleRate,
+      this.wallTimeAt(notice.sample),
+      `non-finite sample (NaN, ±Inf or beyond float32) on ${notice.channels.join(', ')} at sample ${notice.sample}; ${notice.frames} frame${notice.frames === 1 ? '' : 's'} excluded like a gap`));
+  }
+
+  /** Clears the non-finite alarm at the first spectrum made wholly after the excluded frames. */
+  private clearNonFinite(sample: number): void {
+    const open = this.nonfiniteOpen;
+    if (!open || sample <= open.sample + open.frames) return;
+    this.nonfiniteOpen = undefined;
+    this.emitEvent(makeEvent('nonfinite', 'cleared', '*', sample, this.streamInfo!.sampleRate, this.wallTimeAt(sample),
+      `finite samples again (${open.frames} frame${open.frames === 1 ? '' : 's'} excluded)`));
   }
 
   private readonly onInstant = (sample: number): void => {
@@ -320,5 +400,6 @@ export class Pipeline implements SourceSink {
     this.count.snapshots++;
     this.emitter.emit('snapshot', snap);
     for (const d of this.detectors) this.emitAll(d.onSnapshot(snap));
+    this.clearNonFinite(sample);
   };
 }

@@ -1,8 +1,8 @@
 // What the pipeline hands to its subscribers and detectors. Time is sample time: every item carries the index of
 // a sample and t = sample / sampleRate; wallTime is a label derived from the stream's start wall time.
-import type { FloorlineEvent } from '../core/events.ts';
-import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
-import type { GapNotice, LinkNotice, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
+import type { GapNotice, LinkNotice, StreamInfo } from '../../protocol/stream.ts';
 
 /** One conditioned block in channel units (volts for a calibrated board). Arrays (length ≥ frames) are owned by the pipeline and
  * reused after the 'block' callbacks return: copy what you keep. */
@@ -52,6 +52,16 @@ export interface ClipNotice {
   fullScaleCounts: number;
 }
 
+/** A run of frames holding a non-finite value (NaN, ±Inf, float32 overflow): excluded from everything like a gap. */
+export interface NonFiniteNotice {
+  /** First excluded sample index. */
+  sample: number;
+  /** Frames excluded. */
+  frames: number;
+  /** Channels with a non-finite value in the run. */
+  channels: string[];
+}
+
 /** Whole blocks dropped because analysis fell behind the source. */
 export interface OverrunNotice {
   /** First dropped sample index. */
@@ -60,7 +70,7 @@ export interface OverrunNotice {
   droppedBlocks: number;
 }
 
-/** The hook for agent/alarms: each call returns the events it raises or clears (possibly none). */
+/** The hook for agent/rules: each call returns the events it raises or clears (possibly none). */
 export interface Detector {
   onInfo?(info: StreamInfo): void;
   onSnapshot(snapshot: SpectrumSnapshot): FloorlineEvent[];
@@ -68,6 +78,27 @@ export interface Detector {
   onLink?(link: LinkNotice): FloorlineEvent[];
   onClip?(clip: ClipNotice): FloorlineEvent[];
   onOverrun?(overrun: OverrunNotice): FloorlineEvent[];
+}
+
+/** What a segment observer is told when an analysis (re)starts: the grid of the estimates that follow. */
+export interface AnalysisGrid {
+  settings: AnalysisSettings;
+  frequencies: Float64Array;
+  binHz: number;
+  /** Samples between snapshot instants. */
+  snapshotInterval: number;
+  channels: readonly { name: string; unit: string }[];
+  firstSample: number;
+}
+
+/**
+ * Told of every Welch segment of every channel as it completes, with the segment's own one-sided density
+ * (unit²/Hz, a reused buffer valid only during the call) and the absolute index of its last sample. The
+ * per-segment values let a consumer average exactly the segments that end inside an interval.
+ */
+export interface SegmentObserver {
+  onAnalysis(grid: AnalysisGrid): void;
+  onSegment(channel: number, density: Float64Array, lastSample: number): void;
 }
 
 export interface PipelineEvents {
@@ -79,6 +110,7 @@ export interface PipelineEvents {
   link: LinkNotice;
   clip: ClipNotice;
   overrun: OverrunNotice;
+  nonfinite: NonFiniteNotice;
   end: { sample: number };
 }
 
@@ -93,6 +125,9 @@ export interface PipelineCounters {
   droppedBlocks: number;
   droppedSamples: number;
   clippedSamples: number[];
+  /** Frames excluded because they held a non-finite value, and the first sample of the latest such run (-1: none). */
+  nonfiniteFrames: number;
+  lastNonfiniteSample: number;
   events: number;
   queueDepth: number;
   queueCapacity: number;

@@ -4,8 +4,8 @@
 // says so, analysis carries on. Every open file is flushed (samples written, header sizes patched) every
 // flushMs of wall time, so a crash loses at most that much.
 import { join, relative } from 'node:path';
-import type { FloorlineEvent } from '../core/events.ts';
-import type { StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import type { DataFolder } from '../config/data-folder.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { CalibratedBlock } from '../pipeline/types.ts';
@@ -60,6 +60,8 @@ interface OpenFile {
 
 interface ActiveCapture extends OpenFile {
   endSample: number; // last sample to include
+  /** What triggered it (incident and channel): only a later alarm of the same label extends it. */
+  label: string;
   promise: Promise<{ file: string; frames: number }>;
   resolve: (r: { file: string; frames: number }) => void;
   reject: (e: Error) => void;
@@ -147,8 +149,9 @@ export class Recorder {
     if (!info || !ring || !this.pipeline) throw new Error('Recorder.capture: no stream yet; attach the recorder and start the source first');
     const rate = info.sampleRate;
     const endSample = triggerSample + Math.round(this.postSeconds * rate);
-    // An alarm on another channel inside a capture still being written extends that capture instead of a new file.
-    const running = this.captures.find((c) => c.endSample >= triggerSample && c.firstSample <= triggerSample);
+    // A later alarm of the same incident and channel inside a capture still being written extends it; another
+    // incident gets a file named after itself, even when the spans overlap.
+    const running = this.captures.find((c) => c.label === label && c.endSample >= triggerSample && c.firstSample <= triggerSample);
     if (running) {
       running.endSample = Math.max(running.endSample, endSample);
       return { file: running.file, firstSample: running.firstSample, done: running.promise };
@@ -168,7 +171,7 @@ export class Recorder {
       const writer = new WavWriter(path, this.metadata(firstSample, `capture: ${label}`), { durable: this.durable });
       const held = ring.copyFrom(firstSample, this.scratch);
       if (held > 0) writer.append(this.scratch, held);
-      const cap: ActiveCapture = { writer, file, firstSample, endSample, promise, resolve, reject };
+      const cap: ActiveCapture = { writer, file, firstSample, endSample, label, promise, resolve, reject };
       this.captures.push(cap);
       if (ring.nextSample > endSample) this.finishCapture(cap);
     } catch (err) {
@@ -207,7 +210,10 @@ export class Recorder {
     const p = this.pipeline!;
     return {
       sampleRate: info.sampleRate,
-      channels: info.channels.map((c) => ({ name: c.name, unit: c.unit, scale: c.scale, fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined })),
+      channels: info.channels.map((c) => ({
+        name: c.name, unit: c.unit, scale: c.scale, fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined,
+        ...(c.calibration ? { gain: c.calibration.gain, calibration: c.calibration } : {}),
+      })),
       source: { kind: info.source.kind, label: info.source.label },
       boardId: info.boardId,
       firstSample,

@@ -21,22 +21,33 @@ function cookieValue(header: string | undefined, name: string): string | undefin
   if (!header) return undefined;
   for (const part of header.split(';')) {
     const eq = part.indexOf('=');
-    if (eq > 0 && part.slice(0, eq).trim() === name) return decodeURIComponent(part.slice(eq + 1).trim());
+    if (eq > 0 && part.slice(0, eq).trim() === name) {
+      try {
+        return decodeURIComponent(part.slice(eq + 1).trim());
+      } catch {
+        return undefined; // not valid percent-encoding: treated as no cookie, so the request gets a plain 401
+      }
+    }
   }
   return undefined;
 }
 
-function hostnameOf(hostHeader: string): string {
-  if (hostHeader.startsWith('[')) return hostHeader.slice(0, hostHeader.indexOf(']') + 1);
-  const colon = hostHeader.lastIndexOf(':');
-  return colon >= 0 ? hostHeader.slice(0, colon) : hostHeader;
+/** The host name of a Host header, or null unless it is exactly `name[:port]` or `[v6][:port]`: anything else
+ * (`127.0.0.1:80@evil.example`, spaces, a path) is refused rather than guessed at. */
+export function hostnameOf(hostHeader: string): string | null {
+  const m = /^(\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9.-]+)(?::(\d{1,5}))?$/.exec(hostHeader);
+  if (!m) return null;
+  if (m[2] !== undefined && Number(m[2]) > 65535) return null;
+  return m[1]!;
 }
 
 export function checkAccess(req: IncomingMessage, url: URL, options: ServerOptions): AccessVerdict {
   const host = req.headers.host;
   if (!host) return { ok: false, status: 403, reason: 'request has no Host header' };
+  const hostname = hostnameOf(host);
+  if (hostname === null) return { ok: false, status: 403, reason: 'Host header is not name[:port]' };
   // Bound to loopback, only loopback names may reach us: a rebinding DNS name pointing at 127.0.0.1 is refused.
-  if (isLoopbackHost(options.host) && !isLoopbackHost(hostnameOf(host))) {
+  if (isLoopbackHost(options.host) && !isLoopbackHost(hostname)) {
     return { ok: false, status: 403, reason: `Host '${host}' is not a loopback name; open the dashboard at http://127.0.0.1:PORT/` };
   }
   const origin = req.headers.origin;

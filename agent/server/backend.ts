@@ -1,11 +1,11 @@
 // What the server needs from the rest of the agent, and nothing more. The pipeline (live, demo or replay) adapts
 // itself to this; tests use a small double of it. Shapes are structural: the pipeline's SpectrumSnapshot and
 // CalibratedBlock satisfy ServerSnapshot and ServerBlock as they are.
-import type { FloorlineEvent, EventRule } from '../core/events.ts';
-import type { AnalysisSettings, AveragingSpec } from '../core/settings.ts';
-import type { StreamInfo } from '../core/stream.ts';
-import type { AgentStatus, RecordingState } from '../wire/messages.ts';
-import type { LowFrequencyContext, LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
+import type { FloorlineEvent, EventRule } from '../../protocol/events.ts';
+import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
+import type { AgentStatus, RecordingState } from '../../protocol/messages.ts';
+import type { LowFrequencyContext, LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 
 export interface ServerSnapshot {
   /** Index of the last sample the estimate used; t = sample / sampleRate. */
@@ -71,10 +71,14 @@ export class BackendRefusal extends Error {
 export interface ServerBackend {
   /** Absolute path of the data folder: the only place client-named files are read from or written to. */
   readonly dataRoot: string;
+  /** The history store the session writes (read by /api/trend and /api/incidents; notes go in through it). */
+  readonly history?: HistoryAccess;
   /** Registers a subscriber; returns the function that removes it. */
   subscribe(subscriber: BackendSubscriber): () => void;
   streamInfo(): StreamInfo | null;
   status(): BackendStatus;
+  /** Liveness for GET /healthz: samples arriving and analysis keeping up. */
+  health?(): { ok: boolean; reason: string };
   latestSnapshot(): ServerSnapshot | null;
   baseline(): BaselineOverlay | null;
   /** Newest events, oldest first, at most `limit`. */
@@ -89,4 +93,11 @@ export interface ServerBackend {
   acknowledge(ref: AlarmRef): boolean;
   /** The low-frequency context and newest update, for a client that connects later (absent: no such view). */
   lowFrequencyLatest?(): { context: LowFrequencyContext; update: LowFrequencyUpdate | null } | null;
+}
+
+export interface HistoryAccess {
+  /** The store file. */
+  path: string;
+  /** Adds an operator note at the current sample; returns where it was stamped. */
+  note(text: string, incident?: string): { sample: number; t: number; wallTime: string };
 }

@@ -1,7 +1,7 @@
 // Turns backend output into wire frames once and offers them to every client (latest-wins per client).
 import type { ServerBlock, ServerSnapshot, BaselineOverlay } from './backend.ts';
-import { encodeFrame, frameBytes, type FrameKindName } from '../wire/frame.ts';
-import type { ServerMessage } from '../wire/messages.ts';
+import { encodeFrame, frameBytes, type FrameKindName } from '../../protocol/frame.ts';
+import type { ServerMessage } from '../../protocol/messages.ts';
 import { FramePool, type PooledFrame } from './frame-pool.ts';
 import { TraceRing } from './trace-ring.ts';
 import type { ClientConnection } from './client.ts';

@@ -1,6 +1,7 @@
 // Flags of the commands that serve the dashboard (run, replay, demo). The HTTP port flag is --http-port because
 // `run --port` names the serial device.
 import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
+import { registerSecret } from '../service/log-lines.ts';
 import { DEFAULT_HOST, DEFAULT_HTTP_PORT, type ServerOptions } from './options.ts';
 
 export const SERVER_FLAGS: FlagSpec[] = [
@@ -12,6 +13,7 @@ export const SERVER_FLAGS: FlagSpec[] = [
 export function serverOptionsFromArgs(args: ParsedArgs, assetsDir: string): Partial<ServerOptions> & { assetsDir: string } {
   const f = args.flags;
   const token = (f.token as string | undefined) ?? process.env.FLOORLINE_TOKEN;
+  registerSecret(token);
   return {
     assetsDir,
     port: f['http-port'] as number,

@@ -2,8 +2,8 @@
 // replaces the waiting one and the replaced frame is counted as skipped, so a slow client never slows the agent
 // and never grows a queue; frames of one kind are also paced to a display rate. JSON messages (replies, events, status) are small and always sent in order.
 import type { WebSocket } from 'ws';
-import type { ServerMessage } from '../wire/messages.ts';
-import type { FrameKindName } from '../wire/frame.ts';
+import type { ServerMessage } from '../../protocol/messages.ts';
+import type { FrameKindName } from '../../protocol/frame.ts';
 import type { PooledFrame } from './frame-pool.ts';
 
 interface Lane {

@@ -1,5 +1,5 @@
 // Carries out one validated client request against the backend and builds the reply.
-import type { ClientMessage, ReplyMessage, SpectrumContext, AgentStatus, WireError } from '../wire/messages.ts';
+import type { ClientMessage, ReplyMessage, SpectrumContext, AgentStatus, WireError } from '../../protocol/messages.ts';
 import { BackendRefusal, type ServerBackend } from './backend.ts';
 
 export interface ControlDeps {
@@ -38,6 +38,11 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
       case 'acknowledge': {
         const acknowledged = backend.acknowledge({ rule: m.rule, channel: m.channel, band: m.band });
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { acknowledged } };
+      }
+      case 'note': {
+        if (!backend.history) throw new BackendRefusal('failed', 'this agent keeps no history store; notes need one (start it without --no-history)');
+        const stamped = backend.history.note(m.text, m.incident);
+        return { type: 'reply', id: m.id, request: m.type, ok: true, result: stamped };
       }
       case 'get-status':
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { status: deps.status() } };

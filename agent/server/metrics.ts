@@ -2,7 +2,7 @@
 // stream counters; never one series per FFT bin. Rules followed (OpenMetrics 1.0 spec, "Text format"):
 // counters are exposed as NAME_total under "# TYPE NAME counter"; a family with a unit ends in _UNIT and
 // declares "# UNIT"; label values escape \ " and newline; the exposition ends with "# EOF".
-import type { AgentStatus, BandRow } from '../wire/messages.ts';
+import type { AgentStatus, BandRow } from '../../protocol/messages.ts';
 
 export const OPENMETRICS_CONTENT_TYPE = 'application/openmetrics-text; version=1.0.0; charset=utf-8';
 
@@ -113,6 +113,22 @@ export function renderMetrics(status: AgentStatus, version: string): string {
   }
   x.family('floorline_dashboard_clients', 'gauge', 'Connected dashboard clients.');
   x.sample('floorline_dashboard_clients', {}, status.clients.connected);
+  if (status.disk) {
+    const d = status.disk;
+    const gauges: [string, string, number, string?][] = [
+      ['floorline_disk_used_bytes', 'Bytes of recordings and captures kept in the data folder.', d.usedBytes, 'bytes'],
+      ['floorline_disk_free_bytes', "Bytes free on the data folder's file system.", d.freeBytes, 'bytes'],
+      ['floorline_disk_min_free_bytes', 'Free-space floor below which continuous recording pauses.', d.minFreeBytes, 'bytes'],
+      ['floorline_history_days', 'Days of recordings held (oldest kept file to now).', d.historyDays, 'days'],
+      ['floorline_recording_paused', '1 while continuous recording is paused by the free-space floor.', d.paused ? 1 : 0],
+    ];
+    for (const [name, help, v, unit] of gauges) {
+      x.family(name, 'gauge', help, unit);
+      x.sample(name, {}, v);
+    }
+    x.family('floorline_retention_deleted_files', 'counter', 'Recording files deleted by the retention quotas.');
+    x.sample('floorline_retention_deleted_files_total', {}, d.deletedFiles);
+  }
   x.family('floorline_recording_active', 'gauge', '1 while a continuous recording is being written.');
   x.sample('floorline_recording_active', {}, status.recording.state === 'recording' ? 1 : 0);
   x.family('floorline_recording_failed', 'gauge', '1 when recording was asked for but writing failed (analysis goes on).');

@@ -3,23 +3,23 @@
 // server works with whatever a command has wired and says "unsupported" for the rest.
 import { writeFile } from 'node:fs/promises';
 import { mkdirSync } from 'node:fs';
-import type { FloorlineEvent } from '../core/events.ts';
-import { firstSettingMismatch } from '../core/settings.ts';
-import type { SourceCounters, StreamInfo } from '../core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import { firstSettingMismatch } from '../../protocol/settings.ts';
+import type { SourceCounters, StreamInfo } from '../../protocol/stream.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { SpectrumSnapshot } from '../pipeline/types.ts';
 import type { DataFolder } from '../config/data-folder.ts';
-import type { AgentStatus, AlarmRow, BandRow, RecordingState, ReplayState } from '../wire/messages.ts';
+import type { AgentStatus, AlarmRow, DiskState, BandRow, RecordingState, ReplayState } from '../../protocol/messages.ts';
 import { BaselineCapture } from '../baseline/capture.ts';
 import type { BaselineFile } from '../baseline/format.ts';
-import { defaultBands } from '../alarms/default-bands.ts';
-import type { DetectorStatus } from '../alarms/detectors.ts';
+import { defaultBands } from '../rules/default-bands.ts';
+import type { DetectorStatus } from '../rules/detectors.ts';
 import { bandBins } from '../../dsp/bands.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import type { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
-import type { LowFrequencyUpdate } from '../wire/low-frequency-messages.ts';
+import type { LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 import { LatestPacer } from '../lowfreq/latest-pacer.ts';
-import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type ServerBackend } from './backend.ts';
+import { BackendRefusal, type AlarmRef, type AnalysisChange, type BackendStatus, type BackendSubscriber, type BaselineOverlay, type HistoryAccess, type ServerBackend } from './backend.ts';
 
 export interface RecorderHooks {
   start(): Promise<RecordingState>;
@@ -48,6 +48,12 @@ export interface PipelineBackendOptions {
   eventHistory?: number;
   /** The live low-frequency view fed from the same pipeline (updates to clients at most 10 a second). */
   lowFrequency?: LiveLowFrequency;
+  /** Liveness verdict for GET /healthz. */
+  health?: () => { ok: boolean; reason: string };
+  /** Disk accounting of the retention keeper, when there is one. */
+  disk?: () => DiskState;
+  /** The session's history store, when it keeps one. */
+  history?: HistoryAccess;
 }
 
 const DB = (ratio: number): number => 10 * Math.log10(ratio);
@@ -64,6 +70,7 @@ function median(psd: Float64Array, first: number, last: number, scratch: Float64
 
 export class PipelineBackend implements ServerBackend {
   readonly dataRoot: string;
+  readonly history?: HistoryAccess;
   private readonly o: PipelineBackendOptions;
   private last: SpectrumSnapshot | null = null;
   private readonly events: FloorlineEvent[] = [];
@@ -76,6 +83,7 @@ export class PipelineBackend implements ServerBackend {
   constructor(o: PipelineBackendOptions) {
     this.o = o;
     this.dataRoot = o.data.root;
+    this.history = o.history;
     const p = o.pipeline;
     p.on('info', (i) => this.subscribers.forEach((s) => s.info(i)));
     p.on('snapshot', (s) => {
@@ -152,7 +160,7 @@ export class PipelineBackend implements ServerBackend {
 
   /** One row per alarm: per band for band rules, per line (harmonic or 0.1 Hz) for mains and spur, else per channel. */
   private trackAlarm(e: FloorlineEvent): void {
-    if (e.kind !== 'alarm') return;
+    if (e.kind !== 'alarm' || e.state === 'settled') return; // settled restates a raised alarm's level
     const line = e.rule === 'mains' ? `h${e.harmonic ?? ''}` : e.rule === 'spur' && e.frequency !== undefined ? e.frequency.toFixed(1) : '';
     const key = `${e.rule}|${e.channel}|${e.band ? e.band.join('-') : ''}|${line}`;
     const prev = this.alarmRows.get(key);
@@ -222,6 +230,10 @@ export class PipelineBackend implements ServerBackend {
     return rows;
   }
 
+  health(): { ok: boolean; reason: string } {
+    return this.o.health?.() ?? { ok: true, reason: 'no health checks configured' };
+  }
+
   status(): BackendStatus {
     const p = this.o.pipeline;
     const info = p.stream;
@@ -248,6 +260,7 @@ export class PipelineBackend implements ServerBackend {
       bands: this.bandRows(),
       alarms: [...this.alarmRows.values()],
       ...(this.o.lowFrequency ? { lowFrequency: this.o.lowFrequency.status() } : {}),
+      ...(this.o.disk ? { disk: this.o.disk() } : {}),
     };
   }
 

@@ -3,20 +3,23 @@
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import type { ParsedArgs } from '../cli/args.ts';
-import type { Source } from '../core/stream.ts';
+import type { Source } from '../../protocol/stream.ts';
 import type { DataFolder } from '../config/data-folder.ts';
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { Recorder } from '../recorder/recorder.ts';
 import type { ReplaySource } from '../sources/replay.ts';
-import type { RecordingState } from '../wire/messages.ts';
+import type { RecordingState } from '../../protocol/messages.ts';
 import { PipelineBackend } from './pipeline-backend.ts';
 import { startServer } from './server.ts';
 import { defaultAssetsDir, serverOptionsFromArgs } from './cli-flags.ts';
 import { ServerConfigError } from './options.ts';
 import type { Detector } from '../pipeline/types.ts';
-import { AlarmHook } from '../alarms/alarm-hook.ts';
+import { AlarmHook } from '../rules/alarm-hook.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
+import type { History } from '../store/attach.ts';
+import type { RetentionKeeper } from '../retention/retention.ts';
+import { HealthWatch } from '../service/health.ts';
 
 export interface ServeWiring {
   pipeline: Pipeline;
@@ -36,8 +39,10 @@ function recordingState(s: { state: RecordingState['state']; file?: string; erro
   return { state: s.state, ...(s.file ? { file: s.file } : {}), ...(s.error ? { error: s.error } : {}) };
 }
 
-export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; recorder: Recorder | undefined }) => Promise<{ url: string; close(): Promise<void> }> {
-  return async ({ folder, recorder }) => {
+export function serveDashboard(
+  w: ServeWiring,
+): (ctx: { folder: DataFolder; recorder: Recorder | undefined; history: History | undefined; retention?: RetentionKeeper }) => Promise<{ url: string; close(): Promise<void> }> {
+  return async ({ folder, recorder, history, retention }) => {
     const assetsDir = w.assetsDir ?? defaultAssetsDir();
     if (!existsSync(join(assetsDir, 'index.html'))) {
       throw new ServerConfigError(`the dashboard is not built (${assetsDir}index.html is missing); run \`npm run build\`, or pass --no-server.`);
@@ -47,7 +52,10 @@ export function serveDashboard(w: ServeWiring): (ctx: { folder: DataFolder; reco
     const backend = new PipelineBackend({
       pipeline: w.pipeline,
       lowFrequency: new LiveLowFrequency().attach(w.pipeline),
+      disk: retention ? () => retention.status() : undefined,
+      health: ((h) => () => h.check())(new HealthWatch(w.pipeline)),
       data: folder,
+      history: history ? { path: history.path, note: (text, incident) => history.note(text, incident) } : undefined,
       sourceCounters: () => w.source.counters(),
       replay: r
         ? () => {

@@ -3,8 +3,8 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
-import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../wire/messages.ts';
-import { parseClientMessage } from '../wire/validate.ts';
+import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
+import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
 import { resolveServerOptions, ServerConfigError, type ServerOptions } from './options.ts';
@@ -13,6 +13,7 @@ import { ClientConnection } from './client.ts';
 import { handleRequest } from './control.ts';
 import { renderMetrics, OPENMETRICS_CONTENT_TYPE } from './metrics.ts';
 import { sendError, sendFileInside } from './static-files.ts';
+import { handleHistoryApi } from '../store/api.ts';
 
 export const AGENT_VERSION = '0.1.0';
 const EVENTS_ON_CONNECT = 200;
@@ -34,6 +35,15 @@ const SECURITY_HEADERS = {
   'x-frame-options': 'DENY',
   'content-security-policy': "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; connect-src 'self'; frame-ancestors 'none'",
 };
+
+/** The request target as a URL, or null when it does not parse (checked before anything else reads it). */
+function requestUrl(req: IncomingMessage): URL | null {
+  try {
+    return new URL(req.url ?? '/', 'http://agent.invalid');
+  } catch {
+    return null;
+  }
+}
 
 function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): SpectrumContext {
   return {
@@ -108,7 +118,11 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   function onRequest(req: IncomingMessage, res: ServerResponse): void {
     for (const [k, v] of Object.entries(SECURITY_HEADERS)) res.setHeader(k, v);
-    const url = new URL(req.url ?? '/', 'http://agent.invalid');
+    const url = requestUrl(req);
+    if (!url) {
+      sendError(res, 400, 'bad-url', 'request target is not a valid path');
+      return;
+    }
     const verdict = checkAccess(req, url, options);
     if (!verdict.ok) {
       sendError(res, verdict.status, verdict.status === 401 ? 'token' : 'forbidden', verdict.reason);
@@ -122,10 +136,17 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     }
     const head = req.method === 'HEAD';
     const path = url.pathname;
-    if (path === '/api/status') {
+    if (path === '/healthz') {
+      // For supervisors: 200 while samples arrive and analysis keeps up, else 503 with the reason.
+      const h = backend.health?.() ?? { ok: true, reason: 'no health checks' };
+      res.writeHead(h.ok ? 200 : 503, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
+      res.end(head ? undefined : JSON.stringify({ ok: h.ok, reason: h.reason }));
+    } else if (path === '/api/status') {
       const body = JSON.stringify(status());
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);
+    } else if (handleHistoryApi(path, url, res, head, backend.history?.path)) {
+      // /api/trend, /api/incidents: answered from the history store
     } else if (path === '/metrics') {
       res.writeHead(200, { 'content-type': OPENMETRICS_CONTENT_TYPE, 'cache-control': 'no-store' });
       res.end(head ? undefined : renderMetrics(status(), AGENT_VERSION));
@@ -148,10 +169,14 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   }
 
   httpServer.on('upgrade', (req, socket, head) => {
-    const url = new URL(req.url ?? '/', 'http://agent.invalid');
-    const verdict = url.pathname === '/ws' ? checkAccess(req, url, options) : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
+    const url = requestUrl(req);
+    const verdict = !url
+      ? ({ ok: false, status: 400, reason: 'request target is not a valid path' } as const)
+      : url.pathname === '/ws'
+        ? checkAccess(req, url, options)
+        : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
     if (!verdict.ok) {
-      const text = verdict.status === 401 ? 'Unauthorized' : 'Forbidden';
+      const text = verdict.status === 401 ? 'Unauthorized' : verdict.status === 400 ? 'Bad Request' : 'Forbidden';
       socket.end(`HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`);
       return;
     }

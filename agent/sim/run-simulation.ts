@@ -49,7 +49,10 @@ export class Simulation {
     const p = this.player;
     const writer = new WavWriter(path, {
       sampleRate: s.rate,
-      channels: s.channels.map((c) => ({ name: c.name, unit: c.unit, scale: c.perCount, fullScaleCounts: c.fullScale })),
+      channels: s.channels.map((c) => ({
+        name: c.name, unit: c.unit, scale: c.perCount, fullScaleCounts: c.fullScale,
+        ...(c.gain !== undefined ? { gain: c.gain } : {}), ...(c.budget ? { budget: c.budget } : {}),
+      })),
       source: { kind: 'simulator', label: `${s.board} (seed ${this.o.seed})` },
       boardId: s.board,
       firstSample: 0,

@@ -18,7 +18,20 @@ export interface ChannelSpec {
   perCount: number;
   /** Peak counts at the converter's end codes. */
   fullScale: number;
+  /** Front-end gain ahead of the converter, V/V (recorded in the WAV metadata; the signals are at the converter). */
+  gain?: number;
+  /** The channel's noise budget at the amplifier input (recorded in the WAV metadata). */
+  budget?: ChannelBudget;
   signals: SignalSpec[];
+}
+
+export interface ChannelBudget {
+  /** Source resistance, Ω, and its temperature, K. */
+  sourceOhms: number;
+  kelvin: number;
+  /** Amplifier input voltage density, V/√Hz, and current density, A/√Hz. */
+  amplifierDensity: number;
+  amplifierCurrent: number;
 }
 
 export interface LinkFaults {
@@ -87,6 +100,17 @@ class Checker {
 }
 
 const SIGNAL_KINDS = ['white', 'flicker', 'tone', 'mains', 'band-step', 'overload'];
+
+function parseBudget(ck: Checker, v: unknown, path: string): ChannelBudget {
+  const o = ck.obj(v, path);
+  ck.keys(o, ['sourceOhms', 'kelvin', 'amplifierDensity', 'amplifierCurrent'], path);
+  return {
+    sourceOhms: ck.num(o, 'sourceOhms', path, { above: 0 }),
+    kelvin: ck.num(o, 'kelvin', path, { above: 0 }),
+    amplifierDensity: ck.num(o, 'amplifierDensity', path, { min: 0 }),
+    amplifierCurrent: o.amplifierCurrent === undefined ? 0 : ck.num(o, 'amplifierCurrent', path, { min: 0 }),
+  };
+}
 
 function parseSignal(ck: Checker, v: unknown, path: string, rate: number): SignalSpec {
   const o = ck.obj(v, path);
@@ -198,7 +222,7 @@ export function parseScenario(text: string, where: string): Scenario {
   const channels = channelsRaw.map((c, i): ChannelSpec => {
     const p = `channels[${i}]`;
     const co = ck.obj(c, p);
-    ck.keys(co, ['name', 'unit', 'perCount', 'fullScale', 'signals'], p);
+    ck.keys(co, ['name', 'unit', 'perCount', 'fullScale', 'gain', 'budget', 'signals'], p);
     const fullScale = co.fullScale === undefined && Number.isFinite(limit) ? limit : ck.num(co, 'fullScale', p, { above: 0 });
     if (fullScale > limit) ck.fail(`${p}.fullScale`, `is ${fullScale}, more than ${format} holds (${limit})`);
     return {
@@ -206,6 +230,8 @@ export function parseScenario(text: string, where: string): Scenario {
       unit: ck.str(co, 'unit', p, 'V'),
       perCount: ck.num(co, 'perCount', p, { above: 0 }),
       fullScale,
+      ...(co.gain !== undefined ? { gain: ck.num(co, 'gain', p, { above: 0 }) } : {}),
+      ...(co.budget !== undefined ? { budget: parseBudget(ck, co.budget, `${p}.budget`) } : {}),
       signals: ck.arr(co, 'signals', p).map((s, k) => parseSignal(ck, s, `${p}.signals[${k}]`, rate)),
     };
   });

@@ -4,7 +4,7 @@
 // sample count across the seam, which is announced as a zero-length gap so estimates restart cleanly there.
 import { statSync } from 'node:fs';
 import { basename } from 'node:path';
-import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
 import { nextFileOfRun } from './rotated-run.ts';
 
@@ -42,7 +42,7 @@ function channelInfo(info: WavInfo): ChannelInfo[] {
     let fullScale = Infinity;
     if (meta?.fullScaleCounts !== undefined && meta.scale !== undefined) fullScale = meta.fullScaleCounts * meta.scale;
     else if (isInt) fullScale = c.factor * 2 ** (info.format.bytesPerSample * 8 - 1);
-    return { name: c.name, unit: c.unit, scale: 1, fullScaleCounts: fullScale };
+    return { name: c.name, unit: c.unit, scale: 1, fullScaleCounts: fullScale, ...(meta?.calibration ? { calibration: meta.calibration } : {}) };
   });
 }
 

@@ -6,7 +6,7 @@ import type { SampleFrame } from '../framing/decoder.ts';
 import type { BoardDescriptor } from '../framing/descriptor.ts';
 import { bytesPerSample } from '../framing/protocol.ts';
 import { decodeInterleaved } from '../framing/samples.ts';
-import type { ChannelInfo, SourceSink, StreamInfo } from '../core/stream.ts';
+import type { ChannelInfo, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 
 /** Bytes of sample frames held while waiting for the first descriptor. */
 export const MAX_HELD_BYTES = 4 * 1024 * 1024;

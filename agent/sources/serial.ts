@@ -3,7 +3,7 @@
 // unplug/replug (the board's sequence counter turns what was missed into a gap), and reconnects with backoff.
 import { existsSync } from 'node:fs';
 import { SerialPort } from 'serialport';
-import type { Source, SourceCounters, SourceSink } from '../core/stream.ts';
+import type { Source, SourceCounters, SourceSink } from '../../protocol/stream.ts';
 import { FrameDecoder } from '../framing/decoder.ts';
 import { encodeDescribeRequest } from '../framing/encoder.ts';
 import { startupChecks } from './linux-checks.ts';

@@ -1,6 +1,6 @@
 // Text mode: rows become blocks at the rate given on the command line. The first row (or header line) fixes the
 // channels; there is no sequence counter, so a reconnect is a gap of unknown length (reported as lost: 0).
-import type { SourceSink, StreamInfo } from '../core/stream.ts';
+import type { SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { TextLineDecoder } from '../framing/text-decoder.ts';
 
 type Out = Pick<SourceSink, 'info' | 'block' | 'gap'>;

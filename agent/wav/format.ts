@@ -1,6 +1,7 @@
 // The 'fmt ' chunk: which sample encodings we decode, and how to recognise them.
 // Sources: Microsoft "Multimedia Programming Interface and Data Specifications 1.0" (1991) for RIFF/WAVE and
 // WAVEFORMATEX; Microsoft "WAVEFORMATEXTENSIBLE" (KSDATAFORMAT_SUBTYPE_* GUIDs); EBU Tech 3306 (RF64).
+import { MAX_CHANNELS, rateProblem } from '../../protocol/limits.ts';
 import { WavError } from './errors.ts';
 
 export const WAVE_FORMAT_PCM = 0x0001;
@@ -84,6 +85,10 @@ export function parseFmtChunk(body: Uint8Array, path: string): WavFormat {
   }
   if (channels === 0) throw new WavError('WAV_BAD_HEADER', `${path}: the header says 0 channels; the file is damaged.`);
   if (sampleRate === 0) throw new WavError('WAV_BAD_HEADER', `${path}: the header says a sample rate of 0 Hz; the file is damaged.`);
+  // Checked before any buffer is sized by the channel count.
+  if (channels > MAX_CHANNELS) throw new WavError('WAV_UNSUPPORTED', `${path}: the header says ${channels} channels; floorline reads at most ${MAX_CHANNELS}.`);
+  const rate = rateProblem(sampleRate);
+  if (rate) throw new WavError('WAV_UNSUPPORTED', `${path}: the header's ${rate}.`);
 
   let encoding: SampleEncoding | undefined;
   if (formatTag === WAVE_FORMAT_PCM) {

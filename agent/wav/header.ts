@@ -4,6 +4,7 @@
 import type { FileHandle } from 'node:fs/promises';
 import { WavError } from './errors.ts';
 import { parseFmtChunk, type WavFormat } from './format.ts';
+import { MAX_METADATA_BYTES } from '../../protocol/limits.ts';
 import { METADATA_CHUNK_ID, parseMetadataText, type RecordingMetadata } from './metadata.ts';
 
 export type Container = 'RIFF' | 'RF64';
@@ -26,13 +27,16 @@ export interface WavLayout {
   /** Whole frames readable. */
   frames: number;
   embedded?: RecordingMetadata;
+  /** The file carries our embedded metadata: floorline wrote it, so 'data' is its last chunk and every byte after
+   * the data offset is samples (a crash can leave the declared size behind what is on disk). */
+  ours: boolean;
   /** Things the reader tolerated (truncation, unpatched sizes), as sentences. */
   warnings: string[];
 }
 
 const U32_UNSET = 0xffffffff;
-/** Largest metadata chunk we parse; ours are a few KiB. */
-const MAX_METADATA_BYTES = 1 << 20;
+/** Most chunks walked before the data. */
+const MAX_CHUNKS = 1000;
 const MAX_FMT_BYTES = 1024;
 
 async function readExactly(fh: FileHandle, length: number, position: number): Promise<Uint8Array> {
@@ -88,7 +92,10 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
   let embedded: RecordingMetadata | undefined;
 
   let pos = 12;
+  let chunks = 0;
   while (pos + 8 <= fileBytes) {
+    // A real WAV has a handful of chunks; thousands of empty ones are a damaged or hostile file, not worth a walk.
+    if (++chunks > MAX_CHUNKS) throw new WavError('WAV_BAD_HEADER', `${path}: more than ${MAX_CHUNKS} chunks before the samples; the file is damaged.`);
     const ch = await readExactly(fh, 8, pos);
     if (!isChunkId(ch)) {
       // Not a chunk: bytes past the declared data, e.g. samples written after the last header update of a
@@ -113,10 +120,18 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
     } else if (id === 'JUNK' && size >= 28 && ds64Offset < 0 && pos === 12) {
       ds64Offset = body; // reserved room for a future ds64 (EBU Tech 3306 §3.3)
     } else if (id === 'fmt ') {
+      if (format) {
+        throw new WavError('WAV_BAD_HEADER', `${path}: a second 'fmt ' chunk at offset ${pos}; a WAV has one format, the file is damaged.`);
+      }
+      if (body + size > fileBytes) throw new WavError('WAV_BAD_HEADER', `${path}: the 'fmt ' chunk claims ${size} bytes, past the end of the file; the file is damaged.`);
       format = parseFmtChunk(await readExactly(fh, Math.min(size, MAX_FMT_BYTES), body), path);
     } else if (id === 'fact') {
       factOffset = body;
-    } else if (id === METADATA_CHUNK_ID && size <= MAX_METADATA_BYTES) {
+    } else if (id === METADATA_CHUNK_ID && body + size > fileBytes) {
+      throw new WavError('WAV_BAD_HEADER', `${path}: the '${METADATA_CHUNK_ID}' chunk claims ${size} bytes, past the end of the file before any 'data'; the file is damaged.`);
+    } else if (id === METADATA_CHUNK_ID && size > MAX_METADATA_BYTES) {
+      warnings.push(`${path}: its '${METADATA_CHUNK_ID}' chunk claims ${size} bytes, over the ${MAX_METADATA_BYTES} allowed; it was ignored.`);
+    } else if (id === METADATA_CHUNK_ID) {
       const text = new TextDecoder().decode(await readExactly(fh, size, body));
       try {
         embedded = parseMetadataText(text, `${path} ('${METADATA_CHUNK_ID}' chunk)`);
@@ -135,6 +150,18 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
       // An unpatched size (0, or 0xFFFFFFFF in plain RIFF) or one past the end of the file: the rest of the file
       // is the data, and nothing after it can be trusted as chunks.
       if (declared === 0 || (container === 'RIFF' && declared === U32_UNSET) || declared > available) break;
+      if (embedded) {
+        // Ours: nothing follows 'data', so bytes after the declared size are samples, whatever they look like
+        // (small positive float32 samples often read as printable "chunk ids").
+        const beyond = available - declared - (declared & 1);
+        if (beyond >= format.blockAlign) {
+          warnings.push(
+            `${path}: ${beyond} bytes after the declared data are samples written after the last header update of an interrupted recording; ` +
+              '`floorline repair FILE` recovers them.',
+          );
+        }
+        break;
+      }
       pos = body + declared + (declared & 1);
       continue;
     }
@@ -166,6 +193,7 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
     declaredDataBytes: declared,
     frames,
     embedded,
+    ours: embedded !== undefined,
     warnings,
   };
 }

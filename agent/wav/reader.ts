@@ -5,10 +5,12 @@
 // per-count scale, or `scale` (volts per full scale) is given, which makes it "V". Float samples are taken as
 // they are, in the unit our metadata names, else "FS"; `scale` multiplies "FS" float samples into V and is
 // refused for files already calibrated by their metadata.
-import { open, readFile, type FileHandle } from 'node:fs/promises';
+import type { FileHandle } from 'node:fs/promises';
 import { WavError, wavIoError } from './errors.ts';
 import { fullScaleCounts, type WavFormat } from './format.ts';
 import { readWavLayout, type Container, type WavLayout } from './header.ts';
+import { openRegularFile, readSmallTextFile } from './regular-file.ts';
+import { MAX_METADATA_BYTES } from '../../protocol/limits.ts';
 import { sidecarPath, parseMetadataText, type RecordingMetadata } from './metadata.ts';
 import { decodeFrames } from './decode.ts';
 
@@ -56,9 +58,11 @@ export interface WavBlock {
 async function loadSidecar(path: string, warnings: string[]): Promise<RecordingMetadata | undefined> {
   let text: string;
   try {
-    text = await readFile(sidecarPath(path), 'utf8');
-  } catch {
-    return undefined; // no sidecar: normal for files from elsewhere
+    text = await readSmallTextFile(sidecarPath(path), MAX_METADATA_BYTES);
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === 'ENOENT') return undefined; // no sidecar: normal for files from elsewhere
+    warnings.push(`${err instanceof WavError ? err.message : `${sidecarPath(path)}: ${(err as Error).message}`} It was ignored; the samples are read without it.`);
+    return undefined;
   }
   try {
     return parseMetadataText(text, sidecarPath(path));
@@ -129,7 +133,7 @@ export class WavReader {
     }
     let fh: FileHandle;
     try {
-      fh = await open(path, 'r');
+      fh = await openRegularFile(path);
     } catch (err) {
       throw wavIoError(err, path, 'open');
     }

@@ -29,7 +29,8 @@ export async function repairWav(path: string): Promise<RepairResult> {
     const layout = await readWavLayout(fh, path);
     const { blockAlign } = layout.format;
     const declaredEnd = layout.dataOffset + layout.declaredDataBytes;
-    if (layout.declaredDataBytes > 0 && declaredEnd + 8 <= layout.fileBytes) {
+    // Our own recordings put 'data' last, so whatever follows the declared size is samples: no guessing there.
+    if (!layout.ours && layout.declaredDataBytes > 0 && declaredEnd + 8 <= layout.fileBytes) {
       const next = new Uint8Array(8);
       await fh.read(next, 0, 8, declaredEnd + (layout.declaredDataBytes & 1));
       if (isChunkId(next)) {

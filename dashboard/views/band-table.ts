@@ -1,5 +1,5 @@
 // Band table: live RMS, baseline RMS, Δ dB, threshold and state per channel and band, updated in place.
-import type { AlarmCondition, BandRow } from '../../agent/wire/messages.ts';
+import type { AlarmCondition, BandRow } from '../../protocol/messages.ts';
 import { si, fixed, short } from '../format.ts';
 
 const STATE_LABEL: Record<AlarmCondition, string> = {
@@ -43,6 +43,12 @@ export class BandTable {
         si(b.floorDensity, `${unit}/√Hz`),
         STATE_LABEL[b.state],
       ];
+      // Δ is the floor with narrow lines left out: when the whole-band RMS says otherwise, the row says so itself.
+      const allBinsDb = b.baselineRms ? 20 * Math.log10(b.rms / b.baselineRms) : null;
+      if (b.deltaDb !== null && allBinsDb !== null && allBinsDb - b.deltaDb > 1) {
+        cells[4] = `${fixed(b.deltaDb, 2)} floor (${allBinsDb >= 0 ? '+' : ''}${fixed(allBinsDb, 1)} with lines)`;
+      }
+      if (b.state === 'not-judged') cells[7] = 'partly not judged: lines cover the band';
       for (let i = 0; i < 8; i++) if (tr.cells[i].textContent !== cells[i]) tr.cells[i].textContent = cells[i];
       // Exact figures for tests and for copying: the cell shows 3 significant figures.
       tr.cells[2].dataset.value = String(b.rms);

@@ -1,6 +1,6 @@
 // The control panel: display choices act locally; analysis, baseline and recording go to the agent as requests.
-import type { AveragingSpec } from '../../agent/core/settings.ts';
-import type { ReplyMessage, SpectrumContext, AgentStatus } from '../../agent/wire/messages.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import type { ReplyMessage, SpectrumContext, AgentStatus } from '../../protocol/messages.ts';
 import type { Link } from '../connection.ts';
 import { DENSITY_UNITS, type DensityUnit } from '../units.ts';
 
@@ -15,12 +15,25 @@ export interface ControlHooks {
   exportCsv(): void;
   exportPng(): void;
   exportEvents(): void;
+  resetZoom(): void;
+  followY(on: boolean): void;
 }
+
+/** A second click within this time confirms an action that was warned about. */
+const CONFIRM_MS = 10_000;
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
 
 export class Controls {
   private recording = false;
+  private recordingFileShown = true;
+  private status: AgentStatus | null = null;
+  /** Settings under which the band rules last compared against the baseline (for the way back). */
+  private comparedSettings: { segment: number; window: string; averaging: AveragingSpec } | null = null;
+  private comparisonOffSince: number | null = null;
+  private settingsKey = '';
+  private settingsSince = 0;
+  private armed: { what: string; until: number } | null = null;
 
   constructor(
     private readonly link: Link,
@@ -39,6 +52,9 @@ export class Controls {
     $('apply-analysis').addEventListener('click', () => void this.applyAnalysis());
     $('capture-baseline').addEventListener('click', () => void this.captureBaseline());
     $('recording').addEventListener('click', () => void this.toggleRecording());
+    $('zoom-reset')?.addEventListener('click', () => hooks.resetZoom());
+    $<HTMLInputElement>('follow-y')?.addEventListener('change', (e) => hooks.followY((e.target as HTMLInputElement).checked));
+    $('comparison-restore')?.addEventListener('click', () => void this.restoreComparison());
     document.addEventListener('keydown', (e) => this.onKey(e));
   }
 
@@ -72,10 +88,69 @@ export class Controls {
   }
 
   showStatus(s: AgentStatus): void {
+    if (s.bands) this.status = s;
     this.recording = s.recording.state === 'recording';
     const b = $('recording');
     b.textContent = this.recording ? 'Stop recording' : 'Start recording';
     b.classList.toggle('danger', this.recording);
+    // The recorder opens its file with the next block: name it once status carries it.
+    if (!this.recordingFileShown && s.recording.file) {
+      this.recordingFileShown = true;
+      this.say(`recording to ${s.recording.file}`);
+    }
+    if (s.bands) this.showComparison(s);
+  }
+
+  /** True while the band rules compare against the baseline (some band row has a threshold). */
+  private static comparing(s: AgentStatus): boolean {
+    return s.baseline !== null && s.bands.some((r) => r.thresholdDb !== null);
+  }
+
+  /** A persistent banner whenever a baseline is loaded but the band comparison is off. */
+  private showComparison(s: AgentStatus): void {
+    const banner = document.getElementById('comparison-banner');
+    const on = Controls.comparing(s);
+    // Band rows of the spectrum before a settings change still carry thresholds: take the settings as compared
+    // only once a status has shown them for two seconds of sample time.
+    const key = s.settings ? `${s.settings.segment}|${s.settings.window}|${JSON.stringify(s.averaging)}` : '';
+    if (key !== this.settingsKey) {
+      this.settingsKey = key;
+      this.settingsSince = s.t;
+    }
+    if (on && s.settings && s.averaging && s.t - this.settingsSince >= 2) {
+      this.comparedSettings = { segment: s.settings.segment, window: s.settings.window, averaging: s.averaging };
+    }
+    const off = s.baseline !== null && !on && s.bands.length > 0;
+    if (off && this.comparisonOffSince === null) this.comparisonOffSince = s.t;
+    if (!off) this.comparisonOffSince = null;
+    if (!banner) return;
+    banner.hidden = !off;
+    const text = document.getElementById('comparison-text');
+    if (off && text) {
+      text.textContent =
+        `Baseline comparison off since t = ${(this.comparisonOffSince ?? s.t).toFixed(1)} s: the analysis settings differ from the baseline's, so band alarms are not judged.`;
+    }
+    const back = document.getElementById('comparison-restore') as HTMLButtonElement | null;
+    if (back) back.hidden = this.comparedSettings === null;
+  }
+
+  private async restoreComparison(): Promise<void> {
+    const c = this.comparedSettings;
+    if (!c) return;
+    const r = await this.send('analysis', () => this.link.request({ type: 'set-analysis', averaging: c.averaging, segment: c.segment, window: c.window }));
+    if (r) this.say(`back to segment ${c.segment}, ${c.window}: the baseline comparison resumes with the next spectrum`);
+  }
+
+  /** First call warns and arms; a second call within CONFIRM_MS goes ahead. */
+  private confirmed(what: string, warning: string): boolean {
+    const now = Date.now();
+    if (this.armed && this.armed.what === what && now < this.armed.until) {
+      this.armed = null;
+      return true;
+    }
+    this.armed = { what, until: now + CONFIRM_MS };
+    this.say(`${warning} Press again within ${CONFIRM_MS / 1000} s to go ahead.`, true);
+    return false;
   }
 
   private averaging(): AveragingSpec {
@@ -87,6 +162,12 @@ export class Controls {
   }
 
   private async applyAnalysis(): Promise<void> {
+    const seg = Number($<HTMLSelectElement>('segment').value);
+    const win = $<HTMLSelectElement>('window').value;
+    const c = this.comparedSettings;
+    if (this.status && Controls.comparing(this.status) && c && (c.segment !== seg || c.window !== win)) {
+      if (!this.confirmed('apply', `The baseline was taken with segment ${c.segment} and ${c.window}: with segment ${seg} and ${win} the band alarms stop comparing against it.`)) return;
+    }
     const r = await this.send('analysis', () =>
       this.link.request({ type: 'set-analysis', averaging: this.averaging(), segment: Number($<HTMLSelectElement>('segment').value), window: $<HTMLSelectElement>('window').value }),
     );
@@ -95,6 +176,11 @@ export class Controls {
 
   private async captureBaseline(): Promise<void> {
     const seconds = Number($<HTMLInputElement>('baseline-seconds').value);
+    const raised = this.status?.alarms.filter((a) => a.state === 'raised') ?? [];
+    if (raised.length > 0) {
+      const what = [...new Set(raised.map((a) => `${a.rule} on ${a.channel}`))].join(', ');
+      if (!this.confirmed('baseline', `Alarms are raised (${what}): a baseline captured now would hold the fault and hide it.`)) return;
+    }
     this.say(`capturing a baseline over the next ${seconds} s of sample time…`);
     const r = await this.send('baseline', () => this.link.request({ type: 'capture-baseline', seconds }));
     if (r && r.ok && r.request === 'capture-baseline') this.say(`baseline saved: ${r.result.file}`);
@@ -104,7 +190,9 @@ export class Controls {
     const r = await this.send('recording', () => this.link.request({ type: 'recording', action: this.recording ? 'stop' : 'start' }));
     if (r && r.ok && r.request === 'recording') {
       this.showStatus({ recording: r.result.recording } as AgentStatus);
-      this.say(r.result.recording.state === 'recording' ? `recording to ${r.result.recording.file}` : 'recording stopped');
+      const rec = r.result.recording;
+      this.recordingFileShown = rec.state !== 'recording' || rec.file !== undefined;
+      this.say(rec.state === 'recording' ? (rec.file ? `recording to ${rec.file}` : 'recording starts with the next block of samples…') : 'recording stopped');
     }
   }
 
@@ -116,6 +204,7 @@ export class Controls {
       box.checked = !box.checked;
       this.hooks.maxHold(box.checked);
     } else if (e.key === 'r') this.hooks.resetMaxHold();
+    else if (e.key === 'z') this.hooks.resetZoom();
     else if (e.key === 'u') {
       const sel = $<HTMLSelectElement>('units');
       const next = DENSITY_UNITS[(DENSITY_UNITS.indexOf(sel.value as DensityUnit) + 1) % DENSITY_UNITS.length];

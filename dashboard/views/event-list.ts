@@ -1,9 +1,27 @@
 // The event list, newest first: alarms with an Acknowledge button while raised, and a link to each capture.
-import type { FloorlineEvent } from '../../agent/core/events.ts';
-import type { AlarmRow } from '../../agent/wire/messages.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AlarmRow } from '../../protocol/messages.ts';
 import { count, fixed } from '../format.ts';
 
 const MAX_ROWS = 500;
+
+/** The state in words: an info event is a notice, not an alarm that was raised. */
+function stateWords(e: FloorlineEvent): string {
+  if (e.kind === 'info') return 'notice';
+  if ((e.kind as string) === 'note') return 'note';
+  return `alarm ${e.state as string}`;
+}
+
+/** The level with what it is measured against: "+10.3 dB · threshold 3.0 dB", never a bare comparison sign. */
+function levelText(e: FloorlineEvent): string {
+  if (e.kind !== 'alarm') return '';
+  const sign = (v: number): string => `${v >= 0 ? '+' : ''}${fixed(v, 1)}`;
+  const parts: string[] = [];
+  if (e.levelDb !== undefined) parts.push(`${sign(e.levelDb)} dB`);
+  if (e.thresholdDb !== undefined) parts.push(`threshold ${fixed(e.thresholdDb, 1)} dB`);
+  if (parts.length === 0 && e.frequency !== undefined) parts.push(`${fixed(e.frequency, 2)} Hz`);
+  return parts.join(' · ');
+}
 
 export class EventList {
   readonly events: FloorlineEvent[] = [];
@@ -28,8 +46,7 @@ export class EventList {
     tr.dataset.state = e.state;
     tr.dataset.channel = e.channel;
     if (e.band) tr.dataset.band = e.band.join('-');
-    const level = e.levelDb !== undefined ? `${fixed(e.levelDb, 1)} dB${e.thresholdDb !== undefined ? ` (> ${fixed(e.thresholdDb, 1)})` : ''}` : e.frequency !== undefined ? `${fixed(e.frequency, 2)} Hz` : '';
-    const cells = [fixed(e.t, 3), count(e.sample), e.channel, e.rule, `${e.kind} ${e.state}`, level, e.detail];
+    const cells = [fixed(e.t, 3), count(e.sample), e.channel, e.rule, stateWords(e), levelText(e), e.detail];
     for (const [i, text] of cells.entries()) {
       const td = document.createElement('td');
       td.textContent = text;

@@ -1,5 +1,5 @@
 // The health strip (source, rate, samples, gaps, CRC errors, dropped blocks, recording) and the replay banner.
-import type { AgentStatus } from '../../agent/wire/messages.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
 import { count, fixed } from '../format.ts';
 
 export class HealthStrip {

@@ -2,9 +2,10 @@
 // the fitted 1/f model e_w·sqrt(1 + (f_c/f)^α), and the Welch baseline interpolated at the same points; a
 // readout of the fit, a 0.1–10 Hz box (p-p, RMS, 6.6σ with the window's sample span), RBW and averages at the cursor.
 import uPlot from 'uplot';
-import type { DecodedFrame } from '../../agent/wire/frame.ts';
-import type { LowFrequencyContext, LowFrequencyUpdate } from '../../agent/wire/low-frequency-messages.ts';
-import { channelColour, withAlpha } from '../colours.ts';
+import type { DecodedFrame } from '../../protocol/frame.ts';
+import type { LowFrequencyContext, LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
+import { channelColour, channelDash, withAlpha } from '../colours.ts';
+import { paddedRange } from './y-range.ts';
 import { si, fixed, count } from '../format.ts';
 
 const el = (tag: string, cls: string, text = ''): HTMLElement => {
@@ -22,6 +23,9 @@ export class LogFrequencyView {
   private baseline: { frame: DecodedFrame; binHz: number } | null = null;
   private cursorIdx: number | null = null;
   private shown = false;
+  /** Whether the y range has been taken from data; after that frames keep the scales (and any zoom). */
+  private scaled = false;
+  private drawPending = false;
   /** Updates applied (tests read this). */
   applied = 0;
 
@@ -33,7 +37,13 @@ export class LogFrequencyView {
     private readonly contextLine: HTMLElement,
   ) {
     new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.chart.clientWidth), height: 360 })).observe(chart);
+    chart.addEventListener('dblclick', () => this.resetZoom());
     chart.addEventListener('keydown', (e) => {
+      if (e.key === 'Home' || e.key === 'Escape' || e.key === '0') {
+        e.preventDefault();
+        this.resetZoom();
+        return;
+      }
       const step = e.key === 'ArrowRight' ? 1 : e.key === 'ArrowLeft' ? -1 : 0;
       if (step === 0 || !this.plot || !this.ctx) return;
       e.preventDefault();
@@ -52,6 +62,12 @@ export class LogFrequencyView {
   /** The newest update shown (for exports). */
   get shownUpdate(): LowFrequencyUpdate | null {
     return this.latest;
+  }
+
+  /** Back to the whole span and a y range taken afresh from the data. */
+  resetZoom(): void {
+    this.scaled = false;
+    this.scheduleChart();
   }
 
   get canvas(): HTMLCanvasElement | null {
@@ -92,10 +108,11 @@ export class LogFrequencyView {
     ctx.channels.forEach((c, i) => {
       const col = channelColour(i);
       const at = series.length;
-      series.push({ label: c.name, stroke: col, width: 1.5, value: fmt });
+      series.push({ label: c.name, stroke: col, dash: channelDash(i), width: 1.5, value: fmt });
       series.push({ label: `${c.name} upper`, stroke: withAlpha(col, 0.3), width: 0.5, value: fmt });
       series.push({ label: `${c.name} lower`, stroke: withAlpha(col, 0.3), width: 0.5, value: fmt });
-      series.push({ label: `${c.name} 1/f fit`, stroke: '#1f2937', dash: [8, 4], width: 1.25, value: fmt });
+      // Each channel's fit in its own colour, long-dashed and heavier, so two fits never look alike.
+      series.push({ label: `${c.name} 1/f fit`, stroke: withAlpha(col, 0.95), dash: [12, 4], width: 2, value: fmt });
       series.push({ label: `${c.name} baseline`, stroke: withAlpha(col, 0.8), dash: [3, 3], width: 1, value: fmt });
       bands.push({ series: [at + 1, at + 2], fill: withAlpha(col, 0.14) });
     });
@@ -108,7 +125,10 @@ export class LogFrequencyView {
         pxAlign: 0,
         legend: { show: true, live: false },
         bands,
-        scales: { x: { time: false, distr: 3, log: 10 }, y: { distr: 3, log: 10 } },
+        scales: {
+          x: { time: false, distr: 3, log: 10, range: (_u, min, max) => (ctx.frequency.length ? [ctx.frequency[0], ctx.frequency[ctx.frequency.length - 1]] : [min, max]) },
+          y: { distr: 3, log: 10, range: (_u, min, max) => paddedRange([[min, max]], true) },
+        },
         axes: [
           { label: 'Frequency, Hz (log-spaced points)', stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
           { label: `ASD, ${ctx.channels[0]?.unit ?? 'V'}/√Hz`, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
@@ -124,6 +144,12 @@ export class LogFrequencyView {
       this.data as uPlot.AlignedData,
       this.chart,
     );
+    // The confidence limits are drawn as a band: their own legend entries would only crowd the legend.
+    const rows = this.plot.root.querySelectorAll<HTMLElement>('.u-legend .u-series');
+    ctx.channels.forEach((_c, i) => {
+      for (const k of [2, 3]) rows[5 * i + k]?.style.setProperty('display', 'none');
+    });
+    this.scaled = false;
   }
 
   private draw(): void {
@@ -146,9 +172,23 @@ export class LogFrequencyView {
         this.data[at + 4][p] = base ? this.baselineAt(base, f) : null;
       }
     });
-    this.plot!.setData(this.data as uPlot.AlignedData);
+    this.scheduleChart();
     this.showFigures();
     this.showCursor();
+  }
+
+  /** One chart draw per animation frame; scales are reset only until the first data arrives or on reset. */
+  private scheduleChart(): void {
+    if (this.drawPending || !this.plot) return;
+    this.drawPending = true;
+    requestAnimationFrame(() => {
+      this.drawPending = false;
+      if (!this.plot) return;
+      const hasData = this.data.slice(1).some((s) => s.some((v) => v !== null));
+      this.plot.setData(this.data as uPlot.AlignedData, !this.scaled);
+      if (this.scaled) this.plot.redraw(); // with scales kept, setData does not draw by itself
+      if (hasData) this.scaled = true;
+    });
   }
 
   /** Welch baseline ASD at f: linear interpolation of the PSD between the two nearest bins (none below bin 1). */

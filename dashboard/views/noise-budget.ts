@@ -1,8 +1,9 @@
 // The expected-floor overlay from a noise budget the user enters, referred to the channel input (the unit the
 // channel is calibrated in): source resistor Johnson noise sqrt(4kTR), amplifier voltage noise eₙ, amplifier
 // current noise iₙ through the source resistance, and ADC quantisation q/sqrt(6·fs) divided by the gain ahead of
-// the ADC; uncorrelated, so they add in quadrature (dsp/noise-theory.ts).
-import { johnsonVoltageDensity, quantizationDensity, quadratureSum } from '../../dsp/noise-theory.ts';
+// the ADC; uncorrelated, so they add in quadrature (dsp/measure/noise-budget.ts).
+import { quantizationDensity } from '../../dsp/noise-theory.ts';
+import { budgetTerms, type BudgetTerms } from '../../dsp/measure/noise-budget.ts';
 import { si } from '../format.ts';
 
 export interface BudgetInputs {
@@ -15,19 +16,13 @@ export interface BudgetInputs {
   gain: number;
 }
 
-export interface BudgetResult {
-  total: number;
-  parts: { name: string; density: number }[];
-}
+export type BudgetResult = BudgetTerms;
 
 export function noiseBudget(b: BudgetInputs, sampleRate: number): BudgetResult {
-  const parts = [
-    { name: 'source R (Johnson)', density: b.ohms > 0 ? johnsonVoltageDensity(b.ohms, b.kelvin) : 0 },
-    { name: 'amplifier eₙ', density: b.enNv * 1e-9 },
-    { name: 'amplifier iₙ·R', density: b.inPa * 1e-12 * b.ohms },
-    { name: 'ADC quantisation', density: quantizationDensity(b.spanV, b.bits, sampleRate) / b.gain },
-  ];
-  return { total: quadratureSum(parts.map((p) => p.density)), parts };
+  return budgetTerms({
+    sourceOhms: b.ohms, kelvin: b.kelvin, amplifierDensity: b.enNv * 1e-9, amplifierCurrent: b.inPa * 1e-12,
+    quantisation: quantizationDensity(b.spanV, b.bits, sampleRate), gain: b.gain,
+  });
 }
 
 export class NoiseBudgetForm {

@@ -1,13 +1,15 @@
 // The spectrum chart: one trace per channel on a log-frequency axis, with max-hold, baseline, threshold and
 // expected-floor overlays, band shading, mains-harmonic markers and a cursor readout (density and tone RMS).
 import uPlot from 'uplot';
-import type { SpectrumContext, BandRow } from '../../agent/wire/messages.ts';
-import type { DecodedFrame } from '../../agent/wire/frame.ts';
+import type { SpectrumContext, BandRow } from '../../protocol/messages.ts';
+import type { DecodedFrame } from '../../protocol/frame.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
-import { peakBin, toneAt } from '../../dsp/tone.ts';
+import { lineAboveFloor, peakBin } from '../../dsp/tone.ts';
+import { RunningMedian } from '../../dsp/detection/running-median.ts';
 import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from '../units.ts';
-import { channelColour, withAlpha } from '../colours.ts';
-import { si, hz } from '../format.ts';
+import { channelColour, channelDash, withAlpha } from '../colours.ts';
+import { fixedDensityRange, paddedRange } from './y-range.ts';
+import { si, hz, short } from '../format.ts';
 
 export interface SpectrumOverlays {
   maxHold: boolean;
@@ -18,6 +20,20 @@ export interface SpectrumOverlays {
 }
 
 const MAX_HARMONICS = 40;
+/** Harmonic markers closer than this on screen are skipped, so high orders never merge into a hatch. */
+const MIN_MARKER_SPACING_PX = 14;
+
+/** Ticks at 1, 2 and 5 × each decade inside [min, max]: the range ends at Nyquist, not on a decade. */
+function logTicks(min: number, max: number): number[] {
+  const out: number[] = [];
+  for (let d = Math.floor(Math.log10(min)); d <= Math.ceil(Math.log10(max)); d++) {
+    for (const m of [1, 2, 5]) {
+      const f = m * 10 ** d;
+      if (f >= min * 0.999 && f <= max * 1.001) out.push(f);
+    }
+  }
+  return out;
+}
 
 /** From the window, not the element: sizing from the element's own height would feed back through the chart. */
 function chartHeight(): number {
@@ -41,6 +57,9 @@ export class SpectrumView {
   private bands: BandRow[] = [];
   private lobeHalfWidth = 2;
   private cursorIdx: number | null = null;
+  /** Follow the data on the y axis instead of the fixed range from baseline and thresholds. */
+  private followY = false;
+  private drawPending = false;
   overlays: SpectrumOverlays = { maxHold: false, baseline: true, mains: true, expectedFloor: null };
 
   constructor(
@@ -62,6 +81,15 @@ export class SpectrumView {
 
   get unitChoice(): DensityUnit {
     return this.units;
+  }
+
+  /** The plot area in CSS px relative to the chart element (the waterfall lines up under it). */
+  plotBox(): { left: number; width: number } | null {
+    if (!this.plot) return null;
+    const dpr = devicePixelRatio || 1;
+    const over = this.plot.over.getBoundingClientRect();
+    const root = this.el.getBoundingClientRect();
+    return { left: over.left - root.left, width: this.plot.bbox.width / dpr };
   }
 
   get canvas(): HTMLCanvasElement | null {
@@ -113,6 +141,29 @@ export class SpectrumView {
     this.redraw();
   }
 
+  /** y follows the data (on request) or stays on the fixed range from the baseline and thresholds. */
+  setFollowY(on: boolean): void {
+    this.followY = on;
+    this.resetZoom();
+  }
+
+  /** Back to the whole spectrum: first bin to Nyquist, and the fixed (or data) y range. */
+  resetZoom(): void {
+    if (!this.plot || this.x.length === 0) return;
+    this.plot.batch(() => {
+      this.plot!.setScale('x', { min: this.x[0], max: this.x[this.x.length - 1] });
+      const [min, max] = this.yRange();
+      this.plot!.setScale('y', { min, max });
+    });
+  }
+
+  /** The y range shown: fixed from the baseline and thresholds with a margin, or from the data on request. */
+  private yRange(): [number, number] {
+    const log = isLogAxis(this.units);
+    const fixedRange = this.followY ? null : fixedDensityRange([...this.base, ...this.thr], this.floor, log);
+    return fixedRange ?? paddedRange([...this.live, ...this.held], log);
+  }
+
   resetMaxHold(): void {
     for (let c = 0; c < this.held.length; c++) {
       this.heldPsd[c].fill(0);
@@ -125,6 +176,7 @@ export class SpectrumView {
     this.baselineFrame = f && this.ctx && f.length === this.ctx.bins ? f : null;
     this.recomputeOverlays();
     this.setOverlays({});
+    this.resetZoom();
   }
 
   /** Moves the harmonic markers when the measured fundamental moves by more than 0.01 Hz. */
@@ -199,9 +251,23 @@ export class SpectrumView {
     this.floor.fill(e === null ? NaN : (fromPsd(u, e * e) ?? NaN));
   }
 
+  /** Coalesces updates to one draw per animation frame. setData without resetting scales keeps a zoom. */
   private redraw(): void {
-    if (!this.plot) return;
-    this.plot.setData(this.data, true);
+    if (!this.plot || this.drawPending) return;
+    this.drawPending = true;
+    requestAnimationFrame(() => this.flushDraw());
+  }
+
+  /** Draws a pending update now (the animation frame does this; the benchmark calls it to time the work). */
+  flushDraw(): void {
+    if (!this.drawPending || !this.plot) return;
+    this.drawPending = false;
+    this.plot.setData(this.data, false); // uPlot's own way to keep scales: new data, then an explicit redraw
+    this.plot.redraw();
+    if (this.followY && this.plot.scales.x.min === this.x[0] && this.plot.scales.x.max === this.x[this.x.length - 1]) {
+      const [min, max] = this.yRange();
+      this.plot.setScale('y', { min, max });
+    }
   }
 
   private resize(): void {
@@ -218,10 +284,12 @@ export class SpectrumView {
     const label = densityLabel(this.units, unit);
     const series: uPlot.Series[] = [{ label: 'f', value: (_u, v) => (v == null ? '—' : hz(v)) }];
     const fmt = (_u: uPlot, v: number | null) => (v == null || !Number.isFinite(v) ? '—' : this.units === 'dbv' ? `${v.toFixed(1)}` : si(v, ''));
-    for (let c = 0; c < C; c++) series.push({ label: ctx.channels[c].name, stroke: channelColour(c), width: 1.25, value: fmt, spanGaps: false });
-    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} max`, stroke: withAlpha(channelColour(c), 0.45), width: 1, show: this.overlays.maxHold, value: fmt });
-    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} baseline`, stroke: withAlpha(channelColour(c), 0.8), dash: [6, 4], width: 1, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
-    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} threshold`, stroke: '#b4232c', dash: [2, 3], width: 1, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
+    // A channel's own colour and line style on every trace of it: live solid or its dash, max-hold faint, the
+    // baseline long-dashed and the threshold dotted, in the same hue.
+    for (let c = 0; c < C; c++) series.push({ label: ctx.channels[c].name, stroke: channelColour(c), dash: channelDash(c), width: 1.25, value: fmt, spanGaps: false });
+    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} max`, stroke: withAlpha(channelColour(c), 0.45), dash: channelDash(c), width: 1, show: this.overlays.maxHold, value: fmt });
+    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} baseline`, stroke: withAlpha(channelColour(c), 0.8), dash: [8, 4], width: 1, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
+    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} threshold`, stroke: withAlpha(channelColour(c), 0.65), dash: [1.5, 3], width: 1.5, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
     series.push({ label: 'expected floor', stroke: '#2f7d32', dash: [10, 4], width: 1.5, show: this.overlays.expectedFloor !== null, value: fmt });
     this.data = [this.x, ...this.live, ...this.held, ...this.base, ...this.thr, this.floor] as unknown as uPlot.AlignedData;
     const log = isLogAxis(this.units);
@@ -232,11 +300,13 @@ export class SpectrumView {
       legend: { show: true, live: false },
       cursor: { drag: { x: true, y: false }, focus: { prox: 16 } },
       scales: {
-        x: { time: false, distr: 3, log: 10 },
-        y: log ? { distr: 3, log: 10 } : { distr: 1 },
+        // x runs from the first bin to Nyquist exactly (a log scale would otherwise snap out to the next decade).
+        x: { time: false, distr: 3, log: 10, range: (_u, min, max) => (this.x.length ? [this.x[0], this.x[this.x.length - 1]] : [min, max]) },
+        // y is never auto-ranged per frame: it holds the range set by resetZoom (fixed, or the data on request).
+        y: { ...(log ? { distr: 3, log: 10 } : { distr: 1 }), auto: false, range: () => this.yRange() },
       },
       axes: [
-        { label: 'Frequency, Hz', values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${v / 1000}k` : `${v}`)), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+        { label: 'Frequency, Hz', splits: (_u, _i, min, max) => logTicks(min, max), values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${short(v / 1000)}k` : short(v))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
         { label, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : log ? si(v, '', 2) : v.toFixed(0))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
       ],
       series,
@@ -249,6 +319,9 @@ export class SpectrumView {
       },
     };
     this.plot = new uPlot(opts, this.data, this.el);
+    // A double-click resets the zoom (uPlot's own x reset, plus our y range).
+    this.plot.over.addEventListener('dblclick', () => this.resetZoom());
+    this.resetZoom();
   }
 
   /** Band shading and mains-harmonic markers, drawn under the traces. */
@@ -267,15 +340,25 @@ export class SpectrumView {
       if (!(x1 > x0)) continue;
       c.fillStyle = shade++ % 2 ? 'rgba(13, 107, 99, 0.05)' : 'rgba(161, 92, 7, 0.06)';
       c.fillRect(x0, top, x1 - x0, height);
+      const label = `${short(b.low)}–${short(b.high)} Hz`;
+      c.font = `${Math.round(10 * devicePixelRatio)}px system-ui, sans-serif`;
+      // One label row per band, so bands that start together (a wide band over narrow ones) stay readable.
+      if (c.measureText(label).width + 6 * devicePixelRatio < x1 - x0) {
+        c.fillStyle = '#5b6670';
+        c.fillText(label, x0 + 3 * devicePixelRatio, top + (12 + 12 * (shade - 1)) * devicePixelRatio);
+      }
     }
     const mains = this.ctx?.mainsHz;
     if (this.overlays.mains && mains) {
       c.strokeStyle = 'rgba(180, 35, 44, 0.35)';
       c.setLineDash([3, 5]);
       c.lineWidth = 1;
-      const fMax = this.x[this.x.length - 1] ?? 0;
+      const fMax = Math.min(this.x[this.x.length - 1] ?? 0, u.scales.x.max ?? Infinity);
+      let last = -Infinity;
       for (let k = 1; k <= MAX_HARMONICS && k * mains <= fMax; k++) {
         const px = Math.round(u.valToPos(k * mains, 'x', true)) + 0.5;
+        if (px - last < MIN_MARKER_SPACING_PX * devicePixelRatio) continue;
+        last = px;
         c.beginPath();
         c.moveTo(px, top);
         c.lineTo(px, top + height);
@@ -297,15 +380,22 @@ export class SpectrumView {
       const bin = idx + 1;
       const d = fromPsd(this.units, psd[bin]);
       const dens = d === null ? '—' : this.units === 'dbv' ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}` : si(d, densityLabel(this.units, unit));
-      // Tone level: the largest bin within one main lobe of the cursor, summed over its lobe (dsp/tone.ts).
+      // Line level: the largest bin within one main lobe of the cursor, its lobe's power less the local floor's
+      // share (dsp/tone.ts lineAboveFloor, the rule the spur and mains events use; floor = local median as there).
       const peak = peakBin(psd, Math.max(1, bin - h), Math.min(psd.length - 1, bin + h));
-      const tone = toneAt(psd, ctx.binHz, this.lobeHalfWidth, peak);
+      const floor = new RunningMedian(psd.length, Math.max(8, 4 * h)).at(psd, peak);
+      const tone = lineAboveFloor(psd, ctx.binHz, this.lobeHalfWidth, peak, floor);
       parts.push(`${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)} at ${hz(tone.frequency)}`);
     }
     this.readout.textContent = parts.join(' · ');
   }
 
   private onKey(e: KeyboardEvent): void {
+    if (this.plot && (e.key === 'Home' || e.key === 'Escape' || e.key === '0')) {
+      e.preventDefault();
+      this.resetZoom();
+      return;
+    }
     if (!this.plot || (e.key !== 'ArrowLeft' && e.key !== 'ArrowRight')) return;
     e.preventDefault();
     const step = (e.shiftKey ? 10 : 1) * (e.key === 'ArrowLeft' ? -1 : 1);

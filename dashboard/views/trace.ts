@@ -1,6 +1,6 @@
 // Time trace of the newest samples of every channel, x in sample time.
 import uPlot from 'uplot';
-import type { DecodedFrame } from '../../agent/wire/frame.ts';
+import type { DecodedFrame } from '../../protocol/frame.ts';
 import { channelColour } from '../colours.ts';
 import { si } from '../format.ts';
 

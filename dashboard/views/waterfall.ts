@@ -1,7 +1,13 @@
-// Waterfall of recent spectra on its own canvas: newest row at the bottom, log-frequency columns, colour by
-// density level in dB, with a colour-scale legend. One row per `snapshotsPerRow` updates (max over them), so the
+// Waterfall of recent spectra on its own canvas: newest row at the top (history scrolls down, the way people read
+// it), columns on the spectrum chart's own log-frequency axis and plot width, colour by density level in dB re
+// the baseline floor, with a colour-scale legend. One row per `snapshotsPerRow` updates (max over them), so the
 // canvas spans minutes; per update the work is one pass over the bins and, per row, one scroll and one line.
 import { densityLabel } from '../units.ts';
+import { columnOf, logColumns } from './waterfall-columns.ts';
+
+/** Colour range around the baseline floor (median density): 10 dB below to 40 dB above. */
+export const FLOOR_BELOW_DB = 10;
+export const FLOOR_ABOVE_DB = 40;
 
 /** Our own colour ramp: deep ink → blue → teal → sand → paper. */
 const STOPS: [number, number, number][] = [
@@ -32,7 +38,13 @@ export class WaterfallView {
   private lowDb = -170;
   private highDb = -110;
   private ranged = false;
+  /** Set from the baseline's floor or by the user: kept until changed, so page loads look alike. */
+  private rangeSource: 'baseline' | 'user' | 'first row' | null = null;
   private unit = 'V';
+  private bins = 0;
+  private binHz = 1;
+  private fLow = 1;
+  private fHigh = 2;
   channel = 0;
   snapshotsPerRow: number;
   /** Sample time of the newest row (for the axis text). */
@@ -43,6 +55,8 @@ export class WaterfallView {
     private readonly canvas: HTMLCanvasElement,
     private readonly legend: HTMLCanvasElement,
     private readonly axisText: HTMLElement,
+    private readonly freqAxis: HTMLCanvasElement | null = null,
+    private readonly timeAxis: HTMLCanvasElement | null = null,
     snapshotsPerRow = 5,
   ) {
     this.ctx = canvas.getContext('2d', { willReadFrequently: false })!;
@@ -52,26 +66,72 @@ export class WaterfallView {
     this.clear();
   }
 
-  /** Maps each pixel column to a run of bins on a log-frequency scale from binHz to Nyquist. */
+  /** Maps each pixel column to bins on the spectrum's axis: first bin to Nyquist, the same as the chart. */
   setContext(bins: number, binHz: number, unit: string): void {
-    const w = this.canvas.width;
     this.unit = unit;
-    this.colFirst = new Int32Array(w);
-    this.colLast = new Int32Array(w);
-    this.acc = new Float64Array(w);
-    const lo = Math.log10(binHz);
-    const hi = Math.log10((bins - 1) * binHz);
-    for (let x = 0; x < w; x++) {
-      const f0 = 10 ** (lo + ((hi - lo) * x) / w);
-      const f1 = 10 ** (lo + ((hi - lo) * (x + 1)) / w);
-      const a = Math.max(1, Math.min(bins - 1, Math.round(f0 / binHz)));
-      const b = Math.max(a, Math.min(bins - 1, Math.round(f1 / binHz) - 1));
-      this.colFirst[x] = a;
-      this.colLast[x] = b;
-    }
-    this.ranged = false;
+    this.bins = bins;
+    this.binHz = binHz;
+    this.fLow = binHz;
+    this.fHigh = (bins - 1) * binHz;
+    this.mapColumns();
+    if (this.rangeSource !== 'user' && this.rangeSource !== 'baseline') this.ranged = false;
     this.accCount = 0;
     this.clear();
+  }
+
+  /** Places the canvas under the chart's plot area (CSS px from the panel's left edge) and matches its width in
+   *  device pixels, so a frequency sits in the same screen column in both. */
+  align(leftCss: number, widthCss: number): void {
+    const dpr = globalThis.devicePixelRatio || 1;
+    const w = Math.max(50, Math.round(widthCss * dpr));
+    this.canvas.style.marginLeft = `${leftCss}px`;
+    this.canvas.style.width = `${widthCss}px`;
+    if (this.freqAxis) {
+      this.freqAxis.style.marginLeft = `${leftCss}px`;
+      this.freqAxis.style.width = `${widthCss}px`;
+    }
+    if (this.timeAxis) this.timeAxis.style.width = `${leftCss}px`;
+    if (w === this.canvas.width) return;
+    this.canvas.width = w;
+    this.row = this.ctx.createImageData(w, 1);
+    this.mapColumns();
+    this.clear();
+  }
+
+  private mapColumns(): void {
+    const w = this.canvas.width;
+    if (this.bins < 2) return;
+    const { first, last } = logColumns(w, this.bins, this.binHz, this.fLow, this.fHigh);
+    this.colFirst = first;
+    this.colLast = last;
+    this.acc = new Float64Array(w);
+    this.drawAxes();
+  }
+
+  /** Column (device px within the canvas) of frequency f, for tests and alignment checks. */
+  columnOf(f: number): number {
+    return columnOf(f, this.canvas.width, this.fLow, this.fHigh);
+  }
+
+  /** Colour range from the baseline: its median density (unit²/Hz) sets the floor. */
+  setBaselineFloor(psd: ArrayLike<number> | null): void {
+    if (!psd || this.rangeSource === 'user') return;
+    const v: number[] = [];
+    for (let k = 1; k < psd.length; k++) if (psd[k] > 0) v.push(psd[k]);
+    if (v.length === 0) return;
+    v.sort((a, b) => a - b);
+    const floorDb = 10 * Math.log10(v[v.length >> 1]);
+    this.setRange(Math.round(floorDb - FLOOR_BELOW_DB), Math.round(floorDb + FLOOR_ABOVE_DB), 'baseline');
+  }
+
+  /** Sets the colour range in dB (re 1 unit²/Hz); a user's choice wins over the baseline's until cleared. */
+  setRange(lowDb: number, highDb: number, source: 'baseline' | 'user' = 'user'): void {
+    if (!(highDb > lowDb)) return;
+    this.lowDb = lowDb;
+    this.highDb = highDb;
+    this.ranged = true;
+    this.rangeSource = source;
+    this.drawLegend();
   }
 
   clear(): void {
@@ -79,6 +139,7 @@ export class WaterfallView {
     this.ctx.fillRect(0, 0, this.canvas.width, this.canvas.height);
     this.rows = 0;
     this.drawLegend();
+    this.drawAxes();
   }
 
   /** Folds one spectrum (unit²/Hz) into the pending row; draws the row when it is complete. */
@@ -121,27 +182,75 @@ export class WaterfallView {
       px[o + 3] = 255;
     }
     const h = this.canvas.height;
-    this.ctx.drawImage(this.canvas, 0, 1, w, h - 1, 0, 0, w, h - 1);
-    this.ctx.putImageData(this.row, 0, h - 1);
+    this.ctx.drawImage(this.canvas, 0, 0, w, h - 1, 0, 1, w, h - 1);
+    this.ctx.putImageData(this.row, 0, 0);
     this.rows++;
     const spanS = (Math.min(this.rows, h) * this.snapshotsPerRow) / 10;
-    this.axisText.textContent = `newest row t = ${this.newestT.toFixed(1)} s (sample time), bottom; about ${spanS.toFixed(0)} s shown at 10 spectra/s; ${this.snapshotsPerRow} spectra per row (max)`;
+    this.axisText.textContent =
+      `newest row at the top, t = ${this.newestT.toFixed(1)} s (sample time); about ${spanS.toFixed(0)} s shown at 10 spectra/s; ` +
+      `${this.snapshotsPerRow} spectra per row (max); colours ${this.lowDb}…${this.highDb} ${densityLabel('dbv', this.unit)}` +
+      (this.rangeSource === 'baseline' ? ` (baseline floor −${FLOOR_BELOW_DB} to +${FLOOR_ABOVE_DB} dB)` : this.rangeSource ? ` (${this.rangeSource})` : '');
+    if (this.rows % 10 === 1) this.drawAxes();
   }
 
-  /** Fixes the colour range from the first row: 10 dB steps around its levels (kept afterwards so colours stay comparable). */
-  private autoRange(): void {
-    let min = Infinity;
-    let max = -Infinity;
-    for (let x = 0; x < this.acc.length; x++) {
-      if (!(this.acc[x] > 0)) continue;
-      const db = 10 * Math.log10(this.acc[x]);
-      if (db < min) min = db;
-      if (db > max) max = db;
+  /** Frequency ticks under the canvas (decades and 2, 5 between) and a time scale beside it. */
+  private drawAxes(): void {
+    const fa = this.freqAxis;
+    if (fa && this.bins >= 2) {
+      const dpr = globalThis.devicePixelRatio || 1;
+      fa.width = this.canvas.width;
+      fa.height = Math.round(18 * dpr);
+      const c = fa.getContext('2d');
+      if (c) {
+        c.clearRect(0, 0, fa.width, fa.height);
+        c.fillStyle = '#5b6670';
+        c.font = `${Math.round(10 * dpr)}px system-ui, sans-serif`;
+        c.textAlign = 'center';
+        c.textBaseline = 'bottom';
+        for (let d = Math.floor(Math.log10(this.fLow)); d <= Math.ceil(Math.log10(this.fHigh)); d++) {
+          for (const m of [1, 2, 5]) {
+            const f = m * 10 ** d;
+            if (f < this.fLow || f > this.fHigh) continue;
+            const x = Math.round(this.columnOf(f)) + 0.5;
+            c.fillRect(x, 0, 1, 4 * dpr);
+            c.fillText(f >= 1000 ? `${f / 1000}k` : `${f}`, Math.min(fa.width - 12 * dpr, Math.max(12 * dpr, x)), fa.height);
+          }
+        }
+      }
     }
-    if (!Number.isFinite(min)) return;
-    this.lowDb = Math.floor(min / 10) * 10 - 10;
-    this.highDb = Math.max(this.lowDb + 20, Math.ceil(max / 10) * 10 + 10);
+    const ta = this.timeAxis;
+    if (ta) {
+      const dpr = globalThis.devicePixelRatio || 1;
+      ta.height = this.canvas.height;
+      ta.width = Math.max(1, Math.round((parseFloat(ta.style.width) || 60) * dpr));
+      const c = ta.getContext('2d');
+      if (c) {
+        c.clearRect(0, 0, ta.width, ta.height);
+        c.fillStyle = '#5b6670';
+        c.font = `${Math.round(10 * dpr)}px system-ui, sans-serif`;
+        c.textAlign = 'right';
+        c.textBaseline = 'middle';
+        const rowSeconds = this.snapshotsPerRow / 10;
+        for (let s = 0; s <= 4; s++) {
+          const y = Math.min(ta.height - 6, Math.max(6, (s / 4) * (ta.height - 1)));
+          const ago = ((s / 4) * this.canvas.height * rowSeconds).toFixed(0);
+          c.fillText(s === 0 ? 'now' : `−${ago} s`, ta.width - 4 * dpr, y);
+        }
+      }
+    }
+  }
+
+  /** Without a baseline: the same rule around the first row's median level (its floor, not its lines). */
+  private autoRange(): void {
+    const v: number[] = [];
+    for (let x = 0; x < this.acc.length; x++) if (this.acc[x] > 0) v.push(this.acc[x]);
+    if (v.length === 0) return;
+    v.sort((a, b) => a - b);
+    const floorDb = 10 * Math.log10(v[v.length >> 1]);
+    this.lowDb = Math.round(floorDb - FLOOR_BELOW_DB);
+    this.highDb = Math.round(floorDb + FLOOR_ABOVE_DB);
     this.ranged = true;
+    this.rangeSource = 'first row';
     this.drawLegend();
   }
 
@@ -149,30 +258,36 @@ export class WaterfallView {
     return [this.lowDb, this.highDb];
   }
 
+  /** A horizontal colour bar under the axis: levels in dB and the unit they are in. */
   private drawLegend(): void {
     const c = this.legendCtx;
-    const { width, height } = this.legend;
-    c.clearRect(0, 0, width, height);
-    const barW = 16;
-    for (let y = 0; y < height; y++) {
-      const i = Math.round((1 - y / (height - 1)) * 255) * 4;
+    const dpr = globalThis.devicePixelRatio || 1;
+    const cssW = 320;
+    const cssH = 30;
+    this.legend.width = Math.round(cssW * dpr);
+    this.legend.height = Math.round(cssH * dpr);
+    this.legend.style.width = `${cssW}px`;
+    this.legend.style.height = `${cssH}px`;
+    const { width } = this.legend;
+    c.clearRect(0, 0, width, this.legend.height);
+    const barW = Math.round(200 * dpr);
+    const barH = Math.round(10 * dpr);
+    for (let x = 0; x < barW; x++) {
+      const i = Math.round((x / (barW - 1)) * 255) * 4;
       c.fillStyle = `rgb(${this.lut[i]}, ${this.lut[i + 1]}, ${this.lut[i + 2]})`;
-      c.fillRect(0, y, barW, 1);
+      c.fillRect(x, 0, 1, barH);
     }
     c.fillStyle = '#1c2630';
-    c.font = '11px system-ui, sans-serif';
-    c.textBaseline = 'middle';
-    const steps = 4;
+    c.font = `${Math.round(10 * dpr)}px system-ui, sans-serif`;
+    c.textBaseline = 'top';
+    const steps = 5;
     for (let s = 0; s <= steps; s++) {
-      const db = this.highDb - ((this.highDb - this.lowDb) * s) / steps;
-      const y = Math.min(height - 6, Math.max(6, (s / steps) * (height - 1)));
-      c.fillText(db.toFixed(0), barW + 4, y);
+      const db = this.lowDb + ((this.highDb - this.lowDb) * s) / steps;
+      c.textAlign = s === 0 ? 'left' : s === steps ? 'right' : 'center';
+      c.fillText(db.toFixed(0), (s / steps) * (barW - 1), barH + 2 * dpr);
     }
-    c.save();
-    c.translate(width - 4, height / 2);
-    c.rotate(-Math.PI / 2);
-    c.textAlign = 'center';
-    c.fillText(densityLabel('dbv', this.unit), 0, 0);
-    c.restore();
+    c.textAlign = 'left';
+    c.fillText(densityLabel('dbv', this.unit), barW + 8 * dpr, 0);
   }
+
 }

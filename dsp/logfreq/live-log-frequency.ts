@@ -13,8 +13,8 @@
 // so memory and a snapshot cost O(points), not O(segments), and the span moves in steps of 1/32.
 // Cost per input sample: about two filter cascades (Σ 2^-k) plus, per point, open segments × rate of its stage.
 import { makeWindow } from '../windows.ts';
-import { butterworthSos, sosPowerResponse, type SosFilter } from '../lowfreq/butterworth.ts';
-import { SosCascade } from '../lowfreq/sos-filter.ts';
+import { butterworthSos, sosPowerResponse, type SosFilter } from '../filters/butterworth.ts';
+import { SosCascade } from '../filters/sos-filter.ts';
 import { planLogFrequencies, type LogFrequencyPlanOptions } from './plan.ts';
 import { SingleBinKernel } from './single-bin-dft.ts';
 import { equivalentFromCorrelations, overlapCorrelations } from './equivalent-averages.ts';

@@ -2,10 +2,10 @@
 // 4096, 10 snapshots/s) through the pipeline without detectors (the reference) and with AlarmHook + a baseline,
 // alternating, medians of 5. Prints samples/s for both and the detectors' share of the run.
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
-import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
 import { BaselineCapture } from '../../agent/baseline/capture.ts';
-import { defaultBands } from '../../agent/alarms/default-bands.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import { defaultBands } from '../../agent/rules/default-bands.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 const FS = 20000;

@@ -12,9 +12,9 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import { ReplaySource } from '../../agent/sources/replay.ts';
-import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
+import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
 import { readBaseline } from '../../agent/baseline/format.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 declare const gc: (() => void) | undefined;

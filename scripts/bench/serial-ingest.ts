@@ -11,7 +11,7 @@ import { FrameDecoder } from '../../agent/framing/decoder.ts';
 import { encodeDescriptorFrame, encodeSamplesFrame, samplesFrameLength } from '../../agent/framing/encoder.ts';
 import { decodeInterleaved } from '../../agent/framing/samples.ts';
 import { SerialSource } from '../../agent/sources/serial.ts';
-import type { SourceSink } from '../../agent/core/stream.ts';
+import type { SourceSink } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 const CH = 4;

@@ -7,17 +7,17 @@ import { Tone } from '../../dsp/synth/tone.ts';
 import { BandStep } from '../../dsp/synth/band-step.ts';
 import { WhiteNoise } from '../../dsp/synth/white-noise.ts';
 import { deriveSeed, type SynthComponent } from '../../dsp/synth/component.ts';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
-import type { AveragingSpec } from '../../agent/core/settings.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import type { AnalysisChoice } from '../../agent/pipeline/analyser.ts';
 import { BaselineCapture } from '../../agent/baseline/capture.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
-import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
-import type { DetectorStatus } from '../../agent/alarms/detectors.ts';
-import { defaultBands } from '../../agent/alarms/default-bands.ts';
-import type { RulesConfig } from '../../agent/alarms/rules.ts';
+import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
+import type { DetectorStatus } from '../../agent/rules/detectors.ts';
+import { defaultBands } from '../../agent/rules/default-bands.ts';
+import type { RulesConfig } from '../../agent/rules/rules.ts';
 import { makeWindow, windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 
 export interface Floor {
@@ -101,7 +101,9 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
   const floor = floorComponents(bench, seed);
   const faults = faultComponents(bench, fault, onset / bench.sampleRate, endSeconds, seed);
   const selfGated = fault.kind === 'band-rise';
-  const until = fault.kind === 'overload' ? Math.round(fault.seconds * bench.sampleRate) : Infinity;
+  // Gated faults stop at `endSeconds` too (faultSeconds), so a fault's end can be measured like its onset.
+  const ends = Number.isFinite(endSeconds) ? Math.round(endSeconds * bench.sampleRate) - onset : Infinity;
+  const until = Math.min(fault.kind === 'overload' ? Math.round(fault.seconds * bench.sampleRate) : Infinity, ends);
   const fullScale = bench.fullScale ?? Infinity;
   const scratch = new Float64Array(BLOCK);
   return {

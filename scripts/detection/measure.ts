@@ -2,8 +2,8 @@
 // seeds, the smallest level detected in at least 19 of 20, the latency there and at a strong level; and false alarms
 // per hour of quiet running. Prints DETECTION.md to stdout. Run: node scripts/detection/run.mjs
 import { DEFAULT_BENCH, captureQuietBaseline, detectionLatency, runScenario, type Bench, type Fault } from './harness.ts';
-import { parseRules } from '../../agent/alarms/rules.ts';
-import type { RulesConfig } from '../../agent/alarms/rules.ts';
+import { parseRules } from '../../agent/rules/rules.ts';
+import type { RulesConfig } from '../../agent/rules/rules.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
 
 const SEEDS = 20;
@@ -57,6 +57,96 @@ const sweeps: Sweep[] = [
   },
 ];
 
+/**
+ * Fault ends: each fault on from ONSET for FAULT_ON seconds, then gone. The end stamp is the cleared event's sample
+ * time minus the scripted end; a false clear is a clear while the fault is still on (each is followed by a re-raise
+ * or leaves the fault unreported). The comparison row sets the recent window to 600 s, longer than any run, so the
+ * recent estimate is the long average itself: what the clear was judged on before.
+ */
+function endsSection(): void {
+  const FAULT_ON = 120;
+  const RUN = ONSET + FAULT_ON + 40;
+  const END_SEEDS = 10;
+  const bandRules = parseRules({ band: { bands: ['200:800'] } }, 'detection bench');
+  const longOnly = (r?: object) => parseRules({ ...(r ?? {}), recentWindow: 600 }, 'detection bench');
+  const cases: { title: string; rule: string; unit: string; levels: number[]; rules?: RulesConfig; long: RulesConfig; fault: (x: number, seed: number) => Fault }[] = [
+    { title: 'spur', rule: 'spur', unit: 'V rms', levels: [1e-7, 1.5e-7, 3e-7, 1e-6], long: longOnly(),
+      fault: (a, seed) => ({ kind: 'tone', frequency: 400 + 61.7 * seed, rms: a }) },
+    { title: 'mains', rule: 'mains', unit: 'V rms of the fundamental', levels: [1e-7, 1.5e-7, 3e-7, 1e-6], long: longOnly(),
+      fault: (a) => ({ kind: 'mains', fundamental: 50, harmonics: [a, 0, a / 3], driftSpan: 0.05 }) },
+    { title: 'band rise 200–800 Hz', rule: 'band-rise', unit: 'dB rise', levels: [3.5, 4, 6, 10], rules: bandRules, long: longOnly({ band: { bands: ['200:800'] } }),
+      fault: (db) => ({ kind: 'band-rise', low: 200, high: 800, riseDb: db }) },
+  ];
+  out.push('## Fault ends and false clears', '');
+  out.push(`Each fault is on from ${ONSET} s for ${FAULT_ON} s, then stops; runs last ${RUN} s; ${END_SEEDS} seeds per level. Clears are judged on`);
+  out.push('the recent estimate (default window 3 s, recovered from the long average; see DEVELOPERS.md "Alarm levels and ends").');
+  out.push('"end stamp" = cleared event time − scripted end. "false clears" = clears while the fault was still on, over the');
+  out.push('alarm-hours under fault. The `recentWindow 600 s` rows judge the clear on the long average alone (τ = 10 s), for comparison.', '');
+  out.push('| fault | level | rules | raised (of seeds) | median end stamp, s | max end stamp, s | false clears | alarm-hours under fault | false clears per hour |', '|---|---|---|---|---|---|---|---|---|');
+  let falseClears = 0;
+  let hours = 0;
+  for (const c of cases) {
+    for (const level of c.levels) {
+      for (const [name, rules] of [['default', c.rules], ['recentWindow 600 s', c.long]] as const) {
+        const stamps: number[] = [];
+        let raised = 0;
+        let early = 0;
+        let underFault = 0;
+        for (let seed = 1; seed <= END_SEEDS; seed++) {
+          const r = runScenario({ bench: DEFAULT_BENCH, baseline: baselineFor(DEFAULT_BENCH), rules, fault: c.fault(level, seed), onsetSeconds: ONSET, faultSeconds: FAULT_ON, seconds: RUN, seed });
+          const mine = r.events.filter((e) => e.kind === 'alarm' && e.rule === c.rule);
+          const first = mine.find((e) => e.state === 'raised' && e.t >= ONSET);
+          if (!first) continue;
+          raised++;
+          underFault += (ONSET + FAULT_ON - first.t) / 3600;
+          early += mine.filter((e) => e.state === 'cleared' && e.t < ONSET + FAULT_ON).length;
+          const last = mine.filter((e) => e.state === 'cleared' && e.t >= ONSET + FAULT_ON).map((e) => e.t - (ONSET + FAULT_ON));
+          if (last.length) stamps.push(Math.max(...last));
+        }
+        if (name === 'default') {
+          falseClears += early;
+          hours += underFault;
+        }
+        const stamp = stamps.length === raised && raised ? fmt(median(stamps)) : `${stamps.length ? fmt(median(stamps)) : '–'} (${raised - stamps.length} not cleared by ${RUN} s)`;
+        out.push(`| ${c.title} | ${fmt(level)} ${c.unit} | ${name} | ${raised} | ${stamp} | ${stamps.length ? fmt(Math.max(...stamps)) : '–'} | ${early} | ${fmt(underFault)} | ${underFault ? fmt(early / underFault) : '–'} |`);
+      }
+    }
+  }
+  // Soak: faults held near their thresholds for an hour, where the recent estimate's scatter is likeliest to dip
+  // below threshold − deadband.
+  const SOAK = 3600;
+  const soak: { title: string; rule: string; level: string; rules?: RulesConfig; fault: Fault }[] = [
+    { title: 'spur', rule: 'spur', level: '85 nV rms', fault: { kind: 'tone', frequency: 1234.5, rms: 85e-9 } },
+    { title: 'spur', rule: 'spur', level: '100 nV rms', fault: { kind: 'tone', frequency: 777.7, rms: 1e-7 } },
+    { title: 'mains', rule: 'mains', level: '100 nV rms fundamental', fault: { kind: 'mains', fundamental: 50, harmonics: [1e-7, 0, 1e-7 / 3], driftSpan: 0.05 } },
+    { title: 'band rise 200–800 Hz', rule: 'band-rise', level: '+3.25 dB', rules: bandRules, fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 3.25 } },
+    { title: 'band rise 200–800 Hz', rule: 'band-rise', level: '+3.5 dB', rules: bandRules, fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 3.5 } },
+  ];
+  out.push('', `Near-threshold soak: each fault on from ${ONSET} s for ${SOAK} s, 2 seeds, default rules; re-raises count raises after the first while the fault is on.`, '');
+  out.push('| fault | level | raised (of seeds) | alarm-hours under fault | false clears | re-raises |', '|---|---|---|---|---|---|');
+  for (const c of soak) {
+    let raised = 0;
+    let early = 0;
+    let again = 0;
+    let underFault = 0;
+    for (let seed = 1; seed <= 2; seed++) {
+      const r = runScenario({ bench: DEFAULT_BENCH, baseline: baselineFor(DEFAULT_BENCH), rules: c.rules, fault: c.fault, onsetSeconds: ONSET, faultSeconds: SOAK, seconds: ONSET + SOAK, seed: 700 + seed });
+      const mine = r.events.filter((e) => e.kind === 'alarm' && e.rule === c.rule && e.t < ONSET + SOAK);
+      const first = mine.find((e) => e.state === 'raised' && e.t >= ONSET);
+      if (!first) continue;
+      raised++;
+      underFault += (ONSET + SOAK - first.t) / 3600;
+      early += mine.filter((e) => e.state === 'cleared').length;
+      again += mine.filter((e) => e.state === 'raised' && e.t > first.t).length;
+    }
+    falseClears += early;
+    hours += underFault;
+    out.push(`| ${c.title} | ${c.level} | ${raised} | ${fmt(underFault)} | ${early} | ${again} |`);
+  }
+  const rate = falseClears === 0 ? `0 (95 % upper limit ${fmt(3 / hours)} per alarm-hour)` : `${fmt(falseClears / hours)} per alarm-hour`;
+  out.push('', `False-clear rate at default rules over both tables: **${falseClears} in ${fmt(hours)} alarm-hours, ${rate}**.`, '');
+}
+
 function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
   const m = s.length >> 1;
@@ -69,6 +159,7 @@ function fmt(x: number): string {
 
 const out: string[] = [];
 const t0 = performance.now();
+const ONLY_ENDS = process.env.DETECTION_PART === 'ends';
 const baselines = new Map<Bench, BaselineFile>();
 const baselineFor = (b: Bench): BaselineFile => {
   let x = baselines.get(b);
@@ -85,6 +176,12 @@ out.push(`${DEFAULT_BENCH.sampleRate} S/s, one channel, white floor ${DEFAULT_BE
   'off-delay 2 s, deadband 1 dB; spur margin 10 dB, α = 1e-6, deadband 3 dB). The baseline is 60 s of quiet floor from an ' +
   `independent seed. Each fault starts at t = ${ONSET} s of a ${SECONDS} s run; ${SEEDS} seeds per level; latency = sample time of ` +
   'the raised event minus the onset.', '');
+
+if (ONLY_ENDS) {
+  endsSection();
+  process.stdout.write(out.join("\n") + "\n");
+  process.exit(0);
+}
 
 for (const s of sweeps) {
   out.push(`## ${s.title}`, '', `${s.note}.`, '');
@@ -104,6 +201,8 @@ for (const s of sweeps) {
   }
   out.push('', `Smallest level detected in at least ${NEEDED} of ${SEEDS} seeds: **${smallest === undefined ? 'none of those tried' : `${fmt(smallest)} ${s.unit}`}**.`, '');
 }
+
+endsSection();
 
 out.push('## False alarms in quiet running', '');
 out.push('Quiet floor only, baselines from an independent seed. The last row switches the margins off (band margin 0 dB, spur');

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { AlarmState, AlarmTransition } from '../../dsp/alarms/alarm-state.ts';
+import { AlarmState, AlarmTransition } from '../../dsp/detection/alarm-state.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 const T = 3; // threshold, dB
@@ -72,5 +72,32 @@ describe('AlarmState', () => {
   it('refuses fractional delays and negative deadbands', () => {
     expect(() => new AlarmState({ onDelay: 1.5, offDelay: 0, deadband: 0, reAlarm: 0 })).toThrow(/onDelay/);
     expect(() => new AlarmState({ onDelay: 0, offDelay: 0, deadband: -1, reAlarm: 0 })).toThrow(/deadband/);
+  });
+
+  it('clears on the recent level while the long one still decays, and re-raises only when the recent level is back over the threshold', () => {
+    // A fault ends at evaluation 50: the recent (short-window) level drops at once, the long average decays by
+    // 0.2 dB per evaluation. Hysteresis on the recent level (deadband, delays; common practice, ISA-18.2) must
+    // still hold: no re-raise while the long level is high, a re-raise when the fault comes back.
+    const s = new AlarmState({ onDelay: 0, offDelay: 200, deadband: 1, reAlarm: 0 });
+    const out: [number, AlarmTransition][] = [];
+    for (let i = 0; i < 200; i++) {
+      const on = i < 50 || i >= 150;
+      const long = on && i < 50 ? 10 : i < 150 ? Math.max(0, 10 - 0.2 * (i - 50)) : 10;
+      const recent = on ? 10 : 0;
+      const t = s.update(i * 100, long, T, recent);
+      if (t !== AlarmTransition.None) out.push([i, t]);
+    }
+    // Cleared offDelay after the recent level fell (evaluation 52), not when the long one reached T − 1 (evaluation 90);
+    // raised again when the fault returned at 150.
+    expect(out).toEqual([[0, AlarmTransition.Raised], [52, AlarmTransition.Cleared], [150, AlarmTransition.Raised]]);
+  });
+
+  it('after a clear on the recent level, a recent level inside the deadband does not re-raise', () => {
+    const s = new AlarmState({ onDelay: 0, offDelay: 0, deadband: 1, reAlarm: 0 });
+    expect(s.update(0, 10, T, 10)).toBe(AlarmTransition.Raised);
+    expect(s.update(100, 10, T, 1)).toBe(AlarmTransition.Cleared);
+    // Recent back to 2.5 dB (between T − deadband and T) while the long average is still at 8 dB: no chatter.
+    expect(s.update(200, 8, T, 2.5)).toBe(AlarmTransition.None);
+    expect(s.update(300, 8, T, 3.5)).toBe(AlarmTransition.Raised);
   });
 });

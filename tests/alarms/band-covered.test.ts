@@ -1,8 +1,8 @@
 // Band levels when new lines cover part or all of a band (their lobes and skirts are left out of the floor).
 import { spawnSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { BandCompare } from '../../dsp/alarms/band-compare.ts';
-import { bandDegreesOfFreedom, binPowerCorrelation, conservativeAverages } from '../../dsp/alarms/threshold.ts';
+import { BandCompare } from '../../dsp/detection/band-compare.ts';
+import { bandDegreesOfFreedom, binPowerCorrelation, conservativeAverages } from '../../dsp/detection/threshold.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import { captureLive } from '../../agent/baseline/live-capture.ts';
-import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 const FS = 4000;

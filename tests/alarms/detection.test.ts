@@ -12,7 +12,7 @@ import {
   type Bench,
 } from '../../scripts/detection/harness.ts';
 import type { BaselineFile } from '../../agent/baseline/format.ts';
-import { defaultRules, parseRules } from '../../agent/alarms/rules.ts';
+import { defaultRules, parseRules } from '../../agent/rules/rules.ts';
 
 const TAU = 10;
 const ON_DELAY = 0.5;
@@ -69,7 +69,8 @@ describe('detection on seeded recordings', () => {
       fault: { kind: 'mains', fundamental: 50, harmonics: [1e-5, 0, 1e-5 / 3], driftSpan: 0.05 },
     });
     const band = r.events.filter((e) => e.rule === 'band-rise');
-    expect(band.map((e) => e.state)).toEqual(['raised', 'cleared']);
+    // The settled event sits between them: the recent window came to hold only samples after the switch-on.
+    expect(band.map((e) => e.state)).toEqual(['raised', 'settled', 'cleared']);
     expect(band[1].t - 20).toBeLessThan(4 * TAU);
     expect(r.events.some((e) => e.rule === 'mains' && e.harmonic === 1)).toBe(true);
   });
@@ -130,7 +131,7 @@ describe('detection on seeded recordings', () => {
     const withRules = (band: object) =>
       runScenario({ bench: DEFAULT_BENCH, baseline, rules: parseRules({ band: { ...bands, ...band } }, 'test'), seed: 12, onsetSeconds: 10, faultSeconds: 100, seconds: 160, fault });
     const hysteresis = withRules({}).events.filter((e) => e.rule === 'band-rise');
-    expect(hysteresis.map((e) => e.state)).toEqual(['raised', 'cleared']);
+    expect(hysteresis.map((e) => e.state)).toEqual(['raised', 'settled', 'cleared']);
     const bare = withRules({ onDelay: 0, offDelay: 0, deadband: 0 }).events.filter((e) => e.rule === 'band-rise');
     expect(bare.length).toBeGreaterThan(4);
   });

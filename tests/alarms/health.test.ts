@@ -3,12 +3,12 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
-import { AlarmHook } from '../../agent/alarms/alarm-hook.ts';
-import { Detectors } from '../../agent/alarms/detectors.ts';
-import { defaultRules } from '../../agent/alarms/rules.ts';
+import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
+import { Detectors } from '../../agent/rules/detectors.ts';
+import { defaultRules } from '../../agent/rules/rules.ts';
 import { EventLog } from '../../agent/events/event-log.ts';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { captureQuietBaseline, DEFAULT_BENCH, runScenario } from '../../scripts/detection/harness.ts';
 

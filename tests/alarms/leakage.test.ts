@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { leakageEnvelope } from '../../dsp/alarms/leakage.ts';
+import { leakageEnvelope } from '../../dsp/detection/leakage.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 
 describe('leakageEnvelope', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { MainsClassifier, harmonicOrder } from '../../dsp/alarms/mains.ts';
+import { MainsClassifier, harmonicOrder } from '../../dsp/detection/mains.ts';
 
 function lines(list: [number, number][]): { f: Float64Array; a: Float64Array; n: number } {
   return { f: Float64Array.from(list, (x) => x[0]), a: Float64Array.from(list, (x) => x[1]), n: list.length };

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { defaultBands, parseBand } from '../../agent/alarms/default-bands.ts';
-import { defaultRules, parseRules, timingInSamples } from '../../agent/alarms/rules.ts';
+import { defaultBands, parseBand } from '../../agent/rules/default-bands.ts';
+import { defaultRules, parseRules, timingInSamples } from '../../agent/rules/rules.ts';
 
 describe('rules configuration', () => {
   it('merges a config over the defaults and turns seconds into samples', () => {

@@ -1,6 +1,6 @@
 import { beforeAll, describe, expect, it } from 'vitest';
-import { RunningMedian } from '../../dsp/alarms/running-median.ts';
-import { SpurFinder } from '../../dsp/alarms/spur-finder.ts';
+import { RunningMedian } from '../../dsp/detection/running-median.ts';
+import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { scipyBatch } from './scipy-reference.ts';
 

@@ -6,7 +6,7 @@ import {
   effectiveBins,
   fUpperQuantile,
   riseThresholdDb,
-} from '../../dsp/alarms/threshold.ts';
+} from '../../dsp/detection/threshold.ts';
 import { scipyReference } from './scipy-reference.ts';
 
 function hann(n: number): Float64Array {

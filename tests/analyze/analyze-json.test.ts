@@ -45,13 +45,16 @@ interface JsonReport {
 
 function analyzeJson(...args: string[]): JsonReport {
   const r = runCli('analyze', ...args, '--json');
-  expect(r.stderr).toBe('');
+  // The 24-bit fixture holds full-scale codes on purpose: the clip warning is the only stderr allowed.
+  expect(r.stderr.replace(/^floorline analyze: warning: ch\d: \d+ clipped sample\(s\) at .*\n/gm, '')).toBe('');
   expect(r.status).toBe(0);
   return JSON.parse(r.stdout);
 }
 
 /** Every check of one report against scipy.signal.welch on scipy.io.wavfile.read's samples. */
 async function expectMatchesScipy(path: string, report: JsonReport, s: ReferenceSettings): Promise<void> {
+  // Without --band the report carries the default decade bands: check those edges against numpy too.
+  if (s.bands.length === 0) s = { ...s, bands: report.channels[0].bands.map((b) => [b.low, b.high] as [number, number]) };
   const ref = await welchReference(py, path, s);
   expect(report.sampleRate).toBe(ref.rate);
   expect(report.samples).toBe(ref.samples);
@@ -82,8 +85,11 @@ describe('floorline analyze --json', () => {
     // Defaults (docs/ARCHITECTURE.md): 60000 samples give ≥ 8 averages at 4096, Hann, overlap 0.5, detrend mean.
     expect(report.settings).toMatchObject({ segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' });
     expect(Object.keys(report)).toEqual(['file', 'sampleRate', 'samples', 'settings', 'channels']);
-    expect(Object.keys(report.settings)).toEqual(['segment', 'window', 'overlap', 'detrend', 'averages', 'nenbw', 'enbwHz', 'binHz']);
-    expect(Object.keys(report.channels[0])).toEqual(['name', 'unit', 'frequency', 'psd', 'asd', 'rms', 'bands']);
+    expect(Object.keys(report.settings)).toEqual([
+      'segment', 'window', 'overlap', 'detrend', 'averages', 'nenbw', 'enbwHz', 'binHz', 'average', 'excludedSegments', 'equivalentAverages', 'span',
+    ]);
+    // A float file from elsewhere reads as FS: full scale ±1 is known (fullScale), its step is not (no lsb).
+    expect(Object.keys(report.channels[0])).toEqual(['name', 'unit', 'referredTo', 'frequency', 'psd', 'asd', 'rms', 'bands', 'clippedSamples', 'missingSamples', 'fullScale']);
     expect(report.channels.map((c) => `${c.name}/${c.unit}`)).toEqual(['ch0/FS', 'ch1/FS', 'ch2/FS']);
     await expectMatchesScipy(path, report, {
       segment: 4096,
@@ -114,6 +120,9 @@ describe('floorline analyze --json', () => {
     const path = join(dir, 'f64.wav');
     const report = analyzeJson(path, '--segment', '1024', '--window', 'rect', '--detrend', 'none', '--overlap', '0');
     await expectMatchesScipy(path, report, { segment: 1024, scipyWindow: 'boxcar', overlap: 0, detrend: false, bands: [] });
+    // No --band: decade bands (edges at powers of ten inside the usable range) and the whole usable band, as live.
+    const edges = report.channels[0].bands.slice(0, -1).map((b) => b.high);
+    expect(edges.slice(0, -1)).toEqual([100, 1000]);
     // The 0.5 offset puts 0.25 FS² of power at DC, which 'none' keeps and the total RMS leaves out.
     expect(report.channels[0].psd[0]).toBeGreaterThan(1e3 * report.channels[0].psd[1]);
   });

@@ -76,7 +76,7 @@ result = float(np.max(np.abs(a[:, 1::2] - ref) / ref)) if ok else -1.0`,
     expect(Math.abs(value(/total RMS \(DC excluded\)/) / ref.rms[0] - 1)).toBeLessThan(5e-3);
     expect(Math.abs(value(/band 100–1000 Hz RMS/) / ref.bands[0][0] - 1)).toBeLessThan(5e-3);
     expect(r.stdout).toMatch(/floor density \(median ASD\)\s+[\d.]+ [mµnp]?V\/√Hz/);
-    expect(r.stdout).toMatch(new RegExp(`segment 256 .*window hann .*overlap 0.5, detrend mean, ${ref.averages} averages`));
+    expect(r.stdout).toMatch(new RegExp(`segment 256 .*window hann .*overlap 0.5, detrend mean\naveraging: mean of ${ref.averages} segments`));
   });
 
   it('warns on stderr about a truncated file and still reports it', () => {

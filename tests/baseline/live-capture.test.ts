@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import { captureLive } from '../../agent/baseline/live-capture.ts';
-import type { StreamInfo } from '../../agent/core/stream.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { scipyReference } from '../alarms/scipy-reference.ts';
 

@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, freePort, type Agent } from './support/agent.ts';
-import type { AgentStatus } from '../../agent/wire/messages.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'floorline-browser-'));
 let browser: BrowserContext;
@@ -76,9 +76,9 @@ describe('dashboard against a running replay', () => {
     await page.screenshot({ path: join(ARTIFACTS, 'dashboard-replay.png') });
     expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*fault\.wav/);
     expect(await page.isVisible('#replay-banner')).toBe(true);
-    // Channel colours #0b6e99 and #c2410c (dashboard/colours.ts): thousands of trace pixels each, none before data.
-    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
-    expect(await tracePixels(page, [0xc2, 0x41, 0x0c])).toBeGreaterThan(300);
+    // Channel colours #0072b2 and #d55e00 (dashboard/colours.ts): thousands of trace pixels each, none before data.
+    expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0xd5, 0x5e, 0x00])).toBeGreaterThan(300);
     expect(await page.textContent('#spectral-context')).toMatch(/hann window · ENBW 1\.500 bins/); // Hann NENBW = 1.5 bins (Harris 1978, Table 1)
     const health = await page.textContent('#health');
     expect(health).toMatch(/8\u2009000 S\/s/);
@@ -188,7 +188,7 @@ describe('dashboard against a running replay', () => {
     expect(out.map(Number)).toEqual([2049, 3, 8000 / 4096, 4000]);
   });
 
-  it('exports the chart as a PNG of the canvas size with the spectral context under it', async () => {
+  it('exports the chart as a PNG of the canvas size with a legend and the spectral context under it', async () => {
     const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#export-png')]);
     const path = join(dir, 'spectrum.png');
     await dl.saveAs(path);
@@ -197,7 +197,9 @@ describe('dashboard against a running replay', () => {
     expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
     const size: [number, number] = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return [c.width, c.height]; })()`);
     expect(png.readUInt32BE(16)).toBe(size[0]);
-    expect(png.readUInt32BE(20)).toBe(size[1] + 28);
+    // dashboard/export.ts PNG_CAPTION_PX (44 CSS px: legend row, then context and time), at the canvas's pixel ratio.
+    const ratio: number = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return c.width / c.clientWidth; })()`);
+    expect(png.readUInt32BE(20)).toBe(size[1] + Math.round(44 * ratio));
   });
 
   it('starts and stops a recording from the button, writing a WAV into the data folder', async () => {
@@ -217,13 +219,41 @@ describe('dashboard against a running replay', () => {
     expect(execFileSync('python3', ['-c', py], { encoding: 'utf8' }).trim()).toBe('8000 float32 2 True');
   });
 
-  it('changes the segment length from the controls; the agent and the chart follow', async () => {
+  it('changes the segment length from the controls after a warning; the agent and the chart follow, and a banner says the baseline comparison is off', async () => {
+    // The baseline captured above compares at segment 4096: leaving its settings must not happen silently.
+    await waitUntil(page, `window.floorline.status && window.floorline.status.bands.some((b) => b.thresholdDb !== null)`, 15_000);
     await page.selectOption('#segment', '2048');
+    await page.click('#apply-analysis');
+    expect(await page.textContent('#control-message')).toMatch(/band alarms stop comparing.*Press again/);
+    const before = (await (await fetch(`${a.url}api/status`)).json()) as AgentStatus;
+    expect(before.settings?.segment).toBe(4096); // nothing sent yet
     await page.click('#apply-analysis');
     await waitUntil(page, `/segment 2048/.test(document.getElementById('spectral-context').textContent)`, 15_000);
     const st = (await (await fetch(`${a.url}api/status`)).json()) as AgentStatus;
     expect(st.settings?.segment).toBe(2048);
     expect(await page.textContent('#spectral-context')).toMatch(/bin 3\.906 Hz/); // 8000 / 2048
+    await waitUntil(page, `!document.getElementById('comparison-banner').hidden`, 15_000);
+    expect(await page.textContent('#comparison-text')).toMatch(/Baseline comparison off since t = [\d.]+ s/);
+    // One click back to the baseline's settings.
+    await page.click('#comparison-restore');
+    await expect.poll(() => page.textContent('#control-message'), { timeout: 15_000 }).toMatch(/back to segment 4096/);
+    await waitUntil(page, `/segment 4096/.test(document.getElementById('spectral-context').textContent)`, 15_000);
+  });
+
+  it('holds a drag-zoom on the spectrum through 50 new frames, and resets it with a double-click', async () => {
+    const box = (await page.locator('#spectrum .u-over').boundingBox())!;
+    await page.mouse.move(box.x + box.width * 0.4, box.y + box.height / 2);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width * 0.6, box.y + box.height / 2, { steps: 5 });
+    await page.mouse.up();
+    const xs = () => page.evaluate(`[window.floorline.spectrum.plot.scales.x.min, window.floorline.spectrum.plot.scales.x.max, window.floorline.spectrum.plot.scales.y.min]`) as Promise<number[]>;
+    const zoomed = await xs();
+    const start = await applied(page);
+    await expect.poll(() => applied(page), { timeout: 20_000 }).toBeGreaterThan(start + 50);
+    expect(await xs()).toEqual(zoomed);
+    // uPlot's documented reset on double-click: the whole spectrum, first bin to Nyquist (8000 / 2).
+    await page.mouse.dblclick(box.x + box.width / 2, box.y + box.height / 2);
+    await expect.poll(async () => (await xs())[1], { timeout: 5_000 }).toBe(4000);
   });
 });
 
@@ -233,7 +263,7 @@ describe('alarms and restarts', () => {
     const a = await agent(['demo', '--speed', '4', '--http-port', '0', '--data', join(dir, 'data-demo')]);
     const page = await openDashboard(a.url);
     expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*demo\.wav .* at 4×, looping/);
-    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
     // Rows are newest first: the last matching row is the first raise.
     const mains = page.locator('#events tbody tr[data-rule="mains"][data-state="raised"][data-channel="bridge"]').last();
     await mains.waitFor({ state: 'attached', timeout: 30_000 });
@@ -282,7 +312,7 @@ describe('alarms and restarts', () => {
     const second = await agent(args);
     await waitUntil(page, `document.body.dataset.link === 'up'`, 15_000);
     await expect.poll(() => applied(page), { timeout: 15_000 }).toBeGreaterThan(before + 3);
-    expect(await tracePixels(page, [0x0b, 0x6e, 0x99])).toBeGreaterThan(300);
+    expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
     await page.close();
     await second.stop();
   });

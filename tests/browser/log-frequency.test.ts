@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
-import type { AgentStatus } from '../../agent/wire/messages.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
 import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'floorline-logf-'));
@@ -48,7 +48,7 @@ describe('log-frequency view on the demo replay', () => {
   it('switches the spectrum panel to log-frequency and draws each channel on its canvas', async () => {
     expect(await page.isVisible('#logf-chart')).toBe(true);
     expect(await page.isVisible('#spectrum')).toBe(false);
-    // Channel colours #0b6e99 (bridge) and #c2410c (shorted), dashboard/colours.ts.
+    // Channel colours #0072b2 (bridge) and #d55e00 (shorted), dashboard/colours.ts.
     const pixels = (rgb: number[]): Promise<number> =>
       page.evaluate(`(() => {
         const c = ${JSON.stringify(rgb)};
@@ -57,8 +57,8 @@ describe('log-frequency view on the demo replay', () => {
         for (let i = 0; i < d.length; i += 4) if (Math.abs(d[i] - c[0]) < 24 && Math.abs(d[i + 1] - c[1]) < 24 && Math.abs(d[i + 2] - c[2]) < 24 && d[i + 3] > 200) n++;
         return n;
       })()`);
-    await expect.poll(() => pixels([0x0b, 0x6e, 0x99]), { timeout: 10_000 }).toBeGreaterThan(200);
-    expect(await pixels([0xc2, 0x41, 0x0c])).toBeGreaterThan(200);
+    await expect.poll(() => pixels([0x00, 0x72, 0xb2]), { timeout: 10_000 }).toBeGreaterThan(200);
+    expect(await pixels([0xd5, 0x5e, 0x00])).toBeGreaterThan(200);
     // Hovering gives RBW and averages at the point.
     const box = (await page.locator('#logf-chart .u-over').boundingBox())!;
     await page.mouse.move(box.x + box.width * 0.3, box.y + box.height / 2);

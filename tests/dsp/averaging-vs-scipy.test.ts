@@ -8,7 +8,7 @@
 // bias of n − 1, as scipy.signal.welch documents it does. Python runs once per file (child_process).
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import type { AveragingSpec } from '../../agent/core/settings.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
 import { medianBias } from '../../dsp/averaging.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
 

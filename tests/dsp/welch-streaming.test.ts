@@ -2,7 +2,7 @@
 // Property-based with fast-check; the reference is the same samples pushed in one call.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import type { AveragingSpec } from '../../agent/core/settings.ts';
+import type { AveragingSpec } from '../../protocol/settings.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { WelchEstimator } from '../../dsp/welch.ts';
 

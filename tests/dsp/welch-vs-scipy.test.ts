@@ -3,7 +3,7 @@
 // average, axis=-1)). Float64 input: relative error ≤ 1e-9 on every bin above 1e-12 of the channel's peak.
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import type { AveragingSpec, DetrendMode } from '../../agent/core/settings.ts';
+import type { AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
 import { WelchEstimator, type Scaling } from '../../dsp/welch.ts';
 import { makeWindow } from '../../dsp/windows.ts';
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { SeededRandom } from '../../dsp/random.ts';
-import { butterworthSos, cascadeSos, settleSamples, sosPowerResponse } from '../../dsp/lowfreq/butterworth.ts';
-import { SosCascade } from '../../dsp/lowfreq/sos-filter.ts';
+import { butterworthSos, cascadeSos, settleSamples, sosPowerResponse } from '../../dsp/filters/butterworth.ts';
+import { SosCascade } from '../../dsp/filters/sos-filter.ts';
 import { runPython, type PyValue } from '../logfreq/python.ts';
 
 const designs = [

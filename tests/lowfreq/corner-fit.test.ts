@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { digamma, trigamma } from '../../dsp/lowfreq/polygamma.ts';
-import { fitCorner } from '../../dsp/lowfreq/corner-fit.ts';
+import { digamma, trigamma } from '../../dsp/special/polygamma.ts';
+import { fitCorner } from '../../dsp/flicker/corner-fit.ts';
 import { planLogFrequencies } from '../../dsp/logfreq/plan.ts';
 import { logFrequencyPsd } from '../../dsp/logfreq/log-frequency-psd.ts';
 import { runPython } from '../logfreq/python.ts';

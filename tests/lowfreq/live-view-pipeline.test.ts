@@ -4,7 +4,7 @@
 import { describe, expect, it } from 'vitest';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import { LiveLowFrequency } from '../../agent/lowfreq/live-low-frequency.ts';
-import type { LowFrequencyUpdate } from '../../agent/wire/low-frequency-messages.ts';
+import type { LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { runPython } from '../logfreq/python.ts';
 

@@ -2,7 +2,7 @@
 // 1/f fit on noise of a known spectrum made by numpy, and the 0.1–10 Hz figures against scipy.signal.sosfilt.
 import { describe, expect, it } from 'vitest';
 import { LiveLowFrequency } from '../../agent/lowfreq/live-low-frequency.ts';
-import type { LowFrequencyUpdate } from '../../agent/wire/low-frequency-messages.ts';
+import type { LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 import { runPython } from '../logfreq/python.ts';
 
 const FS = 1000;

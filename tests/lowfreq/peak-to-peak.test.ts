@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { SeededRandom } from '../../dsp/random.ts';
-import { PeakToPeakMeter, type PeakToPeakReading } from '../../dsp/lowfreq/peak-to-peak.ts';
+import { PeakToPeakMeter, type PeakToPeakReading } from '../../dsp/flicker/peak-to-peak.ts';
 import { runPython } from '../logfreq/python.ts';
 
 /** Pushes x in blocks of `block` samples. */

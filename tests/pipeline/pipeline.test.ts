@@ -2,7 +2,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Pipeline, type PipelineOptions } from '../../agent/pipeline/pipeline.ts';
 import type { SpectrumSnapshot, ClipNotice, OverrunNotice } from '../../agent/pipeline/types.ts';
-import type { GapNotice, StreamInfo } from '../../agent/core/stream.ts';
+import type { GapNotice, StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { maxRelativeError, scipyWelch } from './scipy-welch.ts';
 import { Python } from '../wav/support.ts';

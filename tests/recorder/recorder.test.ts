@@ -72,19 +72,27 @@ result = bool(np.array_equal(np.concatenate(parts), src)) and all(wavfile.read(p
     let handle: ReturnType<Recorder['capture']> | undefined;
     let early: ReturnType<Recorder['capture']> | undefined;
     let joined: ReturnType<Recorder['capture']> | undefined;
+    let other: ReturnType<Recorder['capture']> | undefined;
     const { folder } = await replayWithRecorder('capture', { preSeconds: 2, postSeconds: 1 }, (r, p) => {
       p.on('block', (b) => {
         // Ask when the stream passes the trigger, as an alarm would (its decision comes after the samples).
         if (!handle && b.firstSample + b.frames > trigger + 500) handle = r.capture(trigger, 'band-rise ch0');
-        if (handle && !joined && b.firstSample > trigger + 1500) joined = r.capture(trigger + 1500, 'spur ch1');
+        if (handle && !joined && b.firstSample > trigger + 1500) {
+          joined = r.capture(trigger + 1500, 'band-rise ch0');
+          other = r.capture(trigger + 1500, 'spur ch1');
+        }
         if (!early && b.firstSample >= 1000) early = r.capture(500, 'early');
       });
     });
     const done = await handle!.done;
     expect(done.file).toBe(handle!.file);
     expect(handle!.firstSample).toBe(trigger - 2 * RATE);
-    // A second alarm inside the running capture extends it instead of opening another file.
+    // A second alarm of the same label (incident and channel) inside the running capture extends it; another
+    // label gets a file named after itself, though the spans overlap.
     expect(joined!.file).toBe(handle!.file);
+    expect(other!.file).not.toBe(handle!.file);
+    expect(other!.file).toMatch(/capture-spur_ch1-/);
+    await other!.done;
     expect(done.frames).toBe(2 * RATE + 1500 + RATE + 1);
     const meta = JSON.parse(readFileSync(join(folder.root, `${handle!.file}.json`), 'utf8'));
     expect(meta.firstSample).toBe(trigger - 2 * RATE);

@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Pipeline } from '../../agent/pipeline/pipeline.ts';
 import type { SpectrumSnapshot } from '../../agent/pipeline/types.ts';
-import type { GapNotice, SampleBlock, SourceSink, StreamInfo } from '../../agent/core/stream.ts';
+import type { GapNotice, SampleBlock, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { ReplaySource } from '../../agent/sources/replay.ts';
 import { Python, root, tempDir } from '../wav/support.ts';
 

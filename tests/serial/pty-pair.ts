@@ -2,7 +2,7 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
-import type { SampleBlock, SourceSink, StreamInfo, GapNotice, LinkNotice } from '../../agent/core/stream.ts';
+import type { SampleBlock, SourceSink, StreamInfo, GapNotice, LinkNotice } from '../../protocol/stream.ts';
 
 const root = new URL('../..', import.meta.url).pathname;
 

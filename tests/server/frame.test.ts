@@ -1,9 +1,9 @@
-// The binary frame layout as documented in agent/wire/frame.ts, read back by an independent reader
+// The binary frame layout as documented in protocol/frame.ts, read back by an independent reader
 // (python3 struct + numpy.frombuffer following the documented offsets), and its error cases.
 import { describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
-import { decodeFrame, encodeFrame, frameBytes, FrameFormatError, FRAME_MAGIC } from '../../agent/wire/frame.ts';
-import { PROTOCOL_VERSION } from '../../agent/wire/messages.ts';
+import { decodeFrame, encodeFrame, frameBytes, FrameFormatError, FRAME_MAGIC } from '../../protocol/frame.ts';
+import { PROTOCOL_VERSION } from '../../protocol/messages.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 function sampleFrame(): { buf: ArrayBuffer; psd: Float64Array[] } {

@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { PipelineBackend } from '../../agent/server/pipeline-backend.ts';
 import { dataFolderAt } from '../../agent/config/data-folder.ts';
 import type { Pipeline } from '../../agent/pipeline/pipeline.ts';
-import type { FloorlineEvent } from '../../agent/core/events.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { AlarmRef } from '../../agent/server/backend.ts';
 
 /** The few Pipeline members the adapter uses, with a hand to emit its events. */

@@ -2,11 +2,12 @@
 // validated input, and no file outside the data folder.
 import { afterEach, describe, expect, it } from 'vitest';
 import { request } from 'node:http';
+import { connect } from 'node:net';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { startServer } from '../../agent/server/index.ts';
 import { ServerConfigError } from '../../agent/server/options.ts';
-import { MAX_CLIENT_MESSAGE_BYTES } from '../../agent/wire/messages.ts';
+import { MAX_CLIENT_MESSAGE_BYTES } from '../../protocol/messages.ts';
 import { startWithFake, type Started } from './support/start.ts';
 import { TestClient } from './support/ws-client.ts';
 import { FakeBackend } from './support/fake-backend.ts';
@@ -37,6 +38,18 @@ function get(url: string, headers: Record<string, string> = {}): Promise<{ statu
     });
     req.on('error', reject);
     req.end();
+  });
+}
+
+/** Raw bytes to the port; resolves with whatever came back before the socket closed. */
+function rawRequest(port: number, bytes: string): Promise<string> {
+  return new Promise((resolve) => {
+    const s = connect(port, '127.0.0.1');
+    let got = '';
+    s.on('data', (d) => (got += d.toString()));
+    s.on('close', () => resolve(got));
+    s.on('error', () => resolve(got));
+    s.end(bytes);
   });
 }
 
@@ -100,10 +113,34 @@ describe('origin and host', () => {
     expect((await get(`${started.base}/api/status`, { host: `localhost:${started.server.port}` })).status).toBe(200);
   });
 
+  it('parses Host strictly: userinfo, a path or a bad port after a loopback name is refused', async () => {
+    started = await startWithFake();
+    for (const host of [`127.0.0.1:${started.server.port}@evil.example`, `127.0.0.1:${started.server.port}/x`, '127.0.0.1:99999', '127.0.0.1 evil']) {
+      expect((await get(`${started.base}/api/status`, { host })).status, host).toBe(403);
+    }
+  });
+
   it('answers only GET and HEAD', async () => {
     started = await startWithFake();
     const r = await fetch(`${started.base}/api/status`, { method: 'POST', body: '{}' });
     expect(r.status).toBe(405);
+  });
+});
+
+describe('pre-auth input that once stopped the process', () => {
+  it('answers a request target that is not a URL (GET //[) with 400, on plain requests and upgrades, and keeps serving', async () => {
+    started = await startWithFake({ token: TOKEN });
+    for (const extra of ['', 'Upgrade: websocket\r\nConnection: Upgrade\r\nSec-WebSocket-Version: 13\r\nSec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==\r\n']) {
+      const reply = await rawRequest(started.server.port, `GET //[ HTTP/1.1\r\nHost: 127.0.0.1\r\n${extra}\r\n`);
+      expect(reply).toMatch(/^HTTP\/1\.1 400/);
+    }
+    expect((await get(`${started.base}/api/status`, { authorization: `Bearer ${TOKEN}` })).status).toBe(200);
+  });
+
+  it('treats a token cookie that is not percent-encoding (floorline_token=%) as no token: 401, not a crash', async () => {
+    started = await startWithFake({ token: TOKEN });
+    expect((await get(`${started.base}/`, { cookie: 'floorline_token=%' })).status).toBe(401);
+    expect((await get(`${started.base}/api/status`, { authorization: `Bearer ${TOKEN}` })).status).toBe(200);
   });
 });
 

@@ -1,6 +1,6 @@
 // Every client message is validated before the backend sees it; refusals name the field and keep the request id.
 import { describe, expect, it } from 'vitest';
-import { parseClientMessage } from '../../agent/wire/validate.ts';
+import { parseClientMessage } from '../../agent/server/validate.ts';
 
 const ok = (o: unknown) => parseClientMessage(JSON.stringify(o));
 

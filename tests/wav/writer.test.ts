@@ -121,7 +121,7 @@ describe('WavWriter', () => {
     appendFileSync(crashed, Buffer.from([1, 2, 3, 4, 5])); // and half a frame of a torn last write
     const before = await readWavFile(crashed);
     expect(before.info.frames).toBe(5000); // the patched header is believed until repaired
-    expect(before.info.warnings.join(' ')).toMatch(/are not RIFF chunks and were ignored.*`floorline repair FILE` recovers them/);
+    expect(before.info.warnings.join(' ')).toMatch(/samples written after the last header update.*`floorline repair FILE` recovers them/);
     const written = 5000 + Math.floor(15000 / 512) * 512; // flushed, then only full 512-frame buffers reach the disk
     const result = await repairWav(crashed);
     expect(result).toMatchObject({ frames: written, declaredBefore: 5000 * 12, droppedBytes: 5, changed: true });

@@ -3,12 +3,13 @@
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
 import { PIPELINE_FLAGS } from './pipeline-flags.ts';
-import type { AnalysisSettings, DetrendMode } from '../../core/settings.ts';
+import type { AnalysisSettings, DetrendMode } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
 import { BaselineCapture } from '../../baseline/capture.ts';
+import { forEachFiniteRun } from '../../pipeline/conditioner.ts';
 import { writeBaseline } from '../../baseline/format.ts';
-import { defaultBands, parseBand } from '../../alarms/default-bands.ts';
+import { defaultBands, parseBand } from '../../rules/default-bands.ts';
 
 const ANALYSIS_FLAG_NAMES = ['segment', 'window', 'overlap', 'detrend'];
 
@@ -70,8 +71,24 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
     } catch (err) {
       throw new InputError(`floorline baseline: ${file}: ${(err as Error).message}.`);
     }
-    for (let b = await reader.read(); b && !capture.push(b); b = await reader.read());
-    const baseline = capture.result(new Date().toISOString());
+    let excluded = 0;
+    let complete = false;
+    for (let b = await reader.read(); b && !complete; b = await reader.read()) {
+      const block = b;
+      // Frames holding NaN/±Inf/overflow are excluded like a gap, as in the live pipeline.
+      excluded += forEachFiniteRun(block.data, 0, block.frames, (from, to, finite) => {
+        if (complete) return;
+        if (!finite) capture.gap(block.firstSample + to);
+        else complete = capture.push({ firstSample: block.firstSample + from, frames: to - from, data: from === 0 ? block.data : block.data.map((d) => d.subarray(from)) });
+      });
+    }
+    if (excluded > 0) process.stderr.write(`floorline baseline: warning: ${excluded} frames hold NaN, ±Inf or values beyond float32; they are excluded like a gap\n`);
+    let baseline;
+    try {
+      baseline = capture.result(new Date().toISOString());
+    } catch (err) {
+      throw new InputError(`floorline baseline: ${file}: ${(err as Error).message}.`);
+    }
     try {
       await writeBaseline(out, baseline);
     } catch (err) {

@@ -1,7 +1,7 @@
 // What run, replay and demo print on the terminal: the stream header, one line per event, a closing summary.
 // Everything is stamped in sample time (sample index and t); wall time appears only as a label.
-import type { FloorlineEvent } from '../../core/events.ts';
-import type { StreamInfo } from '../../core/stream.ts';
+import type { FloorlineEvent } from '../../../protocol/events.ts';
+import type { StreamInfo } from '../../../protocol/stream.ts';
 import type { Pipeline } from '../../pipeline/pipeline.ts';
 import type { SnapshotDigest } from '../../pipeline/snapshot-digest.ts';
 import type { Recorder } from '../../recorder/recorder.ts';

@@ -2,12 +2,12 @@
 // snapshot rate and the data folder. Parsed once here so the three commands accept the same spellings.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../usage-error.ts';
-import type { AveragingSpec, DetrendMode } from '../../core/settings.ts';
+import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { AlarmHook } from '../../alarms/alarm-hook.ts';
-import { parseBand } from '../../alarms/default-bands.ts';
-import { defaultRules, loadRules, type RulesConfig } from '../../alarms/rules.ts';
+import { AlarmHook } from '../../rules/alarm-hook.ts';
+import { parseBand } from '../../rules/default-bands.ts';
+import { defaultRules, loadRules, type RulesConfig } from '../../rules/rules.ts';
 import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import type { Recorder } from '../../recorder/recorder.ts';
@@ -119,9 +119,9 @@ export interface AlarmFlagValues {
 }
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
-export async function readAlarmFlags(args: ParsedArgs, command: string): Promise<AlarmFlagValues> {
+export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig): Promise<AlarmFlagValues> {
   const f = args.flags;
-  const rules = f.rules ? await loadRules(f.rules as string) : defaultRules();
+  const rules = f.rules ? await loadRules(f.rules as string) : configRules ? structuredClone(configRules) : defaultRules();
   const bands = (f.band as string[]).map((b) => {
     try {
       return parseBand(b);

@@ -7,16 +7,20 @@ import { Pipeline } from '../../pipeline/pipeline.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { startSession } from './session.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { CalibratedSource } from '../../config/calibration.ts';
 
 async function runReplay(args: ParsedArgs): Promise<number> {
   const [file] = args.positionals;
+  const rig = readConfigFlag(args, replayCommand.flags);
   const f = args.flags;
   const flags = readPipelineFlags(args, 'replay');
   const rec = readRecordingFlags(args);
-  const alarms = await readAlarmFlags(args, 'replay');
+  const alarms = await readAlarmFlags(args, 'replay', rig?.rules);
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
     throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);
@@ -34,6 +38,8 @@ async function runReplay(args: ParsedArgs): Promise<number> {
     startTime: f['start-time'] as number | undefined,
     scale: f.scale as number | undefined,
   });
+  const channels = rig?.config.channels;
+  const fed = channels ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline replay: calibration: ${n}\n`)) : source;
   const snapOut = f['snapshots-out'] ? createWriteStream(f['snapshots-out'] as string) : undefined;
   if (snapOut) pipeline.on('snapshot', (s) => snapOut.write(snapshotToJsonLine(s) + '\n'));
 
@@ -42,8 +48,10 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   try {
     session = await startSession({
       command: 'replay',
+    notify: rig?.config.notify,
+    retention: rig?.config.retention,
       pipeline,
-      source,
+      source: fed,
       dataDir: flags.data,
       record: rec.record,
       recorder: rec.recorder,
@@ -52,10 +60,11 @@ async function runReplay(args: ParsedArgs): Promise<number> {
       frames: () => source.fileInfo?.frames,
       detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
       serve: f['no-server'] ? undefined : serveDashboard({
-        pipeline, source, args, replay: source, replayLoop: f.loop as boolean, detectors: () => installed,
+        pipeline, source: fed, args, replay: source, replayLoop: f.loop as boolean, detectors: () => installed,
         baseline: alarms.baseline && alarms.baselinePath ? { file: alarms.baselinePath, baseline: alarms.baseline } : undefined,
       }),
       eventsOut: alarms.eventsOut,
+      history: withSource(historyFromArgs(args, 'replay', flags.data, file), file, alarms.rules.band.bands),
     });
   } catch (err) {
     const e = err as Error & { exitCode?: number };
@@ -83,6 +92,7 @@ export const replayCommand: CommandSpec = {
   ].join('\n'),
   positionals: [{ name: 'FILE', help: 'recording to replay (our float32 WAV, or int16/24/32 or float WAV from elsewhere)', required: true }],
   flags: [
+    CONFIG_FLAG,
     { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed: 1 = real time, N times faster, or max' },
     { name: 'loop', kind: 'boolean', help: 'start again at the end (sample time keeps counting)' },
     { name: 'follow', kind: 'boolean', help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them' },
@@ -93,6 +103,7 @@ export const replayCommand: CommandSpec = {
     { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
     ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,

@@ -9,8 +9,12 @@ import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
 import type { Detector } from '../../pipeline/types.ts';
 import { startSession } from './session.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { CalibratedSource } from '../../config/calibration.ts';
+import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 async function runLive(args: ParsedArgs): Promise<number> {
+  const rig = readConfigFlag(args, runCommand.flags);
   const f = args.flags;
   const port = f.port as string | undefined;
   if (!port) throw new UsageError('floorline run: --port is required: a device path (/dev/serial/by-id/…), VID:PID or serial=SERIAL; see `floorline ports`.');
@@ -20,7 +24,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
   }
   const flags = readPipelineFlags(args, 'run');
   const rec = readRecordingFlags(args);
-  const alarms = await readAlarmFlags(args, 'run');
+  const alarms = await readAlarmFlags(args, 'run', rig?.rules);
   const pipeline = new Pipeline({
     analysis: flags.analysis,
     averaging: flags.averaging,
@@ -29,7 +33,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
     queueCapacity: f.queue as number,
   });
   const quiet = f.quiet as boolean;
-  const source = new SerialSource({
+  const serial = new SerialSource({
     port,
     baudRate: f.baud as number,
     format,
@@ -38,9 +42,13 @@ async function runLive(args: ParsedArgs): Promise<number> {
     scale: f.scale as number,
     log: (line) => process.stderr.write(`floorline run: ${line}\n`),
   });
+  const channels = rig?.config.channels;
+  const source = channels ? new CalibratedSource(serial, channels, (n) => process.stderr.write(`floorline run: calibration: ${n}\n`)) : serial;
   let installed: Detector[] = [];
   const session = await startSession({
     command: 'run',
+    notify: rig?.config.notify,
+    retention: rig?.config.retention,
     pipeline,
     source,
     dataDir: flags.data,
@@ -50,6 +58,7 @@ async function runLive(args: ParsedArgs): Promise<number> {
     quiet,
     detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
     eventsOut: alarms.eventsOut,
+    history: withSource(historyFromArgs(args, 'run', flags.data), port, alarms.rules.band.bands),
     serve: f['no-server']
       ? undefined
       : serveDashboard({
@@ -79,6 +88,7 @@ export const runCommand: CommandSpec = {
   ].join('\n'),
   positionals: [],
   flags: [
+    CONFIG_FLAG,
     { name: 'port', kind: 'string', value: 'PATH', help: 'serial device path, VID:PID[:SERIAL] or serial=SERIAL (see `floorline ports`)' },
     { name: 'baud', kind: 'number', value: 'N', integer: true, min: 1, default: 921600, help: 'baud rate (ignored by USB CDC boards and ptys)' },
     { name: 'format', kind: 'string', value: 'FMT', choices: ['binary', 'text'], default: 'binary', help: 'wire format' },
@@ -93,6 +103,7 @@ export const runCommand: CommandSpec = {
     ...RECORDING_FLAGS,
     ...PIPELINE_FLAGS,
     ...SERVER_FLAGS,
+    ...HISTORY_FLAGS,
   ],
   run: runLive,
 };

@@ -2,12 +2,12 @@
 // are known in closed form (white noise of RMS sigma has one-sided density 2·sigma²/fs, common practice).
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { FloorlineEvent } from '../../../agent/core/events.ts';
-import type { StreamInfo } from '../../../agent/core/stream.ts';
+import type { FloorlineEvent } from '../../../protocol/events.ts';
+import type { StreamInfo } from '../../../protocol/stream.ts';
 import type { BackendStatus, BackendSubscriber, ServerBackend, ServerSnapshot, BaselineOverlay, AnalysisChange, AlarmRef } from '../../../agent/server/backend.ts';
 import { BackendRefusal } from '../../../agent/server/backend.ts';
 import { resolveInside } from '../../../agent/config/safe-path.ts';
-import type { RecordingState } from '../../../agent/wire/messages.ts';
+import type { RecordingState } from '../../../protocol/messages.ts';
 
 export interface FakeOptions {
   dataRoot: string;

@@ -1,7 +1,7 @@
 // A small WebSocket client for server tests: collects JSON and binary messages and waits for them.
 import { WebSocket } from 'ws';
-import type { ServerMessage } from '../../../agent/wire/messages.ts';
-import { decodeFrame, type DecodedFrame } from '../../../agent/wire/frame.ts';
+import type { ServerMessage } from '../../../protocol/messages.ts';
+import { decodeFrame, type DecodedFrame } from '../../../protocol/frame.ts';
 
 export class TestClient {
   readonly json: ServerMessage[] = [];

@@ -1,0 +1,64 @@
+// Everything the report shows, read from the history store for one span: runs, trend rows at a resolution that
+// keeps the row count bounded, incidents with notes, health counts from the events, unstored spans.
+import type { StoreDb } from '../store/open-store.ts';
+import { queryTrend, type Every, type TrendSeries } from '../store/trend-query.ts';
+import { queryIncidents, type IncidentView } from '../store/incident-query.ts';
+import type { TimeBound } from '../store/time-bound.ts';
+
+export interface ReportData {
+  runs: { id: number; command: string; source: string; sampleRate: number; startWall: string; settings: Record<string, unknown> }[];
+  every: Every;
+  from: string;
+  to: string;
+  fromT: number;
+  toT: number;
+  series: TrendSeries[];
+  incidents: IncidentView[];
+  notes: { text: string; wallTime: string; t: number | null; incident: string | null }[];
+  health: { rule: string; state: string; count: number }[];
+  unstored: { from: string; to: string; reason: string }[];
+}
+
+export class EmptySpanError extends Error {
+  readonly exitCode = 2;
+}
+
+/** The coarsest resolution that still gives a few hundred points over the span. */
+function everyFor(spanMs: number): Every {
+  if (spanMs <= 6 * 3600e3) return '1s';
+  if (spanMs <= 14 * 86400e3) return '1m';
+  return '1h';
+}
+
+export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): ReportData {
+  const runs = (db.prepare('SELECT id, command, source, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
+    id: number; command: string; source: string; sample_rate: number; start_wall: string; settings: string;
+  }[]).map((r) => ({ id: r.id, command: r.command, source: r.source, sampleRate: r.sample_rate, startWall: r.start_wall, settings: JSON.parse(r.settings) }));
+  // First pass at 1 h to find the span's extent cheaply, then the resolution that suits it.
+  const coarse = queryTrend(db, { from, to, every: '1m', quantities: ['bandRms'], points: 2 });
+  const rows = coarse.series.flatMap((s) => s.rows.filter((r) => !r.gap));
+  const incidents = queryIncidents(db, from, to);
+  // An incident still open at the end of the store overlaps every later span: it alone does not make data.
+  const startsInside = incidents.filter((i) => (!from || (from.kind === 'wall' ? Date.parse(i.start.wallTime) >= from.ms : i.start.t >= from.seconds)));
+  if (rows.length === 0 && startsInside.length === 0) {
+    throw new EmptySpanError('floorline report: the store holds no trend rows and no incidents in this span; widen --from/--to (see `floorline trend --every 1h`).');
+  }
+  const walls = rows.map((r) => Date.parse(r.wallTime));
+  const fromMs = from?.kind === 'wall' ? from.ms : Math.min(...walls, ...incidents.map((i) => Date.parse(i.start.wallTime)));
+  const toMs = to?.kind === 'wall' ? to.ms : Math.max(...walls.map((w) => w + 60e3), ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)));
+  const every = everyFor(toMs - fromMs);
+  const trend = queryTrend(db, { from, to, every, points: 1500 });
+  const ts = trend.series.flatMap((s) => s.rows.map((r) => r.t));
+  const notes = (db.prepare('SELECT text, wall_time, t, incident FROM notes ORDER BY id').all() as { text: string; wall_time: string; t: number | null; incident: string | null }[])
+    .map((n) => ({ text: n.text, wallTime: n.wall_time, t: n.t, incident: n.incident }))
+    .filter((n) => Date.parse(n.wallTime) >= fromMs - 1 && Date.parse(n.wallTime) <= toMs + 1);
+  const health = db.prepare(`SELECT rule, state, count(*) AS count FROM events WHERE kind = 'alarm' AND rule IN ('gap', 'link', 'clip', 'overrun', 'disk')
+      AND wall_time >= ? AND wall_time <= ? GROUP BY rule, state ORDER BY rule, state`).all(new Date(fromMs).toISOString(), new Date(toMs).toISOString()) as ReportData['health'];
+  const unstored = (db.prepare('SELECT from_wall, to_wall, reason FROM unstored ORDER BY from_wall').all() as { from_wall: string; to_wall: string; reason: string }[])
+    .map((u) => ({ from: u.from_wall, to: u.to_wall, reason: u.reason }));
+  return {
+    runs, every, from: new Date(fromMs).toISOString(), to: new Date(toMs).toISOString(),
+    fromT: ts.length ? Math.min(...ts) : 0, toT: ts.length ? Math.max(...ts) : 0,
+    series: trend.series, incidents, notes, health, unstored,
+  };
+}

@@ -1,0 +1,120 @@
+// The adapter that hangs the history store on a running pipeline: takes the store's lock, opens and checks the
+// file, observes segments, snapshots and events, and commits twice a second. One call, one close.
+import { mkdirSync } from 'node:fs';
+import { dirname } from 'node:path';
+import type { Pipeline } from '../pipeline/pipeline.ts';
+import type { DetectorStatus } from '../rules/detectors.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
+import { lockStore, type StoreLock } from './store-lock.ts';
+import { openStoreForWriting, type StoreDb } from './open-store.ts';
+import { HistoryWriter } from './history-writer.ts';
+import { TrendSampler } from './trend-sampler.ts';
+import { IncidentBook, type AlarmEventLike, type IncidentRecord } from './incident-book.ts';
+import type { Level } from './schema.ts';
+
+export interface HistoryOptions {
+  /** The store file (DATA/floorline.sqlite for a live run). */
+  path: string;
+  command: string;
+  /** What feeds the pipeline (port path or recording), kept with each run. */
+  source: string;
+  bands?: readonly { low: number; high: number }[];
+  retention?: Record<Level, number>;
+  detectorStatus?: () => readonly DetectorStatus[] | undefined;
+  /** The detectors' own incident records (grouping, acknowledge state); absent: incidents are built from events. */
+  incidentRecords?: () => readonly IncidentRecord[] | undefined;
+  /** Tells the detectors of a note on an incident (so their listing shows it too). */
+  onIncidentNote?: (incident: string, text: string, sample: number) => void;
+  warn: (message: string) => void;
+  /** Wall ms between commits (default 500; at most 1000 keeps kill -9 losses within a second). */
+  commitMs?: number;
+}
+
+export interface History {
+  path: string;
+  writer: HistoryWriter;
+  /** Adds an operator note at the pipeline's current sample: into the event stream (and so the event log) and the store. */
+  note(text: string, incident?: string): { sample: number; t: number; wallTime: string };
+  close(): void;
+}
+
+/** Opens the store and attaches it; throws StoreLockedError when another live agent holds it. */
+export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
+  mkdirSync(dirname(o.path), { recursive: true });
+  const lock: StoreLock = lockStore(o.path, o.command);
+  let db: StoreDb;
+  try {
+    db = openStoreForWriting(o.path, o.warn);
+  } catch (err) {
+    lock.release();
+    throw err;
+  }
+  const writer = new HistoryWriter(db, { warn: o.warn, retention: o.retention });
+  const sampler = new TrendSampler(writer, {
+    command: o.command, source: o.source, bands: o.bands, detectorStatus: o.detectorStatus,
+    wallMsAt: (sample) => Date.parse(pipeline.wallTimeAt(sample)),
+  });
+  const book = new IncidentBook();
+  pipeline.addSegmentObserver(sampler);
+  const offs = [
+    pipeline.on('snapshot', (s) => sampler.onSnapshot(s)),
+    pipeline.on('event', (e) => {
+      writer.event(e, JSON.stringify(e));
+      const ev = e as unknown as AlarmEventLike & { text?: string };
+      if ((ev.kind as string) === 'note' && typeof ev.text === 'string') {
+        writer.note({ sample: ev.sample, t: ev.t, wallTime: ev.wallTime, text: ev.text, incident: ev.incident });
+      }
+      const inc = book.apply(ev);
+      if (inc && !o.incidentRecords?.()) writer.incident(inc);
+    }),
+    pipeline.on('end', () => sampler.finish()),
+  ];
+  // The detectors' records, when there are any, are the incidents: changed ones are written with each commit.
+  const written = new Map<string, string>();
+  const syncIncidents = (): void => {
+    const records = o.incidentRecords?.() ?? [];
+    // The detectors keep a bounded list; forget what they forgot, so this map stays bounded too.
+    if (written.size > 2 * records.length + 100) {
+      const live = new Set(records.map((r) => r.id));
+      for (const id of written.keys()) if (!live.has(id)) written.delete(id);
+    }
+    for (const r of records) {
+      const { notes: _notes, ...rest } = r as IncidentRecord & { notes?: unknown };
+      // An open incident has no peak in the detectors' record yet: the one its events show so far stands in.
+      if (!rest.peak) rest.peak = book.peakOf(r.id);
+      const key = JSON.stringify(rest);
+      if (written.get(r.id) === key) continue;
+      written.set(r.id, key);
+      writer.incident(rest as IncidentRecord);
+    }
+  };
+  const timer = setInterval(() => {
+    syncIncidents();
+    writer.flush();
+  }, Math.min(1000, o.commitMs ?? 500));
+  timer.unref();
+  let closed = false;
+  return {
+    path: o.path,
+    writer,
+    note(text, incident) {
+      const sample = Math.max(0, pipeline.counters().lastSample);
+      const rate = pipeline.stream?.sampleRate ?? 1;
+      const e = { kind: 'note', text, sample, t: sample / rate, wallTime: pipeline.wallTimeAt(sample), ...(incident ? { incident } : {}) };
+      if (incident) o.onIncidentNote?.(incident, text, sample);
+      pipeline.emitEvent(e as unknown as FloorlineEvent);
+      return e;
+    },
+    close() {
+      if (closed) return;
+      closed = true;
+      clearInterval(timer);
+      for (const off of offs) off();
+      syncIncidents();
+      sampler.finish();
+      writer.close();
+      db.close();
+      lock.release();
+    },
+  };
+}

@@ -1,0 +1,45 @@
+// `floorline incidents`: incidents from the history store with settled and peak levels and notes.
+import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
+import { formatSi } from '../../analysis/si.ts';
+import { storePathFromArgs } from '../cli-flags.ts';
+import { openStoreForReading } from '../open-store.ts';
+import { incidentsCsv, queryIncidents, type IncidentView } from '../incident-query.ts';
+import { OUTPUT_FLAGS, SPAN_FLAGS, STORE_SOURCE_FLAGS, readOutput, readSpan } from './query-flags.ts';
+
+function describe(i: IncidentView, unit: string): string {
+  const level = (db: number | null | undefined, amp: number | undefined) =>
+    `${db === null || db === undefined ? '—' : `${db.toFixed(1)} dB`}${amp !== undefined ? ` (${formatSi(amp, unit)} rms)` : ''}`;
+  const lines = [
+    `${i.id}  ${i.channel}  ${i.rules.join('+')}  ${i.start.wallTime} (t=${i.start.t.toFixed(3)} s) → ${i.end ? `${i.end.wallTime} (t=${i.end.t.toFixed(3)} s)` : 'open'}`,
+    `  settled ${i.settled ? level(i.settled.levelDb, i.settled.amplitude) : '—'}, peak ${i.peak ? level(i.peak.levelDb, i.peak.amplitude) : '—'}${i.acknowledged ? ', acknowledged' : ''}${i.capture ? `, capture ${i.capture}` : ''}`,
+  ];
+  for (const n of i.notes) lines.push(`  note ${n.wallTime}: ${JSON.stringify(n.text)}`);
+  return lines.join('\n');
+}
+
+async function runIncidents(args: ParsedArgs): Promise<number> {
+  const output = readOutput(args, 'incidents');
+  const span = readSpan(args, 'incidents');
+  const db = openStoreForReading(storePathFromArgs(args));
+  try {
+    const list = queryIncidents(db, span.from, span.to);
+    if (output === 'json') process.stdout.write(JSON.stringify({ incidents: list }) + '\n');
+    else if (output === 'csv') process.stdout.write(incidentsCsv(list));
+    else {
+      const units = new Map((db.prepare("SELECT channel, unit FROM series WHERE quantity = 'bandRms'").all() as { channel: string; unit: string }[]).map((r) => [r.channel, r.unit]));
+      process.stdout.write(list.length ? list.map((i) => describe(i, units.get(i.channel) ?? '')).join('\n') + '\n' : 'no incidents in this span.\n');
+    }
+  } finally {
+    db.close();
+  }
+  return 0;
+}
+
+export const incidentsCommand: CommandSpec = {
+  name: 'incidents',
+  summary: 'list incidents from the history store: start, end, settled and peak levels, notes',
+  details: 'Example: floorline incidents --from 2026-12-02T00:00:00Z --json',
+  positionals: [],
+  flags: [...SPAN_FLAGS, ...OUTPUT_FLAGS, ...STORE_SOURCE_FLAGS],
+  run: runIncidents,
+};

@@ -1,0 +1,26 @@
+// Pixel columns of the waterfall to FFT bins, on the same log-frequency axis as the spectrum chart above it.
+
+/** For each of `width` columns spanning [fLow, fHigh] on a log axis: the first and last bin whose centre lies
+ *  in the column; a column narrower than a bin shows the bin nearest its centre. Bin k sits at k·binHz. */
+export function logColumns(width: number, bins: number, binHz: number, fLow: number, fHigh: number): { first: Int32Array<ArrayBuffer>; last: Int32Array<ArrayBuffer> } {
+  const first = new Int32Array(width);
+  const last = new Int32Array(width);
+  const lo = Math.log10(fLow);
+  const hi = Math.log10(fHigh);
+  const edge = (x: number): number => 10 ** (lo + ((hi - lo) * x) / width);
+  for (let x = 0; x < width; x++) {
+    const f0 = edge(x);
+    const f1 = edge(x + 1);
+    let a = Math.ceil(f0 / binHz - 1e-9);
+    let b = Math.ceil(f1 / binHz - 1e-9) - 1;
+    if (b < a) a = b = Math.round(Math.sqrt(f0 * f1) / binHz);
+    first[x] = Math.max(1, Math.min(bins - 1, a));
+    last[x] = Math.max(first[x], Math.min(bins - 1, b));
+  }
+  return { first, last };
+}
+
+/** Column (0-based, fractional) where frequency f sits. */
+export function columnOf(f: number, width: number, fLow: number, fHigh: number): number {
+  return ((Math.log10(f) - Math.log10(fLow)) / (Math.log10(fHigh) - Math.log10(fLow))) * width;
+}
