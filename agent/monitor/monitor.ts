@@ -1,7 +1,7 @@
 // One running monitor: source → pipeline → detectors, with the recorder, event log, event history, alarm table,
 // current baseline and the live low-frequency view, plus any attached parts. run, replay and demo all start one
 // through startMonitor; the dashboard server reads it through the read model below and keeps no state of its own.
-import { mkdirSync } from 'node:fs';
+import { mkdirSync, existsSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { alarmId, bandId } from '../../protocol/ids.ts';
@@ -343,12 +343,14 @@ export class Monitor {
    * Averages the next `seconds` of sample time into baselines/NAME (default baseline-SAMPLE.json) under the data
    * folder, then compares against it from the next snapshot on. Resolves with its path relative to the folder.
    */
-  async captureBaseline(span: { seconds: number; name?: string; notes?: string }): Promise<{ file: string }> {
+  async captureBaseline(span: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }> {
     const p = this.pipeline;
     if (!p.stream || !p.analysisSettings) throw new MonitorRefusal('failed', 'no stream yet: wait for the first spectrum');
     if (this.capturing) throw new MonitorRefusal('failed', `a baseline capture into ${this.capturing.file} is still running`);
     const file = `baselines/${span.name ?? `baseline-${p.counters().lastSample + 1}.json`}`;
     const path = this.folder.resolve(file, 'baseline'); // a bad name is refused now, not after the span
+    // A baseline is never overwritten by accident: replacing one takes an explicit request.
+    if (!span.replace && existsSync(path)) throw new MonitorRefusal('exists', `${file} exists; choose another name, or send "replace": true to overwrite it`);
     const run = captureLive(p, { seconds: span.seconds, notes: span.notes });
     this.capturing = { file, run };
     let result: BaselineFile;
@@ -361,7 +363,7 @@ export class Monitor {
     }
     try {
       mkdirSync(this.folder.baselines, { recursive: true });
-      await writeFile(path, JSON.stringify(result, null, 1) + '\n');
+      await writeFile(path, JSON.stringify(result, null, 1) + '\n', { flag: span.replace ? 'w' : 'wx' });
     } catch (err) {
       throw new MonitorRefusal('failed', `cannot write ${file}: ${(err as Error).message}`);
     }
