@@ -2,6 +2,7 @@
 // so the benchmark drives exactly the path live data takes.
 import type { ServerMessage, AgentStatus, SpectrumContext } from '../protocol/messages.ts';
 import type { FloorlineEvent } from '../protocol/events.ts';
+import { alarmId } from '../protocol/ids.ts';
 import { decodeFrame, type DecodedFrame } from '../protocol/frame.ts';
 import { Link } from './connection.ts';
 import { SpectrumView } from './views/spectrum.ts';
@@ -179,7 +180,7 @@ export class App {
       p.classList.toggle('error', !text.startsWith('acknowledged'));
     };
     try {
-      const r = await this.link.request({ type: 'acknowledge', rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}) });
+      const r = await this.link.request({ type: 'acknowledge', alarm: alarmId(e) });
       if (!r.ok) say(`acknowledge: ${r.error.message}`);
       else if (r.request === 'acknowledge' && r.result.acknowledged) say(`acknowledged: ${e.rule} on ${e.channel}`);
       else say(`acknowledge: no ${e.rule} alarm on ${e.channel} is active any more`);

@@ -48,3 +48,13 @@ export function asd(psd: Float64Array, out?: Float64Array): Float64Array {
   for (let k = 0; k < n; k++) result[k] = Math.sqrt(psd[k]);
   return result;
 }
+
+/** Median of psd[first..last] (a band's floor: lines barely move it). `scratch` holds at least the range; NaN when empty. */
+export function bandMedianInBins(psd: Float64Array, first: number, last: number, scratch: Float64Array): number {
+  const n = last - first + 1;
+  if (n <= 0) return NaN;
+  const a = scratch.subarray(0, n);
+  a.set(psd.subarray(first, last + 1));
+  a.sort();
+  return n % 2 ? a[(n - 1) >> 1] : 0.5 * (a[n / 2 - 1] + a[n / 2]);
+}

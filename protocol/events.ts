@@ -5,6 +5,7 @@ export type EventKind = 'alarm' | 'info';
 /** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
 export type EventState = 'raised' | 'settled' | 'cleared';
 export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention' | 'limit';
+// 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {
   kind: EventKind;

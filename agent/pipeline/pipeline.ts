@@ -5,6 +5,7 @@
 //  - 'bounded' (live): blocks are copied into a bounded queue and analysed from setImmediate in slices of at most
 //    drainBudgetMs, so the event loop keeps reading the port; when the queue is full the incoming block is dropped
 //    whole and counted, and the analysis restarts cleanly after the hole (as after a gap).
+import { StreamIncidents } from '../rules/stream-incidents.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { AveragingSpec } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../../protocol/stream.ts';
@@ -29,6 +30,7 @@ export interface PipelineOptions {
 }
 
 export class Pipeline implements SourceSink {
+  private readonly streamIncidents = new StreamIncidents();
   private readonly emitter = new Emitter<PipelineEvents>();
   private readonly detectors: Detector[] = [];
   private readonly segmentObservers: SegmentObserver[] = [];
@@ -166,6 +168,7 @@ export class Pipeline implements SourceSink {
 
   /** Emits an event that did not come from a detector (e.g. the recorder's 'recording' info). */
   emitEvent(e: FloorlineEvent): void {
+    this.streamIncidents.stamp(e); // detectors' alarms carry theirs already
     this.count.events++;
     this.emitter.emit('event', e);
   }

@@ -6,6 +6,7 @@
 // of sample time. The second bound does not depend on the timer getting to run: on a loaded machine the event
 // loop may be late, but blocks still arrive one at a time, so a killed process loses at most writeOutSeconds of
 // samples plus one block.
+import { rmSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
@@ -36,6 +37,8 @@ export interface RecorderOptions {
   writeOutSeconds?: number;
   /** fdatasync on flush (default true). */
   durable?: boolean;
+  /** After a full disk, wall-clock ms between attempts to record again (default 2000). */
+  retryMs?: number;
   notes?: string;
 }
 
@@ -73,6 +76,15 @@ interface ActiveCapture extends OpenFile {
   reject: (e: Error) => void;
 }
 
+function isDiskFull(err: Error): boolean {
+  const code = (err as Error & { code?: string }).code;
+  return code === 'WAV_DISK_FULL' || code === 'ENOSPC' || code === 'EDQUOT';
+}
+
+function removeRecording(path: string): void {
+  for (const p of [path, `${path}.json`]) rmSync(p, { force: true });
+}
+
 export class Recorder {
   private readonly prefix: string;
   private readonly rotateSeconds: number;
@@ -93,6 +105,10 @@ export class Recorder {
   private readonly captures: ActiveCapture[] = [];
   private readonly timer: NodeJS.Timeout;
   private nextSample = 0;
+  /** After a full disk: wall time (ms) of the next attempt to record again, and the first sample missed. */
+  private retryAt = -1;
+  private missedFrom = -1;
+  private readonly retryMs: number;
   private readonly unsubscribe: (() => void)[] = [];
 
   constructor(
@@ -106,6 +122,7 @@ export class Recorder {
     this.postSeconds = options.postSeconds ?? 10;
     this.durable = options.durable ?? true;
     this.decisionSeconds = options.decisionSeconds ?? 5;
+    this.retryMs = options.retryMs ?? 2000;
     for (const [k, v] of [['rotateSeconds', this.rotateSeconds], ['preSeconds', this.preSeconds], ['postSeconds', this.postSeconds], ['decisionSeconds', this.decisionSeconds]] as const) {
       if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
     }
@@ -145,6 +162,7 @@ export class Recorder {
 
   stopRecording(): RecordingStatus {
     this.wanted = false;
+    this.retryAt = -1;
     this.closeCurrent();
     if (this.rec.state === 'recording') this.rec.state = 'off';
     return this.status();
@@ -237,6 +255,7 @@ export class Recorder {
 
   private onBlock(b: CalibratedBlock): void {
     if (b.firstSample !== this.nextSample) this.onGap(b.firstSample);
+    if (this.wanted && this.rec.state === 'failed' && this.retryAt >= 0 && performance.now() >= this.retryAt) this.rec.state = 'recording';
     if (this.wanted && this.rec.state === 'recording') this.appendContinuous(b);
     for (let i = 0; i < this.captures.length; ) {
       const cap = this.captures[i];
@@ -290,6 +309,11 @@ export class Recorder {
     const writer = new WavWriter(path, this.metadata(firstSample), { durable: this.durable });
     this.current = { writer, file, firstSample };
     this.rec.files.push(file);
+    if (this.retryAt >= 0) {
+      this.retryAt = -1;
+      this.rec.error = undefined;
+      this.report(`recording resumed in ${file}: the disk has room again; samples ${this.missedFrom}…${firstSample - 1} are not in the recording.`, 'cleared', firstSample);
+    }
   }
 
   private closeCurrent(): void {
@@ -313,8 +337,17 @@ export class Recorder {
         // the file keeps what was flushed; a later start repairs its header
       }
     }
+    const retrying = this.retryAt >= 0;
     this.rec.state = 'failed';
     this.rec.error = err.message;
+    if (isDiskFull(err)) {
+      // Space may come back (files deleted): try again every retryMs and say so when it works.
+      if (!retrying) this.missedFrom = cur ? cur.firstSample + cur.writer.framesOnDisk : sample ?? this.nextSample;
+      this.retryAt = performance.now() + this.retryMs;
+      if (retrying) return; // still full: the raised event already says so
+      this.report(`recording failed: ${err.message} Analysis goes on; recording resumes by itself when the disk has room.`, 'raised', sample);
+      return;
+    }
     this.wanted = false;
     this.report(`recording failed: ${err.message} Analysis goes on without recording.`, 'raised', sample);
   }
@@ -326,6 +359,7 @@ export class Recorder {
       cap.writer.close();
       cap.resolve({ file: cap.file, frames: cap.writer.frames });
     } catch (err) {
+      if (cap.writer.framesOnDisk === 0) removeRecording(join(this.folder.root, cap.file));
       cap.reject(err as Error);
       this.report(`capture ${cap.file} failed: ${(err as Error).message}`, 'raised');
     }
@@ -339,6 +373,7 @@ export class Recorder {
     } catch {
       // already failing: the reason below is the one that matters
     }
+    if (cap.writer.framesOnDisk === 0) removeRecording(join(this.folder.root, cap.file)); // no samples: no file
     cap.reject(err);
     this.report(`capture ${cap.file} failed: ${err.message}`, 'raised');
   }

@@ -7,6 +7,7 @@ import { firstSettingMismatch } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice, StreamInfo } from '../../protocol/stream.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import type { ClipNotice, Detector, OverrunNotice, SpectrumSnapshot } from '../pipeline/types.ts';
+import type { LimitMask } from '../../dsp/measure/limit-mask.ts';
 import { Detectors } from './detectors.ts';
 import { makeEvent } from './event-factory.ts';
 import { defaultRules, type RulesConfig } from './rules.ts';
@@ -18,6 +19,8 @@ export interface AlarmHookOptions {
   baselineWhere?: string;
   rules?: RulesConfig;
   capture?: CaptureRequester;
+  /** Limit masks by channel name ('*' = every channel) for the limit rule. */
+  masks?: Record<string, LimitMask & { path: string }>;
 }
 
 export class AlarmHook implements Detector {
@@ -107,7 +110,7 @@ export class AlarmHook implements Detector {
       channels: snap.channels,
       firstSample: this.info?.firstSample,
       startWallTime: this.info?.startWallTime,
-    }, { capture: this.o.capture }, this.o.baselineWhere);
+    }, { capture: this.o.capture, masks: this.o.masks }, this.o.baselineWhere);
     for (const fn of this.onBuild) fn(this.set);
   }
 }

@@ -11,6 +11,8 @@ import type { EventRule, FloorlineEvent } from '../../protocol/events.ts';
 import { firstSettingMismatch, type AnalysisSettings } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
 import { InputError } from '../cli/usage-error.ts';
+import { maskOnBins, type LimitMask } from '../../dsp/measure/limit-mask.ts';
+import { LimitDetector } from './limit-detector.ts';
 import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
 import { BandDetector } from './band-detector.ts';
 import { defaultBands } from './default-bands.ts';
@@ -33,6 +35,8 @@ export interface DetectorStream {
 export interface DetectorOptions {
   /** Called for each raised alarm; the returned file name goes into the event's `capture`. */
   capture?: CaptureRequester;
+  /** Limit masks by channel name ('*' = every channel without its own) for the limit rule. */
+  masks?: Record<string, LimitMask & { path: string }>;
 }
 
 export interface DetectorStatus {
@@ -61,6 +65,7 @@ interface ChannelDetectors {
   clipLast: number;
   /** overloadFrom of the last spectrum (−1: not held). */
   heldFrom: number;
+  limit?: LimitDetector;
 }
 
 export class Detectors {
@@ -109,9 +114,21 @@ export class Detectors {
         clipFirst: -1,
         clipLast: -1,
         heldFrom: -1,
+        limit: this.limitFor(name, unit ?? 'V', frequencies),
       };
     });
     this.health = new HealthDetector(s.sampleRate, Math.round(rules.clipHold * s.sampleRate), Math.round(rules.overrunHold * s.sampleRate));
+  }
+
+  private limitFor(name: string, unit: string, frequencies: Float64Array): LimitDetector | undefined {
+    const mask = this.options.masks?.[name] ?? this.options.masks?.['*'];
+    if (!mask) return undefined;
+    const nyquist = this.sampleRate / 2;
+    const top = mask.frequency[mask.frequency.length - 1];
+    if (top > nyquist) {
+      throw new InputError(`--mask ${mask.path}: its last point at ${top} Hz is beyond the Nyquist frequency ${nyquist} Hz of the stream; end the mask at or below it.`);
+    }
+    return new LimitDetector(name, unit, frequencies, maskOnBins(mask, frequencies), this.rules, this.sampleRate);
   }
 
   /** Bands evaluated on a channel (empty without a baseline). */
@@ -157,6 +174,12 @@ export class Detectors {
       // Lines first: the band rules judge the floor without the lobes of the new lines the spur rule tracks.
       d.spur.onSpectrum(ch.psd, ch.equivalentAverages, recent, snap.sample, snap.wallTime, out, d.heldFrom);
       d.band?.onSpectrum(ch.psd, ch.equivalentAverages, recent, snap.sample, snap.wallTime, out, d.spur.lineMask, d.heldFrom);
+      if (d.limit) {
+        const limitEvents: FloorlineEvent[] = [];
+        d.limit.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, limitEvents, d.heldFrom);
+        for (const e of limitEvents) this.healthIncident(e); // one member per channel, as the health rules
+        out.push(...limitEvents);
+      }
     }
     return this.withCaptures(out);
   }
@@ -276,6 +299,9 @@ export class Detectors {
           n++;
         }
       }
+    } else if (rule === 'limit' && ch.limit) {
+      fn(ch.limit.state);
+      n++;
     }
     return n;
   }

@@ -1,6 +1,5 @@
 // Validation of every client → agent message. The server trusts nothing it did not check here:
 // unknown fields are refused too, so a typo never silently does nothing.
-import type { EventRule } from '../../protocol/events.ts';
 import type { AveragingSpec } from '../../protocol/settings.ts';
 import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from '../../protocol/messages.ts';
 
@@ -8,16 +7,12 @@ export type ParseResult =
   | { ok: true; message: ClientMessage }
   | { ok: false; error: WireError; /** The request id and type, when they could be read, so the error can be a reply. */ id?: number; request?: ClientMessageType };
 
-// A Record over the union makes the compiler flag a rule added to EventRule but not here.
-const RULES: Record<EventRule, true> = {
-  'band-rise': true, spur: true, mains: true, clip: true, gap: true, link: true, overrun: true, nonfinite: true, internal: true, recording: true, baseline: true,
-  notify: true, disk: true, retention: true, limit: true,
-};
 const TYPES: Record<ClientMessageType, readonly string[]> = {
-  'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes'],
+  'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes', 'replace'],
   recording: ['type', 'id', 'action'],
   'set-analysis': ['type', 'id', 'averaging', 'segment', 'window'],
-  acknowledge: ['type', 'id', 'rule', 'channel', 'band'],
+  acknowledge: ['type', 'id', 'alarm'],
+  shelve: ['type', 'id', 'alarm', 'seconds'],
   note: ['type', 'id', 'text', 'incident'],
   'get-status': ['type', 'id'],
 };
@@ -29,6 +24,10 @@ export const AVERAGE_COUNT_MAX = 100_000;
 export const TAU_SECONDS_MIN = 0.01;
 export const TAU_SECONDS_MAX = 86_400;
 export const BASELINE_SECONDS_MAX = 3600;
+export const SHELVE_SECONDS_MAX = 7 * 86_400;
+
+/** An alarm id as protocol/ids.ts makes them: printable, no control characters. */
+const ALARM_ID = /^[a-z-]+\/[\x20-\x7e\u00a0-\uffff]{1,200}$/;
 export const NOTE_TEXT_MAX = 2000;
 
 /** A baseline file name the client may choose: one plain name, no folders, no leading dot. */
@@ -82,11 +81,10 @@ function averaging(v: unknown): AveragingSpec {
   }
 }
 
-function band(v: unknown): [number, number] {
-  if (!Array.isArray(v) || v.length !== 2 || !v.every((x) => typeof x === 'number' && Number.isFinite(x) && x >= 0) || v[0] >= v[1]) {
-    throw new Invalid('bad-message', `'band' must be [low, high] in Hz with 0 ≤ low < high`);
-  }
-  return [v[0], v[1]];
+function alarm(o: Record<string, unknown>): string {
+  const a = str(o, 'alarm', 256);
+  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm id (status.alarms[].id, e.g. "mains/ch0/h1")`);
+  return a;
 }
 
 function build(o: Record<string, unknown>, type: ClientMessageType, id: number): ClientMessage {
@@ -102,6 +100,10 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
         m.name = name;
       }
       if (o.notes !== undefined) m.notes = str(o, 'notes', 1000);
+      if (o.replace !== undefined) {
+        if (typeof o.replace !== 'boolean') throw new Invalid('bad-message', `'replace' must be true or false`);
+        m.replace = o.replace;
+      }
       return m;
     }
     case 'recording':
@@ -125,15 +127,10 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       }
       return m;
     }
-    case 'acknowledge': {
-      const rule = o.rule;
-      if (typeof rule !== 'string' || !Object.hasOwn(RULES, rule)) {
-        throw new Invalid('bad-message', `'rule' must be one of ${Object.keys(RULES).join(', ')}`);
-      }
-      const m: ClientMessage = { type, id, rule: rule as EventRule, channel: str(o, 'channel', 64) };
-      if (o.band !== undefined) m.band = band(o.band);
-      return m;
-    }
+    case 'acknowledge':
+      return { type, id, alarm: alarm(o) };
+    case 'shelve':
+      return { type, id, alarm: alarm(o), seconds: num(o, 'seconds', 1, SHELVE_SECONDS_MAX, false) };
     case 'note': {
       const text = str(o, 'text', NOTE_TEXT_MAX);
       // eslint-disable-next-line no-control-regex

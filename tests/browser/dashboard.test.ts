@@ -302,7 +302,7 @@ describe('alarms and restarts', () => {
 
   it('with a token: refuses the page without it, and with the printed ?token= URL serves page and socket', async () => {
     const token = 'b7e1c0de5a1f00d2b7e1c0de5a1f00d2';
-    const a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--token', token, '--http-port', '0', '--data', join(dir, 'data-token')]);
+    const a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--token', token, '--show-token', '--http-port', '0', '--data', join(dir, 'data-token')]);
     expect(a.url).toContain(`?token=${token}`);
     const bare = a.url.replace(/\?token=.*$/, '');
     const page = await browser.newPage();

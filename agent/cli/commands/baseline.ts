@@ -2,7 +2,7 @@
 // from a recording, with the same analysis settings the live pipeline will use.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../usage-error.ts';
-import { PIPELINE_FLAGS } from './pipeline-flags.ts';
+import { PIPELINE_FLAGS } from './monitor-flags.ts';
 import type { AnalysisSettings, DetrendMode } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
