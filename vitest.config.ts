@@ -20,6 +20,8 @@ const realtime = [
 export default defineConfig({
   test: {
     reporters: ['default', './tests/support/summary-reporter.ts'],
+    // Python reference versions checked and dist/ built once, before any worker starts.
+    globalSetup: ['./tests/support/global-setup.ts'],
     testTimeout: 60_000,
     hookTimeout: 60_000,
     maxWorkers: 2,
