@@ -30,7 +30,7 @@ describe('reload on SIGHUP', () => {
       writeFileSync(config, typeof cfg === 'string' ? cfg : JSON.stringify(cfg));
       const before = err.length;
       child.kill('SIGHUP');
-      for (let i = 0; i < 100 && !err.slice(before).includes('reload'); i++) await sleep(20);
+      for (let i = 0; i < 500 && !err.slice(before).includes('reload'); i++) await sleep(20);
       return err.slice(before);
     };
     // Running (the stream header is printed once the source has started; SIGHUP is handled from then on).
