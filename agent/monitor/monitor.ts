@@ -30,6 +30,7 @@ import type { RetentionKeeper } from '../retention/retention.ts';
 import { HealthWatch, type HealthVerdict } from '../service/health.ts';
 import { registerSecret } from '../service/log-lines.ts';
 import { installShutdown } from '../service/shutdown.ts';
+import { installReload } from '../service/reload.ts';
 import { AlarmTable } from './alarm-table.ts';
 import { BandTable } from './band-table.ts';
 import { EventHistory } from './event-history.ts';
@@ -194,11 +195,15 @@ export class Monitor {
   async start(): Promise<void> {
     await this.pipeline.attach(this.source);
     const signals = installShutdown(() => this.stop(), this.say);
+    const uninstallReload = this.o.rig
+      ? installReload(this.o.rig, { setNotifyFilters: (sinks) => this.notifier?.setFilters(sinks), setRetention: (r) => this.retention?.setPolicy(r) }, this.say)
+      : undefined;
     this.finished = (async () => {
       try {
         await this.pipeline.whenEnded();
       } finally {
         signals.uninstall();
+        uninstallReload?.();
         await this.close();
       }
     })();
@@ -304,8 +309,18 @@ export class Monitor {
     };
   }
 
-  /** Acknowledges the alarm `id` names (and, for lines, the rule's other lines on that channel): no re-alarm until it clears. */
+  /** Acknowledges the incident `id` names (all its alarms), or the alarm `id` names (and, for lines, the rule's other lines on that channel): no re-alarm until it clears. */
   acknowledge(id: string): boolean {
+    const incident = this.hook.detectors?.incidents.get(id);
+    if (incident) {
+      // An incident id: every alarm of the fault, and those that join it later (agent/rules/incidents.ts).
+      const ok = this.hook.detectors!.acknowledgeIncident(id);
+      for (const m of incident.members) {
+        const row = m.open ? this.alarmTable.get(alarmId(m)) : undefined;
+        if (row) this.alarmTable.markAcknowledged(row);
+      }
+      return ok;
+    }
     const { row, band } = this.resolve(id);
     const n = this.hook.detectors?.acknowledge(row.rule, row.channel, band) ?? 0;
     if (n > 0) this.alarmTable.markAcknowledged(row);
@@ -315,6 +330,7 @@ export class Monitor {
   /** Silences the alarm `id` names until `untilSample` (sample time). */
   shelve(id: string, untilSample: number): boolean {
     if (!Number.isFinite(untilSample)) throw new MonitorRefusal('bad-message', `shelve ${id}: until must be a sample index, got ${untilSample}`);
+    if (this.hook.detectors?.incidents.get(id)) return this.hook.detectors.shelveIncident(id, untilSample);
     const { row, band } = this.resolve(id);
     return (this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band) ?? 0) > 0;
   }
