@@ -19,6 +19,8 @@ export type WireErrorCode =
   | 'binary-refused' // clients send JSON text only
   | 'path-refused' // a file name that would leave the data folder
   | 'unsupported' // the backend cannot do this (e.g. recording during a replay without a recorder)
+  | 'rate-limited' // too many control actions too quickly; message says when to try again
+  | 'exists' // a file of that name exists and the request did not ask to replace it
   | 'failed'; // the backend tried and failed; message says why
 
 export interface WireError {
@@ -36,6 +38,8 @@ export interface CaptureBaselineRequest {
   /** File name inside the data folder's baselines/ (no folders); the agent picks one when absent. */
   name?: string;
   notes?: string;
+  /** Overwrite a baseline of that name; without it an existing file is never replaced (reply code 'exists'). */
+  replace?: boolean;
 }
 
 export interface RecordingRequest {

@@ -115,7 +115,7 @@ export interface CoherenceReport {
   csdIm: Float64Array;
 }
 
-/** The key order of this object is the order of the documented "analyze --json output". */
+/** The key order of this object is the order of docs/ARCHITECTURE.md "analyze --json". */
 export interface AnalysisReport {
   file: string;
   sampleRate: number;

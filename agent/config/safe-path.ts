@@ -34,14 +34,14 @@ function realpathOfExistingPart(p: string): string {
  */
 export function resolveInside(root: string, name: string, what = 'path'): string {
   if (typeof name !== 'string' || name.length === 0 || name.includes('\0')) {
-    throw new PathOutsideError(`${what} must be a non-empty file name inside the data folder ${root}`);
+    throw new PathOutsideError(`${what} must be a non-empty file name inside the data folder`);
   }
   const absRoot = resolve(root);
   const candidate = resolve(absRoot, name);
   const realRoot = existsSync(absRoot) ? realpathSync(absRoot) : absRoot;
   if (!isInside(absRoot, candidate) || !isInside(realRoot, realpathOfExistingPart(candidate))) {
     throw new PathOutsideError(
-      `${what} '${name}' is outside the data folder ${absRoot}; name a file inside it (e.g. recordings/NAME.wav).`,
+      `${what} '${name}' is outside the data folder; name a file inside it (e.g. recordings/NAME.wav).`,
     );
   }
   return candidate;

@@ -1,7 +1,7 @@
 // One running monitor: source → pipeline → detectors, with the recorder, event log, event history, alarm table,
 // current baseline and the live low-frequency view, plus any attached parts. run, replay and demo all start one
 // through startMonitor; the dashboard server reads it through the read model below and keeps no state of its own.
-import { mkdirSync } from 'node:fs';
+import { mkdirSync, existsSync } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { alarmId, bandId } from '../../protocol/ids.ts';
@@ -30,6 +30,7 @@ import type { RetentionKeeper } from '../retention/retention.ts';
 import { HealthWatch, type HealthVerdict } from '../service/health.ts';
 import { registerSecret } from '../service/log-lines.ts';
 import { installShutdown } from '../service/shutdown.ts';
+import { installReload } from '../service/reload.ts';
 import { AlarmTable } from './alarm-table.ts';
 import { BandTable } from './band-table.ts';
 import { EventHistory } from './event-history.ts';
@@ -194,11 +195,15 @@ export class Monitor {
   async start(): Promise<void> {
     await this.pipeline.attach(this.source);
     const signals = installShutdown(() => this.stop(), this.say);
+    const uninstallReload = this.o.rig
+      ? installReload(this.o.rig, { setNotifyFilters: (sinks) => this.notifier?.setFilters(sinks), setRetention: (r) => this.retention?.setPolicy(r) }, this.say)
+      : undefined;
     this.finished = (async () => {
       try {
         await this.pipeline.whenEnded();
       } finally {
         signals.uninstall();
+        uninstallReload?.();
         await this.close();
       }
     })();
@@ -304,8 +309,18 @@ export class Monitor {
     };
   }
 
-  /** Acknowledges the alarm `id` names (and, for lines, the rule's other lines on that channel): no re-alarm until it clears. */
+  /** Acknowledges the incident `id` names (all its alarms), or the alarm `id` names (and, for lines, the rule's other lines on that channel): no re-alarm until it clears. */
   acknowledge(id: string): boolean {
+    const incident = this.hook.detectors?.incidents.get(id);
+    if (incident) {
+      // An incident id: every alarm of the fault, and those that join it later (agent/rules/incidents.ts).
+      const ok = this.hook.detectors!.acknowledgeIncident(id);
+      for (const m of incident.members) {
+        const row = m.open ? this.alarmTable.get(alarmId(m)) : undefined;
+        if (row) this.alarmTable.markAcknowledged(row);
+      }
+      return ok;
+    }
     const { row, band } = this.resolve(id);
     const n = this.hook.detectors?.acknowledge(row.rule, row.channel, band) ?? 0;
     if (n > 0) this.alarmTable.markAcknowledged(row);
@@ -315,6 +330,7 @@ export class Monitor {
   /** Silences the alarm `id` names until `untilSample` (sample time). */
   shelve(id: string, untilSample: number): boolean {
     if (!Number.isFinite(untilSample)) throw new MonitorRefusal('bad-message', `shelve ${id}: until must be a sample index, got ${untilSample}`);
+    if (this.hook.detectors?.incidents.get(id)) return this.hook.detectors.shelveIncident(id, untilSample);
     const { row, band } = this.resolve(id);
     return (this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band) ?? 0) > 0;
   }
@@ -332,12 +348,14 @@ export class Monitor {
    * Averages the next `seconds` of sample time into baselines/NAME (default baseline-SAMPLE.json) under the data
    * folder, then compares against it from the next snapshot on. Resolves with its path relative to the folder.
    */
-  async captureBaseline(span: { seconds: number; name?: string; notes?: string }): Promise<{ file: string }> {
+  async captureBaseline(span: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }> {
     const p = this.pipeline;
     if (!p.stream || !p.analysisSettings) throw new MonitorRefusal('failed', 'no stream yet: wait for the first spectrum');
     if (this.capturing) throw new MonitorRefusal('failed', `a baseline capture into ${this.capturing.file} is still running`);
     const file = `baselines/${span.name ?? `baseline-${p.counters().lastSample + 1}.json`}`;
     const path = this.folder.resolve(file, 'baseline'); // a bad name is refused now, not after the span
+    // A baseline is never overwritten by accident: replacing one takes an explicit request.
+    if (!span.replace && existsSync(path)) throw new MonitorRefusal('exists', `${file} exists; choose another name, or send "replace": true to overwrite it`);
     const run = captureLive(p, { seconds: span.seconds, notes: span.notes });
     this.capturing = { file, run };
     let result: BaselineFile;
@@ -350,7 +368,7 @@ export class Monitor {
     }
     try {
       mkdirSync(this.folder.baselines, { recursive: true });
-      await writeFile(path, JSON.stringify(result, null, 1) + '\n');
+      await writeFile(path, JSON.stringify(result, null, 1) + '\n', { flag: span.replace ? 'w' : 'wx' });
     } catch (err) {
       throw new MonitorRefusal('failed', `cannot write ${file}: ${(err as Error).message}`);
     }

@@ -1,8 +1,12 @@
 // Continuous recording (with rotation, continuous sample indices across files) and pre/post event captures, fed
 // by the pipeline's calibrated blocks. Files are float32 WAV + sidecar in the data folder's recordings/.
 // A write failure (disk full, no permission) never stops acquisition: the recording is marked failed, an event
-// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched) every
-// flushMs of wall time, so a crash loses at most that much.
+// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched, fdatasync)
+// every flushMs of wall time, and its samples and sizes are also handed to the kernel after every writeOutSeconds
+// of sample time. The second bound does not depend on the timer getting to run: on a loaded machine the event
+// loop may be late, but blocks still arrive one at a time, so a killed process loses at most writeOutSeconds of
+// samples plus one block.
+import { rmSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
@@ -26,10 +30,15 @@ export interface RecorderOptions {
   /** Extra seconds the ring holds beyond preSeconds (default 5): an alarm decides some time after the samples
    * that raised it (segment length, on-delay), and its capture must still reach preSeconds before the trigger. */
   decisionSeconds?: number;
-  /** Wall-clock flush interval, ms (default 500): what a crash can lose at most. */
+  /** Wall-clock flush interval, ms (default 500), with fdatasync: what a power cut can lose. */
   flushMs?: number;
+  /** Sample-time bound, seconds (default 0.5): samples and header sizes are written out (no fdatasync) at least
+   * this often in sample time, so a killed process loses at most this much plus one block. */
+  writeOutSeconds?: number;
   /** fdatasync on flush (default true). */
   durable?: boolean;
+  /** After a full disk, wall-clock ms between attempts to record again (default 2000). */
+  retryMs?: number;
   notes?: string;
 }
 
@@ -67,6 +76,15 @@ interface ActiveCapture extends OpenFile {
   reject: (e: Error) => void;
 }
 
+function isDiskFull(err: Error): boolean {
+  const code = (err as Error & { code?: string }).code;
+  return code === 'WAV_DISK_FULL' || code === 'ENOSPC' || code === 'EDQUOT';
+}
+
+function removeRecording(path: string): void {
+  for (const p of [path, `${path}.json`]) rmSync(p, { force: true });
+}
+
 export class Recorder {
   private readonly prefix: string;
   private readonly rotateSeconds: number;
@@ -74,6 +92,8 @@ export class Recorder {
   private readonly preSeconds: number;
   private readonly postSeconds: number;
   private readonly durable: boolean;
+  private readonly writeOutSeconds: number;
+  private framesSinceWriteOut = 0;
   private readonly decisionSeconds: number;
   private pipeline: Pipeline | undefined;
   private info: StreamInfo | undefined;
@@ -85,6 +105,10 @@ export class Recorder {
   private readonly captures: ActiveCapture[] = [];
   private readonly timer: NodeJS.Timeout;
   private nextSample = 0;
+  /** After a full disk: wall time (ms) of the next attempt to record again, and the first sample missed. */
+  private retryAt = -1;
+  private missedFrom = -1;
+  private readonly retryMs: number;
   private readonly unsubscribe: (() => void)[] = [];
 
   constructor(
@@ -98,10 +122,15 @@ export class Recorder {
     this.postSeconds = options.postSeconds ?? 10;
     this.durable = options.durable ?? true;
     this.decisionSeconds = options.decisionSeconds ?? 5;
+    this.retryMs = options.retryMs ?? 2000;
     for (const [k, v] of [['rotateSeconds', this.rotateSeconds], ['preSeconds', this.preSeconds], ['postSeconds', this.postSeconds], ['decisionSeconds', this.decisionSeconds]] as const) {
       if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
     }
     if (!(this.rotateBytes > 0)) throw new RangeError(`Recorder: rotateBytes must be positive, got ${this.rotateBytes}`);
+    this.writeOutSeconds = options.writeOutSeconds ?? 0.5;
+    if (!(this.writeOutSeconds > 0) || !Number.isFinite(this.writeOutSeconds)) {
+      throw new RangeError(`Recorder: writeOutSeconds must be a positive number of seconds, got ${options.writeOutSeconds}`);
+    }
     this.timer = setInterval(() => this.flushAll(), options.flushMs ?? 500);
     this.timer.unref();
   }
@@ -110,10 +139,10 @@ export class Recorder {
   attach(pipeline: Pipeline): void {
     this.pipeline = pipeline;
     this.unsubscribe.push(
-      pipeline.on('info', (i) => this.onInfo(i)),
-      pipeline.on('block', (b) => this.onBlock(b)),
-      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost)),
-      pipeline.on('end', () => this.closeAll()),
+      pipeline.on('info', (i) => this.onInfo(i), 'recorder'),
+      pipeline.on('block', (b) => this.onBlock(b), 'recorder'),
+      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost), 'recorder'),
+      pipeline.on('end', () => this.closeAll(), 'recorder'),
     );
     if (pipeline.stream) this.onInfo(pipeline.stream);
   }
@@ -133,6 +162,7 @@ export class Recorder {
 
   stopRecording(): RecordingStatus {
     this.wanted = false;
+    this.retryAt = -1;
     this.closeCurrent();
     if (this.rec.state === 'recording') this.rec.state = 'off';
     return this.status();
@@ -225,6 +255,7 @@ export class Recorder {
 
   private onBlock(b: CalibratedBlock): void {
     if (b.firstSample !== this.nextSample) this.onGap(b.firstSample);
+    if (this.wanted && this.rec.state === 'failed' && this.retryAt >= 0 && performance.now() >= this.retryAt) this.rec.state = 'recording';
     if (this.wanted && this.rec.state === 'recording') this.appendContinuous(b);
     for (let i = 0; i < this.captures.length; ) {
       const cap = this.captures[i];
@@ -242,6 +273,8 @@ export class Recorder {
     }
     this.ring?.push(b.data, b.firstSample, b.frames);
     this.nextSample = b.firstSample + b.frames;
+    this.framesSinceWriteOut += b.frames;
+    if (this.framesSinceWriteOut >= this.writeOutSeconds * this.info!.sampleRate) this.eachOpenWriter((w) => w.writeOut());
   }
 
   private appendContinuous(b: CalibratedBlock): void {
@@ -276,6 +309,11 @@ export class Recorder {
     const writer = new WavWriter(path, this.metadata(firstSample), { durable: this.durable });
     this.current = { writer, file, firstSample };
     this.rec.files.push(file);
+    if (this.retryAt >= 0) {
+      this.retryAt = -1;
+      this.rec.error = undefined;
+      this.report(`recording resumed in ${file}: the disk has room again; samples ${this.missedFrom}…${firstSample - 1} are not in the recording.`, 'cleared', firstSample);
+    }
   }
 
   private closeCurrent(): void {
@@ -299,8 +337,17 @@ export class Recorder {
         // the file keeps what was flushed; a later start repairs its header
       }
     }
+    const retrying = this.retryAt >= 0;
     this.rec.state = 'failed';
     this.rec.error = err.message;
+    if (isDiskFull(err)) {
+      // Space may come back (files deleted): try again every retryMs and say so when it works.
+      if (!retrying) this.missedFrom = cur ? cur.firstSample + cur.writer.framesOnDisk : sample ?? this.nextSample;
+      this.retryAt = performance.now() + this.retryMs;
+      if (retrying) return; // still full: the raised event already says so
+      this.report(`recording failed: ${err.message} Analysis goes on; recording resumes by itself when the disk has room.`, 'raised', sample);
+      return;
+    }
     this.wanted = false;
     this.report(`recording failed: ${err.message} Analysis goes on without recording.`, 'raised', sample);
   }
@@ -312,6 +359,7 @@ export class Recorder {
       cap.writer.close();
       cap.resolve({ file: cap.file, frames: cap.writer.frames });
     } catch (err) {
+      if (cap.writer.framesOnDisk === 0) removeRecording(join(this.folder.root, cap.file));
       cap.reject(err as Error);
       this.report(`capture ${cap.file} failed: ${(err as Error).message}`, 'raised');
     }
@@ -325,6 +373,7 @@ export class Recorder {
     } catch {
       // already failing: the reason below is the one that matters
     }
+    if (cap.writer.framesOnDisk === 0) removeRecording(join(this.folder.root, cap.file)); // no samples: no file
     cap.reject(err);
     this.report(`capture ${cap.file} failed: ${err.message}`, 'raised');
   }
@@ -339,16 +388,22 @@ export class Recorder {
   }
 
   private flushAll(): void {
+    this.eachOpenWriter((w) => w.flush());
+  }
+
+  /** Runs `op` on the continuous file and every capture; a failure marks that file failed, the others go on. */
+  private eachOpenWriter(op: (w: WavWriter) => void): void {
+    this.framesSinceWriteOut = 0;
     if (this.current) {
       try {
-        this.current.writer.flush();
+        op(this.current.writer);
       } catch (err) {
         this.failRecording(err as Error);
       }
     }
     for (const cap of [...this.captures]) {
       try {
-        cap.writer.flush();
+        op(cap.writer);
       } catch (err) {
         this.failCapture(cap, err as Error);
       }

@@ -70,7 +70,7 @@ export interface ServerBackend {
   /** Mains fundamental for the dashboard's harmonic markers (configured or measured), Hz. */
   mainsHz(): number | null;
   /** Averages the next `seconds` of sample time into a baseline file under baselines/; resolves with its path relative to dataRoot. */
-  captureBaseline(request: { seconds: number; name?: string; notes?: string }): Promise<{ file: string }>;
+  captureBaseline(request: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }>;
   setRecording(on: boolean): Promise<RecordingState>;
   /** Applies new analysis settings from the next snapshot on; throws MonitorRefusal or RangeError naming what is wrong. */
   setAnalysis(change: AnalysisChange): void;

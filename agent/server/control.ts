@@ -7,6 +7,8 @@ export interface ControlDeps {
   backend: ServerBackend;
   /** Context after a change takes effect (the server builds it from the backend). */
   context(): SpectrumContext | null;
+  /** The context once a settings change has reached the spectra (so a set-analysis reply carries the new one). */
+  contextAfterChange?(): Promise<SpectrumContext | null>;
   status(): AgentStatus;
 }
 
@@ -23,7 +25,7 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
   try {
     switch (m.type) {
       case 'capture-baseline': {
-        const r = await backend.captureBaseline({ seconds: m.seconds, name: m.name, notes: m.notes });
+        const r = await backend.captureBaseline({ seconds: m.seconds, name: m.name, notes: m.notes, replace: m.replace });
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { file: r.file } };
       }
       case 'recording': {
@@ -31,8 +33,11 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { recording } };
       }
       case 'set-analysis': {
+        const before = deps.context();
+        const changes = (m.segment !== undefined && m.segment !== before?.settings.segment) || (m.window !== undefined && m.window !== before?.settings.window) ||
+          (m.averaging !== undefined && JSON.stringify(m.averaging) !== JSON.stringify(before?.averaging));
         backend.setAnalysis({ averaging: m.averaging, segment: m.segment, window: m.window });
-        const context = deps.context();
+        const context = changes && deps.contextAfterChange ? await deps.contextAfterChange() : deps.context();
         if (context === null) throw new MonitorRefusal('failed', 'no spectrum yet: the stream has not started');
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { context } };
       }

@@ -17,7 +17,9 @@ export function serveDashboard(options: Partial<ServerOptions>, print: (line: st
     }
     const { backend, part } = monitorBackend(m);
     const server = await startServer(backend, { ...options, assetsDir });
-    print(`dashboard  ${server.url}`);
+    // The token stays out of the terminal (and so out of logs and screen shares) unless asked for.
+    const hint = server.urlWithToken !== server.url ? '  (token required: add ?token=… once, or pass --show-token)' : '';
+    print(`dashboard  ${options.showToken ? server.urlWithToken : server.url + hint}`);
     return { ...part, close: () => server.close() };
   };
 }

@@ -8,7 +8,7 @@ export type ParseResult =
   | { ok: false; error: WireError; /** The request id and type, when they could be read, so the error can be a reply. */ id?: number; request?: ClientMessageType };
 
 const TYPES: Record<ClientMessageType, readonly string[]> = {
-  'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes'],
+  'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes', 'replace'],
   recording: ['type', 'id', 'action'],
   'set-analysis': ['type', 'id', 'averaging', 'segment', 'window'],
   acknowledge: ['type', 'id', 'alarm'],
@@ -98,6 +98,10 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
         m.name = name;
       }
       if (o.notes !== undefined) m.notes = str(o, 'notes', 1000);
+      if (o.replace !== undefined) {
+        if (typeof o.replace !== 'boolean') throw new Invalid('bad-message', `'replace' must be true or false`);
+        m.replace = o.replace;
+      }
       return m;
     }
     case 'recording':

@@ -140,7 +140,7 @@ result = [len(signal.spectrogram(np.zeros(int(f)), nperseg=n, noverlap=int(math.
       grid,
     );
     expect(grid.map(([f, n, o]) => segmentCount(f, n, o))).toEqual(ref);
-    // DESIGN.md: 4096, or the largest power of two giving at least 8 averages.
+    // docs/ARCHITECTURE.md: 4096, or the largest power of two giving at least 8 averages.
     expect(defaultSegment(1e6, 0.5)).toBe(4096);
     expect(defaultSegment(36864, 0.5)).toBe(4096); // 17 segments
     expect(defaultSegment(18431, 0.5)).toBe(2048); // 4096 gives 7

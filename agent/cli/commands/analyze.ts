@@ -1,4 +1,4 @@
-// `floorline analyze FILE`: offline report of a whole recording (DESIGN.md "analyze --json output").
+// `floorline analyze FILE`: offline report of a whole recording (docs/ARCHITECTURE.md "analyze --json").
 import { threadsFlag } from './threads-flag.ts';
 import { resolveThreads } from '../../workers/threads.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';

@@ -212,6 +212,8 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
   const alarms: AlarmFlagValues = has(args, 'band')
     ? await readAlarmFlags(args, command, rig?.rules, rig?.config.masks)
     : { rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(), masks: masksOrUsage(command, () => readMasks(undefined, rig?.config.masks)) };
+  // demo has no --band: the config's bands still apply (its analysis settings do not: they stay the baseline's).
+  if (!has(args, 'band') && rig?.config.bands?.length) alarms.rules.band.bands = rig.config.bands.map(parseBand);
   const rec = readRecordingFlags(args);
   const baseline = w.baseline ?? (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
   const quiet = f.quiet as boolean;
@@ -232,6 +234,7 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
     eventsOut: alarms.eventsOut,
     durationSeconds: w.durationSeconds,
     history: withSource(historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path), w.sourceLabel, alarms.rules.band.bands),
+    rig,
     notify: rig?.config.notify,
     retention: rig?.config.retention,
     masks: alarms.masks,
