@@ -101,7 +101,7 @@ export class Monitor {
       baselineWhere: o.baseline?.where,
       rules: o.rules,
       masks: o.masks,
-      capture: (sample, label) => this.recorderRef?.capture(sample, label).file,
+      capture: (sample, label) => this.recorderRef?.capture(sample, label).file || undefined, // '' = refused (quota)
     });
     this.healthWatch = new HealthWatch(this.pipeline);
     this.lowFrequency = o.lowFrequency === false ? undefined : new LiveLowFrequency();
