@@ -295,6 +295,8 @@ export class Monitor {
       gaps: c.gaps,
       lostSamples: c.lostSamples,
       crcErrors: this.source.counters().crcErrors,
+      syncErrors: this.source.counters().syncErrors,
+      nonfiniteFrames: c.nonfiniteFrames,
       droppedBlocks: c.droppedBlocks,
       recording: this.recorderRef ? recordingState(this.recorderRef.status()) : { state: 'off' },
       replay: this.replayState(),
