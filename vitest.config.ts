@@ -11,6 +11,9 @@ const realtime = [
   'tests/service/shutdown.test.ts',
   'tests/notify/webhook-outage.test.ts',
   'tests/retention/small-disk.test.ts',
+  'tests/notify/pty-incidents.test.ts',
+  'tests/service/reload.test.ts',
+  'tests/service/log-lines.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 
