@@ -41,7 +41,7 @@ function drive(blocks: number, at: (i: number, p: Pipeline, data: Float64Array, 
 
 describe('health alarms', () => {
   it('samples within 0.1 % of full scale raise clip once, cleared after a second without clipping', () => {
-    // Within 0.1 % of full scale counts as clipped (DESIGN.md's clip rule; common practice for ADC overload flags).
+    // Within 0.1 % of full scale counts as clipped (the event contract's clip rule; common practice for ADC overload flags).
     const events = drive(40, (i, _p, d) => {
       if (i === 10 || i === 11) d[500] = 32767 * 0.9995;
       if (i === 12) d[500] = 32767 * 0.998; // 0.2 % below full scale: not a clip
