@@ -1,4 +1,4 @@
-// The event record written to events.jsonl and --events-out (one JSON object a line), as fixed by DESIGN.md.
+// The event record written to events.jsonl and --events-out (one JSON object a line), as fixed by docs/ARCHITECTURE.md "Events".
 // Pure types: the dashboard imports this module too.
 
 export type EventKind = 'alarm' | 'info';

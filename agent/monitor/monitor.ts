@@ -30,6 +30,7 @@ import type { RetentionKeeper } from '../retention/retention.ts';
 import { HealthWatch, type HealthVerdict } from '../service/health.ts';
 import { registerSecret } from '../service/log-lines.ts';
 import { installShutdown } from '../service/shutdown.ts';
+import { installReload } from '../service/reload.ts';
 import { AlarmTable } from './alarm-table.ts';
 import { BandTable } from './band-table.ts';
 import { EventHistory } from './event-history.ts';
@@ -194,11 +195,15 @@ export class Monitor {
   async start(): Promise<void> {
     await this.pipeline.attach(this.source);
     const signals = installShutdown(() => this.stop(), this.say);
+    const uninstallReload = this.o.rig
+      ? installReload(this.o.rig, { setNotifyFilters: (sinks) => this.notifier?.setFilters(sinks), setRetention: (r) => this.retention?.setPolicy(r) }, this.say)
+      : undefined;
     this.finished = (async () => {
       try {
         await this.pipeline.whenEnded();
       } finally {
         signals.uninstall();
+        uninstallReload?.();
         await this.close();
       }
     })();

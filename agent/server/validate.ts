@@ -1,6 +1,6 @@
 // Validation of every client → agent message. The server trusts nothing it did not check here:
 // unknown fields are refused too, so a typo never silently does nothing.
-import type { AveragingSpec } from '../../protocol/settings.ts';
+import { MAX_SEGMENT, MIN_SEGMENT, type AveragingSpec } from '../../protocol/settings.ts';
 import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from '../../protocol/messages.ts';
 
 export type ParseResult =
@@ -18,8 +18,6 @@ const TYPES: Record<ClientMessageType, readonly string[]> = {
 };
 
 /** Limits on requested analysis settings (the backend may refuse more, e.g. a window it does not know). */
-export const SEGMENT_MIN = 64;
-export const SEGMENT_MAX = 1 << 20;
 export const AVERAGE_COUNT_MAX = 100_000;
 export const TAU_SECONDS_MIN = 0.01;
 export const TAU_SECONDS_MAX = 86_400;
@@ -114,7 +112,7 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       const m: ClientMessage = { type, id };
       if (o.averaging !== undefined) m.averaging = averaging(o.averaging);
       if (o.segment !== undefined) {
-        const s = num(o, 'segment', SEGMENT_MIN, SEGMENT_MAX, true);
+        const s = num(o, 'segment', MIN_SEGMENT, MAX_SEGMENT, true);
         if ((s & (s - 1)) !== 0) throw new Invalid('bad-message', `'segment' must be a power of two, got ${s}`);
         m.segment = s;
       }
