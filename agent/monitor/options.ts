@@ -6,7 +6,7 @@ import type { AnalysisChoice } from '../pipeline/analyser.ts';
 import type { RecorderOptions } from '../recorder/recorder.ts';
 import type { RulesConfig } from '../rules/rules.ts';
 import type { Monitor } from './monitor.ts';
-import type { SinkConfig } from '../config/rig-config.ts';
+import type { LoadedRigConfig, SinkConfig } from '../config/rig-config.ts';
 import type { Level } from '../store/schema.ts';
 import type { ReplaySource } from '../sources/replay.ts';
 import type { RetentionPolicy } from '../retention/retention.ts';
@@ -48,6 +48,8 @@ export interface MonitorOptions {
   masks?: AlarmHookOptions['masks'];
   /** Disk retention (quotas, free-space floor) of the rig config. */
   retention?: RetentionPolicy;
+  /** The rig config the command started with: SIGHUP reloads it (agent/service/reload.ts). */
+  rig?: LoadedRigConfig;
   /** Notification sinks (their outbox lives in the data folder). */
   notify?: readonly SinkConfig[];
   /** The replay behind the source (which may wrap it, e.g. to calibrate), for the replay position in status. */

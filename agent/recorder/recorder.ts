@@ -1,8 +1,11 @@
 // Continuous recording (with rotation, continuous sample indices across files) and pre/post event captures, fed
 // by the pipeline's calibrated blocks. Files are float32 WAV + sidecar in the data folder's recordings/.
 // A write failure (disk full, no permission) never stops acquisition: the recording is marked failed, an event
-// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched) every
-// flushMs of wall time, so a crash loses at most that much.
+// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched, fdatasync)
+// every flushMs of wall time, and its samples and sizes are also handed to the kernel after every writeOutSeconds
+// of sample time. The second bound does not depend on the timer getting to run: on a loaded machine the event
+// loop may be late, but blocks still arrive one at a time, so a killed process loses at most writeOutSeconds of
+// samples plus one block.
 import { rmSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import type { FloorlineEvent } from '../../protocol/events.ts';
@@ -27,8 +30,11 @@ export interface RecorderOptions {
   /** Extra seconds the ring holds beyond preSeconds (default 5): an alarm decides some time after the samples
    * that raised it (segment length, on-delay), and its capture must still reach preSeconds before the trigger. */
   decisionSeconds?: number;
-  /** Wall-clock flush interval, ms (default 500): what a crash can lose at most. */
+  /** Wall-clock flush interval, ms (default 500), with fdatasync: what a power cut can lose. */
   flushMs?: number;
+  /** Sample-time bound, seconds (default 0.5): samples and header sizes are written out (no fdatasync) at least
+   * this often in sample time, so a killed process loses at most this much plus one block. */
+  writeOutSeconds?: number;
   /** fdatasync on flush (default true). */
   durable?: boolean;
   /** After a full disk, wall-clock ms between attempts to record again (default 2000). */
@@ -86,6 +92,8 @@ export class Recorder {
   private readonly preSeconds: number;
   private readonly postSeconds: number;
   private readonly durable: boolean;
+  private readonly writeOutSeconds: number;
+  private framesSinceWriteOut = 0;
   private readonly decisionSeconds: number;
   private pipeline: Pipeline | undefined;
   private info: StreamInfo | undefined;
@@ -119,6 +127,10 @@ export class Recorder {
       if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
     }
     if (!(this.rotateBytes > 0)) throw new RangeError(`Recorder: rotateBytes must be positive, got ${this.rotateBytes}`);
+    this.writeOutSeconds = options.writeOutSeconds ?? 0.5;
+    if (!(this.writeOutSeconds > 0) || !Number.isFinite(this.writeOutSeconds)) {
+      throw new RangeError(`Recorder: writeOutSeconds must be a positive number of seconds, got ${options.writeOutSeconds}`);
+    }
     this.timer = setInterval(() => this.flushAll(), options.flushMs ?? 500);
     this.timer.unref();
   }
@@ -127,10 +139,10 @@ export class Recorder {
   attach(pipeline: Pipeline): void {
     this.pipeline = pipeline;
     this.unsubscribe.push(
-      pipeline.on('info', (i) => this.onInfo(i)),
-      pipeline.on('block', (b) => this.onBlock(b)),
-      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost)),
-      pipeline.on('end', () => this.closeAll()),
+      pipeline.on('info', (i) => this.onInfo(i), 'recorder'),
+      pipeline.on('block', (b) => this.onBlock(b), 'recorder'),
+      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost), 'recorder'),
+      pipeline.on('end', () => this.closeAll(), 'recorder'),
     );
     if (pipeline.stream) this.onInfo(pipeline.stream);
   }
@@ -261,6 +273,8 @@ export class Recorder {
     }
     this.ring?.push(b.data, b.firstSample, b.frames);
     this.nextSample = b.firstSample + b.frames;
+    this.framesSinceWriteOut += b.frames;
+    if (this.framesSinceWriteOut >= this.writeOutSeconds * this.info!.sampleRate) this.eachOpenWriter((w) => w.writeOut());
   }
 
   private appendContinuous(b: CalibratedBlock): void {
@@ -374,16 +388,22 @@ export class Recorder {
   }
 
   private flushAll(): void {
+    this.eachOpenWriter((w) => w.flush());
+  }
+
+  /** Runs `op` on the continuous file and every capture; a failure marks that file failed, the others go on. */
+  private eachOpenWriter(op: (w: WavWriter) => void): void {
+    this.framesSinceWriteOut = 0;
     if (this.current) {
       try {
-        this.current.writer.flush();
+        op(this.current.writer);
       } catch (err) {
         this.failRecording(err as Error);
       }
     }
     for (const cap of [...this.captures]) {
       try {
-        cap.writer.flush();
+        op(cap.writer);
       } catch (err) {
         this.failCapture(cap, err as Error);
       }

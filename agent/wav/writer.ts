@@ -176,11 +176,20 @@ export class WavWriter {
     }
   }
 
-  /** Writes buffered samples, then patches the header sizes (and fdatasyncs when durable). Call ≥ once a second. */
-  flush(): void {
+  /**
+   * Hands buffered samples and the patched header sizes to the kernel, without fdatasync: enough for the file to
+   * survive the death of this process (kill -9), not a power cut. Cheap, so it can run often.
+   */
+  writeOut(): void {
     if (this.closed) return;
     this.writePending();
     this.patchHeader();
+  }
+
+  /** writeOut(), then fdatasync when durable (what survives a power cut). Call ≥ once a second. */
+  flush(): void {
+    if (this.closed) return;
+    this.writeOut();
     if (this.durable) {
       try {
         fdatasyncSync(this.fd);

@@ -98,3 +98,26 @@ describe('monitor parts', () => {
     expect(faulty.seen).toContain('internal'); // the other parts hear about it
   });
 });
+
+describe('monitor incidents', () => {
+  it('acknowledges every mains harmonic of the demo\'s ground loop with one incident id, and leaves the shorted channel\'s spur asking', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'floorline-incident-ack-'));
+    const src = new ReplaySource(join(root, 'recordings/demo.wav'), { speed: 'max', loop: false });
+    const m = await startMonitor(src, testMonitorOptions(dir));
+    await src.done;
+    await m.finished;
+    const events = readFileSync(join(dir, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as FloorlineEvent);
+    const mains = events.filter((e) => e.rule === 'mains' && e.state === 'raised');
+    // Harmonics of one fundamental on one channel (k × f, a fact of the trade) are one fault: one incident.
+    expect(mains.length).toBeGreaterThan(1);
+    const ids = new Set(mains.map((e) => e.incident));
+    expect(ids.size).toBe(1);
+    const [id] = ids;
+    expect(m.acknowledge(id!)).toBe(true);
+    const rows = m.status().alarms;
+    for (const e of mains) expect(rows.find((r) => r.id === alarmId(e))?.acknowledged).toBe(true);
+    const spur = rows.filter((r) => r.rule === 'spur' && r.channel === 'shorted' && r.state === 'raised');
+    expect(spur.length).toBeGreaterThan(0);
+    expect(spur.every((r) => !r.acknowledged)).toBe(true);
+  });
+});
