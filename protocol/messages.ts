@@ -142,6 +142,8 @@ export interface AlarmRow {
   acknowledged: boolean;
   /** Sample index of the last change. */
   sample: number;
+  /** The incident the alarm belongs to (the same id its events carry). */
+  incident?: string;
 }
 
 export interface RecordingState {
