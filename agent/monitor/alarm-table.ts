@@ -23,6 +23,7 @@ export class AlarmTable {
       state: raised ? 'raised' : 'clear',
       acknowledged: raised && prev?.state === 'raised' ? prev.acknowledged : false,
       sample: e.sample,
+      ...(e.incident ? { incident: e.incident } : {}),
     });
   }
 

@@ -139,10 +139,10 @@ export class Recorder {
   attach(pipeline: Pipeline): void {
     this.pipeline = pipeline;
     this.unsubscribe.push(
-      pipeline.on('info', (i) => this.onInfo(i)),
-      pipeline.on('block', (b) => this.onBlock(b)),
-      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost)),
-      pipeline.on('end', () => this.closeAll()),
+      pipeline.on('info', (i) => this.onInfo(i), 'recorder'),
+      pipeline.on('block', (b) => this.onBlock(b), 'recorder'),
+      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost), 'recorder'),
+      pipeline.on('end', () => this.closeAll(), 'recorder'),
     );
     if (pipeline.stream) this.onInfo(pipeline.stream);
   }
