@@ -6,7 +6,7 @@ import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
-export const PROTOCOL_VERSION = 2;
+export const WIRE_PROTOCOL_VERSION = 2;
 
 /** Largest client → agent message the server accepts, bytes. Control messages are tiny; anything larger closes that client. */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
@@ -142,6 +142,8 @@ export interface AlarmRow {
   acknowledged: boolean;
   /** Sample index of the last change. */
   sample: number;
+  /** The incident the alarm belongs to (the same id its events carry). */
+  incident?: string;
 }
 
 export interface RecordingState {

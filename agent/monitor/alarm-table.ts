@@ -29,6 +29,7 @@ export class AlarmTable {
       state: raised ? 'raised' : 'clear',
       acknowledged: raised && prev?.state === 'raised' ? prev.acknowledged : false,
       sample: e.sample,
+      ...(e.incident ? { incident: e.incident } : {}),
     });
     if (this.rows.size > MAX_ALARM_ROWS) this.forgetOldCleared();
   }

@@ -181,7 +181,7 @@ result = sqlite3.connect(args[0]).execute('select count(*) from accounts').fetch
       let out = '';
       child.stdout!.setEncoding('utf8').on('data', (t: string) => (out += t));
       await new Promise<void>((resolve, reject) => {
-        const timer = setTimeout(() => reject(new Error(`no recovery within 40 s: ${err}`)), 40_000);
+        const timer = setTimeout(() => reject(new Error(`no recovery within 100 s: ${err}`)), 100_000);
         child.stderr!.setEncoding('utf8').on('data', (t: string) => {
           err += t;
           // The disk filled: give it room again (as an operator freeing space would); the writer retries.
@@ -209,5 +209,5 @@ result = [{"from": r[0], "to": r[1], "reason": r[2]} for r in sqlite3.connect(ar
     } finally {
       spawnSync('umount', [mnt]);
     }
-  }, 120_000);
+  }, 240_000);
 });
