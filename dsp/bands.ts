@@ -30,17 +30,6 @@ export function bandRmsInBins(psd: Float64Array, binHz: number, first: number, l
   return Math.sqrt(s * binHz);
 }
 
-/** RMS of the band low ≤ f ≤ high (Hz) of a one-sided density with bin spacing binHz. */
-export function bandRms(psd: Float64Array, binHz: number, low: number, high: number): number {
-  const r = bandBins(psd.length, binHz, low, high);
-  return bandRmsInBins(psd, binHz, r.first, r.last);
-}
-
-/** RMS over every bin (DC to Nyquist). */
-export function totalRms(psd: Float64Array, binHz: number): number {
-  return bandRmsInBins(psd, binHz, 0, psd.length - 1);
-}
-
 /** Amplitude spectral density sqrt(psd) (unit/√Hz) into out (allocated if absent). */
 export function asd(psd: Float64Array, out?: Float64Array): Float64Array {
   const n = psd.length;

@@ -6,7 +6,7 @@ import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
-export const PROTOCOL_VERSION = 2;
+export const WIRE_PROTOCOL_VERSION = 2;
 
 /** Largest client → agent message the server accepts, bytes. Control messages are tiny; anything larger closes that client. */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
@@ -142,6 +142,8 @@ export interface AlarmRow {
   acknowledged: boolean;
   /** Sample index of the last change. */
   sample: number;
+  /** The incident the alarm belongs to (the same id its events carry). */
+  incident?: string;
 }
 
 export interface RecordingState {
@@ -188,6 +190,10 @@ export interface AgentStatus {
   gaps: number;
   lostSamples: number;
   crcErrors: number;
+  /** Bytes skipped to find a frame, malformed and rejected frames, and bad text lines, from the source. */
+  syncErrors: number;
+  /** Frames excluded because they held NaN, ±Inf or a value beyond float32. */
+  nonfiniteFrames: number;
   droppedBlocks: number;
   recording: RecordingState;
   replay: ReplayState | null;

@@ -22,7 +22,7 @@ import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
 import { resolveChannelPairs } from './channel-pairs.ts';
 import { CLIP_FRACTION, FLOAT32_MAX } from '../pipeline/conditioner.ts';
-import type { Band } from './bands.ts';
+import type { Band } from '../../protocol/bands.ts';
 
 export { AnalysisInputError } from './input-error.ts';
 

@@ -6,7 +6,7 @@ import { accessSync, constants, readFileSync, statSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import schema from './rig-config.schema.json';
-import { parseBand } from '../rules/default-bands.ts';
+import { parseBand } from '../../protocol/bands.ts';
 import { parseRules, type RulesConfig } from '../rules/rules.ts';
 import { parseWindowName } from '../../dsp/windows.ts';
 

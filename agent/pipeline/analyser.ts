@@ -7,7 +7,7 @@
 //    a snapshot is taken at an instant only when a new segment completed since the previous one.
 // Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
 // starts again, so every loop is analysed on the same grid of file indices as the first.
-import { WelchEstimator } from '../../dsp/welch.ts';
+import { WelchEstimator, welchStep } from '../../dsp/welch.ts';
 import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
 import type { SnapshotChannel, SpectrumSnapshot } from './types.ts';
@@ -20,7 +20,6 @@ export interface AnalysisChoice {
 }
 
 export const DEFAULT_ANALYSIS: AnalysisChoice = { segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' };
-export const DEFAULT_AVERAGING: AveragingSpec = { mode: 'exponential', tauSeconds: 10 };
 export const DEFAULT_SNAPSHOT_RATE = 10;
 
 /** Smallest origin + k·step (k integer) that is ≥ sample. */
@@ -75,7 +74,7 @@ export class Analyser {
       overlap: choice.overlap,
       detrend: choice.detrend,
     };
-    this.step = choice.segment - Math.floor(choice.overlap * choice.segment); // as WelchEstimator.step
+    this.step = welchStep(choice.segment, choice.overlap);
     this.interval = Math.max(1, Math.round(info.sampleRate / snapshotRate));
     this.alignedFrom = alignUp(startSample, this.step);
     this.estimators = info.channels.map(

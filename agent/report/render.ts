@@ -1,6 +1,6 @@
 // The report as one self-contained HTML document: no scripts, no external resources, CSS and SVG inline. The
 // generation time sits in one marked element (id="generated"); everything else depends on the store and span only.
-import { formatSi } from '../analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import { esc } from './html-escape.ts';
 import { linePlot } from './svg-plot.ts';
 import type { ReportData } from './collect.ts';

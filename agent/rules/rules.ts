@@ -5,7 +5,7 @@ import type { BandSpec } from '../../dsp/detection/band-compare.ts';
 import type { AlarmTiming } from '../../dsp/detection/alarm-state.ts';
 import type { MainsSetting } from '../../dsp/detection/mains.ts';
 import { InputError } from '../cli/usage-error.ts';
-import { parseBand } from './default-bands.ts';
+import { parseBand } from '../../protocol/bands.ts';
 
 export interface TimingSeconds {
   onDelay: number;

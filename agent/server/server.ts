@@ -3,7 +3,7 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
-import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
+import { WIRE_PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
 import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
@@ -73,7 +73,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   // Status is computed at most once per status tick and shared by the push, get-status replies and /api/status:
   // many clients asking often cost one computation, not one each.
-  const computeStatus = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
+  const computeStatus = (): AgentStatus => ({ protocol: WIRE_PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
   let shared: { at: number; value: AgentStatus; json: string } | null = null;
   const sharedStatus = (): { value: AgentStatus; json: string } => {
     const now = performance.now();
@@ -266,7 +266,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     });
     const latest = backend.latestSnapshot();
     if (latest && latest.channels.length) updateContext(latest);
-    client.sendJson({ type: 'hello', protocol: PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
+    client.sendJson({ type: 'hello', protocol: WIRE_PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
     sendBaseline(client);
     const lf = backend.lowFrequencyLatest?.();
     if (lf) {

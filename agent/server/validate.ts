@@ -1,6 +1,6 @@
 // Validation of every client → agent message. The server trusts nothing it did not check here:
 // unknown fields are refused too, so a typo never silently does nothing.
-import type { AveragingSpec } from '../../protocol/settings.ts';
+import { MAX_SEGMENT, MIN_SEGMENT, type AveragingSpec } from '../../protocol/settings.ts';
 import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from '../../protocol/messages.ts';
 
 export type ParseResult =
@@ -18,16 +18,15 @@ const TYPES: Record<ClientMessageType, readonly string[]> = {
 };
 
 /** Limits on requested analysis settings (the backend may refuse more, e.g. a window it does not know). */
-export const SEGMENT_MIN = 64;
-export const SEGMENT_MAX = 1 << 20;
 export const AVERAGE_COUNT_MAX = 100_000;
 export const TAU_SECONDS_MIN = 0.01;
 export const TAU_SECONDS_MAX = 86_400;
 export const BASELINE_SECONDS_MAX = 3600;
 export const SHELVE_SECONDS_MAX = 7 * 86_400;
 
-/** An alarm id as protocol/ids.ts makes them: printable, no control characters. */
-const ALARM_ID = /^[a-z-]+\/[\x20-\x7e\u00a0-\uffff]{1,200}$/;
+/** An alarm id as protocol/ids.ts makes them ("mains/ch0/h1"), or an incident id as events carry them
+ *  ("mains-ch0-s167999"): a rule name first, then printable characters only, no control characters. */
+const ALARM_ID = /^[a-z-]+(\/|-)[\x20-\x7e\u00a0-\uffff]{1,200}$/;
 export const NOTE_TEXT_MAX = 2000;
 
 /** A baseline file name the client may choose: one plain name, no folders, no leading dot. */
@@ -83,7 +82,7 @@ function averaging(v: unknown): AveragingSpec {
 
 function alarm(o: Record<string, unknown>): string {
   const a = str(o, 'alarm', 256);
-  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm id (status.alarms[].id, e.g. "mains/ch0/h1")`);
+  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm or incident id (status.alarms[].id, e.g. "mains/ch0/h1", or an event's incident)`);
   return a;
 }
 
@@ -113,7 +112,7 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       const m: ClientMessage = { type, id };
       if (o.averaging !== undefined) m.averaging = averaging(o.averaging);
       if (o.segment !== undefined) {
-        const s = num(o, 'segment', SEGMENT_MIN, SEGMENT_MAX, true);
+        const s = num(o, 'segment', MIN_SEGMENT, MAX_SEGMENT, true);
         if ((s & (s - 1)) !== 0) throw new Invalid('bad-message', `'segment' must be a power of two, got ${s}`);
         m.segment = s;
       }

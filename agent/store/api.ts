@@ -1,7 +1,7 @@
 // GET /api/trend and /api/incidents: the query commands' JSON, read-only, bounded in rows (points, default 1000,
 // at most 10000 per series, merged server-side). Every parameter is checked; bad ones get 400 naming the fix.
 import type { ServerResponse } from 'node:http';
-import { parseBand } from '../rules/default-bands.ts';
+import { parseBand } from '../../protocol/bands.ts';
 import { openStoreForReading, type StoreDb } from './open-store.ts';
 import { EVERY_CHOICES, queryTrend, type Every } from './trend-query.ts';
 import { queryIncidents } from './incident-query.ts';

@@ -3,7 +3,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createProgress } from '../../agent/cli/progress.ts';
-import { formatSi } from '../../agent/analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import { defaultSegment, segmentCount } from '../../agent/analysis/segment-choice.ts';
 import { Python, root, tempDir } from '../wav/support.ts';
 import { runCli, welchReference } from './support.ts';

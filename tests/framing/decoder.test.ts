@@ -6,7 +6,7 @@ import type { BoardDescriptor } from '../../agent/framing/descriptor.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { concat, randomFrame, recordingDecoder, type SentFrame } from './frame-stream.ts';
 import { crc32 } from '../../agent/framing/crc32.ts';
-import { KIND_DESCRIPTOR, KIND_SAMPLES, MAX_BODY, PROTOCOL_VERSION, SYNC } from '../../agent/framing/protocol.ts';
+import { KIND_DESCRIPTOR, KIND_SAMPLES, MAX_BODY, SERIAL_PROTOCOL_VERSION, SYNC } from '../../agent/framing/protocol.ts';
 
 const GOOD: BoardDescriptor = {
   rate: 48000, format: 'int24', board: 'rig-7', firmware: '0.3.1', boot: 'a1b2', clock: 12345,
@@ -20,7 +20,7 @@ const text = (s: string): Uint8Array => new TextEncoder().encode(s);
 function frameOf(kind: number, body: Uint8Array, lengthField = body.length): Uint8Array {
   const out = new Uint8Array(8 + body.length + 4);
   out.set(SYNC, 0);
-  out[4] = PROTOCOL_VERSION;
+  out[4] = SERIAL_PROTOCOL_VERSION;
   out[5] = kind;
   out[6] = lengthField & 0xff;
   out[7] = (lengthField >>> 8) & 0xff;

@@ -1,5 +1,6 @@
 // MonitorOptions for tests: the defaults the CLI applies, a data folder of the test's own, no parts.
-import { DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE } from '../../agent/pipeline/analyser.ts';
+import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE } from '../../agent/pipeline/analyser.ts';
+import { DEFAULT_AVERAGING } from '../../dsp/averaging.ts';
 import type { MonitorOptions } from '../../agent/monitor/options.ts';
 import { defaultRules } from '../../agent/rules/rules.ts';
 

@@ -6,7 +6,7 @@ import { UsageError } from '../usage-error.ts';
 import { createProgress } from '../progress.ts';
 import type { DetrendMode } from '../../../protocol/settings.ts';
 import { analyzeFile, reportToJson, validateSettings, type AnalyzeOptions, type AverageMode, type ClipSummary } from '../../analysis/report.ts';
-import { parseBand } from '../../analysis/bands.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 import { csvChunks } from '../../analysis/csv.ts';
 import { formatTextSummary } from '../../analysis/text-summary.ts';
 import { runLogFrequencyAnalysis } from '../../analysis/log-frequency-command.ts';

@@ -9,7 +9,8 @@ import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.t
 import { BaselineCapture } from '../../baseline/capture.ts';
 import { forEachFiniteRun } from '../../pipeline/conditioner.ts';
 import { writeBaseline } from '../../baseline/format.ts';
-import { defaultBands, parseBand } from '../../rules/default-bands.ts';
+import { defaultBands } from '../../rules/default-bands.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 
 const ANALYSIS_FLAG_NAMES = ['segment', 'window', 'overlap', 'detrend'];
 

@@ -5,12 +5,14 @@ import type { FlagSpec, ParsedArgs } from '../args.ts';
 import { readMaskFile, type MaskFile } from '../../analysis/mask-file.ts';
 import { UsageError } from '../usage-error.ts';
 import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
-import { DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
+import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
+import { DEFAULT_AVERAGING } from '../../../dsp/averaging.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { parseBand } from '../../rules/default-bands.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 import { defaultRules, loadRules, type RulesConfig } from '../../rules/rules.ts';
 import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
 import { parseWindowName } from '../../../dsp/windows.ts';
+import { MAX_SEGMENT, MIN_SEGMENT } from '../../../dsp/welch.ts';
 import type { MonitorOptions, PartSpec } from '../../monitor/options.ts';
 import { defaultAssetsDir, serverOptionsFromArgs } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
@@ -22,14 +24,27 @@ import type { ReplaySource } from '../../sources/replay.ts';
 import { historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
-  { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
+  { name: 'segment', kind: 'number', value: 'N', integer: true, min: MIN_SEGMENT, max: MAX_SEGMENT, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
   { name: 'window', kind: 'string', value: 'NAME', default: DEFAULT_ANALYSIS.window, help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA' },
   { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: DEFAULT_ANALYSIS.overlap, help: 'segment overlap fraction' },
   { name: 'detrend', kind: 'string', value: 'MODE', choices: ['none', 'mean', 'linear'], default: DEFAULT_ANALYSIS.detrend, help: 'detrend each segment' },
-  { name: 'average', kind: 'string', value: 'SPEC', default: 'exp:10', help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K' },
+  { name: 'average', kind: 'string', value: 'SPEC', default: averagingFlag(DEFAULT_AVERAGING), help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K' },
   { name: 'snapshot-rate', kind: 'number', value: 'N', min: 0.01, max: 1000, default: DEFAULT_SNAPSHOT_RATE, help: 'spectrum snapshots per second of sample time' },
   { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
 ];
+
+/** The --average spelling of an averaging (the inverse of parseAveraging). */
+export function averagingFlag(a: AveragingSpec): string {
+  switch (a.mode) {
+    case 'exponential':
+      return `exp:${a.tauSeconds}`;
+    case 'rolling':
+    case 'median':
+      return `${a.mode}:${a.count}`;
+    default:
+      return a.mode;
+  }
+}
 
 /** Parses an --average value; throws UsageError naming the flag and the accepted forms. */
 export function parseAveraging(raw: string, command: string): AveragingSpec {
@@ -75,7 +90,7 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
   const f = args.flags;
   const segment = f.segment as number;
   if ((segment & (segment - 1)) !== 0) {
-    throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`);
+    throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from ${MIN_SEGMENT} to ${MAX_SEGMENT}, e.g. --segment 4096.`);
   }
   let window: string;
   try {
