@@ -101,7 +101,7 @@ export class Monitor {
       baselineWhere: o.baseline?.where,
       rules: o.rules,
       masks: o.masks,
-      capture: (sample, label) => this.recorderRef?.capture(sample, label).file,
+      capture: (sample, label) => this.recorderRef?.capture(sample, label).file || undefined, // '' = refused (quota)
     });
     this.healthWatch = new HealthWatch(this.pipeline);
     this.lowFrequency = o.lowFrequency === false ? undefined : new LiveLowFrequency();
@@ -295,6 +295,8 @@ export class Monitor {
       gaps: c.gaps,
       lostSamples: c.lostSamples,
       crcErrors: this.source.counters().crcErrors,
+      syncErrors: this.source.counters().syncErrors,
+      nonfiniteFrames: c.nonfiniteFrames,
       droppedBlocks: c.droppedBlocks,
       recording: this.recorderRef ? recordingState(this.recorderRef.status()) : { state: 'off' },
       replay: this.replayState(),
