@@ -142,6 +142,8 @@ export interface AlarmRow {
   acknowledged: boolean;
   /** Sample index of the last change. */
   sample: number;
+  /** The incident the alarm belongs to (the same id its events carry). */
+  incident?: string;
 }
 
 export interface RecordingState {
@@ -188,6 +190,10 @@ export interface AgentStatus {
   gaps: number;
   lostSamples: number;
   crcErrors: number;
+  /** Bytes skipped to find a frame, malformed and rejected frames, and bad text lines, from the source. */
+  syncErrors: number;
+  /** Frames excluded because they held NaN, ±Inf or a value beyond float32. */
+  nonfiniteFrames: number;
   droppedBlocks: number;
   recording: RecordingState;
   replay: ReplayState | null;

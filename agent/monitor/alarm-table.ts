@@ -5,8 +5,14 @@ import type { FloorlineEvent } from '../../protocol/events.ts';
 import { alarmId } from '../../protocol/ids.ts';
 import type { AlarmRow } from '../../protocol/messages.ts';
 
+/** Most rows kept: every raised alarm stays; beyond this the oldest cleared rows are forgotten (a multi-day run
+ * with drifting spur lines would otherwise send one row per frequency ever seen to every client, forever). */
+export const MAX_ALARM_ROWS = 64;
+
 export class AlarmTable {
   private readonly rows = new Map<string, AlarmRow>();
+  /** Cleared rows forgotten so far (shown in status so the bound is visible). */
+  forgotten = 0;
 
   onEvent(e: FloorlineEvent): void {
     if (e.kind !== 'alarm' || e.state === 'settled') return; // settled restates a raised alarm's level
@@ -23,7 +29,18 @@ export class AlarmTable {
       state: raised ? 'raised' : 'clear',
       acknowledged: raised && prev?.state === 'raised' ? prev.acknowledged : false,
       sample: e.sample,
+      ...(e.incident ? { incident: e.incident } : {}),
     });
+    if (this.rows.size > MAX_ALARM_ROWS) this.forgetOldCleared();
+  }
+
+  private forgetOldCleared(): void {
+    const cleared = [...this.rows.values()].filter((r) => r.state === 'clear').sort((a, b) => a.sample - b.sample);
+    for (const r of cleared) {
+      if (this.rows.size <= MAX_ALARM_ROWS) break;
+      this.rows.delete(r.id);
+      this.forgotten++;
+    }
   }
 
   get(id: string): AlarmRow | undefined {

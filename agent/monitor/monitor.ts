@@ -101,7 +101,7 @@ export class Monitor {
       baselineWhere: o.baseline?.where,
       rules: o.rules,
       masks: o.masks,
-      capture: (sample, label) => this.recorderRef?.capture(sample, label).file,
+      capture: (sample, label) => this.recorderRef?.capture(sample, label).file || undefined, // '' = refused (quota)
     });
     this.healthWatch = new HealthWatch(this.pipeline);
     this.lowFrequency = o.lowFrequency === false ? undefined : new LiveLowFrequency();
@@ -295,6 +295,8 @@ export class Monitor {
       gaps: c.gaps,
       lostSamples: c.lostSamples,
       crcErrors: this.source.counters().crcErrors,
+      syncErrors: this.source.counters().syncErrors,
+      nonfiniteFrames: c.nonfiniteFrames,
       droppedBlocks: c.droppedBlocks,
       recording: this.recorderRef ? recordingState(this.recorderRef.status()) : { state: 'off' },
       replay: this.replayState(),
@@ -315,24 +317,49 @@ export class Monitor {
     if (incident) {
       // An incident id: every alarm of the fault, and those that join it later (agent/rules/incidents.ts).
       const ok = this.hook.detectors!.acknowledgeIncident(id);
+      let first: AlarmRow | undefined;
       for (const m of incident.members) {
         const row = m.open ? this.alarmTable.get(alarmId(m)) : undefined;
         if (row) this.alarmTable.markAcknowledged(row);
+        first ??= row;
       }
+      if (ok && first) this.operatorEvent({ ...first, incident: id }, 'acknowledged', `incident ${id} on ${first.channel} acknowledged by the operator`, { acknowledged: true });
       return ok;
     }
     const { row, band } = this.resolve(id);
     const n = this.hook.detectors?.acknowledge(row.rule, row.channel, band) ?? 0;
-    if (n > 0) this.alarmTable.markAcknowledged(row);
+    if (n > 0) {
+      this.alarmTable.markAcknowledged(row);
+      this.operatorEvent(row, 'acknowledged', `${row.rule} on ${row.channel} acknowledged by the operator`, { acknowledged: true });
+    }
     return n > 0;
   }
 
   /** Silences the alarm `id` names until `untilSample` (sample time). */
   shelve(id: string, untilSample: number): boolean {
     if (!Number.isFinite(untilSample)) throw new MonitorRefusal('bad-message', `shelve ${id}: until must be a sample index, got ${untilSample}`);
-    if (this.hook.detectors?.incidents.get(id)) return this.hook.detectors.shelveIncident(id, untilSample);
+    const incident = this.hook.detectors?.incidents.get(id);
+    if (incident) {
+      const ok = this.hook.detectors!.shelveIncident(id, untilSample);
+      const first = incident.members.map((m) => this.alarmTable.get(alarmId(m))).find((r) => r !== undefined);
+      if (ok && first) this.operatorEvent({ ...first, incident: id }, 'shelved', `incident ${id} on ${first.channel} shelved by the operator until sample ${untilSample}`, { shelvedUntilSample: untilSample });
+      return ok;
+    }
     const { row, band } = this.resolve(id);
-    return (this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band) ?? 0) > 0;
+    const n = this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band) ?? 0;
+    if (n > 0) this.operatorEvent(row, 'shelved', `${row.rule} on ${row.channel} shelved by the operator until sample ${untilSample}`, { shelvedUntilSample: untilSample });
+    return n > 0;
+  }
+
+  /** Acknowledge and shelve go into the event log (and so the store and reports) as info events of the incident. */
+  private operatorEvent(row: AlarmRow, state: 'acknowledged' | 'shelved', detail: string, extra: Record<string, unknown>): void {
+    const sample = Math.max(0, this.pipeline.counters().lastSample);
+    const rate = this.pipeline.stream?.sampleRate ?? 1;
+    this.pipeline.emitEvent(makeEvent(row.rule, state, row.channel, sample, rate, this.pipeline.wallTimeAt(sample), detail, {
+      ...(row.band ? { band: row.band } : {}),
+      ...(row.incident ? { incident: row.incident } : {}),
+      ...extra,
+    } as Partial<FloorlineEvent>, 'info'));
   }
 
   /** The row of an alarm id, and for band rules the band's exact edges as the rules hold them. */

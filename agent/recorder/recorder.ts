@@ -6,7 +6,7 @@
 // of sample time. The second bound does not depend on the timer getting to run: on a loaded machine the event
 // loop may be late, but blocks still arrive one at a time, so a killed process loses at most writeOutSeconds of
 // samples plus one block.
-import { rmSync } from 'node:fs';
+import { readdirSync, rmSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
@@ -39,6 +39,9 @@ export interface RecorderOptions {
   durable?: boolean;
   /** After a full disk, wall-clock ms between attempts to record again (default 2000). */
   retryMs?: number;
+  /** Most bytes all capture files in recordings/ may hold (default 1 GiB, counting those already there); beyond
+   * it no new capture starts and one event says so. Captures exist only for incidents, so this bounds a long run. */
+  captureQuotaBytes?: number;
   notes?: string;
 }
 
@@ -109,6 +112,11 @@ export class Recorder {
   private retryAt = -1;
   private missedFrom = -1;
   private readonly retryMs: number;
+  private readonly captureQuotaBytes: number;
+  private captureBytes = -1;
+  private quotaReported = false;
+  /** Labels (incident and channel) that already have a capture: one capture per incident, not per alarm edge. */
+  private readonly captured = new Map<string, string>();
   private readonly unsubscribe: (() => void)[] = [];
 
   constructor(
@@ -123,6 +131,7 @@ export class Recorder {
     this.durable = options.durable ?? true;
     this.decisionSeconds = options.decisionSeconds ?? 5;
     this.retryMs = options.retryMs ?? 2000;
+    this.captureQuotaBytes = options.captureQuotaBytes ?? 1024 ** 3;
     for (const [k, v] of [['rotateSeconds', this.rotateSeconds], ['preSeconds', this.preSeconds], ['postSeconds', this.postSeconds], ['decisionSeconds', this.decisionSeconds]] as const) {
       if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
     }
@@ -186,6 +195,18 @@ export class Recorder {
       running.endSample = Math.max(running.endSample, endSample);
       return { file: running.file, firstSample: running.firstSample, done: running.promise };
     }
+    // The same incident again (a re-raise after the capture closed): it already has its file.
+    const earlier = this.captured.get(label);
+    if (earlier !== undefined) return { file: earlier, firstSample: -1, done: Promise.resolve({ file: earlier, frames: 0 }) };
+    if (this.captureBytesNow() + this.captureCost(triggerSample) > this.captureQuotaBytes) {
+      if (!this.quotaReported) {
+        this.quotaReported = true;
+        this.report(`capture quota reached: capture files hold ${Math.round(this.captureBytesNow() / 2 ** 20)} MiB of the ${Math.round(this.captureQuotaBytes / 2 ** 20)} MiB allowed; no new captures until some are deleted`, 'raised', triggerSample);
+      }
+      const refused = Promise.reject(new Error('capture quota reached'));
+      refused.catch(() => undefined);
+      return { file: '', firstSample: -1, done: refused };
+    }
     const firstSample = Math.max(ring.oldestSample, triggerSample - Math.round(this.preSeconds * rate));
     const name = recordingFileName(`capture-${safeLabel(label)}`, this.pipeline.wallTimeAt(firstSample), firstSample);
     const path = join(this.folder.recordings, name);
@@ -203,12 +224,36 @@ export class Recorder {
       if (held > 0) writer.append(this.scratch, held);
       const cap: ActiveCapture = { writer, file, firstSample, endSample, label, promise, resolve, reject };
       this.captures.push(cap);
+      if (this.captured.size >= 10_000) this.captured.delete(this.captured.keys().next().value!);
+      this.captured.set(label, file);
+      this.captureBytes = this.captureBytesNow() + this.captureCost(triggerSample);
       if (ring.nextSample > endSample) this.finishCapture(cap);
     } catch (err) {
       reject(err as Error);
       this.report(`capture ${file} failed: ${(err as Error).message}`, 'raised');
     }
     return { file, firstSample, done: promise };
+  }
+
+  /** Bytes of the capture files in recordings/ (read once from disk, then counted as captures are made). */
+  private captureBytesNow(): number {
+    if (this.captureBytes < 0) {
+      this.captureBytes = 0;
+      try {
+        for (const n of readdirSync(this.folder.recordings)) {
+          if (n.startsWith('capture-') && n.endsWith('.wav')) this.captureBytes += statSync(join(this.folder.recordings, n)).size;
+        }
+      } catch {
+        // no folder yet: nothing captured
+      }
+    }
+    return this.captureBytes;
+  }
+
+  /** Bytes one capture of pre + post seconds takes (float32 samples, all channels). */
+  private captureCost(_trigger: number): number {
+    const info = this.info!;
+    return Math.ceil((this.preSeconds + this.postSeconds) * info.sampleRate) * info.channels.length * 4;
   }
 
   /** Flushes and closes every open file, stops the flush timer and unsubscribes. */

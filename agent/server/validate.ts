@@ -24,8 +24,9 @@ export const TAU_SECONDS_MAX = 86_400;
 export const BASELINE_SECONDS_MAX = 3600;
 export const SHELVE_SECONDS_MAX = 7 * 86_400;
 
-/** An alarm id as protocol/ids.ts makes them: printable, no control characters. */
-const ALARM_ID = /^[a-z-]+\/[\x20-\x7e\u00a0-\uffff]{1,200}$/;
+/** An alarm id as protocol/ids.ts makes them ("mains/ch0/h1"), or an incident id as events carry them
+ *  ("mains-ch0-s167999"): a rule name first, then printable characters only, no control characters. */
+const ALARM_ID = /^[a-z-]+(\/|-)[\x20-\x7e\u00a0-\uffff]{1,200}$/;
 export const NOTE_TEXT_MAX = 2000;
 
 /** A baseline file name the client may choose: one plain name, no folders, no leading dot. */
@@ -81,7 +82,7 @@ function averaging(v: unknown): AveragingSpec {
 
 function alarm(o: Record<string, unknown>): string {
   const a = str(o, 'alarm', 256);
-  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm id (status.alarms[].id, e.g. "mains/ch0/h1")`);
+  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm or incident id (status.alarms[].id, e.g. "mains/ch0/h1", or an event's incident)`);
   return a;
 }
 

@@ -6,7 +6,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { alarmId, bandEdge, bandId } from '../../protocol/ids.ts';
-import { AlarmTable } from '../../agent/monitor/alarm-table.ts';
+import { AlarmTable, MAX_ALARM_ROWS } from '../../agent/monitor/alarm-table.ts';
 import { BandTable } from '../../agent/monitor/band-table.ts';
 import { startMonitor } from '../../agent/monitor/monitor.ts';
 import { ReplaySource } from '../../agent/sources/replay.ts';
@@ -119,5 +119,23 @@ describe('monitor incidents', () => {
     const spur = rows.filter((r) => r.rule === 'spur' && r.channel === 'shorted' && r.state === 'raised');
     expect(spur.length).toBeGreaterThan(0);
     expect(spur.every((r) => !r.acknowledged)).toBe(true);
+  });
+});
+
+describe('alarm table bound', () => {
+  it('keeps every raised alarm but at most MAX_ALARM_ROWS rows, forgetting the oldest cleared ones', () => {
+    const t = new AlarmTable();
+    // 400 spur lines at distinct frequencies, each raised then cleared (the multi-day drift case), then 3 raised.
+    for (let i = 0; i < 400; i++) {
+      const f = 1000 + i * 0.37;
+      t.onEvent(event('spur', 'raised', { frequency: f, sample: 2 * i }));
+      t.onEvent(event('spur', 'cleared', { frequency: f, sample: 2 * i + 1 }));
+    }
+    for (let i = 0; i < 3; i++) t.onEvent(event('spur', 'raised', { frequency: 5000 + i, sample: 1000 + i }));
+    const rows = t.all();
+    expect(rows.length).toBe(MAX_ALARM_ROWS);
+    expect(rows.filter((r) => r.state === 'raised')).toHaveLength(3);
+    expect(Math.min(...rows.filter((r) => r.state === 'clear').map((r) => r.sample))).toBeGreaterThan(2 * (400 - MAX_ALARM_ROWS));
+    expect(t.forgotten).toBe(400 - MAX_ALARM_ROWS + 3);
   });
 });

@@ -51,6 +51,9 @@ describe('GET /metrics', () => {
     expect(byName.get('floorline_samples')?.type).toBe('counter');
     expect(byName.get('floorline_samples')?.samples[0]).toEqual(['floorline_samples_total', {}, 800]);
     expect(byName.get('floorline_crc_errors')?.samples[0][2]).toBe(3);
+    // Counters once hidden: link errors (sync, malformed, rejected frames, bad text lines) and non-finite frames.
+    expect(byName.get('floorline_sync_errors')?.samples[0][2]).toBe(0);
+    expect(byName.get('floorline_nonfinite_frames')?.samples[0][2]).toBe(0);
     const rms = byName.get('floorline_band_rms_volts');
     expect(rms?.type).toBe('gauge');
     expect(rms?.unit).toBe('volts');

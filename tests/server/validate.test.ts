@@ -32,8 +32,8 @@ describe('parseClientMessage', () => {
     [{ type: 'capture-baseline', id: 1, seconds: 1e9 }, /seconds/],
     [{ type: 'recording', id: 1, action: 'pause' }, /action/],
     [{ type: 'acknowledge', id: 1, rule: 'band-rise', channel: 'ch0' }, /unknown field 'rule'/],
-    [{ type: 'acknowledge', id: 1, alarm: 'no rule here' }, /not an alarm id/],
-    [{ type: 'acknowledge', id: 1, alarm: 'clip/ch0\u0007' }, /not an alarm id/],
+    [{ type: 'acknowledge', id: 1, alarm: 'no rule here' }, /not an alarm or incident id/],
+    [{ type: 'acknowledge', id: 1, alarm: 'clip/ch0\u0007' }, /not an alarm or incident id/],
     [{ type: 'shelve', id: 1, alarm: 'clip/ch0', seconds: 0 }, /seconds/],
     [{ type: 'get-status', id: 1, extra: true }, /unknown field 'extra'/],
   ])('refuses %j as bad-message, naming the problem', (m, why) => {

@@ -99,7 +99,7 @@ export class FakeBackend implements ServerBackend {
       channels: this.info.channels.map((c) => ({ name: c.name, unit: c.unit })),
       samples: this.sample + 1,
       t: (this.sample + 1) / this.sampleRate,
-      gaps: 0, lostSamples: 0, crcErrors: 3, droppedBlocks: 0,
+      gaps: 0, lostSamples: 0, crcErrors: 3, syncErrors: 0, nonfiniteFrames: 0, droppedBlocks: 0,
       recording: this.recording,
       replay: null,
       settings: { sampleRate: this.sampleRate, segment: this.segment, window: 'hann', overlap: 0.5, detrend: 'mean' },
