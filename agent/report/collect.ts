@@ -4,6 +4,7 @@ import type { StoreDb } from '../store/open-store.ts';
 import { queryTrend, type Every, type TrendSeries } from '../store/trend-query.ts';
 import { queryIncidents, type IncidentView } from '../store/incident-query.ts';
 import type { TimeBound } from '../store/time-bound.ts';
+import { FloorlineError } from '../errors.ts';
 
 export interface ReportData {
   runs: { id: number; command: string; source: string; sampleRate: number; startWall: string; settings: Record<string, unknown> }[];
@@ -19,8 +20,11 @@ export interface ReportData {
   unstored: { from: string; to: string; reason: string }[];
 }
 
-export class EmptySpanError extends Error {
-  readonly exitCode = 2;
+export class EmptySpanError extends FloorlineError {
+  override readonly name = 'EmptySpanError';
+  constructor(message: string) {
+    super('EMPTY_SPAN', message);
+  }
 }
 
 /** The coarsest resolution that still gives a few hundred points over the span. */
