@@ -11,12 +11,17 @@ const realtime = [
   'tests/service/shutdown.test.ts',
   'tests/notify/webhook-outage.test.ts',
   'tests/retention/small-disk.test.ts',
+  'tests/notify/pty-incidents.test.ts',
+  'tests/service/reload.test.ts',
+  'tests/service/log-lines.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 
 export default defineConfig({
   test: {
     reporters: ['default', './tests/support/summary-reporter.ts'],
+    // Python reference versions checked and dist/ built once, before any worker starts.
+    globalSetup: ['./tests/support/global-setup.ts'],
     testTimeout: 60_000,
     hookTimeout: 60_000,
     maxWorkers: 2,

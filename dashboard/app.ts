@@ -2,12 +2,17 @@
 // so the benchmark drives exactly the path live data takes.
 import type { ServerMessage, AgentStatus, SpectrumContext } from '../protocol/messages.ts';
 import type { FloorlineEvent } from '../protocol/events.ts';
+import { alarmId } from '../protocol/ids.ts';
 import { decodeFrame, type DecodedFrame } from '../protocol/frame.ts';
-import { Link } from './connection.ts';
+import { Link, type Request } from './connection.ts';
 import { SpectrumView } from './views/spectrum.ts';
 import { WaterfallView } from './views/waterfall.ts';
 import { BandTable } from './views/band-table.ts';
 import { EventList } from './views/event-list.ts';
+import { IncidentPanel } from './views/incident-panel.ts';
+import { TimelineView, pickSeries, trendUrl, type TimelineQuery } from './views/timeline.ts';
+import type { TrendReply } from '../protocol/trend.ts';
+import type { IncidentsReply } from '../protocol/incidents.ts';
 import { TraceView } from './views/trace.ts';
 import { HealthStrip } from './views/health.ts';
 import { Controls } from './views/controls.ts';
@@ -26,6 +31,15 @@ export class App {
   readonly bands = new BandTable(($('bands') as HTMLTableElement).tBodies[0]);
   readonly events = new EventList(($('events') as HTMLTableElement).tBodies[0], (e) => void this.acknowledge(e));
   readonly trace = new TraceView($('trace'));
+  readonly incidents = new IncidentPanel(($('incidents') as HTMLTableElement).tBodies[0], $('incident-message'), {
+    // The agent takes an incident id for acknowledge and shelve: every alarm of the fault, and those that join it.
+    acknowledge: (_ids, incident) => this.forEachAlarm([incident], (alarm) => ({ type: 'acknowledge', alarm }), 'acknowledged'),
+    shelve: (_ids, seconds, incident) => this.forEachAlarm([incident], (alarm) => ({ type: 'shelve', alarm, seconds }), `shelved for ${seconds / 60} min`),
+    note: (text, incident) => this.addNote(text, incident),
+  }, (ch) => this.context?.channels.find((c) => c.name === ch)?.unit ?? 'V');
+  readonly timeline = new TimelineView($('timeline'), $('timeline-info'));
+  /** /api/incidents answered (false: no history store on this agent, so the panel says so). */
+  incidentsAvailable = true;
   readonly health = new HealthStrip($('health'), $('replay-banner'));
   readonly logFrequency = new LogFrequencyView($('logf-chart'), $('logf-readout'), $('logf-fits'), $('logf-pp'), $('logf-context'));
   readonly budget: NoiseBudgetForm;
@@ -36,6 +50,7 @@ export class App {
   spectraApplied = 0;
   private pendingBaseline: ArrayBuffer | null = null;
   private baselineFrame: DecodedFrame | null = null;
+  private timelineStarted = false;
   /** The spectrum panel shows the log-frequency view (exports follow what is shown). */
   private logfMode = false;
   private contextShownAt = -Infinity;
@@ -55,6 +70,30 @@ export class App {
       followY: (on) => this.spectrum.setFollowY(on),
     });
     new ResizeObserver(() => this.alignWaterfall()).observe($('spectrum'));
+    ($('note-form') as HTMLFormElement).addEventListener('submit', (e) => {
+      e.preventDefault();
+      const input = $<HTMLInputElement>('note-text');
+      const text = input.value.trim();
+      if (!text) return;
+      const incident = $<HTMLSelectElement>('note-incident').value || undefined;
+      void this.addNote(text, incident).then((m) => {
+        $('incident-message').textContent = m;
+        input.value = '';
+        void this.refreshIncidents();
+      });
+    });
+    document.addEventListener('keydown', (e) => {
+      const t = e.target as HTMLElement;
+      if (e.key === 'n' && !e.ctrlKey && !e.metaKey && !['INPUT', 'SELECT', 'TEXTAREA'].includes(t.tagName)) {
+        e.preventDefault();
+        $<HTMLInputElement>('note-text').focus();
+      }
+    });
+    setInterval(() => void this.refreshIncidents(), 2000);
+    for (const id of ['timeline-channel', 'timeline-what', 'timeline-span']) $(id).addEventListener('change', () => void this.refreshTimeline());
+    $('timeline-channel').addEventListener('change', () => this.fillTimelineChoices());
+    $('timeline-csv').addEventListener('click', () => download('floorline-timeline.csv', this.timeline.csv(), 'text/csv'));
+    setInterval(() => void this.refreshTimeline(), 10_000);
     $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) => this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'));
     $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
@@ -67,6 +106,8 @@ export class App {
     switch (m.type) {
       case 'hello':
         this.events.reset(m.events);
+        for (const e of m.events) this.incidents.noteEvent(e);
+        void this.refreshIncidents();
         if (m.context) this.setContext(m.context);
         this.setStatus(m.status);
         break;
@@ -78,6 +119,8 @@ export class App {
         break;
       case 'event':
         this.events.add(m.event);
+        this.incidents.noteEvent(m.event);
+        void this.refreshIncidents();
         break;
       case 'lowfreq-context':
         this.logFrequency.setContext(m.context);
@@ -136,6 +179,10 @@ export class App {
     const sel = $<HTMLSelectElement>('waterfall-channel');
     sel.replaceChildren(...ctx.channels.map((c, i) => new Option(c.name, String(i))));
     this.waterfall.channel = 0;
+    const tl = $<HTMLSelectElement>('timeline-channel');
+    const keepCh = tl.value;
+    tl.replaceChildren(...ctx.channels.map((c) => new Option(c.name, c.name)));
+    if (ctx.channels.some((c) => c.name === keepCh)) tl.value = keepCh;
     this.controls.showContext(ctx);
     this.budget.sampleRate = ctx.settings.sampleRate;
     this.budget.recompute();
@@ -170,6 +217,91 @@ export class App {
     this.spectrum.setMains(s.mainsHz);
     this.events.markAcknowledged(s.alarms);
     this.controls.showStatus(s);
+    const firstBands = !this.timelineStarted && s.bands.length > 0;
+    this.fillTimelineChoices();
+    if (firstBands) {
+      this.timelineStarted = true;
+      void this.refreshTimeline();
+    }
+  }
+
+  /** The incidents from the agent's history store (the same JSON as `floorline incidents --json`). */
+  async refreshIncidents(): Promise<void> {
+    try {
+      const r = await fetch('api/incidents', { credentials: 'same-origin' });
+      if (!r.ok) {
+        this.incidentsAvailable = false;
+        $('incidents-context').textContent = `no incident history on this agent (${r.status}); the event log below still lists every alarm`;
+        return;
+      }
+      this.incidentsAvailable = true;
+      const body = (await r.json()) as IncidentsReply;
+      this.incidents.update(body.incidents, this.status?.t ?? 0);
+      const open = body.incidents.filter((i) => !i.end).length;
+      $('incidents-context').textContent = `${body.incidents.length} incident${body.incidents.length === 1 ? '' : 's'}, ${open} open · one row per fault; its alarms are folded under it`;
+    } catch {
+      /* the link state shows a lost agent */
+    }
+  }
+
+  private timelineQuery(): TimelineQuery {
+    return {
+      channel: $<HTMLSelectElement>('timeline-channel').value,
+      what: $<HTMLSelectElement>('timeline-what').value || 'floor',
+      span: ($<HTMLSelectElement>('timeline-span').value || 'hour') as TimelineQuery['span'],
+    };
+  }
+
+  /** Band choices of the timeline's channel (from the band rows), keeping the current choice when it is still there. */
+  private fillTimelineChoices(): void {
+    const ch = $<HTMLSelectElement>('timeline-channel').value;
+    const sel = $<HTMLSelectElement>('timeline-what');
+    const keep = sel.value;
+    const bands = (this.status?.bands ?? []).filter((b) => b.channel === ch);
+    const opts = [new Option('floor density', 'floor'), ...bands.map((b) => new Option(`band RMS ${b.low.toPrecision(4)}–${b.high.toPrecision(4)} Hz`, `${b.low}:${b.high}`))];
+    if (sel.options.length === opts.length && [...sel.options].every((o, k) => o.value === opts[k].value)) return;
+    sel.replaceChildren(...opts);
+    if ([...sel.options].some((o) => o.value === keep)) sel.value = keep;
+  }
+
+  /** Trend rows for the chosen channel, band and span, downsampled by the store to the chart's width. */
+  async refreshTimeline(): Promise<void> {
+    const q = this.timelineQuery();
+    if (!q.channel) return;
+    try {
+      const sampleNow = this.status?.replay ? this.status.t : null;
+      const r = await fetch(trendUrl(q, $('timeline').clientWidth || 800, sampleNow), { credentials: 'same-origin' });
+      if (!r.ok) {
+        $('timeline-info').textContent = `no history on this agent (${r.status})`;
+        return;
+      }
+      const reply = (await r.json()) as TrendReply;
+      const idx = this.context?.channels.findIndex((c) => c.name === q.channel) ?? 0;
+      this.timeline.show(pickSeries(reply, q), this.incidents.incidents.filter((i) => i.channel === q.channel), Math.max(0, idx));
+    } catch {
+      /* the link state shows a lost agent */
+    }
+  }
+
+  /** Sends one request per alarm of an incident and says how many took. */
+  private async forEachAlarm(ids: string[], make: (alarm: string) => Request, done: string): Promise<string> {
+    if (ids.length === 0) return 'no alarm of this incident is known to this page yet';
+    let took = 0;
+    const errors: string[] = [];
+    for (const alarm of ids) {
+      const r = await this.link.request(make(alarm));
+      if (!r.ok) errors.push(r.error.message);
+      else if ((r.result as { acknowledged?: boolean; shelved?: boolean }).acknowledged !== false) took++;
+    }
+    void this.refreshIncidents();
+    return took === 0 && errors.length ? `${done} none: ${errors[0]}` : took === 0 ? `${done} none: the incident has no raised alarm any more` : `${done}: the incident and its alarms`;
+  }
+
+  private async addNote(text: string, incident?: string): Promise<string> {
+    const r = await this.link.request({ type: 'note', text, ...(incident ? { incident } : {}) });
+    if (!r.ok) throw new Error(`note: ${r.error.message}`);
+    const at = (r.result as { t?: number }).t;
+    return `note stored${at !== undefined ? ` at t = ${at.toFixed(1)} s` : ''}`;
   }
 
   private async acknowledge(e: FloorlineEvent): Promise<void> {
@@ -179,7 +311,7 @@ export class App {
       p.classList.toggle('error', !text.startsWith('acknowledged'));
     };
     try {
-      const r = await this.link.request({ type: 'acknowledge', rule: e.rule, channel: e.channel, ...(e.band ? { band: e.band } : {}) });
+      const r = await this.link.request({ type: 'acknowledge', alarm: alarmId(e) });
       if (!r.ok) say(`acknowledge: ${r.error.message}`);
       else if (r.request === 'acknowledge' && r.result.acknowledged) say(`acknowledged: ${e.rule} on ${e.channel}`);
       else say(`acknowledge: no ${e.rule} alarm on ${e.channel} is active any more`);

@@ -2,7 +2,7 @@
 // requests by id, and hands JSON and binary messages to the app.
 import type { ClientMessage, ServerMessage, ReplyMessage } from '../protocol/messages.ts';
 
-type Request = ClientMessage extends infer M ? (M extends ClientMessage ? Omit<M, 'id'> : never) : never;
+export type Request = ClientMessage extends infer M ? (M extends ClientMessage ? Omit<M, 'id'> : never) : never;
 
 export interface LinkHandlers {
   json(m: ServerMessage): void;

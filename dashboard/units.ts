@@ -1,5 +1,6 @@
 // Display units of a one-sided density: amplitude density (unit/√Hz, log axis), its level in dB re 1 unit/√Hz,
 // or the power density (unit²/Hz, log axis). dB of a density: 10·log10(psd) = 20·log10(asd) (IEC 60027-3).
+import { powerRatioDb } from '../dsp/units.ts';
 export type DensityUnit = 'asd' | 'dbv' | 'psd';
 export const DENSITY_UNITS: readonly DensityUnit[] = ['asd', 'dbv', 'psd'];
 
@@ -18,7 +19,7 @@ export function fromPsd(u: DensityUnit, p: number): number | null {
   if (!(p > 0)) return null;
   if (u === 'asd') return Math.sqrt(p);
   if (u === 'psd') return p;
-  return 10 * Math.log10(p);
+  return powerRatioDb(p);
 }
 
 /**
@@ -29,5 +30,5 @@ export function convertInto(u: DensityUnit, psd: ArrayLike<number>, from: number
   const n = out.length;
   if (u === 'asd') for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? Math.sqrt(p) : NaN; }
   else if (u === 'psd') for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? p : NaN; }
-  else for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? 10 * Math.log10(p) : NaN; }
+  else for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? powerRatioDb(p) : NaN; }
 }

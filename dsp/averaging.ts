@@ -10,6 +10,9 @@ export type AveragingSpec =
   | { mode: 'max' }
   | { mode: 'median'; count: number };
 
+/** The live pipeline's averaging when none is chosen: exponential with τ = 10 s of sample time. */
+export const DEFAULT_AVERAGING: AveragingSpec = { mode: 'exponential', tauSeconds: 10 };
+
 export interface Averager {
   /** Segments contributing to the current estimate. */
   readonly used: number;

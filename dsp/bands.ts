@@ -30,21 +30,20 @@ export function bandRmsInBins(psd: Float64Array, binHz: number, first: number, l
   return Math.sqrt(s * binHz);
 }
 
-/** RMS of the band low ≤ f ≤ high (Hz) of a one-sided density with bin spacing binHz. */
-export function bandRms(psd: Float64Array, binHz: number, low: number, high: number): number {
-  const r = bandBins(psd.length, binHz, low, high);
-  return bandRmsInBins(psd, binHz, r.first, r.last);
-}
-
-/** RMS over every bin (DC to Nyquist). */
-export function totalRms(psd: Float64Array, binHz: number): number {
-  return bandRmsInBins(psd, binHz, 0, psd.length - 1);
-}
-
 /** Amplitude spectral density sqrt(psd) (unit/√Hz) into out (allocated if absent). */
 export function asd(psd: Float64Array, out?: Float64Array): Float64Array {
   const n = psd.length;
   const result = out ?? new Float64Array(n);
   for (let k = 0; k < n; k++) result[k] = Math.sqrt(psd[k]);
   return result;
+}
+
+/** Median of psd[first..last] (a band's floor: lines barely move it). `scratch` holds at least the range; NaN when empty. */
+export function bandMedianInBins(psd: Float64Array, first: number, last: number, scratch: Float64Array): number {
+  const n = last - first + 1;
+  if (n <= 0) return NaN;
+  const a = scratch.subarray(0, n);
+  a.set(psd.subarray(first, last + 1));
+  a.sort();
+  return n % 2 ? a[(n - 1) >> 1] : 0.5 * (a[n / 2 - 1] + a[n / 2]);
 }

@@ -38,8 +38,14 @@ export interface WelchOptions {
  */
 export type SegmentListener = (estimate: Float64Array, lastSample: number) => void;
 
+/** Segment lengths the estimator takes (powers of two). */
 export const MIN_SEGMENT = 64;
 export const MAX_SEGMENT = 1 << 20;
+
+/** Samples between segment starts: segment − floor(overlap·segment), scipy.signal.welch's noverlap rule. */
+export function welchStep(segment: number, overlap: number): number {
+  return segment - Math.floor(overlap * segment);
+}
 
 export class WelchEstimator {
   readonly sampleRate: number;
@@ -105,7 +111,7 @@ export class WelchEstimator {
     this.segment = segment;
     this.overlap = overlap;
     this.noverlap = Math.floor(overlap * segment);
-    this.step = segment - this.noverlap;
+    this.step = welchStep(segment, overlap);
     this.detrend = validateDetrend(options.detrend);
     this.scaling = scaling;
     this.averaging = validateAveraging(options.averaging ?? { mode: 'mean' });
@@ -324,11 +330,15 @@ export function overlapRho(w: Float64Array, step: number): Float64Array {
   return rho;
 }
 
-/** K / (1 + 2 Σ_{j=1}^{K−1} (1 − j/K) ρ_j)  (Welch 1967; Heinzel 2002 sec. 10). */
-export function equalWeightEquivalent(k: number, rho: Float64Array): number {
+/**
+ * K / (1 + 2 Σ_{j=1}^{K−1} (1 − j/K) ρ_j)  (Welch 1967; Heinzel 2002 sec. 10): the overlap-corrected number of
+ * averages of K equally weighted segments. ρ is read from rho[offset .. offset+lags) (packed tables of several
+ * windows, as the log-frequency estimator keeps them, need no views).
+ */
+export function equalWeightEquivalent(k: number, rho: Float64Array, offset = 0, lags = rho.length - offset): number {
   let s = 0;
-  const lags = Math.min(rho.length, k - 1);
-  for (let j = 1; j <= lags; j++) s += (1 - j / k) * rho[j - 1];
+  const n = Math.min(lags, k - 1);
+  for (let j = 1; j <= n; j++) s += (1 - j / k) * rho[offset + j - 1];
   return k / (1 + 2 * s);
 }
 

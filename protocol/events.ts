@@ -1,10 +1,12 @@
-// The event record written to events.jsonl and --events-out (one JSON object a line), as fixed by DESIGN.md.
+// The event record written to events.jsonl and --events-out (one JSON object a line), as fixed by docs/ARCHITECTURE.md "Events".
 // Pure types: the dashboard imports this module too.
 
 export type EventKind = 'alarm' | 'info';
 /** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
-export type EventState = 'raised' | 'settled' | 'cleared';
+/** Alarm events are raised, settled or cleared; an operator's acknowledge or shelve is an info event of its own. */
+export type EventState = 'raised' | 'settled' | 'cleared' | 'acknowledged' | 'shelved';
 export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention' | 'limit';
+// 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {
   kind: EventKind;

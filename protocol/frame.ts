@@ -1,7 +1,7 @@
 // The binary frames the agent sends over the WebSocket: spectra, the baseline, and the latest time samples.
 // Layout (little-endian), chosen so every array view is naturally aligned:
 //   0  u32  magic 0x31574c46 ("FLW1" read as bytes)
-//   4  u16  PROTOCOL_VERSION
+//   4  u16  WIRE_PROTOCOL_VERSION
 //   6  u16  kind (FrameKind)
 //   8  u32  sequence number (per kind, wraps at 2^32)
 //  12  u16  channel count C
@@ -14,7 +14,7 @@
 //  48  f64 × C  per-channel averages (equivalent number of averages; 0 for traces)
 //  48+8C  f32 × C·L  channel-major values: PSD in unit²/Hz, or samples in the channel unit
 // Pure TypeScript on ArrayBuffer/DataView: the dashboard decodes with the same module.
-import { PROTOCOL_VERSION } from './messages.ts';
+import { WIRE_PROTOCOL_VERSION } from './messages.ts';
 
 export const FRAME_MAGIC = 0x31574c46;
 export const FRAME_HEADER_BYTES = 48;
@@ -77,7 +77,7 @@ export function encodeFrame(
   if (out.byteLength < total) throw new RangeError(`encodeFrame: buffer of ${out.byteLength} bytes, frame needs ${total}`);
   const view = new DataView(out);
   view.setUint32(0, FRAME_MAGIC, true);
-  view.setUint16(4, PROTOCOL_VERSION, true);
+  view.setUint16(4, WIRE_PROTOCOL_VERSION, true);
   view.setUint16(6, FrameKind[header.kind], true);
   view.setUint32(8, header.seq >>> 0, true);
   view.setUint16(12, channels, true);
@@ -111,8 +111,8 @@ export function decodeFrame(buf: ArrayBuffer, byteOffset = 0, byteLength = buf.b
   const magic = view.getUint32(0, true);
   if (magic !== FRAME_MAGIC) throw new FrameFormatError('magic', `frame magic 0x${magic.toString(16)} is not 0x${FRAME_MAGIC.toString(16)}`);
   const version = view.getUint16(4, true);
-  if (version !== PROTOCOL_VERSION) {
-    throw new FrameFormatError('version', `frame protocol version ${version}; this side speaks ${PROTOCOL_VERSION}: reload the page or update the agent`);
+  if (version !== WIRE_PROTOCOL_VERSION) {
+    throw new FrameFormatError('version', `frame protocol version ${version}; this side speaks ${WIRE_PROTOCOL_VERSION}: reload the page or update the agent`);
   }
   const kind = KIND_NAMES[view.getUint16(6, true)];
   if (kind === undefined) throw new FrameFormatError('kind', `unknown frame kind ${view.getUint16(6, true)}`);

@@ -6,7 +6,7 @@ import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
-export const PROTOCOL_VERSION = 1;
+export const WIRE_PROTOCOL_VERSION = 2;
 
 /** Largest client → agent message the server accepts, bytes. Control messages are tiny; anything larger closes that client. */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
@@ -19,6 +19,8 @@ export type WireErrorCode =
   | 'binary-refused' // clients send JSON text only
   | 'path-refused' // a file name that would leave the data folder
   | 'unsupported' // the backend cannot do this (e.g. recording during a replay without a recorder)
+  | 'rate-limited' // too many control actions too quickly; message says when to try again
+  | 'exists' // a file of that name exists and the request did not ask to replace it
   | 'failed'; // the backend tried and failed; message says why
 
 export interface WireError {
@@ -36,6 +38,8 @@ export interface CaptureBaselineRequest {
   /** File name inside the data folder's baselines/ (no folders); the agent picks one when absent. */
   name?: string;
   notes?: string;
+  /** Overwrite a baseline of that name; without it an existing file is never replaced (reply code 'exists'). */
+  replace?: boolean;
 }
 
 export interface RecordingRequest {
@@ -55,9 +59,16 @@ export interface SetAnalysisRequest {
 export interface AcknowledgeRequest {
   type: 'acknowledge';
   id: number;
-  rule: EventRule;
-  channel: string;
-  band?: [number, number];
+  /** The alarm's stable id (AlarmRow.id; protocol/ids.ts alarmId of any of its events). */
+  alarm: string;
+}
+
+export interface ShelveRequest {
+  type: 'shelve';
+  id: number;
+  alarm: string;
+  /** Silence it for this much sample time from the newest sample, seconds. */
+  seconds: number;
 }
 
 /** An operator note, stamped by the agent with its current sample (stored in the history and the event log). */
@@ -73,7 +84,7 @@ export interface StatusRequest {
   id: number;
 }
 
-export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | NoteRequest | StatusRequest;
+export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | ShelveRequest | NoteRequest | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
 // ---------------------------------------------------------------- agent → client
@@ -103,6 +114,8 @@ export type AlarmCondition = 'ok' | 'raised' | 'held' | 'not-judged' | 'no-basel
 
 /** One row of the band table. Densities and RMS in the channel unit. */
 export interface BandRow {
+  /** Stable id of the band (protocol/ids.ts bandId), e.g. "bridge:20-2000". */
+  id: string;
   channel: string;
   low: number;
   high: number;
@@ -118,6 +131,8 @@ export interface BandRow {
 }
 
 export interface AlarmRow {
+  /** Stable id of the alarm (protocol/ids.ts alarmId): what acknowledge and shelve name. */
+  id: string;
   rule: EventRule;
   channel: string;
   band?: [number, number];
@@ -127,6 +142,8 @@ export interface AlarmRow {
   acknowledged: boolean;
   /** Sample index of the last change. */
   sample: number;
+  /** The incident the alarm belongs to (the same id its events carry). */
+  incident?: string;
 }
 
 export interface RecordingState {
@@ -173,6 +190,10 @@ export interface AgentStatus {
   gaps: number;
   lostSamples: number;
   crcErrors: number;
+  /** Bytes skipped to find a frame, malformed and rejected frames, and bad text lines, from the source. */
+  syncErrors: number;
+  /** Frames excluded because they held NaN, ±Inf or a value beyond float32. */
+  nonfiniteFrames: number;
   droppedBlocks: number;
   recording: RecordingState;
   replay: ReplayState | null;
@@ -198,6 +219,7 @@ export interface ReplyResults {
   recording: { recording: RecordingState };
   'set-analysis': { context: SpectrumContext };
   acknowledge: { acknowledged: boolean };
+  shelve: { shelved: boolean; untilSample: number };
   note: { sample: number; t: number; wallTime: string };
   'get-status': { status: AgentStatus };
 }

@@ -4,6 +4,8 @@ import type { AveragingSpec } from '../dsp/averaging.ts';
 import type { DetrendMode } from '../dsp/detrend.ts';
 
 export type { AveragingSpec, DetrendMode };
+/** The segment lengths the analysis takes, part of the settings contract (clients are held to them too). */
+export { MAX_SEGMENT, MIN_SEGMENT } from '../dsp/welch.ts';
 
 export interface AnalysisSettings {
   sampleRate: number;

@@ -1,13 +1,16 @@
 #!/usr/bin/env bash
-# Run before `npm test`: the integration suites need socat (pty pairs), Debian's Chromium (browser tests) and
-# python3 with numpy + scipy (reference values), and g++ + make so that `npm ci` can compile better-sqlite3 where its
-# prebuilt binary cannot be fetched (about 70 s). Installs the Debian packages when missing and we are root;
-# otherwise says exactly what to install.
+# Run before `npm test`: the integration suites need socat (pty pairs), Debian's Chromium (browser tests),
+# python3 with numpy + scipy (reference values), prometheus_client (the OpenMetrics reference parser) in python3
+# or in Debian's /usr/bin/python3 (the apt package python3-prometheus-client), and g++ + make so that `npm ci` can
+# compile better-sqlite3 where its prebuilt binary cannot be fetched (about 70 s). Installs the Debian packages
+# when missing and we are root; otherwise says exactly what to install.
 set -euo pipefail
 missing=()
 command -v socat >/dev/null 2>&1 || missing+=(socat)
 [ -x /usr/bin/chromium ] || missing+=(chromium)
 python3 -c 'import numpy, scipy' >/dev/null 2>&1 || missing+=(python3-numpy python3-scipy)
+has_prometheus() { "$1" -c 'import prometheus_client.openmetrics.parser' >/dev/null 2>&1; }
+has_prometheus python3 || { [ -x /usr/bin/python3 ] && has_prometheus /usr/bin/python3; } || missing+=(python3-prometheus-client)
 command -v g++ >/dev/null 2>&1 || missing+=(g++)
 command -v make >/dev/null 2>&1 || missing+=(make)
 [ ${#missing[@]} -eq 0 ] && exit 0

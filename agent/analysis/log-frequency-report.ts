@@ -8,7 +8,7 @@ import { planLogFrequencies } from '../../dsp/logfreq/plan.ts';
 import { logFrequencyPsd } from '../../dsp/logfreq/log-frequency-psd.ts';
 import { fitCorner, type CornerFit } from '../../dsp/flicker/corner-fit.ts';
 import { PeakToPeakMeter, PEAK_TO_PEAK_LABELS, peakToPeakFigures, type PeakToPeakFigures } from '../../dsp/flicker/peak-to-peak.ts';
-import { formatSi } from './si.ts';
+import { formatSi } from '../../protocol/si.ts';
 
 export interface LogFrequencyOptions {
   window: string;

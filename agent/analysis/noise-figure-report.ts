@@ -5,7 +5,7 @@
 import type { BinRange } from '../../dsp/bands.ts';
 import { johnsonVoltageDensity } from '../../dsp/noise-theory.ts';
 import { noiseFigureFromTotal, REFERENCE_KELVIN } from '../../dsp/measure/noise-figure.ts';
-import type { Band } from './bands.ts';
+import type { Band } from '../../protocol/bands.ts';
 
 export interface SourceSpec {
   ohms: number;

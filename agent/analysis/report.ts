@@ -22,7 +22,7 @@ import { defaultSegment, segmentCount } from './segment-choice.ts';
 import { frameSpan } from './span.ts';
 import { resolveChannelPairs } from './channel-pairs.ts';
 import { CLIP_FRACTION, FLOAT32_MAX } from '../pipeline/conditioner.ts';
-import type { Band } from './bands.ts';
+import type { Band } from '../../protocol/bands.ts';
 
 export { AnalysisInputError } from './input-error.ts';
 
@@ -115,7 +115,7 @@ export interface CoherenceReport {
   csdIm: Float64Array;
 }
 
-/** The key order of this object is the order of the documented "analyze --json output". */
+/** The key order of this object is the order of docs/ARCHITECTURE.md "analyze --json". */
 export interface AnalysisReport {
   file: string;
   sampleRate: number;

@@ -1,6 +1,6 @@
 // Default Welch segment for an offline report: 4096, or the largest power of two (≥ 64) that still gives at
 // least 8 averages, so short files get a stable estimate rather than one noisy periodogram.
-import { MIN_SEGMENT } from '../../dsp/welch.ts';
+import { MIN_SEGMENT, welchStep } from '../../dsp/welch.ts';
 
 export const DEFAULT_SEGMENT = 4096;
 export const MIN_DEFAULT_AVERAGES = 8;
@@ -8,7 +8,7 @@ export const MIN_DEFAULT_AVERAGES = 8;
 /** Segments scipy.signal.welch takes from `frames` samples: floor((frames − N) / step) + 1, step = N − floor(overlap·N). */
 export function segmentCount(frames: number, segment: number, overlap: number): number {
   if (frames < segment) return 0;
-  const step = segment - Math.floor(overlap * segment);
+  const step = welchStep(segment, overlap);
   return Math.floor((frames - segment) / step) + 1;
 }
 

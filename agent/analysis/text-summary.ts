@@ -2,9 +2,9 @@
 // RMS, the floor density (median ASD over the non-DC bins, robust to a few spurs) with its confidence interval,
 // each band's RMS, and what was asked for (lines, cumulative RMS, mask verdict, noise figure), with SI prefixes.
 import { densityIntervalFactors } from '../../dsp/logfreq/confidence.ts';
-import { rmsToDbfs } from '../../dsp/units.ts';
+import { rmsToDbfs, powerRatioDb } from '../../dsp/units.ts';
 import type { AnalysisReport, ChannelReport } from './report.ts';
-import { formatSi } from './si.ts';
+import { formatSi } from '../../protocol/si.ts';
 
 /** Median of asd[1..] (DC excluded). */
 export function medianFloor(asd: Float64Array): number {
@@ -97,7 +97,7 @@ export function formatTextSummary(r: AnalysisReport, warnings: readonly string[]
   const s = r.settings;
   const seconds = r.samples / r.sampleRate;
   const ci = densityIntervalFactors(2 * s.equivalentAverages, 0.95);
-  const ciDb = `${(10 * Math.log10(ci.lower)).toFixed(2)} / +${(10 * Math.log10(ci.upper)).toFixed(2)} dB`;
+  const ciDb = `${powerRatioDb(ci.lower).toFixed(2)} / +${powerRatioDb(ci.upper).toFixed(2)} dB`;
   const lines = [
     `${r.file}: ${r.samples} samples at ${r.sampleRate} Hz (${seconds.toPrecision(4)} s, t = ${s.span.from.toFixed(3)}–${s.span.to.toFixed(3)} s), ${r.channels.length} channel(s)`,
     `settings: segment ${s.segment} (bins of ${s.binHz.toPrecision(4)} Hz), window ${s.window} (NENBW ${s.nenbw.toFixed(3)} bins = ` +

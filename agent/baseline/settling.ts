@@ -5,6 +5,7 @@ import { bandBins } from '../../dsp/bands.ts';
 import type { BandSpec } from '../../dsp/detection/band-compare.ts';
 import { bandDegreesOfFreedom, fLowerQuantile, fUpperQuantile } from '../../dsp/detection/threshold.ts';
 import type { Settling, SettlingBand } from './format.ts';
+import { powerRatioDb } from '../../dsp/units.ts';
 
 /** Default probability of calling a stationary band drifting. */
 export const SETTLING_ALPHA = 1e-3;
@@ -37,9 +38,9 @@ export function settlingCheck(
     const n = hi - lo + 1;
     const nu1 = bandDegreesOfFreedom(first.equivalentAverages, n, correlation);
     const nu2 = bandDegreesOfFreedom(second.equivalentAverages, n, correlation);
-    const driftDb = 10 * Math.log10(p2 / p1);
-    const lowerDb = 10 * Math.log10(fLowerQuantile(alpha / 2, nu2, nu1));
-    const upperDb = 10 * Math.log10(fUpperQuantile(alpha / 2, nu2, nu1));
+    const driftDb = powerRatioDb(p2 / p1);
+    const lowerDb = powerRatioDb(fLowerQuantile(alpha / 2, nu2, nu1));
+    const upperDb = powerRatioDb(fUpperQuantile(alpha / 2, nu2, nu1));
     out.push({ channel, low: band.low, high: band.high, driftDb, lowerDb, upperDb });
     if (driftDb < lowerDb || driftDb > upperDb) {
       warnings.push(

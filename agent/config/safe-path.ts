@@ -2,11 +2,13 @@
 // `../` escapes, absolute paths elsewhere, and symbolic links whose target lies outside the root.
 import { existsSync, realpathSync } from 'node:fs';
 import { dirname, isAbsolute, relative, resolve, sep } from 'node:path';
+import { FloorlineError } from '../errors.ts';
 
-export class PathOutsideError extends Error {
+export class PathOutsideError extends FloorlineError {
   override readonly name = 'PathOutsideError';
-  readonly exitCode = 2;
-  readonly code = 'PATH_OUTSIDE_DATA_FOLDER';
+  constructor(message: string) {
+    super('PATH_OUTSIDE_DATA_FOLDER', message);
+  }
 }
 
 function isInside(root: string, candidate: string): boolean {
@@ -34,14 +36,14 @@ function realpathOfExistingPart(p: string): string {
  */
 export function resolveInside(root: string, name: string, what = 'path'): string {
   if (typeof name !== 'string' || name.length === 0 || name.includes('\0')) {
-    throw new PathOutsideError(`${what} must be a non-empty file name inside the data folder ${root}`);
+    throw new PathOutsideError(`${what} must be a non-empty file name inside the data folder`);
   }
   const absRoot = resolve(root);
   const candidate = resolve(absRoot, name);
   const realRoot = existsSync(absRoot) ? realpathSync(absRoot) : absRoot;
   if (!isInside(absRoot, candidate) || !isInside(realRoot, realpathOfExistingPart(candidate))) {
     throw new PathOutsideError(
-      `${what} '${name}' is outside the data folder ${absRoot}; name a file inside it (e.g. recordings/NAME.wav).`,
+      `${what} '${name}' is outside the data folder; name a file inside it (e.g. recordings/NAME.wav).`,
     );
   }
   return candidate;

@@ -12,7 +12,7 @@ import {
   KIND_SAMPLES,
   MAX_CHANNELS,
   MAX_FRAME,
-  PROTOCOL_VERSION,
+  SERIAL_PROTOCOL_VERSION,
   SAMPLES_PREFIX,
   SYNC,
   bytesPerSample,
@@ -239,7 +239,7 @@ export class FrameDecoder {
 }
 
 function plausibleHeader(version: number, kind: number, body: number): boolean {
-  if (version !== PROTOCOL_VERSION) return false;
+  if (version !== SERIAL_PROTOCOL_VERSION) return false;
   if (kind === KIND_SAMPLES) return body > SAMPLES_PREFIX;
   if (kind === KIND_DESCRIPTOR) return body > 0;
   return kind === KIND_DESCRIBE_REQUEST && body === 0;

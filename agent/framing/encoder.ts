@@ -9,7 +9,7 @@ import {
   KIND_SAMPLES,
   MAX_BODY,
   MAX_CHANNELS,
-  PROTOCOL_VERSION,
+  SERIAL_PROTOCOL_VERSION,
   SAMPLES_PREFIX,
   SYNC,
   bytesPerSample,
@@ -20,7 +20,7 @@ import { encodeInterleaved } from './samples.ts';
 
 function writeHeader(dst: Uint8Array, offset: number, kind: number, bodyLength: number): void {
   dst.set(SYNC, offset);
-  dst[offset + 4] = PROTOCOL_VERSION;
+  dst[offset + 4] = SERIAL_PROTOCOL_VERSION;
   dst[offset + 5] = kind;
   dst[offset + 6] = bodyLength & 0xff;
   dst[offset + 7] = bodyLength >>> 8;

@@ -4,7 +4,7 @@
 /** Sync word opening every frame. Chosen so that no proper prefix equals a suffix (resync never skips a frame). */
 export const SYNC = Uint8Array.from([0xfa, 0x57, 0x0d, 0xb1]);
 export const SYNC_LENGTH = 4;
-export const PROTOCOL_VERSION = 1;
+export const SERIAL_PROTOCOL_VERSION = 1;
 
 /** sync(4) version(1) kind(1) body length(2, LE). */
 export const HEADER_LENGTH = 8;

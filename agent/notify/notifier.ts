@@ -35,7 +35,7 @@ export interface NotifierCounters {
 }
 
 export class Notifier {
-  private readonly filters: SinkFilter[];
+  private filters: SinkFilter[];
   private readonly deliverers: Deliver[];
   private readonly outbox: Outbox;
   private readonly busy: boolean[];
@@ -46,7 +46,7 @@ export class Notifier {
   private readonly inFlight = new Set<Promise<void>>();
   readonly counters: NotifierCounters = { queued: 0, delivered: 0, retries: 0, givenUp: 0, pending: 0 };
 
-  constructor(private readonly o: NotifierOptions) {
+  constructor(private o: NotifierOptions) {
     this.filters = o.sinks.map((s) => new SinkFilter(s));
     this.deliverers = o.sinks.map((s, i) => (o.deliver ? o.deliver(i) : sinkDeliver(s)));
     this.busy = o.sinks.map(() => false);
@@ -55,6 +55,16 @@ export class Notifier {
     this.counters.pending = this.outbox.size;
     // Entries left by an earlier run (or a crash) go out first.
     if (this.outbox.size) this.schedule(0);
+  }
+
+  /**
+   * New filters for the same sinks (a reload that changed only states, rules, durations or tries): the sinks'
+   * destinations and order must not change, since queued notifications name their sink by position.
+   */
+  setFilters(sinks: readonly SinkConfig[]): void {
+    if (sinks.length !== this.o.sinks.length) throw new RangeError('setFilters: the number of sinks changed');
+    this.o = { ...this.o, sinks };
+    this.filters = sinks.map((s) => new SinkFilter(s));
   }
 
   /** Takes one pipeline event; queues what the sinks' filters let through. */

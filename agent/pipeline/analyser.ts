@@ -7,7 +7,7 @@
 //    a snapshot is taken at an instant only when a new segment completed since the previous one.
 // Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
 // starts again, so every loop is analysed on the same grid of file indices as the first.
-import { WelchEstimator } from '../../dsp/welch.ts';
+import { WelchEstimator, welchStep } from '../../dsp/welch.ts';
 import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
 import type { SnapshotChannel, SpectrumSnapshot } from './types.ts';
@@ -20,12 +20,22 @@ export interface AnalysisChoice {
 }
 
 export const DEFAULT_ANALYSIS: AnalysisChoice = { segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' };
-export const DEFAULT_AVERAGING: AveragingSpec = { mode: 'exponential', tauSeconds: 10 };
 export const DEFAULT_SNAPSHOT_RATE = 10;
 
 /** Smallest origin + k·step (k integer) that is ≥ sample. */
 export function alignUp(sample: number, step: number, origin = 0): number {
   return origin + Math.ceil((sample - origin) / step) * step;
+}
+
+/** Most memory the live analysis may hold (averaging history and segment buffers, all channels): a setting that
+ * would need more is refused before anything is allocated, so no request can exhaust the agent's memory. */
+export const ANALYSIS_MEMORY_MAX_BYTES = 256 * 1024 * 1024;
+
+/** Bytes the analysis of `channels` channels holds for these settings: a rolling or median average keeps `count`
+ * spectra of segment/2 + 1 float64 bins per channel; each estimator keeps a few segment-long float64 buffers. */
+export function analysisMemoryBytes(segment: number, averaging: AveragingSpec, channels: number): number {
+  const rows = averaging.mode === 'rolling' || averaging.mode === 'median' ? averaging.count : 1;
+  return channels * ((rows + 2) * (segment / 2 + 1) * 8 + 8 * segment * 8);
 }
 
 export class Analyser {
@@ -49,6 +59,14 @@ export class Analyser {
     if (!(snapshotRate > 0) || !Number.isFinite(snapshotRate)) {
       throw new RangeError(`snapshot rate must be a positive number of snapshots per second, got ${snapshotRate}`);
     }
+    const bytes = analysisMemoryBytes(choice.segment, averaging, info.channels.length);
+    if (bytes > ANALYSIS_MEMORY_MAX_BYTES) {
+      const what = averaging.mode === 'rolling' || averaging.mode === 'median' ? `a ${averaging.mode} average of ${averaging.count} spectra` : 'the analysis';
+      throw new RangeError(
+        `segment ${choice.segment} with ${what} on ${info.channels.length} channel(s) would hold ${Math.round(bytes / 2 ** 20)} MiB; ` +
+          `the live analysis may hold at most ${ANALYSIS_MEMORY_MAX_BYTES / 2 ** 20} MiB (so no setting can exhaust the agent's memory): lower the count or the segment`,
+      );
+    }
     this.settings = {
       sampleRate: info.sampleRate,
       segment: choice.segment,
@@ -56,7 +74,7 @@ export class Analyser {
       overlap: choice.overlap,
       detrend: choice.detrend,
     };
-    this.step = choice.segment - Math.floor(choice.overlap * choice.segment); // as WelchEstimator.step
+    this.step = welchStep(choice.segment, choice.overlap);
     this.interval = Math.max(1, Math.round(info.sampleRate / snapshotRate));
     this.alignedFrom = alignUp(startSample, this.step);
     this.estimators = info.channels.map(

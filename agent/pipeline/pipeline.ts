@@ -9,7 +9,8 @@ import { StreamIncidents } from '../rules/stream-incidents.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { AveragingSpec } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../../protocol/stream.ts';
-import { Analyser, DEFAULT_ANALYSIS, DEFAULT_AVERAGING, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
+import { Analyser, DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
+import { DEFAULT_AVERAGING } from '../../dsp/averaging.ts';
 import { BlockQueue } from './block-queue.ts';
 import { Conditioner, forEachFiniteRun } from './conditioner.ts';
 import { rateProblem } from '../../protocol/limits.ts';
@@ -31,7 +32,7 @@ export interface PipelineOptions {
 
 export class Pipeline implements SourceSink {
   private readonly streamIncidents = new StreamIncidents();
-  private readonly emitter = new Emitter<PipelineEvents>();
+  private readonly emitter = new Emitter<PipelineEvents>((owner, event, err) => this.subscriberFailed(owner, event, err));
   private readonly detectors: Detector[] = [];
   private readonly segmentObservers: SegmentObserver[] = [];
   private choice: AnalysisChoice;
@@ -86,8 +87,19 @@ export class Pipeline implements SourceSink {
     }
   }
 
-  on<K extends keyof PipelineEvents>(name: K, fn: Listener<PipelineEvents[K]>): () => void {
-    return this.emitter.on(name, fn);
+  /** `owner` names the part the listener belongs to: if one of its listeners throws, all of them are removed. */
+  on<K extends keyof PipelineEvents>(name: K, fn: Listener<PipelineEvents[K]>, owner?: string): () => void {
+    return this.emitter.on(name, fn, owner);
+  }
+
+  /** A subscriber threw: it is already cut off; log it with a code and say so in an `internal` event. */
+  private subscriberFailed(owner: string, event: string, err: Error): void {
+    const code = (err as Error & { code?: string }).code;
+    process.stderr.write(`floorline: internal: ${owner} failed on '${event}'${code ? ` (${code})` : ''} and is disabled; acquisition and alarms go on: ${err.message}\n`);
+    const sample = Math.max(0, this.count.lastSample);
+    const rate = this.streamInfo?.sampleRate ?? 1;
+    this.emitEvent(makeEvent('internal', 'raised', '*', sample, rate, this.wallTimeAt(sample),
+      `${owner} failed on '${event}'${code ? ` (${code})` : ''} and was disabled: ${err.message}`, {}, 'info'));
   }
 
   addDetector(d: Detector): void {

@@ -1,8 +1,12 @@
 // Continuous recording (with rotation, continuous sample indices across files) and pre/post event captures, fed
 // by the pipeline's calibrated blocks. Files are float32 WAV + sidecar in the data folder's recordings/.
 // A write failure (disk full, no permission) never stops acquisition: the recording is marked failed, an event
-// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched) every
-// flushMs of wall time, so a crash loses at most that much.
+// says so, analysis carries on. Every open file is flushed (samples written, header sizes patched, fdatasync)
+// every flushMs of wall time, and its samples and sizes are also handed to the kernel after every writeOutSeconds
+// of sample time. The second bound does not depend on the timer getting to run: on a loaded machine the event
+// loop may be late, but blocks still arrive one at a time, so a killed process loses at most writeOutSeconds of
+// samples plus one block.
+import { readdirSync, rmSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
@@ -26,10 +30,18 @@ export interface RecorderOptions {
   /** Extra seconds the ring holds beyond preSeconds (default 5): an alarm decides some time after the samples
    * that raised it (segment length, on-delay), and its capture must still reach preSeconds before the trigger. */
   decisionSeconds?: number;
-  /** Wall-clock flush interval, ms (default 500): what a crash can lose at most. */
+  /** Wall-clock flush interval, ms (default 500), with fdatasync: what a power cut can lose. */
   flushMs?: number;
+  /** Sample-time bound, seconds (default 0.5): samples and header sizes are written out (no fdatasync) at least
+   * this often in sample time, so a killed process loses at most this much plus one block. */
+  writeOutSeconds?: number;
   /** fdatasync on flush (default true). */
   durable?: boolean;
+  /** After a full disk, wall-clock ms between attempts to record again (default 2000). */
+  retryMs?: number;
+  /** Most bytes all capture files in recordings/ may hold (default 1 GiB, counting those already there); beyond
+   * it no new capture starts and one event says so. Captures exist only for incidents, so this bounds a long run. */
+  captureQuotaBytes?: number;
   notes?: string;
 }
 
@@ -67,6 +79,15 @@ interface ActiveCapture extends OpenFile {
   reject: (e: Error) => void;
 }
 
+function isDiskFull(err: Error): boolean {
+  const code = (err as Error & { code?: string }).code;
+  return code === 'WAV_DISK_FULL' || code === 'ENOSPC' || code === 'EDQUOT';
+}
+
+function removeRecording(path: string): void {
+  for (const p of [path, `${path}.json`]) rmSync(p, { force: true });
+}
+
 export class Recorder {
   private readonly prefix: string;
   private readonly rotateSeconds: number;
@@ -74,6 +95,8 @@ export class Recorder {
   private readonly preSeconds: number;
   private readonly postSeconds: number;
   private readonly durable: boolean;
+  private readonly writeOutSeconds: number;
+  private framesSinceWriteOut = 0;
   private readonly decisionSeconds: number;
   private pipeline: Pipeline | undefined;
   private info: StreamInfo | undefined;
@@ -85,6 +108,15 @@ export class Recorder {
   private readonly captures: ActiveCapture[] = [];
   private readonly timer: NodeJS.Timeout;
   private nextSample = 0;
+  /** After a full disk: wall time (ms) of the next attempt to record again, and the first sample missed. */
+  private retryAt = -1;
+  private missedFrom = -1;
+  private readonly retryMs: number;
+  private readonly captureQuotaBytes: number;
+  private captureBytes = -1;
+  private quotaReported = false;
+  /** Labels (incident and channel) that already have a capture: one capture per incident, not per alarm edge. */
+  private readonly captured = new Map<string, string>();
   private readonly unsubscribe: (() => void)[] = [];
 
   constructor(
@@ -98,10 +130,16 @@ export class Recorder {
     this.postSeconds = options.postSeconds ?? 10;
     this.durable = options.durable ?? true;
     this.decisionSeconds = options.decisionSeconds ?? 5;
+    this.retryMs = options.retryMs ?? 2000;
+    this.captureQuotaBytes = options.captureQuotaBytes ?? 1024 ** 3;
     for (const [k, v] of [['rotateSeconds', this.rotateSeconds], ['preSeconds', this.preSeconds], ['postSeconds', this.postSeconds], ['decisionSeconds', this.decisionSeconds]] as const) {
       if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
     }
     if (!(this.rotateBytes > 0)) throw new RangeError(`Recorder: rotateBytes must be positive, got ${this.rotateBytes}`);
+    this.writeOutSeconds = options.writeOutSeconds ?? 0.5;
+    if (!(this.writeOutSeconds > 0) || !Number.isFinite(this.writeOutSeconds)) {
+      throw new RangeError(`Recorder: writeOutSeconds must be a positive number of seconds, got ${options.writeOutSeconds}`);
+    }
     this.timer = setInterval(() => this.flushAll(), options.flushMs ?? 500);
     this.timer.unref();
   }
@@ -110,10 +148,10 @@ export class Recorder {
   attach(pipeline: Pipeline): void {
     this.pipeline = pipeline;
     this.unsubscribe.push(
-      pipeline.on('info', (i) => this.onInfo(i)),
-      pipeline.on('block', (b) => this.onBlock(b)),
-      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost)),
-      pipeline.on('end', () => this.closeAll()),
+      pipeline.on('info', (i) => this.onInfo(i), 'recorder'),
+      pipeline.on('block', (b) => this.onBlock(b), 'recorder'),
+      pipeline.on('gap', (g) => this.onGap(g.sample + g.lost), 'recorder'),
+      pipeline.on('end', () => this.closeAll(), 'recorder'),
     );
     if (pipeline.stream) this.onInfo(pipeline.stream);
   }
@@ -133,6 +171,7 @@ export class Recorder {
 
   stopRecording(): RecordingStatus {
     this.wanted = false;
+    this.retryAt = -1;
     this.closeCurrent();
     if (this.rec.state === 'recording') this.rec.state = 'off';
     return this.status();
@@ -156,6 +195,18 @@ export class Recorder {
       running.endSample = Math.max(running.endSample, endSample);
       return { file: running.file, firstSample: running.firstSample, done: running.promise };
     }
+    // The same incident again (a re-raise after the capture closed): it already has its file.
+    const earlier = this.captured.get(label);
+    if (earlier !== undefined) return { file: earlier, firstSample: -1, done: Promise.resolve({ file: earlier, frames: 0 }) };
+    if (this.captureBytesNow() + this.captureCost(triggerSample) > this.captureQuotaBytes) {
+      if (!this.quotaReported) {
+        this.quotaReported = true;
+        this.report(`capture quota reached: capture files hold ${Math.round(this.captureBytesNow() / 2 ** 20)} MiB of the ${Math.round(this.captureQuotaBytes / 2 ** 20)} MiB allowed; no new captures until some are deleted`, 'raised', triggerSample);
+      }
+      const refused = Promise.reject(new Error('capture quota reached'));
+      refused.catch(() => undefined);
+      return { file: '', firstSample: -1, done: refused };
+    }
     const firstSample = Math.max(ring.oldestSample, triggerSample - Math.round(this.preSeconds * rate));
     const name = recordingFileName(`capture-${safeLabel(label)}`, this.pipeline.wallTimeAt(firstSample), firstSample);
     const path = join(this.folder.recordings, name);
@@ -173,12 +224,36 @@ export class Recorder {
       if (held > 0) writer.append(this.scratch, held);
       const cap: ActiveCapture = { writer, file, firstSample, endSample, label, promise, resolve, reject };
       this.captures.push(cap);
+      if (this.captured.size >= 10_000) this.captured.delete(this.captured.keys().next().value!);
+      this.captured.set(label, file);
+      this.captureBytes = this.captureBytesNow() + this.captureCost(triggerSample);
       if (ring.nextSample > endSample) this.finishCapture(cap);
     } catch (err) {
       reject(err as Error);
       this.report(`capture ${file} failed: ${(err as Error).message}`, 'raised');
     }
     return { file, firstSample, done: promise };
+  }
+
+  /** Bytes of the capture files in recordings/ (read once from disk, then counted as captures are made). */
+  private captureBytesNow(): number {
+    if (this.captureBytes < 0) {
+      this.captureBytes = 0;
+      try {
+        for (const n of readdirSync(this.folder.recordings)) {
+          if (n.startsWith('capture-') && n.endsWith('.wav')) this.captureBytes += statSync(join(this.folder.recordings, n)).size;
+        }
+      } catch {
+        // no folder yet: nothing captured
+      }
+    }
+    return this.captureBytes;
+  }
+
+  /** Bytes one capture of pre + post seconds takes (float32 samples, all channels). */
+  private captureCost(_trigger: number): number {
+    const info = this.info!;
+    return Math.ceil((this.preSeconds + this.postSeconds) * info.sampleRate) * info.channels.length * 4;
   }
 
   /** Flushes and closes every open file, stops the flush timer and unsubscribes. */
@@ -225,6 +300,7 @@ export class Recorder {
 
   private onBlock(b: CalibratedBlock): void {
     if (b.firstSample !== this.nextSample) this.onGap(b.firstSample);
+    if (this.wanted && this.rec.state === 'failed' && this.retryAt >= 0 && performance.now() >= this.retryAt) this.rec.state = 'recording';
     if (this.wanted && this.rec.state === 'recording') this.appendContinuous(b);
     for (let i = 0; i < this.captures.length; ) {
       const cap = this.captures[i];
@@ -242,6 +318,8 @@ export class Recorder {
     }
     this.ring?.push(b.data, b.firstSample, b.frames);
     this.nextSample = b.firstSample + b.frames;
+    this.framesSinceWriteOut += b.frames;
+    if (this.framesSinceWriteOut >= this.writeOutSeconds * this.info!.sampleRate) this.eachOpenWriter((w) => w.writeOut());
   }
 
   private appendContinuous(b: CalibratedBlock): void {
@@ -276,6 +354,11 @@ export class Recorder {
     const writer = new WavWriter(path, this.metadata(firstSample), { durable: this.durable });
     this.current = { writer, file, firstSample };
     this.rec.files.push(file);
+    if (this.retryAt >= 0) {
+      this.retryAt = -1;
+      this.rec.error = undefined;
+      this.report(`recording resumed in ${file}: the disk has room again; samples ${this.missedFrom}…${firstSample - 1} are not in the recording.`, 'cleared', firstSample);
+    }
   }
 
   private closeCurrent(): void {
@@ -299,8 +382,17 @@ export class Recorder {
         // the file keeps what was flushed; a later start repairs its header
       }
     }
+    const retrying = this.retryAt >= 0;
     this.rec.state = 'failed';
     this.rec.error = err.message;
+    if (isDiskFull(err)) {
+      // Space may come back (files deleted): try again every retryMs and say so when it works.
+      if (!retrying) this.missedFrom = cur ? cur.firstSample + cur.writer.framesOnDisk : sample ?? this.nextSample;
+      this.retryAt = performance.now() + this.retryMs;
+      if (retrying) return; // still full: the raised event already says so
+      this.report(`recording failed: ${err.message} Analysis goes on; recording resumes by itself when the disk has room.`, 'raised', sample);
+      return;
+    }
     this.wanted = false;
     this.report(`recording failed: ${err.message} Analysis goes on without recording.`, 'raised', sample);
   }
@@ -312,6 +404,7 @@ export class Recorder {
       cap.writer.close();
       cap.resolve({ file: cap.file, frames: cap.writer.frames });
     } catch (err) {
+      if (cap.writer.framesOnDisk === 0) removeRecording(join(this.folder.root, cap.file));
       cap.reject(err as Error);
       this.report(`capture ${cap.file} failed: ${(err as Error).message}`, 'raised');
     }
@@ -325,6 +418,7 @@ export class Recorder {
     } catch {
       // already failing: the reason below is the one that matters
     }
+    if (cap.writer.framesOnDisk === 0) removeRecording(join(this.folder.root, cap.file)); // no samples: no file
     cap.reject(err);
     this.report(`capture ${cap.file} failed: ${err.message}`, 'raised');
   }
@@ -339,16 +433,22 @@ export class Recorder {
   }
 
   private flushAll(): void {
+    this.eachOpenWriter((w) => w.flush());
+  }
+
+  /** Runs `op` on the continuous file and every capture; a failure marks that file failed, the others go on. */
+  private eachOpenWriter(op: (w: WavWriter) => void): void {
+    this.framesSinceWriteOut = 0;
     if (this.current) {
       try {
-        this.current.writer.flush();
+        op(this.current.writer);
       } catch (err) {
         this.failRecording(err as Error);
       }
     }
     for (const cap of [...this.captures]) {
       try {
-        cap.writer.flush();
+        op(cap.writer);
       } catch (err) {
         this.failCapture(cap, err as Error);
       }

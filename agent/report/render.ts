@@ -1,6 +1,6 @@
 // The report as one self-contained HTML document: no scripts, no external resources, CSS and SVG inline. The
 // generation time sits in one marked element (id="generated"); everything else depends on the store and span only.
-import { formatSi } from '../analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import { esc } from './html-escape.ts';
 import { linePlot } from './svg-plot.ts';
 import type { ReportData } from './collect.ts';
@@ -8,7 +8,7 @@ import type { IncidentView } from '../store/incident-query.ts';
 
 const CSS = `body{font:13px/1.45 system-ui,sans-serif;margin:24px auto;max-width:820px;color:#222}
 h1{font-size:20px}h2{font-size:16px;border-bottom:1px solid #ccc;margin-top:28px}table{border-collapse:collapse;width:100%;margin:8px 0}
-th,td{border:1px solid #ddd;padding:3px 6px;text-align:left;vertical-align:top;overflow-wrap:anywhere}th{background:#f3f3f3}td.n{text-align:right;font-variant-numeric:tabular-nums}
+th,td{border:1px solid #ddd;padding:3px 6px;text-align:left;vertical-align:top;overflow-wrap:break-word}table.incidents{font-size:11px}th{background:#f3f3f3}td.n{text-align:right;font-variant-numeric:tabular-nums}
 .muted{color:#666}.caution{border:1px solid #c90;background:#fff8e5;padding:8px 12px}@media print{h2{break-after:avoid}svg{break-inside:avoid}}`;
 
 function quantile(sorted: number[], q: number): number {
@@ -43,7 +43,7 @@ export function renderReport(d: ReportData, generatedAt: string, version: string
 
   out.push(`<h2>1. Rig and settings</h2><table><tr><th>run</th><th>command</th><th>source</th><th>sample rate</th><th>started</th><th>analysis</th></tr>`);
   for (const r of d.runs) {
-    out.push(`<tr><td class="n">${r.id}</td><td>${esc(r.command)}</td><td>${esc(r.source)}</td><td class="n">${esc(si(r.sampleRate, 'S/s'))}</td><td>${esc(r.startWall)}</td><td>${esc(JSON.stringify(r.settings))}</td></tr>`);
+    out.push(`<tr><td class="n">${r.id}</td><td>${esc(r.command)}</td><td>${esc(r.source)}</td><td class="n">${esc(si(r.sampleRate, 'S/s'))}</td><td>${esc(r.startWall)}</td><td>${esc(`${r.settings.window}, segment ${r.settings.segment}, overlap ${r.settings.overlap}, detrend ${r.settings.detrend}`)}</td></tr>`);
   }
   out.push(`</table><p>Channels: ${channels.map((c) => `${esc(c)} (${esc(unitOf.get(c))})`).join(', ') || '—'}. Window ${esc(settings.window)}, segment ${esc(settings.segment)}, overlap ${esc(settings.overlap)}, detrend ${esc(settings.detrend)}.</p>`);
 
@@ -59,22 +59,22 @@ export function renderReport(d: ReportData, generatedAt: string, version: string
   }
   out.push('</table>');
 
-  out.push(`<h2>3. Incidents</h2>`);
+  out.push(`<h2 id="incidents">3. Incidents</h2>`);
   if (d.incidents.length === 0) out.push('<p>No incidents in this span.</p>');
   else {
-    out.push(`<table><tr><th>incident</th><th>channel</th><th>start</th><th>end</th><th>duration</th><th>members</th><th>settled</th><th>peak</th><th>ack.</th><th>notes</th><th>capture</th></tr>`);
+    out.push(`<table class="incidents"><tr><th>incident</th><th>start → end</th><th>members</th><th>settled</th><th>peak</th><th>ack.</th><th>notes</th><th>capture</th></tr>`);
     for (const i of d.incidents) {
       const unit = unitOf.get(i.channel) ?? '';
       const lvl = (x: { levelDb: number; amplitude?: number } | null) => (x ? `${x.levelDb.toFixed(1)} dB re baseline${x.amplitude !== undefined ? `, ${si(x.amplitude, unit)} rms` : ''}` : '—');
       const notes = i.notes;
-      out.push(`<tr><td>${esc(i.id)}</td><td>${esc(i.channel)}</td><td>${esc(i.start.wallTime)}<br>t=${i.start.t.toFixed(3)} s</td><td>${i.end ? `${esc(i.end.wallTime)}<br>t=${i.end.t.toFixed(3)} s` : 'open'}</td>` +
-        `<td class="n">${esc(duration(i))}</td><td>${esc(memberText(i))}</td><td>${esc(lvl(i.settled))}</td><td>${esc(lvl(i.peak))}</td><td>${i.acknowledged ? 'yes' : 'no'}</td>` +
-        `<td>${notes.map((n) => `${esc(n.wallTime)}: ${esc(n.text)}`).join('<br>') || '—'}</td><td>${i.capture ? `<a href="${esc(i.capture)}">${esc(i.capture)}</a>` : '—'}</td></tr>`);
+      const when = (p: { wallTime: string; t: number }) => `${esc(p.wallTime.replace('T', ' ').replace('Z', ''))} (t=${p.t.toFixed(3)} s)`;
+      out.push(`<tr><td>${esc(i.id)}<br>${esc(i.channel)}</td><td>${when(i.start)} →<br>${i.end ? when(i.end) : 'open'}<br>${esc(duration(i))}</td><td>${esc(memberText(i))}</td><td>${esc(lvl(i.settled))}</td><td>${esc(lvl(i.peak))}</td><td>${i.acknowledged ? 'yes' : 'no'}</td>` +
+        `<td>${notes.map((n) => `${esc(n.wallTime)}: ${esc(n.text)}`).join('<br>') || '—'}</td><td>${i.capture ? `<a href="${esc(i.capture)}">${esc(i.capture.split('/').pop())}</a>` : '—'}</td></tr>`);
     }
     out.push('</table>');
   }
 
-  out.push(`<h2>4. Trends</h2><p class="muted">Band RMS (${esc(d.every)} rows, mean of the segment band powers in each) and floor density; shaded: incidents of the channel; dashed: notes. Breaks in a line are gaps.</p>`);
+  out.push(`<h2 id="trends">4. Trends</h2><p class="muted">Band RMS (${esc(d.every)} rows, mean of the segment band powers in each) and floor density; shaded: incidents of the channel; dashed: notes. Breaks in a line are gaps.</p>`);
   const x0 = Date.parse(d.from);
   const x1 = Date.parse(d.to);
   for (const ch of channels) {

@@ -46,7 +46,7 @@ export class RetentionKeeper {
 
   constructor(
     private readonly recordingsDir: string,
-    private readonly policy: RetentionPolicy,
+    private policy: RetentionPolicy,
     private readonly hooks: RetentionHooks,
   ) {
     this.last = { usedBytes: 0, recordingsBytes: 0, capturesBytes: 0, freeBytes: 0, minFreeBytes: policy.minFreeBytes ?? 0, historyDays: 0, paused: false, deletedFiles: 0 };
@@ -61,6 +61,11 @@ export class RetentionKeeper {
 
   stop(): void {
     if (this.timer) clearInterval(this.timer);
+  }
+
+  /** New quotas and floor (a reload); they apply from the next sweep. */
+  setPolicy(policy: RetentionPolicy): void {
+    this.policy = policy;
   }
 
   status(): DiskStatus {

@@ -22,14 +22,3 @@ export function defaultBands(sampleRate: number, segment: number, mainLobeHalfWi
   if (bands.length > 1) bands.push({ low, high });
   return bands;
 }
-
-/** Parses LO:HI (Hz) as given to --band. */
-export function parseBand(text: string): BandSpec {
-  const m = /^\s*([0-9.eE+]+)\s*:\s*([0-9.eE+]+)\s*$/.exec(text);
-  const low = m ? Number(m[1]) : NaN;
-  const high = m ? Number(m[2]) : NaN;
-  if (!(Number.isFinite(low) && Number.isFinite(high) && low >= 0 && high > low)) {
-    throw new RangeError(`--band '${text}' is not LO:HI in Hz with 0 ≤ LO < HI; write e.g. --band 20:2000`);
-  }
-  return { low, high };
-}

@@ -4,13 +4,14 @@
 import type { AlarmState } from '../../dsp/detection/alarm-state.ts';
 import { binPowerCorrelation } from '../../dsp/detection/threshold.ts';
 import { makeWindow } from '../../dsp/windows.ts';
-import { overlapRho } from '../../dsp/welch.ts';
+import { overlapRho, welchStep } from '../../dsp/welch.ts';
+import { DEFAULT_AVERAGING } from '../../dsp/averaging.ts';
 import { RecentSpectrum } from '../../dsp/detection/recent-spectrum.ts';
 import { IncidentBook, type IncidentRecord, type Member } from './incidents.ts';
 import type { EventRule, FloorlineEvent } from '../../protocol/events.ts';
 import { firstSettingMismatch, type AnalysisSettings } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
-import { InputError } from '../cli/usage-error.ts';
+import { InputError } from '../errors.ts';
 import { maskOnBins, type LimitMask } from '../../dsp/measure/limit-mask.ts';
 import { LimitDetector } from './limit-detector.ts';
 import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
@@ -98,7 +99,7 @@ export class Detectors {
     const binHz = s.sampleRate / s.segment;
     const bins = s.segment / 2 + 1;
     this.incidents = new IncidentBook(s.sampleRate, binHz);
-    this.step = s.segment - Math.floor(s.overlap * s.segment);
+    this.step = welchStep(s.segment, s.overlap);
     this.rho = overlapRho(win.values, this.step);
     const frequencies = new Float64Array(bins);
     for (let k = 0; k < bins; k++) frequencies[k] = k * binHz;
@@ -187,7 +188,7 @@ export class Detectors {
   private recentOf(d: ChannelDetectors, snap: SnapshotLike): RecentSpectrum {
     if (d.recent) return d.recent;
     const s = this.settings;
-    const averaging = snap.averaging ?? { mode: 'exponential', tauSeconds: 10 }; // the pipeline's default
+    const averaging = snap.averaging ?? DEFAULT_AVERAGING;
     const windowSegments = Math.max(1, Math.ceil((this.rules.recentWindow * s.sampleRate - s.segment) / this.step) + 1);
     d.recent = new RecentSpectrum({
       bins: s.segment / 2 + 1, averaging, segment: s.segment, step: this.step, sampleRate: s.sampleRate, windowSegments, rho: this.rho,
@@ -207,9 +208,9 @@ export class Detectors {
     if (snap.sample < d.clipFirst) return -1;
     if (this.health.clipActive(d.name)) return d.clipFirst;
     const s = this.settings;
-    const step = s.segment - Math.floor(s.overlap * s.segment);
+    const step = welchStep(s.segment, s.overlap);
     const newer = segmentsAfter(ch.lastSegmentSample ?? snap.sample, d.clipLast, s.segment, step);
-    const averaging = snap.averaging ?? { mode: 'exponential', tauSeconds: 10 }; // the pipeline's default
+    const averaging = snap.averaging ?? DEFAULT_AVERAGING;
     if (contaminationWeight(averaging, newer, ch.segmentsUsed, step / s.sampleRate) > CONTAMINATION_HOLD_WEIGHT) return d.clipFirst;
     d.clipFirst = d.clipLast = -1;
     return -1;

@@ -8,6 +8,7 @@ import { chi2MeanUpperQuantile, conservativeAverages } from '../../dsp/detection
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { makeEvent, round } from './event-factory.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
+import { powerRatioDb } from '../../dsp/units.ts';
 
 export class LimitDetector {
   /** Level (worst bin over the mask, dB of power) and its frequency at the last spectrum. */
@@ -39,7 +40,7 @@ export class LimitDetector {
     if (!(liveK > 0)) return;
     const k = conservativeAverages(liveK);
     if (k !== this.cachedK) {
-      this.thresholdDb = 10 * Math.log10(chi2MeanUpperQuantile(this.rules.band.alpha / this.judged, 2 * k));
+      this.thresholdDb = powerRatioDb(chi2MeanUpperQuantile(this.rules.band.alpha / this.judged, 2 * k));
       this.cachedK = k;
     }
     const lim = this.limits;
@@ -54,7 +55,7 @@ export class LimitDetector {
         at = b;
       }
     }
-    this.levelDb = 10 * Math.log10(worst);
+    this.levelDb = powerRatioDb(worst);
     this.worstFrequency = at >= 0 ? this.frequencies[at] : NaN;
     if (overloadFrom >= 0) this.state.hold(sample + 1);
     const tr = this.state.update(sample, Number.isNaN(this.levelDb) ? -Infinity : this.levelDb, this.thresholdDb);

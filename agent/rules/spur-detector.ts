@@ -8,12 +8,13 @@ import { SpurFinder } from '../../dsp/detection/spur-finder.ts';
 import { chi2MeanMedian, conservativeAverages, lineThresholdRatio } from '../../dsp/detection/threshold.ts';
 import { lineAboveFloor } from '../../dsp/tone.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
-import { formatSi } from '../analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import { makeEvent, round, roundDb } from './event-factory.ts';
 import type { IncidentBook, Member } from './incidents.ts';
 import type { RecentView } from './types.ts';
 import { timingInSamples, type RulesConfig } from './rules.ts';
 import type { AlarmTiming } from '../../dsp/detection/alarm-state.ts';
+import { powerRatioDb } from '../../dsp/units.ts';
 
 interface TrackedLine {
   bin: number;
@@ -99,7 +100,7 @@ export class SpurDetector {
   onSpectrum(psd: Float64Array, liveK: number, recent: RecentView, sample: number, wallTime: string, out: FloorlineEvent[], overloadFrom = -1): void {
     if (!(liveK > 0)) return;
     const ratio = this.thresholdRatio(liveK);
-    const thresholdDb = 10 * Math.log10(ratio);
+    const thresholdDb = powerRatioDb(ratio);
     const f = this.finder;
     const n = f.find(psd, ratio, this.medianToMean);
     const rk = conservativeAverages(recent.equivalentAverages);
@@ -146,7 +147,7 @@ export class SpurDetector {
       const floor = f.floorAt(psd, t.bin);
       let level = -Infinity;
       for (let b = Math.max(0, t.bin - lobe); b <= Math.min(psd.length - 1, t.bin + lobe); b++) {
-        const h = 10 * Math.log10(Math.min(psd[b] / floor, psd[b] / base[b]));
+        const h = powerRatioDb(Math.min(psd[b] / floor, psd[b] / base[b]));
         if (h > level) level = h;
       }
       if (Number.isNaN(level)) level = -Infinity;
@@ -219,7 +220,7 @@ export class SpurDetector {
     let level = -Infinity;
     let peak = bin;
     for (let b = Math.max(0, bin - lobe); b <= Math.min(psd.length - 1, bin + lobe); b++) {
-      const h = 10 * Math.log10(Math.min(psd[b] / floor, psd[b] / base[b]));
+      const h = powerRatioDb(Math.min(psd[b] / floor, psd[b] / base[b]));
       if (h > level) level = h;
       if (psd[b] > psd[peak]) peak = b;
     }

@@ -1,26 +1,13 @@
 // What the detectors consume: the pipeline's spectrum snapshot (DEVELOPERS.md "Pipeline"), stated structurally so
 // any object with these fields is accepted.
-import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
+import type { SnapshotChannel, SpectrumSnapshot } from '../pipeline/types.ts';
 
-export interface SnapshotChannel {
-  name: string;
-  unit: string;
-  psd: Float64Array;
-  segmentsUsed: number;
-  equivalentAverages: number;
-  /** Absolute index of the last sample of the newest segment (the overload hold counts segments after a clip). */
-  lastSegmentSample?: number;
-}
-
-export interface SnapshotLike {
-  sample: number;
-  t: number;
-  wallTime: string;
-  settings: AnalysisSettings;
-  averaging?: AveragingSpec;
-  frequencies: Float64Array;
-  channels: SnapshotChannel[];
-}
+/** The fields of a pipeline snapshot the rules read; tests and the detection bench pass plain objects of this shape. */
+export type SnapshotLike = Pick<SpectrumSnapshot, 'sample' | 't' | 'wallTime' | 'settings' | 'frequencies'> &
+  Partial<Pick<SpectrumSnapshot, 'averaging'>> & {
+    channels: (Pick<SnapshotChannel, 'name' | 'unit' | 'psd' | 'segmentsUsed' | 'equivalentAverages'> &
+      Partial<Pick<SnapshotChannel, 'lastSegmentSample'>>)[];
+  };
 
 /** Asks the recorder for a pre/post capture around `triggerSample`; returns the file (relative to the data folder). */
 export type CaptureRequester = (triggerSample: number, label: string) => string | undefined;

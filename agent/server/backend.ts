@@ -1,10 +1,11 @@
-// What the server needs from the rest of the agent, and nothing more. The pipeline (live, demo or replay) adapts
-// itself to this; tests use a small double of it. Shapes are structural: the pipeline's SpectrumSnapshot and
+// What the server needs from the rest of the agent, and nothing more. The monitor's read model (agent/monitor/)
+// is adapted to this by monitor-backend.ts; tests use a small double of it. Shapes are structural: the pipeline's SpectrumSnapshot and
 // CalibratedBlock satisfy ServerSnapshot and ServerBlock as they are.
-import type { FloorlineEvent, EventRule } from '../../protocol/events.ts';
+import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { AnalysisSettings, AveragingSpec } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
-import type { AgentStatus, RecordingState } from '../../protocol/messages.ts';
+import type { RecordingState } from '../../protocol/messages.ts';
+import type { MonitorStatus } from '../monitor/monitor.ts';
 import type { LowFrequencyContext, LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
 
 export interface ServerSnapshot {
@@ -29,7 +30,7 @@ export interface ServerBlock {
 export interface BaselineOverlay {
   file: string;
   settings: AnalysisSettings;
-  channels: { name: string; psd: Float64Array; equivalentAverages: number }[];
+  channels: readonly { name: string; psd: Float64Array; equivalentAverages: number }[];
 }
 
 /** Callbacks run synchronously, in sample order, on the agent's thread: keep them short, copy what you keep. */
@@ -42,30 +43,13 @@ export interface BackendSubscriber {
   lowFrequency?(message: { type: 'lowfreq-context'; context: LowFrequencyContext } | { type: 'lowfreq'; update: LowFrequencyUpdate }): void;
 }
 
-/** The status fields the backend owns; the server adds protocol, clients, mainsHz and wallTime. */
-export type BackendStatus = Omit<AgentStatus, 'protocol' | 'clients' | 'wallTime' | 'mainsHz'>;
+/** The status fields the backend owns (the monitor's); the server adds protocol, clients, mainsHz and wallTime. */
+export type BackendStatus = MonitorStatus;
 
 export interface AnalysisChange {
   averaging?: AveragingSpec;
   segment?: number;
   window?: string;
-}
-
-export interface AlarmRef {
-  rule: EventRule;
-  channel: string;
-  band?: [number, number];
-}
-
-/** A request the backend will not carry out; `code` goes to the client as the reply's error code. */
-export class BackendRefusal extends Error {
-  override readonly name = 'BackendRefusal';
-  constructor(
-    readonly code: 'unsupported' | 'failed' | 'path-refused' | 'bad-message',
-    message: string,
-  ) {
-    super(message);
-  }
 }
 
 export interface ServerBackend {
@@ -86,11 +70,14 @@ export interface ServerBackend {
   /** Mains fundamental for the dashboard's harmonic markers (configured or measured), Hz. */
   mainsHz(): number | null;
   /** Averages the next `seconds` of sample time into a baseline file under baselines/; resolves with its path relative to dataRoot. */
-  captureBaseline(request: { seconds: number; name?: string; notes?: string }): Promise<{ file: string }>;
+  captureBaseline(request: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }>;
   setRecording(on: boolean): Promise<RecordingState>;
-  /** Applies new analysis settings from the next snapshot on; throws BackendRefusal or RangeError naming what is wrong. */
+  /** Applies new analysis settings from the next snapshot on; throws MonitorRefusal or RangeError naming what is wrong. */
   setAnalysis(change: AnalysisChange): void;
-  acknowledge(ref: AlarmRef): boolean;
+  /** Acknowledges the alarm with this id (AlarmRow.id); false when no active alarm took it. */
+  acknowledge(alarmId: string): boolean;
+  /** Silences the alarm with this id for `seconds` of sample time; says until which sample. */
+  shelve(alarmId: string, seconds: number): { shelved: boolean; untilSample: number };
   /** The low-frequency context and newest update, for a client that connects later (absent: no such view). */
   lowFrequencyLatest?(): { context: LowFrequencyContext; update: LowFrequencyUpdate | null } | null;
 }

@@ -1,21 +1,43 @@
 // Flags of the commands that serve the dashboard (run, replay, demo). The HTTP port flag is --http-port because
 // `run --port` names the serial device.
 import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
+import { readFileSync } from 'node:fs';
 import { registerSecret } from '../service/log-lines.ts';
-import { DEFAULT_HOST, DEFAULT_HTTP_PORT, type ServerOptions } from './options.ts';
+import { connectionBudget, DEFAULT_HOST, DEFAULT_HTTP_PORT, ServerConfigError, type ServerOptions } from './options.ts';
+import { openFileLimit } from './rate-limit.ts';
 
 export const SERVER_FLAGS: FlagSpec[] = [
   { name: 'http-port', kind: 'number', value: 'N', integer: true, min: 0, max: 65535, default: DEFAULT_HTTP_PORT, help: 'dashboard port (0 picks a free one)' },
   { name: 'host', kind: 'string', value: 'ADDR', default: DEFAULT_HOST, help: 'address to listen on; anything but loopback needs --token' },
-  { name: 'token', kind: 'string', value: 'T', help: 'access token (≥ 16 characters) required on every request; or set FLOORLINE_TOKEN' },
+  { name: 'token', kind: 'string', value: 'T', help: 'access token (≥ 16 characters) required on every request; visible in `ps`: prefer FLOORLINE_TOKEN or --token-file' },
+  { name: 'token-file', kind: 'string', value: 'FILE', help: 'read the access token from this file (first line)' },
+  { name: 'show-token', kind: 'boolean', help: 'print the dashboard URL with its ?token=… (off: the token stays out of the terminal)' },
 ];
+
+function tokenFrom(f: ParsedArgs['flags']): string | undefined {
+  const file = f['token-file'] as string | undefined;
+  if (file !== undefined) {
+    let text: string;
+    try {
+      text = readFileSync(file, 'utf8');
+    } catch (err) {
+      throw new ServerConfigError(`--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give a readable file holding the token.`);
+    }
+    const token = text.split('\n')[0].trim();
+    if (token === '') throw new ServerConfigError(`--token-file ${file}: the file is empty; put the token on its first line.`);
+    return token;
+  }
+  return (f.token as string | undefined) ?? process.env.FLOORLINE_TOKEN;
+}
 
 export function serverOptionsFromArgs(args: ParsedArgs, assetsDir: string): Partial<ServerOptions> & { assetsDir: string } {
   const f = args.flags;
-  const token = (f.token as string | undefined) ?? process.env.FLOORLINE_TOKEN;
+  const token = tokenFrom(f);
   registerSecret(token);
   return {
     assetsDir,
+    showToken: f['show-token'] === true,
+    maxConnections: connectionBudget(openFileLimit(() => readFileSync('/proc/self/limits', 'utf8'))),
     port: f['http-port'] as number,
     host: f.host as string,
     ...(token ? { token } : {}),

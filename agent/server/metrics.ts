@@ -92,6 +92,8 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     ['floorline_gaps', 'Gaps (runs of lost samples) seen in the stream.', status.gaps],
     ['floorline_lost_samples', 'Samples lost in gaps.', status.lostSamples],
     ['floorline_crc_errors', 'Frames from the board that failed their CRC.', status.crcErrors],
+    ['floorline_sync_errors', 'Bytes skipped to resync, malformed or rejected frames, and bad text lines from the board.', status.syncErrors ?? 0],
+    ['floorline_nonfinite_frames', 'Frames excluded for NaN, ±Inf or values beyond float32.', status.nonfiniteFrames ?? 0],
     ['floorline_dropped_blocks', 'Whole blocks dropped because analysis fell behind.', status.droppedBlocks],
     ['floorline_dashboard_frames_sent', 'Binary frames sent to dashboard clients.', status.clients.framesSent],
     ['floorline_dashboard_frames_skipped', 'Binary frames skipped for slow dashboard clients (latest wins).', status.clients.framesSkipped],

@@ -1,4 +1,5 @@
 // Server options, their safe defaults, and the rule that a bind wider than loopback needs a token.
+import { FloorlineError } from '../errors.ts';
 export const DEFAULT_HTTP_PORT = 8731;
 export const DEFAULT_HOST = '127.0.0.1';
 
@@ -24,11 +25,29 @@ export interface ServerOptions {
   traceLength: number;
   /** Most binary frames of one kind per second to one client (display pacing; newer frames replace waiting ones). */
   maxFramesPerSecond: number;
+  /** Most WebSocket clients at once; more are refused (503) at the upgrade. */
+  maxClients: number;
+  /** Messages one client may send per second on average (bursts of twice that); beyond, it is closed with 1008. */
+  maxMessagesPerSecond: number;
+  /** Least wall time between two control actions (recording, capture-baseline, set-analysis), agent-wide, ms. */
+  controlIntervalMs: number;
+  /** Print the dashboard URL with its ?token=… (the CLI's --show-token). */
+  showToken?: boolean;
+  /** Most open HTTP connections; kept well below the process's file-handle limit so recordings can always open files. */
+  maxConnections: number;
 }
 
-export class ServerConfigError extends Error {
+/** Open connections allowed for a file-handle limit: a quarter of it, at most 128, so files always have room. */
+export function connectionBudget(openFiles: number | undefined): number {
+  if (openFiles === undefined) return 128;
+  return Math.max(4, Math.min(128, Math.floor(openFiles / 4)));
+}
+
+export class ServerConfigError extends FloorlineError {
   override readonly name = 'ServerConfigError';
-  readonly exitCode = 2;
+  constructor(message: string) {
+    super('SERVER_CONFIG', message);
+  }
 }
 
 const LOOPBACK = new Set(['127.0.0.1', 'localhost', '::1', '[::1]']);
@@ -51,6 +70,10 @@ export function resolveServerOptions(partial: Partial<ServerOptions> & { assetsD
     statusIntervalMs: 500,
     traceLength: 2048,
     maxFramesPerSecond: 20,
+    maxClients: 16,
+    maxMessagesPerSecond: 20,
+    controlIntervalMs: 1000,
+    maxConnections: 128,
     ...partial,
   };
   if (!Number.isInteger(o.port) || o.port < 0 || o.port > 65535) {
@@ -65,7 +88,7 @@ export function resolveServerOptions(partial: Partial<ServerOptions> & { assetsD
         `Add --token T (or set FLOORLINE_TOKEN), or leave --host at ${DEFAULT_HOST}.`,
     );
   }
-  for (const [name, v] of [['maxPayload', o.maxPayload], ['maxBufferedBytes', o.maxBufferedBytes], ['traceLength', o.traceLength]] as const) {
+  for (const [name, v] of [['maxPayload', o.maxPayload], ['maxBufferedBytes', o.maxBufferedBytes], ['traceLength', o.traceLength], ['maxClients', o.maxClients], ['maxConnections', o.maxConnections]] as const) {
     if (!Number.isInteger(v) || v < 1) throw new ServerConfigError(`server option ${name} must be a positive integer, got ${v}`);
   }
   if (!(o.maxFramesPerSecond > 0)) throw new ServerConfigError(`server option maxFramesPerSecond must be above 0, got ${o.maxFramesPerSecond}`);

@@ -3,12 +3,13 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
-import { PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
+import { WIRE_PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
 import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
 import { resolveServerOptions, ServerConfigError, type ServerOptions } from './options.ts';
 import { Broadcaster } from './broadcaster.ts';
+import { TokenBucket } from './rate-limit.ts';
 import { ClientConnection } from './client.ts';
 import { handleRequest } from './control.ts';
 import { renderMetrics, OPENMETRICS_CONTENT_TYPE } from './metrics.ts';
@@ -19,11 +20,15 @@ export const AGENT_VERSION = '0.1.0';
 const EVENTS_ON_CONNECT = 200;
 
 export interface RunningServer {
-  /** e.g. http://127.0.0.1:8731/ (with ?token=… when a token is set). */
+  /** e.g. http://127.0.0.1:8731/, never with the token (it would end up in terminals, logs and shell history). */
   url: string;
+  /** The URL with ?token=… when a token is set (printed only when asked: --show-token). */
+  urlWithToken: string;
   port: number;
   host: string;
   status(): AgentStatus;
+  /** Open HTTP connections now (the budget is maxConnections). */
+  connections(): Promise<number>;
   /** Frame buffers created so far and free for reuse (bounded: frames are pooled, not allocated per send). */
   poolStats(): { created: number; free: number };
   close(): Promise<void>;
@@ -66,7 +71,34 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   let contextKey = '';
   let nextClientId = 1;
 
-  const status = (): AgentStatus => ({ protocol: PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
+  // Status is computed at most once per status tick and shared by the push, get-status replies and /api/status:
+  // many clients asking often cost one computation, not one each.
+  const computeStatus = (): AgentStatus => ({ protocol: WIRE_PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
+  let shared: { at: number; value: AgentStatus; json: string } | null = null;
+  const sharedStatus = (): { value: AgentStatus; json: string } => {
+    const now = performance.now();
+    if (!shared || now - shared.at >= options.statusIntervalMs) {
+      const value = computeStatus();
+      shared = { at: now, value, json: JSON.stringify(value) };
+    }
+    return shared;
+  };
+  const status = (): AgentStatus => sharedStatus().value;
+  let lastControlAt = -Infinity;
+  let contextWaiters: ((c: SpectrumContext | null) => void)[] = [];
+  /** The context once a settings change has reached the spectra (or the current one after 2 s). */
+  const contextAfterChange = (): Promise<SpectrumContext | null> =>
+    new Promise((resolve) => {
+      const timer = setTimeout(() => {
+        contextWaiters = contextWaiters.filter((w) => w !== done);
+        resolve(context);
+      }, 2000);
+      const done = (c: SpectrumContext | null): void => {
+        clearTimeout(timer);
+        resolve(c);
+      };
+      contextWaiters.push(done);
+    });
 
   /** Returns true when the context changed (and tells every client). */
   const updateContext = (s: ServerSnapshot): boolean => {
@@ -76,6 +108,9 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     contextKey = key;
     context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz());
     hub.json({ type: 'context', context });
+    const waiting = contextWaiters;
+    contextWaiters = [];
+    for (const w of waiting) w(context);
     return true;
   };
 
@@ -113,7 +148,10 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     lowFrequency: (m) => hub.json(m),
   });
 
-  const httpServer = createServer((req, res) => onRequest(req, res));
+  const httpServer = createServer({ requestTimeout: 15_000, headersTimeout: 10_000 }, (req, res) => onRequest(req, res));
+  // Half-open connections must not use up the file handles recordings need (EMFILE): a fixed budget, beyond it
+  // new connections are dropped at once.
+  httpServer.maxConnections = options.maxConnections;
   const wss = new WebSocketServer({ noServer: true, maxPayload: options.maxPayload, perMessageDeflate: false, clientTracking: false });
 
   function onRequest(req: IncomingMessage, res: ServerResponse): void {
@@ -142,7 +180,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
       res.writeHead(h.ok ? 200 : 503, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : JSON.stringify({ ok: h.ok, reason: h.reason }));
     } else if (path === '/api/status') {
-      const body = JSON.stringify(status());
+      const body = sharedStatus().json;
       res.writeHead(200, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
       res.end(head ? undefined : body);
     } else if (handleHistoryApi(path, url, res, head, backend.history?.path)) {
@@ -180,6 +218,11 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
       socket.end(`HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`);
       return;
     }
+    if (hub.clients.size >= options.maxClients) {
+      socket.end(`HTTP/1.1 503 Service Unavailable\r\nconnection: close\r\ncontent-type: text/plain\r\nretry-after: 10\r\n\r\n` +
+        `the agent serves at most ${options.maxClients} dashboard connections at once; close one and retry\n`);
+      return;
+    }
     wss.handleUpgrade(req, socket, head, (ws) => onConnection(ws));
   });
 
@@ -189,7 +232,14 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     ws.on('pong', () => (client.alive = true));
     ws.on('close', () => hub.remove(client));
     ws.on('error', () => hub.remove(client)); // e.g. a message over maxPayload: ws closes that socket with 1009
+    const bucket = new TokenBucket(options.maxMessagesPerSecond, 2 * options.maxMessagesPerSecond);
     ws.on('message', (data: RawData, isBinary: boolean) => {
+      if (!bucket.take()) {
+        // 1008 (policy violation, RFC 6455 §7.4.1): the reason names the limit.
+        client.close(1008, `more than ${options.maxMessagesPerSecond} messages per second`);
+        hub.remove(client);
+        return;
+      }
       if (isBinary) {
         client.sendJson({ type: 'error', error: { code: 'binary-refused', message: 'send JSON text messages; binary frames only flow agent → dashboard' } });
         return;
@@ -201,11 +251,22 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
         } else client.sendJson({ type: 'error', error: parsed.error });
         return;
       }
-      void handleRequest(parsed.message, { backend, context: () => context, status }).then((reply) => client.sendJson(reply));
+      const m = parsed.message;
+      if (m.type === 'recording' || m.type === 'capture-baseline' || m.type === 'set-analysis') {
+        const now = performance.now();
+        const wait = lastControlAt + options.controlIntervalMs - now;
+        if (wait > 0) {
+          client.sendJson({ type: 'reply', id: m.id, request: m.type, ok: false,
+            error: { code: 'rate-limited', message: `at most one control action per ${options.controlIntervalMs} ms; try again in ${Math.ceil(wait)} ms` } });
+          return;
+        }
+        lastControlAt = now;
+      }
+      void handleRequest(m, { backend, context: () => context, contextAfterChange, status }).then((reply) => client.sendJson(reply));
     });
     const latest = backend.latestSnapshot();
     if (latest && latest.channels.length) updateContext(latest);
-    client.sendJson({ type: 'hello', protocol: PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
+    client.sendJson({ type: 'hello', protocol: WIRE_PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
     sendBaseline(client);
     const lf = backend.lowFrequencyLatest?.();
     if (lf) {
@@ -231,7 +292,7 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     }
   }, options.heartbeatMs);
   const statusTimer = setInterval(() => {
-    if (hub.clients.size) hub.json({ type: 'status', status: status() });
+    if (hub.clients.size) hub.json({ type: 'status', status: sharedStatus().value });
   }, options.statusIntervalMs);
   heartbeat.unref();
   statusTimer.unref();
@@ -245,14 +306,17 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   });
   const port = (httpServer.address() as AddressInfo).port;
   const hostInUrl = options.host.includes(':') && !options.host.startsWith('[') ? `[${options.host}]` : options.host;
-  const url = `http://${hostInUrl}:${port}/${options.token ? `?token=${encodeURIComponent(options.token)}` : ''}`;
+  const url = `http://${hostInUrl}:${port}/`;
+  const urlWithToken = `${url}${options.token ? `?token=${encodeURIComponent(options.token)}` : ''}`;
 
   return {
     url,
+    urlWithToken,
     port,
     host: options.host,
-    status,
+    status: computeStatus, // fresh: for the agent itself and tests; clients share the tick's copy
     poolStats: () => hub.poolStats(),
+    connections: () => new Promise<number>((resolve) => httpServer.getConnections((_err, n) => resolve(n))),
     close: async () => {
       clearInterval(heartbeat);
       clearInterval(statusTimer);

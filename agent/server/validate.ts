@@ -1,34 +1,32 @@
 // Validation of every client → agent message. The server trusts nothing it did not check here:
 // unknown fields are refused too, so a typo never silently does nothing.
-import type { EventRule } from '../../protocol/events.ts';
-import type { AveragingSpec } from '../../protocol/settings.ts';
+import { MAX_SEGMENT, MIN_SEGMENT, type AveragingSpec } from '../../protocol/settings.ts';
 import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from '../../protocol/messages.ts';
 
 export type ParseResult =
   | { ok: true; message: ClientMessage }
   | { ok: false; error: WireError; /** The request id and type, when they could be read, so the error can be a reply. */ id?: number; request?: ClientMessageType };
 
-// A Record over the union makes the compiler flag a rule added to EventRule but not here.
-const RULES: Record<EventRule, true> = {
-  'band-rise': true, spur: true, mains: true, clip: true, gap: true, link: true, overrun: true, nonfinite: true, internal: true, recording: true, baseline: true,
-  notify: true, disk: true, retention: true, limit: true,
-};
 const TYPES: Record<ClientMessageType, readonly string[]> = {
-  'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes'],
+  'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes', 'replace'],
   recording: ['type', 'id', 'action'],
   'set-analysis': ['type', 'id', 'averaging', 'segment', 'window'],
-  acknowledge: ['type', 'id', 'rule', 'channel', 'band'],
+  acknowledge: ['type', 'id', 'alarm'],
+  shelve: ['type', 'id', 'alarm', 'seconds'],
   note: ['type', 'id', 'text', 'incident'],
   'get-status': ['type', 'id'],
 };
 
 /** Limits on requested analysis settings (the backend may refuse more, e.g. a window it does not know). */
-export const SEGMENT_MIN = 64;
-export const SEGMENT_MAX = 1 << 20;
 export const AVERAGE_COUNT_MAX = 100_000;
 export const TAU_SECONDS_MIN = 0.01;
 export const TAU_SECONDS_MAX = 86_400;
 export const BASELINE_SECONDS_MAX = 3600;
+export const SHELVE_SECONDS_MAX = 7 * 86_400;
+
+/** An alarm id as protocol/ids.ts makes them ("mains/ch0/h1"), or an incident id as events carry them
+ *  ("mains-ch0-s167999"): a rule name first, then printable characters only, no control characters. */
+const ALARM_ID = /^[a-z-]+(\/|-)[\x20-\x7e\u00a0-\uffff]{1,200}$/;
 export const NOTE_TEXT_MAX = 2000;
 
 /** A baseline file name the client may choose: one plain name, no folders, no leading dot. */
@@ -82,11 +80,10 @@ function averaging(v: unknown): AveragingSpec {
   }
 }
 
-function band(v: unknown): [number, number] {
-  if (!Array.isArray(v) || v.length !== 2 || !v.every((x) => typeof x === 'number' && Number.isFinite(x) && x >= 0) || v[0] >= v[1]) {
-    throw new Invalid('bad-message', `'band' must be [low, high] in Hz with 0 ≤ low < high`);
-  }
-  return [v[0], v[1]];
+function alarm(o: Record<string, unknown>): string {
+  const a = str(o, 'alarm', 256);
+  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm or incident id (status.alarms[].id, e.g. "mains/ch0/h1", or an event's incident)`);
+  return a;
 }
 
 function build(o: Record<string, unknown>, type: ClientMessageType, id: number): ClientMessage {
@@ -102,6 +99,10 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
         m.name = name;
       }
       if (o.notes !== undefined) m.notes = str(o, 'notes', 1000);
+      if (o.replace !== undefined) {
+        if (typeof o.replace !== 'boolean') throw new Invalid('bad-message', `'replace' must be true or false`);
+        m.replace = o.replace;
+      }
       return m;
     }
     case 'recording':
@@ -111,7 +112,7 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       const m: ClientMessage = { type, id };
       if (o.averaging !== undefined) m.averaging = averaging(o.averaging);
       if (o.segment !== undefined) {
-        const s = num(o, 'segment', SEGMENT_MIN, SEGMENT_MAX, true);
+        const s = num(o, 'segment', MIN_SEGMENT, MAX_SEGMENT, true);
         if ((s & (s - 1)) !== 0) throw new Invalid('bad-message', `'segment' must be a power of two, got ${s}`);
         m.segment = s;
       }
@@ -125,15 +126,10 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       }
       return m;
     }
-    case 'acknowledge': {
-      const rule = o.rule;
-      if (typeof rule !== 'string' || !Object.hasOwn(RULES, rule)) {
-        throw new Invalid('bad-message', `'rule' must be one of ${Object.keys(RULES).join(', ')}`);
-      }
-      const m: ClientMessage = { type, id, rule: rule as EventRule, channel: str(o, 'channel', 64) };
-      if (o.band !== undefined) m.band = band(o.band);
-      return m;
-    }
+    case 'acknowledge':
+      return { type, id, alarm: alarm(o) };
+    case 'shelve':
+      return { type, id, alarm: alarm(o), seconds: num(o, 'seconds', 1, SHELVE_SECONDS_MAX, false) };
     case 'note': {
       const text = str(o, 'text', NOTE_TEXT_MAX);
       // eslint-disable-next-line no-control-regex

@@ -73,6 +73,11 @@ export class ReplaySource implements Source {
     return this.options.speed ?? 1;
   }
 
+  /** Whether the replay starts again at the end. */
+  get loops(): boolean {
+    return this.options.loop ?? false;
+  }
+
   /** The file's header and metadata, once started. */
   get fileInfo(): WavInfo | undefined {
     return this.reader?.info;

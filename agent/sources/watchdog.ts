@@ -1,4 +1,4 @@
-// "No data" watchdog for a serial link. serialport 13 can miss a disconnect while data streams (TOOLCHAIN.md:
+// "No data" watchdog for a serial link. serialport 13 can miss a disconnect while data streams (docs/TOOLCHAIN.md:
 // no close event, a core spinning), so the source closes the port itself: after ~1 s without data when the path
 // has gone, or after N s without data regardless.
 export type WatchdogVerdict = 'ok' | 'path-gone' | 'silent';

@@ -1,11 +1,12 @@
 // GET /api/trend and /api/incidents: the query commands' JSON, read-only, bounded in rows (points, default 1000,
 // at most 10000 per series, merged server-side). Every parameter is checked; bad ones get 400 naming the fix.
 import type { ServerResponse } from 'node:http';
-import { parseBand } from '../rules/default-bands.ts';
+import { parseBand } from '../../protocol/bands.ts';
 import { openStoreForReading, type StoreDb } from './open-store.ts';
 import { EVERY_CHOICES, queryTrend, type Every } from './trend-query.ts';
 import { queryIncidents } from './incident-query.ts';
 import { parseTimeBound, type TimeBound } from './time-bound.ts';
+import { FloorlineError } from '../errors.ts';
 
 export const DEFAULT_POINTS = 1000;
 export const MAX_POINTS = 10_000;
@@ -80,8 +81,8 @@ export function handleHistoryApi(path: string, url: URL, res: ServerResponse, he
     }
     send(res, 200, queryTrend(reader(storePath), { channel: param(url, 'channel', 64), band, from, to, every, points }), head);
   } catch (err) {
-    const e = err as Error & { exitCode?: number };
-    if (err instanceof BadParameter || e.exitCode === 2) send(res, 400, { error: { code: 'bad-query', message: e.message.replace(/^floorline trend: /, '') } }, head);
+    const e = err as Error;
+    if (err instanceof BadParameter || err instanceof FloorlineError) send(res, 400, { error: { code: 'bad-query', message: e.message.replace(/^floorline trend: /, '') } }, head);
     else send(res, 500, { error: { code: 'failed', message: e.message } }, head);
   }
   return true;

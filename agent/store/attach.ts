@@ -57,7 +57,7 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
   const book = new IncidentBook();
   pipeline.addSegmentObserver(sampler);
   const offs = [
-    pipeline.on('snapshot', (s) => sampler.onSnapshot(s)),
+    pipeline.on('snapshot', (s) => sampler.onSnapshot(s), 'history store'),
     pipeline.on('event', (e) => {
       writer.event(e, JSON.stringify(e));
       const ev = e as unknown as AlarmEventLike & { text?: string };
@@ -66,8 +66,8 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
       }
       const inc = book.apply(ev);
       if (inc && !o.incidentRecords?.()) writer.incident(inc);
-    }),
-    pipeline.on('end', () => sampler.finish()),
+    }, 'history store'),
+    pipeline.on('end', () => sampler.finish(), 'history store'),
   ];
   // The detectors' records, when there are any, are the incidents: changed ones are written with each commit.
   const written = new Map<string, string>();

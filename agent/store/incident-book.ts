@@ -69,6 +69,13 @@ export class IncidentBook {
 
   /** Applies an alarm event; returns the incident it changed (undefined for events that are not alarms). */
   apply(e: AlarmEventLike): IncidentRecord | undefined {
+    // An operator's acknowledge is an info event naming its incident.
+    if (e.kind === 'info' && e.state === 'acknowledged' && e.incident) {
+      const acked = this.incidents.get(e.incident);
+      if (!acked) return undefined;
+      acked.acknowledged = true;
+      return this.view(acked);
+    }
     if (e.kind !== 'alarm' || !e.rule || !e.state) return undefined;
     const key = memberKey(e);
     let id = e.incident ?? this.openByMember.get(key);

@@ -1,7 +1,7 @@
 // Trend output as CSV (one row per channel, band and interval, with the channel's floor density beside the band
 // RMS; units in the column names; gap as 0/1 so numeric readers take every column but the text ones) and as a
 // terminal table.
-import { formatSi } from '../analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import type { TrendResult, TrendRow } from './trend-query.ts';
 
 /** A CSV field: quoted when it holds a delimiter, quote or line break (RFC 4180). */

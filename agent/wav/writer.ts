@@ -9,11 +9,19 @@
 //   data <size>  interleaved float32 frames
 // Sizes start at 0 ("never patched") and are rewritten by every flush(), after the samples are written, so a
 // crash leaves a header that is either right or 0 and the reader recovers every whole frame on disk.
-import { closeSync, fdatasyncSync, openSync, renameSync, writeFileSync, writeSync } from 'node:fs';
+import { closeSync, fdatasyncSync, lstatSync, openSync, renameSync, rmSync, writeFileSync, writeSync } from 'node:fs';
 import { WavError, wavIoError } from './errors.ts';
 import { WAVE_FORMAT_IEEE_FLOAT } from './format.ts';
 import { METADATA_CHUNK_ID, METADATA_SCHEMA, sidecarPath, validateMetadata, type RecordingMetadata } from './metadata.ts';
 import { sizePatches } from './sizes.ts';
+
+function isRegularFile(p: string): boolean {
+  try {
+    return lstatSync(p).isFile();
+  } catch {
+    return false;
+  }
+}
 
 /** What the caller gives: our metadata without the schema tag, which the writer adds. */
 export type WavWriterMetadata = Omit<RecordingMetadata, 'schema'>;
@@ -117,9 +125,17 @@ export class WavWriter {
       this.writeAt(h, 0, h.length, 0);
       this.writeSidecar(json);
     } catch (err) {
+      // Nothing is left behind: a header-only (or empty) file on a full disk is no recording.
       closeSync(this.fd);
+      // Only regular files: a device given as the path (e.g. /dev/full) must never be unlinked.
+      for (const p of [path, sidecarPath(path), `${sidecarPath(path)}.tmp`]) if (isRegularFile(p)) rmSync(p, { force: true });
       throw err;
     }
+  }
+
+  /** Frames written to the file so far (not counting the buffer). */
+  get framesOnDisk(): number {
+    return this.written;
   }
 
   /** Frames on disk or buffered. */
@@ -169,11 +185,20 @@ export class WavWriter {
     }
   }
 
-  /** Writes buffered samples, then patches the header sizes (and fdatasyncs when durable). Call ≥ once a second. */
-  flush(): void {
+  /**
+   * Hands buffered samples and the patched header sizes to the kernel, without fdatasync: enough for the file to
+   * survive the death of this process (kill -9), not a power cut. Cheap, so it can run often.
+   */
+  writeOut(): void {
     if (this.closed) return;
     this.writePending();
     this.patchHeader();
+  }
+
+  /** writeOut(), then fdatasync when durable (what survives a power cut). Call ≥ once a second. */
+  flush(): void {
+    if (this.closed) return;
+    this.writeOut();
     if (this.durable) {
       try {
         fdatasyncSync(this.fd);
@@ -183,12 +208,16 @@ export class WavWriter {
     }
   }
 
-  /** Flushes and closes. Safe to call twice. */
+  /** Flushes and closes. Safe to call twice. The handle is closed even when the flush fails (a full disk), so
+   * deleting files frees their space; the flush's error is thrown after. */
   close(): void {
     if (this.closed) return;
-    this.flush();
-    this.closed = true;
-    closeSync(this.fd);
+    try {
+      this.flush();
+    } finally {
+      this.closed = true;
+      closeSync(this.fd);
+    }
   }
 
   private writePending(): void {

@@ -7,6 +7,7 @@ import { Worker } from 'node:worker_threads';
 import type { WelchOptions } from '../../dsp/welch.ts';
 import type { FromSpanWorker, ToSpanWorker } from './span-messages.ts';
 import { workerScript } from './worker-script.ts';
+import { welchStep } from '../../dsp/welch.ts';
 
 export class SpanWelch {
   private readonly workers: Worker[];
@@ -36,7 +37,7 @@ export class SpanWelch {
     if (!(samples.buffer instanceof SharedArrayBuffer)) {
       throw new TypeError('SpanWelch.psd: samples must live in a SharedArrayBuffer (workers read them in place)');
     }
-    const step = options.segment - Math.floor(options.overlap * options.segment);
+    const step = welchStep(options.segment, options.overlap);
     const total = samples.length < options.segment ? 0 : Math.floor((samples.length - options.segment) / step) + 1;
     if (total === 0) throw new RangeError(`SpanWelch.psd: ${samples.length} samples hold no segment of ${options.segment}`);
     const spans = Math.min(this.workers.length, total);

@@ -1,6 +1,6 @@
 // Worker thread: the Welch mean of one span of segments of samples shared with the caller (no copy).
 import { parentPort } from 'node:worker_threads';
-import { WelchEstimator } from '../../dsp/welch.ts';
+import { WelchEstimator, welchStep } from '../../dsp/welch.ts';
 import type { FromSpanWorker, ToSpanWorker } from './span-messages.ts';
 
 const port = parentPort;
@@ -16,5 +16,5 @@ port.on('message', (m: ToSpanWorker) => {
 });
 
 function stepOf(m: ToSpanWorker): number {
-  return m.options.segment - Math.floor(m.options.overlap * m.options.segment);
+  return welchStep(m.options.segment, m.options.overlap);
 }

@@ -41,6 +41,11 @@ export class WorkerChannelSpectra implements ChannelSpectra {
     });
   }
 
+  /** Buffers allocated so far over all channels (at most BUFFERS_PER_CHANNEL each). */
+  get buffersAllocated(): number {
+    return this.allocated.reduce((a, b) => a + b, 0);
+  }
+
   async push(data: readonly Float64Array[], frames: number): Promise<void> {
     for (let c = 0; c < this.owner.length; c++) {
       const buffer = await this.take(c, frames);

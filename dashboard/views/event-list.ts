@@ -1,6 +1,7 @@
 // The event list, newest first: alarms with an Acknowledge button while raised, and a link to each capture.
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { AlarmRow } from '../../protocol/messages.ts';
+import { alarmId } from '../../protocol/ids.ts';
 import { count, fixed } from '../format.ts';
 
 const MAX_ROWS = 500;
@@ -46,6 +47,7 @@ export class EventList {
     tr.dataset.state = e.state;
     tr.dataset.channel = e.channel;
     if (e.band) tr.dataset.band = e.band.join('-');
+    if (e.kind === 'alarm') tr.dataset.alarm = alarmId(e);
     const cells = [fixed(e.t, 3), count(e.sample), e.channel, e.rule, stateWords(e), levelText(e), e.detail];
     for (const [i, text] of cells.entries()) {
       const td = document.createElement('td');
@@ -81,7 +83,7 @@ export class EventList {
     for (const tr of Array.from(this.body.rows)) {
       const btn = tr.querySelector('button.ack');
       if (!btn) continue;
-      const rows = alarms.filter((x) => x.rule === tr.dataset.rule && x.channel === tr.dataset.channel && (x.band ? x.band.join('-') : undefined) === tr.dataset.band);
+      const rows = alarms.filter((x) => x.id === tr.dataset.alarm);
       if (rows.length === 0) continue;
       if (rows.some((x) => x.state === 'raised' && x.acknowledged)) btn.replaceWith(document.createTextNode('acknowledged'));
       else if (rows.every((x) => x.state === 'clear')) btn.replaceWith(document.createTextNode('cleared'));

@@ -16,6 +16,8 @@ export class HealthStrip {
       ['time', 't', `${fixed(s.t, 1)} s`, false],
       ['gaps', 'gaps', `${count(s.gaps)} (${count(s.lostSamples)} lost)`, s.gaps > 0],
       ['crc', 'CRC errors', count(s.crcErrors), s.crcErrors > 0],
+      ['sync', 'link errors', count(s.syncErrors ?? 0), (s.syncErrors ?? 0) > 0],
+      ['nonfinite', 'non-finite', count(s.nonfiniteFrames ?? 0), (s.nonfiniteFrames ?? 0) > 0],
       ['dropped', 'dropped blocks', count(s.droppedBlocks), s.droppedBlocks > 0],
       ['recording', 'recording', s.recording.state === 'recording' ? `on → ${s.recording.file ?? ''}` : s.recording.state === 'failed' ? `FAILED: ${s.recording.error ?? ''}` : 'off', s.recording.state === 'failed'],
     ];

@@ -10,6 +10,7 @@ import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from 
 import { channelColour, channelDash, withAlpha } from '../colours.ts';
 import { fixedDensityRange, paddedRange } from './y-range.ts';
 import { si, hz, short } from '../format.ts';
+import { powerRatioDb } from '../../dsp/units.ts';
 
 export interface SpectrumOverlays {
   maxHold: boolean;
@@ -212,7 +213,7 @@ export class SpectrumView {
         const p = src[i + 1];
         if (p > hp[i]) {
           hp[i] = p;
-          hd[i] = u === 'asd' ? Math.sqrt(p) : u === 'psd' ? p : 10 * Math.log10(p);
+          hd[i] = u === 'asd' ? Math.sqrt(p) : u === 'psd' ? p : powerRatioDb(p);
         }
       }
     }

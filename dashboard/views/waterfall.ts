@@ -4,6 +4,7 @@
 // canvas spans minutes; per update the work is one pass over the bins and, per row, one scroll and one line.
 import { densityLabel } from '../units.ts';
 import { columnOf, logColumns } from './waterfall-columns.ts';
+import { powerRatioDb } from '../../dsp/units.ts';
 
 /** Colour range around the baseline floor (median density): 10 dB below to 40 dB above. */
 export const FLOOR_BELOW_DB = 10;
@@ -120,7 +121,7 @@ export class WaterfallView {
     for (let k = 1; k < psd.length; k++) if (psd[k] > 0) v.push(psd[k]);
     if (v.length === 0) return;
     v.sort((a, b) => a - b);
-    const floorDb = 10 * Math.log10(v[v.length >> 1]);
+    const floorDb = powerRatioDb(v[v.length >> 1]);
     this.setRange(Math.round(floorDb - FLOOR_BELOW_DB), Math.round(floorDb + FLOOR_ABOVE_DB), 'baseline');
   }
 
@@ -171,7 +172,7 @@ export class WaterfallView {
     const px = this.row.data;
     const lut = this.lut;
     for (let x = 0; x < w; x++) {
-      const db = acc[x] > 0 ? 10 * Math.log10(acc[x]) : lo;
+      const db = acc[x] > 0 ? powerRatioDb(acc[x]) : lo;
       let i = Math.round(((db - lo) / span) * 255);
       i = i < 0 ? 0 : i > 255 ? 255 : i;
       const o = x * 4;
@@ -246,7 +247,7 @@ export class WaterfallView {
     for (let x = 0; x < this.acc.length; x++) if (this.acc[x] > 0) v.push(this.acc[x]);
     if (v.length === 0) return;
     v.sort((a, b) => a - b);
-    const floorDb = 10 * Math.log10(v[v.length >> 1]);
+    const floorDb = powerRatioDb(v[v.length >> 1]);
     this.lowDb = Math.round(floorDb - FLOOR_BELOW_DB);
     this.highDb = Math.round(floorDb + FLOOR_ABOVE_DB);
     this.ranged = true;

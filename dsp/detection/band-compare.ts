@@ -2,6 +2,7 @@
 // (see threshold.ts). Bands select bins whose centre f satisfies low ≤ f ≤ high, as band RMS does.
 import { bandBins } from '../bands.ts';
 import { bandDegreesOfFreedom, conservativeAverages, riseThresholdDb } from './threshold.ts';
+import { powerRatioDb } from '../units.ts';
 
 export interface BandSpec {
   low: number;
@@ -123,7 +124,7 @@ export class BandCompare {
         this.cachedBins[b] = kept;
       }
       // NaN marks "no baseline floor" (q = 0): the band rule never raises on it.
-      this.levelDb[b] = q > 0 ? 10 * Math.log10(p / q) : NaN;
+      this.levelDb[b] = q > 0 ? powerRatioDb(p / q) : NaN;
     }
   }
 }

@@ -9,6 +9,7 @@
 // (χ²(ν)/ν is skewed), so the floor subtracted is the median divided by chi2MeanMedian(ν) when ν is given.
 import { lineAboveFloor } from '../tone.ts';
 import { RunningMedian } from './running-median.ts';
+import { powerRatioDb } from '../units.ts';
 
 export interface SpurFinderOptions {
   /** Bin centre frequencies, Hz. */
@@ -156,7 +157,7 @@ export class SpurFinder {
     const fl = this.median.at(psd, k);
     if (!(p > ratio * fl)) return count;
     const line = lineAboveFloor(psd, this.binHz, L, k, fl / this.medianToMean);
-    const h = 10 * Math.log10(p / fl);
+    const h = powerRatioDb(p / fl);
     const height = this.lineHeightDb;
     const cap = this.maxLines;
     let slot = count;

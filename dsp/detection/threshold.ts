@@ -16,6 +16,7 @@
 // F⁻¹(1 − α; ν_live, ν_base).
 import fQuantile from '@stdlib/stats-base-dists-f-quantile';
 import chi2Quantile from '@stdlib/stats-base-dists-chisquare-quantile';
+import { powerRatioDb } from '../units.ts';
 
 /** How many bin lags of the squared-window correlation are kept; beyond ~8 they are below 1e-6 for every
  *  tapered window we ship, and a rect window with no overlap has none at all. */
@@ -87,7 +88,7 @@ export function chi2MeanUpperQuantile(alpha: number, nu: number): number {
 
 /** Rise threshold in dB: max(user margin, statistical bound at α for the two estimates' band dof). */
 export function riseThresholdDb(marginDb: number, alpha: number, nuLive: number, nuBase: number): number {
-  return Math.max(marginDb, 10 * Math.log10(fUpperQuantile(alpha, nuLive, nuBase)));
+  return Math.max(marginDb, powerRatioDb(fUpperQuantile(alpha, nuLive, nuBase)));
 }
 
 function checkAlpha(alpha: number, who: string): void {

@@ -17,7 +17,7 @@ import { butterworthSos, sosPowerResponse, type SosFilter } from '../filters/but
 import { SosCascade } from '../filters/sos-filter.ts';
 import { planLogFrequencies, type LogFrequencyPlanOptions } from './plan.ts';
 import { SingleBinKernel } from './single-bin-dft.ts';
-import { equivalentFromCorrelations, overlapCorrelations } from './equivalent-averages.ts';
+import { equalWeightEquivalent, overlapRho } from '../welch.ts';
 
 /** Grid options as planLogFrequencies (defaults here: 120 points, 10 averages), plus the span and chunking. */
 export interface LiveLogFrequencyOptions
@@ -203,7 +203,7 @@ export class LiveLogFrequency {
       // One-sided density as scipy.signal.welch: sides·|X|²/(R_k·Σw²), times the droop correction.
       this.norm[j] = (sides * this.droop[j]) / (rate * kernel.sumSq);
       this.rbwHz[j] = (info.nenbw * rate) / len;
-      rhos.push(overlapCorrelations(info.values, this.step[j]));
+      rhos.push(overlapRho(info.values, this.step[j]));
     }
     this.slotHead = new Int32Array(n);
     this.slotCount = new Int32Array(n);
@@ -379,7 +379,7 @@ export class LiveLogFrequency {
   /** Overlap-corrected averages (Welch 1967) of each point's current mean. */
   equivalentAverages(out: Float64Array = new Float64Array(this.count)): Float64Array {
     this.averagesUsed(out);
-    for (let p = 0; p < this.count; p++) out[p] = equivalentFromCorrelations(this.rho, out[p], this.rhoOffset[p], this.rhoCount[p]);
+    for (let p = 0; p < this.count; p++) out[p] = equalWeightEquivalent(out[p], this.rho, this.rhoOffset[p], this.rhoCount[p]);
     return out;
   }
 

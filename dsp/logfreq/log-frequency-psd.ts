@@ -5,7 +5,7 @@
 import { makeWindow } from '../windows.ts';
 import type { LogFrequencyPlan } from './plan.ts';
 import { SingleBinKernel, type SegmentDetrend } from './single-bin-dft.ts';
-import { equivalentAverages } from './equivalent-averages.ts';
+import { equalWeightEquivalent, overlapRho } from '../welch.ts';
 
 export interface LogFrequencyPsdOptions {
   detrend?: SegmentDetrend;
@@ -88,7 +88,7 @@ export function logFrequencyPsd(
     const sides = edge ? 1 : 2;
     const norm = scaling === 'density' ? fs * kernel.sumSq : kernel.sum * kernel.sum;
     psd[j] = (sides * total) / (k * norm);
-    eqAvg[j] = equivalentAverages(w, step, k);
+    eqAvg[j] = equalWeightEquivalent(k, overlapRho(w, step));
     rbw[j] = (nenbw * fs) / len;
     lastUsed = Math.max(lastUsed, (k - 1) * step + len - 1);
   }

@@ -4,6 +4,7 @@
 // with e_amp the amplifier's input-referred voltage density (its current noise times R included) and 4kTR the
 // source's Johnson density squared. The reference temperature of the standard definition is T₀ = 290 K.
 import { BOLTZMANN, johnsonVoltageDensity } from '../noise-theory.ts';
+import { powerRatioDb } from '../units.ts';
 
 export const REFERENCE_KELVIN = 290;
 
@@ -19,7 +20,7 @@ export interface NoiseFigure {
 export function noiseFigure(eAmp: number, ohms: number, kelvin = REFERENCE_KELVIN): NoiseFigure {
   const source = johnsonVoltageDensity(ohms, kelvin);
   const excess = (eAmp * eAmp) / (source * source);
-  return { factor: 1 + excess, figureDb: 10 * Math.log10(1 + excess), kelvin: (eAmp * eAmp) / (4 * BOLTZMANN * ohms) };
+  return { factor: 1 + excess, figureDb: powerRatioDb(1 + excess), kelvin: (eAmp * eAmp) / (4 * BOLTZMANN * ohms) };
 }
 
 /**
@@ -30,5 +31,5 @@ export function noiseFigure(eAmp: number, ohms: number, kelvin = REFERENCE_KELVI
 export function noiseFigureFromTotal(eMeasured: number, ohms: number, kelvin = REFERENCE_KELVIN): NoiseFigure {
   const source = johnsonVoltageDensity(ohms, kelvin);
   const factor = (eMeasured * eMeasured) / (source * source);
-  return { factor, figureDb: 10 * Math.log10(factor), kelvin: kelvin * (factor - 1) };
+  return { factor, figureDb: powerRatioDb(factor), kelvin: kelvin * (factor - 1) };
 }

@@ -66,7 +66,7 @@ p.astype('<f8').tofile(sys.argv[2])
 print(json.dumps(times[1:]))
 `;
 // A plain fft.js Welch (copy, mean, window, realTransform, |X|² sum) as a second, load-independent yardstick:
-// TOOLCHAIN.md measured this at 1.05–1.2× scipy on an idle machine.
+// docs/TOOLCHAIN.md measured this at 1.05–1.2× scipy on an idle machine.
 const plainFft = new FFT(SEGMENT);
 const plainWin = makeWindow('hann', SEGMENT).values;
 const plainSeg = new Float64Array(SEGMENT);

@@ -24,7 +24,7 @@ function feed(p: Pipeline, rng: SeededRandom, from: number, seconds: number, sig
 }
 
 describe('AlarmHook.useBaseline', () => {
-  it('starts comparing against a baseline captured while running, and a doubled noise amplitude then raises band-rise near +6.02 dB', async () => {
+  it('starts comparing against a baseline captured while running, and a doubled noise amplitude then raises band-rise and reads +6.02 dB ± 0.5 once settled', async () => {
     const p = new Pipeline({ analysis, averaging: { mode: 'exponential', tauSeconds: 2 }, mode: 'lossless' });
     const hook = new AlarmHook();
     p.addDetector(hook);
@@ -47,12 +47,16 @@ describe('AlarmHook.useBaseline', () => {
     const raised = events.filter((e) => e.rule === 'band-rise' && e.state === 'raised');
     expect(raised.length).toBeGreaterThan(0);
     expect(raised[0].sample).toBeGreaterThan(riseFrom);
-    // Doubling an amplitude is 20·log10(2) = 6.02 dB (common practice); the whole-band rule settles within its
-    // averaging scatter of that (exp τ = 2 s, ±0.5 dB is several standard deviations at ~2 k bins).
-    const settled = raised.find((e) => e.band && e.band[1] - e.band[0] > FS / 4);
-    expect(settled).toBeDefined();
-    expect(settled!.levelDb!).toBeGreaterThan(3);
-    expect(settled!.levelDb!).toBeLessThan(6.02 + 0.5);
+    // Doubling an amplitude is 20·log10(2) = 6.02 dB in power (common practice). The raised event reports the level
+    // that crossed the threshold (by construction just past it), so the check reads the live band level after the
+    // average has settled: 20 s of the doubled noise is 10 τ of the exponential average (e^−10 of the old floor
+    // left), and ±0.5 dB is several standard deviations of the whole-band estimate over hundreds of bins.
+    const wide = hook.detectors!.status()[0].bands.filter((b) => b.high - b.low > FS / 4);
+    expect(wide.length).toBeGreaterThan(0);
+    for (const b of wide) {
+      expect(b.active).toBe(true);
+      expect(Math.abs(b.levelDb - 20 * Math.log10(2))).toBeLessThan(0.5);
+    }
   });
 
   it('refuses at once a baseline taken with other analysis settings, naming the setting', async () => {

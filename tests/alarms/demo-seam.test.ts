@@ -1,16 +1,15 @@
-// The demo recording replayed past its loop seam through the real pipeline, detectors and server adapter: the
-// alarm rows of GET /api/status must agree with the event log, and the mains tracker must stay on 50 Hz.
+// The demo recording replayed past its loop seam through a real monitor (pipeline, detectors, alarm table): the
+// alarm rows of its status (what GET /api/status serves) must agree with the event log, and the mains tracker
+// must stay on 50 Hz.
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { AlarmHook } from '../../agent/rules/alarm-hook.ts';
 import { readBaseline } from '../../agent/baseline/format.ts';
-import { dataFolderAt } from '../../agent/config/data-folder.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
-import { Pipeline } from '../../agent/pipeline/pipeline.ts';
-import { PipelineBackend } from '../../agent/server/pipeline-backend.ts';
+import { startMonitor, type Monitor, type MonitorStatus } from '../../agent/monitor/monitor.ts';
 import { ReplaySource } from '../../agent/sources/replay.ts';
+import { testMonitorOptions } from '../support/monitor-options.ts';
 
 const root = new URL('../../', import.meta.url).pathname;
 const RATE = 8000;
@@ -30,33 +29,31 @@ function openAlarms(events: readonly FloorlineEvent[]): string[] {
 describe('the demo past its loop seam', () => {
   it('shows in status exactly the alarms the event log leaves raised, at t = 72 s', async () => {
     const baseline = await readBaseline(join(root, 'recordings/demo-baseline.json'));
-    const pipeline = new Pipeline({ mode: 'lossless' });
-    const hook = new AlarmHook({ baseline });
-    pipeline.addDetector(hook);
-    const backend = new PipelineBackend({
-      pipeline,
-      data: dataFolderAt(mkdtempSync(join(tmpdir(), 'floorline-seam-'))),
-      detectorStatus: () => hook.detectors?.status(),
-      baseline: () => ({ file: 'recordings/demo-baseline.json', baseline }),
-    });
     const events: FloorlineEvent[] = [];
-    pipeline.on('event', (e) => events.push(e));
     const src = new ReplaySource(join(root, 'recordings/demo.wav'), { speed: 'max', loop: true, maxLoops: 2 });
-    let status: ReturnType<PipelineBackend['status']> | undefined;
-    let afterClip: ReturnType<PipelineBackend['status']> | undefined;
+    let status: MonitorStatus | undefined;
+    let afterClip: MonitorStatus | undefined;
     let logAtStatus: FloorlineEvent[] = [];
     const fundamentals: number[] = [];
-    pipeline.on('snapshot', (s) => {
-      const m = hook.detectors?.status().find((c) => c.channel === 'bridge')?.mains;
-      if (m && m.fundamental > 0) fundamentals.push(m.fundamental);
-      if (!afterClip && s.t >= 55) afterClip = backend.status();
-      if (!status && s.t >= FILE_SECONDS + 12) {
-        status = backend.status();
-        logAtStatus = [...events];
-      }
+    const watch = (m: Monitor) => ({
+      name: 'watch',
+      onEvent: (e: FloorlineEvent) => void events.push(e),
+      onSnapshot: (s: { t: number }) => {
+        const mains = m.readings().find((c) => c.channel === 'bridge')?.mains;
+        if (mains && mains.fundamental > 0) fundamentals.push(mains.fundamental);
+        if (!afterClip && s.t >= 55) afterClip = m.status();
+        if (!status && s.t >= FILE_SECONDS + 12) {
+          status = m.status();
+          logAtStatus = [...events];
+        }
+      },
     });
-    await pipeline.attach(src);
+    const monitor = await startMonitor(src, testMonitorOptions(mkdtempSync(join(tmpdir(), 'floorline-seam-')), {
+      baseline: { baseline, where: 'recordings/demo-baseline.json' },
+      parts: [watch],
+    }));
     await src.done;
+    await monitor.finished;
     expect(status).toBeDefined();
     // 3 s after the overload its clipped segments still weigh in the bridge channel's average: the band table says
     // so (held, or not judged where the overload's lines cover a band) instead of a plain "ok".

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { defaultBands, parseBand } from '../../agent/rules/default-bands.ts';
+import { defaultBands } from '../../agent/rules/default-bands.ts';
+import { parseBand } from '../../protocol/bands.ts';
 import { defaultRules, parseRules, timingInSamples } from '../../agent/rules/rules.ts';
 
 describe('rules configuration', () => {
@@ -15,7 +16,7 @@ describe('rules configuration', () => {
   it('refuses unknown keys and bad values, naming the field', () => {
     expect(() => parseRules({ bnd: {} }, 'x.json')).toThrow(/unknown key "bnd"/);
     expect(() => parseRules({ band: { alpha: 0.7 } }, 'x.json')).toThrow(/band\.alpha must be a number from 1e-15 to 0\.1/);
-    expect(() => parseRules({ band: { bands: ['2000:20'] } }, 'x.json')).toThrow(/band\.bands.*LO:HI/);
+    expect(() => parseRules({ band: { bands: ['2000:20'] } }, 'x.json')).toThrow(/band\.bands.*LO must be below HI/);
     expect(() => parseRules({ mains: { frequency: 55 } }, 'x.json')).toThrow(/mains\.frequency must be "auto", 50 or 60/);
   });
 

@@ -72,7 +72,8 @@ describe('SpurFinder', () => {
     const f = Float64Array.from(ref.f);
     const psd = Float64Array.from(ref.psd);
     const finder = new SpurFinder({ frequencies: f, binHz: fs / segment, mainLobeHalfWidth: hannLobe, maxLines: 2 });
-    // 15 averages: a bin exceeding its median tenfold has probability ~1e-20 (chi2(30)/30 > 10, scipy.stats.chi2.sf).
+    // 15 averages: a bin is chi2(30)/30 distributed, its median 0.978 (scipy.stats.chi2.median(30)/30), so a bin
+    // ten times the median has probability 5e-45 (scipy.stats.chi2.sf(10 · chi2.median(30), 30)).
     expect(finder.find(psd, 10)).toBe(0);
     psd[100] *= 100;
     psd[200] *= 1000;

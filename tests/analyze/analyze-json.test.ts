@@ -71,7 +71,7 @@ async function expectMatchesScipy(path: string, report: JsonReport, s: Reference
     expect(m.compared).toBeGreaterThan(ref.f.length / 2);
     expect(m.bad, `${path} ch${c} worst ${m.worst}`).toBe(0);
     for (let k = 0; k < ch.psd.length; k++) expect(ch.asd[k]).toBe(Math.sqrt(ch.psd[k]));
-    // Total RMS: sqrt(Σ psd[1:]·Δf) in numpy (DC excluded); bands: bins with lo ≤ f ≤ hi (DESIGN.md rule).
+    // Total RMS: sqrt(Σ psd[1:]·Δf) in numpy (DC excluded); bands: bins with lo ≤ f ≤ hi (rule of docs/ARCHITECTURE.md).
     expect(Math.abs(ch.rms - ref.rms[c]) / ref.rms[c]).toBeLessThan(1e-9);
     expect(ch.bands.map((b) => [b.low, b.high])).toEqual(s.bands);
     for (let b = 0; b < s.bands.length; b++) expect(Math.abs(ch.bands[b].rms - ref.bands[c][b]) / ref.bands[c][b]).toBeLessThan(1e-9);
@@ -82,7 +82,7 @@ describe('floorline analyze --json', () => {
   it('matches scipy.signal.welch with the default settings on a float32 file, with bands', async () => {
     const path = join(dir, 'f32.wav');
     const report = analyzeJson(path, '--band', '20:2000', '--band', '990:1010', '--band', '1000:10000');
-    // Defaults (DESIGN.md): 60000 samples give ≥ 8 averages at 4096, Hann, overlap 0.5, detrend mean.
+    // Defaults (docs/ARCHITECTURE.md): 60000 samples give ≥ 8 averages at 4096, Hann, overlap 0.5, detrend mean.
     expect(report.settings).toMatchObject({ segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' });
     expect(Object.keys(report)).toEqual(['file', 'sampleRate', 'samples', 'settings', 'channels']);
     expect(Object.keys(report.settings)).toEqual([

@@ -3,7 +3,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createProgress } from '../../agent/cli/progress.ts';
-import { formatSi } from '../../agent/analysis/si.ts';
+import { formatSi } from '../../protocol/si.ts';
 import { defaultSegment, segmentCount } from '../../agent/analysis/segment-choice.ts';
 import { Python, root, tempDir } from '../wav/support.ts';
 import { runCli, welchReference } from './support.ts';
@@ -140,7 +140,7 @@ result = [len(signal.spectrogram(np.zeros(int(f)), nperseg=n, noverlap=int(math.
       grid,
     );
     expect(grid.map(([f, n, o]) => segmentCount(f, n, o))).toEqual(ref);
-    // DESIGN.md: 4096, or the largest power of two giving at least 8 averages.
+    // docs/ARCHITECTURE.md: 4096, or the largest power of two giving at least 8 averages.
     expect(defaultSegment(1e6, 0.5)).toBe(4096);
     expect(defaultSegment(36864, 0.5)).toBe(4096); // 17 segments
     expect(defaultSegment(18431, 0.5)).toBe(2048); // 4096 gives 7

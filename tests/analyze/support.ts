@@ -42,7 +42,7 @@ export interface ReferenceSettings {
 
 // scipy.io.wavfile.read → float64 in full-scale units (int16 / 2^15; 24- and 32-bit arrive as int32, / 2^31),
 // times scale; then scipy.signal.welch(scaling='density'), its segment count from scipy.signal.spectrogram, NENBW
-// N·Σw²/(Σw)² of scipy.signal.get_window, and total/band RMS by the DESIGN.md rule in numpy.
+// N·Σw²/(Σw)² of scipy.signal.get_window, and total/band RMS by the docs/ARCHITECTURE.md rule in numpy.
 const WELCH_REFERENCE = String.raw`
 import math
 path, o = args

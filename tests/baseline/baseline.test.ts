@@ -15,9 +15,8 @@ function cli(...args: string[]): { status: number; stdout: string; stderr: strin
   return { status: r.status ?? -1, stdout: r.stdout, stderr: r.stderr };
 }
 
+// dist/ (bin/floorline.mjs) is built once before the suite by tests/support/global-setup.ts.
 beforeAll(() => {
-  const build = spawnSync('npm', ['run', 'build', '--silent'], { cwd: root, encoding: 'utf8' });
-  if (build.status !== 0) throw new Error(build.stderr);
   const r = spawnSync('python3', [join(root, 'tests/baseline/make-recordings.py'), dir], { encoding: 'utf8' });
   if (r.status !== 0) throw new Error(r.stderr);
   ref = JSON.parse(r.stdout);

@@ -118,9 +118,9 @@ describe('log-frequency view on the demo replay', () => {
     expect(Number(ppRow.rms)).toBe(pp.rms);
     expect(Number(ppRow.g66)).toBe(pp.gaussianPeakToPeak);
     expect(pp.sample - pp.startSample + 1).toBe(10 * 8000); // 10 s windows at 8000 S/s
-    // 6.6σ vs RMS: the band-passed noise has near-zero mean, so σ ≈ RMS (common practice: p-p ≈ 6.6 × RMS for Gaussian noise).
+    // 6.6σ vs RMS: the band-passed noise has near-zero mean, so σ ≈ RMS (common practice: p-p ≈ 6.6 × RMS for Gaussian
+    // noise). σ ≤ RMS holds for any signal, so only the lower side says something.
     expect(pp.gaussianPeakToPeak / (6.6 * pp.rms)).toBeGreaterThan(0.95);
-    expect(pp.gaussianPeakToPeak / (6.6 * pp.rms)).toBeLessThanOrEqual(1 + 1e-12);
   }, 60_000);
 
   it('keeps band alarms working in this view: the demo floor rise on bridge (38–46 s) is raised while log-frequency is shown', { timeout: 60_000 }, async () => {

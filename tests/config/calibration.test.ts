@@ -59,5 +59,5 @@ print(np.sqrt(np.median(p[sel, 0])), np.sqrt(np.median(p[sel, 1])))
     // And they differ from the uncalibrated demo (so the digest does see the calibration).
     const plain = floorline(['replay', join(root, 'recordings/demo.wav'), '--speed', 'max', '--no-server', '--quiet', '--data', join(dir, 'd4')]);
     expect(digest(plain.stdout)).not.toBe(digest(first.stdout));
-  });
+  }, 180_000);
 });

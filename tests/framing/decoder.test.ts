@@ -5,6 +5,39 @@ import { FrameDecoder } from '../../agent/framing/decoder.ts';
 import type { BoardDescriptor } from '../../agent/framing/descriptor.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { concat, randomFrame, recordingDecoder, type SentFrame } from './frame-stream.ts';
+import { crc32 } from '../../agent/framing/crc32.ts';
+import { KIND_DESCRIPTOR, KIND_SAMPLES, MAX_BODY, SERIAL_PROTOCOL_VERSION, SYNC } from '../../agent/framing/protocol.ts';
+
+const GOOD: BoardDescriptor = {
+  rate: 48000, format: 'int24', board: 'rig-7', firmware: '0.3.1', boot: 'a1b2', clock: 12345,
+  channels: [{ name: 'lna', unit: 'V', perCount: 2.98e-7, fullScale: 8388607 }],
+};
+
+const text = (s: string): Uint8Array => new TextEncoder().encode(s);
+
+/** A frame of `kind` around `body` with a correct CRC (PROTOCOL.md layout), written here rather than by the
+ * encoder, which refuses bad content. `lengthField` lets a test lie about the body length. */
+function frameOf(kind: number, body: Uint8Array, lengthField = body.length): Uint8Array {
+  const out = new Uint8Array(8 + body.length + 4);
+  out.set(SYNC, 0);
+  out[4] = SERIAL_PROTOCOL_VERSION;
+  out[5] = kind;
+  out[6] = lengthField & 0xff;
+  out[7] = (lengthField >>> 8) & 0xff;
+  out.set(body, 8);
+  const crc = crc32(out, 4, 8 + body.length);
+  new DataView(out.buffer).setUint32(8 + body.length, crc, true);
+  return out;
+}
+const descriptorBody = (body: Uint8Array): Uint8Array => frameOf(KIND_DESCRIPTOR, body);
+const descriptorJson = (value: unknown): Uint8Array => descriptorBody(text(JSON.stringify(value)));
+/** Samples body: channel count, format code, sequence (u32), then `payload` zero bytes. */
+function samplesBody(channels: number, formatCode: number, payload: number): Uint8Array {
+  const body = new Uint8Array(6 + payload);
+  body[0] = channels;
+  body[1] = formatCode;
+  return frameOf(KIND_SAMPLES, body);
+}
 
 function randomBytes(rng: SeededRandom, n: number): Uint8Array {
   const b = new Uint8Array(n);
@@ -102,22 +135,76 @@ describe('FrameDecoder', () => {
     }
   });
 
-  it('delivers a descriptor and a describe request, and counts a descriptor with bad fields as malformed', () => {
-    const d: BoardDescriptor = {
-      rate: 48000, format: 'int24', board: 'rig-7', firmware: '0.3.1', boot: 'a1b2', clock: 12345,
-      channels: [{ name: 'lna', unit: 'V', perCount: 2.98e-7, fullScale: 8388607 }],
-    };
+  it('delivers a descriptor and a describe request', () => {
     const got: BoardDescriptor[] = [];
     let requests = 0;
     const dec = new FrameDecoder({ samples() {}, descriptor: (x) => got.push(x), describeRequest: () => requests++ });
-    const bad = encodeDescriptorFrame(d);
-    // Rewrite the rate inside a valid frame would break the CRC; build the bad one through the encoder instead.
-    const badDescriptor = encodeDescriptorFrame({ ...d, board: 'x' });
-    const json = new TextDecoder().decode(badDescriptor.subarray(8, badDescriptor.length - 4));
-    expect(json).toContain('"board":"x"');
-    dec.push(concat([bad, encodeDescribeRequest(), badDescriptor]));
-    expect(got).toEqual([d, { ...d, board: 'x' }]);
+    dec.push(concat([encodeDescriptorFrame(GOOD), encodeDescribeRequest()]));
+    expect(got).toEqual([GOOD]);
     expect(requests).toBe(1);
+    expect(dec.counters).toMatchObject({ descriptors: 1, malformed: 0, crcErrors: 0 });
+  });
+
+  // One case per check of the decoder (agent/framing/decoder.ts dispatch, agent/framing/descriptor.ts
+  // validateDescriptor), each in a frame with a correct CRC, so only the content check can reject it.
+  // The field named in the decoder's detail must be the one that is wrong.
+  const ch = GOOD.channels[0];
+  const malformed: [string, Uint8Array, string][] = [
+    ['a body that is not UTF-8', descriptorBody(Uint8Array.from([0x7b, 0xff, 0xfe, 0x7d])), 'UTF-8 JSON'],
+    ['a body that is not JSON', descriptorBody(text('{"rate": 48000,')), 'UTF-8 JSON'],
+    ['a JSON array instead of an object', descriptorJson([GOOD]), 'not a JSON object'],
+    ['rate zero', descriptorJson({ ...GOOD, rate: 0 }), '"rate"'],
+    ['rate not finite (1e999 parses as Infinity)', descriptorBody(text(JSON.stringify({ ...GOOD, rate: 1 }).replace('"rate":1', '"rate":1e999'))), '"rate"'],
+    ['rate a string', descriptorJson({ ...GOOD, rate: '48000' }), '"rate"'],
+    ['an absurd rate (above 10 MHz)', descriptorJson({ ...GOOD, rate: 1e9 }), '"rate"'],
+    ['an unknown format', descriptorJson({ ...GOOD, format: 'int12' }), '"format"'],
+    ['board not a string', descriptorJson({ ...GOOD, board: 7 }), '"board"'],
+    ['firmware not a string', descriptorJson({ ...GOOD, firmware: null }), '"firmware"'],
+    ['boot not a string', descriptorJson({ ...GOOD, boot: ['a'] }), '"boot"'],
+    ['a board name of 257 characters', descriptorJson({ ...GOOD, board: 'b'.repeat(257) }), '"board"'],
+    ['a board name with a control character', descriptorJson({ ...GOOD, board: 'rig\u001b[2J' }), '"board"'],
+    ['clock past 2^32 - 1', descriptorJson({ ...GOOD, clock: 2 ** 32 }), '"clock"'],
+    ['zero channels', descriptorJson({ ...GOOD, channels: [] }), '"channels"'],
+    ['an absurd channel count (65 > MAX_CHANNELS)', descriptorJson({ ...GOOD, channels: Array.from({ length: 65 }, () => ch) }), '"channels"'],
+    ['a channel that is not an object', descriptorJson({ ...GOOD, channels: [null] }), 'channels[0] is not an object'],
+    ['a channel name that is not a string', descriptorJson({ ...GOOD, channels: [{ ...ch, name: 3 }] }), 'channels[0].name'],
+    ['an empty channel name', descriptorJson({ ...GOOD, channels: [{ ...ch, name: '' }] }), 'channels[0].name'],
+    ['a channel name of 65 characters', descriptorJson({ ...GOOD, channels: [{ ...ch, name: 'n'.repeat(65) }] }), 'channels[0].name'],
+    ['a channel name with a control character', descriptorJson({ ...GOOD, channels: [{ ...ch, name: 'a\nb' }] }), 'channels[0].name'],
+    ['a unit that is not a string', descriptorJson({ ...GOOD, channels: [{ ...ch, unit: { si: 'V' } }] }), 'channels[0].unit'],
+    ['perCount above 1e20', descriptorJson({ ...GOOD, channels: [{ ...ch, perCount: 1e21 }] }), 'channels[0].perCount'],
+    ['perCount not finite', descriptorBody(text(JSON.stringify(GOOD).replace('"perCount":2.98e-7', '"perCount":-1e999'))), 'channels[0].perCount'],
+    ['fullScale past the format limit', descriptorJson({ ...GOOD, channels: [{ ...ch, fullScale: 2 ** 23 }] }), 'channels[0].fullScale'],
+    ['a samples frame with 0 channels', samplesBody(0, 1, 4), 'channel count 0'],
+    ['a samples frame with 65 channels', samplesBody(65, 1, 65 * 3), 'channel count 65'],
+    ['a samples frame with an unknown format code', samplesBody(1, 0x7f, 4), 'format code 127'],
+    ['a samples payload that is not whole instants', samplesBody(2, 1, 5), 'not a whole number'],
+  ];
+
+  it.each(malformed)('counts %s as malformed and delivers nothing from it', (_what, frame, field) => {
+    const got: BoardDescriptor[] = [];
+    const samples: number[] = [];
+    const details: string[] = [];
+    const dec = new FrameDecoder({ samples: (f) => samples.push(f.frames), descriptor: (x) => got.push(x), malformed: (d) => details.push(d) });
+    // The bad frame, then a good descriptor: the good one still arrives, the bad one leaves only its count.
+    dec.push(concat([frame, encodeDescriptorFrame(GOOD)]));
+    expect(dec.counters).toMatchObject({ frames: 2, malformed: 1, descriptors: 1, sampleFrames: 0, crcErrors: 0 });
+    expect(got).toEqual([GOOD]);
+    expect(samples).toEqual([]);
+    expect(details).toHaveLength(1);
+    expect(details[0]).toContain(field);
+  });
+
+  it('never delivers descriptor JSON larger than one frame body (65535 bytes, the u16 length field)', () => {
+    const big = text(JSON.stringify({ ...GOOD, firmware: 'x'.repeat(MAX_BODY) }));
+    // A sender that writes only the low 16 bits of the length and a CRC over the whole body: the decoder reads
+    // the short length, the CRC there does not match, and nothing is delivered.
+    const got: BoardDescriptor[] = [];
+    const dec = new FrameDecoder({ samples() {}, descriptor: (x) => got.push(x) });
+    dec.push(concat([frameOf(KIND_DESCRIPTOR, big, big.length & 0xffff), encodeDescriptorFrame(GOOD)]));
+    expect(got).toEqual([GOOD]);
+    expect(dec.counters.descriptors).toBe(1);
+    expect(dec.counters.crcErrors).toBeGreaterThanOrEqual(1);
   });
 
   it('recovers exactly the sent frames for arbitrary garbage and chunking (property, fast-check)', () => {

@@ -4,6 +4,11 @@ import { planFromPoints, planLogFrequencies } from '../../dsp/logfreq/plan.ts';
 import { logFrequencyPsd } from '../../dsp/logfreq/log-frequency-psd.ts';
 import { runPython, type PyValue } from './python.ts';
 
+/** P(X > k) for X ~ Binomial(n, p): scipy.stats.binom.sf. */
+function binomialTail(k: number, n: number, p: number): number {
+  return runPython<{ sf: number }>(`from scipy.stats import binom\nout['sf'] = float(binom.sf(inp['k'], inp['n'], inp['p']))`, { k, n, p }).sf;
+}
+
 function gaussian(n: number, sigma: number, seed: number): Float64Array {
   return new SeededRandom(seed).fillGaussian(new Float64Array(n), sigma);
 }
@@ -123,8 +128,10 @@ out['psd'] = np.array(psd)
       weighted += nu[j] * ratio;
       weights += nu[j];
     }
-    // 120 points at 1 % each: P(more than 4 outside) < 1 % for independent points (binomial, scipy.stats.binom.sf(4, 120, 0.01) = 0.008).
+    // Points at 1 % each: more than 4 outside must be unlikely for independent points (binomial tail, computed
+    // here with scipy.stats.binom.sf for the number of points the plan gave).
     expect(est.psd.length).toBeGreaterThan(80);
+    expect(binomialTail(4, est.psd.length, 0.01)).toBeLessThan(0.01);
     expect(outside).toBeLessThanOrEqual(4);
     // The ν-weighted mean ratio has variance 2/Σν: allow 4 standard deviations.
     expect(Math.abs(weighted / weights - 1)).toBeLessThan(4 * Math.sqrt(2 / weights));
@@ -166,7 +173,9 @@ out['x'] = np.fft.irfft(X * shape, n)
         belowW += nu[j];
       }
     }
-    expect(outside).toBeLessThanOrEqual(5); // ~150 points at 1 %: binom.sf(5, 150, 0.01) ≈ 0.005 (scipy.stats.binom)
+    // More than 5 of the points outside their 99 % bounds must be unlikely (scipy.stats.binom.sf, computed here).
+    expect(binomialTail(5, est.psd.length, 0.01)).toBeLessThan(0.01);
+    expect(outside).toBeLessThanOrEqual(5);
     // The 1/f part alone (a decade below the corner) on average on the model within 4 standard deviations.
     expect(belowW).toBeGreaterThan(0);
     expect(Math.abs(below / belowW - 1)).toBeLessThan(4 * Math.sqrt(2 / belowW));

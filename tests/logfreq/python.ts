@@ -55,6 +55,6 @@ export function runPython<T = Record<string, unknown>>(code: string, input: Reco
     maxBuffer: 1 << 30,
     encoding: 'utf8',
   });
-  if (r.status !== 0) throw new Error(`python3 failed (${r.status}): ${r.stderr}`);
+  if (r.status !== 0) throw new Error(`python3 failed (${r.error?.message ?? r.status}): ${r.stderr}`);
   return decode(JSON.parse(r.stdout)) as T;
 }

@@ -1,4 +1,4 @@
-// The live low-frequency view hung on a real Pipeline (the way serveDashboard wires it): blocks arrive as the
+// The live low-frequency view hung on a real Pipeline (the way the monitor wires it): blocks arrive as the
 // pipeline's calibrated float32 samples, and a replay seam (gap with lost = 0, restartsAt) makes the second loop
 // repeat the first. The 0.1–10 Hz figures of both loops are checked against scipy on the float32 samples.
 import { describe, expect, it } from 'vitest';

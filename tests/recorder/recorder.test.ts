@@ -1,5 +1,5 @@
 // Recorder: rotation and event captures, checked by reading the files back with scipy.io.wavfile.
-import { readFileSync } from 'node:fs';
+import { copyFileSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { dataFolderAt, ensureDataFolder } from '../../agent/config/data-folder.ts';
@@ -148,5 +148,30 @@ result = bool(np.array_equal(a, src[:args[3]]) and np.array_equal(b, src[args[4]
       source, join(folder.root, files[0]), join(folder.root, files[1]), gapAt, gapAt + lost,
     );
     expect(ok).toBe(true);
+  });
+
+  it('writes samples and header sizes out every 0.5 s of sample time, whether or not the flush timer runs', async () => {
+    // The flush timer is set to an hour, as on a machine too loaded to run it: only the sample-time bound acts.
+    // Copies of the file taken synchronously inside the pipeline's block events (the recorder's handler runs
+    // first) are what a kill -9 at that instant would leave.
+    const copies: { path: string; received: number }[] = [];
+    const { recorder } = await replayWithRecorder('write-out', { flushMs: 3_600_000, rotateSeconds: 0 }, (r, p) => {
+      r.startRecording();
+      p.on('block', (b) => {
+        const received = b.firstSample + b.frames;
+        if (received % 7000 !== 0 || !r.status().file) return;
+        const path = join(dir, `write-out-${received}.wav`);
+        copyFileSync(join(dir, 'write-out', r.status().file!), path);
+        copies.push({ path, received });
+      });
+    });
+    expect(recorder.status().state).toBe('recording');
+    expect(copies.length).toBeGreaterThanOrEqual(5);
+    for (const c of copies) {
+      // scipy.io.wavfile reads the header sizes as left at that instant: at most 0.5 s of samples behind.
+      const frames = await py.run<number>(`fs, x = wavfile.read(args[0]); result = int(x.shape[0])`, c.path);
+      expect(c.received - frames, `copy at sample ${c.received}`).toBeLessThanOrEqual(0.5 * RATE);
+      expect(frames).toBeLessThanOrEqual(c.received);
+    }
   });
 });

@@ -27,6 +27,36 @@ describe('demo recording', () => {
     expect(same).toBe(true);
   });
 
+  it('has the baseline `floorline baseline` makes from it with the command in recordings/README.md', () => {
+    const committed = JSON.parse(readFileSync(join(root, 'recordings/demo-baseline.json'), 'utf8'));
+    const out = join(dir, 'demo-baseline.json');
+    const r = spawnSync(process.execPath, [bin, 'baseline', 'recordings/demo.wav', '-o', out, '--seconds', '18', '--notes', committed.notes], {
+      cwd: root,
+      encoding: 'utf8',
+    });
+    expect(r.status, r.stderr).toBe(0);
+    const again = JSON.parse(readFileSync(out, 'utf8'));
+    // Everything but the creation time is what the command gives now: settings and their hash, span, segments,
+    // settling verdict, notes exactly; densities and band RMS to 1e-12 relative (float64 sums, the same on any
+    // machine up to the last bits of Math.sin/cos in the window and FFT tables).
+    const close = (a: unknown, b: unknown, path: string): void => {
+      if (typeof a === 'number' && typeof b === 'number') {
+        expect(Math.abs(a - b), path).toBeLessThanOrEqual(1e-12 * Math.max(Math.abs(a), Math.abs(b)));
+      } else if (Array.isArray(a) && Array.isArray(b)) {
+        expect(b.length, path).toBe(a.length);
+        a.forEach((v, i) => close(v, b[i], `${path}[${i}]`));
+      } else if (a !== null && b !== null && typeof a === 'object' && typeof b === 'object') {
+        expect(Object.keys(b).sort(), path).toEqual(Object.keys(a).sort());
+        for (const k of Object.keys(a)) close((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], `${path}.${k}`);
+      } else {
+        expect(b, path).toEqual(a);
+      }
+    };
+    delete committed.createdWallTime;
+    delete again.createdWallTime;
+    close(committed, again, 'demo-baseline.json');
+  });
+
   it('holds the scripted events of recordings/README.md, as numpy and scipy.signal.welch see them', async () => {
     const m = await py.run<Record<string, number>>(
       `fs, x = wavfile.read(args[0]); x = x.astype(np.float64)

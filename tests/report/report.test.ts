@@ -28,7 +28,7 @@ describe('floorline report', () => {
     const { incidents } = JSON.parse(floorline('incidents', '--store', store, '--json').stdout) as { incidents: { id: string; settled: { levelDb: number } | null }[] };
     expect(incidents.length).toBe(4);
     for (const i of incidents) {
-      expect(html).toContain(`<td>${i.id}</td>`);
+      expect(html).toContain(`<td>${i.id}<br>`);
       if (i.settled) expect(html).toContain(`${i.settled.levelDb.toFixed(1)} dB re baseline`);
     }
     // The note is there as text: no live markup from it (HTML escaping, common practice).

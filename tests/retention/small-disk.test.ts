@@ -33,16 +33,22 @@ describe('retention on a small disk', () => {
       child.stdout.on('data', (c) => (out += c));
       child.stderr.on('data', (c) => (err += c));
       const exited = new Promise<number | null>((r) => child.on('exit', r));
-      // At t ≈ 15 s of sample time another writer leaves 3 MB free (below the floor); at t ≈ 42 s it frees it.
-      await sleep(1500);
+      // Driven by sample time, not the wall clock: once the recording reaches t = 10 s (its file -s80000) another
+      // writer leaves 3 MB free (below the floor); once the spur at t = 30 s is in the event log it frees the space.
+      const recDir = join(mnt, 'data/recordings');
+      const eventsFile = join(mnt, 'data/events.jsonl');
+      const until = async (cond: () => boolean) => {
+        for (let i = 0; i < 400 && !cond(); i++) await sleep(25);
+      };
+      await until(() => { try { return readdirSync(recDir).some((f) => f.includes('-s80000')); } catch { return false; } });
       const fs = statfsSync(mnt);
       const filler = join(mnt, 'filler.bin');
       writeFileSync(filler, Buffer.alloc(Math.max(0, fs.bavail * fs.bsize - 3 * MB)));
-      await sleep(2700);
+      await until(() => { try { return readFileSync(eventsFile, 'utf8').includes('"rule":"spur"'); } catch { return false; } });
       rmSync(filler);
       expect(await exited, err).toBe(0);
 
-      const events = readFileSync(join(mnt, 'data/events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+      const events = readFileSync(eventsFile, 'utf8').trim().split('\n').map((l) => JSON.parse(l));
       const disk = events.filter((e) => e.rule === 'disk').map((e) => e.state);
       expect(disk, JSON.stringify(events.map((e) => [e.rule, e.state, e.sample, e.detail.slice(0, 60)]))).toEqual(['raised', 'cleared']);
       const deletions = events.filter((e) => e.rule === 'retention');
@@ -53,7 +59,6 @@ describe('retention on a small disk', () => {
       const clearedAt = events.findIndex((e) => e.rule === 'disk' && e.state === 'cleared');
       expect(events.slice(raisedAt, clearedAt).some((e) => e.rule === 'spur' && e.state === 'raised')).toBe(true);
 
-      const recDir = join(mnt, 'data/recordings');
       const files = readdirSync(recDir);
       const size = (f: string) => statSync(join(recDir, f)).size + statSync(join(recDir, `${f}.json`)).size;
       const rec = files.filter((f) => f.startsWith('rec-') && f.endsWith('.wav'));

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
-import { existsSync } from 'node:fs';
+import { existsSync, readdirSync, realpathSync } from 'node:fs';
 import { join } from 'node:path';
 import { matchPorts, parsePortSpec, type PortEntry } from '../../agent/sources/port-resolve.ts';
 
@@ -27,14 +27,26 @@ describe('port resolution', () => {
     expect(matchPorts(ports, parsePortSpec('/dev/serial/by-id/usb-FTDI_FT232R_A1-if00-port0')).map((p) => p.path)).toEqual(['/dev/ttyUSB1']);
   });
 
-  it('`floorline ports --json` lists what SerialPort.list() finds, each path a real device', () => {
+  it('`floorline ports --json` lists exactly the USB serial devices the kernel shows, with their udev by-id links', () => {
     const r = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), 'ports', '--json'], { encoding: 'utf8' });
     expect(r.status, r.stderr).toBe(0);
     const list = JSON.parse(r.stdout) as PortEntry[];
     expect(Array.isArray(list)).toBe(true);
+    // The outside view: the kernel's USB serial nodes (ttyUSB = usb-serial bridges, ttyACM = CDC/ACM) and udev's
+    // /dev/serial/by-id links to them. On a machine with none, both sides are empty and only the command's
+    // success and output shape are checked.
+    const kernel = readdirSync('/dev').filter((n) => /^tty(USB|ACM)\d+$/.test(n)).map((n) => `/dev/${n}`).sort();
+    const listedUsb = list.map((p) => p.path).filter((p) => /^\/dev\/tty(USB|ACM)\d+$/.test(p)).sort();
+    expect(listedUsb).toEqual(kernel);
+    const byIdDir = '/dev/serial/by-id';
+    const links = existsSync(byIdDir) ? readdirSync(byIdDir).map((n) => join(byIdDir, n)) : [];
+    for (const link of links) {
+      const entry = list.find((p) => p.path === realpathSync(link));
+      expect(entry?.byId, `${link} → ${realpathSync(link)}`).toContain(link);
+    }
     for (const p of list) {
       expect(existsSync(p.path)).toBe(true);
-      for (const link of p.byId) expect(existsSync(link)).toBe(true);
+      for (const link of p.byId) expect(realpathSync(link)).toBe(p.path);
     }
   });
 });

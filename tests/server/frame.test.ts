@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
 import { decodeFrame, encodeFrame, frameBytes, FrameFormatError, FRAME_MAGIC } from '../../protocol/frame.ts';
-import { PROTOCOL_VERSION } from '../../protocol/messages.ts';
+import { WIRE_PROTOCOL_VERSION } from '../../protocol/messages.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 
 function sampleFrame(): { buf: ArrayBuffer; psd: Float64Array[] } {
@@ -36,7 +36,7 @@ describe('spectrum frames', () => {
     const r = spawnSync('python3', ['-c', py], { input: Buffer.from(buf), encoding: 'utf8' });
     expect(r.stderr).toBe('');
     const out = JSON.parse(r.stdout);
-    expect(out).toEqual([FRAME_MAGIC, PROTOCOL_VERSION, 1, 42, 3, 7, 257, 2 ** 40 + 3, 48000, 93.75, [10, 20.5, 30], Math.fround(psd[1][100]), Math.fround(psd[2][256])]);
+    expect(out).toEqual([FRAME_MAGIC, WIRE_PROTOCOL_VERSION, 1, 42, 3, 7, 257, 2 ** 40 + 3, 48000, 93.75, [10, 20.5, 30], Math.fround(psd[1][100]), Math.fround(psd[2][256])]);
   });
 
   it('decodes a misaligned slice (as Node hands out pooled Buffers) by copying it', () => {
@@ -62,7 +62,7 @@ describe('spectrum frames', () => {
     new DataView(foreign).setUint32(0, 0xdeadbeef, true);
     expect(code(foreign)).toBe('magic');
     const later = buf.slice(0);
-    new DataView(later).setUint16(4, PROTOCOL_VERSION + 1, true);
+    new DataView(later).setUint16(4, WIRE_PROTOCOL_VERSION + 1, true);
     expect(code(later)).toBe('version');
     const kind = buf.slice(0);
     new DataView(kind).setUint16(6, 99, true);

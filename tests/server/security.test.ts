@@ -187,7 +187,7 @@ describe('messages', () => {
   });
 
   it('passes a backend refusal back as the reply’s error', async () => {
-    started = await startWithFake();
+    started = await startWithFake({ controlIntervalMs: 0 }); // two actions back to back: this test is about the refusal, not the pacing
     started.backend.step();
     const c = await open(started.ws);
     c.send({ type: 'set-analysis', id: 5, window: 'no-such-window' });

@@ -11,7 +11,8 @@ describe('parseClientMessage', () => {
       { type: 'recording', id: 2, action: 'start' },
       { type: 'set-analysis', id: 3, averaging: { mode: 'rolling', count: 16 }, segment: 8192, window: 'kaiser:3' },
       { type: 'set-analysis', id: 4, averaging: { mode: 'exponential', tauSeconds: 5 } },
-      { type: 'acknowledge', id: 5, rule: 'band-rise', channel: 'ch0', band: [20, 2000] },
+      { type: 'acknowledge', id: 5, alarm: 'band-rise/ch0:20-2000' },
+      { type: 'shelve', id: 7, alarm: 'mains/ch0/h3', seconds: 600 },
       { type: 'get-status', id: 6 },
     ]) {
       const r = ok(m);
@@ -30,8 +31,10 @@ describe('parseClientMessage', () => {
     [{ type: 'capture-baseline', id: 1, seconds: -1 }, /seconds/],
     [{ type: 'capture-baseline', id: 1, seconds: 1e9 }, /seconds/],
     [{ type: 'recording', id: 1, action: 'pause' }, /action/],
-    [{ type: 'acknowledge', id: 1, rule: 'everything', channel: 'ch0' }, /rule/],
-    [{ type: 'acknowledge', id: 1, rule: 'spur', channel: 'ch0', band: [2000, 20] }, /band/],
+    [{ type: 'acknowledge', id: 1, rule: 'band-rise', channel: 'ch0' }, /unknown field 'rule'/],
+    [{ type: 'acknowledge', id: 1, alarm: 'no rule here' }, /not an alarm or incident id/],
+    [{ type: 'acknowledge', id: 1, alarm: 'clip/ch0\u0007' }, /not an alarm or incident id/],
+    [{ type: 'shelve', id: 1, alarm: 'clip/ch0', seconds: 0 }, /seconds/],
     [{ type: 'get-status', id: 1, extra: true }, /unknown field 'extra'/],
   ])('refuses %j as bad-message, naming the problem', (m, why) => {
     const r = ok(m);

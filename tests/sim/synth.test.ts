@@ -98,7 +98,7 @@ print(json.dumps([float((len(frac) - 1) / ((frac[-1] - frac[0]) / ${fs}))]))`,
     const x = render(step, 32 * fs);
     expect(x.subarray(0, fs).every((v) => v === 0)).toBe(true);
     expect(x.subarray(31 * fs).every((v) => v === 0)).toBe(true);
-    // Band RMS = sqrt(Σ psd·binHz) over 200 ≤ f ≤ 1200 (the DESIGN.md band rule), psd from scipy.signal.welch.
+    // Band RMS = sqrt(Σ psd·binHz) over 200 ≤ f ≤ 1200 (the band rule of docs/ARCHITECTURE.md), psd from scipy.signal.welch.
     const [rms] = welch(x.subarray(fs, 31 * fs), fs, 'nperseg=4096', 'np.sqrt(np.sum(p[(f >= 200) & (f <= 1200)]) * (f[1] - f[0])),');
     expect(rms / (D * Math.sqrt(1000))).toBeGreaterThan(0.97);
     expect(rms / (D * Math.sqrt(1000))).toBeLessThan(1.03);

@@ -39,8 +39,13 @@ wavfile.write(args[0], args[1], (1e-3 * rng.standard_normal((30 * args[1], 2))).
       }
     });
   });
-  await new Promise((r) => setTimeout(r, 4000)); // 40 s of sample time at 10×: a minute row begins, 1 s rows committed
-}, 60_000);
+  // Wait until at least 25 one-second rows of ch0 are committed (about 3 s at 10×, longer on a loaded machine).
+  for (let i = 0; i < 120; i++) {
+    const r = spawnSync(process.execPath, [bin, 'trend', '--store', store, '--channel', 'ch0', '--every', '1s', '--json'], { encoding: 'utf8' });
+    if (r.status === 0 && (JSON.parse(r.stdout) as { series: { rows: unknown[] }[] }).series[0]?.rows.length >= 25) break;
+    await new Promise((res) => setTimeout(res, 500));
+  }
+}, 120_000);
 
 afterAll(async () => {
   agent.kill('SIGTERM');

@@ -118,7 +118,7 @@ result = [r[0] for r in sqlite3.connect(args[0]).execute('select text from notes
     expect(existsSync(join(data, 'floorline.sqlite.lock'))).toBe(false);
   }, 60_000);
 
-  it('hostile note text is stored and returned as text by `floorline note` and `floorline incidents`', async () => {
+  it('hostile note text from `floorline note` is stored exactly, as text (read back with python sqlite3); control characters are refused', async () => {
     const store = join(dir, 'notes.sqlite');
     expect(floorline('replay', wav, '--speed', 'max', '--no-server', '--quiet', '--store', store).status).toBe(0);
     const hostile = [`'); DROP TABLE notes; --`, `Robert"); DELETE FROM trend_1s; --`, 'line one\nline two\ttabbed', '%s %d ${x} `cmd` \\ 🙂 \u202e'];
@@ -181,7 +181,7 @@ result = sqlite3.connect(args[0]).execute('select count(*) from accounts').fetch
       let out = '';
       child.stdout!.setEncoding('utf8').on('data', (t: string) => (out += t));
       await new Promise<void>((resolve, reject) => {
-        const timer = setTimeout(() => reject(new Error(`no recovery within 40 s: ${err}`)), 40_000);
+        const timer = setTimeout(() => reject(new Error(`no recovery within 100 s: ${err}`)), 100_000);
         child.stderr!.setEncoding('utf8').on('data', (t: string) => {
           err += t;
           // The disk filled: give it room again (as an operator freeing space would); the writer retries.
@@ -209,5 +209,5 @@ result = [{"from": r[0], "to": r[1], "reason": r[2]} for r in sqlite3.connect(ar
     } finally {
       spawnSync('umount', [mnt]);
     }
-  }, 120_000);
+  }, 240_000);
 });

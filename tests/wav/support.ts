@@ -33,26 +33,44 @@ for line in sys.stdin:
 
 export class Python {
   private readonly child: ChildProcessWithoutNullStreams;
-  private readonly waiting: ((line: string) => void)[] = [];
+  private readonly waiting: { resolve: (line: string) => void; reject: (e: Error) => void }[] = [];
+  private stderr = '';
+  private failure: Error | undefined;
 
   constructor() {
     this.child = spawn('python3', ['-c', SERVER], { stdio: ['pipe', 'pipe', 'pipe'] });
-    createInterface({ input: this.child.stdout }).on('line', (line) => this.waiting.shift()?.(line));
+    createInterface({ input: this.child.stdout }).on('line', (line) => this.waiting.shift()?.resolve(line));
+    this.child.stderr.setEncoding('utf8').on('data', (text: string) => (this.stderr += text));
+    // A python that cannot start (no python3, no numpy/scipy) or dies fails every pending and later request at
+    // once with its own stderr, instead of leaving the test to hang until its timeout.
+    this.child.on('error', (e) => this.fail(`python3 could not start: ${e.message}`));
+    this.child.stdin.on('error', () => {}); // a write to a dead python: its exit handler reports why
+    this.child.on('exit', (code, signal) => this.fail(`python3 reference server exited (${signal ?? code})`));
+  }
+
+  private fail(what: string): void {
+    this.failure ??= new Error(`${what}${this.stderr ? `\n${this.stderr}` : ''}`);
+    for (const w of this.waiting.splice(0)) w.reject(this.failure);
   }
 
   /** Runs `code` (which sets `result`) with `args`; resolves to result. Rejects with python's traceback. */
   run<T = unknown>(code: string, ...args: unknown[]): Promise<T> {
+    if (this.failure) return Promise.reject(this.failure);
     return new Promise((resolve, reject) => {
-      this.waiting.push((line) => {
-        const answer = JSON.parse(line);
-        if (answer.ok) resolve(answer.result as T);
-        else reject(new Error(answer.error));
+      this.waiting.push({
+        resolve: (line) => {
+          const answer = JSON.parse(line);
+          if (answer.ok) resolve(answer.result as T);
+          else reject(new Error(answer.error));
+        },
+        reject,
       });
       this.child.stdin.write(JSON.stringify({ code, args }) + '\n');
     });
   }
 
   close(): void {
+    this.child.removeAllListeners('exit');
     this.child.stdin.end();
   }
 }

@@ -1,12 +1,12 @@
-// `floorline analyze FILE`: offline report of a whole recording (DESIGN.md "analyze --json output").
+// `floorline analyze FILE`: offline report of a whole recording (docs/ARCHITECTURE.md "analyze --json").
 import { threadsFlag } from './threads-flag.ts';
 import { resolveThreads } from '../../workers/threads.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { UsageError } from '../usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import { createProgress } from '../progress.ts';
 import type { DetrendMode } from '../../../protocol/settings.ts';
 import { analyzeFile, reportToJson, validateSettings, type AnalyzeOptions, type AverageMode, type ClipSummary } from '../../analysis/report.ts';
-import { parseBand } from '../../analysis/bands.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 import { csvChunks } from '../../analysis/csv.ts';
 import { formatTextSummary } from '../../analysis/text-summary.ts';
 import { runLogFrequencyAnalysis } from '../../analysis/log-frequency-command.ts';

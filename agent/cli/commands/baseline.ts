@@ -1,15 +1,16 @@
 // `floorline baseline FILE -o BASELINE.json`: capture a baseline (averaged density, band powers, settling check)
 // from a recording, with the same analysis settings the live pipeline will use.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
-import { PIPELINE_FLAGS } from './pipeline-flags.ts';
+import { InputError, UsageError } from '../../errors.ts';
+import { PIPELINE_FLAGS } from './monitor-flags.ts';
 import type { AnalysisSettings, DetrendMode } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
 import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
 import { BaselineCapture } from '../../baseline/capture.ts';
 import { forEachFiniteRun } from '../../pipeline/conditioner.ts';
 import { writeBaseline } from '../../baseline/format.ts';
-import { defaultBands, parseBand } from '../../rules/default-bands.ts';
+import { defaultBands } from '../../rules/default-bands.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 
 const ANALYSIS_FLAG_NAMES = ['segment', 'window', 'overlap', 'detrend'];
 

@@ -2,20 +2,16 @@
 // baseline, with the dashboard served. `npm start` runs this.
 import { existsSync } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
-import { RECORDING_FLAGS, alarmDetectors, readMasks, readRecordingFlags } from './pipeline-flags.ts';
+import { InputError, UsageError } from '../../errors.ts';
+import { RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { rescaleBaselineForReplay } from '../../config/calibration.ts';
+import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { defaultRules } from '../../rules/rules.ts';
 import { readBaseline } from '../../baseline/format.ts';
-import { Pipeline } from '../../pipeline/pipeline.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
-import { serveDashboard } from '../../server/serve.ts';
-import type { Detector } from '../../pipeline/types.ts';
-import { startSession } from './session.ts';
-import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
-import { CalibratedSource, rescaleBaselineForReplay } from '../../config/calibration.ts';
-import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
+import { startMonitor } from '../../monitor/monitor.ts';
 
 /** recordings/ of the package (beside dist/ where the CLI is bundled, or beside agent/ when run from source). */
 export function bundledRecording(name: string): string {
@@ -42,47 +38,25 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     baseline = r.baseline;
     if (r.changed.length) process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
   }
-  const rec = readRecordingFlags(args);
-  let masks;
-  try {
-    masks = readMasks(undefined, rig?.config.masks);
-  } catch (err) {
-    throw new UsageError(`floorline demo: ${(err as Error).message}`);
-  }
-  // The baseline was taken with the default analysis settings, so the demo runs with them.
-  const pipeline = new Pipeline({ mode: 'lossless' });
   const loop = !(f['no-loop'] as boolean);
   const source = new ReplaySource(file, { speed, loop });
-  const fed = channels ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline demo: calibration: ${n}\n`)) : source;
   process.stdout.write(
     `floorline demo: replaying ${file} (an invented thermal-stand load-cell rig; see recordings/README.md)\n` +
       `  ${speed === 1 ? 'in real time' : `at ${speed === 'max' ? 'full' : `${speed}×`} speed`}, ${loop ? 'looping' : 'once'}, ` +
       `against ${baseline ? 'recordings/demo-baseline.json' : 'no baseline'}; Ctrl-C stops it.\n`,
   );
-  let installed: Detector[] = [];
-  const session = await startSession({
-    command: 'demo',
-    notify: rig?.config.notify,
-    retention: rig?.config.retention,
-    pipeline,
-    source: fed,
-    dataDir: f.data as string,
-    record: rec.record,
-    recorder: rec.recorder,
-    statusEvery: rec.statusEvery,
-    quiet: f.quiet as boolean,
+  // The baseline was taken with the default analysis settings, so the demo runs with them (it has no analysis flags).
+  const options = await monitorOptionsFromFlags(args, 'demo', {
+    mode: 'lossless',
+    rig,
+    sourceLabel: file,
+    replay: source,
     frames: () => source.fileInfo?.frames,
-    detectors: (recorder) => (installed = alarmDetectors({ baseline, baselinePath, rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(), masks }, recorder)),
-    history: withSource(historyFromArgs(args, 'demo', f.data as string), file),
-    serve: f['no-server']
-      ? undefined
-      : serveDashboard({
-          pipeline, source: fed, args, replay: source, replayLoop: loop, detectors: () => installed,
-          baseline: baseline ? { file: 'recordings/demo-baseline.json', baseline } : undefined,
-        }),
+    baseline: baseline ? { baseline, where: baselinePath, label: 'recordings/demo-baseline.json' } : undefined,
   });
+  const monitor = await startMonitor(calibratedSource(source, rig, 'demo'), options);
   await source.done;
-  await session.finished;
+  await monitor.finished;
   return 0;
 }
 

@@ -1,26 +1,30 @@
 // `floorline replay FILE`: the live pipeline fed from a recording, at real time, N× or as fast as it goes.
 import { createWriteStream } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
-import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, alarmDetectors, readAlarmFlags, readPipelineFlags, readRecordingFlags } from './pipeline-flags.ts';
-import { Pipeline } from '../../pipeline/pipeline.ts';
+import { InputError, UsageError } from '../../errors.ts';
+import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
-import { startSession } from './session.ts';
-import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
-import type { Detector } from '../../pipeline/types.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
-import { serveDashboard } from '../../server/serve.ts';
-import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
-import { CalibratedSource } from '../../config/calibration.ts';
+import { startMonitor } from '../../monitor/monitor.ts';
+import type { MonitorPart } from '../../monitor/parts.ts';
+
+/** Writes every spectrum snapshot as one JSON line (--snapshots-out). */
+function snapshotWriter(path: string): MonitorPart {
+  const out = createWriteStream(path);
+  return {
+    name: 'snapshots-out',
+    onSnapshot: (s) => void out.write(snapshotToJsonLine(s) + '\n'),
+    close: () => new Promise<void>((r) => out.end(r)),
+  };
+}
 
 async function runReplay(args: ParsedArgs): Promise<number> {
   const [file] = args.positionals;
   const rig = readConfigFlag(args, replayCommand.flags);
   const f = args.flags;
-  const flags = readPipelineFlags(args, 'replay');
-  const rec = readRecordingFlags(args);
-  const alarms = await readAlarmFlags(args, 'replay', rig?.rules, rig?.config.masks);
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
     throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);
@@ -29,7 +33,6 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   if (f['start-sample'] !== undefined && f['start-time'] !== undefined) {
     throw new UsageError('floorline replay: give --start-sample or --start-time, not both.');
   }
-  const pipeline = new Pipeline({ analysis: flags.analysis, averaging: flags.averaging, snapshotRate: flags.snapshotRate, mode: 'lossless' });
   const source = new ReplaySource(file, {
     speed,
     loop: f.loop as boolean,
@@ -38,34 +41,18 @@ async function runReplay(args: ParsedArgs): Promise<number> {
     startTime: f['start-time'] as number | undefined,
     scale: f.scale as number | undefined,
   });
-  const channels = rig?.config.channels;
-  const fed = channels ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline replay: calibration: ${n}\n`)) : source;
-  const snapOut = f['snapshots-out'] ? createWriteStream(f['snapshots-out'] as string) : undefined;
-  if (snapOut) pipeline.on('snapshot', (s) => snapOut.write(snapshotToJsonLine(s) + '\n'));
-
-  let session;
-  let installed: Detector[] = [];
+  const snapshotsOut = f['snapshots-out'] as string | undefined;
+  const options = await monitorOptionsFromFlags(args, 'replay', {
+    mode: 'lossless',
+    rig,
+    sourceLabel: file,
+    replay: source,
+    frames: () => source.fileInfo?.frames,
+    parts: snapshotsOut ? [snapshotWriter(snapshotsOut)] : [],
+  });
+  let monitor;
   try {
-    session = await startSession({
-      command: 'replay',
-    notify: rig?.config.notify,
-    retention: rig?.config.retention,
-      pipeline,
-      source: fed,
-      dataDir: flags.data,
-      record: rec.record,
-      recorder: rec.recorder,
-      statusEvery: rec.statusEvery,
-      quiet: f.quiet as boolean,
-      frames: () => source.fileInfo?.frames,
-      detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
-      serve: f['no-server'] ? undefined : serveDashboard({
-        pipeline, source: fed, args, replay: source, replayLoop: f.loop as boolean, detectors: () => installed,
-        baseline: alarms.baseline && alarms.baselinePath ? { file: alarms.baselinePath, baseline: alarms.baseline } : undefined,
-      }),
-      eventsOut: alarms.eventsOut,
-      history: withSource(historyFromArgs(args, 'replay', flags.data, file), file, alarms.rules.band.bands),
-    });
+    monitor = await startMonitor(calibratedSource(source, rig, 'replay'), options);
   } catch (err) {
     const e = err as Error & { exitCode?: number };
     if (e instanceof UsageError) throw err;
@@ -73,12 +60,8 @@ async function runReplay(args: ParsedArgs): Promise<number> {
     throw new InputError(`floorline replay: cannot replay ${file}: ${e.message}`);
   }
   for (const w of source.fileInfo?.warnings ?? []) process.stderr.write(`floorline replay: warning: ${w}\n`);
-  try {
-    await source.done;
-    await session.finished;
-  } finally {
-    if (snapOut) await new Promise<void>((r) => snapOut.end(r));
-  }
+  await source.done;
+  await monitor.finished;
   return 0;
 }
 

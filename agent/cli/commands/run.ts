@@ -1,17 +1,13 @@
 // `floorline run --port PATH`: live from a board over USB serial (binary framed or text), through the pipeline,
 // with alarms, event log, recording and the dashboard.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { UsageError } from '../usage-error.ts';
-import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, alarmDetectors, readAlarmFlags, readPipelineFlags, readRecordingFlags } from './pipeline-flags.ts';
-import { Pipeline } from '../../pipeline/pipeline.ts';
+import { UsageError } from '../../errors.ts';
+import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
+import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { SerialSource } from '../../sources/serial.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
-import { serveDashboard } from '../../server/serve.ts';
-import type { Detector } from '../../pipeline/types.ts';
-import { startSession } from './session.ts';
-import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
-import { CalibratedSource } from '../../config/calibration.ts';
-import { HISTORY_FLAGS, historyFromArgs, withSource } from '../../store/cli-flags.ts';
+import { startMonitor } from '../../monitor/monitor.ts';
 
 async function runLive(args: ParsedArgs): Promise<number> {
   const rig = readConfigFlag(args, runCommand.flags);
@@ -22,17 +18,13 @@ async function runLive(args: ParsedArgs): Promise<number> {
   if (format === 'text' && f.rate === undefined) {
     throw new UsageError('floorline run: --format text needs --rate HZ (a text board sends no descriptor), e.g. --rate 1000.');
   }
-  const flags = readPipelineFlags(args, 'run');
-  const rec = readRecordingFlags(args);
-  const alarms = await readAlarmFlags(args, 'run', rig?.rules, rig?.config.masks);
-  const pipeline = new Pipeline({
-    analysis: flags.analysis,
-    averaging: flags.averaging,
-    snapshotRate: flags.snapshotRate,
+  const options = await monitorOptionsFromFlags(args, 'run', {
     mode: 'bounded',
+    rig,
+    sourceLabel: port,
     queueCapacity: f.queue as number,
+    durationSeconds: f.duration as number | undefined,
   });
-  const quiet = f.quiet as boolean;
   const serial = new SerialSource({
     port,
     baudRate: f.baud as number,
@@ -42,39 +34,8 @@ async function runLive(args: ParsedArgs): Promise<number> {
     scale: f.scale as number,
     log: (line) => process.stderr.write(`floorline run: ${line}\n`),
   });
-  const channels = rig?.config.channels;
-  const source = channels ? new CalibratedSource(serial, channels, (n) => process.stderr.write(`floorline run: calibration: ${n}\n`)) : serial;
-  let installed: Detector[] = [];
-  const session = await startSession({
-    command: 'run',
-    notify: rig?.config.notify,
-    retention: rig?.config.retention,
-    pipeline,
-    source,
-    dataDir: flags.data,
-    record: rec.record,
-    recorder: rec.recorder,
-    statusEvery: rec.statusEvery,
-    quiet,
-    detectors: (recorder) => (installed = alarmDetectors(alarms, recorder)),
-    eventsOut: alarms.eventsOut,
-    history: withSource(historyFromArgs(args, 'run', flags.data), port, alarms.rules.band.bands),
-    serve: f['no-server']
-      ? undefined
-      : serveDashboard({
-          pipeline, source, args, detectors: () => installed,
-          baseline: alarms.baseline && alarms.baselinePath ? { file: alarms.baselinePath, baseline: alarms.baseline } : undefined,
-        }),
-  });
-  const duration = f.duration as number | undefined;
-  if (duration !== undefined) {
-    // Stop after this much sample time (the wall clock plays no part).
-    pipeline.on('block', (b) => {
-      const rate = pipeline.stream?.sampleRate ?? 0;
-      if (rate && b.firstSample + b.frames >= (pipeline.stream!.firstSample) + duration * rate) void session.stop();
-    });
-  }
-  await session.finished;
+  const monitor = await startMonitor(calibratedSource(serial, rig, 'run'), options);
+  await monitor.finished;
   return 0;
 }
 

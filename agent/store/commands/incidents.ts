@@ -1,6 +1,6 @@
 // `floorline incidents`: incidents from the history store with settled and peak levels and notes.
 import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
-import { formatSi } from '../../analysis/si.ts';
+import { formatSi } from '../../../protocol/si.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForReading } from '../open-store.ts';
 import { incidentsCsv, queryIncidents, type IncidentView } from '../incident-query.ts';

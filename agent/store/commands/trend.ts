@@ -1,7 +1,7 @@
 // `floorline trend`: band RMS and floor density rows from the history store.
 import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
-import { UsageError } from '../../cli/usage-error.ts';
-import { parseBand } from '../../rules/default-bands.ts';
+import { UsageError } from '../../errors.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForReading } from '../open-store.ts';
 import { EVERY_CHOICES, queryTrend, type Every } from '../trend-query.ts';

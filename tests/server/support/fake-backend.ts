@@ -4,8 +4,9 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { FloorlineEvent } from '../../../protocol/events.ts';
 import type { StreamInfo } from '../../../protocol/stream.ts';
-import type { BackendStatus, BackendSubscriber, ServerBackend, ServerSnapshot, BaselineOverlay, AnalysisChange, AlarmRef } from '../../../agent/server/backend.ts';
-import { BackendRefusal } from '../../../agent/server/backend.ts';
+import type { BackendStatus, BackendSubscriber, ServerBackend, ServerSnapshot, BaselineOverlay, AnalysisChange } from '../../../agent/server/backend.ts';
+import { MonitorRefusal } from '../../../agent/monitor/refusal.ts';
+import { alarmId, bandId } from '../../../protocol/ids.ts';
 import { resolveInside } from '../../../agent/config/safe-path.ts';
 import type { RecordingState } from '../../../protocol/messages.ts';
 
@@ -28,7 +29,8 @@ export class FakeBackend implements ServerBackend {
   snapshotCount = 0;
   last: ServerSnapshot | null = null;
   events: FloorlineEvent[] = [];
-  acknowledged: AlarmRef[] = [];
+  acknowledged: string[] = [];
+  shelved: { alarm: string; seconds: number }[] = [];
   analysisChanges: AnalysisChange[] = [];
   recording: RecordingState = { state: 'off' };
   baselineOverlay: BaselineOverlay | null = null;
@@ -88,7 +90,7 @@ export class FakeBackend implements ServerBackend {
       [20, 2000],
       [2000, 4000],
     ].map(([low, high]) => ({
-      channel: c.name, low, high, rms: this.bandRms(low, high), baselineRms: null, deltaDb: null, thresholdDb: 3,
+      id: bandId(c.name, low, high), channel: c.name, low, high, rms: this.bandRms(low, high), baselineRms: null, deltaDb: null, thresholdDb: 3,
       state: 'no-baseline' as const, floorDensity: Math.sqrt(this.density()),
     })));
     return {
@@ -97,7 +99,7 @@ export class FakeBackend implements ServerBackend {
       channels: this.info.channels.map((c) => ({ name: c.name, unit: c.unit })),
       samples: this.sample + 1,
       t: (this.sample + 1) / this.sampleRate,
-      gaps: 0, lostSamples: 0, crcErrors: 3, droppedBlocks: 0,
+      gaps: 0, lostSamples: 0, crcErrors: 3, syncErrors: 0, nonfiniteFrames: 0, droppedBlocks: 0,
       recording: this.recording,
       replay: null,
       settings: { sampleRate: this.sampleRate, segment: this.segment, window: 'hann', overlap: 0.5, detrend: 'mean' },
@@ -105,7 +107,7 @@ export class FakeBackend implements ServerBackend {
       baseline: null,
       spectrumSample: this.last?.sample ?? null,
       bands,
-      alarms: [{ rule: 'band-rise', channel: 'ch0', band: [20, 2000], state: 'clear', acknowledged: false, sample: 0 }],
+      alarms: [{ id: alarmId({ rule: 'band-rise', channel: 'ch0', band: [20, 2000] }), rule: 'band-rise', channel: 'ch0', band: [20, 2000], state: 'clear', acknowledged: false, sample: 0 }],
     };
   }
 
@@ -155,11 +157,15 @@ export class FakeBackend implements ServerBackend {
   }
   setAnalysis(change: AnalysisChange): void {
     if (change.window === 'no-such-window') throw new RangeError(`window 'no-such-window' is not one of hann, rect`);
-    if (change.segment !== undefined && change.segment > 65536) throw new BackendRefusal('unsupported', 'segment above 65536 is not offered live');
+    if (change.segment !== undefined && change.segment > 65536) throw new MonitorRefusal('unsupported', 'segment above 65536 is not offered live');
     this.analysisChanges.push(change);
   }
-  acknowledge(ref: AlarmRef): boolean {
-    this.acknowledged.push(ref);
+  acknowledge(alarm: string): boolean {
+    this.acknowledged.push(alarm);
     return true;
+  }
+  shelve(alarm: string, seconds: number): { shelved: boolean; untilSample: number } {
+    this.shelved.push({ alarm, seconds });
+    return { shelved: true, untilSample: this.sample + Math.round(seconds * this.sampleRate) };
   }
 }

@@ -1,28 +1,50 @@
-// Flags shared by the commands that run the pipeline (run, replay, demo): analysis settings, averaging,
-// snapshot rate and the data folder. Parsed once here so the three commands accept the same spellings.
+// Flags shared by the commands that run a monitor (run, replay, demo): analysis settings, averaging, snapshot
+// rate, data folder, recording, alarms and the dashboard. monitorOptionsFromFlags is the one place where they
+// become a MonitorOptions, so the three commands accept the same spellings and mean the same by them.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
 import { readMaskFile, type MaskFile } from '../../analysis/mask-file.ts';
-import { UsageError } from '../usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
+import { DEFAULT_AVERAGING } from '../../../dsp/averaging.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
-import { AlarmHook } from '../../rules/alarm-hook.ts';
-import { parseBand } from '../../rules/default-bands.ts';
+import { parseBand } from '../../../protocol/bands.ts';
 import { defaultRules, loadRules, type RulesConfig } from '../../rules/rules.ts';
 import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
-import type { Detector } from '../../pipeline/types.ts';
-import type { Recorder } from '../../recorder/recorder.ts';
 import { parseWindowName } from '../../../dsp/windows.ts';
+import { MAX_SEGMENT, MIN_SEGMENT } from '../../../dsp/welch.ts';
+import type { MonitorOptions, PartSpec } from '../../monitor/options.ts';
+import { defaultAssetsDir, serverOptionsFromArgs } from '../../server/cli-flags.ts';
+import { serveDashboard } from '../../server/serve.ts';
+import { consolePart } from './console-part.ts';
+import type { LoadedRigConfig } from '../../config/rig-config.ts';
+import { CalibratedSource } from '../../config/calibration.ts';
+import type { Source } from '../../../protocol/stream.ts';
+import type { ReplaySource } from '../../sources/replay.ts';
+import { historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
-  { name: 'segment', kind: 'number', value: 'N', integer: true, min: 64, max: 1 << 20, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
+  { name: 'segment', kind: 'number', value: 'N', integer: true, min: MIN_SEGMENT, max: MAX_SEGMENT, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
   { name: 'window', kind: 'string', value: 'NAME', default: DEFAULT_ANALYSIS.window, help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA' },
   { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: DEFAULT_ANALYSIS.overlap, help: 'segment overlap fraction' },
   { name: 'detrend', kind: 'string', value: 'MODE', choices: ['none', 'mean', 'linear'], default: DEFAULT_ANALYSIS.detrend, help: 'detrend each segment' },
-  { name: 'average', kind: 'string', value: 'SPEC', default: 'exp:10', help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K' },
+  { name: 'average', kind: 'string', value: 'SPEC', default: averagingFlag(DEFAULT_AVERAGING), help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K' },
   { name: 'snapshot-rate', kind: 'number', value: 'N', min: 0.01, max: 1000, default: DEFAULT_SNAPSHOT_RATE, help: 'spectrum snapshots per second of sample time' },
   { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
 ];
+
+/** The --average spelling of an averaging (the inverse of parseAveraging). */
+export function averagingFlag(a: AveragingSpec): string {
+  switch (a.mode) {
+    case 'exponential':
+      return `exp:${a.tauSeconds}`;
+    case 'rolling':
+    case 'median':
+      return `${a.mode}:${a.count}`;
+    default:
+      return a.mode;
+  }
+}
 
 /** Parses an --average value; throws UsageError naming the flag and the accepted forms. */
 export function parseAveraging(raw: string, command: string): AveragingSpec {
@@ -68,7 +90,7 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
   const f = args.flags;
   const segment = f.segment as number;
   if ((segment & (segment - 1)) !== 0) {
-    throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`);
+    throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from ${MIN_SEGMENT} to ${MAX_SEGMENT}, e.g. --segment 4096.`);
   }
   let window: string;
   try {
@@ -130,6 +152,15 @@ export function readMasks(flag: string | undefined, config: Record<string, strin
   return Object.keys(out).length > 0 ? out : undefined;
 }
 
+/** A mask file that cannot be read is a usage error naming the command. */
+function masksOrUsage(command: string, read: () => Record<string, MaskFile> | undefined): Record<string, MaskFile> | undefined {
+  try {
+    return read();
+  } catch (err) {
+    throw new UsageError(`floorline ${command}: ${(err as Error).message}`);
+  }
+}
+
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
 export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig, configMasks?: Record<string, string>): Promise<AlarmFlagValues> {
   const f = args.flags;
@@ -144,24 +175,76 @@ export async function readAlarmFlags(args: ParsedArgs, command: string, configRu
   if (bands.length) rules.band.bands = bands;
   const baselinePath = f.baseline as string | undefined;
   const baseline = baselinePath ? await readBaseline(baselinePath) : undefined;
-  let masks: Record<string, MaskFile> | undefined;
-  try {
-    masks = readMasks(f.mask as string | undefined, configMasks);
-  } catch (err) {
-    throw new UsageError(`floorline ${command}: ${(err as Error).message}`);
-  }
+  const masks = masksOrUsage(command, () => readMasks(f.mask as string | undefined, configMasks));
   return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined, masks };
 }
 
-/** The alarm detectors, asking the recorder (when there is one) for a capture on each raised alarm. */
-export function alarmDetectors(a: AlarmFlagValues, recorder: Recorder | undefined): Detector[] {
-  return [
-    new AlarmHook({
-      baseline: a.baseline,
-      baselineWhere: a.baselinePath,
-      rules: a.rules,
-      masks: a.masks,
-      capture: recorder ? (sample, label) => recorder.capture(sample, label).file : undefined,
-    }),
-  ];
+export interface CommandWiring {
+  mode: MonitorOptions['mode'];
+  /** The --config file, read first thing by the command (it fills flags the command line left out). */
+  rig?: LoadedRigConfig;
+  /** What feeds the monitor, kept with each run in the history store (port path or recording). */
+  sourceLabel: string;
+  /** The replay behind the source (for status and a replay's own history store name). */
+  replay?: ReplaySource;
+  queueCapacity?: number;
+  durationSeconds?: number;
+  /** A baseline the command brings itself (demo); else --baseline when the command has it. */
+  baseline?: MonitorOptions['baseline'];
+  /** Frames in the file, for a replay's header. */
+  frames?: () => number | undefined;
+  /** Parts of this command only, attached after the terminal report and before the server. */
+  parts?: PartSpec[];
+}
+
+const has = (args: ParsedArgs, name: string): boolean => Object.hasOwn(args.flags, name);
+
+/**
+ * Turns the parsed flags of run, replay or demo into the options of one monitor. Flags a command does not
+ * declare take the defaults (demo has no analysis or alarm flags: its baseline was taken with the defaults).
+ */
+export async function monitorOptionsFromFlags(args: ParsedArgs, command: string, w: CommandWiring): Promise<MonitorOptions> {
+  const f = args.flags;
+  const pipeline = has(args, 'segment')
+    ? readPipelineFlags(args, command)
+    : { analysis: DEFAULT_ANALYSIS, averaging: DEFAULT_AVERAGING, snapshotRate: DEFAULT_SNAPSHOT_RATE, data: f.data as string };
+  const rig = w.rig;
+  const alarms: AlarmFlagValues = has(args, 'band')
+    ? await readAlarmFlags(args, command, rig?.rules, rig?.config.masks)
+    : { rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(), masks: masksOrUsage(command, () => readMasks(undefined, rig?.config.masks)) };
+  // demo has no --band: the config's bands still apply (its analysis settings do not: they stay the baseline's).
+  if (!has(args, 'band') && rig?.config.bands?.length) alarms.rules.band.bands = rig.config.bands.map(parseBand);
+  const rec = readRecordingFlags(args);
+  const baseline = w.baseline ?? (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
+  const quiet = f.quiet as boolean;
+  const parts: PartSpec[] = [consolePart({ quiet, statusEvery: rec.statusEvery, frames: w.frames }), ...(w.parts ?? [])];
+  if (!f['no-server']) parts.push(serveDashboard(serverOptionsFromArgs(args, defaultAssetsDir())));
+  return {
+    command,
+    analysis: pipeline.analysis,
+    averaging: pipeline.averaging,
+    snapshotRate: pipeline.snapshotRate,
+    mode: w.mode,
+    queueCapacity: w.queueCapacity,
+    dataDir: pipeline.data,
+    record: rec.record,
+    recorder: rec.recorder,
+    rules: alarms.rules,
+    baseline,
+    eventsOut: alarms.eventsOut,
+    durationSeconds: w.durationSeconds,
+    history: withSource(historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path), w.sourceLabel, alarms.rules.band.bands),
+    rig,
+    notify: rig?.config.notify,
+    retention: rig?.config.retention,
+    masks: alarms.masks,
+    replay: w.replay,
+    parts,
+  };
+}
+
+/** The source as the monitor sees it: calibrated by the rig config's channels when it has any. */
+export function calibratedSource(source: Source, rig: LoadedRigConfig | undefined, command: string): Source {
+  const channels = rig?.config.channels;
+  return channels ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline ${command}: calibration: ${n}\n`)) : source;
 }

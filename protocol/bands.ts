@@ -1,11 +1,12 @@
-// --band LO:HI parsing: a band is in Hz, 0 ≤ LO < HI ≤ Nyquist.
+// The text form of a band, LO:HI in Hz with 0 ≤ LO < HI ≤ Nyquist: --band, the rig config's bands, the rules
+// file and the trend API all read it with this one parser.
 export interface Band {
   low: number;
   high: number;
 }
 
 /** Parses "LO:HI"; throws RangeError with a sentence naming the band and the fix. */
-export function parseBand(text: string, nyquist: number): Band {
+export function parseBand(text: string, nyquist = Infinity): Band {
   const parts = text.split(':');
   const low = parts.length === 2 && parts[0].trim() !== '' ? Number(parts[0]) : NaN;
   const high = parts.length === 2 && parts[1].trim() !== '' ? Number(parts[1]) : NaN;
