@@ -10,6 +10,8 @@ import { WaterfallView } from './views/waterfall.ts';
 import { BandTable } from './views/band-table.ts';
 import { EventList } from './views/event-list.ts';
 import { IncidentPanel } from './views/incident-panel.ts';
+import { TimelineView, pickSeries, trendUrl, type TimelineQuery } from './views/timeline.ts';
+import type { TrendReply } from '../protocol/trend.ts';
 import type { IncidentsReply } from '../protocol/incidents.ts';
 import { TraceView } from './views/trace.ts';
 import { HealthStrip } from './views/health.ts';
@@ -35,6 +37,7 @@ export class App {
     shelve: (_ids, seconds, incident) => this.forEachAlarm([incident], (alarm) => ({ type: 'shelve', alarm, seconds }), `shelved for ${seconds / 60} min`),
     note: (text, incident) => this.addNote(text, incident),
   }, (ch) => this.context?.channels.find((c) => c.name === ch)?.unit ?? 'V');
+  readonly timeline = new TimelineView($('timeline'), $('timeline-info'));
   /** /api/incidents answered (false: no history store on this agent, so the panel says so). */
   incidentsAvailable = true;
   readonly health = new HealthStrip($('health'), $('replay-banner'));
@@ -47,6 +50,7 @@ export class App {
   spectraApplied = 0;
   private pendingBaseline: ArrayBuffer | null = null;
   private baselineFrame: DecodedFrame | null = null;
+  private timelineStarted = false;
   /** The spectrum panel shows the log-frequency view (exports follow what is shown). */
   private logfMode = false;
   private contextShownAt = -Infinity;
@@ -86,6 +90,10 @@ export class App {
       }
     });
     setInterval(() => void this.refreshIncidents(), 2000);
+    for (const id of ['timeline-channel', 'timeline-what', 'timeline-span']) $(id).addEventListener('change', () => void this.refreshTimeline());
+    $('timeline-channel').addEventListener('change', () => this.fillTimelineChoices());
+    $('timeline-csv').addEventListener('click', () => download('floorline-timeline.csv', this.timeline.csv(), 'text/csv'));
+    setInterval(() => void this.refreshTimeline(), 10_000);
     $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) => this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'));
     $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
@@ -171,6 +179,10 @@ export class App {
     const sel = $<HTMLSelectElement>('waterfall-channel');
     sel.replaceChildren(...ctx.channels.map((c, i) => new Option(c.name, String(i))));
     this.waterfall.channel = 0;
+    const tl = $<HTMLSelectElement>('timeline-channel');
+    const keepCh = tl.value;
+    tl.replaceChildren(...ctx.channels.map((c) => new Option(c.name, c.name)));
+    if (ctx.channels.some((c) => c.name === keepCh)) tl.value = keepCh;
     this.controls.showContext(ctx);
     this.budget.sampleRate = ctx.settings.sampleRate;
     this.budget.recompute();
@@ -205,6 +217,12 @@ export class App {
     this.spectrum.setMains(s.mainsHz);
     this.events.markAcknowledged(s.alarms);
     this.controls.showStatus(s);
+    const firstBands = !this.timelineStarted && s.bands.length > 0;
+    this.fillTimelineChoices();
+    if (firstBands) {
+      this.timelineStarted = true;
+      void this.refreshTimeline();
+    }
   }
 
   /** The incidents from the agent's history store (the same JSON as `floorline incidents --json`). */
@@ -221,6 +239,45 @@ export class App {
       this.incidents.update(body.incidents, this.status?.t ?? 0);
       const open = body.incidents.filter((i) => !i.end).length;
       $('incidents-context').textContent = `${body.incidents.length} incident${body.incidents.length === 1 ? '' : 's'}, ${open} open · one row per fault; its alarms are folded under it`;
+    } catch {
+      /* the link state shows a lost agent */
+    }
+  }
+
+  private timelineQuery(): TimelineQuery {
+    return {
+      channel: $<HTMLSelectElement>('timeline-channel').value,
+      what: $<HTMLSelectElement>('timeline-what').value || 'floor',
+      span: ($<HTMLSelectElement>('timeline-span').value || 'hour') as TimelineQuery['span'],
+    };
+  }
+
+  /** Band choices of the timeline's channel (from the band rows), keeping the current choice when it is still there. */
+  private fillTimelineChoices(): void {
+    const ch = $<HTMLSelectElement>('timeline-channel').value;
+    const sel = $<HTMLSelectElement>('timeline-what');
+    const keep = sel.value;
+    const bands = (this.status?.bands ?? []).filter((b) => b.channel === ch);
+    const opts = [new Option('floor density', 'floor'), ...bands.map((b) => new Option(`band RMS ${b.low.toPrecision(4)}–${b.high.toPrecision(4)} Hz`, `${b.low}:${b.high}`))];
+    if (sel.options.length === opts.length && [...sel.options].every((o, k) => o.value === opts[k].value)) return;
+    sel.replaceChildren(...opts);
+    if ([...sel.options].some((o) => o.value === keep)) sel.value = keep;
+  }
+
+  /** Trend rows for the chosen channel, band and span, downsampled by the store to the chart's width. */
+  async refreshTimeline(): Promise<void> {
+    const q = this.timelineQuery();
+    if (!q.channel) return;
+    try {
+      const sampleNow = this.status?.replay ? this.status.t : null;
+      const r = await fetch(trendUrl(q, $('timeline').clientWidth || 800, sampleNow), { credentials: 'same-origin' });
+      if (!r.ok) {
+        $('timeline-info').textContent = `no history on this agent (${r.status})`;
+        return;
+      }
+      const reply = (await r.json()) as TrendReply;
+      const idx = this.context?.channels.findIndex((c) => c.name === q.channel) ?? 0;
+      this.timeline.show(pickSeries(reply, q), this.incidents.incidents.filter((i) => i.channel === q.channel), Math.max(0, idx));
     } catch {
       /* the link state shows a lost agent */
     }

@@ -1,7 +1,7 @@
 // The `--log-frequency` branch of `floorline analyze`: checks the flags that do not apply, runs the
 // log-frequency report and prints it as JSON, CSV or text. Kept apart so analyze.ts only dispatches.
 import type { ParsedArgs } from '../cli/args.ts';
-import { InputError, UsageError } from '../cli/usage-error.ts';
+import { InputError, UsageError } from '../errors.ts';
 import type { AnalyzeOptions } from './report.ts';
 import { analyzeLogFrequency, logFrequencyToCsv, logFrequencyToJson, logFrequencyToText } from './log-frequency-report.ts';
 

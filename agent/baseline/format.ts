@@ -2,7 +2,7 @@
 // number of averages and band powers, the capture span in sample time, the settling check and free-text notes.
 import { readFile, writeFile } from 'node:fs/promises';
 import { firstSettingMismatch, settingsHash, type AnalysisSettings } from '../../protocol/settings.ts';
-import { InputError } from '../cli/usage-error.ts';
+import { InputError } from '../errors.ts';
 
 export const BASELINE_SCHEMA = 'floorline.baseline/1';
 

@@ -1,6 +1,6 @@
 // Declarative flag parsing for the subcommands: every flag is declared once with its type and help,
 // so unknown flags and bad values are refused with a message naming the flag and the fix.
-import { UsageError } from './usage-error.ts';
+import { UsageError } from '../errors.ts';
 
 export type FlagKind = 'string' | 'number' | 'boolean' | 'list';
 

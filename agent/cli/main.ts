@@ -3,6 +3,7 @@ import { formatHelp, parseArgs, type CommandSpec } from './args.ts';
 import { commands } from './commands.ts';
 import { printable } from '../../protocol/limits.ts';
 import { installStructuredLogs, structuredLogsWanted } from '../service/log-lines.ts';
+import { FloorlineError } from '../errors.ts';
 
 /** The long-running commands, whose output becomes JSON lines under a service manager. */
 const SERVICE_COMMANDS = ['run', 'replay', 'demo'];
@@ -32,9 +33,11 @@ export async function main(argv: string[]): Promise<number> {
     return await spec.run(parseArgs(spec, rest));
   } catch (err) {
     const e = err as Error & { exitCode?: number };
-    if (e && typeof e.exitCode === 'number') {
+    // FloorlineError (agent/errors.ts) is the one error type for the user; a few errors from parts still carry a
+    // bare exitCode (they are converted as they are touched).
+    if (err instanceof FloorlineError || (e && typeof e.exitCode === 'number')) {
       process.stderr.write(`${printable(e.message)}\n`);
-      return e.exitCode;
+      return e.exitCode!;
     }
     throw err;
   }

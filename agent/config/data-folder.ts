@@ -3,6 +3,7 @@
 import { mkdirSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { resolveInside } from './safe-path.ts';
+import { FloorlineError } from '../errors.ts';
 
 export const DEFAULT_DATA_FOLDER = './floorline-data';
 
@@ -34,10 +35,7 @@ export function ensureDataFolder(folder: DataFolder): DataFolder {
       mkdirSync(d, { recursive: true });
     } catch (err) {
       const e = err as NodeJS.ErrnoException;
-      throw Object.assign(
-        new Error(`cannot create data folder ${d} (${e.code ?? e.message}); pick a writable place with --data DIR`),
-        { exitCode: 2, code: e.code },
-      );
+      throw new FloorlineError('DATA_FOLDER', `cannot create data folder ${d} (${e.code ?? e.message}); pick a writable place with --data DIR`);
     }
   }
   return folder;

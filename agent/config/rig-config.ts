@@ -9,6 +9,7 @@ import schema from './rig-config.schema.json';
 import { parseBand } from '../../protocol/bands.ts';
 import { parseRules, type RulesConfig } from '../rules/rules.ts';
 import { parseWindowName } from '../../dsp/windows.ts';
+import { FloorlineError } from '../errors.ts';
 
 export type NotifyState = 'raised' | 'settled' | 'cleared';
 
@@ -67,9 +68,11 @@ export interface LoadedRigConfig {
 }
 
 /** A config that does not validate: exit 2, the message names the JSON path and the fix. */
-export class ConfigError extends Error {
+export class ConfigError extends FloorlineError {
   override readonly name = 'ConfigError';
-  readonly exitCode = 2;
+  constructor(message: string) {
+    super('RIG_CONFIG', message);
+  }
 }
 
 export const RIG_CONFIG_SCHEMA = schema;

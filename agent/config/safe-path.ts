@@ -2,11 +2,13 @@
 // `../` escapes, absolute paths elsewhere, and symbolic links whose target lies outside the root.
 import { existsSync, realpathSync } from 'node:fs';
 import { dirname, isAbsolute, relative, resolve, sep } from 'node:path';
+import { FloorlineError } from '../errors.ts';
 
-export class PathOutsideError extends Error {
+export class PathOutsideError extends FloorlineError {
   override readonly name = 'PathOutsideError';
-  readonly exitCode = 2;
-  readonly code = 'PATH_OUTSIDE_DATA_FOLDER';
+  constructor(message: string) {
+    super('PATH_OUTSIDE_DATA_FOLDER', message);
+  }
 }
 
 function isInside(root: string, candidate: string): boolean {

@@ -7,7 +7,7 @@
 import { closeSync, fstatSync, ftruncateSync, mkdirSync, openSync, readSync, renameSync, rmSync, writeSync } from 'node:fs';
 import { dirname } from 'node:path';
 import { eventToJsonLine, type FloorlineEvent } from '../../protocol/events.ts';
-import { InputError } from '../cli/usage-error.ts';
+import { InputError } from '../errors.ts';
 
 export interface EventLogOptions {
   /** Bytes after which a target is rotated (default 16 MiB); Infinity = never. */

@@ -4,6 +4,7 @@ import type { StoreDb } from '../store/open-store.ts';
 import { queryTrend, type Every, type TrendSeries } from '../store/trend-query.ts';
 import { queryIncidents, type IncidentView } from '../store/incident-query.ts';
 import type { TimeBound } from '../store/time-bound.ts';
+import { FloorlineError } from '../errors.ts';
 
 export interface ReportData {
   runs: { id: number; command: string; source: string; sampleRate: number; startWall: string; settings: Record<string, unknown> }[];
@@ -19,14 +20,17 @@ export interface ReportData {
   unstored: { from: string; to: string; reason: string }[];
 }
 
-export class EmptySpanError extends Error {
-  readonly exitCode = 2;
+export class EmptySpanError extends FloorlineError {
+  override readonly name = 'EmptySpanError';
+  constructor(message: string) {
+    super('EMPTY_SPAN', message);
+  }
 }
 
 /** The coarsest resolution that still gives a few hundred points over the span. */
 function everyFor(spanMs: number): Every {
   if (spanMs <= 6 * 3600e3) return '1s';
-  if (spanMs <= 14 * 86400e3) return '1m';
+  if (spanMs <= 86400e3) return '1m';
   return '1h';
 }
 
@@ -34,9 +38,18 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
   const runs = (db.prepare('SELECT id, command, source, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
     id: number; command: string; source: string; sample_rate: number; start_wall: string; settings: string;
   }[]).map((r) => ({ id: r.id, command: r.command, source: r.source, sampleRate: r.sample_rate, startWall: r.start_wall, settings: JSON.parse(r.settings) }));
-  // First pass at 1 h to find the span's extent cheaply, then the resolution that suits it.
-  const coarse = queryTrend(db, { from, to, every: '1m', quantities: ['bandRms'], points: 2 });
-  const rows = coarse.series.flatMap((s) => s.rows.filter((r) => !r.gap));
+  // The span's extent from one series at the coarsest level that has rows (bounded memory for months), then the
+  // resolution that suits it.
+  const first = db.prepare("SELECT channel FROM series WHERE quantity = 'bandRms' ORDER BY id LIMIT 1").get() as { channel: string } | undefined;
+  let rows: { wallTime: string }[] = [];
+  let rowMs = 1e3;
+  for (const [every, ms] of [['1h', 3600e3], ['1m', 60e3], ['1s', 1e3]] as const) {
+    if (!first) break;
+    const probe = queryTrend(db, { channel: first.channel, from, to, every, quantities: ['bandRms'] });
+    rows = probe.series.flatMap((s) => s.rows.filter((r) => !r.gap));
+    rowMs = ms;
+    if (rows.length) break;
+  }
   const incidents = queryIncidents(db, from, to);
   // An incident still open at the end of the store overlaps every later span: it alone does not make data.
   const startsInside = incidents.filter((i) => (!from || (from.kind === 'wall' ? Date.parse(i.start.wallTime) >= from.ms : i.start.t >= from.seconds)));
@@ -44,11 +57,16 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     throw new EmptySpanError('floorline report: the store holds no trend rows and no incidents in this span; widen --from/--to (see `floorline trend --every 1h`).');
   }
   const walls = rows.map((r) => Date.parse(r.wallTime));
-  const fromMs = from?.kind === 'wall' ? from.ms : Math.min(...walls, ...incidents.map((i) => Date.parse(i.start.wallTime)));
-  const toMs = to?.kind === 'wall' ? to.ms : Math.max(...walls.map((w) => w + 60e3), ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)));
+  let fromMs = from?.kind === 'wall' ? from.ms : Math.min(...walls, ...incidents.map((i) => Date.parse(i.start.wallTime)));
+  let toMs = to?.kind === 'wall' ? to.ms : Math.max(...walls.map((w) => w + rowMs), ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)));
   const every = everyFor(toMs - fromMs);
   const trend = queryTrend(db, { from, to, every, points: 1500 });
   const ts = trend.series.flatMap((s) => s.rows.map((r) => r.t));
+  // Without wall bounds, the extent is where the chosen resolution has rows (the coarse probe rounds to its level).
+  const fine = trend.series.flatMap((s) => s.rows.filter((r) => !r.gap).map((r) => Date.parse(r.wallTime)));
+  const step = { '1s': 1e3, '1m': 60e3, '1h': 3600e3 }[every];
+  if (fine.length && from?.kind !== 'wall') fromMs = Math.min(fine.reduce((a, b) => Math.min(a, b)), ...incidents.map((i) => Date.parse(i.start.wallTime)));
+  if (fine.length && to?.kind !== 'wall') toMs = Math.max(fine.reduce((a, b) => Math.max(a, b)) + step, ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)));
   const notes = (db.prepare('SELECT text, wall_time, t, incident FROM notes ORDER BY id').all() as { text: string; wall_time: string; t: number | null; incident: string | null }[])
     .map((n) => ({ text: n.text, wallTime: n.wall_time, t: n.t, incident: n.incident }))
     .filter((n) => Date.parse(n.wallTime) >= fromMs - 1 && Date.parse(n.wallTime) <= toMs + 1);

@@ -4,7 +4,7 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, writeFileSync } from 'node:fs';
 import { resolve } from 'node:path';
 import type { CommandSpec, ParsedArgs } from '../cli/args.ts';
-import { InputError, UsageError } from '../cli/usage-error.ts';
+import { InputError, UsageError } from '../errors.ts';
 import { storePathFromArgs } from '../store/cli-flags.ts';
 import { openStoreForReading } from '../store/open-store.ts';
 import { SPAN_FLAGS, STORE_SOURCE_FLAGS, readSpan } from '../store/commands/query-flags.ts';

@@ -11,7 +11,7 @@ import { IncidentBook, type IncidentRecord, type Member } from './incidents.ts';
 import type { EventRule, FloorlineEvent } from '../../protocol/events.ts';
 import { firstSettingMismatch, type AnalysisSettings } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
-import { InputError } from '../cli/usage-error.ts';
+import { InputError } from '../errors.ts';
 import { maskOnBins, type LimitMask } from '../../dsp/measure/limit-mask.ts';
 import { LimitDetector } from './limit-detector.ts';
 import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';

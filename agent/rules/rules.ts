@@ -4,7 +4,7 @@ import { readFile } from 'node:fs/promises';
 import type { BandSpec } from '../../dsp/detection/band-compare.ts';
 import type { AlarmTiming } from '../../dsp/detection/alarm-state.ts';
 import type { MainsSetting } from '../../dsp/detection/mains.ts';
-import { InputError } from '../cli/usage-error.ts';
+import { InputError } from '../errors.ts';
 import { parseBand } from '../../protocol/bands.ts';
 
 export interface TimingSeconds {

@@ -2,6 +2,7 @@
 import type { ClientMessage, ReplyMessage, SpectrumContext, AgentStatus, WireError } from '../../protocol/messages.ts';
 import type { ServerBackend } from './backend.ts';
 import { MonitorRefusal } from '../monitor/refusal.ts';
+import { FloorlineError } from '../errors.ts';
 
 export interface ControlDeps {
   backend: ServerBackend;
@@ -14,8 +15,8 @@ export interface ControlDeps {
 
 function errorOf(err: unknown): WireError {
   if (err instanceof MonitorRefusal) return { code: err.code, message: err.message };
-  const e = err as Error & { code?: string };
-  if (e && e.code === 'PATH_OUTSIDE_DATA_FOLDER') return { code: 'path-refused', message: e.message };
+  if (err instanceof FloorlineError && err.code === 'PATH_OUTSIDE_DATA_FOLDER') return { code: 'path-refused', message: err.message };
+  const e = err as Error;
   if (err instanceof RangeError) return { code: 'bad-message', message: err.message };
   return { code: 'failed', message: e instanceof Error ? e.message : String(err) };
 }

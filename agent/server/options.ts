@@ -1,4 +1,5 @@
 // Server options, their safe defaults, and the rule that a bind wider than loopback needs a token.
+import { FloorlineError } from '../errors.ts';
 export const DEFAULT_HTTP_PORT = 8731;
 export const DEFAULT_HOST = '127.0.0.1';
 
@@ -42,9 +43,11 @@ export function connectionBudget(openFiles: number | undefined): number {
   return Math.max(4, Math.min(128, Math.floor(openFiles / 4)));
 }
 
-export class ServerConfigError extends Error {
+export class ServerConfigError extends FloorlineError {
   override readonly name = 'ServerConfigError';
-  readonly exitCode = 2;
+  constructor(message: string) {
+    super('SERVER_CONFIG', message);
+  }
 }
 
 const LOOPBACK = new Set(['127.0.0.1', 'localhost', '::1', '[::1]']);

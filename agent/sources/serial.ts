@@ -11,6 +11,7 @@ import { describeSpec, parsePortSpec, resolvePort, type PortSpec } from './port-
 import { SampleSequencer } from './sample-sequencer.ts';
 import { TextSequencer } from './text-sequencer.ts';
 import { LinkWatchdog } from './watchdog.ts';
+import { FloorlineError } from '../errors.ts';
 
 export interface SerialSourceOptions {
   /** Path, VID:PID, VID:PID:SERIAL or serial=SERIAL. */
@@ -32,9 +33,11 @@ export interface SerialSourceOptions {
 const DESCRIBE_REPEAT_MS = 1000;
 const TICK_MS = 250;
 
-export class SerialSourceError extends Error {
+export class SerialSourceError extends FloorlineError {
   override readonly name = 'SerialSourceError';
-  readonly exitCode = 2;
+  constructor(message: string) {
+    super('SERIAL', message);
+  }
 }
 
 export class SerialSource implements Source {

@@ -6,6 +6,7 @@ import { openStoreForReading, type StoreDb } from './open-store.ts';
 import { EVERY_CHOICES, queryTrend, type Every } from './trend-query.ts';
 import { queryIncidents } from './incident-query.ts';
 import { parseTimeBound, type TimeBound } from './time-bound.ts';
+import { FloorlineError } from '../errors.ts';
 
 export const DEFAULT_POINTS = 1000;
 export const MAX_POINTS = 10_000;
@@ -80,8 +81,8 @@ export function handleHistoryApi(path: string, url: URL, res: ServerResponse, he
     }
     send(res, 200, queryTrend(reader(storePath), { channel: param(url, 'channel', 64), band, from, to, every, points }), head);
   } catch (err) {
-    const e = err as Error & { exitCode?: number };
-    if (err instanceof BadParameter || e.exitCode === 2) send(res, 400, { error: { code: 'bad-query', message: e.message.replace(/^floorline trend: /, '') } }, head);
+    const e = err as Error;
+    if (err instanceof BadParameter || err instanceof FloorlineError) send(res, 400, { error: { code: 'bad-query', message: e.message.replace(/^floorline trend: /, '') } }, head);
     else send(res, 500, { error: { code: 'failed', message: e.message } }, head);
   }
   return true;

@@ -3,7 +3,7 @@
 // into the rig's; the demo (a replay of the bundled recording) keeps DATA/replays/demo.sqlite.
 import { basename, join, resolve } from 'node:path';
 import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
-import { UsageError } from '../cli/usage-error.ts';
+import { UsageError } from '../errors.ts';
 import { parseRetention } from './levels.ts';
 import type { Level } from './schema.ts';
 

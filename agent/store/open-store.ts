@@ -4,12 +4,15 @@
 import Database from 'better-sqlite3';
 import { closeSync, existsSync, openSync, readSync, renameSync, statSync } from 'node:fs';
 import { APPLICATION_ID, MIGRATIONS, SCHEMA_VERSION } from './schema.ts';
+import { FloorlineError } from '../errors.ts';
 
 export type StoreDb = Database.Database;
 
-export class StoreFileError extends Error {
+export class StoreFileError extends FloorlineError {
   override readonly name = 'StoreFileError';
-  readonly exitCode = 2;
+  constructor(message: string) {
+    super('STORE_FILE', message);
+  }
 }
 
 const SQLITE_MAGIC = 'SQLite format 3\u0000';

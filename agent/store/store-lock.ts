@@ -1,15 +1,15 @@
 // One writer per store: a lock file beside it holding the writer's PID. A second agent pointed at the same store
 // is refused with the first one's PID; a lock left by a process that no longer exists is taken over.
 import { closeSync, openSync, readFileSync, unlinkSync, writeSync } from 'node:fs';
+import { FloorlineError } from '../errors.ts';
 
-export class StoreLockedError extends Error {
+export class StoreLockedError extends FloorlineError {
   override readonly name = 'StoreLockedError';
-  readonly exitCode = 2;
   constructor(
     message: string,
     readonly pid: number,
   ) {
-    super(message);
+    super('STORE_LOCKED', message);
   }
 }
 

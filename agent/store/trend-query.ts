@@ -5,6 +5,7 @@
 import type { StoreDb } from './open-store.ts';
 import type { Level } from './schema.ts';
 import { boundSample, wallAt, type RunTiming, type TimeBound } from './time-bound.ts';
+import { FloorlineError } from '../errors.ts';
 
 export type Every = Exclude<Level, 'snap'>;
 export const EVERY_CHOICES: readonly Every[] = ['1s', '1m', '1h'];
@@ -44,9 +45,11 @@ export interface TrendResult {
   series: TrendSeries[];
 }
 
-export class TrendQueryError extends Error {
+export class TrendQueryError extends FloorlineError {
   override readonly name = 'TrendQueryError';
-  readonly exitCode = 2;
+  constructor(message: string) {
+    super('TREND_QUERY', message);
+  }
 }
 
 interface SeriesRow {

@@ -1,25 +1,14 @@
-// Errors of the WAV layer. Each carries a stable code and exit code 2, so the CLI prints the message (which names
-// the file and the fix) without a stack trace.
+// Errors of the WAV layer: the agent's FloorlineError with the WAV_ codes (agent/errors.ts, docs/ERRORS.md), so
+// the CLI prints the message (which names the file and the fix) without a stack trace.
+import { FloorlineError, type ErrorCode } from '../errors.ts';
 
-export type WavErrorCode =
-  | 'WAV_NOT_RIFF' // not a RIFF/RF64 WAVE file
-  | 'WAV_BAD_HEADER' // a header field that cannot be right (zero channels, block align mismatch)
-  | 'WAV_UNSUPPORTED' // an encoding we do not decode (8-bit, A-law, μ-law, ADPCM, 12-bit…)
-  | 'WAV_NO_DATA' // no 'data' chunk, or no whole frame in it
-  | 'WAV_BAD_METADATA' // our metadata chunk or sidecar is not valid JSON of our schema
-  | 'WAV_DISK_FULL'
-  | 'WAV_NO_PERMISSION'
-  | 'WAV_IO' // any other operating-system error
-  | 'WAV_MISUSE'; // API misuse (append after close, wrong channel count)
+export type WavErrorCode = Extract<ErrorCode, `WAV_${string}`>;
 
-export class WavError extends Error {
+export class WavError extends FloorlineError {
   override readonly name = 'WavError';
-  readonly exitCode = 2;
-  constructor(
-    readonly code: WavErrorCode,
-    message: string,
-  ) {
-    super(message);
+  declare readonly code: WavErrorCode;
+  constructor(code: WavErrorCode, message: string) {
+    super(code, message);
   }
 }
 

@@ -9,11 +9,19 @@
 //   data <size>  interleaved float32 frames
 // Sizes start at 0 ("never patched") and are rewritten by every flush(), after the samples are written, so a
 // crash leaves a header that is either right or 0 and the reader recovers every whole frame on disk.
-import { closeSync, fdatasyncSync, openSync, renameSync, rmSync, writeFileSync, writeSync } from 'node:fs';
+import { closeSync, fdatasyncSync, lstatSync, openSync, renameSync, rmSync, writeFileSync, writeSync } from 'node:fs';
 import { WavError, wavIoError } from './errors.ts';
 import { WAVE_FORMAT_IEEE_FLOAT } from './format.ts';
 import { METADATA_CHUNK_ID, METADATA_SCHEMA, sidecarPath, validateMetadata, type RecordingMetadata } from './metadata.ts';
 import { sizePatches } from './sizes.ts';
+
+function isRegularFile(p: string): boolean {
+  try {
+    return lstatSync(p).isFile();
+  } catch {
+    return false;
+  }
+}
 
 /** What the caller gives: our metadata without the schema tag, which the writer adds. */
 export type WavWriterMetadata = Omit<RecordingMetadata, 'schema'>;
@@ -119,7 +127,8 @@ export class WavWriter {
     } catch (err) {
       // Nothing is left behind: a header-only (or empty) file on a full disk is no recording.
       closeSync(this.fd);
-      for (const p of [path, sidecarPath(path), `${sidecarPath(path)}.tmp`]) rmSync(p, { force: true });
+      // Only regular files: a device given as the path (e.g. /dev/full) must never be unlinked.
+      for (const p of [path, sidecarPath(path), `${sidecarPath(path)}.tmp`]) if (isRegularFile(p)) rmSync(p, { force: true });
       throw err;
     }
   }

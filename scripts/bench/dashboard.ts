@@ -88,6 +88,19 @@ async function browserBench(): Promise<void> {
   console.log(`  floorline update (decode, convert, max-hold, redraw, waterfall)  median ${median(full).toFixed(2)} ms  p90 ${pct(full, 0.9).toFixed(2)} ms  target < 8 ms: ${median(full) < 8 ? 'met' : 'NOT met'}`);
   console.log(`  reference: uPlot setData + redraw of the same arrays             median ${median(chart).toFixed(2)} ms  p90 ${pct(chart, 0.9).toFixed(2)} ms`);
   console.log(`  of which the waterfall row alone                               median ${median(fall).toFixed(2)} ms  p90 ${pct(fall, 0.9).toFixed(2)} ms`);
+  // The timeline panel: a week of 1-min rows (10080), as the store sends it downsampled to ~1000 points and raw,
+  // with 50 incidents shaded; each draw timed whole (series build, uPlot create or setData, spans).
+  const tl = (await page.evaluate(`(() => {
+    const app = window.floorline, out = { down: [], raw: [] };
+    const mk = (n) => { const t0 = Date.parse('2026-11-25T00:00:00Z'), rows = [];
+      for (let i = 0; i < n; i++) { const v = 1e-7 * (1 + 0.1 * Math.sin(i / 50)); rows.push({ t: i * 604800 / n, sample: i, wallTime: new Date(t0 + i * 604800000 / n).toISOString(), min: v * 0.9, mean: v, max: v * 1.1, gap: i % 997 === 0 }); }
+      return { channel: 'ch0', quantity: 'bandRms', band: [100, 1000], unit: 'V', rows }; };
+    const inc = Array.from({ length: 50 }, (_, k) => ({ id: 'i' + k, channel: 'ch0', rules: ['spur'], members: [], start: { sample: 0, t: 0, wallTime: new Date(Date.parse('2026-11-25T00:00:00Z') + k * 12000000).toISOString() }, end: { sample: 0, t: 0, wallTime: new Date(Date.parse('2026-11-25T00:00:00Z') + k * 12000000 + 600000).toISOString() }, settled: null, peak: null, acknowledged: false, notes: [], capture: null }));
+    const down = mk(1000), raw = mk(10080);
+    for (let i = 0; i < 30; i++) { app.timeline.show(down, inc, 0); out.down.push(app.timeline.lastDrawMs); app.timeline.show(raw, inc, 0); out.raw.push(app.timeline.lastDrawMs); }
+    return out;
+  })()`)) as { down: number[]; raw: number[] };
+  console.log(`  timeline: a week of 1-min rows, 50 incidents, downsampled to 1000 points  median ${median(tl.down).toFixed(2)} ms  (raw 10080 rows: ${median(tl.raw).toFixed(2)} ms)  target < 300 ms: ${median(tl.down) < 300 ? 'met' : 'NOT met'}`);
   await ctx.close();
   await server.close();
 }

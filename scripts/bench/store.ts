@@ -2,7 +2,9 @@
 // fed as the pipeline feeds them (per-segment densities of 2049 bins at 20 kS/s, segment 4096, 50 % overlap, a
 // floor median per snapshot, a commit every 0.5 s of sample time), CPU time per second of sample time. (2) Size:
 // a store filled to the default retention of every level for 90 days, through the same writer, file bytes after a
-// checkpoint. (3) A 7-day query at 1-min resolution of one band of one channel, median of 9.
+// checkpoint. (3) A 7-day query at 1-min resolution of one band of one channel, median of 9. (4) `floorline report`
+// of the last 7 days of that store as a process.
+import { spawnSync } from 'node:child_process';
 import { mkdtempSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -112,3 +114,13 @@ for (let i = 0; i < 9; i++) {
 }
 reader.close();
 process.stdout.write(`7-day query at 1 min, one band of one channel: ${got} rows in ${median(times).toFixed(1)} ms (median of 9)\n`);
+
+// ---- (4) a report of the last 7 days of that store, as a whole process (wall time and peak RSS by /usr/bin/time)
+const root = process.cwd(); // scripts/bench.mjs runs each benchmark from the repository root
+const fromIso = new Date(1.7e12 + (DAYS - 7) * 86400e3).toISOString();
+const toIso = new Date(1.7e12 + DAYS * 86400e3).toISOString();
+const rep = spawnSync('/usr/bin/time', ['-f', '%e %M', process.execPath, join(root, 'bin/floorline.mjs'), 'report', '--store', path, '--from', fromIso, '--to', toIso, '-o', join(dir, 'week.html')], { encoding: 'utf8' });
+const [secs, kib] = (rep.stderr.trim().split('\n').pop() ?? '').split(' ').map(Number);
+process.stdout.write(rep.status === 0
+  ? `report of 7 days (${CH} ch × ${BANDS.length} bands, 1 h rows): ${secs.toFixed(2)} s wall, ${(kib / 1024).toFixed(0)} MiB peak RSS, ${(statSync(join(dir, 'week.html')).size / 1024).toFixed(0)} KiB of HTML\n`
+  : `report failed: ${rep.stderr}\n`);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { parseArgs, type CommandSpec } from '../../agent/cli/args.ts';
-import { UsageError } from '../../agent/cli/usage-error.ts';
+import { UsageError } from '../../agent/errors.ts';
 
 const spec: CommandSpec = {
   name: 'analyze',

@@ -118,7 +118,7 @@ result = [r[0] for r in sqlite3.connect(args[0]).execute('select text from notes
     expect(existsSync(join(data, 'floorline.sqlite.lock'))).toBe(false);
   }, 60_000);
 
-  it('hostile note text is stored and returned as text by `floorline note` and `floorline incidents`', async () => {
+  it('hostile note text from `floorline note` is stored exactly, as text (read back with python sqlite3); control characters are refused', async () => {
     const store = join(dir, 'notes.sqlite');
     expect(floorline('replay', wav, '--speed', 'max', '--no-server', '--quiet', '--store', store).status).toBe(0);
     const hostile = [`'); DROP TABLE notes; --`, `Robert"); DELETE FROM trend_1s; --`, 'line one\nline two\ttabbed', '%s %d ${x} `cmd` \\ 🙂 \u202e'];

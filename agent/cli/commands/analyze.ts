@@ -2,7 +2,7 @@
 import { threadsFlag } from './threads-flag.ts';
 import { resolveThreads } from '../../workers/threads.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { UsageError } from '../usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import { createProgress } from '../progress.ts';
 import type { DetrendMode } from '../../../protocol/settings.ts';
 import { analyzeFile, reportToJson, validateSettings, type AnalyzeOptions, type AverageMode, type ClipSummary } from '../../analysis/report.ts';

@@ -1,7 +1,7 @@
 // `floorline baseline FILE -o BASELINE.json`: capture a baseline (averaged density, band powers, settling check)
 // from a recording, with the same analysis settings the live pipeline will use.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
+import { InputError, UsageError } from '../../errors.ts';
 import { PIPELINE_FLAGS } from './monitor-flags.ts';
 import type { AnalysisSettings, DetrendMode } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';

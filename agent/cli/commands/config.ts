@@ -1,6 +1,6 @@
 // `floorline config check FILE`: validates a rig config and prints the settings a run with it would use.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { UsageError } from '../usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import { loadRigConfig } from '../../config/rig-config.ts';
 import { effectiveSettings } from '../../config/apply-config.ts';
 

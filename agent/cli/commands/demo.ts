@@ -2,7 +2,7 @@
 // baseline, with the dashboard served. `npm start` runs this.
 import { existsSync } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
+import { InputError, UsageError } from '../../errors.ts';
 import { RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { rescaleBaselineForReplay } from '../../config/calibration.ts';

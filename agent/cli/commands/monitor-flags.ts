@@ -3,7 +3,7 @@
 // become a MonitorOptions, so the three commands accept the same spellings and mean the same by them.
 import type { FlagSpec, ParsedArgs } from '../args.ts';
 import { readMaskFile, type MaskFile } from '../../analysis/mask-file.ts';
-import { UsageError } from '../usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
 import { DEFAULT_AVERAGING } from '../../../dsp/averaging.ts';

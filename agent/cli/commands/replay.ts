@@ -1,7 +1,7 @@
 // `floorline replay FILE`: the live pipeline fed from a recording, at real time, N× or as fast as it goes.
 import { createWriteStream } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
+import { InputError, UsageError } from '../../errors.ts';
 import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { HISTORY_FLAGS } from '../../store/cli-flags.ts';

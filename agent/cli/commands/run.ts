@@ -1,7 +1,7 @@
 // `floorline run --port PATH`: live from a board over USB serial (binary framed or text), through the pipeline,
 // with alarms, event log, recording and the dashboard.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { UsageError } from '../usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { HISTORY_FLAGS } from '../../store/cli-flags.ts';

@@ -1,7 +1,7 @@
 // `floorline simulate SCENARIO.json`: the board simulator and reference encoder of the serial protocol.
 import { readFileSync, statSync } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
-import { InputError, UsageError } from '../usage-error.ts';
+import { InputError, UsageError } from '../../errors.ts';
 import { parseScenario, ScenarioError, type Scenario } from '../../sim/scenario.ts';
 import { Simulation, type SimulationOptions } from '../../sim/run-simulation.ts';
 import type { WireFormat } from '../../sim/frame-composer.ts';

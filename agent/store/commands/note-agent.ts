@@ -1,6 +1,6 @@
 // Sends a note to a running agent over its WebSocket (the dashboard's control channel) and waits for the reply.
 import WebSocket from 'ws';
-import { InputError, UsageError } from '../../cli/usage-error.ts';
+import { InputError, UsageError } from '../../errors.ts';
 
 export async function noteThroughAgent(agentUrl: string, text: string, incident: string | undefined): Promise<{ sample: number; t: number; wallTime: string }> {
   let url: URL;

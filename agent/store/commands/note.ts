@@ -3,7 +3,7 @@
 import { appendFileSync, existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
-import { InputError, UsageError } from '../../cli/usage-error.ts';
+import { InputError, UsageError } from '../../errors.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForNote } from '../open-store.ts';
 import { LEVELS, type Level } from '../schema.ts';

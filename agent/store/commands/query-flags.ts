@@ -1,6 +1,6 @@
 // Flags shared by the store's query commands: which store, which span, which output.
 import type { FlagSpec, ParsedArgs } from '../../cli/args.ts';
-import { UsageError } from '../../cli/usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
 import { parseTimeBound, type TimeBound } from '../time-bound.ts';
 

@@ -1,6 +1,6 @@
 // `floorline trend`: band RMS and floor density rows from the history store.
 import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
-import { UsageError } from '../../cli/usage-error.ts';
+import { UsageError } from '../../errors.ts';
 import { parseBand } from '../../../protocol/bands.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForReading } from '../open-store.ts';
