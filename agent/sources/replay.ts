@@ -132,6 +132,9 @@ export class ReplaySource implements Source {
     if (startSample !== undefined) sample = startSample;
     else if (startTime !== undefined) sample = Math.round(startTime * info.sampleRate);
     const last = info.firstSample + info.frames - 1;
+    if (info.frames === 0) {
+      throw Object.assign(new RangeError(`${this.path} holds no whole frame of samples; there is nothing to replay (\`floorline repair FILE\` recovers samples an interrupted recording left).`), { exitCode: 2 });
+    }
     if (!Number.isInteger(sample) || sample < info.firstSample || sample > last) {
       throw Object.assign(
         new RangeError(

@@ -171,7 +171,7 @@ export class IncidentPanel {
       sh.addEventListener('click', () => void this.run(() => this.actions.shelve(ids(), Number(sel.value), i.id)));
       out.push(sel, sh);
     }
-    const note = el('button', 'Note…', 'note-btn');
+    const note = el('button', 'Note', 'note-btn');
     note.type = 'button';
     note.dataset.focusKey = `note:${i.id}`;
     note.setAttribute('aria-label', `Add a note to the incident on ${i.channel}`);

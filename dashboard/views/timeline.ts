@@ -79,13 +79,13 @@ export class TimelineView {
       hi.push(ok && r.max !== null && r.max > 0 ? r.max : null);
     }
     this.data = [x, mean, lo, hi];
-    const unit = s ? (s.quantity === 'floorDensity' ? `${s.unit}/√Hz` : `${s.unit} rms`) : 'V';
+    const unit = s ? (s.quantity === 'floorDensity' ? (s.unit.includes('√Hz') ? s.unit : `${s.unit}/√Hz`) : `${s.unit} rms`) : 'V';
     if (!this.plot || unit !== this.unit) this.rebuild(unit);
     else this.plot.setData(this.data as uPlot.AlignedData, true);
     const gaps = rows.filter((r) => r.gap).length;
     this.info.textContent = s
       ? `${rows.length} rows (${s.quantity === 'floorDensity' ? 'median floor density' : `band RMS ${s.band ? `${short(s.band[0])}–${short(s.band[1])} Hz` : ''}`}, min/mean/max per row)` +
-        `${gaps ? `, ${gaps} gap rows shown as breaks` : ''} · ${incidents.length} incidents shaded · ${this.notes.length} notes marked`
+        `${gaps ? `, ${gaps} gap rows shown as breaks` : ''} · ${incidents.length} incident${incidents.length === 1 ? '' : 's'} shaded · ${this.notes.length} note${this.notes.length === 1 ? '' : 's'} marked`
       : 'no history rows for this choice yet';
     this.lastDrawMs = performance.now() - t0;
   }

@@ -196,7 +196,9 @@ describe('the demo recording', () => {
     const { report } = json(demo, '--exclude-clipped');
     const asd = report.channels[0].asd.slice(1).sort((a, b) => a - b);
     const floor = asd[Math.floor(asd.length / 2)];
-    // The scenario scripts the bridge's white floor (recordings/demo-scenario.json, README table): 40 nV/√Hz.
-    expect(Math.abs(floor / 40e-9 - 1)).toBeLessThan(0.05);
+    // The scenario scripts the bridge's white floor at the converter (recordings/demo-scenario.json, README table):
+    // bridge 239.2, amplifier 600 and 7, board 15 nV/√Hz in quadrature = 646 nV/√Hz.
+    const scripted = Math.sqrt(239.2e-9 ** 2 + 600e-9 ** 2 + 7e-9 ** 2 + 15e-9 ** 2);
+    expect(Math.abs(floor / scripted - 1)).toBeLessThan(0.05);
   });
 });

@@ -34,6 +34,9 @@ async function cli(...args: string[]): Promise<Outcome> {
   process.stderr.write = ((s: string | Uint8Array) => (err.push(String(s)), true)) as typeof process.stderr.write;
   try {
     const code = await main(args);
+    // Let output a command schedules as it ends (timers, stream callbacks) land in its own capture.
+    await new Promise((r) => setImmediate(r));
+    await new Promise((r) => setImmediate(r));
     return { code, out: out.join(''), err: err.join('') };
   } catch (x) {
     return { code: -1, out: out.join(''), err: err.join('') + `THROWN: ${(x as Error).stack}` };
@@ -107,7 +110,7 @@ function apply(muts: Mutation[], caseDir: string): { wav: string; baseline: stri
     else if (m.kind === 'field') wav.writeUInt32LE(m.value >>> 0, wavBytes.indexOf(m.at[0] as string) + (m.at[1] as number));
     else if (m.kind === 'u16') wav.writeUInt16LE(m.value, wavBytes.indexOf(m.at[0] as string) + (m.at[1] as number));
     else if (m.kind === 'sample') Buffer.from(f32(m.value)).copy(wav, dataStart + m.frame * 8);
-    else if (m.kind === 'truncate') cut = m.length;
+    else if (m.kind === 'truncate') cut = m.length < 0 ? dataStart : m.length; // < 0: keep the header only
     else if (m.kind === 'sidecar') {
       try {
         const j = JSON.parse(sidecar);
@@ -176,7 +179,9 @@ function check(name: string, r: Outcome): void {
   expect(control && JSON.stringify(all.slice(Math.max(0, control.index - 80), control.index + 20)), `${name}: raw control character`).toBeNull();
   if (name !== 'replay') expect(/(?<![\w-])(NaN|null)(?![\w-])/.exec(r.out)?.[0], `${name}: NaN printed`).toBeUndefined();
   if (r.code === 2) {
-    const lines = r.err.split('\n').filter((l) => l.trim() !== '' && !/warning:/.test(l));
+    // Node's own process warnings (e.g. listener counts from running many commands in one process) are the
+    // harness's, not the command's.
+    const lines = r.err.split('\n').filter((l) => l.trim() !== '' && !/warning:/.test(l) && !/^\(node:\d+\)|^\(Use `node --trace-warnings/.test(l));
     expect(lines.length, `${name}: want one message line\n${r.err}`).toBe(1);
   }
 }
@@ -200,6 +205,15 @@ describe('hostile files through analyze, baseline, replay and repair', () => {
       await allCommands(wav, baseline, caseDir);
     });
   }
+
+  it('says a recording with no whole frame has nothing to replay (not "samples 0…-1")', async () => {
+    const caseDir = join(dir, 'empty');
+    mkdirSync(caseDir);
+    const { wav, baseline } = apply([{ kind: 'truncate', length: -1 }], caseDir);
+    const r = await allCommands(wav, baseline, caseDir);
+    expect(r.replay.code).toBe(2);
+    expect(r.replay.err).toMatch(/holds no whole frame of samples; there is nothing to replay/);
+  });
 
   it('refuses a baseline of a silent channel naming it, and replays against a zero-floor baseline without crashing', async () => {
     const caseDir = join(dir, 'silent');

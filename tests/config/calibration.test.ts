@@ -32,8 +32,9 @@ describe('calibration from the rig config', () => {
     expect(side.channels[0]).toMatchObject({ name: 'bridge', gain: 100, calibration: { gain: 100, inputReferred: true } });
 
     // scipy.signal.welch on the recorded float32 samples of the quiet span (0–18 s): the white floor between 1 and
-    // 3 kHz. The scenario scripts 40 nV/√Hz at the amplifier output (recordings/README.md), so 0.4 nV/√Hz at its
-    // input; the shorted input keeps its 15 nV/√Hz.
+    // 3 kHz. The scenario scripts the bridge's budget at the amplifier input (recordings/README.md): √(4kTR) of 350 Ω
+    // at 296 K, 6 nV/√Hz and 0.2 pA/√Hz × 350 Ω in quadrature = 6.46 nV/√Hz (plus the board's 15 nV/√Hz ÷ 100, 0.003
+    // dB); the shorted input keeps its 15 nV/√Hz.
     const py = spawnSync('python3', ['-c', `
 import sys, numpy as np, scipy.io.wavfile as w, scipy.signal as s
 fs, x = w.read(sys.argv[1]); x = x[:18*fs].astype(np.float64)
@@ -44,8 +45,9 @@ print(np.sqrt(np.median(p[sel, 0])), np.sqrt(np.median(p[sel, 1])))
     expect(py.status, py.stderr).toBe(0);
     const [bridge, shorted] = py.stdout.trim().split(/\s+/).map(Number);
     // Each bin averages ~70 segments, so the median over bins sits within a few % of the density; allow ±10 %.
-    expect(bridge / (0.4e-9)).toBeGreaterThan(0.9);
-    expect(bridge / (0.4e-9)).toBeLessThan(1.1);
+    const budget = Math.sqrt(4 * 1.380649e-23 * 296 * 350 + 6e-9 ** 2 + (0.2e-12 * 350) ** 2);
+    expect(bridge / budget).toBeGreaterThan(0.9);
+    expect(bridge / budget).toBeLessThan(1.1);
     expect(shorted / (15e-9)).toBeGreaterThan(0.9);
     expect(shorted / (15e-9)).toBeLessThan(1.1);
 

@@ -121,8 +121,10 @@ result = float(np.sqrt(max(np.sum(lobe - floor) * df, 0.0)))`,
       const fault = faultOf(e)!;
       expect(fault).toBeDefined();
       const ch = scenario.channels.find((c) => c.name === e.channel)!;
-      const white = ch.signals.find((s) => s.kind === 'white')?.density as number;
-      const flicker = ch.signals.find((s) => s.kind === 'flicker');
+      // The floor: every white term in quadrature, and every flicker term D²·fc/f summed (a channel's budget terms).
+      const white = Math.sqrt(ch.signals.filter((s) => s.kind === 'white').reduce((a, s) => a + (s.density as number) ** 2, 0));
+      const flickerD2fc = ch.signals.filter((s) => s.kind === 'flicker').reduce((a, s) => a + (s.density as number) ** 2 * (s.corner as number), 0);
+      const flicker = flickerD2fc > 0 ? { density: Math.sqrt(flickerD2fc), corner: 1 } : undefined;
       const c = sidecar.channels.findIndex((x) => x.name === e.channel);
       const last = e.sample - ((e.sample + 1) % STEP);
       // Lines raised on the channel are left out of the band by the rule; leave their lobes out here too.

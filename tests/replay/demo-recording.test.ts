@@ -71,37 +71,62 @@ def line_rms(c, a, b, f0):
 def median_asd(c, a, b, lo, hi):
     f, p = spec(c, a, b)
     return float(np.sqrt(np.median(p[(f >= lo) & (f <= hi)])))
+def mean_asd(c, a, b, lo, hi):
+    f, p = spec(c, a, b)
+    return float(np.sqrt(np.mean(p[(f >= lo) & (f <= hi)])))
 fsv = 8388607 * 2.98e-7
 clip = np.nonzero(np.abs(x[:, 0]) >= 0.999 * fsv)[0]
 result = {
   "mainsBefore": line_rms(0, 2, 19.5, 50), "mainsAfter": line_rms(0, 21, 37, 50), "h3After": line_rms(0, 21, 37, 150),
   "spurBefore": line_rms(1, 2, 29.5, 1953.3), "spurAfter": line_rms(1, 31, 60, 1953.3),
   "floorQuiet": median_asd(0, 2, 19.5, 400, 1100), "floorRise": median_asd(0, 38.5, 45.5, 400, 1100), "floorAfter": median_asd(0, 46.5, 51.5, 400, 1100),
+  "at1kHz": mean_asd(0, 0, 18, 900, 1100),
   "clipFirst": float(clip[0]) if len(clip) else -1.0, "clipLast": float(clip[-1]) if len(clip) else -1.0, "clipCount": float(len(clip)),
 }`,
       demo,
     );
-    // Mains 50 Hz at 3 µV rms from t = 20 s only (third harmonic 1.2 µV); within 20 %: the estimate has ~40 averages.
-    expect(m.mainsBefore).toBeLessThan(0.3e-6);
-    expect(m.mainsAfter).toBeGreaterThan(2.4e-6);
-    expect(m.mainsAfter).toBeLessThan(3.6e-6);
-    expect(m.h3After).toBeGreaterThan(0.96e-6);
-    expect(m.h3After).toBeLessThan(1.44e-6);
+    // Mains 50 Hz at 48.5 µV rms at the converter from t = 20 s only (third harmonic 19.4 µV); within 20 %: the
+    // estimate has ~40 averages.
+    expect(m.mainsBefore).toBeLessThan(4.85e-6);
+    expect(m.mainsAfter).toBeGreaterThan(38.8e-6);
+    expect(m.mainsAfter).toBeLessThan(58.2e-6);
+    expect(m.h3After).toBeGreaterThan(15.5e-6);
+    expect(m.h3After).toBeLessThan(23.3e-6);
     // Switching spur 0.6 µV rms on the board's shorted input from t = 30 s.
     expect(m.spurBefore).toBeLessThan(0.1e-6);
     expect(m.spurAfter).toBeGreaterThan(0.48e-6);
     expect(m.spurAfter).toBeLessThan(0.72e-6);
-    // Floor 40 nV/√Hz; from 38 to 46 s 130 nV/√Hz is added in 300–1200 Hz: √(40² + 130²) = 136 nV/√Hz.
-    // (median of a χ² density is below its mean by ~1 − 2/(9ν) for ν = 2·K: small here; ±15 % covers it)
-    expect(m.floorQuiet).toBeGreaterThan(34e-9);
-    expect(m.floorQuiet).toBeLessThan(46e-9);
-    expect(m.floorRise).toBeGreaterThan(116e-9);
-    expect(m.floorRise).toBeLessThan(156e-9);
-    expect(m.floorAfter).toBeLessThan(46e-9);
+    // Bridge floor at the converter: √(239.2² + 600² + 7² + 15²) = 646 nV/√Hz; from 38 to 46 s 2.1 µV/√Hz is added in
+    // 300–1200 Hz: √(646² + 2100²) = 2.20 µV/√Hz. (median of a χ² density is below its mean by ~1 − 2/(9ν) for
+    // ν = 2·K: small here; ±15 % covers it)
+    expect(m.floorQuiet).toBeGreaterThan(549e-9);
+    expect(m.floorQuiet).toBeLessThan(743e-9);
+    expect(m.floorRise).toBeGreaterThan(1.87e-6);
+    expect(m.floorRise).toBeLessThan(2.53e-6);
+    expect(m.floorAfter).toBeLessThan(743e-9);
+    // Input-referred at 1 kHz (÷ the gain of 100) against the budget from physics, in quadrature: Johnson noise of
+    // the 350 Ω bridge at 296 K √(4kTR) (Nyquist 1928, k exact by the 2019 SI), the amplifier's 6 nV/√Hz and
+    // 0.2 pA/√Hz × 350 Ω, and one LSB's quantisation q/√(6·fs) ÷ 100 (common practice): within ±1 dB.
+    const k = 1.380649e-23;
+    const budget = Math.sqrt(4 * k * 296 * 350 + 6e-9 ** 2 + (0.2e-12 * 350) ** 2 + (2.98e-7 / Math.sqrt(6 * RATE) / 100) ** 2);
+    expect(Math.abs(20 * Math.log10(m.at1kHz / 100 / budget))).toBeLessThan(1);
     // Clipped samples (|x| ≥ 0.999 FS) only inside the overload at 52.0–52.1 s.
     expect(m.clipCount).toBeGreaterThan(0);
     expect(m.clipFirst).toBeGreaterThanOrEqual(52 * RATE);
     expect(m.clipLast).toBeLessThan(52.1 * RATE);
+  });
+
+  it('analyze --input-referred on the quiet span lands on the budget its metadata records, within ±1 dB at 1 kHz', () => {
+    const r = spawnSync(process.execPath, [bin, 'analyze', demo, '--input-referred', '--to', '18', '--json'], { encoding: 'utf8', maxBuffer: 64 << 20 });
+    expect(r.status, r.stderr).toBe(0);
+    const ch = JSON.parse(r.stdout).channels[0];
+    expect(ch.gain).toBe(100);
+    expect(ch.referredTo).toBe('input');
+    // The budget terms: √(4kTR) for 350 Ω at 296 K (k = 1.380649e-23 J/K), 6 nV/√Hz, 0.2 pA/√Hz × 350 Ω.
+    expect(ch.budget.parts[0].density).toBeCloseTo(Math.sqrt(4 * 1.380649e-23 * 296 * 350), 15);
+    expect(ch.budget.parts[1].density).toBe(6e-9);
+    expect(ch.budget.parts[2].density).toBeCloseTo(0.2e-12 * 350, 18);
+    expect(Math.abs(ch.budget.differenceDb)).toBeLessThan(1);
   });
 
   it('`floorline demo` raises mains, spur, band-rise and clip alarms after their scripted times', () => {
