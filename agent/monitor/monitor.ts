@@ -23,6 +23,7 @@ import type { DetectorStatus } from '../rules/detectors.ts';
 import { makeEvent } from '../rules/event-factory.ts';
 import { ReplaySource } from '../sources/replay.ts';
 import { attachHistory, type History } from '../store/attach.ts';
+import { isDiskFault } from '../store/disk-fault.ts';
 import { attachNotifier } from '../notify/attach.ts';
 import type { Notifier } from '../notify/notifier.ts';
 import { attachRetention } from '../retention/attach.ts';
@@ -147,14 +148,21 @@ export class Monitor {
     const hook = this.hook;
     // Refused (another agent holds the store) before the source starts: nothing is read, nothing is written.
     if (o.history) {
-      this.historyRef = attachHistory(p, {
-        ...o.history,
-        command: o.command,
-        detectorStatus: () => hook.detectors?.status(),
-        incidentRecords: () => hook.detectors?.incidentRecords(),
-        onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
-        warn: (m) => this.say(m),
-      });
+      try {
+        this.historyRef = attachHistory(p, {
+          ...o.history,
+          command: o.command,
+          detectorStatus: () => hook.detectors?.status(),
+          incidentRecords: () => hook.detectors?.incidentRecords(),
+          onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
+          warn: (m) => this.say(m),
+        });
+      } catch (err) {
+        // A full or read-only disk must not stop the monitor: analysis and alarms go on without history, said
+        // once. A store held by another agent, or a foreign or corrupt file, is still refused (thrown on).
+        if (!isDiskFault(err)) throw err;
+        this.say(`history is not being kept: ${(err as Error).message} (${o.history.path}); free space or fix the folder, then restart`);
+      }
     }
     const logPaths = [...(folderOk ? [this.folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
     this.log = logPaths.length ? new EventLog(logPaths) : undefined;

@@ -66,7 +66,13 @@ export class Controls {
 
   private async send(what: string, run: () => Promise<ReplyMessage>): Promise<ReplyMessage | null> {
     try {
-      const r = await run();
+      let r = await run();
+      // The agent takes one control action a second: a click right after another waits its turn once.
+      if (!r.ok && r.error.code === 'rate-limited') {
+        this.say(`${what}: waiting a moment (the agent takes one control action a second)…`);
+        await new Promise((ok) => setTimeout(ok, 1100));
+        r = await run();
+      }
       if (!r.ok) this.say(`${what}: ${r.error.message}`, true);
       return r.ok ? r : null;
     } catch (err) {
