@@ -27,21 +27,44 @@ const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) 
 
 export class App {
   readonly spectrum = new SpectrumView($('spectrum'), $('readout'));
-  readonly waterfall = new WaterfallView($('waterfall'), $('waterfall-legend'), $('waterfall-axis'), $('waterfall-freq'), $('waterfall-time'));
+  readonly waterfall = new WaterfallView(
+    $('waterfall'),
+    $('waterfall-legend'),
+    $('waterfall-axis'),
+    $('waterfall-freq'),
+    $('waterfall-time'),
+  );
   readonly bands = new BandTable(($('bands') as HTMLTableElement).tBodies[0]);
   readonly events = new EventList(($('events') as HTMLTableElement).tBodies[0], (e) => void this.acknowledge(e));
   readonly trace = new TraceView($('trace'));
-  readonly incidents = new IncidentPanel(($('incidents') as HTMLTableElement).tBodies[0], $('incident-message'), {
-    // The agent takes an incident id for acknowledge and shelve: every alarm of the fault, and those that join it.
-    acknowledge: (_ids, incident) => this.forEachAlarm([incident], (alarm) => ({ type: 'acknowledge', alarm }), 'acknowledged'),
-    shelve: (_ids, seconds, incident) => this.forEachAlarm([incident], (alarm) => ({ type: 'shelve', alarm, seconds }), `shelved for ${seconds / 60} min`),
-    note: (text, incident) => this.addNote(text, incident),
-  }, (ch) => this.context?.channels.find((c) => c.name === ch)?.unit ?? 'V');
+  readonly incidents = new IncidentPanel(
+    ($('incidents') as HTMLTableElement).tBodies[0],
+    $('incident-message'),
+    {
+      // The agent takes an incident id for acknowledge and shelve: every alarm of the fault, and those that join it.
+      acknowledge: (_ids, incident) =>
+        this.forEachAlarm([incident], (alarm) => ({ type: 'acknowledge', alarm }), 'acknowledged'),
+      shelve: (_ids, seconds, incident) =>
+        this.forEachAlarm(
+          [incident],
+          (alarm) => ({ type: 'shelve', alarm, seconds }),
+          `shelved for ${seconds / 60} min`,
+        ),
+      note: (text, incident) => this.addNote(text, incident),
+    },
+    (ch) => this.context?.channels.find((c) => c.name === ch)?.unit ?? 'V',
+  );
   readonly timeline = new TimelineView($('timeline'), $('timeline-info'));
   /** /api/incidents answered (false: no history store on this agent, so the panel says so). */
   incidentsAvailable = true;
   readonly health = new HealthStrip($('health'), $('replay-banner'));
-  readonly logFrequency = new LogFrequencyView($('logf-chart'), $('logf-readout'), $('logf-fits'), $('logf-pp'), $('logf-context'));
+  readonly logFrequency = new LogFrequencyView(
+    $('logf-chart'),
+    $('logf-readout'),
+    $('logf-fits'),
+    $('logf-pp'),
+    $('logf-context'),
+  );
   readonly budget: NoiseBudgetForm;
   readonly controls: Controls;
   status: AgentStatus | null = null;
@@ -56,7 +79,9 @@ export class App {
   private contextShownAt = -Infinity;
 
   constructor(readonly link: Link) {
-    this.budget = new NoiseBudgetForm($('budget') as HTMLFormElement, $('nb-result'), (floor) => this.spectrum.setOverlays({ expectedFloor: floor }));
+    this.budget = new NoiseBudgetForm($('budget') as HTMLFormElement, $('nb-result'), (floor) =>
+      this.spectrum.setOverlays({ expectedFloor: floor }),
+    );
     this.controls = new Controls(link, {
       units: (u) => this.spectrum.setUnits(u),
       maxHold: (on) => this.spectrum.setOverlays({ maxHold: on }),
@@ -90,11 +115,16 @@ export class App {
       }
     });
     setInterval(() => void this.refreshIncidents(), 2000);
-    for (const id of ['timeline-channel', 'timeline-what', 'timeline-span']) $(id).addEventListener('change', () => void this.refreshTimeline());
+    for (const id of ['timeline-channel', 'timeline-what', 'timeline-span'])
+      $(id).addEventListener('change', () => void this.refreshTimeline());
     $('timeline-channel').addEventListener('change', () => this.fillTimelineChoices());
-    $('timeline-csv').addEventListener('click', () => download('floorline-timeline.csv', this.timeline.csv(), 'text/csv'));
+    $('timeline-csv').addEventListener('click', () =>
+      download('floorline-timeline.csv', this.timeline.csv(), 'text/csv'),
+    );
     setInterval(() => void this.refreshTimeline(), 10_000);
-    $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) => this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'));
+    $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) =>
+      this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'),
+    );
     $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
       this.waterfall.setBaselineFloor(this.baselinePsd());
@@ -139,14 +169,14 @@ export class App {
     const f = decodeFrame(buf);
     if (f.kind === 'spectrum') this.applySpectrum(f);
     else if (f.kind === 'baseline') {
-      if (this.context && (f.contextId === (this.context.id & 0xffff))) {
+      if (this.context && f.contextId === (this.context.id & 0xffff)) {
         this.spectrum.setBaseline(f);
         this.logFrequency.setBaseline(f, this.context.binHz);
         this.baselineFrame = f;
         this.waterfall.setBaselineFloor(this.baselinePsd());
-      }
-      else this.pendingBaseline = buf;
-    } else if (f.kind === 'trace') this.trace.update(f, this.context?.channels.map((c) => c.name) ?? [], this.context?.channels[0]?.unit ?? 'V');
+      } else this.pendingBaseline = buf;
+    } else if (f.kind === 'trace')
+      this.trace.update(f, this.context?.channels.map((c) => c.name) ?? [], this.context?.channels[0]?.unit ?? 'V');
   }
 
   private applySpectrum(f: DecodedFrame): void {
@@ -231,14 +261,16 @@ export class App {
       const r = await fetch('api/incidents', { credentials: 'same-origin' });
       if (!r.ok) {
         this.incidentsAvailable = false;
-        $('incidents-context').textContent = `no incident history on this agent (${r.status}); the event log below still lists every alarm`;
+        $('incidents-context').textContent =
+          `no incident history on this agent (${r.status}); the event log below still lists every alarm`;
         return;
       }
       this.incidentsAvailable = true;
       const body = (await r.json()) as IncidentsReply;
       this.incidents.update(body.incidents, this.status?.t ?? 0);
       const open = body.incidents.filter((i) => !i.end).length;
-      $('incidents-context').textContent = `${body.incidents.length} incident${body.incidents.length === 1 ? '' : 's'}, ${open} open · one row per fault; its alarms are folded under it`;
+      $('incidents-context').textContent =
+        `${body.incidents.length} incident${body.incidents.length === 1 ? '' : 's'}, ${open} open · one row per fault; its alarms are folded under it`;
     } catch {
       /* the link state shows a lost agent */
     }
@@ -258,7 +290,12 @@ export class App {
     const sel = $<HTMLSelectElement>('timeline-what');
     const keep = sel.value;
     const bands = (this.status?.bands ?? []).filter((b) => b.channel === ch);
-    const opts = [new Option('floor density', 'floor'), ...bands.map((b) => new Option(`band RMS ${b.low.toPrecision(4)}–${b.high.toPrecision(4)} Hz`, `${b.low}:${b.high}`))];
+    const opts = [
+      new Option('floor density', 'floor'),
+      ...bands.map(
+        (b) => new Option(`band RMS ${b.low.toPrecision(4)}–${b.high.toPrecision(4)} Hz`, `${b.low}:${b.high}`),
+      ),
+    ];
     if (sel.options.length === opts.length && [...sel.options].every((o, k) => o.value === opts[k].value)) return;
     sel.replaceChildren(...opts);
     if ([...sel.options].some((o) => o.value === keep)) sel.value = keep;
@@ -277,7 +314,11 @@ export class App {
       }
       const reply = (await r.json()) as TrendReply;
       const idx = this.context?.channels.findIndex((c) => c.name === q.channel) ?? 0;
-      this.timeline.show(pickSeries(reply, q), this.incidents.incidents.filter((i) => i.channel === q.channel), Math.max(0, idx));
+      this.timeline.show(
+        pickSeries(reply, q),
+        this.incidents.incidents.filter((i) => i.channel === q.channel),
+        Math.max(0, idx),
+      );
     } catch {
       /* the link state shows a lost agent */
     }
@@ -294,7 +335,11 @@ export class App {
       else if ((r.result as { acknowledged?: boolean; shelved?: boolean }).acknowledged !== false) took++;
     }
     void this.refreshIncidents();
-    return took === 0 && errors.length ? `${done} none: ${errors[0]}` : took === 0 ? `${done} none: the incident has no raised alarm any more` : `${done}: the incident and its alarms`;
+    return took === 0 && errors.length
+      ? `${done} none: ${errors[0]}`
+      : took === 0
+        ? `${done} none: the incident has no raised alarm any more`
+        : `${done}: the incident and its alarms`;
   }
 
   private async addNote(text: string, incident?: string): Promise<string> {
@@ -323,26 +368,51 @@ export class App {
   private exportCsv(): void {
     const lf = this.logFrequency;
     if (this.logfMode) {
-      if (lf.context && lf.shownUpdate) download(`floorline-log-frequency-${lf.shownUpdate.sample}.csv`, logFrequencyCsv(lf.context, lf.shownUpdate, this.status?.wallTime ?? ''), 'text/csv');
+      if (lf.context && lf.shownUpdate)
+        download(
+          `floorline-log-frequency-${lf.shownUpdate.sample}.csv`,
+          logFrequencyCsv(lf.context, lf.shownUpdate, this.status?.wallTime ?? ''),
+          'text/csv',
+        );
       return;
     }
     const f = this.spectrum.frame;
     if (!this.context || !f) return;
-    download(`floorline-spectrum-${f.sample}.csv`, spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? ''), 'text/csv');
+    download(
+      `floorline-spectrum-${f.sample}.csv`,
+      spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? ''),
+      'text/csv',
+    );
   }
 
   private async exportPng(): Promise<void> {
     const lf = this.logFrequency;
     if (this.logfMode) {
-      if (lf.canvas && lf.shownUpdate) download(`floorline-log-frequency-${lf.shownUpdate.sample}.png`, await spectrumPng(lf.canvas, $('logf-context').textContent ?? ''));
+      if (lf.canvas && lf.shownUpdate)
+        download(
+          `floorline-log-frequency-${lf.shownUpdate.sample}.png`,
+          await spectrumPng(lf.canvas, $('logf-context').textContent ?? ''),
+        );
       return;
     }
     const c = this.spectrum.canvas;
     const f = this.spectrum.frame;
     const ctx = this.context;
     if (!c || !ctx) return;
-    const legend = ctx.channels.map((ch, i) => ({ label: `${ch.name} (${ch.unit})`, colour: channelColour(i), dash: channelDash(i) }));
+    const legend = ctx.channels.map((ch, i) => ({
+      label: `${ch.name} (${ch.unit})`,
+      colour: channelColour(i),
+      dash: channelDash(i),
+    }));
     const when = this.status?.wallTime ? ` · ${this.status.wallTime}` : '';
-    download(`floorline-spectrum-${f?.sample ?? 0}.png`, await spectrumPng(c, contextLine(ctx, f) + when, legend, densityLabel(this.spectrum.unitChoice, ctx.channels[0]?.unit ?? 'V')));
+    download(
+      `floorline-spectrum-${f?.sample ?? 0}.png`,
+      await spectrumPng(
+        c,
+        contextLine(ctx, f) + when,
+        legend,
+        densityLabel(this.spectrum.unitChoice, ctx.channels[0]?.unit ?? 'V'),
+      ),
+    );
   }
 }

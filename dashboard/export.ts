@@ -13,7 +13,11 @@ function averagingText(ctx: SpectrumContext): string {
 
 export function contextLine(ctx: SpectrumContext, f: DecodedFrame | null): string {
   const s = ctx.settings;
-  const avg = f ? Array.from(f.averages).map((a) => a.toFixed(1)).join('/') : '—';
+  const avg = f
+    ? Array.from(f.averages)
+        .map((a) => a.toFixed(1))
+        .join('/')
+    : '—';
   return `${s.window} window · ENBW ${ctx.nenbw.toFixed(3)} bins = ${ctx.enbwHz.toPrecision(4)} Hz (RBW) · bin ${ctx.binHz.toPrecision(4)} Hz · segment ${s.segment} · overlap ${(s.overlap * 100).toFixed(1)} % · detrend ${s.detrend} · averaging ${averagingText(ctx)} · equivalent averages ${avg}${f ? ` · t = ${(f.sample / f.sampleRate).toFixed(2)} s (sample ${f.sample})` : ''}`;
 }
 
@@ -62,7 +66,12 @@ export const PNG_CAPTION_PX = 44;
 
 /** The chart canvas on white with, under it, a legend (channel names, colours, dashes, the density unit) and the
  *  context line with the time, so the image stands on its own in a report or a ticket. */
-export function spectrumPng(chart: HTMLCanvasElement, caption: string, legend: PngLegendEntry[] = [], unitLabel = ''): Promise<Blob> {
+export function spectrumPng(
+  chart: HTMLCanvasElement,
+  caption: string,
+  legend: PngLegendEntry[] = [],
+  unitLabel = '',
+): Promise<Blob> {
   const scale = chart.width / chart.clientWidth || 1;
   const pad = Math.round(PNG_CAPTION_PX * scale);
   const out = document.createElement('canvas');
@@ -92,7 +101,9 @@ export function spectrumPng(chart: HTMLCanvasElement, caption: string, legend: P
   if (unitLabel) c.fillText(`density in ${unitLabel}`, x, y);
   c.fillStyle = '#1c2630';
   c.fillText(caption, 8 * scale, chart.height + 32 * scale, out.width - 16 * scale);
-  return new Promise((resolve, reject) => out.toBlob((b) => (b ? resolve(b) : reject(new Error('PNG export failed'))), 'image/png'));
+  return new Promise((resolve, reject) =>
+    out.toBlob((b) => (b ? resolve(b) : reject(new Error('PNG export failed'))), 'image/png'),
+  );
 }
 
 export function download(name: string, data: Blob | string, type = 'text/plain'): void {

@@ -18,7 +18,12 @@ export function logFrequencyCsv(ctx: LowFrequencyContext, u: LowFrequencyUpdate,
         ? `# fit ${c.name},white_asd,${c.fit.whiteAsd},white_asd_sigma,${c.fit.whiteAsdSigma},corner_hz,${c.fit.corner},corner_sigma_hz,${c.fit.cornerSigma},alpha,${c.fit.exponent},alpha_sigma,${c.fit.exponentSigma},sample,${c.fit.sample}`
         : `# fit ${c.name},none`,
     ),
-    ['frequency', 'rbw', 'averages', ...ctx.channels.flatMap((c) => [`${c.name} asd`, `${c.name} lower`, `${c.name} upper`])].join(','),
+    [
+      'frequency',
+      'rbw',
+      'averages',
+      ...ctx.channels.flatMap((c) => [`${c.name} asd`, `${c.name} lower`, `${c.name} upper`]),
+    ].join(','),
     ['Hz', 'Hz', '1', ...ctx.channels.flatMap((c) => Array(3).fill(`${c.unit}/√Hz`) as string[])].join(','),
   ];
   for (let p = 0; p < ctx.frequency.length; p++) {

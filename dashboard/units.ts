@@ -28,7 +28,19 @@ export function fromPsd(u: DensityUnit, p: number): number | null {
  */
 export function convertInto(u: DensityUnit, psd: ArrayLike<number>, from: number, out: Float64Array): void {
   const n = out.length;
-  if (u === 'asd') for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? Math.sqrt(p) : NaN; }
-  else if (u === 'psd') for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? p : NaN; }
-  else for (let i = 0; i < n; i++) { const p = psd[from + i]; out[i] = p > 0 ? powerRatioDb(p) : NaN; }
+  if (u === 'asd')
+    for (let i = 0; i < n; i++) {
+      const p = psd[from + i];
+      out[i] = p > 0 ? Math.sqrt(p) : NaN;
+    }
+  else if (u === 'psd')
+    for (let i = 0; i < n; i++) {
+      const p = psd[from + i];
+      out[i] = p > 0 ? p : NaN;
+    }
+  else
+    for (let i = 0; i < n; i++) {
+      const p = psd[from + i];
+      out[i] = p > 0 ? powerRatioDb(p) : NaN;
+    }
 }

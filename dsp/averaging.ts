@@ -26,7 +26,8 @@ export const MAX_AVERAGING_COUNT = 4096;
 
 /** Checks an AveragingSpec and names the bad field. */
 export function validateAveraging(spec: AveragingSpec): AveragingSpec {
-  if (spec === null || typeof spec !== 'object') throw new RangeError('averaging must be an object like { mode: "mean" }');
+  if (spec === null || typeof spec !== 'object')
+    throw new RangeError('averaging must be an object like { mode: "mean" }');
   switch (spec.mode) {
     case 'mean':
     case 'max':
@@ -41,7 +42,9 @@ export function validateAveraging(spec: AveragingSpec): AveragingSpec {
       return spec;
     case 'exponential':
       if (!(Number.isFinite(spec.tauSeconds) && spec.tauSeconds > 0)) {
-        throw new RangeError(`averaging exponential: tauSeconds must be a positive number, got ${String(spec.tauSeconds)}`);
+        throw new RangeError(
+          `averaging exponential: tauSeconds must be a positive number, got ${String(spec.tauSeconds)}`,
+        );
       }
       return spec;
     default:
@@ -164,12 +167,14 @@ export class WholeMedianAverager implements Averager {
     private readonly bins: number,
     readonly capacity: number,
   ) {
-    if (!(Number.isInteger(capacity) && capacity >= 1)) throw new RangeError(`WholeMedianAverager: capacity must be a positive integer, got ${capacity}`);
+    if (!(Number.isInteger(capacity) && capacity >= 1))
+      throw new RangeError(`WholeMedianAverager: capacity must be a positive integer, got ${capacity}`);
     this.rows = new Float64Array(bins * capacity);
     this.column = new Float64Array(capacity);
   }
   add(power: Float64Array): void {
-    if (this.used === this.capacity) throw new RangeError(`WholeMedianAverager: more than the ${this.capacity} segments planned for`);
+    if (this.used === this.capacity)
+      throw new RangeError(`WholeMedianAverager: more than the ${this.capacity} segments planned for`);
     const bins = this.bins;
     this.rows.set(power.subarray(0, bins), this.used * bins);
     this.used++;

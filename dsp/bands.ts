@@ -9,8 +9,10 @@ export interface BinRange {
 
 /** Bins k in [0, bins) with low ≤ k·binHz ≤ high, computed with the same product k·binHz as the frequency axis. */
 export function bandBins(bins: number, binHz: number, low: number, high: number): BinRange {
-  if (!(Number.isInteger(bins) && bins > 0)) throw new RangeError(`bandBins: bins must be a positive integer, got ${bins}`);
-  if (!(Number.isFinite(binHz) && binHz > 0)) throw new RangeError(`bandBins: binHz must be a positive number, got ${binHz}`);
+  if (!(Number.isInteger(bins) && bins > 0))
+    throw new RangeError(`bandBins: bins must be a positive integer, got ${bins}`);
+  if (!(Number.isFinite(binHz) && binHz > 0))
+    throw new RangeError(`bandBins: binHz must be a positive number, got ${binHz}`);
   if (!(Number.isFinite(low) && Number.isFinite(high) && low >= 0 && low <= high)) {
     throw new RangeError(`band ${low}:${high} Hz is invalid: need 0 ≤ low ≤ high, both finite`);
   }

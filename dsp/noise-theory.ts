@@ -34,7 +34,8 @@ export function shotNoiseDensity(amperes: number): number {
  */
 export function quantizationDensity(spanVolts: number, bits: number, sampleRate: number): number {
   requirePositive('ADC span (V)', spanVolts);
-  if (!(Number.isInteger(bits) && bits >= 1 && bits <= 64)) throw new RangeError(`ADC bits must be an integer 1..64, got ${bits}`);
+  if (!(Number.isInteger(bits) && bits >= 1 && bits <= 64))
+    throw new RangeError(`ADC bits must be an integer 1..64, got ${bits}`);
   requirePositive('sample rate (S/s)', sampleRate);
   const q = spanVolts / 2 ** bits;
   return q / Math.sqrt(6 * sampleRate);
@@ -49,7 +50,8 @@ export function quadratureSum(contributions: readonly number[]): number {
 
 /** RMS of a white density over a bandwidth: e·sqrt(Δf). */
 export function whiteNoiseRms(density: number, bandwidthHz: number): number {
-  if (!(Number.isFinite(bandwidthHz) && bandwidthHz >= 0)) throw new RangeError(`bandwidth (Hz) must be ≥ 0, got ${bandwidthHz}`);
+  if (!(Number.isFinite(bandwidthHz) && bandwidthHz >= 0))
+    throw new RangeError(`bandwidth (Hz) must be ≥ 0, got ${bandwidthHz}`);
   return density * Math.sqrt(bandwidthHz);
 }
 

@@ -133,7 +133,8 @@ export class RealFftPower {
 
   // Reorders a window into load order once per window array (a different array costs one O(N) pass).
   private permuteWindow(w: Float64Array): void {
-    if (w.length !== this.size) throw new RangeError(`RealFftPower: window has ${w.length} values, the plan is for ${this.size}`);
+    if (w.length !== this.size)
+      throw new RangeError(`RealFftPower: window has ${w.length} values, the plan is for ${this.size}`);
     const load = this.load;
     for (let i = 0; i < load.length; i++) {
       this.windowEven[i] = w[load[i]];

@@ -61,7 +61,13 @@ export function toneAt(psd: Float64Array, binHz: number, mainLobeHalfWidth: numb
  * the centroid of the excess over the floor. `floor` is the floor density (unit²/Hz) under the line, e.g. a local
  * median corrected to a mean. One rule for the spur and mains events and the dashboard's cursor readout.
  */
-export function lineAboveFloor(psd: Float64Array, binHz: number, mainLobeHalfWidth: number, peak: number, floor: number): ToneReading {
+export function lineAboveFloor(
+  psd: Float64Array,
+  binHz: number,
+  mainLobeHalfWidth: number,
+  peak: number,
+  floor: number,
+): ToneReading {
   if (!(Number.isInteger(peak) && peak >= 0 && peak < psd.length)) {
     throw new RangeError(`lineAboveFloor: peak bin ${peak} is outside the ${psd.length} bins`);
   }

@@ -89,9 +89,16 @@ export class WelchEstimator {
   constructor(options: WelchOptions) {
     const { sampleRate, segment, overlap } = options;
     if (!(Number.isFinite(sampleRate) && sampleRate > 0)) {
-      throw new RangeError(`WelchEstimator: sampleRate must be a positive number of samples per second, got ${sampleRate}`);
+      throw new RangeError(
+        `WelchEstimator: sampleRate must be a positive number of samples per second, got ${sampleRate}`,
+      );
     }
-    if (!Number.isInteger(segment) || segment < MIN_SEGMENT || segment > MAX_SEGMENT || (segment & (segment - 1)) !== 0) {
+    if (
+      !Number.isInteger(segment) ||
+      segment < MIN_SEGMENT ||
+      segment > MAX_SEGMENT ||
+      (segment & (segment - 1)) !== 0
+    ) {
       throw new RangeError(
         `WelchEstimator: segment must be a power of two from ${MIN_SEGMENT} to ${MAX_SEGMENT} (2^20), got ${segment}`,
       );
@@ -145,7 +152,9 @@ export class WelchEstimator {
   /** Feeds samples[start..end); returns how many segments completed. Allocates nothing. */
   push(samples: Float64Array | Float32Array, start = 0, end = samples.length): number {
     if (!(start >= 0 && end <= samples.length && start <= end) || !Number.isInteger(start) || !Number.isInteger(end)) {
-      throw new RangeError(`WelchEstimator.push: range [${start}, ${end}) is outside the ${samples.length} samples given`);
+      throw new RangeError(
+        `WelchEstimator.push: range [${start}, ${end}) is outside the ${samples.length} samples given`,
+      );
     }
     const is64 = samples instanceof Float64Array;
     if (!is64 && !(samples instanceof Float32Array)) {
@@ -199,7 +208,8 @@ export class WelchEstimator {
   psd(out?: Float64Array): Float64Array {
     const bins = this.bins;
     const result = out ?? new Float64Array(bins);
-    if (result.length < bins) throw new RangeError(`WelchEstimator.psd: out needs ${bins} values, has ${result.length}`);
+    if (result.length < bins)
+      throw new RangeError(`WelchEstimator.psd: out needs ${bins} values, has ${result.length}`);
     if (this.averager.used === 0) {
       for (let k = 0; k < bins; k++) result[k] = NaN;
       return result;

@@ -14,9 +14,14 @@ export function parseBand(text: string, nyquist = Infinity): Band {
     throw new RangeError(`--band '${text}' is not LO:HI in Hz; write e.g. --band 20:2000`);
   }
   if (low < 0) throw new RangeError(`--band ${text}: LO must be ≥ 0 Hz; write e.g. --band 0:${high}`);
-  if (low >= high) throw new RangeError(`--band ${text}: LO must be below HI; write e.g. --band ${Math.min(low, high)}:${Math.max(low, high) || 1}`);
+  if (low >= high)
+    throw new RangeError(
+      `--band ${text}: LO must be below HI; write e.g. --band ${Math.min(low, high)}:${Math.max(low, high) || 1}`,
+    );
   if (high > nyquist) {
-    throw new RangeError(`--band ${text}: HI is above the Nyquist frequency ${nyquist} Hz of this file; give HI ≤ ${nyquist}`);
+    throw new RangeError(
+      `--band ${text}: HI is above the Nyquist frequency ${nyquist} Hz of this file; give HI ≤ ${nyquist}`,
+    );
   }
   return { low, high };
 }

@@ -5,7 +5,22 @@ export type EventKind = 'alarm' | 'info';
 /** `settled`: once per raised alarm, when its recent estimate holds only post-onset data (the level to quote). */
 /** Alarm events are raised, settled or cleared; an operator's acknowledge or shelve is an info event of its own. */
 export type EventState = 'raised' | 'settled' | 'cleared' | 'acknowledged' | 'shelved';
-export type EventRule = 'band-rise' | 'spur' | 'mains' | 'clip' | 'gap' | 'link' | 'overrun' | 'nonfinite' | 'internal' | 'recording' | 'baseline' | 'notify' | 'disk' | 'retention' | 'limit';
+export type EventRule =
+  | 'band-rise'
+  | 'spur'
+  | 'mains'
+  | 'clip'
+  | 'gap'
+  | 'link'
+  | 'overrun'
+  | 'nonfinite'
+  | 'internal'
+  | 'recording'
+  | 'baseline'
+  | 'notify'
+  | 'disk'
+  | 'retention'
+  | 'limit';
 // 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {

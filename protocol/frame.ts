@@ -72,9 +72,11 @@ export function encodeFrame(
   if (!Number.isInteger(length) || length < 0 || length > 0xffffffff) {
     throw new RangeError(`encodeFrame: length must be a non-negative 32-bit integer, got ${length}`);
   }
-  if (values.length !== channels) throw new RangeError(`encodeFrame: ${values.length} value arrays for ${channels} channels`);
+  if (values.length !== channels)
+    throw new RangeError(`encodeFrame: ${values.length} value arrays for ${channels} channels`);
   const total = frameBytes(channels, length);
-  if (out.byteLength < total) throw new RangeError(`encodeFrame: buffer of ${out.byteLength} bytes, frame needs ${total}`);
+  if (out.byteLength < total)
+    throw new RangeError(`encodeFrame: buffer of ${out.byteLength} bytes, frame needs ${total}`);
   const view = new DataView(out);
   view.setUint32(0, FRAME_MAGIC, true);
   view.setUint16(4, WIRE_PROTOCOL_VERSION, true);
@@ -92,7 +94,8 @@ export function encodeFrame(
   const data = new Float32Array(out, FRAME_HEADER_BYTES + 8 * channels, channels * length);
   for (let c = 0; c < channels; c++) {
     const src = values[c];
-    if (src.length < length) throw new RangeError(`encodeFrame: channel ${c} has ${src.length} values, needs ${length}`);
+    if (src.length < length)
+      throw new RangeError(`encodeFrame: channel ${c} has ${src.length} values, needs ${length}`);
     const base = c * length;
     for (let i = 0; i < length; i++) data[base + i] = src[i];
   }
@@ -106,13 +109,21 @@ export function decodeFrame(buf: ArrayBuffer, byteOffset = 0, byteLength = buf.b
     copy.set(new Uint8Array(buf, byteOffset, byteLength));
     return decodeFrame(copy.buffer, 0, byteLength);
   }
-  if (byteLength < FRAME_HEADER_BYTES) throw new FrameFormatError('short', `frame of ${byteLength} bytes is shorter than its ${FRAME_HEADER_BYTES}-byte header`);
+  if (byteLength < FRAME_HEADER_BYTES)
+    throw new FrameFormatError(
+      'short',
+      `frame of ${byteLength} bytes is shorter than its ${FRAME_HEADER_BYTES}-byte header`,
+    );
   const view = new DataView(buf, byteOffset, byteLength);
   const magic = view.getUint32(0, true);
-  if (magic !== FRAME_MAGIC) throw new FrameFormatError('magic', `frame magic 0x${magic.toString(16)} is not 0x${FRAME_MAGIC.toString(16)}`);
+  if (magic !== FRAME_MAGIC)
+    throw new FrameFormatError('magic', `frame magic 0x${magic.toString(16)} is not 0x${FRAME_MAGIC.toString(16)}`);
   const version = view.getUint16(4, true);
   if (version !== WIRE_PROTOCOL_VERSION) {
-    throw new FrameFormatError('version', `frame protocol version ${version}; this side speaks ${WIRE_PROTOCOL_VERSION}: reload the page or update the agent`);
+    throw new FrameFormatError(
+      'version',
+      `frame protocol version ${version}; this side speaks ${WIRE_PROTOCOL_VERSION}: reload the page or update the agent`,
+    );
   }
   const kind = KIND_NAMES[view.getUint16(6, true)];
   if (kind === undefined) throw new FrameFormatError('kind', `unknown frame kind ${view.getUint16(6, true)}`);
@@ -120,7 +131,10 @@ export function decodeFrame(buf: ArrayBuffer, byteOffset = 0, byteLength = buf.b
   const length = view.getUint32(16, true);
   const need = frameBytes(channels, length);
   if (channels < 1 || need !== byteLength) {
-    throw new FrameFormatError('size', `frame of ${byteLength} bytes; ${channels} channels × ${length} values need ${need}`);
+    throw new FrameFormatError(
+      'size',
+      `frame of ${byteLength} bytes; ${channels} channels × ${length} values need ${need}`,
+    );
   }
   const averages = new Float64Array(buf, byteOffset + FRAME_HEADER_BYTES, channels);
   const values: Float32Array[] = [];

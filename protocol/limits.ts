@@ -20,7 +20,8 @@ export const WALL_TIME_MAX_MS = Date.UTC(9999, 11, 31, 23, 59, 59);
 
 /** Null when the rate is inside the stated range, else the reason (for messages that name the input). */
 export function rateProblem(rate: number): string | null {
-  if (!(rate >= SAMPLE_RATE_MIN && rate <= SAMPLE_RATE_MAX)) return `sample rate ${rate} Hz is outside ${SAMPLE_RATE_MIN}…${SAMPLE_RATE_MAX} Hz`;
+  if (!(rate >= SAMPLE_RATE_MIN && rate <= SAMPLE_RATE_MAX))
+    return `sample rate ${rate} Hz is outside ${SAMPLE_RATE_MIN}…${SAMPLE_RATE_MAX} Hz`;
   return null;
 }
 
@@ -34,5 +35,8 @@ export function hasControlCharacters(text: string): boolean {
  * descriptors and files come from outside and must not move the cursor, retitle the terminal or hide lines. */
 export function printable(text: string): string {
   // eslint-disable-next-line no-control-regex
-  return text.replace(/\u001b\[[0-?]*[ -/]*[@-~]|\u001b\][^\u0007\u001b]*(?:\u0007|\u001b\\)?|[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, '\uFFFD');
+  return text.replace(
+    /\u001b\[[0-?]*[ -/]*[@-~]|\u001b\][^\u0007\u001b]*(?:\u0007|\u001b\\)?|[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g,
+    '\uFFFD',
+  );
 }

@@ -84,7 +84,14 @@ export interface StatusRequest {
   id: number;
 }
 
-export type ClientMessage = CaptureBaselineRequest | RecordingRequest | SetAnalysisRequest | AcknowledgeRequest | ShelveRequest | NoteRequest | StatusRequest;
+export type ClientMessage =
+  | CaptureBaselineRequest
+  | RecordingRequest
+  | SetAnalysisRequest
+  | AcknowledgeRequest
+  | ShelveRequest
+  | NoteRequest
+  | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
 // ---------------------------------------------------------------- agent → client
@@ -225,7 +232,9 @@ export interface ReplyResults {
 }
 
 export type ReplyMessage =
-  | { [K in ClientMessageType]: { type: 'reply'; id: number; request: K; ok: true; result: ReplyResults[K] } }[ClientMessageType]
+  | {
+      [K in ClientMessageType]: { type: 'reply'; id: number; request: K; ok: true; result: ReplyResults[K] };
+    }[ClientMessageType]
   | { type: 'reply'; id: number; request: ClientMessageType; ok: false; error: WireError };
 
 export type ServerMessage =

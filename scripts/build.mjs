@@ -6,9 +6,22 @@ const root = new URL('..', import.meta.url).pathname;
 
 // The CLI and the worker threads' own small bundles, side by side in dist/ (agent/workers/worker-script.ts finds
 // them there).
-const node = { bundle: true, platform: 'node', format: 'esm', target: 'node20', packages: 'external', sourcemap: true, logLevel: 'warning' };
+const node = {
+  bundle: true,
+  platform: 'node',
+  format: 'esm',
+  target: 'node20',
+  packages: 'external',
+  sourcemap: true,
+  logLevel: 'warning',
+};
 await build({ ...node, entryPoints: [`${root}agent/cli/main.ts`], outfile: `${root}dist/floorline.mjs` });
-await build({ ...node, entryPoints: [`${root}agent/workers/channel-worker.ts`, `${root}agent/workers/span-worker.ts`], outdir: `${root}dist`, outExtension: { '.js': '.mjs' } });
+await build({
+  ...node,
+  entryPoints: [`${root}agent/workers/channel-worker.ts`, `${root}agent/workers/span-worker.ts`],
+  outdir: `${root}dist`,
+  outExtension: { '.js': '.mjs' },
+});
 
 if (existsSync(`${root}dashboard/main.ts`)) {
   mkdirSync(`${root}dist/dashboard`, { recursive: true });

@@ -10,7 +10,11 @@ const root = new URL('..', import.meta.url).pathname;
 const out = join(root, 'docs', 'screenshots');
 mkdirSync(out, { recursive: true });
 const data = mkdtempSync(join(tmpdir(), 'floorline-shots-'));
-const agent = spawn(process.execPath, ['bin/floorline.mjs', 'demo', '--speed', '3', '--http-port', '0', '--data', data], { cwd: root, stdio: ['ignore', 'pipe', 'inherit'] });
+const agent = spawn(
+  process.execPath,
+  ['bin/floorline.mjs', 'demo', '--speed', '3', '--http-port', '0', '--data', data],
+  { cwd: root, stdio: ['ignore', 'pipe', 'inherit'] },
+);
 const url = await new Promise((resolve, reject) => {
   let text = '';
   agent.stdout.on('data', (d) => {
@@ -22,10 +26,22 @@ const url = await new Promise((resolve, reject) => {
 });
 const browser = await chromium.launch({
   executablePath: '/usr/bin/chromium',
-  args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+  args: [
+    '--headless',
+    '--no-sandbox',
+    '--disable-gpu',
+    '--disable-quic',
+    '--no-first-run',
+    '--disable-background-networking',
+    '--disable-component-update',
+    '--disable-sync',
+  ],
 });
 try {
-  const sizes = [[1280, 800], [1920, 1080]];
+  const sizes = [
+    [1280, 800],
+    [1920, 1080],
+  ];
   const pages = [];
   for (const [w, h] of sizes) {
     const p = await browser.newPage({ viewport: { width: w, height: h } });

@@ -21,9 +21,17 @@ export function* csvChunks(r: AnalysisReport, limits?: Float64Array): Generator<
   ];
   for (const ch of r.channels) {
     const bands = ch.bands.map((b) => `; band ${b.low}:${b.high} Hz rms: ${b.rms} ${amplitudeUnit(ch)}`).join('');
-    out.push(`# ${ch.name}: rms (DC excluded): ${ch.rms} ${amplitudeUnit(ch)}${bands}; clippedSamples: ${ch.clippedSamples}`);
-    for (const l of ch.lines ?? []) out.push(`# ${ch.name} line: ${l.frequency} Hz, ${l.amplitude} ${amplitudeUnit(ch)} rms, ${l.dbOverFloor} dB over floor${l.harmonic ? `, mains harmonic ${l.harmonic}` : ''}`);
-    if (ch.mask) out.push(`# ${ch.name} mask: ${ch.mask.pass ? 'pass' : 'fail'}; worst margin ${ch.mask.worstMarginDb} dB at ${ch.mask.worstFrequency} Hz`);
+    out.push(
+      `# ${ch.name}: rms (DC excluded): ${ch.rms} ${amplitudeUnit(ch)}${bands}; clippedSamples: ${ch.clippedSamples}`,
+    );
+    for (const l of ch.lines ?? [])
+      out.push(
+        `# ${ch.name} line: ${l.frequency} Hz, ${l.amplitude} ${amplitudeUnit(ch)} rms, ${l.dbOverFloor} dB over floor${l.harmonic ? `, mains harmonic ${l.harmonic}` : ''}`,
+      );
+    if (ch.mask)
+      out.push(
+        `# ${ch.name} mask: ${ch.mask.pass ? 'pass' : 'fail'}; worst margin ${ch.mask.worstMarginDb} dB at ${ch.mask.worstFrequency} Hz`,
+      );
   }
   const header = ['frequency'];
   const units = ['Hz'];
@@ -41,7 +49,11 @@ export function* csvChunks(r: AnalysisReport, limits?: Float64Array): Generator<
   }
   for (const p of r.coherence ?? []) {
     header.push(`${p.a}-${p.b} coherence`, `${p.a}-${p.b} csd re`, `${p.a}-${p.b} csd im`);
-    units.push('1', `${r.channels.find((c) => c.name === p.a)?.unit}·${r.channels.find((c) => c.name === p.b)?.unit}/Hz`, '');
+    units.push(
+      '1',
+      `${r.channels.find((c) => c.name === p.a)?.unit}·${r.channels.find((c) => c.name === p.b)?.unit}/Hz`,
+      '',
+    );
     units[units.length - 1] = units[units.length - 2];
   }
   out.push(header.map(quote).join(','), units.map(quote).join(','));

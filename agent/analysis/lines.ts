@@ -23,9 +23,17 @@ export interface LineSearch {
   rules: RulesConfig;
 }
 
-export function makeLineSearch(frequencies: Float64Array, binHz: number, mainLobeHalfWidth: number, rules: RulesConfig = defaultRules()): LineSearch {
+export function makeLineSearch(
+  frequencies: Float64Array,
+  binHz: number,
+  mainLobeHalfWidth: number,
+  rules: RulesConfig = defaultRules(),
+): LineSearch {
   const finder = new SpurFinder({
-    frequencies, binHz, mainLobeHalfWidth, maxLines: MAX_TRACKED_LINES,
+    frequencies,
+    binHz,
+    mainLobeHalfWidth,
+    maxLines: MAX_TRACKED_LINES,
     floorHalfWidth: rules.spur.floorHalfWidth > 0 ? rules.spur.floorHalfWidth : undefined,
   });
   return { finder, binHz, rules };
@@ -38,11 +46,18 @@ export function findLines(search: LineSearch, psd: Float64Array, equivalentAvera
   const ratio = lineThresholdRatio(k, rules.spur.alpha, finder.bins, 10 ** (rules.spur.marginDb / 10));
   // The median floor corrected to a mean, as the live spur rule does (SpurDetector.thresholdRatio).
   const n = finder.find(psd, ratio, chi2MeanMedian(2 * k));
-  const mains = new MainsClassifier({ setting: rules.mains.frequency, binHz: search.binHz, maxHarmonic: rules.mains.maxHarmonic }, finder.maxLines);
+  const mains = new MainsClassifier(
+    { setting: rules.mains.frequency, binHz: search.binHz, maxHarmonic: rules.mains.maxHarmonic },
+    finder.maxLines,
+  );
   mains.classify(finder.lineFrequency, finder.lineAmplitude, n);
   const lines: ReportLine[] = [];
   for (let i = 0; i < n; i++) {
-    const line: ReportLine = { frequency: finder.lineFrequency[i], amplitude: finder.lineAmplitude[i], dbOverFloor: finder.lineHeightDb[i] };
+    const line: ReportLine = {
+      frequency: finder.lineFrequency[i],
+      amplitude: finder.lineAmplitude[i],
+      dbOverFloor: finder.lineHeightDb[i],
+    };
     if (mains.harmonic[i] > 0) line.harmonic = mains.harmonic[i];
     lines.push(line);
   }

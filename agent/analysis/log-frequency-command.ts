@@ -3,28 +3,52 @@
 import type { ParsedArgs } from '../cli/args.ts';
 import { InputError, UsageError } from '../errors.ts';
 import type { AnalyzeOptions } from './report.ts';
-import { analyzeLogFrequency, logFrequencyToCsv, logFrequencyToJson, logFrequencyToText } from './log-frequency-report.ts';
+import {
+  analyzeLogFrequency,
+  logFrequencyToCsv,
+  logFrequencyToJson,
+  logFrequencyToText,
+} from './log-frequency-report.ts';
 
 export async function runLogFrequencyAnalysis(args: ParsedArgs, options: AnalyzeOptions): Promise<number> {
   if (options.segment !== undefined) {
-    throw new UsageError('floorline analyze: --segment does not apply with --log-frequency (each frequency gets its own segment length); drop one of them.');
+    throw new UsageError(
+      'floorline analyze: --segment does not apply with --log-frequency (each frequency gets its own segment length); drop one of them.',
+    );
   }
   if (options.bands.length > 0) {
-    throw new UsageError('floorline analyze: --band does not apply with --log-frequency; run analyze without --log-frequency for band RMS.');
+    throw new UsageError(
+      'floorline analyze: --band does not apply with --log-frequency; run analyze without --log-frequency for band RMS.',
+    );
   }
   const f = args.flags;
-  const notHere = ['from', 'to', 'exclude-clipped', 'lines', 'cumulative', 'mask', 'input-referred', 'source-ohms', 'unit'].filter(
-    (k) => f[k] !== undefined && f[k] !== false,
-  );
+  const notHere = [
+    'from',
+    'to',
+    'exclude-clipped',
+    'lines',
+    'cumulative',
+    'mask',
+    'input-referred',
+    'source-ohms',
+    'unit',
+  ].filter((k) => f[k] !== undefined && f[k] !== false);
   if ((f.coherence as string[] | undefined)?.length) notHere.push('coherence');
   if (f.average === 'median') notHere.push('average');
   if (notHere.length > 0) {
-    throw new UsageError(`floorline analyze: --${notHere.join(', --')} do(es) not apply with --log-frequency yet; run analyze without --log-frequency for them.`);
+    throw new UsageError(
+      `floorline analyze: --${notHere.join(', --')} do(es) not apply with --log-frequency yet; run analyze without --log-frequency for them.`,
+    );
   }
   const file = args.positionals[0];
   let result;
   try {
-    result = await analyzeLogFrequency(file, { window: options.window, overlap: options.overlap, detrend: options.detrend, scale: options.scale });
+    result = await analyzeLogFrequency(file, {
+      window: options.window,
+      overlap: options.overlap,
+      detrend: options.detrend,
+      scale: options.scale,
+    });
   } catch (err) {
     // The planner's RangeError names the limit (e.g. a record too short for the window): bad input, exit 2.
     if (err instanceof RangeError) throw new InputError(`floorline analyze --log-frequency: ${file}: ${err.message}.`);

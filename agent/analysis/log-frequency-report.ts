@@ -7,7 +7,12 @@ import { readWavFile, type WavInfo } from '../wav/reader.ts';
 import { planLogFrequencies } from '../../dsp/logfreq/plan.ts';
 import { logFrequencyPsd } from '../../dsp/logfreq/log-frequency-psd.ts';
 import { fitCorner, type CornerFit } from '../../dsp/flicker/corner-fit.ts';
-import { PeakToPeakMeter, PEAK_TO_PEAK_LABELS, peakToPeakFigures, type PeakToPeakFigures } from '../../dsp/flicker/peak-to-peak.ts';
+import {
+  PeakToPeakMeter,
+  PEAK_TO_PEAK_LABELS,
+  peakToPeakFigures,
+  type PeakToPeakFigures,
+} from '../../dsp/flicker/peak-to-peak.ts';
 import { formatSi } from '../../protocol/si.ts';
 
 export interface LogFrequencyOptions {
@@ -19,7 +24,6 @@ export interface LogFrequencyOptions {
   points?: number;
   averages?: number;
 }
-
 
 export interface LogFrequencyChannel {
   name: string;
@@ -34,14 +38,25 @@ export interface LogFrequencyChannel {
   /** Fits over points at or below fitMaxHz; null when too few points or the fit fails. */
   corner: { fitMaxHz: number; oneOverF: CornerFit | null; freeExponent: CornerFit | null };
   /** 0.1–10 Hz figures per window; null with a reason when the file is too short or its rate too low. */
-  peakToPeak: { lowHz: number; highHz: number; windowSeconds: number; settleSeconds: number; windows: PeakToPeakFigures[] } | { skipped: string };
+  peakToPeak:
+    | { lowHz: number; highHz: number; windowSeconds: number; settleSeconds: number; windows: PeakToPeakFigures[] }
+    | { skipped: string };
 }
 
 export interface LogFrequencyReport {
   file: string;
   sampleRate: number;
   samples: number;
-  settings: { method: string; window: string; overlap: number; detrend: DetrendMode; points: number; desiredAverages: number; sample: number; t: number };
+  settings: {
+    method: string;
+    window: string;
+    overlap: number;
+    detrend: DetrendMode;
+    points: number;
+    desiredAverages: number;
+    sample: number;
+    t: number;
+  };
   channels: LogFrequencyChannel[];
 }
 
@@ -54,14 +69,24 @@ function tryFit(input: Parameters<typeof fitCorner>[0], fitMaxHz: number, expone
   }
 }
 
-export async function analyzeLogFrequency(path: string, options: LogFrequencyOptions): Promise<{ report: LogFrequencyReport; info: WavInfo }> {
+export async function analyzeLogFrequency(
+  path: string,
+  options: LogFrequencyOptions,
+): Promise<{ report: LogFrequencyReport; info: WavInfo }> {
   const { info, data } = await readWavFile(path, { scale: options.scale });
   const fs = info.sampleRate;
   const n = data.length ? data[0].length : 0;
   const desiredAverages = options.averages ?? 100;
   const points = options.points ?? 200;
   // planLogFrequencies' RangeError names the option and the fix (e.g. a record too short for the window).
-  const plan = planLogFrequencies({ sampleRate: fs, samples: n, window: options.window, overlap: options.overlap, points, averages: desiredAverages });
+  const plan = planLogFrequencies({
+    sampleRate: fs,
+    samples: n,
+    window: options.window,
+    overlap: options.overlap,
+    points,
+    averages: desiredAverages,
+  });
   const fitMaxHz = fs / 10;
   let sample = -1;
   const channels = info.channels.map((ch, c): LogFrequencyChannel => {
@@ -81,8 +106,16 @@ export async function analyzeLogFrequency(path: string, options: LogFrequencyOpt
       meter.push(data[c]);
       peakToPeak =
         windows.length > 0
-          ? { lowHz: 0.1, highHz: 10, windowSeconds: meter.windowSamples / fs, settleSeconds: meter.settleSeconds, windows }
-          : { skipped: `needs ${(meter.settleSeconds + meter.windowSamples / fs).toFixed(1)} s (settling + one window), the file has ${(n / fs).toFixed(1)} s` };
+          ? {
+              lowHz: 0.1,
+              highHz: 10,
+              windowSeconds: meter.windowSamples / fs,
+              settleSeconds: meter.settleSeconds,
+              windows,
+            }
+          : {
+              skipped: `needs ${(meter.settleSeconds + meter.windowSamples / fs).toFixed(1)} s (settling + one window), the file has ${(n / fs).toFixed(1)} s`,
+            };
     } catch (err) {
       peakToPeak = { skipped: (err as Error).message };
     }
@@ -127,13 +160,19 @@ export function logFrequencyToJson(r: LogFrequencyReport): string {
 }
 
 export function logFrequencyToCsv(r: LogFrequencyReport): string {
-  const lines = [`# ${r.file}: ${r.samples} samples at ${r.sampleRate} Hz, ${r.settings.method}, window ${r.settings.window}, overlap ${r.settings.overlap}, detrend ${r.settings.detrend}`];
-  lines.push(['frequency', 'rbw', 'averages', ...r.channels.flatMap((c) => [`${c.name} psd`, `${c.name} asd`])].join(','));
+  const lines = [
+    `# ${r.file}: ${r.samples} samples at ${r.sampleRate} Hz, ${r.settings.method}, window ${r.settings.window}, overlap ${r.settings.overlap}, detrend ${r.settings.detrend}`,
+  ];
+  lines.push(
+    ['frequency', 'rbw', 'averages', ...r.channels.flatMap((c) => [`${c.name} psd`, `${c.name} asd`])].join(','),
+  );
   lines.push(['Hz', 'Hz', '1', ...r.channels.flatMap((c) => [`${c.unit}²/Hz`, `${c.unit}/√Hz`])].join(','));
   const ch0 = r.channels[0];
   if (ch0) {
     for (let j = 0; j < ch0.frequency.length; j++) {
-      lines.push([ch0.frequency[j], ch0.rbwHz[j], ch0.averages[j], ...r.channels.flatMap((c) => [c.psd[j], c.asd[j]])].join(','));
+      lines.push(
+        [ch0.frequency[j], ch0.rbwHz[j], ch0.averages[j], ...r.channels.flatMap((c) => [c.psd[j], c.asd[j]])].join(','),
+      );
     }
   }
   return lines.join('\n') + '\n';

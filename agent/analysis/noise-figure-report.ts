@@ -24,7 +24,13 @@ export interface NoiseFigureReport {
   noiseTemperature: Float64Array;
 }
 
-export function bandNoiseFigures(psd: Float64Array, binHz: number, bands: readonly Band[], ranges: readonly BinRange[], source: SourceSpec): NoiseFigureReport {
+export function bandNoiseFigures(
+  psd: Float64Array,
+  binHz: number,
+  bands: readonly Band[],
+  ranges: readonly BinRange[],
+  source: SourceSpec,
+): NoiseFigureReport {
   const kelvin = source.kelvin ?? REFERENCE_KELVIN;
   const nfDb = new Float64Array(psd.length);
   const te = new Float64Array(psd.length);

@@ -146,7 +146,8 @@ export const MEDIAN_MAX_BYTES = 256 << 20;
 
 /** Throws RangeError for settings that no file could satisfy (the CLI turns it into a usage error). */
 export function validateSettings(options: AnalyzeOptions): string {
-  if (!(options.overlap >= 0 && options.overlap < 1)) throw new RangeError(`--overlap ${options.overlap}: give a fraction in [0, 1), e.g. 0.5`);
+  if (!(options.overlap >= 0 && options.overlap < 1))
+    throw new RangeError(`--overlap ${options.overlap}: give a fraction in [0, 1), e.g. 0.5`);
   return parseWindowName(options.window);
 }
 
@@ -155,7 +156,9 @@ function applyUnit(info: WavInfo, unit: string | undefined, path: string): void 
   for (const ch of info.channels) {
     if (ch.unit === 'FS') ch.unit = unit;
     else if (ch.unit !== unit) {
-      throw new AnalysisInputError(`--unit ${unit}: channel ${ch.name} of ${path} is already in ${ch.unit} by its metadata; drop --unit or fix the metadata.`);
+      throw new AnalysisInputError(
+        `--unit ${unit}: channel ${ch.name} of ${path} is already in ${ch.unit} by its metadata; drop --unit or fix the metadata.`,
+      );
     }
   }
 }
@@ -189,7 +192,14 @@ function channelReferrals(info: WavInfo, path: string, inputReferred: boolean): 
 export async function analyzeFile(
   path: string,
   options: AnalyzeOptions,
-): Promise<{ report: AnalysisReport; info: WavInfo; clips: ClipSummary[]; maskFailed: boolean; maskLimits?: Float64Array; excludedFrames: number }> {
+): Promise<{
+  report: AnalysisReport;
+  info: WavInfo;
+  clips: ClipSummary[];
+  maskFailed: boolean;
+  maskLimits?: Float64Array;
+  excludedFrames: number;
+}> {
   const window = validateSettings(options);
   const reader = await WavReader.open(path, { scale: options.scale });
   let closeSpectra: (() => Promise<void>) | undefined;
@@ -199,11 +209,16 @@ export async function analyzeFile(
     const nyquist = info.sampleRate / 2;
     for (const b of options.bands) {
       if (b.high > nyquist) {
-        throw new AnalysisInputError(`--band ${b.low}:${b.high}: HI is above the Nyquist frequency ${nyquist} Hz of ${path}; give HI ≤ ${nyquist}.`);
+        throw new AnalysisInputError(
+          `--band ${b.low}:${b.high}: HI is above the Nyquist frequency ${nyquist} Hz of ${path}; give HI ≤ ${nyquist}.`,
+        );
       }
     }
     const mask = options.mask !== undefined ? readMaskFile(options.mask, nyquist) : undefined;
-    const pairs = resolveChannelPairs(options.coherence ?? [], info.channels.map((c) => c.name));
+    const pairs = resolveChannelPairs(
+      options.coherence ?? [],
+      info.channels.map((c) => c.name),
+    );
     const referrals = channelReferrals(info, path, options.inputReferred === true);
     const span = frameSpan(info, options.from, options.to);
     const spanFrames = span.end - span.start;
@@ -214,7 +229,9 @@ export async function analyzeFile(
       const what = whole ? 'recording' : 'span';
       throw new AnalysisInputError(
         `${path}${whole ? '' : ': the span'} has ${spanFrames} frames, shorter than one segment of ${need}; ` +
-          (need > 64 ? `give a smaller --segment (a power of two ≥ 64) or a longer ${what}.` : `analyze a ${what} of at least 64 samples.`),
+          (need > 64
+            ? `give a smaller --segment (a power of two ≥ 64) or a longer ${what}.`
+            : `analyze a ${what} of at least 64 samples.`),
       );
     }
     const average = options.average ?? 'mean';
@@ -242,15 +259,30 @@ export async function analyzeFile(
       return (a, b) => finite(a, b) && clean(a, b);
     };
     const plan: ChannelEstimatorPlan = {
-      sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
+      sampleRate: info.sampleRate,
+      segment,
+      window,
+      overlap: options.overlap,
+      detrend: options.detrend,
+      firstSample,
       medianOf: average === 'median' ? planned : undefined,
     };
-    const spectra = chooseChannelSpectra(plan, info.channels.length, threads, filterFaults ? acceptFor : options.excludeClipped ? () => scan.makeAccept() : undefined);
+    const spectra = chooseChannelSpectra(
+      plan,
+      info.channels.length,
+      threads,
+      filterFaults ? acceptFor : options.excludeClipped ? () => scan.makeAccept() : undefined,
+    );
     if (spectra.close) closeSpectra = () => spectra.close!();
     const crosses = pairs.map(
       () =>
         new CrossSpectrum({
-          sampleRate: info.sampleRate, segment, window, overlap: options.overlap, detrend: options.detrend, firstSample,
+          sampleRate: info.sampleRate,
+          segment,
+          window,
+          overlap: options.overlap,
+          detrend: options.detrend,
+          firstSample,
           accept: acceptFor(),
         }),
     );
@@ -296,7 +328,12 @@ export async function analyzeFile(
       average,
       excludedSegments: results[0].segmentsExcluded,
       equivalentAverages: keq,
-      span: { firstSample, endSample: firstSample + done, from: firstSample / info.sampleRate, to: (firstSample + done) / info.sampleRate },
+      span: {
+        firstSample,
+        endSample: firstSample + done,
+        from: firstSample / info.sampleRate,
+        to: (firstSample + done) / info.sampleRate,
+      },
     };
     const halfWidth = windowMainLobeHalfWidth(window);
     const bands = options.bands.length > 0 ? options.bands : defaultBands(info.sampleRate, segment, halfWidth);
@@ -320,7 +357,11 @@ export async function analyzeFile(
         psd,
         asd,
         rms: bandRmsInBins(psd, first.binHz, 1, psd.length - 1),
-        bands: bands.map((b, i) => ({ low: b.low, high: b.high, rms: bandRmsInBins(psd, first.binHz, ranges[i].first, ranges[i].last) })),
+        bands: bands.map((b, i) => ({
+          low: b.low,
+          high: b.high,
+          rms: bandRmsInBins(psd, first.binHz, ranges[i].first, ranges[i].last),
+        })),
         clippedSamples: clip.count,
         missingSamples: clip.missing,
         ...(Number.isFinite(fullScales[c]) ? { fullScale: fullScales[c] } : {}),
@@ -333,15 +374,23 @@ export async function analyzeFile(
       if (options.cumulative) out.cumulativeRms = cumulativeRms(psd, first.binHz);
       if (mask && limits) {
         if (mask.unit !== undefined && mask.unit !== ch.unit) {
-          throw new AnalysisInputError(`--mask ${mask.path}: its limits are in ${mask.unit}/√Hz but channel ${ch.name} is in ${ch.unit}/√Hz; give a mask in ${ch.unit}/√Hz.`);
+          throw new AnalysisInputError(
+            `--mask ${mask.path}: its limits are in ${mask.unit}/√Hz but channel ${ch.name} is in ${ch.unit}/√Hz; give a mask in ${ch.unit}/√Hz.`,
+          );
         }
         const whole = judgeMask(asd, limits, first.frequencies, 1, psd.length - 1);
         if (!whole.pass) maskFailed = true;
-        const perBand = bands.map((b, i) => ({ low: b.low, high: b.high, ...judgeMask(asd, limits, first.frequencies, Math.max(1, ranges[i].first), ranges[i].last) }));
+        const perBand = bands.map((b, i) => ({
+          low: b.low,
+          high: b.high,
+          ...judgeMask(asd, limits, first.frequencies, Math.max(1, ranges[i].first), ranges[i].last),
+        }));
         out.mask = { ...whole, bands: perBand };
       }
       if (options.source && ch.unit !== 'V') {
-        throw new AnalysisInputError(`--source-ohms: channel ${ch.name} is in ${ch.unit}, but a noise figure compares volts with Johnson noise; give --scale or --unit V for a volts recording.`);
+        throw new AnalysisInputError(
+          `--source-ohms: channel ${ch.name} is in ${ch.unit}, but a noise figure compares volts with Johnson noise; give --scale or --unit V for a volts recording.`,
+        );
       }
       if (options.source) out.noiseFigure = bandNoiseFigures(psd, first.binHz, bands, ranges, options.source);
       return out;
@@ -355,10 +404,23 @@ export async function analyzeFile(
           r.csdRe[k] /= g;
           r.csdIm[k] /= g;
         }
-        return { a: info.channels[p.a].name, b: info.channels[p.b].name, frequency: first.frequencies, coherence: r.coherence, csdRe: r.csdRe, csdIm: r.csdIm };
+        return {
+          a: info.channels[p.a].name,
+          b: info.channels[p.b].name,
+          frequency: first.frequencies,
+          coherence: r.coherence,
+          csdRe: r.csdRe,
+          csdIm: r.csdIm,
+        };
       });
     }
-    const clips = info.channels.map((ch, c) => ({ channel: ch.name, count: scan.channels[c].count, missing: scan.channels[c].missing, first: scan.channels[c].first, last: scan.channels[c].last }));
+    const clips = info.channels.map((ch, c) => ({
+      channel: ch.name,
+      count: scan.channels[c].count,
+      missing: scan.channels[c].missing,
+      first: scan.channels[c].first,
+      last: scan.channels[c].last,
+    }));
     return { report, info, clips, maskFailed, maskLimits: limits, excludedFrames: faults.total };
   } finally {
     await closeSpectra?.();

@@ -23,15 +23,22 @@ const ISO = /^\d{4}-\d{2}-\d{2}T/;
 function sampleOf(flag: string, text: string, file: SpanFile): number {
   if (ISO.test(text)) {
     const at = Date.parse(text);
-    if (Number.isNaN(at)) throw new AnalysisInputError(`--${flag} ${text}: not a valid ISO-8601 time; write e.g. 2026-12-02T10:15:00Z or seconds of sample time.`);
+    if (Number.isNaN(at))
+      throw new AnalysisInputError(
+        `--${flag} ${text}: not a valid ISO-8601 time; write e.g. 2026-12-02T10:15:00Z or seconds of sample time.`,
+      );
     if (file.startWallTime === undefined) {
-      throw new AnalysisInputError(`--${flag} ${text}: ${file.path} has no start wall time in its metadata; give seconds of sample time instead (e.g. --${flag} 12.5).`);
+      throw new AnalysisInputError(
+        `--${flag} ${text}: ${file.path} has no start wall time in its metadata; give seconds of sample time instead (e.g. --${flag} 12.5).`,
+      );
     }
     return file.firstSample + Math.round(((at - Date.parse(file.startWallTime)) / 1000) * file.sampleRate);
   }
   const seconds = text.trim() === '' ? NaN : Number(text);
   if (!Number.isFinite(seconds) || seconds < 0) {
-    throw new AnalysisInputError(`--${flag} '${text}' is neither seconds of sample time (≥ 0) nor an ISO-8601 time; write e.g. --${flag} 12.5.`);
+    throw new AnalysisInputError(
+      `--${flag} '${text}' is neither seconds of sample time (≥ 0) nor an ISO-8601 time; write e.g. --${flag} 12.5.`,
+    );
   }
   return Math.round(seconds * file.sampleRate);
 }
@@ -45,6 +52,9 @@ export function frameSpan(file: SpanFile, from: string | undefined, to: string |
   const b = to === undefined ? fileEnd : sampleOf('to', to, file);
   if (a < first || a >= fileEnd) throw new AnalysisInputError(`--from ${from}: outside the recording; ${describe}.`);
   if (b <= first || b > fileEnd) throw new AnalysisInputError(`--to ${to}: outside the recording; ${describe}.`);
-  if (b <= a) throw new AnalysisInputError(`--from ${from ?? 'start'} --to ${to ?? 'end'}: the span is empty; give --to after --from.`);
+  if (b <= a)
+    throw new AnalysisInputError(
+      `--from ${from ?? 'start'} --to ${to ?? 'end'}: the span is empty; give --to after --from.`,
+    );
   return { start: a - first, end: b - first };
 }

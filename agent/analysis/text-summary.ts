@@ -41,7 +41,12 @@ function channelLines(r: AnalysisReport, ch: ChannelReport): string[] {
   const floor = medianFloor(ch.asd);
   const ci = densityIntervalFactors(2 * s.equivalentAverages, 0.95);
   // A bin's density S lies in [Ŝ·lower, Ŝ·upper] (χ² with ν = 2·K_eq); the ASD interval is its square root.
-  out.push(row('floor density (median ASD)', `${formatSi(floor, du)} (95 % interval of a bin: ${formatSi(floor * Math.sqrt(ci.lower), du)} to ${formatSi(floor * Math.sqrt(ci.upper), du)})`));
+  out.push(
+    row(
+      'floor density (median ASD)',
+      `${formatSi(floor, du)} (95 % interval of a bin: ${formatSi(floor * Math.sqrt(ci.lower), du)} to ${formatSi(floor * Math.sqrt(ci.upper), du)})`,
+    ),
+  );
   // The same floor re the converter, at the ADC (× gain when input-referred): dBFS/√Hz re a full-scale sine's RMS
   // (AES17, dsp/units.ts) and LSB/√Hz.
   const atAdc = floor * (ch.gain ?? 1);
@@ -68,26 +73,50 @@ function channelLines(r: AnalysisReport, ch: ChannelReport): string[] {
     out.push(row('lines above the local floor', ch.lines.length === 0 ? 'none' : `${ch.lines.length}`));
     for (const l of ch.lines) {
       const what = l.harmonic ? `mains harmonic ${l.harmonic}` : 'line';
-      out.push(`    ${l.frequency.toFixed(2).padStart(10)} Hz  ${formatSi(l.amplitude, `${au} rms`).padEnd(16)} ${l.dbOverFloor.toFixed(1).padStart(6)} dB over floor  ${what}`);
+      out.push(
+        `    ${l.frequency.toFixed(2).padStart(10)} Hz  ${formatSi(l.amplitude, `${au} rms`).padEnd(16)} ${l.dbOverFloor.toFixed(1).padStart(6)} dB over floor  ${what}`,
+      );
     }
   }
   if (ch.mask) {
     const m = ch.mask;
     const verdict = (v: { pass: boolean; worstMarginDb: number; worstFrequency: number; bins: number }): string =>
-      v.bins === 0 ? 'not covered by the mask' : `${v.pass ? 'pass' : 'FAIL'}, worst margin ${v.worstMarginDb.toFixed(2)} dB at ${v.worstFrequency.toPrecision(5)} Hz`;
+      v.bins === 0
+        ? 'not covered by the mask'
+        : `${v.pass ? 'pass' : 'FAIL'}, worst margin ${v.worstMarginDb.toFixed(2)} dB at ${v.worstFrequency.toPrecision(5)} Hz`;
     out.push(row('limit mask', verdict(m)));
     for (const b of m.bands) out.push(row(`  mask, band ${bandLabel(b.low, b.high)}`, verdict(b)));
   }
   if (ch.budget) {
     const b = ch.budget;
-    out.push(row('noise budget (metadata)', `${formatSi(b.total, du)} = √(${b.parts.map((p) => `${p.name} ${formatSi(p.density, '')}`.trimEnd()).join('² + ')}²)`));
-    out.push(row(`  measured near ${b.at} Hz`, `${formatSi(b.measured, du)}: ${b.differenceDb >= 0 ? '+' : ''}${b.differenceDb.toFixed(2)} dB against the budget`));
+    out.push(
+      row(
+        'noise budget (metadata)',
+        `${formatSi(b.total, du)} = √(${b.parts.map((p) => `${p.name} ${formatSi(p.density, '')}`.trimEnd()).join('² + ')}²)`,
+      ),
+    );
+    out.push(
+      row(
+        `  measured near ${b.at} Hz`,
+        `${formatSi(b.measured, du)}: ${b.differenceDb >= 0 ? '+' : ''}${b.differenceDb.toFixed(2)} dB against the budget`,
+      ),
+    );
   }
   if (ch.noiseFigure) {
     const nf = ch.noiseFigure;
-    out.push(row('source', `${formatSi(nf.sourceOhms, 'Ω')} at ${nf.sourceKelvin} K: Johnson ${formatSi(nf.sourceDensity, 'V/√Hz')}`));
+    out.push(
+      row(
+        'source',
+        `${formatSi(nf.sourceOhms, 'Ω')} at ${nf.sourceKelvin} K: Johnson ${formatSi(nf.sourceDensity, 'V/√Hz')}`,
+      ),
+    );
     for (const b of nf.bands) {
-      out.push(row(`  NF, band ${bandLabel(b.low, b.high)}`, `${b.noiseFigureDb.toFixed(2)} dB, T_e ${b.noiseTemperature.toPrecision(3)} K (mean density ${formatSi(b.density, du)})`));
+      out.push(
+        row(
+          `  NF, band ${bandLabel(b.low, b.high)}`,
+          `${b.noiseFigureDb.toFixed(2)} dB, T_e ${b.noiseTemperature.toPrecision(3)} K (mean density ${formatSi(b.density, du)})`,
+        ),
+      );
     }
   }
   return out;
@@ -112,7 +141,10 @@ export function formatTextSummary(r: AnalysisReport, warnings: readonly string[]
     for (const c of r.coherence) {
       let best = 1;
       for (let k = 2; k < c.coherence.length - 1; k++) if (c.coherence[k] > c.coherence[best]) best = k;
-      lines.push('', `coherence ${c.a}–${c.b}: highest ${c.coherence[best].toFixed(3)} at ${c.frequency[best].toPrecision(5)} Hz (magnitude-squared; --json or --csv for every bin)`);
+      lines.push(
+        '',
+        `coherence ${c.a}–${c.b}: highest ${c.coherence[best].toFixed(3)} at ${c.frequency[best].toPrecision(5)} Hz (magnitude-squared; --json or --csv for every bin)`,
+      );
     }
   }
   return lines.join('\n') + '\n';

@@ -111,8 +111,14 @@ export class BaselineCapture {
         );
       }
       settlingParts.push(
-        settlingCheck(this.o.channels[c].name, { psd: h1.psd(), equivalentAverages: h1.equivalentAverages() },
-          { psd: h2.psd(), equivalentAverages: h2.equivalentAverages() }, binHz, this.o.bands, corr),
+        settlingCheck(
+          this.o.channels[c].name,
+          { psd: h1.psd(), equivalentAverages: h1.equivalentAverages() },
+          { psd: h2.psd(), equivalentAverages: h2.equivalentAverages() },
+          binHz,
+          this.o.bands,
+          corr,
+        ),
       );
       channels.push({
         name: this.o.channels[c].name,

@@ -68,13 +68,17 @@ export async function readBaseline(path: string): Promise<BaselineFile> {
   try {
     text = await readFile(path, 'utf8');
   } catch (err) {
-    throw new InputError(`baseline ${path}: cannot read it (${(err as Error).message}); give the path of a file made by \`floorline baseline\`.`);
+    throw new InputError(
+      `baseline ${path}: cannot read it (${(err as Error).message}); give the path of a file made by \`floorline baseline\`.`,
+    );
   }
   let value: unknown;
   try {
     value = JSON.parse(text);
   } catch (err) {
-    throw new InputError(`baseline ${path}: not JSON (${(err as Error).message}); make a fresh one with \`floorline baseline FILE -o ${path}\`.`);
+    throw new InputError(
+      `baseline ${path}: not JSON (${(err as Error).message}); make a fresh one with \`floorline baseline FILE -o ${path}\`.`,
+    );
   }
   return validateBaseline(value, path);
 }
@@ -89,17 +93,32 @@ export function validateBaseline(v: unknown, where: string): BaselineFile {
   if (b.schema !== BASELINE_SCHEMA) fail(`schema is ${JSON.stringify(b.schema)}, expected ${BASELINE_SCHEMA}`);
   const s = b.settings;
   if (typeof s !== 'object' || s === null) fail('settings are missing');
-  if (!s || typeof s.sampleRate !== 'number' || typeof s.segment !== 'number' || typeof s.window !== 'string' ||
-      typeof s.overlap !== 'number' || typeof s.detrend !== 'string') fail('settings are incomplete');
-  if (b.settingsHash !== settingsHash(s!)) fail(`settingsHash ${b.settingsHash} does not match its settings (${settingsHash(s!)}): the file was edited`);
+  if (
+    !s ||
+    typeof s.sampleRate !== 'number' ||
+    typeof s.segment !== 'number' ||
+    typeof s.window !== 'string' ||
+    typeof s.overlap !== 'number' ||
+    typeof s.detrend !== 'string'
+  )
+    fail('settings are incomplete');
+  if (b.settingsHash !== settingsHash(s!))
+    fail(`settingsHash ${b.settingsHash} does not match its settings (${settingsHash(s!)}): the file was edited`);
   if (!Array.isArray(b.channels) || b.channels.length === 0) fail('has no channels');
   const bins = s!.segment / 2 + 1;
   for (const c of b.channels!) {
     if (typeof c !== 'object' || c === null || Array.isArray(c)) fail('a channel entry is not an object');
     if (typeof c.name !== 'string') fail('a channel has no name');
-    if (!Array.isArray(c.psd) || c.psd.length !== bins) fail(`channel ${c.name} has ${c.psd?.length} density bins, settings need ${bins}`);
-    if (!c.psd.every((x) => typeof x === 'number' && Number.isFinite(x) && x >= 0)) fail(`channel ${c.name} density holds a value that is not a finite number ≥ 0`);
-    if (!(typeof c.equivalentAverages === 'number' && c.equivalentAverages > 0 && Number.isFinite(c.equivalentAverages))) fail(`channel ${c.name} equivalentAverages must be > 0`);
+    if (!Array.isArray(c.psd) || c.psd.length !== bins)
+      fail(`channel ${c.name} has ${c.psd?.length} density bins, settings need ${bins}`);
+    if (!c.psd.every((x) => typeof x === 'number' && Number.isFinite(x) && x >= 0))
+      fail(`channel ${c.name} density holds a value that is not a finite number ≥ 0`);
+    if (!(
+      typeof c.equivalentAverages === 'number' &&
+      c.equivalentAverages > 0 &&
+      Number.isFinite(c.equivalentAverages)
+    ))
+      fail(`channel ${c.name} equivalentAverages must be > 0`);
   }
   if (typeof b.span !== 'object' || b.span === null || typeof b.span.firstSample !== 'number') fail('span is missing');
   return b as BaselineFile;
@@ -109,12 +128,17 @@ export function validateBaseline(v: unknown, where: string): BaselineFile {
  * Refuses a comparison between a baseline and a live stream whose settings or channels differ, naming the first
  * difference (a density from another segment, window, overlap, detrend or rate is not comparable bin by bin).
  */
-export function checkBaselineMatches(b: BaselineFile, live: AnalysisSettings, channels: readonly string[], where: string): void {
+export function checkBaselineMatches(
+  b: BaselineFile,
+  live: AnalysisSettings,
+  channels: readonly string[],
+  where: string,
+): void {
   const diff = firstSettingMismatch(b.settings, live);
   if (diff) {
     throw new InputError(
       `baseline ${where} was taken with other analysis settings: ${diff} (baseline vs live). ` +
-        'Run with the baseline\'s settings or capture a new baseline with the live ones.',
+        "Run with the baseline's settings or capture a new baseline with the live ones.",
     );
   }
   for (const name of channels) {

@@ -27,14 +27,19 @@ export interface LiveCapture {
 export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapture {
   const settings = pipeline.analysisSettings;
   const stream = pipeline.stream;
-  if (!settings || !stream) throw new RangeError('baseline capture: the stream has not started yet; wait for data from the board');
+  if (!settings || !stream)
+    throw new RangeError('baseline capture: the stream has not started yet; wait for data from the board');
   if (!(o.seconds > 0)) throw new RangeError(`baseline capture: seconds must be > 0, got ${o.seconds}`);
   const hash = settingsHash(settings);
   const samples = Math.round(o.seconds * settings.sampleRate);
   if (samples < 4 * settings.segment) {
-    throw new RangeError(`baseline capture: ${o.seconds} s is shorter than 4 segments (${((4 * settings.segment) / settings.sampleRate).toFixed(2)} s); capture longer`);
+    throw new RangeError(
+      `baseline capture: ${o.seconds} s is shorter than 4 segments (${((4 * settings.segment) / settings.sampleRate).toFixed(2)} s); capture longer`,
+    );
   }
-  const bands = o.bands?.length ? o.bands : defaultBands(settings.sampleRate, settings.segment, windowMainLobeHalfWidth(settings.window));
+  const bands = o.bands?.length
+    ? o.bands
+    : defaultBands(settings.sampleRate, settings.segment, windowMainLobeHalfWidth(settings.window));
   let capture: BaselineCapture | undefined;
   let taken = 0;
   const offs: (() => void)[] = [];
@@ -56,8 +61,13 @@ export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapt
           return;
         }
         capture ??= new BaselineCapture({
-          settings, channels: stream.channels.map((c) => ({ name: c.name, unit: c.unit })), firstSample: b.firstSample,
-          samples, bands, source: `live ${stream.source.kind} ${stream.source.label}`, notes: o.notes,
+          settings,
+          channels: stream.channels.map((c) => ({ name: c.name, unit: c.unit })),
+          firstSample: b.firstSample,
+          samples,
+          bands,
+          source: `live ${stream.source.kind} ${stream.source.label}`,
+          notes: o.notes,
         });
         taken = Math.min(samples, b.firstSample + b.frames - capture.firstSample);
         if (capture.push(b)) {
@@ -72,7 +82,11 @@ export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapt
       pipeline.on('gap', (g) => capture?.gap(g.sample + g.lost)),
       pipeline.on('end', () => {
         stop();
-        reject(new Error(`baseline capture: the stream ended after ${(taken / settings.sampleRate).toFixed(1)} s of the ${o.seconds} s span`));
+        reject(
+          new Error(
+            `baseline capture: the stream ended after ${(taken / settings.sampleRate).toFixed(1)} s of the ${o.seconds} s span`,
+          ),
+        );
       }),
     );
   });

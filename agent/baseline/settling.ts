@@ -52,7 +52,10 @@ export function settlingCheck(
   return { bands: out, warnings };
 }
 
-export function combineSettling(parts: { bands: SettlingBand[]; warnings: string[] }[], alpha = SETTLING_ALPHA): Settling {
+export function combineSettling(
+  parts: { bands: SettlingBand[]; warnings: string[] }[],
+  alpha = SETTLING_ALPHA,
+): Settling {
   const bands = parts.flatMap((p) => p.bands);
   const warnings = parts.flatMap((p) => p.warnings);
   return { settled: warnings.length === 0, alpha, bands, warnings };

@@ -109,7 +109,9 @@ export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArg
     given.add(flag.name);
     if (flag.kind === 'boolean') {
       if (inline !== undefined && inline !== 'true' && inline !== 'false') {
-        throw new UsageError(`floorline ${spec.name}: --${flag.name} takes no value (got '${inline}'); write just --${flag.name}.`);
+        throw new UsageError(
+          `floorline ${spec.name}: --${flag.name} takes no value (got '${inline}'); write just --${flag.name}.`,
+        );
       }
       flags[flag.name] = inline !== 'false';
       continue;

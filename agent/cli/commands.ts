@@ -14,4 +14,18 @@ import { incidentsCommand } from '../store/commands/incidents.ts';
 import { noteCommand } from '../store/commands/note.ts';
 import { reportCommand } from '../report/command.ts';
 
-export const commands: CommandSpec[] = [demoCommand, runCommand, replayCommand, analyzeCommand, repairCommand, simulateCommand, portsCommand, baselineCommand, trendCommand, incidentsCommand, noteCommand, reportCommand, configCommand];
+export const commands: CommandSpec[] = [
+  demoCommand,
+  runCommand,
+  replayCommand,
+  analyzeCommand,
+  repairCommand,
+  simulateCommand,
+  portsCommand,
+  baselineCommand,
+  trendCommand,
+  incidentsCommand,
+  noteCommand,
+  reportCommand,
+  configCommand,
+];

@@ -10,7 +10,15 @@ const SERVICE_COMMANDS = ['run', 'replay', 'demo'];
 
 function topHelp(): string {
   const rows = commands.map((c) => `  ${c.name.padEnd(10)} ${c.summary}`);
-  return ['usage: floorline <command> [flags]', '', 'commands:', ...rows, '', 'Run `floorline <command> --help` for its flags.', ''].join('\n');
+  return [
+    'usage: floorline <command> [flags]',
+    '',
+    'commands:',
+    ...rows,
+    '',
+    'Run `floorline <command> --help` for its flags.',
+    '',
+  ].join('\n');
 }
 
 export async function main(argv: string[]): Promise<number> {
@@ -21,7 +29,9 @@ export async function main(argv: string[]): Promise<number> {
   }
   const spec: CommandSpec | undefined = commands.find((c) => c.name === name);
   if (!spec) {
-    process.stderr.write(`floorline: unknown command '${name}'; commands are ${commands.map((c) => c.name).join(', ')}. See \`floorline --help\`.\n`);
+    process.stderr.write(
+      `floorline: unknown command '${name}'; commands are ${commands.map((c) => c.name).join(', ')}. See \`floorline --help\`.\n`,
+    );
     return 2;
   }
   if (rest.includes('--help') || rest.includes('-h')) {

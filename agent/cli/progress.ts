@@ -22,7 +22,9 @@ export function createProgress(label: string, stream: TtyLike = process.stderr):
       shown = permille;
       const width = Math.max(10, Math.min(40, (stream.columns ?? 80) - label.length - 12));
       const full = Math.round((permille / 1000) * width);
-      stream.write(`\r${label} [${'#'.repeat(full)}${'.'.repeat(width - full)}] ${(permille / 10).toFixed(1).padStart(5)}%`);
+      stream.write(
+        `\r${label} [${'#'.repeat(full)}${'.'.repeat(width - full)}] ${(permille / 10).toFixed(1).padStart(5)}%`,
+      );
       drawn = true;
     },
     finish() {

@@ -68,7 +68,12 @@ export function effectiveSettings(loaded: LoadedRigConfig): Record<string, unkno
   const c = loaded.config;
   return {
     file: loaded.file,
-    source: { port: c.source?.port ?? null, baud: c.source?.baud ?? 921600, format: c.source?.format ?? 'binary', rate: c.source?.rate ?? null },
+    source: {
+      port: c.source?.port ?? null,
+      baud: c.source?.baud ?? 921600,
+      format: c.source?.format ?? 'binary',
+      rate: c.source?.rate ?? null,
+    },
     channels: (c.channels ?? []).map((ch) => ({
       name: ch.name,
       unit: ch.unit,
@@ -97,7 +102,9 @@ export function effectiveSettings(loaded: LoadedRigConfig): Record<string, unkno
     server: {
       host: c.server?.host ?? DEFAULT_HOST,
       port: c.server?.port ?? DEFAULT_HTTP_PORT,
-      token: c.server?.tokenEnv ? `from $${c.server.tokenEnv}${process.env[c.server.tokenEnv] ? '' : ' (not set)'}` : null,
+      token: c.server?.tokenEnv
+        ? `from $${c.server.tokenEnv}${process.env[c.server.tokenEnv] ? '' : ' (not set)'}`
+        : null,
     },
     masks: c.masks ?? {},
   };

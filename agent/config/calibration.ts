@@ -2,7 +2,14 @@
 // unit per count), so the conditioner's one multiplication by `scale` applies it and everything downstream
 // (spectra, bands, events, recordings and their sidecars) is in calibrated, optionally input-referred, units.
 // A recording made that way carries the calibration in its sidecar; replaying it applies nothing twice.
-import type { ChannelCalibration, ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../../protocol/stream.ts';
+import type {
+  ChannelCalibration,
+  ChannelInfo,
+  Source,
+  SourceCounters,
+  SourceSink,
+  StreamInfo,
+} from '../../protocol/stream.ts';
 import type { ChannelConfig } from './rig-config.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 
@@ -36,7 +43,9 @@ export function calibrationOf(c: ChannelConfig): ChannelCalibration {
 export function calibrateChannels(stream: StreamInfo, config: readonly ChannelConfig[]): CalibrationResult {
   const notes: string[] = [];
   if (config.length !== stream.channels.length) {
-    notes.push(`the config lists ${config.length} channel(s), the ${stream.source.kind} has ${stream.channels.length}; calibrating the first ${Math.min(config.length, stream.channels.length)} by position`);
+    notes.push(
+      `the config lists ${config.length} channel(s), the ${stream.source.kind} has ${stream.channels.length}; calibrating the first ${Math.min(config.length, stream.channels.length)} by position`,
+    );
   }
   const fromCounts = stream.source.kind !== 'replay';
   const channels = stream.channels.map((ch, i) => {
@@ -45,11 +54,16 @@ export function calibrateChannels(stream: StreamInfo, config: readonly ChannelCo
     const wanted = calibrationOf(c);
     if (ch.calibration) {
       if (!sameCalibration(ch.calibration, wanted)) {
-        notes.push(`${ch.name}: the recording is already calibrated (gain ${ch.calibration.gain ?? 1}, ${ch.calibration.inputReferred ? 'input-referred' : 'not input-referred'}, ${ch.calibration.unit}); its units are kept, the config's channel ${i} is not applied again`);
+        notes.push(
+          `${ch.name}: the recording is already calibrated (gain ${ch.calibration.gain ?? 1}, ${ch.calibration.inputReferred ? 'input-referred' : 'not input-referred'}, ${ch.calibration.unit}); its units are kept, the config's channel ${i} is not applied again`,
+        );
       }
       return ch;
     }
-    if (!fromCounts && c.voltsPerCount !== undefined) notes.push(`${c.name}: voltsPerCount applies to a board's raw counts; the recording is already in ${ch.unit}, so only the gain is used`);
+    if (!fromCounts && c.voltsPerCount !== undefined)
+      notes.push(
+        `${c.name}: voltsPerCount applies to a board's raw counts; the recording is already in ${ch.unit}, so only the gain is used`,
+      );
     let scale = fromCounts && c.voltsPerCount !== undefined ? c.voltsPerCount : ch.scale;
     if (c.inputReferred && c.gain !== undefined) scale /= c.gain;
     return { ...ch, name: c.name, unit: c.unit, scale, calibration: wanted };
@@ -107,7 +121,10 @@ export class CalibratedSource implements Source {
  * A baseline taken from an uncalibrated recording, brought into the units the config's calibration gives a replay
  * of it (PSD × f², band RMS × f with f = 1/gain for an input-referred channel), so the comparison stays valid.
  */
-export function rescaleBaselineForReplay(baseline: BaselineFile, config: readonly ChannelConfig[]): { baseline: BaselineFile; changed: string[] } {
+export function rescaleBaselineForReplay(
+  baseline: BaselineFile,
+  config: readonly ChannelConfig[],
+): { baseline: BaselineFile; changed: string[] } {
   const changed: string[] = [];
   const channels = baseline.channels.map((ch, i) => {
     const c = config[i];
@@ -115,7 +132,13 @@ export function rescaleBaselineForReplay(baseline: BaselineFile, config: readonl
     const f = c.inputReferred && c.gain !== undefined ? 1 / c.gain : 1;
     if (f === 1 && c.name === ch.name && c.unit === ch.unit) return ch;
     changed.push(`${ch.name} → ${c.name}${f !== 1 ? ` (×${f})` : ''}`);
-    return { ...ch, name: c.name, unit: c.unit, psd: ch.psd.map((p) => p * f * f), bands: ch.bands.map((b) => ({ ...b, rms: b.rms * f })) };
+    return {
+      ...ch,
+      name: c.name,
+      unit: c.unit,
+      psd: ch.psd.map((p) => p * f * f),
+      bands: ch.bands.map((b) => ({ ...b, rms: b.rms * f })),
+    };
   });
   return { baseline: { ...baseline, channels }, changed };
 }

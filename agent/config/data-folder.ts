@@ -35,7 +35,10 @@ export function ensureDataFolder(folder: DataFolder): DataFolder {
       mkdirSync(d, { recursive: true });
     } catch (err) {
       const e = err as NodeJS.ErrnoException;
-      throw new FloorlineError('DATA_FOLDER', `cannot create data folder ${d} (${e.code ?? e.message}); pick a writable place with --data DIR`);
+      throw new FloorlineError(
+        'DATA_FOLDER',
+        `cannot create data folder ${d} (${e.code ?? e.message}); pick a writable place with --data DIR`,
+      );
     }
   }
   return folder;

@@ -49,7 +49,14 @@ export interface Quota {
 export interface RigConfig {
   source?: { port?: string; baud?: number; format?: 'binary' | 'text'; rate?: number };
   channels?: ChannelConfig[];
-  analysis?: { segment?: number; window?: string; overlap?: number; detrend?: 'none' | 'mean' | 'linear'; average?: string; snapshotRate?: number };
+  analysis?: {
+    segment?: number;
+    window?: string;
+    overlap?: number;
+    detrend?: 'none' | 'mean' | 'linear';
+    average?: string;
+    snapshotRate?: number;
+  };
   bands?: string[];
   rules?: Record<string, unknown>;
   notify?: SinkConfig[];
@@ -80,7 +87,10 @@ const validate = new Ajv({ allErrors: true, strict: true }).compile<RigConfig>(s
 
 /** "/channels/1/gain" → "channels[1].gain" (the root is "(top level)"). */
 export function jsonPath(pointer: string): string {
-  const parts = pointer.split('/').slice(1).map((p) => p.replace(/~1/g, '/').replace(/~0/g, '~'));
+  const parts = pointer
+    .split('/')
+    .slice(1)
+    .map((p) => p.replace(/~1/g, '/').replace(/~0/g, '~'));
   let out = '';
   for (const p of parts) out += /^\d+$/.test(p) ? `[${p}]` : out === '' ? p : `.${p}`;
   return out || '(top level)';
@@ -108,8 +118,10 @@ function describe(e: ErrorObject): string {
     message = 'is not a known key';
     return `${path}: ${message}; remove it or check its spelling (see agent/config/rig-config.schema.json)`;
   }
-  if (e.keyword === 'enum') message += ` ${(e.params as { allowedValues: unknown[] }).allowedValues.map((v) => JSON.stringify(v)).join(', ')}`;
-  if (e.keyword === 'pattern' && path.endsWith('webhook')) return `${path}: must be an http:// or https:// URL; give the receiver's http(s) address`;
+  if (e.keyword === 'enum')
+    message += ` ${(e.params as { allowedValues: unknown[] }).allowedValues.map((v) => JSON.stringify(v)).join(', ')}`;
+  if (e.keyword === 'pattern' && path.endsWith('webhook'))
+    return `${path}: must be an http:// or https:// URL; give the receiver's http(s) address`;
   if (e.keyword === 'pattern' && /bands\[\d+\]$/.test(path)) return `${path}: must be "LO:HI" in Hz, e.g. "20:2000"`;
   return `${path}: ${message}${FIXES[e.keyword] ? `; ${FIXES[e.keyword]}` : ''}`;
 }
@@ -163,9 +175,11 @@ function semanticProblems(c: RigConfig): string[] {
   });
   const names = new Set<string>();
   c.channels?.forEach((ch, i) => {
-    if (names.has(ch.name)) out.push(`channels[${i}].name: "${ch.name}" is used twice; give every channel its own name`);
+    if (names.has(ch.name))
+      out.push(`channels[${i}].name: "${ch.name}" is used twice; give every channel its own name`);
     names.add(ch.name);
-    if (ch.inputReferred && ch.gain === undefined) out.push(`channels[${i}].inputReferred: needs a gain to refer to the input; add "gain" or drop "inputReferred"`);
+    if (ch.inputReferred && ch.gain === undefined)
+      out.push(`channels[${i}].inputReferred: needs a gain to refer to the input; add "gain" or drop "inputReferred"`);
   });
   c.notify?.forEach((s, i) => {
     if ('webhook' in s) {
@@ -175,11 +189,18 @@ function semanticProblems(c: RigConfig): string[] {
       } catch {
         out.push(`notify[${i}].webhook: "${s.webhook}" is not a URL; give http://HOST:PORT/PATH or https://…`);
       }
-      if (url && url.protocol !== 'http:' && url.protocol !== 'https:') out.push(`notify[${i}].webhook: must be an http:// or https:// URL`);
+      if (url && url.protocol !== 'http:' && url.protocol !== 'https:')
+        out.push(`notify[${i}].webhook: must be an http:// or https:// URL`);
     } else {
       const prog = s.exec[0];
-      if (!isAbsolute(prog)) out.push(`notify[${i}].exec[0]: "${prog}" is not an absolute path; give the program's full path (it runs without a shell or PATH search)`);
-      else if (!isExecutable(prog)) out.push(`notify[${i}].exec[0]: ${prog} does not exist or is not executable; give the full path of an executable file`);
+      if (!isAbsolute(prog))
+        out.push(
+          `notify[${i}].exec[0]: "${prog}" is not an absolute path; give the program's full path (it runs without a shell or PATH search)`,
+        );
+      else if (!isExecutable(prog))
+        out.push(
+          `notify[${i}].exec[0]: ${prog} does not exist or is not executable; give the full path of an executable file`,
+        );
     }
   });
   for (const [ch, file] of Object.entries(c.masks ?? {})) {
@@ -222,7 +243,9 @@ export function loadRigConfig(file: string): LoadedRigConfig {
   try {
     text = readFileSync(file, 'utf8');
   } catch (err) {
-    throw new ConfigError(`config ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give the path of a rig config JSON file.`);
+    throw new ConfigError(
+      `config ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give the path of a rig config JSON file.`,
+    );
   }
   let value: unknown;
   try {

@@ -4,7 +4,17 @@
 // back to the last whole line, so the file only ever holds whole lines; the events a failing target missed are
 // held (bounded) and written, in order, once it accepts writes again. A torn last line left by a crash is cut off
 // when the log opens. A target that grows past maxBytes is rotated (NAME → NAME.1 → … → NAME.keep).
-import { closeSync, fstatSync, ftruncateSync, mkdirSync, openSync, readSync, renameSync, rmSync, writeSync } from 'node:fs';
+import {
+  closeSync,
+  fstatSync,
+  ftruncateSync,
+  mkdirSync,
+  openSync,
+  readSync,
+  renameSync,
+  rmSync,
+  writeSync,
+} from 'node:fs';
 import { dirname } from 'node:path';
 import { eventToJsonLine, type FloorlineEvent } from '../../protocol/events.ts';
 import { InputError } from '../errors.ts';
@@ -74,14 +84,18 @@ export class EventLog {
         this.targets.push({ path, fd, size: cutTornTail(fd), held: [], dropped: 0, error: null, rotates: true });
       } catch (err) {
         this.close();
-        throw new InputError(`event log ${path}: cannot open it for appending (${(err as Error).message}); choose a writable path.`);
+        throw new InputError(
+          `event log ${path}: cannot open it for appending (${(err as Error).message}); choose a writable path.`,
+        );
       }
     }
   }
 
   /** Targets that are failing now, with the reason and how many events they hold. */
   problems(): { path: string; error: string; held: number; dropped: number }[] {
-    return this.targets.filter((t) => t.error !== null).map((t) => ({ path: t.path, error: t.error!, held: t.held.length, dropped: t.dropped }));
+    return this.targets
+      .filter((t) => t.error !== null)
+      .map((t) => ({ path: t.path, error: t.error!, held: t.held.length, dropped: t.dropped }));
   }
 
   /** Never throws: a target that cannot be written holds the line and is retried with the next event. */
@@ -97,7 +111,8 @@ export class EventLog {
 
   close(): void {
     for (const t of this.targets.splice(0)) {
-      if (t.held.length) this.warn(`event log ${t.path}: ${t.held.length} events could not be written (${t.error}); they are lost.`);
+      if (t.held.length)
+        this.warn(`event log ${t.path}: ${t.held.length} events could not be written (${t.error}); they are lost.`);
       closeSync(t.fd);
     }
   }
@@ -125,7 +140,9 @@ export class EventLog {
     t.dropped = 0;
     const reason = t.error;
     t.error = null;
-    this.warn(`event log ${t.path}: writing again after "${reason}"${dropped ? `; ${dropped} older events could not be held and are missing` : ''}.`);
+    this.warn(
+      `event log ${t.path}: writing again after "${reason}"${dropped ? `; ${dropped} older events could not be held and are missing` : ''}.`,
+    );
     return true;
   }
 
@@ -145,7 +162,10 @@ export class EventLog {
         // the torn tail is cut when the log next opens
       }
       const reason = (err as NodeJS.ErrnoException).code ?? (err as Error).message;
-      if (t.error === null && !retrying) this.warn(`event log ${t.path}: cannot write (${reason}); holding events in memory and retrying with each new one.`);
+      if (t.error === null && !retrying)
+        this.warn(
+          `event log ${t.path}: cannot write (${reason}); holding events in memory and retrying with each new one.`,
+        );
       t.error = reason;
       return false;
     }

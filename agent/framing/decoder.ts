@@ -82,7 +82,14 @@ export class FrameDecoder {
   private heldLength = 0;
   /** True while bytes are being discarded, so one run of garbage counts as one sync error. */
   private lostAlignment = false;
-  private readonly frame: SampleFrame = { sequence: 0, channels: 0, format: 'int16', frames: 0, bytes: this.held, offset: 0 };
+  private readonly frame: SampleFrame = {
+    sequence: 0,
+    channels: 0,
+    format: 'int16',
+    frames: 0,
+    bytes: this.held,
+    offset: 0,
+  };
 
   constructor(private readonly handler: FrameHandler) {}
 

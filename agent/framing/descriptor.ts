@@ -1,7 +1,14 @@
 // The descriptor message: what a board tells the host about its stream. Sent by the board right after it
 // starts streaming and whenever the host sends a describe request. Body is UTF-8 JSON (see PROTOCOL.md).
 import { MAX_CHANNELS, SAMPLE_FORMATS, formatFullScale, type SampleFormat } from './protocol.ts';
-import { MAX_NAME_LENGTH, SAMPLE_RATE_MAX, SAMPLE_RATE_MIN, hasControlCharacters, printable, rateProblem } from '../../protocol/limits.ts';
+import {
+  MAX_NAME_LENGTH,
+  SAMPLE_RATE_MAX,
+  SAMPLE_RATE_MIN,
+  hasControlCharacters,
+  printable,
+  rateProblem,
+} from '../../protocol/limits.ts';
 
 /** Largest unit per count: an int32 full scale times this stays well inside float32. */
 export const PER_COUNT_MAX = 1e20;
@@ -41,11 +48,24 @@ function need(cond: boolean, what: string): void {
 export function validateDescriptor(value: unknown): BoardDescriptor {
   need(typeof value === 'object' && value !== null && !Array.isArray(value), 'body is not a JSON object');
   const d = value as Record<string, unknown>;
-  need(typeof d.rate === 'number' && rateProblem(d.rate) === null, `"rate" must be a number of Hz in ${SAMPLE_RATE_MIN}…${SAMPLE_RATE_MAX}`);
+  need(
+    typeof d.rate === 'number' && rateProblem(d.rate) === null,
+    `"rate" must be a number of Hz in ${SAMPLE_RATE_MIN}…${SAMPLE_RATE_MAX}`,
+  );
   need(SAMPLE_FORMATS.includes(d.format as SampleFormat), `"format" must be one of ${SAMPLE_FORMATS.join(', ')}`);
-  for (const k of ['board', 'firmware', 'boot']) need(typeof d[k] === 'string' && !hasControlCharacters(d[k] as string) && (d[k] as string).length <= 256, `"${k}" must be a string of at most 256 printable characters`);
-  need(typeof d.clock === 'number' && Number.isInteger(d.clock) && d.clock >= 0 && d.clock <= 0xffffffff, '"clock" must be an integer 0..2^32-1');
-  need(Array.isArray(d.channels) && d.channels.length >= 1 && d.channels.length <= MAX_CHANNELS, `"channels" must list 1..${MAX_CHANNELS} channels`);
+  for (const k of ['board', 'firmware', 'boot'])
+    need(
+      typeof d[k] === 'string' && !hasControlCharacters(d[k] as string) && (d[k] as string).length <= 256,
+      `"${k}" must be a string of at most 256 printable characters`,
+    );
+  need(
+    typeof d.clock === 'number' && Number.isInteger(d.clock) && d.clock >= 0 && d.clock <= 0xffffffff,
+    '"clock" must be an integer 0..2^32-1',
+  );
+  need(
+    Array.isArray(d.channels) && d.channels.length >= 1 && d.channels.length <= MAX_CHANNELS,
+    `"channels" must list 1..${MAX_CHANNELS} channels`,
+  );
   const limit = formatFullScale(d.format as SampleFormat);
   (d.channels as unknown[]).forEach((c, i) => {
     const ch = c as Record<string, unknown>;
@@ -54,11 +74,20 @@ export function validateDescriptor(value: unknown): BoardDescriptor {
     need(typeof ch.unit === 'string' && ch.unit !== '', `channels[${i}].unit must be a non-empty string`);
     for (const k of ['name', 'unit']) {
       const text = ch[k] as string;
-      need(text.length <= MAX_NAME_LENGTH && !hasControlCharacters(text), `channels[${i}].${k} must be at most ${MAX_NAME_LENGTH} printable characters`);
+      need(
+        text.length <= MAX_NAME_LENGTH && !hasControlCharacters(text),
+        `channels[${i}].${k} must be at most ${MAX_NAME_LENGTH} printable characters`,
+      );
     }
     // A full-scale count times perCount must stay a float32 number: beyond it every sample would be a fault.
-    need(typeof ch.perCount === 'number' && ch.perCount > 0 && ch.perCount <= PER_COUNT_MAX, `channels[${i}].perCount must be a positive number ≤ ${PER_COUNT_MAX}`);
-    need(typeof ch.fullScale === 'number' && ch.fullScale > 0 && ch.fullScale <= limit, `channels[${i}].fullScale must be in (0, ${limit}]`);
+    need(
+      typeof ch.perCount === 'number' && ch.perCount > 0 && ch.perCount <= PER_COUNT_MAX,
+      `channels[${i}].perCount must be a positive number ≤ ${PER_COUNT_MAX}`,
+    );
+    need(
+      typeof ch.fullScale === 'number' && ch.fullScale > 0 && ch.fullScale <= limit,
+      `channels[${i}].fullScale must be in (0, ${limit}]`,
+    );
   });
   return d as unknown as BoardDescriptor;
 }

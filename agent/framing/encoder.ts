@@ -54,11 +54,14 @@ export function encodeSamplesFrame(
   frames: number,
 ): number {
   const channels = data.length;
-  if (channels < 1 || channels > MAX_CHANNELS) throw new RangeError(`samples frame: channel count must be 1..${MAX_CHANNELS}, got ${channels}`);
+  if (channels < 1 || channels > MAX_CHANNELS)
+    throw new RangeError(`samples frame: channel count must be 1..${MAX_CHANNELS}, got ${channels}`);
   const body = SAMPLES_PREFIX + channels * bytesPerSample(format) * frames;
-  if (frames < 1 || body > MAX_BODY) throw new RangeError(`samples frame: ${frames} instants do not fit one frame (body ≤ ${MAX_BODY} bytes)`);
+  if (frames < 1 || body > MAX_BODY)
+    throw new RangeError(`samples frame: ${frames} instants do not fit one frame (body ≤ ${MAX_BODY} bytes)`);
   const total = HEADER_LENGTH + body + CRC_LENGTH;
-  if (offset + total > dst.length) throw new RangeError(`samples frame: needs ${total} bytes at offset ${offset}, buffer has ${dst.length}`);
+  if (offset + total > dst.length)
+    throw new RangeError(`samples frame: needs ${total} bytes at offset ${offset}, buffer has ${dst.length}`);
   writeHeader(dst, offset, KIND_SAMPLES, body);
   const b = offset + HEADER_LENGTH;
   const seq = sequence >>> 0;
@@ -76,7 +79,8 @@ export function encodeSamplesFrame(
 /** A complete descriptor frame. */
 export function encodeDescriptorFrame(d: BoardDescriptor): Uint8Array {
   const body = descriptorToBytes(d);
-  if (body.length > MAX_BODY) throw new RangeError(`descriptor: ${body.length} bytes of JSON exceed one frame (${MAX_BODY}); shorten names`);
+  if (body.length > MAX_BODY)
+    throw new RangeError(`descriptor: ${body.length} bytes of JSON exceed one frame (${MAX_BODY}); shorten names`);
   const out = new Uint8Array(HEADER_LENGTH + body.length + CRC_LENGTH);
   writeHeader(out, 0, KIND_DESCRIPTOR, body.length);
   out.set(body, HEADER_LENGTH);

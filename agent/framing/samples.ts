@@ -99,7 +99,8 @@ export function encodeInterleaved(
     }
     for (let i = 0; i < frames; i++, o += stride) {
       let v = Math.round(src[start + i]);
-      if (!(v >= lo)) v = lo; // also maps NaN to the low end code
+      if (!(v >= lo))
+        v = lo; // also maps NaN to the low end code
       else if (v > hi) v = hi;
       dst[o] = v & 0xff;
       dst[o + 1] = (v >> 8) & 0xff;

@@ -35,9 +35,14 @@ export class TextLineDecoder {
   private sawHeaderOrData = false;
   private readonly values = new Float64Array(MAX_TEXT_CHANNELS);
 
-  constructor(private readonly handler: TextHandler, channels = 0) {
+  constructor(
+    private readonly handler: TextHandler,
+    channels = 0,
+  ) {
     if (!Number.isInteger(channels) || channels < 0 || channels > MAX_TEXT_CHANNELS) {
-      throw new RangeError(`text decoder: channels must be 0 (from the first line) to ${MAX_TEXT_CHANNELS}, got ${channels}`);
+      throw new RangeError(
+        `text decoder: channels must be 0 (from the first line) to ${MAX_TEXT_CHANNELS}, got ${channels}`,
+      );
     }
     this.channels = channels;
   }
@@ -82,7 +87,11 @@ export class TextLineDecoder {
     let numeric = true;
     for (const t of tokens) if (!NUMBER.test(t)) numeric = false;
     if (!numeric) {
-      if (!this.sawHeaderOrData && tokens.length <= MAX_TEXT_CHANNELS && (this.channels === 0 || tokens.length === this.channels)) {
+      if (
+        !this.sawHeaderOrData &&
+        tokens.length <= MAX_TEXT_CHANNELS &&
+        (this.channels === 0 || tokens.length === this.channels)
+      ) {
         this.sawHeaderOrData = true;
         this.channels = tokens.length;
         this.handler.names?.(tokens);

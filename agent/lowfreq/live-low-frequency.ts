@@ -6,8 +6,20 @@ import type { GapNotice, StreamInfo } from '../../protocol/stream.ts';
 import { LiveLogFrequency } from '../../dsp/logfreq/live-log-frequency.ts';
 import { LogFrequencyFrameBuilder, type LogFrequencyFrame } from '../../dsp/logfreq/live-frame.ts';
 import { PeakToPeakMeter, peakToPeakFigures } from '../../dsp/flicker/peak-to-peak.ts';
-import { fitCorner, logChiSquareBias, logChiSquareVariance, logCornerModel, type CornerFit } from '../../dsp/flicker/corner-fit.ts';
-import type { CornerFitReading, LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate, PeakToPeakFigures } from '../../protocol/low-frequency-messages.ts';
+import {
+  fitCorner,
+  logChiSquareBias,
+  logChiSquareVariance,
+  logCornerModel,
+  type CornerFit,
+} from '../../dsp/flicker/corner-fit.ts';
+import type {
+  CornerFitReading,
+  LowFrequencyContext,
+  LowFrequencyStatus,
+  LowFrequencyUpdate,
+  PeakToPeakFigures,
+} from '../../protocol/low-frequency-messages.ts';
 
 export interface LiveLowFrequencyOptions {
   /** Updates per second of sample time (default 2). */
@@ -78,7 +90,11 @@ function fitOnce(f: number[], psd: number[], dof: number[], fitMaxHz: number): C
  * ψ'(ν/2)) are left out and the fit repeated, at most 4 times: one-sided sigma clipping (common practice), so
  * narrow lines do not pull the floor up. `excluded` counts the points left out.
  */
-export function fitFrame(frame: LogFrequencyFrame, equivalentAverages: Float64Array, fitMaxHz: number): { fit: CornerFit; excluded: number } | null {
+export function fitFrame(
+  frame: LogFrequencyFrame,
+  equivalentAverages: Float64Array,
+  fitMaxHz: number,
+): { fit: CornerFit; excluded: number } | null {
   let f: number[] = [];
   let psd: number[] = [];
   let dof: number[] = [];
@@ -95,7 +111,12 @@ export function fitFrame(frame: LogFrequencyFrame, equivalentAverages: Float64Ar
     if (!fit || round === 4) return fit ? { fit, excluded: total - f.length } : null;
     const a = Math.log(fit.whitePsd);
     const b = Math.log(fit.corner);
-    const keep = f.map((fi, i) => (Math.log(psd[i]) - logChiSquareBias(dof[i]) - logCornerModel(Math.log(fi), a, b, fit.exponent)) / Math.sqrt(logChiSquareVariance(dof[i])) <= LINE_CLIP_SIGMA);
+    const keep = f.map(
+      (fi, i) =>
+        (Math.log(psd[i]) - logChiSquareBias(dof[i]) - logCornerModel(Math.log(fi), a, b, fit.exponent)) /
+          Math.sqrt(logChiSquareVariance(dof[i])) <=
+        LINE_CLIP_SIGMA,
+    );
     if (keep.every(Boolean)) return { fit, excluded: total - f.length };
     f = f.filter((_, i) => keep[i]);
     psd = psd.filter((_, i) => keep[i]);
@@ -124,8 +145,10 @@ export class LiveLowFrequency {
     this.updatesPerSecond = options.updatesPerSecond ?? 2;
     this.fitEvery = options.fitEvery ?? 4;
     this.spanSeconds = options.spanSeconds ?? 60;
-    if (!(this.updatesPerSecond > 0)) throw new RangeError(`low-frequency view: updatesPerSecond must be positive, got ${this.updatesPerSecond}`);
-    if (!(Number.isInteger(this.fitEvery) && this.fitEvery >= 1)) throw new RangeError(`low-frequency view: fitEvery must be an integer ≥ 1, got ${this.fitEvery}`);
+    if (!(this.updatesPerSecond > 0))
+      throw new RangeError(`low-frequency view: updatesPerSecond must be positive, got ${this.updatesPerSecond}`);
+    if (!(Number.isInteger(this.fitEvery) && this.fitEvery >= 1))
+      throw new RangeError(`low-frequency view: fitEvery must be an integer ≥ 1, got ${this.fitEvery}`);
     this.o = options;
   }
 
@@ -155,7 +178,14 @@ export class LiveLowFrequency {
   }
 
   status(): LowFrequencyStatus[] {
-    return this.channels.map((c) => ({ channel: c.name, unit: c.unit, sample: this.last?.sample ?? -1, t: this.last?.t ?? 0, fit: c.fit, peakToPeak: c.peakToPeak }));
+    return this.channels.map((c) => ({
+      channel: c.name,
+      unit: c.unit,
+      sample: this.last?.sample ?? -1,
+      t: this.last?.t ?? 0,
+      fit: c.fit,
+      peakToPeak: c.peakToPeak,
+    }));
   }
 
   /** A new stream: allocates the estimators (a rate too low for 0.1–10 Hz leaves the meter off). */
@@ -166,8 +196,22 @@ export class LiveLowFrequency {
     this.expected = firstSample;
     this.gridOffset = 0;
     this.channels = channels.map((c) => {
-      const live = new LiveLogFrequency({ sampleRate, spanSeconds: this.spanSeconds, points: o.points, averages: o.averages, firstSample });
-      return { name: c.name, unit: c.unit, live, frames: new LogFrequencyFrameBuilder(live, o.level ?? 0.95), meter: this.makeMeter(firstSample), fit: null, peakToPeak: null };
+      const live = new LiveLogFrequency({
+        sampleRate,
+        spanSeconds: this.spanSeconds,
+        points: o.points,
+        averages: o.averages,
+        firstSample,
+      });
+      return {
+        name: c.name,
+        unit: c.unit,
+        live,
+        frames: new LogFrequencyFrameBuilder(live, o.level ?? 0.95),
+        meter: this.makeMeter(firstSample),
+        fit: null,
+        peakToPeak: null,
+      };
     });
     const first = this.channels[0]?.live;
     this.eq = new Float64Array(first?.count ?? 0);
@@ -183,7 +227,14 @@ export class LiveLowFrequency {
       updatesPerSecond: this.updatesPerSecond,
       fitEvery: this.fitEvery,
       fitMaxHz: sampleRate / 10,
-      peakToPeak: meter ? { lowHz: 0.1, highHz: 10, windowSeconds: meter.windowSamples / sampleRate, settleSeconds: meter.settleSeconds } : null,
+      peakToPeak: meter
+        ? {
+            lowHz: 0.1,
+            highHz: 10,
+            windowSeconds: meter.windowSamples / sampleRate,
+            settleSeconds: meter.settleSeconds,
+          }
+        : null,
     };
     this.last = null;
     for (const fn of this.contextListeners) fn(this.ctx);
@@ -213,7 +264,8 @@ export class LiveLowFrequency {
   block(firstSample: number, frames: number, data: readonly Float64Array[]): void {
     if (this.channels.length === 0) return;
     let from = 0;
-    if (firstSample > this.expected) this.gap({ sample: this.expected, lost: firstSample - this.expected, reason: 'block jump' });
+    if (firstSample > this.expected)
+      this.gap({ sample: this.expected, lost: firstSample - this.expected, reason: 'block jump' });
     else if (firstSample < this.expected) from = this.expected - firstSample; // overlap already seen
     const stride = this.stride;
     while (from < frames) {

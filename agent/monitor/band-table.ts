@@ -55,7 +55,8 @@ export class BandTable {
           high: band.high,
           rms,
           baselineRms,
-          deltaDb: finite(rule?.levelDb) ?? (baselineRms ? powerRatioDb((rms * rms) / (baselineRms * baselineRms)) : null),
+          deltaDb:
+            finite(rule?.levelDb) ?? (baselineRms ? powerRatioDb((rms * rms) / (baselineRms * baselineRms)) : null),
           thresholdDb: finite(rule?.thresholdDb),
           state: !bch
             ? 'no-baseline'

@@ -59,7 +59,11 @@ function baselineView(file: string, b: BaselineFile): BaselineView {
     file,
     hash: b.settingsHash,
     settings: b.settings,
-    channels: b.channels.map((c) => ({ name: c.name, psd: Float64Array.from(c.psd), equivalentAverages: c.equivalentAverages })),
+    channels: b.channels.map((c) => ({
+      name: c.name,
+      psd: Float64Array.from(c.psd),
+      equivalentAverages: c.equivalentAverages,
+    })),
   };
 }
 
@@ -92,7 +96,13 @@ export class Monitor {
     private readonly o: MonitorOptions,
   ) {
     this.say = o.log ?? ((line) => process.stderr.write(`floorline ${o.command}: ${line}\n`));
-    this.pipeline = new Pipeline({ analysis: o.analysis, averaging: o.averaging, snapshotRate: o.snapshotRate, mode: o.mode, queueCapacity: o.queueCapacity });
+    this.pipeline = new Pipeline({
+      analysis: o.analysis,
+      averaging: o.averaging,
+      snapshotRate: o.snapshotRate,
+      mode: o.mode,
+      queueCapacity: o.queueCapacity,
+    });
     this.folder = dataFolderAt(o.dataDir);
     this.recent = new EventHistory(o.eventHistory ?? 1000);
     this.baselineNow = o.baseline ? baselineView(o.baseline.label ?? o.baseline.where, o.baseline.baseline) : null;
@@ -128,7 +138,8 @@ export class Monitor {
     const p = this.pipeline;
     // Values that must never reach a log line.
     registerSecret(process.env.FLOORLINE_TOKEN);
-    for (const s of o.notify ?? []) if ('headers' in s) for (const v of Object.values(s.headers ?? {})) registerSecret(v);
+    for (const s of o.notify ?? [])
+      if ('headers' in s) for (const v of Object.values(s.headers ?? {})) registerSecret(v);
     let folderOk = false;
     try {
       ensureDataFolder(this.folder);
@@ -161,7 +172,9 @@ export class Monitor {
         // A full or read-only disk must not stop the monitor: analysis and alarms go on without history, said
         // once. A store held by another agent, or a foreign or corrupt file, is still refused (thrown on).
         if (!isDiskFault(err)) throw err;
-        this.say(`history is not being kept: ${(err as Error).message} (${o.history.path}); free space or fix the folder, then restart`);
+        this.say(
+          `history is not being kept: ${(err as Error).message} (${o.history.path}); free space or fix the folder, then restart`,
+        );
       }
     }
     const logPaths = [...(folderOk ? [this.folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
@@ -204,7 +217,14 @@ export class Monitor {
     await this.pipeline.attach(this.source);
     const signals = installShutdown(() => this.stop(), this.say);
     const uninstallReload = this.o.rig
-      ? installReload(this.o.rig, { setNotifyFilters: (sinks) => this.notifier?.setFilters(sinks), setRetention: (r) => this.retention?.setPolicy(r) }, this.say)
+      ? installReload(
+          this.o.rig,
+          {
+            setNotifyFilters: (sinks) => this.notifier?.setFilters(sinks),
+            setRetention: (r) => this.retention?.setPolicy(r),
+          },
+          this.say,
+        )
       : undefined;
     this.finished = (async () => {
       try {
@@ -274,7 +294,8 @@ export class Monitor {
       baseline: this.baselineNow ?? undefined,
       rules: d?.status(),
       bandsOf: (channel) => d?.bandsOf(channel) ?? [],
-      raised: (channel, low, high) => this.alarmTable.get(alarmId({ rule: 'band-rise', channel, band: [low, high] }))?.state === 'raised',
+      raised: (channel, low, high) =>
+        this.alarmTable.get(alarmId({ rule: 'band-rise', channel, band: [low, high] }))?.state === 'raised',
     });
   }
 
@@ -286,7 +307,13 @@ export class Monitor {
     const r = this.o.replay ?? this.source;
     if (!(r instanceof ReplaySource)) return null;
     const frames = r.fileInfo?.frames ?? 0;
-    return { position: frames ? r.position.sample % frames : r.position.sample, duration: frames, speed: r.speed, loop: r.loops, file: r.path };
+    return {
+      position: frames ? r.position.sample % frames : r.position.sample,
+      duration: frames,
+      speed: r.speed,
+      loop: r.loops,
+      file: r.path,
+    };
   }
 
   status(): MonitorStatus {
@@ -331,51 +358,95 @@ export class Monitor {
         if (row) this.alarmTable.markAcknowledged(row);
         first ??= row;
       }
-      if (ok && first) this.operatorEvent({ ...first, incident: id }, 'acknowledged', `incident ${id} on ${first.channel} acknowledged by the operator`, { acknowledged: true });
+      if (ok && first)
+        this.operatorEvent(
+          { ...first, incident: id },
+          'acknowledged',
+          `incident ${id} on ${first.channel} acknowledged by the operator`,
+          { acknowledged: true },
+        );
       return ok;
     }
     const { row, band } = this.resolve(id);
     const n = this.hook.detectors?.acknowledge(row.rule, row.channel, band) ?? 0;
     if (n > 0) {
       this.alarmTable.markAcknowledged(row);
-      this.operatorEvent(row, 'acknowledged', `${row.rule} on ${row.channel} acknowledged by the operator`, { acknowledged: true });
+      this.operatorEvent(row, 'acknowledged', `${row.rule} on ${row.channel} acknowledged by the operator`, {
+        acknowledged: true,
+      });
     }
     return n > 0;
   }
 
   /** Silences the alarm `id` names until `untilSample` (sample time). */
   shelve(id: string, untilSample: number): boolean {
-    if (!Number.isFinite(untilSample)) throw new MonitorRefusal('bad-message', `shelve ${id}: until must be a sample index, got ${untilSample}`);
+    if (!Number.isFinite(untilSample))
+      throw new MonitorRefusal('bad-message', `shelve ${id}: until must be a sample index, got ${untilSample}`);
     const incident = this.hook.detectors?.incidents.get(id);
     if (incident) {
       const ok = this.hook.detectors!.shelveIncident(id, untilSample);
       const first = incident.members.map((m) => this.alarmTable.get(alarmId(m))).find((r) => r !== undefined);
-      if (ok && first) this.operatorEvent({ ...first, incident: id }, 'shelved', `incident ${id} on ${first.channel} shelved by the operator until sample ${untilSample}`, { shelvedUntilSample: untilSample });
+      if (ok && first)
+        this.operatorEvent(
+          { ...first, incident: id },
+          'shelved',
+          `incident ${id} on ${first.channel} shelved by the operator until sample ${untilSample}`,
+          { shelvedUntilSample: untilSample },
+        );
       return ok;
     }
     const { row, band } = this.resolve(id);
     const n = this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band) ?? 0;
-    if (n > 0) this.operatorEvent(row, 'shelved', `${row.rule} on ${row.channel} shelved by the operator until sample ${untilSample}`, { shelvedUntilSample: untilSample });
+    if (n > 0)
+      this.operatorEvent(
+        row,
+        'shelved',
+        `${row.rule} on ${row.channel} shelved by the operator until sample ${untilSample}`,
+        { shelvedUntilSample: untilSample },
+      );
     return n > 0;
   }
 
   /** Acknowledge and shelve go into the event log (and so the store and reports) as info events of the incident. */
-  private operatorEvent(row: AlarmRow, state: 'acknowledged' | 'shelved', detail: string, extra: Record<string, unknown>): void {
+  private operatorEvent(
+    row: AlarmRow,
+    state: 'acknowledged' | 'shelved',
+    detail: string,
+    extra: Record<string, unknown>,
+  ): void {
     const sample = Math.max(0, this.pipeline.counters().lastSample);
     const rate = this.pipeline.stream?.sampleRate ?? 1;
-    this.pipeline.emitEvent(makeEvent(row.rule, state, row.channel, sample, rate, this.pipeline.wallTimeAt(sample), detail, {
-      ...(row.band ? { band: row.band } : {}),
-      ...(row.incident ? { incident: row.incident } : {}),
-      ...extra,
-    } as Partial<FloorlineEvent>, 'info'));
+    this.pipeline.emitEvent(
+      makeEvent(
+        row.rule,
+        state,
+        row.channel,
+        sample,
+        rate,
+        this.pipeline.wallTimeAt(sample),
+        detail,
+        {
+          ...(row.band ? { band: row.band } : {}),
+          ...(row.incident ? { incident: row.incident } : {}),
+          ...extra,
+        } as Partial<FloorlineEvent>,
+        'info',
+      ),
+    );
   }
 
   /** The row of an alarm id, and for band rules the band's exact edges as the rules hold them. */
   private resolve(id: string): { row: AlarmRow; band?: [number, number] } {
     const row = this.alarmTable.get(id);
-    if (!row) throw new MonitorRefusal('bad-message', `no alarm ${id} in this run; the alarm table (status.alarms) lists the ids`);
+    if (!row)
+      throw new MonitorRefusal(
+        'bad-message',
+        `no alarm ${id} in this run; the alarm table (status.alarms) lists the ids`,
+      );
     if (row.rule !== 'band-rise') return { row };
-    const exact = this.hook.detectors?.bandsOf(row.channel).find((b) => bandId(row.channel, b.low, b.high) === id.slice('band-rise/'.length));
+    const exact = this.hook.detectors
+      ?.bandsOf(row.channel)
+      .find((b) => bandId(row.channel, b.low, b.high) === id.slice('band-rise/'.length));
     return { row, band: exact ? [exact.low, exact.high] : row.band };
   }
 
@@ -383,14 +454,25 @@ export class Monitor {
    * Averages the next `seconds` of sample time into baselines/NAME (default baseline-SAMPLE.json) under the data
    * folder, then compares against it from the next snapshot on. Resolves with its path relative to the folder.
    */
-  async captureBaseline(span: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }> {
+  async captureBaseline(span: {
+    seconds: number;
+    name?: string;
+    notes?: string;
+    replace?: boolean;
+  }): Promise<{ file: string }> {
     const p = this.pipeline;
-    if (!p.stream || !p.analysisSettings) throw new MonitorRefusal('failed', 'no stream yet: wait for the first spectrum');
-    if (this.capturing) throw new MonitorRefusal('failed', `a baseline capture into ${this.capturing.file} is still running`);
+    if (!p.stream || !p.analysisSettings)
+      throw new MonitorRefusal('failed', 'no stream yet: wait for the first spectrum');
+    if (this.capturing)
+      throw new MonitorRefusal('failed', `a baseline capture into ${this.capturing.file} is still running`);
     const file = `baselines/${span.name ?? `baseline-${p.counters().lastSample + 1}.json`}`;
     const path = this.folder.resolve(file, 'baseline'); // a bad name is refused now, not after the span
     // A baseline is never overwritten by accident: replacing one takes an explicit request.
-    if (!span.replace && existsSync(path)) throw new MonitorRefusal('exists', `${file} exists; choose another name, or send "replace": true to overwrite it`);
+    if (!span.replace && existsSync(path))
+      throw new MonitorRefusal(
+        'exists',
+        `${file} exists; choose another name, or send "replace": true to overwrite it`,
+      );
     const run = captureLive(p, { seconds: span.seconds, notes: span.notes });
     this.capturing = { file, run };
     let result: BaselineFile;
@@ -414,14 +496,21 @@ export class Monitor {
 
   async setRecording(on: boolean): Promise<RecordingState> {
     const r = this.recorderRef;
-    if (!r) throw new MonitorRefusal('unsupported', `no usable data folder at ${this.folder.root}, so nothing can be recorded`);
+    if (!r)
+      throw new MonitorRefusal(
+        'unsupported',
+        `no usable data folder at ${this.folder.root}, so nothing can be recorded`,
+      );
     return recordingState(on ? r.startRecording() : r.stopRecording());
   }
 
   /** New analysis settings from the next block on; throws RangeError naming what is wrong. */
   setAnalysis(change: { averaging?: AveragingSpec; segment?: number; window?: string }): void {
     this.pipeline.configure({
-      analysis: { ...(change.segment !== undefined ? { segment: change.segment } : {}), ...(change.window !== undefined ? { window: change.window } : {}) },
+      analysis: {
+        ...(change.segment !== undefined ? { segment: change.segment } : {}),
+        ...(change.window !== undefined ? { window: change.window } : {}),
+      },
       averaging: change.averaging,
     });
   }
@@ -441,8 +530,19 @@ export class Monitor {
     const info = this.pipeline.stream;
     const sample = Math.max(0, this.pipeline.counters().lastSample);
     const rate = info?.sampleRate ?? 1;
-    this.pipeline.emitEvent(makeEvent('internal', 'raised', '*', sample, rate, this.pipeline.wallTimeAt(sample),
-      `part ${part.name} failed in ${where} and was disabled: ${err.message}`, {}, 'info'));
+    this.pipeline.emitEvent(
+      makeEvent(
+        'internal',
+        'raised',
+        '*',
+        sample,
+        rate,
+        this.pipeline.wallTimeAt(sample),
+        `part ${part.name} failed in ${where} and was disabled: ${err.message}`,
+        {},
+        'info',
+      ),
+    );
   }
 }
 

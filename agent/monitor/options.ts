@@ -43,7 +43,12 @@ export interface MonitorOptions {
   /** Events kept for clients that connect later (default 1000). */
   eventHistory?: number;
   /** Keep the trend history in this store (agent/store); absent: no history. */
-  history?: { path: string; source: string; bands?: readonly { low: number; high: number }[]; retention?: Record<Level, number> };
+  history?: {
+    path: string;
+    source: string;
+    bands?: readonly { low: number; high: number }[];
+    retention?: Record<Level, number>;
+  };
   /** Limit masks by channel name ('*' = every channel) for the limit rule. */
   masks?: AlarmHookOptions['masks'];
   /** Disk retention (quotas, free-space floor) of the rig config. */

@@ -7,8 +7,18 @@ import { Notifier } from './notifier.ts';
 
 export const OUTBOX_FILE = 'notify-outbox.jsonl';
 
-export function attachNotifier(pipeline: Pipeline, dataRoot: string, sinks: readonly SinkConfig[], log: (line: string) => void): Notifier {
-  const notifier = new Notifier({ sinks, outboxPath: join(dataRoot, OUTBOX_FILE), onEvent: (e) => pipeline.emitEvent(e), log });
+export function attachNotifier(
+  pipeline: Pipeline,
+  dataRoot: string,
+  sinks: readonly SinkConfig[],
+  log: (line: string) => void,
+): Notifier {
+  const notifier = new Notifier({
+    sinks,
+    outboxPath: join(dataRoot, OUTBOX_FILE),
+    onEvent: (e) => pipeline.emitEvent(e),
+    log,
+  });
   pipeline.on('event', (e) => notifier.offer(e), 'notifier');
   pipeline.on('snapshot', (s) => notifier.tick(s.t), 'notifier');
   return notifier;

@@ -13,7 +13,13 @@ export function incidentKey(e: FloorlineEvent): string {
 
 /** Stable identity of one alarm within its incident: rule, channel and what it is about. */
 export function alarmKey(e: FloorlineEvent): string {
-  const about = e.band ? e.band.join('-') : e.harmonic !== undefined ? `h${e.harmonic}` : e.rule === 'spur' && e.frequency !== undefined ? `${Math.round(e.frequency)}Hz` : '';
+  const about = e.band
+    ? e.band.join('-')
+    : e.harmonic !== undefined
+      ? `h${e.harmonic}`
+      : e.rule === 'spur' && e.frequency !== undefined
+        ? `${Math.round(e.frequency)}Hz`
+        : '';
   const inc = (e as FloorlineEvent & { incident?: string }).incident;
   return `${inc ? inc + '/' : ''}${e.rule}:${e.channel}${about ? ':' + about : ''}`;
 }

@@ -157,7 +157,13 @@ export class Notifier {
       this.counters.givenUp++;
       const b = e.body as unknown as FloorlineEvent;
       this.o.onEvent({
-        kind: 'info', rule: 'notify', state: 'raised', channel: b.channel, sample: b.sample, t: b.t, wallTime: new Date().toISOString(),
+        kind: 'info',
+        rule: 'notify',
+        state: 'raised',
+        channel: b.channel,
+        sample: b.sample,
+        t: b.t,
+        wallTime: new Date().toISOString(),
         detail: `notification ${e.id} (${b.rule} ${b.state}) to ${sinkLabel(sink)} given up after ${tries} tries: ${reason}`,
       });
       return;
@@ -168,7 +174,9 @@ export class Notifier {
     this.outbox.retryLater(e.id, due, tries, reason);
     this.blockedUntil[e.sink] = due;
     this.counters.retries++;
-    this.o.log?.(`notify: ${sinkLabel(sink)} failed (${reason}); try ${tries + 1} of ${max} in ${(delay / 1000).toFixed(1)} s`);
+    this.o.log?.(
+      `notify: ${sinkLabel(sink)} failed (${reason}); try ${tries + 1} of ${max} in ${(delay / 1000).toFixed(1)} s`,
+    );
   }
 
   /**
@@ -183,7 +191,10 @@ export class Notifier {
     this.drainUntil = Date.now() + deadlineMs;
     for (let s = 0; s < this.o.sinks.length; s++) if (!this.busy[s]) this.startNext(s);
     while (this.inFlight.size && Date.now() < this.drainUntil) {
-      await Promise.race([...this.inFlight, new Promise((r) => setTimeout(r, Math.max(1, this.drainUntil - Date.now())).unref())]);
+      await Promise.race([
+        ...this.inFlight,
+        new Promise((r) => setTimeout(r, Math.max(1, this.drainUntil - Date.now())).unref()),
+      ]);
     }
     this.outbox.close();
   }

@@ -8,7 +8,12 @@ export const DELIVERY_TIMEOUT_MS = 10_000;
 
 export type Deliver = (body: string) => Promise<void>;
 
-async function postWebhook(url: string, headers: Record<string, string>, body: string, timeoutMs: number): Promise<void> {
+async function postWebhook(
+  url: string,
+  headers: Record<string, string>,
+  body: string,
+  timeoutMs: number,
+): Promise<void> {
   const res = await fetch(url, {
     method: 'POST',
     headers: { 'content-type': 'application/json', ...headers },
@@ -23,9 +28,19 @@ async function postWebhook(url: string, headers: Record<string, string>, body: s
 
 function runProgram(argv: readonly string[], body: string, timeoutMs: number): Promise<void> {
   return new Promise((resolve, reject) => {
-    const child = spawn(argv[0], argv.slice(1), { shell: false, stdio: ['pipe', 'ignore', 'ignore'], timeout: timeoutMs });
-    child.on('error', (err) => reject(new Error(`cannot run ${argv[0]}: ${(err as NodeJS.ErrnoException).code ?? err.message}`)));
-    child.on('close', (code, signal) => (code === 0 ? resolve() : reject(new Error(signal ? `${argv[0]} killed by ${signal}` : `${argv[0]} exited ${code}`))));
+    const child = spawn(argv[0], argv.slice(1), {
+      shell: false,
+      stdio: ['pipe', 'ignore', 'ignore'],
+      timeout: timeoutMs,
+    });
+    child.on('error', (err) =>
+      reject(new Error(`cannot run ${argv[0]}: ${(err as NodeJS.ErrnoException).code ?? err.message}`)),
+    );
+    child.on('close', (code, signal) =>
+      code === 0
+        ? resolve()
+        : reject(new Error(signal ? `${argv[0]} killed by ${signal}` : `${argv[0]} exited ${code}`)),
+    );
     child.stdin.on('error', () => undefined); // a program that does not read stdin still counts by its exit code
     child.stdin.end(body + '\n'); // one JSON line, so a program appending stdin to a file keeps JSON Lines
   });

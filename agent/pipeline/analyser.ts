@@ -61,7 +61,10 @@ export class Analyser {
     }
     const bytes = analysisMemoryBytes(choice.segment, averaging, info.channels.length);
     if (bytes > ANALYSIS_MEMORY_MAX_BYTES) {
-      const what = averaging.mode === 'rolling' || averaging.mode === 'median' ? `a ${averaging.mode} average of ${averaging.count} spectra` : 'the analysis';
+      const what =
+        averaging.mode === 'rolling' || averaging.mode === 'median'
+          ? `a ${averaging.mode} average of ${averaging.count} spectra`
+          : 'the analysis';
       throw new RangeError(
         `segment ${choice.segment} with ${what} on ${info.channels.length} channel(s) would hold ${Math.round(bytes / 2 ** 20)} MiB; ` +
           `the live analysis may hold at most ${ANALYSIS_MEMORY_MAX_BYTES / 2 ** 20} MiB (so no setting can exhaust the agent's memory): lower the count or the segment`,
@@ -125,7 +128,12 @@ export class Analyser {
    * Pushes data[c][0..frames) (absolute indices firstSample…) and calls onInstant(s) at every snapshot instant s
    * inside the block at which a new segment has completed since the previous snapshot.
    */
-  process(data: readonly Float64Array[], firstSample: number, frames: number, onInstant: (sample: number) => void): void {
+  process(
+    data: readonly Float64Array[],
+    firstSample: number,
+    frames: number,
+    onInstant: (sample: number) => void,
+  ): void {
     const end = firstSample + frames;
     const interval = this.interval;
     const origin = this.origin;

@@ -14,9 +14,14 @@ export class BlockQueue {
   private head = 0;
   private count = 0;
 
-  constructor(readonly capacity: number, readonly channels: number) {
-    if (!Number.isInteger(capacity) || capacity < 1) throw new RangeError(`BlockQueue: capacity must be an integer ≥ 1, got ${capacity}`);
-    if (!Number.isInteger(channels) || channels < 1) throw new RangeError(`BlockQueue: channels must be an integer ≥ 1, got ${channels}`);
+  constructor(
+    readonly capacity: number,
+    readonly channels: number,
+  ) {
+    if (!Number.isInteger(capacity) || capacity < 1)
+      throw new RangeError(`BlockQueue: capacity must be an integer ≥ 1, got ${capacity}`);
+    if (!Number.isInteger(channels) || channels < 1)
+      throw new RangeError(`BlockQueue: channels must be an integer ≥ 1, got ${channels}`);
     this.slots = [];
     for (let i = 0; i < capacity; i++) {
       const data: Float64Array[] = [];

@@ -31,7 +31,12 @@ function frameFinite(data: readonly Float64Array[], i: number): boolean {
  * onRun(runFrom, runTo, finite) for each in order. Returns the number of faulty frames. Every consumer of samples
  * (pipeline, analyze, baseline) uses this, so a fault is excluded the same way everywhere: like a gap.
  */
-export function forEachFiniteRun(data: readonly Float64Array[], from: number, to: number, onRun: (runFrom: number, runTo: number, finite: boolean) => void): number {
+export function forEachFiniteRun(
+  data: readonly Float64Array[],
+  from: number,
+  to: number,
+  onRun: (runFrom: number, runTo: number, finite: boolean) => void,
+): number {
   let bad = 0;
   let i = from;
   while (i < to) {
@@ -73,10 +78,14 @@ export class Conditioner {
     for (let i = 0; i < n; i++) {
       const c = channels[i];
       if (!Number.isFinite(c.scale) || c.scale <= 0) {
-        throw new RangeError(`Conditioner: channel ${c.name} has scale ${c.scale}; the descriptor must give a positive unit per count`);
+        throw new RangeError(
+          `Conditioner: channel ${c.name} has scale ${c.scale}; the descriptor must give a positive unit per count`,
+        );
       }
       if (!(c.fullScaleCounts > 0)) {
-        throw new RangeError(`Conditioner: channel ${c.name} has full scale ${c.fullScaleCounts}; give a positive count or Infinity`);
+        throw new RangeError(
+          `Conditioner: channel ${c.name} has full scale ${c.fullScaleCounts}; give a positive count or Infinity`,
+        );
       }
       this.scales[i] = c.scale;
       this.fullScale[i] = c.fullScaleCounts;
@@ -92,7 +101,13 @@ export class Conditioner {
    * Scales raw[start..start+frames) of each channel into out[c][0..frames) and counts clipped samples.
    * Returns how many values came out non-finite (NaN, ±Inf, or beyond float32): the caller must exclude them.
    */
-  condition(raw: readonly Float64Array[], start: number, frames: number, firstSample: number, out: Float64Array[]): number {
+  condition(
+    raw: readonly Float64Array[],
+    start: number,
+    frames: number,
+    firstSample: number,
+    out: Float64Array[],
+  ): number {
     const n = this.scales.length;
     let nonFinite = 0;
     for (let c = 0; c < n; c++) {

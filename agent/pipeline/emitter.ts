@@ -21,7 +21,11 @@ export class Emitter<M> {
     this.lists.set(name, [...list, { fn: fn as Listener<never>, owner }]);
     return () => {
       const l = this.lists.get(name);
-      if (l) this.lists.set(name, l.filter((x) => x.fn !== fn));
+      if (l)
+        this.lists.set(
+          name,
+          l.filter((x) => x.fn !== fn),
+        );
     };
   }
 
@@ -44,7 +48,11 @@ export class Emitter<M> {
 
   private cutOff(entry: Entry, event: string, err: Error): void {
     const owner = entry.owner ?? `a '${event}' subscriber`;
-    for (const [k, l] of this.lists) this.lists.set(k, l.filter((x) => x !== entry && (entry.owner === undefined || x.owner !== entry.owner)));
+    for (const [k, l] of this.lists)
+      this.lists.set(
+        k,
+        l.filter((x) => x !== entry && (entry.owner === undefined || x.owner !== entry.owner)),
+      );
     if (this.failed.has(owner) && entry.owner !== undefined) return;
     this.failed.add(owner);
     this.onFailure(owner, event, err);

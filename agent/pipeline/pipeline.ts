@@ -16,7 +16,15 @@ import { Conditioner, forEachFiniteRun } from './conditioner.ts';
 import { rateProblem } from '../../protocol/limits.ts';
 import { makeEvent } from '../rules/event-factory.ts';
 import { Emitter, type Listener } from './emitter.ts';
-import type { CalibratedBlock, Detector, NonFiniteNotice, OverrunNotice, PipelineCounters, PipelineEvents, SegmentObserver } from './types.ts';
+import type {
+  CalibratedBlock,
+  Detector,
+  NonFiniteNotice,
+  OverrunNotice,
+  PipelineCounters,
+  PipelineEvents,
+  SegmentObserver,
+} from './types.ts';
 
 export interface PipelineOptions {
   analysis?: Partial<AnalysisChoice>;
@@ -32,7 +40,9 @@ export interface PipelineOptions {
 
 export class Pipeline implements SourceSink {
   private readonly streamIncidents = new StreamIncidents();
-  private readonly emitter = new Emitter<PipelineEvents>((owner, event, err) => this.subscriberFailed(owner, event, err));
+  private readonly emitter = new Emitter<PipelineEvents>((owner, event, err) =>
+    this.subscriberFailed(owner, event, err),
+  );
   private readonly detectors: Detector[] = [];
   private readonly segmentObservers: SegmentObserver[] = [];
   private choice: AnalysisChoice;
@@ -95,11 +105,24 @@ export class Pipeline implements SourceSink {
   /** A subscriber threw: it is already cut off; log it with a code and say so in an `internal` event. */
   private subscriberFailed(owner: string, event: string, err: Error): void {
     const code = (err as Error & { code?: string }).code;
-    process.stderr.write(`floorline: internal: ${owner} failed on '${event}'${code ? ` (${code})` : ''} and is disabled; acquisition and alarms go on: ${err.message}\n`);
+    process.stderr.write(
+      `floorline: internal: ${owner} failed on '${event}'${code ? ` (${code})` : ''} and is disabled; acquisition and alarms go on: ${err.message}\n`,
+    );
     const sample = Math.max(0, this.count.lastSample);
     const rate = this.streamInfo?.sampleRate ?? 1;
-    this.emitEvent(makeEvent('internal', 'raised', '*', sample, rate, this.wallTimeAt(sample),
-      `${owner} failed on '${event}'${code ? ` (${code})` : ''} and was disabled: ${err.message}`, {}, 'info'));
+    this.emitEvent(
+      makeEvent(
+        'internal',
+        'raised',
+        '*',
+        sample,
+        rate,
+        this.wallTimeAt(sample),
+        `${owner} failed on '${event}'${code ? ` (${code})` : ''} and was disabled: ${err.message}`,
+        {},
+        'info',
+      ),
+    );
   }
 
   addDetector(d: Detector): void {
@@ -200,7 +223,9 @@ export class Pipeline implements SourceSink {
       this.streamInfo !== undefined &&
       this.streamInfo.sampleRate === info.sampleRate &&
       this.streamInfo.channels.length === info.channels.length &&
-      this.streamInfo.channels.every((c, i) => c.scale === info.channels[i].scale && c.fullScaleCounts === info.channels[i].fullScaleCounts);
+      this.streamInfo.channels.every(
+        (c, i) => c.scale === info.channels[i].scale && c.fullScaleCounts === info.channels[i].fullScaleCounts,
+      );
     this.drainNow();
     const start = info.startWallTime ? Date.parse(info.startWallTime) : NaN;
     if (!same) {
@@ -215,14 +240,19 @@ export class Pipeline implements SourceSink {
       this.count.clippedSamples = info.channels.map(() => 0);
       this.expected = info.firstSample;
     } else {
-      this.streamInfo = { ...info, firstSample: this.streamInfo!.firstSample, startWallTime: this.streamInfo!.startWallTime };
+      this.streamInfo = {
+        ...info,
+        firstSample: this.streamInfo!.firstSample,
+        startWallTime: this.streamInfo!.startWallTime,
+      };
     }
     for (const d of this.detectors) d.onInfo?.(this.streamInfo!);
     this.emitter.emit('info', this.streamInfo!);
   }
 
   block(block: SampleBlock): void {
-    if (!this.streamInfo) throw new Error('pipeline: a block arrived before the stream info; a source must call info() first');
+    if (!this.streamInfo)
+      throw new Error('pipeline: a block arrived before the stream info; a source must call info() first');
     if (block.frames <= 0) return;
     if (this.queue) {
       if (this.queue.push(block)) {
@@ -330,9 +360,15 @@ export class Pipeline implements SourceSink {
       start = this.expected - firstSample;
       if (start >= frames) return;
     } else if (firstSample > this.expected) {
-      const reason = this.dropRun || this.count.droppedSamples > 0 ? 'analysis overrun (blocks dropped)' : 'discontinuity in the source';
+      const reason =
+        this.dropRun || this.count.droppedSamples > 0
+          ? 'analysis overrun (blocks dropped)'
+          : 'discontinuity in the source';
       this.flushDropRun();
-      this.applyGap({ sample: this.expected, lost: firstSample - this.expected, reason }, reason.startsWith('discontinuity'));
+      this.applyGap(
+        { sample: this.expected, lost: firstSample - this.expected, reason },
+        reason.startsWith('discontinuity'),
+      );
     }
     if (this.pendingReconfigure) {
       const { choice, averaging } = this.pendingReconfigure;
@@ -345,7 +381,8 @@ export class Pipeline implements SourceSink {
     const n = frames - start;
     const first = firstSample + start;
     const units = this.units;
-    for (let c = 0; c < units.length; c++) if (units[c].length < n) units[c] = new Float64Array(Math.max(n, units[c].length * 2));
+    for (let c = 0; c < units.length; c++)
+      if (units[c].length < n) units[c] = new Float64Array(Math.max(n, units[c].length * 2));
     const cond = this.conditioner!;
     const nonFinite = cond.condition(raw, start, n, first, units);
     this.count.blocks++;
@@ -362,7 +399,11 @@ export class Pipeline implements SourceSink {
     this.emitClips(cond);
     forEachFiniteRun(units, 0, n, (from, to, finite) => {
       if (!finite) {
-        this.excludeNonFinite({ sample: first + from, frames: to - from, channels: cond.nonFiniteChannels(units, from, to) });
+        this.excludeNonFinite({
+          sample: first + from,
+          frames: to - from,
+          channels: cond.nonFiniteChannels(units, from, to),
+        });
         return;
       }
       const data = from === 0 ? units : units.map((u) => u.subarray(from));
@@ -388,7 +429,11 @@ export class Pipeline implements SourceSink {
     this.count.nonfiniteFrames += notice.frames;
     this.count.lastNonfiniteSample = notice.sample;
     this.analyser!.restartAt(notice.sample + notice.frames);
-    this.emitter.emit('gap', { sample: notice.sample, lost: notice.frames, reason: `non-finite samples on ${notice.channels.join(', ')}` });
+    this.emitter.emit('gap', {
+      sample: notice.sample,
+      lost: notice.frames,
+      reason: `non-finite samples on ${notice.channels.join(', ')}`,
+    });
     this.emitter.emit('nonfinite', notice);
     // The health alarm is the pipeline's own: it must be raised even before any spectrum or baseline exists.
     if (this.nonfiniteOpen) {
@@ -396,9 +441,17 @@ export class Pipeline implements SourceSink {
       return;
     }
     this.nonfiniteOpen = { sample: notice.sample, frames: notice.frames };
-    this.emitEvent(makeEvent('nonfinite', 'raised', notice.channels.length === 1 ? notice.channels[0] : '*', notice.sample, this.streamInfo!.sampleRate,
-      this.wallTimeAt(notice.sample),
-      `non-finite sample (NaN, ±Inf or beyond float32) on ${notice.channels.join(', ')} at sample ${notice.sample}; ${notice.frames} frame${notice.frames === 1 ? '' : 's'} excluded like a gap`));
+    this.emitEvent(
+      makeEvent(
+        'nonfinite',
+        'raised',
+        notice.channels.length === 1 ? notice.channels[0] : '*',
+        notice.sample,
+        this.streamInfo!.sampleRate,
+        this.wallTimeAt(notice.sample),
+        `non-finite sample (NaN, ±Inf or beyond float32) on ${notice.channels.join(', ')} at sample ${notice.sample}; ${notice.frames} frame${notice.frames === 1 ? '' : 's'} excluded like a gap`,
+      ),
+    );
   }
 
   /** Clears the non-finite alarm at the first spectrum made wholly after the excluded frames. */
@@ -406,8 +459,17 @@ export class Pipeline implements SourceSink {
     const open = this.nonfiniteOpen;
     if (!open || sample <= open.sample + open.frames) return;
     this.nonfiniteOpen = undefined;
-    this.emitEvent(makeEvent('nonfinite', 'cleared', '*', sample, this.streamInfo!.sampleRate, this.wallTimeAt(sample),
-      `finite samples again (${open.frames} frame${open.frames === 1 ? '' : 's'} excluded)`));
+    this.emitEvent(
+      makeEvent(
+        'nonfinite',
+        'cleared',
+        '*',
+        sample,
+        this.streamInfo!.sampleRate,
+        this.wallTimeAt(sample),
+        `finite samples again (${open.frames} frame${open.frames === 1 ? '' : 's'} excluded)`,
+      ),
+    );
   }
 
   private readonly onInstant = (sample: number): void => {

@@ -7,6 +7,9 @@ export function recordingFileName(prefix: string, wallTime: string, firstSample:
 
 /** Makes a label usable in a file name (letters, digits, dot, dash, underscore). */
 export function safeLabel(label: string): string {
-  const s = label.replace(/[^A-Za-z0-9._-]+/g, '_').replace(/^[._]+/, '').slice(0, 48);
+  const s = label
+    .replace(/[^A-Za-z0-9._-]+/g, '_')
+    .replace(/^[._]+/, '')
+    .slice(0, 48);
   return s || 'capture';
 }

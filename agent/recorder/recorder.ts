@@ -132,13 +132,22 @@ export class Recorder {
     this.decisionSeconds = options.decisionSeconds ?? 5;
     this.retryMs = options.retryMs ?? 2000;
     this.captureQuotaBytes = options.captureQuotaBytes ?? 1024 ** 3;
-    for (const [k, v] of [['rotateSeconds', this.rotateSeconds], ['preSeconds', this.preSeconds], ['postSeconds', this.postSeconds], ['decisionSeconds', this.decisionSeconds]] as const) {
-      if (!(v >= 0) || !Number.isFinite(v)) throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
+    for (const [k, v] of [
+      ['rotateSeconds', this.rotateSeconds],
+      ['preSeconds', this.preSeconds],
+      ['postSeconds', this.postSeconds],
+      ['decisionSeconds', this.decisionSeconds],
+    ] as const) {
+      if (!(v >= 0) || !Number.isFinite(v))
+        throw new RangeError(`Recorder: ${k} must be a number of seconds ≥ 0, got ${v}`);
     }
-    if (!(this.rotateBytes > 0)) throw new RangeError(`Recorder: rotateBytes must be positive, got ${this.rotateBytes}`);
+    if (!(this.rotateBytes > 0))
+      throw new RangeError(`Recorder: rotateBytes must be positive, got ${this.rotateBytes}`);
     this.writeOutSeconds = options.writeOutSeconds ?? 0.5;
     if (!(this.writeOutSeconds > 0) || !Number.isFinite(this.writeOutSeconds)) {
-      throw new RangeError(`Recorder: writeOutSeconds must be a positive number of seconds, got ${options.writeOutSeconds}`);
+      throw new RangeError(
+        `Recorder: writeOutSeconds must be a positive number of seconds, got ${options.writeOutSeconds}`,
+      );
     }
     this.timer = setInterval(() => this.flushAll(), options.flushMs ?? 500);
     this.timer.unref();
@@ -185,23 +194,31 @@ export class Recorder {
   capture(triggerSample: number, label: string): CaptureHandle {
     const info = this.info;
     const ring = this.ring;
-    if (!info || !ring || !this.pipeline) throw new Error('Recorder.capture: no stream yet; attach the recorder and start the source first');
+    if (!info || !ring || !this.pipeline)
+      throw new Error('Recorder.capture: no stream yet; attach the recorder and start the source first');
     const rate = info.sampleRate;
     const endSample = triggerSample + Math.round(this.postSeconds * rate);
     // A later alarm of the same incident and channel inside a capture still being written extends it; another
     // incident gets a file named after itself, even when the spans overlap.
-    const running = this.captures.find((c) => c.label === label && c.endSample >= triggerSample && c.firstSample <= triggerSample);
+    const running = this.captures.find(
+      (c) => c.label === label && c.endSample >= triggerSample && c.firstSample <= triggerSample,
+    );
     if (running) {
       running.endSample = Math.max(running.endSample, endSample);
       return { file: running.file, firstSample: running.firstSample, done: running.promise };
     }
     // The same incident again (a re-raise after the capture closed): it already has its file.
     const earlier = this.captured.get(label);
-    if (earlier !== undefined) return { file: earlier, firstSample: -1, done: Promise.resolve({ file: earlier, frames: 0 }) };
+    if (earlier !== undefined)
+      return { file: earlier, firstSample: -1, done: Promise.resolve({ file: earlier, frames: 0 }) };
     if (this.captureBytesNow() + this.captureCost(triggerSample) > this.captureQuotaBytes) {
       if (!this.quotaReported) {
         this.quotaReported = true;
-        this.report(`capture quota reached: capture files hold ${Math.round(this.captureBytesNow() / 2 ** 20)} MiB of the ${Math.round(this.captureQuotaBytes / 2 ** 20)} MiB allowed; no new captures until some are deleted`, 'raised', triggerSample);
+        this.report(
+          `capture quota reached: capture files hold ${Math.round(this.captureBytesNow() / 2 ** 20)} MiB of the ${Math.round(this.captureQuotaBytes / 2 ** 20)} MiB allowed; no new captures until some are deleted`,
+          'raised',
+          triggerSample,
+        );
       }
       const refused = Promise.reject(new Error('capture quota reached'));
       refused.catch(() => undefined);
@@ -241,7 +258,8 @@ export class Recorder {
       this.captureBytes = 0;
       try {
         for (const n of readdirSync(this.folder.recordings)) {
-          if (n.startsWith('capture-') && n.endsWith('.wav')) this.captureBytes += statSync(join(this.folder.recordings, n)).size;
+          if (n.startsWith('capture-') && n.endsWith('.wav'))
+            this.captureBytes += statSync(join(this.folder.recordings, n)).size;
         }
       } catch {
         // no folder yet: nothing captured
@@ -267,7 +285,8 @@ export class Recorder {
   // ---- internals ----
 
   private onInfo(info: StreamInfo): void {
-    const changed = !this.info || this.info.sampleRate !== info.sampleRate || this.info.channels.length !== info.channels.length;
+    const changed =
+      !this.info || this.info.sampleRate !== info.sampleRate || this.info.channels.length !== info.channels.length;
     this.info = info;
     if (changed) {
       this.closeAll();
@@ -286,7 +305,10 @@ export class Recorder {
     return {
       sampleRate: info.sampleRate,
       channels: info.channels.map((c) => ({
-        name: c.name, unit: c.unit, scale: c.scale, fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined,
+        name: c.name,
+        unit: c.unit,
+        scale: c.scale,
+        fullScaleCounts: Number.isFinite(c.fullScaleCounts) ? c.fullScaleCounts : undefined,
         ...(c.calibration ? { gain: c.calibration.gain, calibration: c.calibration } : {}),
       })),
       source: { kind: info.source.kind, label: info.source.label },
@@ -300,9 +322,10 @@ export class Recorder {
 
   private onBlock(b: CalibratedBlock): void {
     if (b.firstSample !== this.nextSample) this.onGap(b.firstSample);
-    if (this.wanted && this.rec.state === 'failed' && this.retryAt >= 0 && performance.now() >= this.retryAt) this.rec.state = 'recording';
+    if (this.wanted && this.rec.state === 'failed' && this.retryAt >= 0 && performance.now() >= this.retryAt)
+      this.rec.state = 'recording';
     if (this.wanted && this.rec.state === 'recording') this.appendContinuous(b);
-    for (let i = 0; i < this.captures.length; ) {
+    for (let i = 0; i < this.captures.length;) {
       const cap = this.captures[i];
       const n = Math.min(b.frames, cap.endSample + 1 - b.firstSample);
       if (n > 0) {
@@ -319,7 +342,8 @@ export class Recorder {
     this.ring?.push(b.data, b.firstSample, b.frames);
     this.nextSample = b.firstSample + b.frames;
     this.framesSinceWriteOut += b.frames;
-    if (this.framesSinceWriteOut >= this.writeOutSeconds * this.info!.sampleRate) this.eachOpenWriter((w) => w.writeOut());
+    if (this.framesSinceWriteOut >= this.writeOutSeconds * this.info!.sampleRate)
+      this.eachOpenWriter((w) => w.writeOut());
   }
 
   private appendContinuous(b: CalibratedBlock): void {
@@ -357,7 +381,11 @@ export class Recorder {
     if (this.retryAt >= 0) {
       this.retryAt = -1;
       this.rec.error = undefined;
-      this.report(`recording resumed in ${file}: the disk has room again; samples ${this.missedFrom}…${firstSample - 1} are not in the recording.`, 'cleared', firstSample);
+      this.report(
+        `recording resumed in ${file}: the disk has room again; samples ${this.missedFrom}…${firstSample - 1} are not in the recording.`,
+        'cleared',
+        firstSample,
+      );
     }
   }
 
@@ -387,10 +415,14 @@ export class Recorder {
     this.rec.error = err.message;
     if (isDiskFull(err)) {
       // Space may come back (files deleted): try again every retryMs and say so when it works.
-      if (!retrying) this.missedFrom = cur ? cur.firstSample + cur.writer.framesOnDisk : sample ?? this.nextSample;
+      if (!retrying) this.missedFrom = cur ? cur.firstSample + cur.writer.framesOnDisk : (sample ?? this.nextSample);
       this.retryAt = performance.now() + this.retryMs;
       if (retrying) return; // still full: the raised event already says so
-      this.report(`recording failed: ${err.message} Analysis goes on; recording resumes by itself when the disk has room.`, 'raised', sample);
+      this.report(
+        `recording failed: ${err.message} Analysis goes on; recording resumes by itself when the disk has room.`,
+        'raised',
+        sample,
+      );
       return;
     }
     this.wanted = false;
@@ -466,7 +498,16 @@ export class Recorder {
     if (!p) return;
     const sample = at ?? Math.max(0, this.nextSample - 1);
     const rate = this.info?.sampleRate ?? 1;
-    const e: FloorlineEvent = { kind: 'alarm', rule: 'recording', state, channel: '*', sample, t: sample / rate, wallTime: p.wallTimeAt(sample), detail };
+    const e: FloorlineEvent = {
+      kind: 'alarm',
+      rule: 'recording',
+      state,
+      channel: '*',
+      sample,
+      t: sample / rate,
+      wallTime: p.wallTimeAt(sample),
+      detail,
+    };
     p.emitEvent(e);
   }
 }

@@ -9,8 +9,10 @@ export class SampleRing {
   private end = 0;
 
   constructor(channels: number, capacity: number) {
-    if (!Number.isInteger(channels) || channels < 1) throw new RangeError(`SampleRing: channels must be ≥ 1, got ${channels}`);
-    if (!Number.isInteger(capacity) || capacity < 1) throw new RangeError(`SampleRing: capacity must be a positive integer of frames, got ${capacity}`);
+    if (!Number.isInteger(channels) || channels < 1)
+      throw new RangeError(`SampleRing: channels must be ≥ 1, got ${channels}`);
+    if (!Number.isInteger(capacity) || capacity < 1)
+      throw new RangeError(`SampleRing: capacity must be a positive integer of frames, got ${capacity}`);
     this.capacity = capacity;
     this.data = Array.from({ length: channels }, () => new Float32Array(capacity));
   }

@@ -7,7 +7,14 @@ import type { TimeBound } from '../store/time-bound.ts';
 import { FloorlineError } from '../errors.ts';
 
 export interface ReportData {
-  runs: { id: number; command: string; source: string; sampleRate: number; startWall: string; settings: Record<string, unknown> }[];
+  runs: {
+    id: number;
+    command: string;
+    source: string;
+    sampleRate: number;
+    startWall: string;
+    settings: Record<string, unknown>;
+  }[];
   every: Every;
   from: string;
   to: string;
@@ -35,15 +42,34 @@ function everyFor(spanMs: number): Every {
 }
 
 export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): ReportData {
-  const runs = (db.prepare('SELECT id, command, source, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
-    id: number; command: string; source: string; sample_rate: number; start_wall: string; settings: string;
-  }[]).map((r) => ({ id: r.id, command: r.command, source: r.source, sampleRate: r.sample_rate, startWall: r.start_wall, settings: JSON.parse(r.settings) }));
+  const runs = (
+    db.prepare('SELECT id, command, source, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
+      id: number;
+      command: string;
+      source: string;
+      sample_rate: number;
+      start_wall: string;
+      settings: string;
+    }[]
+  ).map((r) => ({
+    id: r.id,
+    command: r.command,
+    source: r.source,
+    sampleRate: r.sample_rate,
+    startWall: r.start_wall,
+    settings: JSON.parse(r.settings),
+  }));
   // The span's extent from one series at the coarsest level that has rows (bounded memory for months), then the
   // resolution that suits it.
-  const first = db.prepare("SELECT channel FROM series WHERE quantity = 'bandRms' ORDER BY id LIMIT 1").get() as { channel: string } | undefined;
+  const first = db.prepare("SELECT channel FROM series WHERE quantity = 'bandRms' ORDER BY id LIMIT 1").get() as
+    { channel: string } | undefined;
   let rows: { wallTime: string }[] = [];
   let rowMs = 1e3;
-  for (const [every, ms] of [['1h', 3600e3], ['1m', 60e3], ['1s', 1e3]] as const) {
+  for (const [every, ms] of [
+    ['1h', 3600e3],
+    ['1m', 60e3],
+    ['1s', 1e3],
+  ] as const) {
     if (!first) break;
     const probe = queryTrend(db, { channel: first.channel, from, to, every, quantities: ['bandRms'] });
     rows = probe.series.flatMap((s) => s.rows.filter((r) => !r.gap));
@@ -52,31 +78,74 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
   }
   const incidents = queryIncidents(db, from, to);
   // An incident still open at the end of the store overlaps every later span: it alone does not make data.
-  const startsInside = incidents.filter((i) => (!from || (from.kind === 'wall' ? Date.parse(i.start.wallTime) >= from.ms : i.start.t >= from.seconds)));
+  const startsInside = incidents.filter(
+    (i) => !from || (from.kind === 'wall' ? Date.parse(i.start.wallTime) >= from.ms : i.start.t >= from.seconds),
+  );
   if (rows.length === 0 && startsInside.length === 0) {
-    throw new EmptySpanError('floorline report: the store holds no trend rows and no incidents in this span; widen --from/--to (see `floorline trend --every 1h`).');
+    throw new EmptySpanError(
+      'floorline report: the store holds no trend rows and no incidents in this span; widen --from/--to (see `floorline trend --every 1h`).',
+    );
   }
   const walls = rows.map((r) => Date.parse(r.wallTime));
-  let fromMs = from?.kind === 'wall' ? from.ms : Math.min(...walls, ...incidents.map((i) => Date.parse(i.start.wallTime)));
-  let toMs = to?.kind === 'wall' ? to.ms : Math.max(...walls.map((w) => w + rowMs), ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)));
+  let fromMs =
+    from?.kind === 'wall' ? from.ms : Math.min(...walls, ...incidents.map((i) => Date.parse(i.start.wallTime)));
+  let toMs =
+    to?.kind === 'wall'
+      ? to.ms
+      : Math.max(
+          ...walls.map((w) => w + rowMs),
+          ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)),
+        );
   const every = everyFor(toMs - fromMs);
   const trend = queryTrend(db, { from, to, every, points: 1500 });
   const ts = trend.series.flatMap((s) => s.rows.map((r) => r.t));
   // Without wall bounds, the extent is where the chosen resolution has rows (the coarse probe rounds to its level).
   const fine = trend.series.flatMap((s) => s.rows.filter((r) => !r.gap).map((r) => Date.parse(r.wallTime)));
   const step = { '1s': 1e3, '1m': 60e3, '1h': 3600e3 }[every];
-  if (fine.length && from?.kind !== 'wall') fromMs = Math.min(fine.reduce((a, b) => Math.min(a, b)), ...incidents.map((i) => Date.parse(i.start.wallTime)));
-  if (fine.length && to?.kind !== 'wall') toMs = Math.max(fine.reduce((a, b) => Math.max(a, b)) + step, ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)));
-  const notes = (db.prepare('SELECT text, wall_time, t, incident FROM notes ORDER BY id').all() as { text: string; wall_time: string; t: number | null; incident: string | null }[])
+  if (fine.length && from?.kind !== 'wall')
+    fromMs = Math.min(
+      fine.reduce((a, b) => Math.min(a, b)),
+      ...incidents.map((i) => Date.parse(i.start.wallTime)),
+    );
+  if (fine.length && to?.kind !== 'wall')
+    toMs = Math.max(
+      fine.reduce((a, b) => Math.max(a, b)) + step,
+      ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)),
+    );
+  const notes = (
+    db.prepare('SELECT text, wall_time, t, incident FROM notes ORDER BY id').all() as {
+      text: string;
+      wall_time: string;
+      t: number | null;
+      incident: string | null;
+    }[]
+  )
     .map((n) => ({ text: n.text, wallTime: n.wall_time, t: n.t, incident: n.incident }))
     .filter((n) => Date.parse(n.wallTime) >= fromMs - 1 && Date.parse(n.wallTime) <= toMs + 1);
-  const health = db.prepare(`SELECT rule, state, count(*) AS count FROM events WHERE kind = 'alarm' AND rule IN ('gap', 'link', 'clip', 'overrun', 'disk')
-      AND wall_time >= ? AND wall_time <= ? GROUP BY rule, state ORDER BY rule, state`).all(new Date(fromMs).toISOString(), new Date(toMs).toISOString()) as ReportData['health'];
-  const unstored = (db.prepare('SELECT from_wall, to_wall, reason FROM unstored ORDER BY from_wall').all() as { from_wall: string; to_wall: string; reason: string }[])
-    .map((u) => ({ from: u.from_wall, to: u.to_wall, reason: u.reason }));
+  const health = db
+    .prepare(
+      `SELECT rule, state, count(*) AS count FROM events WHERE kind = 'alarm' AND rule IN ('gap', 'link', 'clip', 'overrun', 'disk')
+      AND wall_time >= ? AND wall_time <= ? GROUP BY rule, state ORDER BY rule, state`,
+    )
+    .all(new Date(fromMs).toISOString(), new Date(toMs).toISOString()) as ReportData['health'];
+  const unstored = (
+    db.prepare('SELECT from_wall, to_wall, reason FROM unstored ORDER BY from_wall').all() as {
+      from_wall: string;
+      to_wall: string;
+      reason: string;
+    }[]
+  ).map((u) => ({ from: u.from_wall, to: u.to_wall, reason: u.reason }));
   return {
-    runs, every, from: new Date(fromMs).toISOString(), to: new Date(toMs).toISOString(),
-    fromT: ts.length ? Math.min(...ts) : 0, toT: ts.length ? Math.max(...ts) : 0,
-    series: trend.series, incidents, notes, health, unstored,
+    runs,
+    every,
+    from: new Date(fromMs).toISOString(),
+    to: new Date(toMs).toISOString(),
+    fromT: ts.length ? Math.min(...ts) : 0,
+    toT: ts.length ? Math.max(...ts) : 0,
+    series: trend.series,
+    incidents,
+    notes,
+    health,
+    unstored,
   };
 }

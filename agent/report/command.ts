@@ -16,17 +16,40 @@ const CHROMIUM = ['/usr/bin/chromium', '/usr/bin/chromium-browser', '/usr/bin/go
 
 function printPdf(html: string, pdf: string): void {
   const browser = CHROMIUM.find((p) => existsSync(p));
-  if (!browser) throw new InputError('floorline report: --pdf needs Chromium to print the HTML; install it (Debian: apt-get install chromium). The HTML report was written.');
-  const r = spawnSync(browser, ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking', '--disable-component-update',
-    '--disable-sync', '--no-pdf-header-footer', `--print-to-pdf=${pdf}`, `file://${html}`], { encoding: 'utf8', timeout: 60_000 });
-  if (r.status !== 0 || !existsSync(pdf)) throw new InputError(`floorline report: Chromium could not print ${pdf}: ${(r.stderr || r.error?.message || '').trim().slice(0, 300)}`);
+  if (!browser)
+    throw new InputError(
+      'floorline report: --pdf needs Chromium to print the HTML; install it (Debian: apt-get install chromium). The HTML report was written.',
+    );
+  const r = spawnSync(
+    browser,
+    [
+      '--headless',
+      '--no-sandbox',
+      '--disable-gpu',
+      '--no-first-run',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--no-pdf-header-footer',
+      `--print-to-pdf=${pdf}`,
+      `file://${html}`,
+    ],
+    { encoding: 'utf8', timeout: 60_000 },
+  );
+  if (r.status !== 0 || !existsSync(pdf))
+    throw new InputError(
+      `floorline report: Chromium could not print ${pdf}: ${(r.stderr || r.error?.message || '').trim().slice(0, 300)}`,
+    );
 }
 
 async function runReport(args: ParsedArgs): Promise<number> {
   const f = args.flags;
   const out = f.out as string | undefined;
   if (!out) throw new UsageError('floorline report: -o report.html is required (where to write the report).');
-  if (f.mask) throw new UsageError('floorline report: --mask is not supported yet; leave it out (the report then has no pass/fail column).');
+  if (f.mask)
+    throw new UsageError(
+      'floorline report: --mask is not supported yet; leave it out (the report then has no pass/fail column).',
+    );
   const span = readSpan(args, 'report');
   const db = openStoreForReading(storePathFromArgs(args));
   let html: string;
@@ -48,7 +71,8 @@ async function runReport(args: ParsedArgs): Promise<number> {
 export const reportCommand: CommandSpec = {
   name: 'report',
   summary: 'a self-contained HTML report (and PDF) of a span of the history store, for a test record',
-  details: 'Example: floorline report --from 2026-12-01T00:00:00Z --to 2026-12-08T00:00:00Z -o week.html --pdf week.pdf',
+  details:
+    'Example: floorline report --from 2026-12-01T00:00:00Z --to 2026-12-08T00:00:00Z -o week.html --pdf week.pdf',
   positionals: [],
   flags: [
     { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'the HTML report to write (required)' },

@@ -4,7 +4,13 @@ import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { Recorder } from '../recorder/recorder.ts';
 import { RetentionKeeper, type RetentionPolicy } from './retention.ts';
 
-export function attachRetention(pipeline: Pipeline, recorder: Recorder, recordingsDir: string, policy: RetentionPolicy, recordWanted: () => boolean): RetentionKeeper {
+export function attachRetention(
+  pipeline: Pipeline,
+  recorder: Recorder,
+  recordingsDir: string,
+  policy: RetentionPolicy,
+  recordWanted: () => boolean,
+): RetentionKeeper {
   let pausedByFloor = false;
   const keeper = new RetentionKeeper(recordingsDir, policy, {
     emit: (e) => {

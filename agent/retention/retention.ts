@@ -49,7 +49,16 @@ export class RetentionKeeper {
     private policy: RetentionPolicy,
     private readonly hooks: RetentionHooks,
   ) {
-    this.last = { usedBytes: 0, recordingsBytes: 0, capturesBytes: 0, freeBytes: 0, minFreeBytes: policy.minFreeBytes ?? 0, historyDays: 0, paused: false, deletedFiles: 0 };
+    this.last = {
+      usedBytes: 0,
+      recordingsBytes: 0,
+      capturesBytes: 0,
+      freeBytes: 0,
+      minFreeBytes: policy.minFreeBytes ?? 0,
+      historyDays: 0,
+      paused: false,
+      deletedFiles: 0,
+    };
   }
 
   /** Sweeps now and then every intervalMs (wall clock: disk space is not a property of the signal). */
@@ -76,8 +85,20 @@ export class RetentionKeeper {
   sweep(now = Date.now()): DiskStatus {
     const files = this.list();
     const open = new Set(this.hooks.openFiles().map((f) => f.replace(/^recordings\//, '')));
-    const rec = this.enforce(files.filter((f) => f.name.startsWith('rec-')), this.policy.recordings, open, now, 0);
-    const cap = this.enforce(files.filter((f) => f.name.startsWith('capture-')), this.policy.captures, open, now, CAPTURE_SETTLE_MS);
+    const rec = this.enforce(
+      files.filter((f) => f.name.startsWith('rec-')),
+      this.policy.recordings,
+      open,
+      now,
+      0,
+    );
+    const cap = this.enforce(
+      files.filter((f) => f.name.startsWith('capture-')),
+      this.policy.captures,
+      open,
+      now,
+      CAPTURE_SETTLE_MS,
+    );
     const free = this.freeBytes();
     const floor = this.policy.minFreeBytes ?? 0;
     if (floor > 0) {
@@ -86,11 +107,23 @@ export class RetentionKeeper {
       if (!this.paused && free < floor) {
         this.paused = true;
         this.hooks.pauseRecording();
-        this.hooks.emit({ kind: 'alarm', rule: 'disk', state: 'raised', channel: '*', detail: `free space ${mib(free)} below the floor of ${mib(floor)}: continuous recording paused (analysis, alarms and captures go on)` });
+        this.hooks.emit({
+          kind: 'alarm',
+          rule: 'disk',
+          state: 'raised',
+          channel: '*',
+          detail: `free space ${mib(free)} below the floor of ${mib(floor)}: continuous recording paused (analysis, alarms and captures go on)`,
+        });
       } else if (this.paused && free >= resumeAt) {
         this.paused = false;
         this.hooks.resumeRecording();
-        this.hooks.emit({ kind: 'alarm', rule: 'disk', state: 'cleared', channel: '*', detail: `free space ${mib(free)} back above ${mib(resumeAt)}: continuous recording resumed` });
+        this.hooks.emit({
+          kind: 'alarm',
+          rule: 'disk',
+          state: 'cleared',
+          channel: '*',
+          detail: `free space ${mib(free)} back above ${mib(resumeAt)}: continuous recording resumed`,
+        });
       }
     }
     const oldest = Math.min(...[...rec.kept, ...cap.kept].map((f) => f.mtimeMs), now);
@@ -134,7 +167,13 @@ export class RetentionKeeper {
     return out.sort((a, b) => a.mtimeMs - b.mtimeMs || a.name.localeCompare(b.name));
   }
 
-  private enforce(files: FileInfo[], quota: Quota | undefined, open: Set<string>, now: number, settleMs: number): { bytes: number; kept: FileInfo[] } {
+  private enforce(
+    files: FileInfo[],
+    quota: Quota | undefined,
+    open: Set<string>,
+    now: number,
+    settleMs: number,
+  ): { bytes: number; kept: FileInfo[] } {
     let bytes = files.reduce((a, f) => a + f.bytes, 0);
     const kept: FileInfo[] = [];
     const maxAgeMs = quota?.maxAgeDays !== undefined ? quota.maxAgeDays * 86_400_000 : Infinity;
@@ -149,7 +188,10 @@ export class RetentionKeeper {
           bytes -= f.bytes;
           this.deleted++;
           this.hooks.emit({
-            kind: 'info', rule: 'retention', state: 'raised', channel: '*',
+            kind: 'info',
+            rule: 'retention',
+            state: 'raised',
+            channel: '*',
             detail: `deleted recordings/${f.name} (${mib(f.bytes)}, ${tooOld ? `older than ${quota!.maxAgeDays} days` : `over the ${mib(maxBytes)} quota`})`,
           });
           continue;

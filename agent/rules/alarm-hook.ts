@@ -44,7 +44,10 @@ export class AlarmHook implements Detector {
   useBaseline(baseline: BaselineFile, where: string): void {
     const running = this.set?.settings;
     const mismatch = running ? firstSettingMismatch(baseline.settings, running) : undefined;
-    if (mismatch) throw new Error(`baseline ${where} was taken with other analysis settings: ${mismatch}; capture one with the running settings`);
+    if (mismatch)
+      throw new Error(
+        `baseline ${where} was taken with other analysis settings: ${mismatch}; capture one with the running settings`,
+      );
     this.pendingBaseline = { baseline, where };
   }
 
@@ -70,8 +73,19 @@ export class AlarmHook implements Detector {
       this.o = { ...this.o, baseline, baselineWhere: where };
       this.baselineDropped = false;
       this.set = undefined;
-      pre.push(makeEvent('baseline', 'raised', '*', snap.sample, snap.settings.sampleRate, snap.wallTime,
-        `comparing against baseline ${where} from this snapshot on (alarm rules restarted)`, {}, 'info'));
+      pre.push(
+        makeEvent(
+          'baseline',
+          'raised',
+          '*',
+          snap.sample,
+          snap.settings.sampleRate,
+          snap.wallTime,
+          `comparing against baseline ${where} from this snapshot on (alarm rules restarted)`,
+          {},
+          'info',
+        ),
+      );
     }
     if (!this.set || firstSettingMismatch(snap.settings, this.set.settings)) this.build(snap, pre);
     const events = this.set!.onSnapshot(snap);
@@ -101,16 +115,33 @@ export class AlarmHook implements Detector {
     if (baseline && mismatch && !first) {
       baseline = undefined;
       this.baselineDropped = true;
-      pre.push(makeEvent('baseline', 'cleared', '*', snap.sample, snap.settings.sampleRate, snap.wallTime,
-        `baseline comparison stopped: the analysis now differs from the baseline's in ${mismatch}; capture a new baseline`, {}, 'info'));
+      pre.push(
+        makeEvent(
+          'baseline',
+          'cleared',
+          '*',
+          snap.sample,
+          snap.settings.sampleRate,
+          snap.wallTime,
+          `baseline comparison stopped: the analysis now differs from the baseline's in ${mismatch}; capture a new baseline`,
+          {},
+          'info',
+        ),
+      );
     }
     // On the first snapshot a mismatch throws (checkBaselineMatches inside Detectors): the run is refused.
-    this.set = new Detectors(baseline, this.o.rules ?? defaultRules(), {
-      settings: snap.settings,
-      channels: snap.channels,
-      firstSample: this.info?.firstSample,
-      startWallTime: this.info?.startWallTime,
-    }, { capture: this.o.capture, masks: this.o.masks }, this.o.baselineWhere);
+    this.set = new Detectors(
+      baseline,
+      this.o.rules ?? defaultRules(),
+      {
+        settings: snap.settings,
+        channels: snap.channels,
+        firstSample: this.info?.firstSample,
+        startWallTime: this.info?.startWallTime,
+      },
+      { capture: this.o.capture, masks: this.o.masks },
+      this.o.baselineWhere,
+    );
     for (const fn of this.onBuild) fn(this.set);
   }
 }

@@ -33,8 +33,13 @@ export class BandDetector {
     private readonly book: IncidentBook,
   ) {
     const spec = {
-      binHz, bands, baselinePsd, baselineEquivalentAverages: baselineK, correlation,
-      marginDb: rules.band.marginDb, alpha: rules.band.alpha,
+      binHz,
+      bands,
+      baselinePsd,
+      baselineEquivalentAverages: baselineK,
+      correlation,
+      marginDb: rules.band.marginDb,
+      alpha: rules.band.alpha,
     };
     this.compare = new BandCompare(spec);
     this.recentCompare = new BandCompare(spec);
@@ -61,7 +66,16 @@ export class BandDetector {
    * A band whose every bin lies under new lines cannot be judged: its state is held as it was (no raise, no clear)
    * and an info event says so when that starts and ends; status shows its all-bins level.
    */
-  onSpectrum(psd: Float64Array, liveK: number, recent: RecentView, sample: number, wallTime: string, out: FloorlineEvent[], exclude?: Uint8Array, overloadFrom = -1): void {
+  onSpectrum(
+    psd: Float64Array,
+    liveK: number,
+    recent: RecentView,
+    sample: number,
+    wallTime: string,
+    out: FloorlineEvent[],
+    exclude?: Uint8Array,
+    overloadFrom = -1,
+  ): void {
     if (!(liveK > 0)) return;
     const c = this.compare;
     c.evaluate(psd, liveK, exclude);
@@ -77,11 +91,21 @@ export class BandDetector {
         this.covered[b] = covered;
         const { low, high } = c.bands[b];
         const band = `${this.channel} ${low.toPrecision(4)}–${high.toPrecision(4)} Hz`;
-        out.push(makeEvent('band-rise', covered ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime,
-          covered
-            ? `${band} not judged: new lines and their skirts cover all its bins (all-bin level ${roundDb(level0)} dB); the band's alarm state is held until floor bins show again`
-            : `${band} judged again: floor bins clear of lines`,
-          { band: [round(low, 6), round(high, 6)], levelDb: roundDb(level0), thresholdDb: roundDb(c.thresholdDb[b]) }, 'info'));
+        out.push(
+          makeEvent(
+            'band-rise',
+            covered ? 'raised' : 'cleared',
+            this.channel,
+            sample,
+            this.sampleRate,
+            wallTime,
+            covered
+              ? `${band} not judged: new lines and their skirts cover all its bins (all-bin level ${roundDb(level0)} dB); the band's alarm state is held until floor bins show again`
+              : `${band} judged again: floor bins clear of lines`,
+            { band: [round(low, 6), round(high, 6)], levelDb: roundDb(level0), thresholdDb: roundDb(c.thresholdDb[b]) },
+            'info',
+          ),
+        );
       }
       if (covered) state.hold(sample + 1);
       if (overloadFrom >= 0) {
@@ -97,7 +121,10 @@ export class BandDetector {
       const name = `${this.channel} ${low.toPrecision(4)}–${high.toPrecision(4)} Hz`;
       if (tr === AlarmTransition.Raised) {
         life.raised(sample);
-        this.members[b] = this.book.join({ rule: 'band-rise', channel: this.channel, band, overloadFrom: this.riseUnderOverload[b], state }, stamp);
+        this.members[b] = this.book.join(
+          { rule: 'band-rise', channel: this.channel, band, overloadFrom: this.riseUnderOverload[b], state },
+          stamp,
+        );
       }
       if (state.raised) life.track(sample, recentLevel);
       const member = this.members[b];
@@ -106,19 +133,31 @@ export class BandDetector {
         // The raise quotes the long estimate at its first crossing; the clear the recent one that judged it.
         const levelDb = roundDb(raised ? c.levelDb[b] : recentLevel);
         const thresholdDb = roundDb(c.thresholdDb[b]);
-        const overload = raised && this.riseUnderOverload[b] >= 0
-          ? `; the rise began while the average held segments with clipped samples (from sample ${this.riseUnderOverload[b]})`
-          : '';
+        const overload =
+          raised && this.riseUnderOverload[b] >= 0
+            ? `; the rise began while the average held segments with clipped samples (from sample ${this.riseUnderOverload[b]})`
+            : '';
         const peakLevelDb = roundDb(life.peakLevel);
         const durationSeconds = round((sample - life.raisedAt) / this.sampleRate, 6);
         const detail = raised
           ? `${name} floor ${levelDb} dB above baseline (threshold ${thresholdDb} dB)${tr === AlarmTransition.Repeated ? ', still active' : ''}${overload}`
           : `${name} floor back to ${levelDb} dB of baseline in the recent estimate; peak ${peakLevelDb} dB, after ${durationSeconds} s`;
         if (!raised) this.riseUnderOverload[b] = -1;
-        const e = makeEvent('band-rise', raised ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime, detail, {
-          band, levelDb, thresholdDb,
-          ...(raised ? {} : { peakLevelDb, peakSample: life.peakSample, durationSeconds }),
-        });
+        const e = makeEvent(
+          'band-rise',
+          raised ? 'raised' : 'cleared',
+          this.channel,
+          sample,
+          this.sampleRate,
+          wallTime,
+          detail,
+          {
+            band,
+            levelDb,
+            thresholdDb,
+            ...(raised ? {} : { peakLevelDb, peakSample: life.peakSample, durationSeconds }),
+          },
+        );
         if (member) {
           this.book.stamp(e, member);
           if (!raised) {
@@ -130,9 +169,16 @@ export class BandDetector {
       }
       if (state.raised && life.settlesNow(sample - recent.spanSamples + 1)) {
         const levelDb = roundDb(recentLevel);
-        const e = makeEvent('band-rise', 'settled', this.channel, sample, this.sampleRate, wallTime,
+        const e = makeEvent(
+          'band-rise',
+          'settled',
+          this.channel,
+          sample,
+          this.sampleRate,
+          wallTime,
           `${name} floor settled at ${levelDb} dB above baseline (the recent estimate holds only samples after the onset)`,
-          { band, levelDb, thresholdDb: roundDb(c.thresholdDb[b]) });
+          { band, levelDb, thresholdDb: roundDb(c.thresholdDb[b]) },
+        );
         if (member) this.book.stamp(e, member);
         out.push(e);
       }

@@ -16,7 +16,8 @@ export function defaultBands(sampleRate: number, segment: number, mainLobeHalfWi
   edges.push(high);
   const halfDecade = Math.sqrt(10);
   if (edges.length > 2 && edges[1] / edges[0] < halfDecade) edges.splice(1, 1);
-  if (edges.length > 2 && edges[edges.length - 1] / edges[edges.length - 2] < halfDecade) edges.splice(edges.length - 2, 1);
+  if (edges.length > 2 && edges[edges.length - 1] / edges[edges.length - 2] < halfDecade)
+    edges.splice(edges.length - 2, 1);
   const bands: BandSpec[] = [];
   for (let i = 0; i + 1 < edges.length; i++) bands.push({ low: edges[i], high: edges[i + 1] });
   if (bands.length > 1) bands.push({ low, high });

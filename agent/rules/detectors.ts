@@ -47,10 +47,26 @@ export interface DetectorStatus {
    * because the average still holds clipped segments; `coveredByLines`: not judged, new lines cover every bin
    * (level and threshold then over all bins).
    */
-  bands: { low: number; high: number; levelDb: number; thresholdDb: number; active: boolean; held: boolean; coveredByLines: boolean }[];
+  bands: {
+    low: number;
+    high: number;
+    levelDb: number;
+    thresholdDb: number;
+    active: boolean;
+    held: boolean;
+    coveredByLines: boolean;
+  }[];
   /** Mains fundamental (0 when none measured in the last spectrum), its nominal (0 until picked), RMS totals. */
   mains: { fundamental: number; nominal: number; total: number; odd: number; even: number };
-  lines: { frequency: number; amplitude: number; heightDb: number; harmonic: number; firstSeen: number; lastSeen: number; active: boolean }[];
+  lines: {
+    frequency: number;
+    amplitude: number;
+    heightDb: number;
+    harmonic: number;
+    firstSeen: number;
+    lastSeen: number;
+    active: boolean;
+  }[];
   /** First clipped sample of the overload whose segments still weigh in the average (−1: none): alarms held. */
   overloadFrom: number;
 }
@@ -92,7 +108,13 @@ export class Detectors {
     const s = stream.settings;
     this.settings = s;
     this.sampleRate = s.sampleRate;
-    if (baseline) checkBaselineMatches(baseline, s, stream.channels.map((c) => c.name), baselineWhere);
+    if (baseline)
+      checkBaselineMatches(
+        baseline,
+        s,
+        stream.channels.map((c) => c.name),
+        baselineWhere,
+      );
     const win = makeWindow(s.window, s.segment);
     const corr = binPowerCorrelation(win.values);
     const leakage = leakageEnvelope(win.values, MAX_SKIRT_BINS);
@@ -110,15 +132,42 @@ export class Detectors {
       const bands = rules.band.channelBands[name] ?? (rules.band.bands.length ? rules.band.bands : defaults);
       return {
         name,
-        band: b ? new BandDetector(name, bands, basePsd, b.equivalentAverages, binHz, corr, rules, s.sampleRate, this.incidents) : undefined,
-        spur: new SpurDetector(name, frequencies, binHz, win.mainLobeHalfWidth, leakage, basePsd, rules, s.sampleRate, unit ?? 'V', this.incidents),
+        band: b
+          ? new BandDetector(
+              name,
+              bands,
+              basePsd,
+              b.equivalentAverages,
+              binHz,
+              corr,
+              rules,
+              s.sampleRate,
+              this.incidents,
+            )
+          : undefined,
+        spur: new SpurDetector(
+          name,
+          frequencies,
+          binHz,
+          win.mainLobeHalfWidth,
+          leakage,
+          basePsd,
+          rules,
+          s.sampleRate,
+          unit ?? 'V',
+          this.incidents,
+        ),
         clipFirst: -1,
         clipLast: -1,
         heldFrom: -1,
         limit: this.limitFor(name, unit ?? 'V', frequencies),
       };
     });
-    this.health = new HealthDetector(s.sampleRate, Math.round(rules.clipHold * s.sampleRate), Math.round(rules.overrunHold * s.sampleRate));
+    this.health = new HealthDetector(
+      s.sampleRate,
+      Math.round(rules.clipHold * s.sampleRate),
+      Math.round(rules.overrunHold * s.sampleRate),
+    );
   }
 
   private limitFor(name: string, unit: string, frequencies: Float64Array): LimitDetector | undefined {
@@ -127,7 +176,9 @@ export class Detectors {
     const nyquist = this.sampleRate / 2;
     const top = mask.frequency[mask.frequency.length - 1];
     if (top > nyquist) {
-      throw new InputError(`--mask ${mask.path}: its last point at ${top} Hz is beyond the Nyquist frequency ${nyquist} Hz of the stream; end the mask at or below it.`);
+      throw new InputError(
+        `--mask ${mask.path}: its last point at ${top} Hz is beyond the Nyquist frequency ${nyquist} Hz of the stream; end the mask at or below it.`,
+      );
     }
     return new LimitDetector(name, unit, frequencies, maskOnBins(mask, frequencies), this.rules, this.sampleRate);
   }
@@ -145,13 +196,23 @@ export class Detectors {
       return {
         channel: c.name,
         bands: (cmp?.bands ?? []).map((b, i) => ({
-          low: b.low, high: b.high, levelDb: cmp!.levelDb[i], thresholdDb: cmp!.thresholdDb[i], active: c.band!.state(i).raised,
-          held: c.heldFrom >= 0, coveredByLines: cmp!.coveredByLines[i] === 1,
+          low: b.low,
+          high: b.high,
+          levelDb: cmp!.levelDb[i],
+          thresholdDb: cmp!.thresholdDb[i],
+          active: c.band!.state(i).raised,
+          held: c.heldFrom >= 0,
+          coveredByLines: cmp!.coveredByLines[i] === 1,
         })),
         mains: { fundamental: m.fundamental, nominal: m.nominal, total: m.total, odd: m.odd, even: m.even },
         lines: c.spur.tracked.map((t) => ({
-          frequency: t.frequency, amplitude: t.amplitude, heightDb: t.heightDb, harmonic: t.harmonic,
-          firstSeen: t.firstSeen, lastSeen: t.lastSeen, active: t.state.raised,
+          frequency: t.frequency,
+          amplitude: t.amplitude,
+          heightDb: t.heightDb,
+          harmonic: t.harmonic,
+          firstSeen: t.firstSeen,
+          lastSeen: t.lastSeen,
+          active: t.state.raised,
         })),
         overloadFrom: c.heldFrom,
       };
@@ -161,7 +222,9 @@ export class Detectors {
   onSnapshot(snap: SnapshotLike): FloorlineEvent[] {
     const diff = firstSettingMismatch(snap.settings, this.settings);
     if (diff) {
-      throw new InputError(`alarms: a spectrum arrived with other analysis settings than the detectors were built for: ${diff}; rebuild the detectors after changing settings.`);
+      throw new InputError(
+        `alarms: a spectrum arrived with other analysis settings than the detectors were built for: ${diff}; rebuild the detectors after changing settings.`,
+      );
     }
     this.lastWallTime = snap.wallTime;
     const out: FloorlineEvent[] = [];
@@ -174,7 +237,16 @@ export class Detectors {
       recent.push(ch.psd, ch.segmentsUsed);
       // Lines first: the band rules judge the floor without the lobes of the new lines the spur rule tracks.
       d.spur.onSpectrum(ch.psd, ch.equivalentAverages, recent, snap.sample, snap.wallTime, out, d.heldFrom);
-      d.band?.onSpectrum(ch.psd, ch.equivalentAverages, recent, snap.sample, snap.wallTime, out, d.spur.lineMask, d.heldFrom);
+      d.band?.onSpectrum(
+        ch.psd,
+        ch.equivalentAverages,
+        recent,
+        snap.sample,
+        snap.wallTime,
+        out,
+        d.spur.lineMask,
+        d.heldFrom,
+      );
       if (d.limit) {
         const limitEvents: FloorlineEvent[] = [];
         d.limit.onSpectrum(ch.psd, ch.equivalentAverages, snap.sample, snap.wallTime, limitEvents, d.heldFrom);
@@ -191,7 +263,13 @@ export class Detectors {
     const averaging = snap.averaging ?? DEFAULT_AVERAGING;
     const windowSegments = Math.max(1, Math.ceil((this.rules.recentWindow * s.sampleRate - s.segment) / this.step) + 1);
     d.recent = new RecentSpectrum({
-      bins: s.segment / 2 + 1, averaging, segment: s.segment, step: this.step, sampleRate: s.sampleRate, windowSegments, rho: this.rho,
+      bins: s.segment / 2 + 1,
+      averaging,
+      segment: s.segment,
+      step: this.step,
+      sampleRate: s.sampleRate,
+      windowSegments,
+      rho: this.rho,
     });
     return d.recent;
   }
@@ -211,7 +289,8 @@ export class Detectors {
     const step = welchStep(s.segment, s.overlap);
     const newer = segmentsAfter(ch.lastSegmentSample ?? snap.sample, d.clipLast, s.segment, step);
     const averaging = snap.averaging ?? DEFAULT_AVERAGING;
-    if (contaminationWeight(averaging, newer, ch.segmentsUsed, step / s.sampleRate) > CONTAMINATION_HOLD_WEIGHT) return d.clipFirst;
+    if (contaminationWeight(averaging, newer, ch.segmentsUsed, step / s.sampleRate) > CONTAMINATION_HOLD_WEIGHT)
+      return d.clipFirst;
     d.clipFirst = d.clipLast = -1;
     return -1;
   }
@@ -282,7 +361,13 @@ export class Detectors {
     return this.incidents.all().map((i) => this.incidents.record(i));
   }
 
-  private forStates(rule: EventRule, channel: string, band: [number, number] | undefined, fn: (s: AlarmState) => void, frequency?: number): number {
+  private forStates(
+    rule: EventRule,
+    channel: string,
+    band: [number, number] | undefined,
+    fn: (s: AlarmState) => void,
+    frequency?: number,
+  ): number {
     const ch = this.channels.find((c) => c.name === channel);
     if (!ch) return 0;
     let n = 0;
@@ -294,8 +379,9 @@ export class Detectors {
       });
     } else if (rule === 'spur' || rule === 'mains') {
       for (const t of ch.spur.tracked) {
-        if (frequency !== undefined && Math.abs(t.announcedFrequency - frequency) > 1e-6 * Math.max(1, frequency)) continue;
-        if ((t.harmonic > 0) === (rule === 'mains')) {
+        if (frequency !== undefined && Math.abs(t.announcedFrequency - frequency) > 1e-6 * Math.max(1, frequency))
+          continue;
+        if (t.harmonic > 0 === (rule === 'mains')) {
           fn(t.state);
           n++;
         }

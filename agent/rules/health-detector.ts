@@ -24,8 +24,17 @@ export class HealthDetector {
     this.clipLast.set(channel, sample);
     this.clipCount.set(channel, (this.clipCount.get(channel) ?? 0) + count);
     if (!active) {
-      out.push(makeEvent('clip', 'raised', channel, sample, this.sampleRate, wallTime,
-        `${channel}: ${count} sample${count === 1 ? '' : 's'} within 0.1 % of full scale at sample ${sample}`));
+      out.push(
+        makeEvent(
+          'clip',
+          'raised',
+          channel,
+          sample,
+          this.sampleRate,
+          wallTime,
+          `${channel}: ${count} sample${count === 1 ? '' : 's'} within 0.1 % of full scale at sample ${sample}`,
+        ),
+      );
     }
   }
 
@@ -38,8 +47,17 @@ export class HealthDetector {
     const first = !this.gapOpen;
     this.gapOpen = this.gapOpen ? { ...this.gapOpen, lost: this.gapOpen.lost + gap.lost } : gap;
     if (first) {
-      out.push(makeEvent('gap', 'raised', '*', gap.sample, this.sampleRate, wallTime,
-        `${gap.lost} sample${gap.lost === 1 ? '' : 's'} lost from sample ${gap.sample} (${gap.reason})`));
+      out.push(
+        makeEvent(
+          'gap',
+          'raised',
+          '*',
+          gap.sample,
+          this.sampleRate,
+          wallTime,
+          `${gap.lost} sample${gap.lost === 1 ? '' : 's'} lost from sample ${gap.sample} (${gap.reason})`,
+        ),
+      );
     }
   }
 
@@ -58,29 +76,65 @@ export class HealthDetector {
     this.overrunLast = sample;
     this.overrunBlocks += droppedBlocks;
     if (!active) {
-      out.push(makeEvent('overrun', 'raised', '*', sample, this.sampleRate, wallTime,
-        `analysis fell behind: ${droppedBlocks} block${droppedBlocks === 1 ? '' : 's'} dropped at sample ${sample}`));
+      out.push(
+        makeEvent(
+          'overrun',
+          'raised',
+          '*',
+          sample,
+          this.sampleRate,
+          wallTime,
+          `analysis fell behind: ${droppedBlocks} block${droppedBlocks === 1 ? '' : 's'} dropped at sample ${sample}`,
+        ),
+      );
     }
   }
 
   /** Clears what has stopped happening, as of `sample` (called with each spectrum). */
   onTime(sample: number, wallTime: string, out: FloorlineEvent[]): void {
     if (this.gapOpen && sample > this.gapOpen.sample) {
-      out.push(makeEvent('gap', 'cleared', '*', sample, this.sampleRate, wallTime,
-        `data flowing again after ${this.gapOpen.lost} lost sample${this.gapOpen.lost === 1 ? '' : 's'}`));
+      out.push(
+        makeEvent(
+          'gap',
+          'cleared',
+          '*',
+          sample,
+          this.sampleRate,
+          wallTime,
+          `data flowing again after ${this.gapOpen.lost} lost sample${this.gapOpen.lost === 1 ? '' : 's'}`,
+        ),
+      );
       this.gapOpen = undefined;
     }
     for (const [channel, last] of this.clipLast) {
       if (sample - last >= this.clipHoldSamples) {
-        out.push(makeEvent('clip', 'cleared', channel, sample, this.sampleRate, wallTime,
-          `${channel}: no clipping since sample ${last} (${this.clipCount.get(channel)} clipped samples in all)`));
+        out.push(
+          makeEvent(
+            'clip',
+            'cleared',
+            channel,
+            sample,
+            this.sampleRate,
+            wallTime,
+            `${channel}: no clipping since sample ${last} (${this.clipCount.get(channel)} clipped samples in all)`,
+          ),
+        );
         this.clipLast.delete(channel);
         this.clipCount.delete(channel);
       }
     }
     if (this.overrunLast >= 0 && sample - this.overrunLast >= this.overrunHoldSamples) {
-      out.push(makeEvent('overrun', 'cleared', '*', sample, this.sampleRate, wallTime,
-        `analysis keeping up again (${this.overrunBlocks} blocks dropped in all)`));
+      out.push(
+        makeEvent(
+          'overrun',
+          'cleared',
+          '*',
+          sample,
+          this.sampleRate,
+          wallTime,
+          `analysis keeping up again (${this.overrunBlocks} blocks dropped in all)`,
+        ),
+      );
       this.overrunLast = -1;
       this.overrunBlocks = 0;
     }

@@ -156,7 +156,11 @@ export class IncidentBook {
   stamp(e: FloorlineEvent, m: Member): void {
     e.incident = m.incident.id;
     if (e.state === 'settled' && e.levelDb !== undefined) {
-      m.settled = { levelDb: e.levelDb, ...(e.amplitude !== undefined ? { amplitude: e.amplitude } : {}), ...(e.frequency !== undefined ? { frequency: e.frequency } : {}) };
+      m.settled = {
+        levelDb: e.levelDb,
+        ...(e.amplitude !== undefined ? { amplitude: e.amplitude } : {}),
+        ...(e.frequency !== undefined ? { frequency: e.frequency } : {}),
+      };
     }
     if (e.state === 'raised' && e.capture && !m.incident.capture) m.incident.capture = e.capture;
   }
@@ -178,7 +182,11 @@ export class IncidentBook {
       end: inc.end,
       settled: lead?.settled ?? inc.members.find((m) => m.settled)?.settled ?? null,
       peak: lead?.peak ?? null,
-      acknowledged: inc.acknowledged || (inc.members.length > 0 && inc.members.every((m) => m.acknowledged || !m.open) && inc.members.some((m) => m.acknowledged)),
+      acknowledged:
+        inc.acknowledged ||
+        (inc.members.length > 0 &&
+          inc.members.every((m) => m.acknowledged || !m.open) &&
+          inc.members.some((m) => m.acknowledged)),
       notes: inc.notes.map(({ text, t, wallTime }) => ({ text, t, wallTime })),
       capture: inc.capture,
     };
@@ -189,7 +197,17 @@ export class IncidentBook {
     let id = `${spec.rule}-${who}-s${at.sample}`;
     for (let n = 2; this.ids.has(id); n++) id = `${spec.rule}-${who}-s${at.sample}-${n}`;
     this.ids.add(id);
-    const inc: Incident = { id, channel: spec.channel, start: at, end: null, members: [], acknowledged: false, shelvedUntil: -1, notes: [], capture: null };
+    const inc: Incident = {
+      id,
+      channel: spec.channel,
+      start: at,
+      end: null,
+      members: [],
+      acknowledged: false,
+      shelvedUntil: -1,
+      notes: [],
+      capture: null,
+    };
     this.open.push(inc);
     return inc;
   }
@@ -213,7 +231,11 @@ export class IncidentBook {
         if (!isLine && spec.rule === m.rule && spec.rule !== 'band-rise') return inc;
       }
       if (sample - inc.start.sample > near) continue;
-      if (spec.rule === 'band-rise' && inc.members.some((m) => (m.rule === 'mains' || m.rule === 'spur') && inside(m.frequency, spec.band))) return inc;
+      if (
+        spec.rule === 'band-rise' &&
+        inc.members.some((m) => (m.rule === 'mains' || m.rule === 'spur') && inside(m.frequency, spec.band))
+      )
+        return inc;
       if (isLine && inc.members.some((m) => m.rule === 'band-rise' && inside(spec.frequency, m.band))) return inc;
     }
     return undefined;

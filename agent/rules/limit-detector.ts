@@ -30,13 +30,23 @@ export class LimitDetector {
   ) {
     let n = 0;
     for (let k = 1; k < limits.length; k++) if (limits[k] > 0) n++;
-    if (n === 0) throw new RangeError(`limit mask for ${channel}: no bin of the spectrum lies under the mask; give a mask that spans some of 0–${sampleRate / 2} Hz`);
+    if (n === 0)
+      throw new RangeError(
+        `limit mask for ${channel}: no bin of the spectrum lies under the mask; give a mask that spans some of 0–${sampleRate / 2} Hz`,
+      );
     this.judged = n;
     // The band rule's timings: a mask is a floor-like limit.
     this.state = new AlarmState(timingInSamples(rules.band, sampleRate));
   }
 
-  onSpectrum(psd: Float64Array, liveK: number, sample: number, wallTime: string, out: FloorlineEvent[], overloadFrom = -1): void {
+  onSpectrum(
+    psd: Float64Array,
+    liveK: number,
+    sample: number,
+    wallTime: string,
+    out: FloorlineEvent[],
+    overloadFrom = -1,
+  ): void {
     if (!(liveK > 0)) return;
     const k = conservativeAverages(liveK);
     if (k !== this.cachedK) {
@@ -68,8 +78,13 @@ export class LimitDetector {
       ? `${this.channel} above its limit mask by ${this.levelDb.toFixed(2)} dB at ${f.toFixed(2)} Hz (estimate ${estimate.toExponential(3)} ${this.unit}/√Hz against ` +
         `${lim[at].toExponential(3)} ${this.unit}/√Hz; statistical bound ${this.thresholdDb.toFixed(2)} dB)${tr === AlarmTransition.Repeated ? ', still active' : ''}`
       : `${this.channel} back under its limit mask (worst margin ${margin.toFixed(2)} dB at ${f.toFixed(2)} Hz)`;
-    out.push(makeEvent('limit', raised ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime, detail, {
-      frequency: round(f, 7), marginDb: round(margin), levelDb: round(this.levelDb), thresholdDb: round(this.thresholdDb),
-    }));
+    out.push(
+      makeEvent('limit', raised ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime, detail, {
+        frequency: round(f, 7),
+        marginDb: round(margin),
+        levelDb: round(this.levelDb),
+        thresholdDb: round(this.thresholdDb),
+      }),
+    );
   }
 }

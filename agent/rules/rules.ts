@@ -73,10 +73,18 @@ export function parseRules(value: unknown, where: string): RulesConfig {
   if (typeof value !== 'object' || value === null) fail('is not a JSON object');
   const v = value as Record<string, unknown>;
   for (const k of Object.keys(v)) if (!(k in r)) fail(`unknown key "${k}"; known keys: ${Object.keys(r).join(', ')}`);
-  const num = (obj: Record<string, unknown>, key: string, path: string, min: number, max: number, target: Record<string, unknown>): void => {
+  const num = (
+    obj: Record<string, unknown>,
+    key: string,
+    path: string,
+    min: number,
+    max: number,
+    target: Record<string, unknown>,
+  ): void => {
     if (!(key in obj)) return;
     const x = obj[key];
-    if (typeof x !== 'number' || !Number.isFinite(x) || x < min || x > max) fail(`${path}.${key} must be a number from ${min} to ${max}, got ${JSON.stringify(x)}`);
+    if (typeof x !== 'number' || !Number.isFinite(x) || x < min || x > max)
+      fail(`${path}.${key} must be a number from ${min} to ${max}, got ${JSON.stringify(x)}`);
     target[key] = x;
   };
   const timing = (obj: Record<string, unknown>, path: string, target: Record<string, unknown>): void => {
@@ -101,8 +109,10 @@ export function parseRules(value: unknown, where: string): RulesConfig {
     num(b, 'alpha', 'band', 1e-15, 0.1, r.band as unknown as Record<string, unknown>);
     if (b.bands !== undefined) r.band.bands = bands(b.bands, 'band.bands');
     if (b.channelBands !== undefined) {
-      if (typeof b.channelBands !== 'object' || b.channelBands === null) fail('band.channelBands must map channel names to band lists');
-      for (const [ch, list] of Object.entries(b.channelBands as Record<string, unknown>)) r.band.channelBands[ch] = bands(list, `band.channelBands.${ch}`);
+      if (typeof b.channelBands !== 'object' || b.channelBands === null)
+        fail('band.channelBands must map channel names to band lists');
+      for (const [ch, list] of Object.entries(b.channelBands as Record<string, unknown>))
+        r.band.channelBands[ch] = bands(list, `band.channelBands.${ch}`);
     }
   }
   if (v.spur !== undefined) {
@@ -115,7 +125,8 @@ export function parseRules(value: unknown, where: string): RulesConfig {
   if (v.mains !== undefined) {
     const m = v.mains as Record<string, unknown>;
     if (m.frequency !== undefined) {
-      if (m.frequency !== 'auto' && m.frequency !== 50 && m.frequency !== 60) fail(`mains.frequency must be "auto", 50 or 60, got ${JSON.stringify(m.frequency)}`);
+      if (m.frequency !== 'auto' && m.frequency !== 50 && m.frequency !== 60)
+        fail(`mains.frequency must be "auto", 50 or 60, got ${JSON.stringify(m.frequency)}`);
       r.mains.frequency = m.frequency as MainsSetting;
     }
     num(m, 'maxHarmonic', 'mains', 1, 200, r.mains as unknown as Record<string, unknown>);

@@ -73,10 +73,16 @@ export class SpurDetector {
     private readonly book: IncidentBook,
   ) {
     this.finder = new SpurFinder({
-      frequencies, binHz, mainLobeHalfWidth, maxLines: MAX_TRACKED_LINES,
+      frequencies,
+      binHz,
+      mainLobeHalfWidth,
+      maxLines: MAX_TRACKED_LINES,
       floorHalfWidth: rules.spur.floorHalfWidth > 0 ? rules.spur.floorHalfWidth : undefined,
     });
-    this.mains = new MainsClassifier({ setting: rules.mains.frequency, binHz, maxHarmonic: rules.mains.maxHarmonic }, MAX_TRACKED_LINES);
+    this.mains = new MainsClassifier(
+      { setting: rules.mains.frequency, binHz, maxHarmonic: rules.mains.maxHarmonic },
+      MAX_TRACKED_LINES,
+    );
     this.lineMask = new Uint8Array(frequencies.length);
     this.timing = timingInSamples(rules.spur, sampleRate);
     this.marginRatio = 10 ** (rules.spur.marginDb / 10);
@@ -97,7 +103,15 @@ export class SpurDetector {
    * `overloadFrom` ≥ 0: the average still holds segments with clipped samples from that sample on, so new alarms are
    * held (see Detectors) and lines first seen now are marked as seen during the overload.
    */
-  onSpectrum(psd: Float64Array, liveK: number, recent: RecentView, sample: number, wallTime: string, out: FloorlineEvent[], overloadFrom = -1): void {
+  onSpectrum(
+    psd: Float64Array,
+    liveK: number,
+    recent: RecentView,
+    sample: number,
+    wallTime: string,
+    out: FloorlineEvent[],
+    overloadFrom = -1,
+  ): void {
     if (!(liveK > 0)) return;
     const ratio = this.thresholdRatio(liveK);
     const thresholdDb = powerRatioDb(ratio);
@@ -112,7 +126,8 @@ export class SpurDetector {
     // Overload products (lines first seen under an overload, or any line while held) are no evidence of the grid.
     const evidence = this.evidence;
     for (let i = 0; i < n; i++) {
-      const product = overloadFrom >= 0 || this.tracked.some((x) => x.overloadFrom >= 0 && Math.abs(x.bin - f.lineBin[i]) <= lobe);
+      const product =
+        overloadFrom >= 0 || this.tracked.some((x) => x.overloadFrom >= 0 && Math.abs(x.bin - f.lineBin[i]) <= lobe);
       evidence[i] = product ? 0 : 1;
     }
     this.mains.classify(f.lineFrequency, f.lineAmplitude, n, evidence);
@@ -124,8 +139,18 @@ export class SpurDetector {
       if (!t) {
         if (this.tracked.length >= MAX_TRACKED_LINES) continue;
         t = {
-          bin: k, frequency: 0, amplitude: 0, heightDb: 0, harmonic: 0, fundamental: 0, announcedFrequency: 0,
-          overloadFrom, firstSeen: sample, lastSeen: sample, state: new AlarmState(this.timing), life: new AlarmLife(),
+          bin: k,
+          frequency: 0,
+          amplitude: 0,
+          heightDb: 0,
+          harmonic: 0,
+          fundamental: 0,
+          announcedFrequency: 0,
+          overloadFrom,
+          firstSeen: sample,
+          lastSeen: sample,
+          state: new AlarmState(this.timing),
+          life: new AlarmLife(),
         };
         if (this.shelvedUntil > sample) t.state.shelve(this.shelvedUntil);
         this.tracked.push(t);
@@ -157,14 +182,33 @@ export class SpurDetector {
       const tr = t.state.update(sample, level, thresholdDb, r.level);
       if (tr === AlarmTransition.Raised) {
         t.life.raised(sample);
-        t.member = this.book.join({
-          rule: t.harmonic > 0 ? 'mains' : 'spur', channel: this.channel, frequency: round(t.frequency, 7),
-          ...(t.harmonic > 0 ? { harmonic: t.harmonic } : {}), overloadFrom: t.overloadFrom, state: t.state,
-        }, { sample, t: sample / this.sampleRate, wallTime });
+        t.member = this.book.join(
+          {
+            rule: t.harmonic > 0 ? 'mains' : 'spur',
+            channel: this.channel,
+            frequency: round(t.frequency, 7),
+            ...(t.harmonic > 0 ? { harmonic: t.harmonic } : {}),
+            overloadFrom: t.overloadFrom,
+            state: t.state,
+          },
+          { sample, t: sample / this.sampleRate, wallTime },
+        );
       }
       if (t.state.raised) t.life.track(sample, r.level, r.amplitude);
-      if (tr !== AlarmTransition.None) out.push(this.event(t, tr, sample, wallTime, tr === AlarmTransition.Cleared ? r.level : level, thresholdDb, r.amplitude));
-      if (t.state.raised && t.life.settlesNow(sample - recent.spanSamples + 1)) out.push(this.settledEvent(t, sample, wallTime, r, thresholdDb));
+      if (tr !== AlarmTransition.None)
+        out.push(
+          this.event(
+            t,
+            tr,
+            sample,
+            wallTime,
+            tr === AlarmTransition.Cleared ? r.level : level,
+            thresholdDb,
+            r.amplitude,
+          ),
+        );
+      if (t.state.raised && t.life.settlesNow(sample - recent.spanSamples + 1))
+        out.push(this.settledEvent(t, sample, wallTime, r, thresholdDb));
       if (tr === AlarmTransition.Cleared) t.life.cleared();
       if (!t.state.active && t.lastSeen < sample) {
         this.tracked.splice(j, 1);
@@ -236,19 +280,44 @@ export class SpurDetector {
       : `new line at ${f.toFixed(2)} Hz`;
   }
 
-  private settledEvent(t: TrackedLine, sample: number, wallTime: string, r: { level: number; amplitude: number; frequency: number }, thresholdDb: number): FloorlineEvent {
+  private settledEvent(
+    t: TrackedLine,
+    sample: number,
+    wallTime: string,
+    r: { level: number; amplitude: number; frequency: number },
+    thresholdDb: number,
+  ): FloorlineEvent {
     const levelDb = roundDb(r.level);
     const amplitude = round(r.amplitude);
-    const e = makeEvent(t.harmonic > 0 ? 'mains' : 'spur', 'settled', this.channel, sample, this.sampleRate, wallTime,
-      `${this.channel} ${this.describe(t)} settled at ${formatSi(amplitude, this.unit)} rms, ${levelDb} dB over the floor, at ${r.frequency.toFixed(2)} Hz (the recent estimate holds only samples after the onset)`, {
-        frequency: round(r.frequency, 7), amplitude, levelDb, thresholdDb: round(thresholdDb),
+    const e = makeEvent(
+      t.harmonic > 0 ? 'mains' : 'spur',
+      'settled',
+      this.channel,
+      sample,
+      this.sampleRate,
+      wallTime,
+      `${this.channel} ${this.describe(t)} settled at ${formatSi(amplitude, this.unit)} rms, ${levelDb} dB over the floor, at ${r.frequency.toFixed(2)} Hz (the recent estimate holds only samples after the onset)`,
+      {
+        frequency: round(r.frequency, 7),
+        amplitude,
+        levelDb,
+        thresholdDb: round(thresholdDb),
         ...(t.harmonic > 0 ? { harmonic: t.harmonic } : {}),
-      });
+      },
+    );
     if (t.member) this.book.stamp(e, t.member);
     return e;
   }
 
-  private event(t: TrackedLine, tr: AlarmTransition, sample: number, wallTime: string, level: number, thresholdDb: number, recentAmplitude: number): FloorlineEvent {
+  private event(
+    t: TrackedLine,
+    tr: AlarmTransition,
+    sample: number,
+    wallTime: string,
+    level: number,
+    thresholdDb: number,
+    recentAmplitude: number,
+  ): FloorlineEvent {
     const isMains = t.harmonic > 0;
     const raised = tr !== AlarmTransition.Cleared;
     const m = this.mains;
@@ -256,12 +325,11 @@ export class SpurDetector {
     const f = t.announcedFrequency;
     const what = this.describe(t);
     const rms = (x: number) => `${formatSi(x, this.unit)} rms`;
-    const totals = isMains && m.measured
-      ? `; mains total ${rms(m.total)}, odd ${rms(m.odd)}, even ${rms(m.even)}`
-      : '';
-    const overload = t.overloadFrom >= 0
-      ? `; first seen while the average held segments with clipped samples (from sample ${t.overloadFrom}): likely an overload product`
-      : '';
+    const totals = isMains && m.measured ? `; mains total ${rms(m.total)}, odd ${rms(m.odd)}, even ${rms(m.even)}` : '';
+    const overload =
+      t.overloadFrom >= 0
+        ? `; first seen while the average held segments with clipped samples (from sample ${t.overloadFrom}): likely an overload product`
+        : '';
     const levelDb = roundDb(level);
     const amplitude = round(raised ? t.amplitude : recentAmplitude);
     const life = t.life;
@@ -271,18 +339,31 @@ export class SpurDetector {
     const detail = raised
       ? `${this.channel} ${what}, ${rms(amplitude)}, ${levelDb} dB over the floor (first seen at sample ${t.firstSeen}; still rising while the average fills, see the settled event)${totals}${overload}`
       : `${this.channel} ${what} gone, ${levelDb} dB over the floor in the recent estimate (last seen at sample ${t.lastSeen}, last at ${t.frequency.toFixed(2)} Hz); peak ${rms(peakAmplitude)}, ${peakLevelDb} dB, after ${durationSeconds} s`;
-    const e = makeEvent(isMains ? 'mains' : 'spur', raised ? 'raised' : 'cleared', this.channel, sample, this.sampleRate, wallTime, detail, {
-      frequency: round(f, 7),
-      amplitude,
-      levelDb,
-      thresholdDb: round(thresholdDb),
-      ...(isMains ? { harmonic: t.harmonic } : {}),
-      ...(raised ? {} : { peakLevelDb, peakAmplitude, peakSample: life.peakSample, durationSeconds }),
-    });
+    const e = makeEvent(
+      isMains ? 'mains' : 'spur',
+      raised ? 'raised' : 'cleared',
+      this.channel,
+      sample,
+      this.sampleRate,
+      wallTime,
+      detail,
+      {
+        frequency: round(f, 7),
+        amplitude,
+        levelDb,
+        thresholdDb: round(thresholdDb),
+        ...(isMains ? { harmonic: t.harmonic } : {}),
+        ...(raised ? {} : { peakLevelDb, peakAmplitude, peakSample: life.peakSample, durationSeconds }),
+      },
+    );
     if (t.member) {
       this.book.stamp(e, t.member);
       if (!raised) {
-        this.book.leave(t.member, { sample, t: sample / this.sampleRate, wallTime }, { levelDb: peakLevelDb, amplitude: peakAmplitude, sample: life.peakSample });
+        this.book.leave(
+          t.member,
+          { sample, t: sample / this.sampleRate, wallTime },
+          { levelDb: peakLevelDb, amplitude: peakAmplitude, sample: life.peakSample },
+        );
         t.member = undefined;
       }
     }

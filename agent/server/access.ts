@@ -48,10 +48,19 @@ export function checkAccess(req: IncomingMessage, url: URL, options: ServerOptio
   if (hostname === null) return { ok: false, status: 403, reason: 'Host header is not name[:port]' };
   // Bound to loopback, only loopback names may reach us: a rebinding DNS name pointing at 127.0.0.1 is refused.
   if (isLoopbackHost(options.host) && !isLoopbackHost(hostname)) {
-    return { ok: false, status: 403, reason: `Host '${host}' is not a loopback name; open the dashboard at http://127.0.0.1:PORT/` };
+    return {
+      ok: false,
+      status: 403,
+      reason: `Host '${host}' is not a loopback name; open the dashboard at http://127.0.0.1:PORT/`,
+    };
   }
   const origin = req.headers.origin;
-  if (origin !== undefined && origin !== `http://${host}` && origin !== `https://${host}` && !options.allowedOrigins.includes(origin)) {
+  if (
+    origin !== undefined &&
+    origin !== `http://${host}` &&
+    origin !== `https://${host}` &&
+    !options.allowedOrigins.includes(origin)
+  ) {
     return { ok: false, status: 403, reason: `Origin '${origin}' is not this agent's page (http://${host})` };
   }
   if (options.token === undefined) return { ok: true, viaQuery: false };
@@ -60,9 +69,15 @@ export function checkAccess(req: IncomingMessage, url: URL, options: ServerOptio
   const query = url.searchParams.get('token') ?? undefined;
   const cookie = cookieValue(req.headers.cookie, TOKEN_COOKIE);
   for (const candidate of [bearer, cookie, query]) {
-    if (candidate !== undefined && sameToken(candidate, options.token)) return { ok: true, viaQuery: candidate === query && candidate !== cookie };
+    if (candidate !== undefined && sameToken(candidate, options.token))
+      return { ok: true, viaQuery: candidate === query && candidate !== cookie };
   }
-  return { ok: false, status: 401, reason: 'missing or wrong token; open the URL the agent printed (it carries ?token=…) or send Authorization: Bearer TOKEN' };
+  return {
+    ok: false,
+    status: 401,
+    reason:
+      'missing or wrong token; open the URL the agent printed (it carries ?token=…) or send Authorization: Bearer TOKEN',
+  };
 }
 
 /** Set after a good ?token= so the page's own asset, API and WebSocket requests carry it without it in every URL. */

@@ -40,7 +40,10 @@ export interface BackendSubscriber {
   block(block: ServerBlock): void;
   event(event: FloorlineEvent): void;
   /** Live low-frequency view (when the backend runs one): its context and paced updates. */
-  lowFrequency?(message: { type: 'lowfreq-context'; context: LowFrequencyContext } | { type: 'lowfreq'; update: LowFrequencyUpdate }): void;
+  lowFrequency?(
+    message:
+      { type: 'lowfreq-context'; context: LowFrequencyContext } | { type: 'lowfreq'; update: LowFrequencyUpdate },
+  ): void;
 }
 
 /** The status fields the backend owns (the monitor's); the server adds protocol, clients, mainsHz and wallTime. */
@@ -70,7 +73,12 @@ export interface ServerBackend {
   /** Mains fundamental for the dashboard's harmonic markers (configured or measured), Hz. */
   mainsHz(): number | null;
   /** Averages the next `seconds` of sample time into a baseline file under baselines/; resolves with its path relative to dataRoot. */
-  captureBaseline(request: { seconds: number; name?: string; notes?: string; replace?: boolean }): Promise<{ file: string }>;
+  captureBaseline(request: {
+    seconds: number;
+    name?: string;
+    notes?: string;
+    replace?: boolean;
+  }): Promise<{ file: string }>;
   setRecording(on: boolean): Promise<RecordingState>;
   /** Applies new analysis settings from the next snapshot on; throws MonitorRefusal or RangeError naming what is wrong. */
   setAnalysis(change: AnalysisChange): void;

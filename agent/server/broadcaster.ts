@@ -9,7 +9,11 @@ import type { ClientConnection } from './client.ts';
 export class Broadcaster {
   readonly clients = new Set<ClientConnection>();
   /** One pool per frame kind, so buffers of one size are not evicted by another's. */
-  readonly pools: Record<FrameKindName, FramePool> = { spectrum: new FramePool(), baseline: new FramePool(2), trace: new FramePool() };
+  readonly pools: Record<FrameKindName, FramePool> = {
+    spectrum: new FramePool(),
+    baseline: new FramePool(2),
+    trace: new FramePool(),
+  };
   private trace: TraceRing | null = null;
   private seq: Record<FrameKindName, number> = { spectrum: 0, baseline: 0, trace: 0 };
   /** Counters of clients that have gone, so totals in status and metrics never go backwards. */
@@ -60,7 +64,16 @@ export class Broadcaster {
     const sampleRate = s.settings.sampleRate;
     encodeFrame(
       f.buffer,
-      { kind: 'spectrum', seq: this.seq.spectrum++, channels: ch.length, contextId, length: bins, sample: s.sample, sampleRate, binHz: s.binHz },
+      {
+        kind: 'spectrum',
+        seq: this.seq.spectrum++,
+        channels: ch.length,
+        contextId,
+        length: bins,
+        sample: s.sample,
+        sampleRate,
+        binHz: s.binHz,
+      },
       ch.map((c) => c.equivalentAverages),
       ch.map((c) => c.psd),
     );
@@ -72,7 +85,16 @@ export class Broadcaster {
     const f = this.pools.baseline.acquire(frameBytes(b.channels.length, bins));
     encodeFrame(
       f.buffer,
-      { kind: 'baseline', seq: this.seq.baseline++, channels: b.channels.length, contextId, length: bins, sample: 0, sampleRate: b.settings.sampleRate, binHz: b.settings.sampleRate / b.settings.segment },
+      {
+        kind: 'baseline',
+        seq: this.seq.baseline++,
+        channels: b.channels.length,
+        contextId,
+        length: bins,
+        sample: 0,
+        sampleRate: b.settings.sampleRate,
+        binHz: b.settings.sampleRate / b.settings.segment,
+      },
       b.channels.map((c) => c.equivalentAverages),
       b.channels.map((c) => c.psd),
     );
@@ -85,7 +107,16 @@ export class Broadcaster {
     const f = this.pools.trace.acquire(frameBytes(channels.length, count));
     encodeFrame(
       f.buffer,
-      { kind: 'trace', seq: this.seq.trace++, channels: channels.length, contextId: 0, length: count, sample: this.trace.lastSample, sampleRate, binHz: 0 },
+      {
+        kind: 'trace',
+        seq: this.seq.trace++,
+        channels: channels.length,
+        contextId: 0,
+        length: count,
+        sample: this.trace.lastSample,
+        sampleRate,
+        binHz: 0,
+      },
       null,
       channels,
     );

@@ -7,11 +7,35 @@ import { connectionBudget, DEFAULT_HOST, DEFAULT_HTTP_PORT, ServerConfigError, t
 import { openFileLimit } from './rate-limit.ts';
 
 export const SERVER_FLAGS: FlagSpec[] = [
-  { name: 'http-port', kind: 'number', value: 'N', integer: true, min: 0, max: 65535, default: DEFAULT_HTTP_PORT, help: 'dashboard port (0 picks a free one)' },
-  { name: 'host', kind: 'string', value: 'ADDR', default: DEFAULT_HOST, help: 'address to listen on; anything but loopback needs --token' },
-  { name: 'token', kind: 'string', value: 'T', help: 'access token (≥ 16 characters) required on every request; visible in `ps`: prefer FLOORLINE_TOKEN or --token-file' },
+  {
+    name: 'http-port',
+    kind: 'number',
+    value: 'N',
+    integer: true,
+    min: 0,
+    max: 65535,
+    default: DEFAULT_HTTP_PORT,
+    help: 'dashboard port (0 picks a free one)',
+  },
+  {
+    name: 'host',
+    kind: 'string',
+    value: 'ADDR',
+    default: DEFAULT_HOST,
+    help: 'address to listen on; anything but loopback needs --token',
+  },
+  {
+    name: 'token',
+    kind: 'string',
+    value: 'T',
+    help: 'access token (≥ 16 characters) required on every request; visible in `ps`: prefer FLOORLINE_TOKEN or --token-file',
+  },
   { name: 'token-file', kind: 'string', value: 'FILE', help: 'read the access token from this file (first line)' },
-  { name: 'show-token', kind: 'boolean', help: 'print the dashboard URL with its ?token=… (off: the token stays out of the terminal)' },
+  {
+    name: 'show-token',
+    kind: 'boolean',
+    help: 'print the dashboard URL with its ?token=… (off: the token stays out of the terminal)',
+  },
 ];
 
 function tokenFrom(f: ParsedArgs['flags']): string | undefined {
@@ -21,16 +45,22 @@ function tokenFrom(f: ParsedArgs['flags']): string | undefined {
     try {
       text = readFileSync(file, 'utf8');
     } catch (err) {
-      throw new ServerConfigError(`--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give a readable file holding the token.`);
+      throw new ServerConfigError(
+        `--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give a readable file holding the token.`,
+      );
     }
     const token = text.split('\n')[0].trim();
-    if (token === '') throw new ServerConfigError(`--token-file ${file}: the file is empty; put the token on its first line.`);
+    if (token === '')
+      throw new ServerConfigError(`--token-file ${file}: the file is empty; put the token on its first line.`);
     return token;
   }
   return (f.token as string | undefined) ?? process.env.FLOORLINE_TOKEN;
 }
 
-export function serverOptionsFromArgs(args: ParsedArgs, assetsDir: string): Partial<ServerOptions> & { assetsDir: string } {
+export function serverOptionsFromArgs(
+  args: ParsedArgs,
+  assetsDir: string,
+): Partial<ServerOptions> & { assetsDir: string } {
   const f = args.flags;
   const token = tokenFrom(f);
   registerSecret(token);

@@ -61,14 +61,17 @@ export class ClientConnection {
   }
 
   private schedule(lane: Lane, ms: number): void {
-    lane.timer = setTimeout(() => {
-      lane.timer = null;
-      const next = lane.waiting;
-      if (next === null || lane.inFlight !== null) return;
-      lane.waiting = null;
-      if (this.closed || this.ws.readyState !== this.ws.OPEN) next.release();
-      else this.transmit(lane, next);
-    }, Math.max(0, ms));
+    lane.timer = setTimeout(
+      () => {
+        lane.timer = null;
+        const next = lane.waiting;
+        if (next === null || lane.inFlight !== null) return;
+        lane.waiting = null;
+        if (this.closed || this.ws.readyState !== this.ws.OPEN) next.release();
+        else this.transmit(lane, next);
+      },
+      Math.max(0, ms),
+    );
   }
 
   private transmit(lane: Lane, frame: PooledFrame): void {

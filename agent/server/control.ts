@@ -15,7 +15,8 @@ export interface ControlDeps {
 
 function errorOf(err: unknown): WireError {
   if (err instanceof MonitorRefusal) return { code: err.code, message: err.message };
-  if (err instanceof FloorlineError && err.code === 'PATH_OUTSIDE_DATA_FOLDER') return { code: 'path-refused', message: err.message };
+  if (err instanceof FloorlineError && err.code === 'PATH_OUTSIDE_DATA_FOLDER')
+    return { code: 'path-refused', message: err.message };
   const e = err as Error;
   if (err instanceof RangeError) return { code: 'bad-message', message: err.message };
   return { code: 'failed', message: e instanceof Error ? e.message : String(err) };
@@ -26,7 +27,12 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
   try {
     switch (m.type) {
       case 'capture-baseline': {
-        const r = await backend.captureBaseline({ seconds: m.seconds, name: m.name, notes: m.notes, replace: m.replace });
+        const r = await backend.captureBaseline({
+          seconds: m.seconds,
+          name: m.name,
+          notes: m.notes,
+          replace: m.replace,
+        });
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { file: r.file } };
       }
       case 'recording': {
@@ -35,7 +41,9 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
       }
       case 'set-analysis': {
         const before = deps.context();
-        const changes = (m.segment !== undefined && m.segment !== before?.settings.segment) || (m.window !== undefined && m.window !== before?.settings.window) ||
+        const changes =
+          (m.segment !== undefined && m.segment !== before?.settings.segment) ||
+          (m.window !== undefined && m.window !== before?.settings.window) ||
           (m.averaging !== undefined && JSON.stringify(m.averaging) !== JSON.stringify(before?.averaging));
         backend.setAnalysis({ averaging: m.averaging, segment: m.segment, window: m.window });
         const context = changes && deps.contextAfterChange ? await deps.contextAfterChange() : deps.context();
@@ -51,7 +59,11 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: r };
       }
       case 'note': {
-        if (!backend.history) throw new MonitorRefusal('failed', 'this agent keeps no history store; notes need one (start it without --no-history)');
+        if (!backend.history)
+          throw new MonitorRefusal(
+            'failed',
+            'this agent keeps no history store; notes need one (start it without --no-history)',
+          );
         const stamped = backend.history.note(m.text, m.incident);
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: stamped };
       }

@@ -59,7 +59,8 @@ export class FramePool {
     }
     // Full: keep the larger buffers (frames of one kind only grow, e.g. a trace while its ring fills).
     let smallest = 0;
-    for (let i = 1; i < this.free.length; i++) if (this.free[i].buffer.byteLength < this.free[smallest].buffer.byteLength) smallest = i;
+    for (let i = 1; i < this.free.length; i++)
+      if (this.free[i].buffer.byteLength < this.free[smallest].buffer.byteLength) smallest = i;
     if (this.free[smallest].buffer.byteLength < f.buffer.byteLength) this.free[smallest] = f;
   }
 

@@ -18,7 +18,10 @@ export function unitSuffix(unit: string): string {
     case 'FS':
       return 'full_scale';
     default: {
-      const s = unit.toLowerCase().replace(/[^a-z0-9]+/g, '_').replace(/^_+|_+$/g, '');
+      const s = unit
+        .toLowerCase()
+        .replace(/[^a-z0-9]+/g, '_')
+        .replace(/^_+|_+$/g, '');
       return s === '' ? 'units' : s;
     }
   }
@@ -92,18 +95,35 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     ['floorline_gaps', 'Gaps (runs of lost samples) seen in the stream.', status.gaps],
     ['floorline_lost_samples', 'Samples lost in gaps.', status.lostSamples],
     ['floorline_crc_errors', 'Frames from the board that failed their CRC.', status.crcErrors],
-    ['floorline_sync_errors', 'Bytes skipped to resync, malformed or rejected frames, and bad text lines from the board.', status.syncErrors ?? 0],
-    ['floorline_nonfinite_frames', 'Frames excluded for NaN, ±Inf or values beyond float32.', status.nonfiniteFrames ?? 0],
+    [
+      'floorline_sync_errors',
+      'Bytes skipped to resync, malformed or rejected frames, and bad text lines from the board.',
+      status.syncErrors ?? 0,
+    ],
+    [
+      'floorline_nonfinite_frames',
+      'Frames excluded for NaN, ±Inf or values beyond float32.',
+      status.nonfiniteFrames ?? 0,
+    ],
     ['floorline_dropped_blocks', 'Whole blocks dropped because analysis fell behind.', status.droppedBlocks],
     ['floorline_dashboard_frames_sent', 'Binary frames sent to dashboard clients.', status.clients.framesSent],
-    ['floorline_dashboard_frames_skipped', 'Binary frames skipped for slow dashboard clients (latest wins).', status.clients.framesSkipped],
+    [
+      'floorline_dashboard_frames_skipped',
+      'Binary frames skipped for slow dashboard clients (latest wins).',
+      status.clients.framesSkipped,
+    ],
   ];
   for (const [name, help, v] of counters) {
     x.family(name, 'counter', help);
     x.sample(`${name}_total`, {}, v);
   }
 
-  x.family('floorline_sample_time_seconds', 'gauge', 'Sample time of the newest sample (sample index / rate).', 'seconds');
+  x.family(
+    'floorline_sample_time_seconds',
+    'gauge',
+    'Sample time of the newest sample (sample index / rate).',
+    'seconds',
+  );
   x.sample('floorline_sample_time_seconds', {}, status.t);
   if (status.sampleRate !== null) {
     x.family('floorline_sample_rate_hertz', 'gauge', 'Sample rate of the stream.', 'hertz');
@@ -120,9 +140,18 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     const gauges: [string, string, number, string?][] = [
       ['floorline_disk_used_bytes', 'Bytes of recordings and captures kept in the data folder.', d.usedBytes, 'bytes'],
       ['floorline_disk_free_bytes', "Bytes free on the data folder's file system.", d.freeBytes, 'bytes'],
-      ['floorline_disk_min_free_bytes', 'Free-space floor below which continuous recording pauses.', d.minFreeBytes, 'bytes'],
+      [
+        'floorline_disk_min_free_bytes',
+        'Free-space floor below which continuous recording pauses.',
+        d.minFreeBytes,
+        'bytes',
+      ],
       ['floorline_history_days', 'Days of recordings held (oldest kept file to now).', d.historyDays, 'days'],
-      ['floorline_recording_paused', '1 while continuous recording is paused by the free-space floor.', d.paused ? 1 : 0],
+      [
+        'floorline_recording_paused',
+        '1 while continuous recording is paused by the free-space floor.',
+        d.paused ? 1 : 0,
+      ],
     ];
     for (const [name, help, v, unit] of gauges) {
       x.family(name, 'gauge', help, unit);
@@ -133,7 +162,11 @@ export function renderMetrics(status: AgentStatus, version: string): string {
   }
   x.family('floorline_recording_active', 'gauge', '1 while a continuous recording is being written.');
   x.sample('floorline_recording_active', {}, status.recording.state === 'recording' ? 1 : 0);
-  x.family('floorline_recording_failed', 'gauge', '1 when recording was asked for but writing failed (analysis goes on).');
+  x.family(
+    'floorline_recording_failed',
+    'gauge',
+    '1 when recording was asked for but writing failed (analysis goes on).',
+  );
   x.sample('floorline_recording_failed', {}, status.recording.state === 'failed' ? 1 : 0);
 
   for (const [suffix, rows] of byUnit(status)) {
@@ -148,17 +181,44 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     for (const b of rows) x.sample(floor, bandLabels(b), b.floorDensity);
   }
   if (status.bands.length) {
-    x.family('floorline_band_rise_decibels', 'gauge', 'Band power relative to the baseline, 10 log10(live/baseline).', 'decibels');
-    for (const b of status.bands) if (b.deltaDb !== null) x.sample('floorline_band_rise_decibels', bandLabels(b), b.deltaDb);
+    x.family(
+      'floorline_band_rise_decibels',
+      'gauge',
+      'Band power relative to the baseline, 10 log10(live/baseline).',
+      'decibels',
+    );
+    for (const b of status.bands)
+      if (b.deltaDb !== null) x.sample('floorline_band_rise_decibels', bandLabels(b), b.deltaDb);
     x.family('floorline_band_threshold_decibels', 'gauge', 'Rise at which the band alarm is raised.', 'decibels');
-    for (const b of status.bands) if (b.thresholdDb !== null) x.sample('floorline_band_threshold_decibels', bandLabels(b), b.thresholdDb);
+    for (const b of status.bands)
+      if (b.thresholdDb !== null) x.sample('floorline_band_threshold_decibels', bandLabels(b), b.thresholdDb);
   }
   // Live low-frequency figures: three per channel (never one series per point).
   const lf = status.lowFrequency ?? [];
-  const lfFamilies: [string, string, (r: NonNullable<AgentStatus['lowFrequency']>[number]) => number | undefined, (u: string) => string][] = [
-    ['floorline_lowfreq_corner', 'Corner of the 1/f fit to the log-frequency density.', (r) => r.fit?.corner, () => 'hertz'],
-    ['floorline_lowfreq_white_density', 'White density e_w of the 1/f fit.', (r) => r.fit?.whiteAsd, (u) => `${u}_per_root_hertz`],
-    ['floorline_lowfreq_peak_to_peak', 'Max minus min over the newest 0.1-10 Hz window.', (r) => r.peakToPeak?.peakToPeak, (u) => u],
+  const lfFamilies: [
+    string,
+    string,
+    (r: NonNullable<AgentStatus['lowFrequency']>[number]) => number | undefined,
+    (u: string) => string,
+  ][] = [
+    [
+      'floorline_lowfreq_corner',
+      'Corner of the 1/f fit to the log-frequency density.',
+      (r) => r.fit?.corner,
+      () => 'hertz',
+    ],
+    [
+      'floorline_lowfreq_white_density',
+      'White density e_w of the 1/f fit.',
+      (r) => r.fit?.whiteAsd,
+      (u) => `${u}_per_root_hertz`,
+    ],
+    [
+      'floorline_lowfreq_peak_to_peak',
+      'Max minus min over the newest 0.1-10 Hz window.',
+      (r) => r.peakToPeak?.peakToPeak,
+      (u) => u,
+    ],
   ];
   for (const [stem, help, pick, unit] of lfFamilies) {
     const byFamily = new Map<string, [string, number][]>();
@@ -189,6 +249,7 @@ export function renderMetrics(status: AgentStatus, version: string): string {
   x.family('floorline_alarm_active', 'gauge', '1 while an alarm is raised (the agent applies hysteresis itself).');
   for (const g of groups.values()) x.sample('floorline_alarm_active', g.labels, g.active ? 1 : 0);
   x.family('floorline_alarm_acknowledged', 'gauge', '1 when every raised alarm of the series has been acknowledged.');
-  for (const g of groups.values()) x.sample('floorline_alarm_acknowledged', g.labels, g.active && g.acknowledged ? 1 : 0);
+  for (const g of groups.values())
+    x.sample('floorline_alarm_acknowledged', g.labels, g.active && g.acknowledged ? 1 : 0);
   return x.text();
 }

@@ -77,10 +77,14 @@ export function resolveServerOptions(partial: Partial<ServerOptions> & { assetsD
     ...partial,
   };
   if (!Number.isInteger(o.port) || o.port < 0 || o.port > 65535) {
-    throw new ServerConfigError(`--http-port ${o.port} is not a TCP port; give an integer from 1 to 65535 (default ${DEFAULT_HTTP_PORT}).`);
+    throw new ServerConfigError(
+      `--http-port ${o.port} is not a TCP port; give an integer from 1 to 65535 (default ${DEFAULT_HTTP_PORT}).`,
+    );
   }
   if (o.token !== undefined && o.token.length < MIN_TOKEN_LENGTH) {
-    throw new ServerConfigError(`--token is ${o.token.length} characters; use at least ${MIN_TOKEN_LENGTH} random characters (e.g. \`openssl rand -hex 16\`).`);
+    throw new ServerConfigError(
+      `--token is ${o.token.length} characters; use at least ${MIN_TOKEN_LENGTH} random characters (e.g. \`openssl rand -hex 16\`).`,
+    );
   }
   if (!isLoopbackHost(o.host) && o.token === undefined) {
     throw new ServerConfigError(
@@ -88,9 +92,17 @@ export function resolveServerOptions(partial: Partial<ServerOptions> & { assetsD
         `Add --token T (or set FLOORLINE_TOKEN), or leave --host at ${DEFAULT_HOST}.`,
     );
   }
-  for (const [name, v] of [['maxPayload', o.maxPayload], ['maxBufferedBytes', o.maxBufferedBytes], ['traceLength', o.traceLength], ['maxClients', o.maxClients], ['maxConnections', o.maxConnections]] as const) {
-    if (!Number.isInteger(v) || v < 1) throw new ServerConfigError(`server option ${name} must be a positive integer, got ${v}`);
+  for (const [name, v] of [
+    ['maxPayload', o.maxPayload],
+    ['maxBufferedBytes', o.maxBufferedBytes],
+    ['traceLength', o.traceLength],
+    ['maxClients', o.maxClients],
+    ['maxConnections', o.maxConnections],
+  ] as const) {
+    if (!Number.isInteger(v) || v < 1)
+      throw new ServerConfigError(`server option ${name} must be a positive integer, got ${v}`);
   }
-  if (!(o.maxFramesPerSecond > 0)) throw new ServerConfigError(`server option maxFramesPerSecond must be above 0, got ${o.maxFramesPerSecond}`);
+  if (!(o.maxFramesPerSecond > 0))
+    throw new ServerConfigError(`server option maxFramesPerSecond must be above 0, got ${o.maxFramesPerSecond}`);
   return o;
 }

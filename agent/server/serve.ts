@@ -9,16 +9,22 @@ import { defaultAssetsDir } from './cli-flags.ts';
 import { ServerConfigError, type ServerOptions } from './options.ts';
 
 /** Makes the part: checks the dashboard is built, starts the server over the monitor's read model, prints the URL. */
-export function serveDashboard(options: Partial<ServerOptions>, print: (line: string) => void = (l) => process.stdout.write(l + '\n')) {
+export function serveDashboard(
+  options: Partial<ServerOptions>,
+  print: (line: string) => void = (l) => process.stdout.write(l + '\n'),
+) {
   return async (m: Monitor): Promise<MonitorPart> => {
     const assetsDir = options.assetsDir ?? defaultAssetsDir();
     if (!existsSync(join(assetsDir, 'index.html'))) {
-      throw new ServerConfigError(`the dashboard is not built (${assetsDir}index.html is missing); run \`npm run build\`, or pass --no-server.`);
+      throw new ServerConfigError(
+        `the dashboard is not built (${assetsDir}index.html is missing); run \`npm run build\`, or pass --no-server.`,
+      );
     }
     const { backend, part } = monitorBackend(m);
     const server = await startServer(backend, { ...options, assetsDir });
     // The token stays out of the terminal (and so out of logs and screen shares) unless asked for.
-    const hint = server.urlWithToken !== server.url ? '  (token required: add ?token=… once, or pass --show-token)' : '';
+    const hint =
+      server.urlWithToken !== server.url ? '  (token required: add ?token=… once, or pass --show-token)' : '';
     print(`dashboard  ${options.showToken ? server.urlWithToken : server.url + hint}`);
     return { ...part, close: () => server.close() };
   };

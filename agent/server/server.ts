@@ -38,7 +38,8 @@ const SECURITY_HEADERS = {
   'x-content-type-options': 'nosniff',
   'referrer-policy': 'no-referrer',
   'x-frame-options': 'DENY',
-  'content-security-policy': "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; connect-src 'self'; frame-ancestors 'none'",
+  'content-security-policy':
+    "default-src 'self'; img-src 'self' data: blob:; style-src 'self' 'unsafe-inline'; connect-src 'self'; frame-ancestors 'none'",
 };
 
 /** The request target as a URL, or null when it does not parse (checked before anything else reads it). */
@@ -64,7 +65,10 @@ function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): Spect
   };
 }
 
-export async function startServer(backend: ServerBackend, partial: Partial<ServerOptions> & { assetsDir: string }): Promise<RunningServer> {
+export async function startServer(
+  backend: ServerBackend,
+  partial: Partial<ServerOptions> & { assetsDir: string },
+): Promise<RunningServer> {
   const options = resolveServerOptions(partial);
   const hub = new Broadcaster(options.traceLength);
   let context: SpectrumContext | null = null;
@@ -73,7 +77,13 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   // Status is computed at most once per status tick and shared by the push, get-status replies and /api/status:
   // many clients asking often cost one computation, not one each.
-  const computeStatus = (): AgentStatus => ({ protocol: WIRE_PROTOCOL_VERSION, ...backend.status(), clients: hub.totals(), mainsHz: backend.mainsHz(), wallTime: new Date().toISOString() });
+  const computeStatus = (): AgentStatus => ({
+    protocol: WIRE_PROTOCOL_VERSION,
+    ...backend.status(),
+    clients: hub.totals(),
+    mainsHz: backend.mainsHz(),
+    wallTime: new Date().toISOString(),
+  });
   let shared: { at: number; value: AgentStatus; json: string } | null = null;
   const sharedStatus = (): { value: AgentStatus; json: string } => {
     const now = performance.now();
@@ -103,7 +113,13 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
   /** Returns true when the context changed (and tells every client). */
   const updateContext = (s: ServerSnapshot): boolean => {
     // Not the mains frequency: a measured one drifts, and a new context makes every page rebuild its charts.
-    const key = JSON.stringify([s.settings, s.averaging, s.nenbw, s.binHz, s.channels.map((c) => [c.name, c.unit, c.psd.length])]);
+    const key = JSON.stringify([
+      s.settings,
+      s.averaging,
+      s.nenbw,
+      s.binHz,
+      s.channels.map((c) => [c.name, c.unit, c.psd.length]),
+    ]);
     if (key === contextKey) return false;
     contextKey = key;
     context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz());
@@ -148,11 +164,18 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     lowFrequency: (m) => hub.json(m),
   });
 
-  const httpServer = createServer({ requestTimeout: 15_000, headersTimeout: 10_000 }, (req, res) => onRequest(req, res));
+  const httpServer = createServer({ requestTimeout: 15_000, headersTimeout: 10_000 }, (req, res) =>
+    onRequest(req, res),
+  );
   // Half-open connections must not use up the file handles recordings need (EMFILE): a fixed budget, beyond it
   // new connections are dropped at once.
   httpServer.maxConnections = options.maxConnections;
-  const wss = new WebSocketServer({ noServer: true, maxPayload: options.maxPayload, perMessageDeflate: false, clientTracking: false });
+  const wss = new WebSocketServer({
+    noServer: true,
+    maxPayload: options.maxPayload,
+    perMessageDeflate: false,
+    clientTracking: false,
+  });
 
   function onRequest(req: IncomingMessage, res: ServerResponse): void {
     for (const [k, v] of Object.entries(SECURITY_HEADERS)) res.setHeader(k, v);
@@ -177,7 +200,10 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
     if (path === '/healthz') {
       // For supervisors: 200 while samples arrive and analysis keeps up, else 503 with the reason.
       const h = backend.health?.() ?? { ok: true, reason: 'no health checks' };
-      res.writeHead(h.ok ? 200 : 503, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
+      res.writeHead(h.ok ? 200 : 503, {
+        'content-type': 'application/json; charset=utf-8',
+        'cache-control': 'no-store',
+      });
       res.end(head ? undefined : JSON.stringify({ ok: h.ok, reason: h.reason }));
     } else if (path === '/api/status') {
       const body = sharedStatus().json;
@@ -215,19 +241,28 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
         : ({ ok: false, status: 403, reason: 'WebSocket lives at /ws' } as const);
     if (!verdict.ok) {
       const text = verdict.status === 401 ? 'Unauthorized' : verdict.status === 400 ? 'Bad Request' : 'Forbidden';
-      socket.end(`HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`);
+      socket.end(
+        `HTTP/1.1 ${verdict.status} ${text}\r\nconnection: close\r\ncontent-type: text/plain\r\n\r\n${verdict.reason}\n`,
+      );
       return;
     }
     if (hub.clients.size >= options.maxClients) {
-      socket.end(`HTTP/1.1 503 Service Unavailable\r\nconnection: close\r\ncontent-type: text/plain\r\nretry-after: 10\r\n\r\n` +
-        `the agent serves at most ${options.maxClients} dashboard connections at once; close one and retry\n`);
+      socket.end(
+        `HTTP/1.1 503 Service Unavailable\r\nconnection: close\r\ncontent-type: text/plain\r\nretry-after: 10\r\n\r\n` +
+          `the agent serves at most ${options.maxClients} dashboard connections at once; close one and retry\n`,
+      );
       return;
     }
     wss.handleUpgrade(req, socket, head, (ws) => onConnection(ws));
   });
 
   function onConnection(ws: WebSocket): void {
-    const client = new ClientConnection(nextClientId++, ws, options.maxBufferedBytes, 1000 / options.maxFramesPerSecond);
+    const client = new ClientConnection(
+      nextClientId++,
+      ws,
+      options.maxBufferedBytes,
+      1000 / options.maxFramesPerSecond,
+    );
     hub.add(client);
     ws.on('pong', () => (client.alive = true));
     ws.on('close', () => hub.remove(client));
@@ -241,7 +276,13 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
         return;
       }
       if (isBinary) {
-        client.sendJson({ type: 'error', error: { code: 'binary-refused', message: 'send JSON text messages; binary frames only flow agent → dashboard' } });
+        client.sendJson({
+          type: 'error',
+          error: {
+            code: 'binary-refused',
+            message: 'send JSON text messages; binary frames only flow agent → dashboard',
+          },
+        });
         return;
       }
       const parsed = parseClientMessage(data.toString());
@@ -256,17 +297,34 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
         const now = performance.now();
         const wait = lastControlAt + options.controlIntervalMs - now;
         if (wait > 0) {
-          client.sendJson({ type: 'reply', id: m.id, request: m.type, ok: false,
-            error: { code: 'rate-limited', message: `at most one control action per ${options.controlIntervalMs} ms; try again in ${Math.ceil(wait)} ms` } });
+          client.sendJson({
+            type: 'reply',
+            id: m.id,
+            request: m.type,
+            ok: false,
+            error: {
+              code: 'rate-limited',
+              message: `at most one control action per ${options.controlIntervalMs} ms; try again in ${Math.ceil(wait)} ms`,
+            },
+          });
           return;
         }
         lastControlAt = now;
       }
-      void handleRequest(m, { backend, context: () => context, contextAfterChange, status }).then((reply) => client.sendJson(reply));
+      void handleRequest(m, { backend, context: () => context, contextAfterChange, status }).then((reply) =>
+        client.sendJson(reply),
+      );
     });
     const latest = backend.latestSnapshot();
     if (latest && latest.channels.length) updateContext(latest);
-    client.sendJson({ type: 'hello', protocol: WIRE_PROTOCOL_VERSION, info: backend.streamInfo(), context, status: status(), events: backend.recentEvents(EVENTS_ON_CONNECT) });
+    client.sendJson({
+      type: 'hello',
+      protocol: WIRE_PROTOCOL_VERSION,
+      info: backend.streamInfo(),
+      context,
+      status: status(),
+      events: backend.recentEvents(EVENTS_ON_CONNECT),
+    });
     sendBaseline(client);
     const lf = backend.lowFrequencyLatest?.();
     if (lf) {
@@ -299,7 +357,10 @@ export async function startServer(backend: ServerBackend, partial: Partial<Serve
 
   await new Promise<void>((resolve, reject) => {
     httpServer.once('error', (err: NodeJS.ErrnoException) => {
-      const fix = err.code === 'EADDRINUSE' ? `port ${options.port} is in use; pick another with --http-port N` : `cannot listen on ${options.host}:${options.port} (${err.code ?? err.message})`;
+      const fix =
+        err.code === 'EADDRINUSE'
+          ? `port ${options.port} is in use; pick another with --http-port N`
+          : `cannot listen on ${options.host}:${options.port} (${err.code ?? err.message})`;
       reject(new ServerConfigError(fix));
     });
     httpServer.listen(options.port, options.host, () => resolve());

@@ -19,12 +19,22 @@ const TYPES: Record<string, string> = {
 
 export function sendError(res: ServerResponse, status: number, code: string, message: string): void {
   const body = JSON.stringify({ error: { code, message } });
-  res.writeHead(status, { 'content-type': 'application/json; charset=utf-8', 'content-length': Buffer.byteLength(body), 'cache-control': 'no-store' });
+  res.writeHead(status, {
+    'content-type': 'application/json; charset=utf-8',
+    'content-length': Buffer.byteLength(body),
+    'cache-control': 'no-store',
+  });
   res.end(body);
 }
 
 /** Streams `name` from inside `root`; answers 403 for names that leave it and 404 for missing files. */
-export function sendFileInside(res: ServerResponse, root: string, name: string, head: boolean, download: boolean): void {
+export function sendFileInside(
+  res: ServerResponse,
+  root: string,
+  name: string,
+  head: boolean,
+  download: boolean,
+): void {
   let path: string;
   try {
     path = resolveInside(root, name, 'file');
@@ -46,11 +56,17 @@ export function sendFileInside(res: ServerResponse, root: string, name: string, 
     'content-length': size,
     'cache-control': 'no-store',
   };
-  if (download) headers['content-disposition'] = `attachment; filename="${name.split('/').pop()!.replace(/[^A-Za-z0-9._-]/g, '_')}"`;
+  if (download)
+    headers['content-disposition'] = `attachment; filename="${name
+      .split('/')
+      .pop()!
+      .replace(/[^A-Za-z0-9._-]/g, '_')}"`;
   res.writeHead(200, headers);
   if (head) {
     res.end();
     return;
   }
-  createReadStream(path).on('error', () => res.destroy()).pipe(res);
+  createReadStream(path)
+    .on('error', () => res.destroy())
+    .pipe(res);
 }

@@ -14,8 +14,10 @@ export class TraceRing {
     channels: number,
     readonly length: number,
   ) {
-    if (!Number.isInteger(channels) || channels < 1) throw new RangeError(`TraceRing: channels must be a positive integer, got ${channels}`);
-    if (!Number.isInteger(length) || length < 1) throw new RangeError(`TraceRing: length must be a positive integer, got ${length}`);
+    if (!Number.isInteger(channels) || channels < 1)
+      throw new RangeError(`TraceRing: channels must be a positive integer, got ${channels}`);
+    if (!Number.isInteger(length) || length < 1)
+      throw new RangeError(`TraceRing: length must be a positive integer, got ${length}`);
     this.rings = Array.from({ length: channels }, () => new Float64Array(length));
     this.ordered = Array.from({ length: channels }, () => new Float64Array(length));
   }

@@ -1,11 +1,21 @@
 // Validation of every client → agent message. The server trusts nothing it did not check here:
 // unknown fields are refused too, so a typo never silently does nothing.
 import { MAX_SEGMENT, MIN_SEGMENT, type AveragingSpec } from '../../protocol/settings.ts';
-import { MAX_CLIENT_MESSAGE_BYTES, type ClientMessage, type ClientMessageType, type WireError } from '../../protocol/messages.ts';
+import {
+  MAX_CLIENT_MESSAGE_BYTES,
+  type ClientMessage,
+  type ClientMessageType,
+  type WireError,
+} from '../../protocol/messages.ts';
 
 export type ParseResult =
   | { ok: true; message: ClientMessage }
-  | { ok: false; error: WireError; /** The request id and type, when they could be read, so the error can be a reply. */ id?: number; request?: ClientMessageType };
+  | {
+      ok: false;
+      error: WireError;
+      /** The request id and type, when they could be read, so the error can be a reply. */ id?: number;
+      request?: ClientMessageType;
+    };
 
 const TYPES: Record<ClientMessageType, readonly string[]> = {
   'capture-baseline': ['type', 'id', 'seconds', 'name', 'notes', 'replace'],
@@ -33,7 +43,10 @@ export const NOTE_TEXT_MAX = 2000;
 export const SAFE_FILE_NAME = /^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$/;
 
 class Invalid extends Error {
-  constructor(readonly code: WireError['code'], message: string) {
+  constructor(
+    readonly code: WireError['code'],
+    message: string,
+  ) {
     super(message);
   }
 }
@@ -45,7 +58,10 @@ function isRecord(v: unknown): v is Record<string, unknown> {
 function num(o: Record<string, unknown>, key: string, min: number, max: number, integer: boolean): number {
   const v = o[key];
   if (typeof v !== 'number' || !Number.isFinite(v) || (integer && !Number.isInteger(v)) || v < min || v > max) {
-    throw new Invalid('bad-message', `'${key}' must be ${integer ? 'an integer' : 'a number'} from ${min} to ${max}, got ${JSON.stringify(v)}`);
+    throw new Invalid(
+      'bad-message',
+      `'${key}' must be ${integer ? 'an integer' : 'a number'} from ${min} to ${max}, got ${JSON.stringify(v)}`,
+    );
   }
   return v;
 }
@@ -59,9 +75,11 @@ function str(o: Record<string, unknown>, key: string, maxLength: number): string
 }
 
 function averaging(v: unknown): AveragingSpec {
-  if (!isRecord(v) || typeof v.mode !== 'string') throw new Invalid('bad-message', `'averaging' must be an object with a 'mode'`);
+  if (!isRecord(v) || typeof v.mode !== 'string')
+    throw new Invalid('bad-message', `'averaging' must be an object with a 'mode'`);
   const only = (keys: string[]): void => {
-    for (const k of Object.keys(v)) if (!keys.includes(k)) throw new Invalid('bad-message', `'averaging' has an unknown field '${k}'`);
+    for (const k of Object.keys(v))
+      if (!keys.includes(k)) throw new Invalid('bad-message', `'averaging' has an unknown field '${k}'`);
   };
   switch (v.mode) {
     case 'mean':
@@ -76,25 +94,36 @@ function averaging(v: unknown): AveragingSpec {
       only(['mode', 'tauSeconds']);
       return { mode: 'exponential', tauSeconds: num(v, 'tauSeconds', TAU_SECONDS_MIN, TAU_SECONDS_MAX, false) };
     default:
-      throw new Invalid('bad-message', `averaging mode '${String(v.mode)}' is not one of mean, rolling, exponential, max, median`);
+      throw new Invalid(
+        'bad-message',
+        `averaging mode '${String(v.mode)}' is not one of mean, rolling, exponential, max, median`,
+      );
   }
 }
 
 function alarm(o: Record<string, unknown>): string {
   const a = str(o, 'alarm', 256);
-  if (!ALARM_ID.test(a)) throw new Invalid('bad-message', `'alarm' '${a.slice(0, 40)}' is not an alarm or incident id (status.alarms[].id, e.g. "mains/ch0/h1", or an event's incident)`);
+  if (!ALARM_ID.test(a))
+    throw new Invalid(
+      'bad-message',
+      `'alarm' '${a.slice(0, 40)}' is not an alarm or incident id (status.alarms[].id, e.g. "mains/ch0/h1", or an event's incident)`,
+    );
   return a;
 }
 
 function build(o: Record<string, unknown>, type: ClientMessageType, id: number): ClientMessage {
-  for (const k of Object.keys(o)) if (!TYPES[type].includes(k)) throw new Invalid('bad-message', `'${type}' has an unknown field '${k}'`);
+  for (const k of Object.keys(o))
+    if (!TYPES[type].includes(k)) throw new Invalid('bad-message', `'${type}' has an unknown field '${k}'`);
   switch (type) {
     case 'capture-baseline': {
       const m: ClientMessage = { type, id, seconds: num(o, 'seconds', 0.1, BASELINE_SECONDS_MAX, false) };
       if (o.name !== undefined) {
         const name = str(o, 'name', 80);
         if (!SAFE_FILE_NAME.test(name) || name.includes('..')) {
-          throw new Invalid('path-refused', `baseline name '${name}' must be a plain file name (letters, digits, . _ -), saved inside the data folder's baselines/`);
+          throw new Invalid(
+            'path-refused',
+            `baseline name '${name}' must be a plain file name (letters, digits, . _ -), saved inside the data folder's baselines/`,
+          );
         }
         m.name = name;
       }
@@ -106,7 +135,8 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       return m;
     }
     case 'recording':
-      if (o.action !== 'start' && o.action !== 'stop') throw new Invalid('bad-message', `'action' must be 'start' or 'stop'`);
+      if (o.action !== 'start' && o.action !== 'stop')
+        throw new Invalid('bad-message', `'action' must be 'start' or 'stop'`);
       return { type, id, action: o.action };
     case 'set-analysis': {
       const m: ClientMessage = { type, id };
@@ -153,7 +183,13 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
 export function parseClientMessage(text: string): ParseResult {
   // Length in UTF-16 units ≤ bytes for UTF-8, so this is a cheap first bound; the server's maxPayload is the hard one.
   if (text.length > MAX_CLIENT_MESSAGE_BYTES) {
-    return { ok: false, error: { code: 'bad-message', message: `message of ${text.length} characters exceeds ${MAX_CLIENT_MESSAGE_BYTES}` } };
+    return {
+      ok: false,
+      error: {
+        code: 'bad-message',
+        message: `message of ${text.length} characters exceeds ${MAX_CLIENT_MESSAGE_BYTES}`,
+      },
+    };
   }
   let raw: unknown;
   try {
@@ -161,10 +197,17 @@ export function parseClientMessage(text: string): ParseResult {
   } catch (err) {
     return { ok: false, error: { code: 'bad-json', message: `not JSON: ${(err as Error).message}` } };
   }
-  if (!isRecord(raw)) return { ok: false, error: { code: 'bad-message', message: 'a message must be a JSON object with a "type"' } };
+  if (!isRecord(raw))
+    return { ok: false, error: { code: 'bad-message', message: 'a message must be a JSON object with a "type"' } };
   const type = raw.type;
   if (typeof type !== 'string' || !Object.hasOwn(TYPES, type)) {
-    return { ok: false, error: { code: 'unknown-type', message: `unknown message type ${JSON.stringify(type)}; known: ${Object.keys(TYPES).join(', ')}` } };
+    return {
+      ok: false,
+      error: {
+        code: 'unknown-type',
+        message: `unknown message type ${JSON.stringify(type)}; known: ${Object.keys(TYPES).join(', ')}`,
+      },
+    };
   }
   const request = type as ClientMessageType;
   const id = raw.id;

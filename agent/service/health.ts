@@ -22,7 +22,10 @@ export class HealthWatch {
   private readonly staleMs: number;
   private readonly dropWindowMs: number;
 
-  constructor(private readonly pipeline: Pipeline, o: HealthOptions = {}) {
+  constructor(
+    private readonly pipeline: Pipeline,
+    o: HealthOptions = {},
+  ) {
     this.staleMs = o.staleMs ?? 3000;
     this.dropWindowMs = o.dropWindowMs ?? 10_000;
     pipeline.on('block', () => (this.lastBlockMs = performance.now()));
@@ -40,7 +43,10 @@ export class HealthWatch {
     const idle = now - this.lastBlockMs;
     if (idle > this.staleMs) return { ok: false, reason: `no samples for ${(idle / 1000).toFixed(1)} s` };
     if (this.lastDropMs > 0 && now - this.lastDropMs < this.dropWindowMs) {
-      return { ok: false, reason: `analysis is falling behind: ${c.droppedBlocks} block(s) dropped, the last ${((now - this.lastDropMs) / 1000).toFixed(1)} s ago` };
+      return {
+        ok: false,
+        reason: `analysis is falling behind: ${c.droppedBlocks} block(s) dropped, the last ${((now - this.lastDropMs) / 1000).toFixed(1)} s ago`,
+      };
     }
     if (c.queueCapacity > 0 && c.queueDepth > c.queueCapacity / 2) {
       return { ok: false, reason: `analysis is falling behind: ${c.queueDepth} of ${c.queueCapacity} blocks queued` };

@@ -19,7 +19,10 @@ export function redact(text: string): string {
   return out;
 }
 
-export function structuredLogsWanted(env: NodeJS.ProcessEnv = process.env, isTTY = process.stderr.isTTY === true): boolean {
+export function structuredLogsWanted(
+  env: NodeJS.ProcessEnv = process.env,
+  isTTY = process.stderr.isTTY === true,
+): boolean {
   if (env.FLOORLINE_LOG === 'json') return true;
   if (env.FLOORLINE_LOG === 'text') return false;
   return !isTTY && (env.INVOCATION_ID !== undefined || env.JOURNAL_STREAM !== undefined);
@@ -51,7 +54,9 @@ export function installStructuredLogs(command: string): void {
         pending = pending.slice(nl + 1);
         if (!line.trim()) continue;
         const msg = redact(line);
-        ok = write(JSON.stringify({ time: new Date().toISOString(), level: levelOf(stream, msg), command, stream, msg }) + '\n');
+        ok = write(
+          JSON.stringify({ time: new Date().toISOString(), level: levelOf(stream, msg), command, stream, msg }) + '\n',
+        );
       }
       const cb = rest.find((r) => typeof r === 'function') as (() => void) | undefined;
       cb?.();

@@ -20,14 +20,28 @@ function destination(s: SinkConfig): unknown {
 }
 
 /** Applies `next` over `current` where it may change live; returns what happened, in words. */
-export function applyReload(current: LoadedRigConfig, next: LoadedRigConfig, targets: ReloadTargets): { applied: boolean; message: string } {
+export function applyReload(
+  current: LoadedRigConfig,
+  next: LoadedRigConfig,
+  targets: ReloadTargets,
+): { applied: boolean; message: string } {
   const keys = new Set([...Object.keys(current.config), ...Object.keys(next.config)]);
-  const fixed = [...keys].filter((k) => !LIVE_KEYS.has(k) && !isDeepStrictEqual((current.config as Record<string, unknown>)[k], (next.config as Record<string, unknown>)[k]));
+  const fixed = [...keys].filter(
+    (k) =>
+      !LIVE_KEYS.has(k) &&
+      !isDeepStrictEqual((current.config as Record<string, unknown>)[k], (next.config as Record<string, unknown>)[k]),
+  );
   const a = current.config.notify ?? [];
   const b = next.config.notify ?? [];
-  if (a.length !== b.length || a.some((s, i) => !isDeepStrictEqual(destination(s), destination(b[i])))) fixed.push('notify (a sink added, removed or pointed elsewhere)');
-  if ((current.config.retention === undefined) !== (next.config.retention === undefined)) fixed.push('retention (turned on or off)');
-  if (fixed.length) return { applied: false, message: `reload refused: ${fixed.join(', ')} cannot change while running; restart to apply. The running config stays.` };
+  if (a.length !== b.length || a.some((s, i) => !isDeepStrictEqual(destination(s), destination(b[i]))))
+    fixed.push('notify (a sink added, removed or pointed elsewhere)');
+  if ((current.config.retention === undefined) !== (next.config.retention === undefined))
+    fixed.push('retention (turned on or off)');
+  if (fixed.length)
+    return {
+      applied: false,
+      message: `reload refused: ${fixed.join(', ')} cannot change while running; restart to apply. The running config stays.`,
+    };
   const changed: string[] = [];
   if (!isDeepStrictEqual(a, b)) {
     targets.setNotifyFilters?.(b);
@@ -37,11 +51,20 @@ export function applyReload(current: LoadedRigConfig, next: LoadedRigConfig, tar
     targets.setRetention?.(next.config.retention ?? {});
     changed.push('retention');
   }
-  return { applied: true, message: changed.length ? `reloaded ${next.file}: ${changed.join(' and ')} updated` : `reloaded ${next.file}: nothing changed` };
+  return {
+    applied: true,
+    message: changed.length
+      ? `reloaded ${next.file}: ${changed.join(' and ')} updated`
+      : `reloaded ${next.file}: nothing changed`,
+  };
 }
 
 /** Installs the SIGHUP handler; returns the function that removes it. */
-export function installReload(initial: LoadedRigConfig, targets: ReloadTargets, log: (line: string) => void): () => void {
+export function installReload(
+  initial: LoadedRigConfig,
+  targets: ReloadTargets,
+  log: (line: string) => void,
+): () => void {
   let current = initial;
   const onHup = () => {
     let next: LoadedRigConfig;

@@ -11,7 +11,11 @@ export interface ShutdownHandle {
   uninstall(): void;
 }
 
-export function installShutdown(stop: () => Promise<void>, log: (line: string) => void, graceMs = SHUTDOWN_GRACE_MS): ShutdownHandle {
+export function installShutdown(
+  stop: () => Promise<void>,
+  log: (line: string) => void,
+  graceMs = SHUTDOWN_GRACE_MS,
+): ShutdownHandle {
   let signalled = false;
   const onSignal = (name: NodeJS.Signals) => {
     const code = 128 + (constants.signals[name] ?? 15);

@@ -21,12 +21,16 @@ export class FrameComposer {
   /** Frames withheld by `drop` faults, for the run summary. */
   dropped = 0;
 
-  constructor(private readonly player: ScenarioPlayer, readonly format: WireFormat) {
+  constructor(
+    private readonly player: ScenarioPlayer,
+    readonly format: WireFormat,
+  ) {
     const s = player.scenario;
     const n = player.framesPerBlock;
     const frameAt = (t: number): number => Math.floor((t * s.rate) / n);
     this.faults = [];
-    for (const d of s.link.drop) for (let k = 0; k < d.frames; k++) this.faults.push({ frame: frameAt(d.at) + k, kind: 'drop', bytes: 0 });
+    for (const d of s.link.drop)
+      for (let k = 0; k < d.frames; k++) this.faults.push({ frame: frameAt(d.at) + k, kind: 'drop', bytes: 0 });
     for (const c of s.link.corrupt) this.faults.push({ frame: frameAt(c.at), kind: 'corrupt', bytes: c.bytes });
     for (const g of s.link.garbage) this.faults.push({ frame: frameAt(g.at), kind: 'garbage', bytes: g.bytes });
     const maxGarbage = s.link.garbage.reduce((m, g) => Math.max(m, g.bytes), 0);
@@ -71,7 +75,15 @@ export class FrameComposer {
   }
 
   private binary(firstSample: number, frames: number, garbage: number): Uint8Array {
-    const n = encodeSamplesFrame(this.buffer, garbage, firstSample % 2 ** 32, this.player.scenario.format, this.player.counts, 0, frames);
+    const n = encodeSamplesFrame(
+      this.buffer,
+      garbage,
+      firstSample % 2 ** 32,
+      this.player.scenario.format,
+      this.player.counts,
+      0,
+      frames,
+    );
     return this.buffer.subarray(0, garbage + n);
   }
 

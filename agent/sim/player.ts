@@ -24,15 +24,41 @@ function makeComponent(s: SignalSpec, ch: ChannelSpec, rate: number, seed: numbe
     case 'white':
       return new WhiteNoise({ density: s.density, sampleRate: rate, seed });
     case 'flicker':
-      return new FlickerNoise({ density: s.density, corner: s.corner, sampleRate: rate, seed, ...(s.lowest ? { lowest: s.lowest } : {}) });
+      return new FlickerNoise({
+        density: s.density,
+        corner: s.corner,
+        sampleRate: rate,
+        seed,
+        ...(s.lowest ? { lowest: s.lowest } : {}),
+      });
     case 'tone':
       return new Tone({ frequency: s.frequency, rms: s.rms, sampleRate: rate, phaseDeg: s.phase ?? 0 });
     case 'mains':
-      return new MainsPickup({ fundamental: s.fundamental, harmonics: s.harmonics, sampleRate: rate, driftSpan: s.drift?.span ?? 0, driftPeriod: s.drift?.period ?? 60 });
+      return new MainsPickup({
+        fundamental: s.fundamental,
+        harmonics: s.harmonics,
+        sampleRate: rate,
+        driftSpan: s.drift?.span ?? 0,
+        driftPeriod: s.drift?.period ?? 60,
+      });
     case 'band-step':
-      return new BandStep({ density: s.density, low: s.low, high: s.high, start: s.start, end: s.end, sampleRate: rate, seed });
+      return new BandStep({
+        density: s.density,
+        low: s.low,
+        high: s.high,
+        start: s.start,
+        end: s.end,
+        sampleRate: rate,
+        seed,
+      });
     case 'overload':
-      return new Overload({ start: s.start, end: s.end, frequency: s.frequency, peak: s.overdrive * ch.fullScale * ch.perCount, sampleRate: rate });
+      return new Overload({
+        start: s.start,
+        end: s.end,
+        frequency: s.frequency,
+        peak: s.overdrive * ch.fullScale * ch.perCount,
+        sampleRate: rate,
+      });
   }
 }
 
@@ -50,7 +76,10 @@ export class ScenarioPlayer {
   private readonly analog: Float64Array;
   readonly seed: number;
 
-  constructor(readonly scenario: Scenario, seed = scenario.seed) {
+  constructor(
+    readonly scenario: Scenario,
+    seed = scenario.seed,
+  ) {
     this.seed = seed;
     this.framesPerBlock = framesPerFrame(scenario);
     const n = this.framesPerBlock;
@@ -60,13 +89,16 @@ export class ScenarioPlayer {
     this.clipped = scenario.channels.map(() => 0);
     // Each signal draws from its own stream, so adding one signal leaves the others' samples unchanged.
     this.components = scenario.channels.map((ch, c) =>
-      ch.signals.map((s, k) => gated(s, makeComponent(s, ch, scenario.rate, deriveSeed(seed, 1000 * c + k)), scenario.rate)),
+      ch.signals.map((s, k) =>
+        gated(s, makeComponent(s, ch, scenario.rate, deriveSeed(seed, 1000 * c + k)), scenario.rate),
+      ),
     );
   }
 
   /** Generates the next `frames` (≤ framesPerBlock) instants into volts[c][0..frames) and counts[c][0..frames). */
   next(frames = this.framesPerBlock): number {
-    if (!(frames >= 1 && frames <= this.framesPerBlock)) throw new RangeError(`ScenarioPlayer.next: frames must be 1..${this.framesPerBlock}`);
+    if (!(frames >= 1 && frames <= this.framesPerBlock))
+      throw new RangeError(`ScenarioPlayer.next: frames must be 1..${this.framesPerBlock}`);
     const chans = this.scenario.channels;
     const analog = this.analog;
     const integer = this.scenario.format !== 'float32';

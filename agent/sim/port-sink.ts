@@ -28,7 +28,11 @@ export class PortSink {
     /** Bytes the simulated board can hold unsent (default 8 MiB: seconds of stall on a loaded host). */
     private readonly fifoBytes = 8 << 20,
   ) {
-    this.decoder = new FrameDecoder({ samples() {}, descriptor() {}, describeRequest: () => events.onConnectOrRequest() });
+    this.decoder = new FrameDecoder({
+      samples() {},
+      descriptor() {},
+      describeRequest: () => events.onConnectOrRequest(),
+    });
   }
 
   get connected(): boolean {

@@ -50,8 +50,12 @@ export class Simulation {
     const writer = new WavWriter(path, {
       sampleRate: s.rate,
       channels: s.channels.map((c) => ({
-        name: c.name, unit: c.unit, scale: c.perCount, fullScaleCounts: c.fullScale,
-        ...(c.gain !== undefined ? { gain: c.gain } : {}), ...(c.budget ? { budget: c.budget } : {}),
+        name: c.name,
+        unit: c.unit,
+        scale: c.perCount,
+        fullScaleCounts: c.fullScale,
+        ...(c.gain !== undefined ? { gain: c.gain } : {}),
+        ...(c.budget ? { budget: c.budget } : {}),
       })),
       source: { kind: 'simulator', label: `${s.board} (seed ${this.o.seed})` },
       boardId: s.board,
@@ -83,11 +87,15 @@ export class Simulation {
     let port: PortSink | undefined;
     let write: (b: Uint8Array) => Promise<void>;
     if (o.output.kind === 'port') {
-      const sink = new PortSink(o.output.path, o.output.baudRate, { onConnectOrRequest: () => (describe = true), log: o.log });
+      const sink = new PortSink(o.output.path, o.output.baudRate, {
+        onConnectOrRequest: () => (describe = true),
+        log: o.log,
+      });
       port = sink;
       write = async (b) => sink.write(b);
     } else {
-      write = (b) => new Promise<void>((resolve, reject) => process.stdout.write(b, (err) => (err ? reject(err) : resolve())));
+      write = (b) =>
+        new Promise<void>((resolve, reject) => process.stdout.write(b, (err) => (err ? reject(err) : resolve())));
     }
     const paced = o.realtime || o.output.kind === 'port';
     const blockMs = (p.framesPerBlock / o.scenario.rate) * 1000;
@@ -119,6 +127,13 @@ export class Simulation {
       }
     }
     if (port) await port.close();
-    return { frames: p.position, blocks, bytes, droppedFrames: composer.dropped, clipped: [...p.clipped], connects: port?.connects ?? 0 };
+    return {
+      frames: p.position,
+      blocks,
+      bytes,
+      droppedFrames: composer.dropped,
+      clipped: [...p.clipped],
+      connects: port?.connects ?? 0,
+    };
   }
 }

@@ -1,13 +1,26 @@
 // Scenario files for `floorline simulate`: our own JSON description of a board, its channels, the signals on
 // each channel, and faults on the link. Documented in agent/sim/SCENARIO.md; parsed and checked here so a bad
 // file fails with the path of the offending field and what to write instead.
-import { SAMPLE_FORMATS, formatFullScale, maxFramesPerFrame, MAX_CHANNELS, type SampleFormat } from '../framing/protocol.ts';
+import {
+  SAMPLE_FORMATS,
+  formatFullScale,
+  maxFramesPerFrame,
+  MAX_CHANNELS,
+  type SampleFormat,
+} from '../framing/protocol.ts';
 
 export type SignalSpec =
   | { kind: 'white'; density: number }
   | { kind: 'flicker'; density: number; corner: number; lowest?: number }
   | { kind: 'tone'; frequency: number; rms: number; phase?: number; start?: number; end?: number }
-  | { kind: 'mains'; fundamental: number; harmonics: number[]; drift?: { span: number; period: number }; start?: number; end?: number }
+  | {
+      kind: 'mains';
+      fundamental: number;
+      harmonics: number[];
+      drift?: { span: number; period: number };
+      start?: number;
+      end?: number;
+    }
   | { kind: 'band-step'; density: number; low: number; high: number; start: number; end: number }
   | { kind: 'overload'; start: number; end: number; frequency: number; overdrive: number };
 
@@ -72,11 +85,17 @@ class Checker {
     if (typeof v !== 'object' || v === null || Array.isArray(v)) this.fail(path, 'must be a JSON object');
     return v as Obj;
   }
-  num(o: Obj, key: string, path: string, opts: { min?: number; above?: number; integer?: boolean; optional?: boolean } = {}): number {
+  num(
+    o: Obj,
+    key: string,
+    path: string,
+    opts: { min?: number; above?: number; integer?: boolean; optional?: boolean } = {},
+  ): number {
     const v = o[key];
     if (v === undefined && opts.optional) return NaN;
     const p = `${path}.${key}`;
-    if (typeof v !== 'number' || !Number.isFinite(v)) this.fail(p, `must be a number, e.g. "${key}": ${opts.min ?? opts.above ?? 1}`);
+    if (typeof v !== 'number' || !Number.isFinite(v))
+      this.fail(p, `must be a number, e.g. "${key}": ${opts.min ?? opts.above ?? 1}`);
     if (opts.integer && !Number.isInteger(v)) this.fail(p, `must be a whole number, got ${v}`);
     if (opts.min !== undefined && v < opts.min) this.fail(p, `must be ≥ ${opts.min}, got ${v}`);
     if (opts.above !== undefined && !(v > opts.above)) this.fail(p, `must be > ${opts.above}, got ${v}`);
@@ -95,7 +114,8 @@ class Checker {
     return v;
   }
   keys(o: Obj, allowed: string[], path: string): void {
-    for (const k of Object.keys(o)) if (!allowed.includes(k)) this.fail(`${path}.${k}`, `is not a known key; known: ${allowed.join(', ')}`);
+    for (const k of Object.keys(o))
+      if (!allowed.includes(k)) this.fail(`${path}.${k}`, `is not a known key; known: ${allowed.join(', ')}`);
   }
 }
 
@@ -138,18 +158,30 @@ function parseSignal(ck: Checker, v: unknown, path: string, rate: number): Signa
     case 'flicker': {
       ck.keys(o, ['kind', 'density', 'corner', 'lowest'], path);
       const lowest = ck.num(o, 'lowest', path, { above: 0, optional: true });
-      return { kind: 'flicker', density: ck.num(o, 'density', path, { min: 0 }), corner: ck.num(o, 'corner', path, { above: 0 }), ...(Number.isNaN(lowest) ? {} : { lowest }) };
+      return {
+        kind: 'flicker',
+        density: ck.num(o, 'density', path, { min: 0 }),
+        corner: ck.num(o, 'corner', path, { above: 0 }),
+        ...(Number.isNaN(lowest) ? {} : { lowest }),
+      };
     }
     case 'tone': {
       ck.keys(o, ['kind', 'frequency', 'rms', 'phase', 'start', 'end'], path);
       const phase = ck.num(o, 'phase', path, { optional: true });
-      return { kind: 'tone', frequency: freq('frequency'), rms: ck.num(o, 'rms', path, { min: 0 }), ...(Number.isNaN(phase) ? {} : { phase }), ...optionalSpan() };
+      return {
+        kind: 'tone',
+        frequency: freq('frequency'),
+        rms: ck.num(o, 'rms', path, { min: 0 }),
+        ...(Number.isNaN(phase) ? {} : { phase }),
+        ...optionalSpan(),
+      };
     }
     case 'mains': {
       ck.keys(o, ['kind', 'fundamental', 'harmonics', 'drift', 'start', 'end'], path);
       const fundamental = freq('fundamental');
       const harmonics = ck.arr(o, 'harmonics', path);
-      if (harmonics.length === 0) ck.fail(`${path}.harmonics`, 'must list the RMS of the fundamental and any harmonics, e.g. [2e-6, 5e-7]');
+      if (harmonics.length === 0)
+        ck.fail(`${path}.harmonics`, 'must list the RMS of the fundamental and any harmonics, e.g. [2e-6, 5e-7]');
       harmonics.forEach((h, k) => {
         if (typeof h !== 'number' || !(h >= 0)) ck.fail(`${path}.harmonics[${k}]`, 'must be an RMS ≥ 0');
       });
@@ -157,12 +189,24 @@ function parseSignal(ck: Checker, v: unknown, path: string, rate: number): Signa
       if (o.drift !== undefined) {
         const d = ck.obj(o.drift, `${path}.drift`);
         ck.keys(d, ['span', 'period'], `${path}.drift`);
-        drift = { span: ck.num(d, 'span', `${path}.drift`, { min: 0 }), period: ck.num(d, 'period', `${path}.drift`, { above: 0 }) };
+        drift = {
+          span: ck.num(d, 'span', `${path}.drift`, { min: 0 }),
+          period: ck.num(d, 'period', `${path}.drift`, { above: 0 }),
+        };
       }
       if (harmonics.length * (fundamental + (drift?.span ?? 0)) >= nyq) {
-        ck.fail(`${path}.harmonics`, `has ${harmonics.length} entries; the top one reaches Nyquist (${nyq} Hz); list fewer`);
+        ck.fail(
+          `${path}.harmonics`,
+          `has ${harmonics.length} entries; the top one reaches Nyquist (${nyq} Hz); list fewer`,
+        );
       }
-      return { kind: 'mains', fundamental, harmonics: harmonics as number[], ...(drift ? { drift } : {}), ...optionalSpan() };
+      return {
+        kind: 'mains',
+        fundamental,
+        harmonics: harmonics as number[],
+        ...(drift ? { drift } : {}),
+        ...optionalSpan(),
+      };
     }
     case 'band-step': {
       ck.keys(o, ['kind', 'density', 'low', 'high', 'start', 'end'], path);
@@ -173,7 +217,12 @@ function parseSignal(ck: Checker, v: unknown, path: string, rate: number): Signa
     }
     case 'overload':
       ck.keys(o, ['kind', 'start', 'end', 'frequency', 'overdrive'], path);
-      return { kind: 'overload', ...span(), frequency: freq('frequency'), overdrive: ck.num(o, 'overdrive', path, { above: 0 }) };
+      return {
+        kind: 'overload',
+        ...span(),
+        frequency: freq('frequency'),
+        overdrive: ck.num(o, 'overdrive', path, { above: 0 }),
+      };
     default:
       return ck.fail(`${path}.kind`, `must be one of ${SIGNAL_KINDS.join(', ')}, got ${JSON.stringify(o.kind)}`);
   }
@@ -209,7 +258,11 @@ export function parseScenario(text: string, where: string): Scenario {
     throw new ScenarioError(`${where}: not valid JSON (${(err as Error).message})`);
   }
   const o = ck.obj(raw, 'scenario');
-  ck.keys(o, ['rate', 'format', 'board', 'firmware', 'duration', 'seed', 'frameMs', 'channels', 'link', 'notes'], 'scenario');
+  ck.keys(
+    o,
+    ['rate', 'format', 'board', 'firmware', 'duration', 'seed', 'frameMs', 'channels', 'link', 'notes'],
+    'scenario',
+  );
   const rate = ck.num(o, 'rate', 'scenario', { above: 0, integer: true });
   const format = (o.format ?? 'int24') as SampleFormat;
   if (!SAMPLE_FORMATS.includes(format)) ck.fail('scenario.format', `must be one of ${SAMPLE_FORMATS.join(', ')}`);
@@ -217,13 +270,15 @@ export function parseScenario(text: string, where: string): Scenario {
   const seed = ck.num(o, 'seed', 'scenario', { min: 0, integer: true, optional: true });
   const frameMs = ck.num(o, 'frameMs', 'scenario', { above: 0, optional: true });
   const channelsRaw = ck.arr(o, 'channels', 'scenario');
-  if (channelsRaw.length < 1 || channelsRaw.length > MAX_CHANNELS) ck.fail('scenario.channels', `must list 1..${MAX_CHANNELS} channels`);
+  if (channelsRaw.length < 1 || channelsRaw.length > MAX_CHANNELS)
+    ck.fail('scenario.channels', `must list 1..${MAX_CHANNELS} channels`);
   const limit = formatFullScale(format);
   const channels = channelsRaw.map((c, i): ChannelSpec => {
     const p = `channels[${i}]`;
     const co = ck.obj(c, p);
     ck.keys(co, ['name', 'unit', 'perCount', 'fullScale', 'gain', 'budget', 'signals'], p);
-    const fullScale = co.fullScale === undefined && Number.isFinite(limit) ? limit : ck.num(co, 'fullScale', p, { above: 0 });
+    const fullScale =
+      co.fullScale === undefined && Number.isFinite(limit) ? limit : ck.num(co, 'fullScale', p, { above: 0 });
     if (fullScale > limit) ck.fail(`${p}.fullScale`, `is ${fullScale}, more than ${format} holds (${limit})`);
     return {
       name: ck.str(co, 'name', p, `ch${i}`),
@@ -236,7 +291,8 @@ export function parseScenario(text: string, where: string): Scenario {
     };
   });
   const names = new Set(channels.map((c) => c.name));
-  if (names.size !== channels.length) ck.fail('scenario.channels', 'have repeated names; give each channel its own name');
+  if (names.size !== channels.length)
+    ck.fail('scenario.channels', 'have repeated names; give each channel its own name');
   const scenario: Scenario = {
     rate,
     format,
@@ -251,7 +307,8 @@ export function parseScenario(text: string, where: string): Scenario {
   const perFrame = framesPerFrame(scenario);
   if (perFrame < 1) ck.fail('scenario.frameMs', `gives less than one sample per frame at ${rate} Hz; raise it`);
   const max = maxFramesPerFrame(channels.length, format);
-  if (perFrame > max) ck.fail('scenario.frameMs', `gives ${perFrame} instants per frame, more than one frame holds (${max}); lower it`);
+  if (perFrame > max)
+    ck.fail('scenario.frameMs', `gives ${perFrame} instants per frame, more than one frame holds (${max}); lower it`);
   return scenario;
 }
 

@@ -81,5 +81,7 @@ export function modemManagerHint(roots: CheckRoots = LINUX): string | undefined 
 /** All hints for a port path, in the order a user should act on them. */
 export function startupChecks(path: string, roots: CheckRoots = LINUX): string[] {
   if (process.platform !== 'linux' && roots === LINUX) return [];
-  return [permissionHint(path, roots), modemManagerHint(roots), latencyHint(path, roots)].filter((h): h is string => h !== undefined);
+  return [permissionHint(path, roots), modemManagerHint(roots), latencyHint(path, roots)].filter(
+    (h): h is string => h !== undefined,
+  );
 }

@@ -14,7 +14,8 @@ export interface PortEntry {
   manufacturer?: string;
 }
 
-export type PortSpec = { kind: 'path'; path: string } | { kind: 'usb'; vendorId?: string; productId?: string; serialNumber?: string };
+export type PortSpec =
+  { kind: 'path'; path: string } | { kind: 'usb'; vendorId?: string; productId?: string; serialNumber?: string };
 
 const HEX4 = /^[0-9a-f]{4}$/i;
 
@@ -27,14 +28,21 @@ export function parsePortSpec(text: string): PortSpec {
   }
   const parts = text.split(':');
   if (parts.length >= 2 && HEX4.test(parts[0]) && HEX4.test(parts[1]) && !text.includes('/')) {
-    return { kind: 'usb', vendorId: parts[0].toLowerCase(), productId: parts[1].toLowerCase(), ...(parts.length > 2 ? { serialNumber: parts.slice(2).join(':') } : {}) };
+    return {
+      kind: 'usb',
+      vendorId: parts[0].toLowerCase(),
+      productId: parts[1].toLowerCase(),
+      ...(parts.length > 2 ? { serialNumber: parts.slice(2).join(':') } : {}),
+    };
   }
   return { kind: 'path', path: text };
 }
 
 export function describeSpec(spec: PortSpec): string {
   if (spec.kind === 'path') return spec.path;
-  return [spec.vendorId && `${spec.vendorId}:${spec.productId}`, spec.serialNumber && `serial ${spec.serialNumber}`].filter(Boolean).join(' ');
+  return [spec.vendorId && `${spec.vendorId}:${spec.productId}`, spec.serialNumber && `serial ${spec.serialNumber}`]
+    .filter(Boolean)
+    .join(' ');
 }
 
 function byIdLinks(dir = '/dev/serial/by-id'): Map<string, string[]> {

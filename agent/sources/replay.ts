@@ -42,7 +42,13 @@ function channelInfo(info: WavInfo): ChannelInfo[] {
     let fullScale = Infinity;
     if (meta?.fullScaleCounts !== undefined && meta.scale !== undefined) fullScale = meta.fullScaleCounts * meta.scale;
     else if (isInt) fullScale = c.factor * 2 ** (info.format.bytesPerSample * 8 - 1);
-    return { name: c.name, unit: c.unit, scale: 1, fullScaleCounts: fullScale, ...(meta?.calibration ? { calibration: meta.calibration } : {}) };
+    return {
+      name: c.name,
+      unit: c.unit,
+      scale: 1,
+      fullScaleCounts: fullScale,
+      ...(meta?.calibration ? { calibration: meta.calibration } : {}),
+    };
   });
 }
 
@@ -53,7 +59,14 @@ export class ReplaySource implements Source {
   readonly kind = 'replay' as const;
   private reader: WavReader | undefined;
   private stopping = false;
-  private readonly stats: SourceCounters = { bytes: 0, frames: 0, crcErrors: 0, syncErrors: 0, lostSamples: 0, reconnects: 0 };
+  private readonly stats: SourceCounters = {
+    bytes: 0,
+    frames: 0,
+    crcErrors: 0,
+    syncErrors: 0,
+    lostSamples: 0,
+    reconnects: 0,
+  };
   private running: Promise<void> = Promise.resolve();
   /** Position for a status banner: sample index within the file and the loop count. */
   readonly position = { sample: 0, loops: 0 };
@@ -108,7 +121,9 @@ export class ReplaySource implements Source {
     reader.seek(startFrame);
     // A file from elsewhere has no start time: label it as ending at its modification time, so the labels of a
     // file are the same on every replay.
-    const start0 = info.startWallTime ? Date.parse(info.startWallTime) : statSync(this.path).mtimeMs - (info.frames / info.sampleRate) * 1000;
+    const start0 = info.startWallTime
+      ? Date.parse(info.startWallTime)
+      : statSync(this.path).mtimeMs - (info.frames / info.sampleRate) * 1000;
     const stream: StreamInfo = {
       sampleRate: info.sampleRate,
       channels: channelInfo(info),
@@ -133,7 +148,12 @@ export class ReplaySource implements Source {
     else if (startTime !== undefined) sample = Math.round(startTime * info.sampleRate);
     const last = info.firstSample + info.frames - 1;
     if (info.frames === 0) {
-      throw Object.assign(new RangeError(`${this.path} holds no whole frame of samples; there is nothing to replay (\`floorline repair FILE\` recovers samples an interrupted recording left).`), { exitCode: 2 });
+      throw Object.assign(
+        new RangeError(
+          `${this.path} holds no whole frame of samples; there is nothing to replay (\`floorline repair FILE\` recovers samples an interrupted recording left).`,
+        ),
+        { exitCode: 2 },
+      );
     }
     if (!Number.isInteger(sample) || sample < info.firstSample || sample > last) {
       throw Object.assign(
@@ -157,7 +177,9 @@ export class ReplaySource implements Source {
     if (b.sampleRate !== a.sampleRate || b.channels.length !== a.channels.length) {
       await reader.close();
       throw Object.assign(
-        new RangeError(`${found.path} (${b.channels.length} ch at ${b.sampleRate} Hz) does not continue ${a.path} (${a.channels.length} ch at ${a.sampleRate} Hz); replay them separately.`),
+        new RangeError(
+          `${found.path} (${b.channels.length} ch at ${b.sampleRate} Hz) does not continue ${a.path} (${a.channels.length} ch at ${a.sampleRate} Hz); replay them separately.`,
+        ),
         { exitCode: 2 },
       );
     }
@@ -184,7 +206,12 @@ export class ReplaySource implements Source {
           this.reader = following;
           const first = following.info.firstSample;
           // A hole between files is a gap the live run had too (the recorder starts a new file at each gap).
-          if (first > next) sink.gap({ sample: next, lost: first - next, reason: `no recording between files (${basename(following.info.path)} starts at sample ${first})` });
+          if (first > next)
+            sink.gap({
+              sample: next,
+              lost: first - next,
+              reason: `no recording between files (${basename(following.info.path)} starts at sample ${first})`,
+            });
           next = first;
           continue;
         }
@@ -192,7 +219,12 @@ export class ReplaySource implements Source {
           if (!this.options.loop || this.position.loops + 1 >= maxLoops) break;
           this.position.loops++;
           reader.seek(startFrame);
-          sink.gap({ sample: next, lost: 0, reason: 'replay loop: the recording starts again', restartsAt: reader.info.firstSample + startFrame });
+          sink.gap({
+            sample: next,
+            lost: 0,
+            reason: 'replay loop: the recording starts again',
+            restartsAt: reader.info.firstSample + startFrame,
+          });
           continue;
         }
         sink.block({ firstSample: next, frames: block.frames, data: block.data });

@@ -34,21 +34,37 @@ export class SampleSequencer {
   private block: Float64Array[] = [];
   private blockStart = 0;
   private blockFrames = 0;
-  private readonly held: { sequence: number; channels: number; format: SampleFrame['format']; frames: number; bytes: Uint8Array }[] = [];
+  private readonly held: {
+    sequence: number;
+    channels: number;
+    format: SampleFrame['format'];
+    frames: number;
+    bytes: Uint8Array;
+  }[] = [];
   private heldBytes = 0;
 
-  constructor(private readonly out: Out, private readonly label: string, private readonly blockCapacity = 65536) {}
+  constructor(
+    private readonly out: Out,
+    private readonly label: string,
+    private readonly blockCapacity = 65536,
+  ) {}
 
   get stream(): StreamInfo | undefined {
     return this.info;
   }
 
   onDescriptor(d: BoardDescriptor): void {
-    const channels: ChannelInfo[] = d.channels.map((c) => ({ name: c.name, unit: c.unit, scale: c.perCount, fullScaleCounts: c.fullScale }));
+    const channels: ChannelInfo[] = d.channels.map((c) => ({
+      name: c.name,
+      unit: c.unit,
+      scale: c.perCount,
+      fullScaleCounts: c.fullScale,
+    }));
     const prev = this.descriptor;
     if (prev && prev.boot !== d.boot) this.restartPending = true;
     this.descriptor = d;
-    const changed = !this.info || JSON.stringify(this.info.channels) !== JSON.stringify(channels) || this.info.sampleRate !== d.rate;
+    const changed =
+      !this.info || JSON.stringify(this.info.channels) !== JSON.stringify(channels) || this.info.sampleRate !== d.rate;
     if (!changed) return;
     this.flush();
     if (this.block.length !== channels.length) this.block = channels.map(() => new Float64Array(this.blockCapacity));
@@ -74,14 +90,27 @@ export class SampleSequencer {
         this.counters.rejectedFrames++;
         return;
       }
-      this.held.push({ sequence: f.sequence, channels: f.channels, format: f.format, frames: f.frames, bytes: f.bytes.slice(f.offset, f.offset + n) });
+      this.held.push({
+        sequence: f.sequence,
+        channels: f.channels,
+        format: f.format,
+        frames: f.frames,
+        bytes: f.bytes.slice(f.offset, f.offset + n),
+      });
       this.heldBytes += n;
       return;
     }
     this.accept(f.sequence, f.channels, f.format, f.frames, f.bytes, f.offset);
   }
 
-  private accept(sequence: number, channels: number, format: SampleFrame['format'], frames: number, bytes: Uint8Array, offset: number): void {
+  private accept(
+    sequence: number,
+    channels: number,
+    format: SampleFrame['format'],
+    frames: number,
+    bytes: Uint8Array,
+    offset: number,
+  ): void {
     const d = this.descriptor!;
     if (channels !== d.channels.length || format !== d.format) {
       this.counters.rejectedFrames++;

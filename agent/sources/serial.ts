@@ -102,8 +102,18 @@ export class SerialSource implements Source {
   }
 
   /** Decoder detail beyond SourceCounters (for status pages and tests). */
-  detail(): { decoder?: FrameDecoder['counters']; sequencer?: SampleSequencer['counters']; linkDown: boolean; path: string } {
-    return { decoder: this.decoder?.counters, sequencer: this.binary?.counters, linkDown: this.linkDown, path: this.path };
+  detail(): {
+    decoder?: FrameDecoder['counters'];
+    sequencer?: SampleSequencer['counters'];
+    linkDown: boolean;
+    path: string;
+  } {
+    return {
+      decoder: this.decoder?.counters,
+      sequencer: this.binary?.counters,
+      linkDown: this.linkDown,
+      path: this.path,
+    };
   }
 
   async start(sink: SourceSink): Promise<void> {
@@ -127,7 +137,9 @@ export class SerialSource implements Source {
       throw new SerialSourceError((err as Error).message);
     }
     if (path === undefined) {
-      throw new SerialSourceError(`no serial port matches ${label}; plug the board in, or list ports with \`floorline ports\``);
+      throw new SerialSourceError(
+        `no serial port matches ${label}; plug the board in, or list ports with \`floorline ports\``,
+      );
     }
     const hints = startupChecks(path);
     for (const h of hints) this.o.log(`serial: ${h}`);
@@ -152,7 +164,9 @@ export class SerialSource implements Source {
         this.decoder?.reset();
         this.watchdog.fed(performance.now());
         port.on('data', (chunk: Buffer) => this.onData(port, chunk));
-        port.on('close', (e: (Error & { disconnected?: boolean }) | null) => this.onClosed(port, e?.message ?? 'port closed'));
+        port.on('close', (e: (Error & { disconnected?: boolean }) | null) =>
+          this.onClosed(port, e?.message ?? 'port closed'),
+        );
         port.on('error', (e: Error) => this.onClosed(port, e.message));
         this.requestDescriptor();
         if (this.everConnected) this.o.log(`serial: reopened ${path}`);
@@ -200,7 +214,8 @@ export class SerialSource implements Source {
     }
     if (!this.port) return;
     const verdict = this.watchdog.check(now, existsSync(this.path));
-    if (verdict === 'path-gone') this.dropPort(`${this.path} disappeared (no data for ${(this.watchdog.idleMs(now) / 1000).toFixed(1)} s)`);
+    if (verdict === 'path-gone')
+      this.dropPort(`${this.path} disappeared (no data for ${(this.watchdog.idleMs(now) / 1000).toFixed(1)} s)`);
     else if (verdict === 'silent') this.dropPort(`no data for ${this.o.noDataSeconds} s on ${this.path}`);
   }
 
@@ -210,9 +225,13 @@ export class SerialSource implements Source {
     if (this.hinted || d.bytes < 4096 || this.watchdog.idleMs(performance.now()) > 1000) return;
     this.hinted = true;
     if (d.sampleFrames === 0) {
-      this.o.log(`serial: ${d.bytes} bytes arrived but none formed a frame; if the board prints numbers, use --format text --rate HZ`);
+      this.o.log(
+        `serial: ${d.bytes} bytes arrived but none formed a frame; if the board prints numbers, use --format text --rate HZ`,
+      );
     } else {
-      this.o.log(`serial: ${d.sampleFrames} samples frames but no descriptor yet (held, up to 4 MiB); check that the board answers describe requests`);
+      this.o.log(
+        `serial: ${d.sampleFrames} samples frames but no descriptor yet (held, up to 4 MiB); check that the board answers describe requests`,
+      );
     }
   }
 

@@ -33,7 +33,12 @@ export class TextSequencer {
     if (!this.info) {
       this.info = {
         sampleRate: this.rate,
-        channels: Array.from({ length: n }, (_, i) => ({ name: this.names?.[i] ?? `ch${i}`, unit: this.unit, scale: this.scale, fullScaleCounts: Infinity })),
+        channels: Array.from({ length: n }, (_, i) => ({
+          name: this.names?.[i] ?? `ch${i}`,
+          unit: this.unit,
+          scale: this.scale,
+          fullScaleCounts: Infinity,
+        })),
         source: { kind: 'serial', label: this.label },
         firstSample: 0,
         startWallTime: new Date().toISOString(),
@@ -52,7 +57,12 @@ export class TextSequencer {
   /** After a reconnect: the samples missed cannot be counted in text mode. */
   reconnected(): void {
     this.flush();
-    if (this.info) this.out.gap({ sample: this.nextIndex, lost: 0, reason: 'text mode: samples missed while the link was down cannot be counted' });
+    if (this.info)
+      this.out.gap({
+        sample: this.nextIndex,
+        lost: 0,
+        reason: 'text mode: samples missed while the link was down cannot be counted',
+      });
   }
 
   flush(): void {

@@ -6,7 +6,10 @@ export type WatchdogVerdict = 'ok' | 'path-gone' | 'silent';
 export class LinkWatchdog {
   private lastData = 0;
 
-  constructor(readonly silentMs: number, readonly goneMs = 1000) {
+  constructor(
+    readonly silentMs: number,
+    readonly goneMs = 1000,
+  ) {
     if (!(silentMs > 0)) throw new RangeError(`watchdog: the no-data limit must be > 0 s, got ${silentMs / 1000}`);
   }
 

@@ -52,10 +52,26 @@ function send(res: ServerResponse, status: number, body: unknown, head: boolean)
 }
 
 /** Answers /api/trend and /api/incidents; returns false for other paths. */
-export function handleHistoryApi(path: string, url: URL, res: ServerResponse, head: boolean, storePath: string | undefined): boolean {
+export function handleHistoryApi(
+  path: string,
+  url: URL,
+  res: ServerResponse,
+  head: boolean,
+  storePath: string | undefined,
+): boolean {
   if (path !== '/api/trend' && path !== '/api/incidents') return false;
   if (!storePath) {
-    send(res, 404, { error: { code: 'no-history', message: 'this agent keeps no history store (started with --no-history, or no data folder)' } }, head);
+    send(
+      res,
+      404,
+      {
+        error: {
+          code: 'no-history',
+          message: 'this agent keeps no history store (started with --no-history, or no data folder)',
+        },
+      },
+      head,
+    );
     return true;
   }
   try {
@@ -69,7 +85,8 @@ export function handleHistoryApi(path: string, url: URL, res: ServerResponse, he
     if (!EVERY_CHOICES.includes(every)) throw new BadParameter(`'every' must be one of ${EVERY_CHOICES.join(', ')}`);
     const pointsText = param(url, 'points');
     const points = pointsText === undefined ? DEFAULT_POINTS : Number(pointsText);
-    if (!Number.isInteger(points) || points < 1 || points > MAX_POINTS) throw new BadParameter(`'points' must be an integer from 1 to ${MAX_POINTS}`);
+    if (!Number.isInteger(points) || points < 1 || points > MAX_POINTS)
+      throw new BadParameter(`'points' must be an integer from 1 to ${MAX_POINTS}`);
     const bandText = param(url, 'band');
     let band;
     if (bandText !== undefined) {
@@ -79,10 +96,16 @@ export function handleHistoryApi(path: string, url: URL, res: ServerResponse, he
         throw new BadParameter((err as Error).message.replace('--band', "'band'"));
       }
     }
-    send(res, 200, queryTrend(reader(storePath), { channel: param(url, 'channel', 64), band, from, to, every, points }), head);
+    send(
+      res,
+      200,
+      queryTrend(reader(storePath), { channel: param(url, 'channel', 64), band, from, to, every, points }),
+      head,
+    );
   } catch (err) {
     const e = err as Error;
-    if (err instanceof BadParameter || err instanceof FloorlineError) send(res, 400, { error: { code: 'bad-query', message: e.message.replace(/^floorline trend: /, '') } }, head);
+    if (err instanceof BadParameter || err instanceof FloorlineError)
+      send(res, 400, { error: { code: 'bad-query', message: e.message.replace(/^floorline trend: /, '') } }, head);
     else send(res, 500, { error: { code: 'failed', message: e.message } }, head);
   }
   return true;

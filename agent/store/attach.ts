@@ -51,22 +51,29 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
   }
   const writer = new HistoryWriter(db, { warn: o.warn, retention: o.retention });
   const sampler = new TrendSampler(writer, {
-    command: o.command, source: o.source, bands: o.bands, detectorStatus: o.detectorStatus,
+    command: o.command,
+    source: o.source,
+    bands: o.bands,
+    detectorStatus: o.detectorStatus,
     wallMsAt: (sample) => Date.parse(pipeline.wallTimeAt(sample)),
   });
   const book = new IncidentBook();
   pipeline.addSegmentObserver(sampler);
   const offs = [
     pipeline.on('snapshot', (s) => sampler.onSnapshot(s), 'history store'),
-    pipeline.on('event', (e) => {
-      writer.event(e, JSON.stringify(e));
-      const ev = e as unknown as AlarmEventLike & { text?: string };
-      if ((ev.kind as string) === 'note' && typeof ev.text === 'string') {
-        writer.note({ sample: ev.sample, t: ev.t, wallTime: ev.wallTime, text: ev.text, incident: ev.incident });
-      }
-      const inc = book.apply(ev);
-      if (inc && !o.incidentRecords?.()) writer.incident(inc);
-    }, 'history store'),
+    pipeline.on(
+      'event',
+      (e) => {
+        writer.event(e, JSON.stringify(e));
+        const ev = e as unknown as AlarmEventLike & { text?: string };
+        if ((ev.kind as string) === 'note' && typeof ev.text === 'string') {
+          writer.note({ sample: ev.sample, t: ev.t, wallTime: ev.wallTime, text: ev.text, incident: ev.incident });
+        }
+        const inc = book.apply(ev);
+        if (inc && !o.incidentRecords?.()) writer.incident(inc);
+      },
+      'history store',
+    ),
     pipeline.on('end', () => sampler.finish(), 'history store'),
   ];
   // The detectors' records, when there are any, are the incidents: changed ones are written with each commit.
@@ -88,10 +95,13 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
       writer.incident(rest as IncidentRecord);
     }
   };
-  const timer = setInterval(() => {
-    syncIncidents();
-    writer.flush();
-  }, Math.min(1000, o.commitMs ?? 500));
+  const timer = setInterval(
+    () => {
+      syncIncidents();
+      writer.flush();
+    },
+    Math.min(1000, o.commitMs ?? 500),
+  );
   timer.unref();
   let closed = false;
   return {
@@ -100,7 +110,14 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
     note(text, incident) {
       const sample = Math.max(0, pipeline.counters().lastSample);
       const rate = pipeline.stream?.sampleRate ?? 1;
-      const e = { kind: 'note', text, sample, t: sample / rate, wallTime: pipeline.wallTimeAt(sample), ...(incident ? { incident } : {}) };
+      const e = {
+        kind: 'note',
+        text,
+        sample,
+        t: sample / rate,
+        wallTime: pipeline.wallTimeAt(sample),
+        ...(incident ? { incident } : {}),
+      };
       if (incident) o.onIncidentNote?.(incident, text, sample);
       pipeline.emitEvent(e as unknown as FloorlineEvent);
       return e;

@@ -10,9 +10,19 @@ import type { Level } from './schema.ts';
 export const STORE_FILE = 'floorline.sqlite';
 
 export const HISTORY_FLAGS: FlagSpec[] = [
-  { name: 'store', kind: 'string', value: 'FILE', help: 'history store (SQLite) to write; default DATA/floorline.sqlite for run, DATA/replays/… for replay' },
+  {
+    name: 'store',
+    kind: 'string',
+    value: 'FILE',
+    help: 'history store (SQLite) to write; default DATA/floorline.sqlite for run, DATA/replays/… for replay',
+  },
   { name: 'no-history', kind: 'boolean', help: 'keep no trend history' },
-  { name: 'keep', kind: 'string', value: 'SPEC', help: 'history retention per level, e.g. 1s=3h,1m=14d,1h=400d (defaults: snap=10m,1s=3h,1m=14d,1h=400d)' },
+  {
+    name: 'keep',
+    kind: 'string',
+    value: 'SPEC',
+    help: 'history retention per level, e.g. 1s=3h,1m=14d,1h=400d (defaults: snap=10m,1s=3h,1m=14d,1h=400d)',
+  },
 ];
 
 /** The store a query command reads: --store FILE, else DIR/floorline.sqlite of --data DIR. */
@@ -27,7 +37,12 @@ export interface HistoryChoice {
 }
 
 /** What run/replay/demo write to, or undefined with --no-history. `recording` names a replay's own store. */
-export function historyFromArgs(args: ParsedArgs, command: 'run' | 'replay' | 'demo', dataDir: string, recording?: string): HistoryChoice | undefined {
+export function historyFromArgs(
+  args: ParsedArgs,
+  command: 'run' | 'replay' | 'demo',
+  dataDir: string,
+  recording?: string,
+): HistoryChoice | undefined {
   const f = args.flags;
   if (f['no-history']) {
     if (f.store) throw new UsageError(`floorline ${command}: give --store FILE or --no-history, not both.`);
@@ -45,8 +60,13 @@ export function historyFromArgs(args: ParsedArgs, command: 'run' | 'replay' | 'd
   const root = resolve(dataDir);
   if (command === 'run') return { path: join(root, STORE_FILE), retention };
   if (command === 'demo') return { path: join(root, 'replays', 'demo.sqlite'), retention };
-  const stamp = new Date().toISOString().replace(/[-:]/g, '').replace(/\.\d+Z$/, 'Z');
-  const name = basename(recording ?? 'replay').replace(/\.(wav|rf64)$/i, '').replace(/[^A-Za-z0-9._-]/g, '_');
+  const stamp = new Date()
+    .toISOString()
+    .replace(/[-:]/g, '')
+    .replace(/\.\d+Z$/, 'Z');
+  const name = basename(recording ?? 'replay')
+    .replace(/\.(wav|rf64)$/i, '')
+    .replace(/[^A-Za-z0-9._-]/g, '_');
   return { path: join(root, 'replays', `${name}-${stamp}.sqlite`), retention };
 }
 
@@ -55,6 +75,13 @@ export function withSource(
   choice: HistoryChoice | undefined,
   source: string,
   bands?: readonly { low: number; high: number }[],
-): { path: string; source: string; retention?: Record<Level, number>; bands?: readonly { low: number; high: number }[] } | undefined {
+):
+  | {
+      path: string;
+      source: string;
+      retention?: Record<Level, number>;
+      bands?: readonly { low: number; high: number }[];
+    }
+  | undefined {
   return choice ? { ...choice, source, ...(bands?.length ? { bands } : {}) } : undefined;
 }

@@ -47,7 +47,8 @@ export class HistoryWriter {
   private readonly retention: Record<Level, number>;
   private readonly retryMs: number;
   private run: OpenRun | undefined;
-  private failing: { since: number; firstSample: number; lastSample: number; reason: string; nextTry: number } | undefined;
+  private failing:
+    { since: number; firstSample: number; lastSample: number; reason: string; nextTry: number } | undefined;
   private lastRetentionMs = 0;
   latestWallMs = 0;
   flushes = 0;
@@ -60,21 +61,32 @@ export class HistoryWriter {
     this.retention = options.retention ?? DEFAULT_RETENTION;
     this.retryMs = options.retryMs ?? 5000;
     this.insertRow = Object.fromEntries(
-      LEVELS.map((l) => [l, db.prepare(`INSERT OR REPLACE INTO trend_${l} (series, run, k, n, power, min, max) VALUES (?, ?, ?, ?, ?, ?, ?)`)]),
+      LEVELS.map((l) => [
+        l,
+        db.prepare(
+          `INSERT OR REPLACE INTO trend_${l} (series, run, k, n, power, min, max) VALUES (?, ?, ?, ?, ?, ?, ?)`,
+        ),
+      ]),
     ) as Record<Level, import('better-sqlite3').Statement>;
     this.stmt = {
       run: db.prepare(
         'INSERT INTO runs (command, source, pid, sample_rate, first_sample, start_wall_ms, start_wall, settings, level_samples) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)',
       ),
-      seriesFind: db.prepare('SELECT id FROM series WHERE channel = ? AND quantity = ? AND band_low IS ? AND band_high IS ?'),
+      seriesFind: db.prepare(
+        'SELECT id FROM series WHERE channel = ? AND quantity = ? AND band_low IS ? AND band_high IS ?',
+      ),
       seriesAdd: db.prepare('INSERT INTO series (channel, quantity, band_low, band_high, unit) VALUES (?, ?, ?, ?, ?)'),
-      event: db.prepare('INSERT INTO events (run, sample, t, wall_time, kind, rule, state, channel, incident, json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)'),
+      event: db.prepare(
+        'INSERT INTO events (run, sample, t, wall_time, kind, rule, state, channel, incident, json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
+      ),
       note: db.prepare('INSERT INTO notes (run, sample, t, wall_time, text, incident) VALUES (?, ?, ?, ?, ?, ?)'),
       incident: db.prepare(
         `INSERT OR REPLACE INTO incidents (id, run, channel, rules, members, start_sample, start_t, start_wall, end_sample, end_t, end_wall,
            settled, peak, acknowledged, capture) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
       ),
-      unstored: db.prepare('INSERT INTO unstored (run, from_sample, to_sample, from_wall, to_wall, reason) VALUES (?, ?, ?, ?, ?, ?)'),
+      unstored: db.prepare(
+        'INSERT INTO unstored (run, from_sample, to_sample, from_wall, to_wall, reason) VALUES (?, ?, ?, ?, ?, ?)',
+      ),
       runs: db.prepare('SELECT id, sample_rate, first_sample, start_wall_ms, level_samples FROM runs'),
       seriesIds: db.prepare('SELECT id FROM series'),
       maxK: (l: Level) => db.prepare(`SELECT max(k) AS k FROM trend_${l} WHERE run = ?`),
@@ -100,8 +112,15 @@ export class HistoryWriter {
   /** Starts a run (a new stream or new analysis settings); the previous one's rows must be flushed first. */
   beginRun(info: RunInfo): number {
     const r = this.stmt.run.run(
-      info.command, info.source, process.pid, info.sampleRate, info.firstSample, info.startWallMs,
-      new Date(info.startWallMs).toISOString(), JSON.stringify(info.settings), JSON.stringify(info.levelSamples),
+      info.command,
+      info.source,
+      process.pid,
+      info.sampleRate,
+      info.firstSample,
+      info.startWallMs,
+      new Date(info.startWallMs).toISOString(),
+      JSON.stringify(info.settings),
+      JSON.stringify(info.levelSamples),
     );
     this.run = { ...info, id: Number(r.lastInsertRowid) };
     return this.run.id;
@@ -121,8 +140,34 @@ export class HistoryWriter {
     return r.startWallMs + ((sample - r.firstSample) / r.sampleRate) * 1000;
   }
 
-  event(e: { kind: string; sample: number; t: number; wallTime: string; rule?: string; state?: string; channel?: string; incident?: string }, json: string): void {
-    this.queue({ sql: 'event', args: [this.run?.id ?? 0, e.sample, e.t, e.wallTime, e.kind, e.rule ?? null, e.state ?? null, e.channel ?? null, e.incident ?? null, json] });
+  event(
+    e: {
+      kind: string;
+      sample: number;
+      t: number;
+      wallTime: string;
+      rule?: string;
+      state?: string;
+      channel?: string;
+      incident?: string;
+    },
+    json: string,
+  ): void {
+    this.queue({
+      sql: 'event',
+      args: [
+        this.run?.id ?? 0,
+        e.sample,
+        e.t,
+        e.wallTime,
+        e.kind,
+        e.rule ?? null,
+        e.state ?? null,
+        e.channel ?? null,
+        e.incident ?? null,
+        json,
+      ],
+    });
   }
 
   note(n: { sample: number | null; t: number | null; wallTime: string; text: string; incident?: string }): void {
@@ -133,9 +178,21 @@ export class HistoryWriter {
     this.queue({
       sql: 'incident',
       args: [
-        i.id, this.run?.id ?? 0, i.channel, JSON.stringify(i.rules), JSON.stringify(i.members),
-        i.start.sample, i.start.t, i.start.wallTime, i.end?.sample ?? null, i.end?.t ?? null, i.end?.wallTime ?? null,
-        i.settled ? JSON.stringify(i.settled) : null, JSON.stringify(i.peak), i.acknowledged ? 1 : 0, i.capture,
+        i.id,
+        this.run?.id ?? 0,
+        i.channel,
+        JSON.stringify(i.rules),
+        JSON.stringify(i.members),
+        i.start.sample,
+        i.start.t,
+        i.start.wallTime,
+        i.end?.sample ?? null,
+        i.end?.t ?? null,
+        i.end?.wallTime ?? null,
+        i.settled ? JSON.stringify(i.settled) : null,
+        JSON.stringify(i.peak),
+        i.acknowledged ? 1 : 0,
+        i.capture,
       ],
     });
   }
@@ -157,12 +214,26 @@ export class HistoryWriter {
       this.db.transaction(() => {
         if (this.failing && this.run) {
           const f = this.failing;
-          this.stmt.unstored.run(this.run.id, f.firstSample, f.lastSample, new Date(this.wallMsAt(f.firstSample)).toISOString(),
-            new Date(this.wallMsAt(f.lastSample)).toISOString(), f.reason);
+          this.stmt.unstored.run(
+            this.run.id,
+            f.firstSample,
+            f.lastSample,
+            new Date(this.wallMsAt(f.firstSample)).toISOString(),
+            new Date(this.wallMsAt(f.lastSample)).toISOString(),
+            f.reason,
+          );
         }
         const run = this.run?.id ?? 0;
         for (let i = 0; i < rows.length; i++) {
-          this.insertRow[LEVELS[rows.level[i]]].run(rows.series[i], run, rows.k[i], rows.n[i], rows.power[i], rows.min[i], rows.max[i]);
+          this.insertRow[LEVELS[rows.level[i]]].run(
+            rows.series[i],
+            run,
+            rows.k[i],
+            rows.n[i],
+            rows.power[i],
+            rows.min[i],
+            rows.max[i],
+          );
         }
         for (const op of this.ops) this.stmt[op.sql].run(...op.args);
       })();
@@ -173,13 +244,21 @@ export class HistoryWriter {
         this.options.warn(
           `history is not being kept: the store refuses writes (${reason}). Analysis and alarms go on; retrying every ${Math.round(this.retryMs / 1000)} s, and the span not stored will be recorded.`,
         );
-        this.failing = { since: nowMs, firstSample: rows.firstSample, lastSample: rows.lastSample, reason, nextTry: nowMs + this.retryMs };
+        this.failing = {
+          since: nowMs,
+          firstSample: rows.firstSample,
+          lastSample: rows.lastSample,
+          reason,
+          nextTry: nowMs + this.retryMs,
+        };
       } else this.failing.nextTry = nowMs + this.retryMs;
       this.dropRows();
       return;
     }
     if (this.failing) {
-      this.options.warn(`history is kept again; samples ${this.failing.firstSample}…${this.failing.lastSample} were not stored (recorded in the unstored table).`);
+      this.options.warn(
+        `history is kept again; samples ${this.failing.firstSample}…${this.failing.lastSample} were not stored (recorded in the unstored table).`,
+      );
       this.failing = undefined;
     }
     if (rows.length && this.run) this.latestWallMs = Math.max(this.latestWallMs, this.wallMsAt(rows.lastSample));
@@ -205,7 +284,13 @@ export class HistoryWriter {
   /** Deletes rows older than each level's retention, counted back from the newest stored wall time. */
   applyRetention(): void {
     if (!this.latestWallMs) return;
-    const runs = this.stmt.runs.all() as { id: number; sample_rate: number; first_sample: number; start_wall_ms: number; level_samples: string }[];
+    const runs = this.stmt.runs.all() as {
+      id: number;
+      sample_rate: number;
+      first_sample: number;
+      start_wall_ms: number;
+      level_samples: string;
+    }[];
     const series = (this.stmt.seriesIds.all() as { id: number }[]).map((s) => s.id);
     try {
       this.db.transaction(() => {
@@ -234,7 +319,10 @@ export class HistoryWriter {
   private repairRollups(): void {
     const runs = this.stmt.runs.all() as { id: number }[];
     this.db.transaction(() => {
-      for (const [coarse, fine] of [['1m', '1s'], ['1h', '1m']] as const) {
+      for (const [coarse, fine] of [
+        ['1m', '1s'],
+        ['1h', '1m'],
+      ] as const) {
         const rebuild = this.db.prepare(
           `INSERT OR IGNORE INTO trend_${coarse} (series, run, k, n, power, min, max)
            SELECT series, run, k / 60, sum(n), sum(n * power) / sum(n), min(min), max(max)

@@ -54,7 +54,8 @@ export interface AlarmEventLike {
 /** A line's identity across its raise and clear: frequency to within 1 Hz, or the mains harmonic number. */
 function memberKey(e: AlarmEventLike): string {
   const band = e.band ? `${e.band[0]}:${e.band[1]}` : '';
-  const line = e.harmonic !== undefined ? `h${e.harmonic}` : e.frequency !== undefined ? `f${Math.round(e.frequency)}` : '';
+  const line =
+    e.harmonic !== undefined ? `h${e.harmonic}` : e.frequency !== undefined ? `f${Math.round(e.frequency)}` : '';
   return `${e.rule}|${e.channel}|${band}|${line}`;
 }
 
@@ -63,7 +64,10 @@ const CLOSED_KEPT = 200;
 
 export class IncidentBook {
   private readonly closed: string[] = [];
-  private readonly incidents = new Map<string, Omit<IncidentRecord, 'peak'> & { peak: { levelDb: number; amplitude?: number; sample: number }; open: Set<string> }>();
+  private readonly incidents = new Map<
+    string,
+    Omit<IncidentRecord, 'peak'> & { peak: { levelDb: number; amplitude?: number; sample: number }; open: Set<string> }
+  >();
   /** Open member key → incident id, for events that carry no incident id. */
   private readonly openByMember = new Map<string, string>();
 
@@ -84,14 +88,32 @@ export class IncidentBook {
     let inc = this.incidents.get(id);
     if (!inc) {
       inc = {
-        id, channel: e.channel ?? '*', rules: [], members: [], start: { sample: e.sample, t: e.t, wallTime: e.wallTime }, end: null,
-        settled: null, peak: { levelDb: e.levelDb ?? -Infinity, sample: e.sample }, acknowledged: false, capture: null, open: new Set(),
+        id,
+        channel: e.channel ?? '*',
+        rules: [],
+        members: [],
+        start: { sample: e.sample, t: e.t, wallTime: e.wallTime },
+        end: null,
+        settled: null,
+        peak: { levelDb: e.levelDb ?? -Infinity, sample: e.sample },
+        acknowledged: false,
+        capture: null,
+        open: new Set(),
       };
       this.incidents.set(id, inc);
     }
     if (!inc.rules.includes(e.rule)) inc.rules.push(e.rule);
-    if (!inc.members.some((m) => memberKey({ ...m, kind: 'alarm', channel: e.channel, sample: 0, t: 0, wallTime: '' }) === key)) {
-      inc.members.push({ rule: e.rule, ...(e.band ? { band: e.band } : {}), ...(e.frequency !== undefined ? { frequency: e.frequency } : {}), ...(e.harmonic !== undefined ? { harmonic: e.harmonic } : {}) });
+    if (
+      !inc.members.some(
+        (m) => memberKey({ ...m, kind: 'alarm', channel: e.channel, sample: 0, t: 0, wallTime: '' }) === key,
+      )
+    ) {
+      inc.members.push({
+        rule: e.rule,
+        ...(e.band ? { band: e.band } : {}),
+        ...(e.frequency !== undefined ? { frequency: e.frequency } : {}),
+        ...(e.harmonic !== undefined ? { harmonic: e.harmonic } : {}),
+      });
     }
     if (e.capture && !inc.capture) inc.capture = e.capture;
     if (e.acknowledged || e.state === 'acknowledged') inc.acknowledged = true;
@@ -103,7 +125,11 @@ export class IncidentBook {
       this.openByMember.set(key, id);
     } else if (e.state === 'settled') {
       if (e.levelDb !== undefined && (!inc.settled || e.levelDb > inc.settled.levelDb)) {
-        inc.settled = { levelDb: e.levelDb, ...(e.amplitude !== undefined ? { amplitude: e.amplitude } : {}), ...(e.frequency !== undefined ? { frequency: e.frequency } : {}) };
+        inc.settled = {
+          levelDb: e.levelDb,
+          ...(e.amplitude !== undefined ? { amplitude: e.amplitude } : {}),
+          ...(e.frequency !== undefined ? { frequency: e.frequency } : {}),
+        };
       }
     } else if (e.state === 'cleared') {
       inc.open.delete(key);
@@ -126,14 +152,24 @@ export class IncidentBook {
     return p && Number.isFinite(p.levelDb) ? { ...p } : null;
   }
 
-  private peak(inc: { peak: { levelDb: number; amplitude?: number; sample: number } }, levelDb: number | undefined, amplitude: number | undefined, sample: number): void {
+  private peak(
+    inc: { peak: { levelDb: number; amplitude?: number; sample: number } },
+    levelDb: number | undefined,
+    amplitude: number | undefined,
+    sample: number,
+  ): void {
     if (levelDb === undefined || !Number.isFinite(levelDb)) return;
     if (levelDb > inc.peak.levelDb || !Number.isFinite(inc.peak.levelDb)) {
       inc.peak = { levelDb, ...(amplitude !== undefined ? { amplitude } : {}), sample };
     }
   }
 
-  private view(inc: Omit<IncidentRecord, 'peak'> & { peak: { levelDb: number; amplitude?: number; sample: number }; open: Set<string> }): IncidentRecord {
+  private view(
+    inc: Omit<IncidentRecord, 'peak'> & {
+      peak: { levelDb: number; amplitude?: number; sample: number };
+      open: Set<string>;
+    },
+  ): IncidentRecord {
     const { open: _open, ...rest } = inc;
     return { ...rest, peak: Number.isFinite(rest.peak.levelDb) ? { ...rest.peak } : null };
   }

@@ -9,8 +9,20 @@ export interface IncidentView extends IncidentRecord {
 }
 
 interface Row {
-  id: string; channel: string; rules: string; members: string; start_sample: number; start_t: number; start_wall: string;
-  end_sample: number | null; end_t: number | null; end_wall: string | null; settled: string | null; peak: string; acknowledged: number; capture: string | null;
+  id: string;
+  channel: string;
+  rules: string;
+  members: string;
+  start_sample: number;
+  start_t: number;
+  start_wall: string;
+  end_sample: number | null;
+  end_t: number | null;
+  end_wall: string | null;
+  settled: string | null;
+  peak: string;
+  acknowledged: number;
+  capture: string | null;
 }
 
 /** Incidents that overlap [from, to) (wall time, or sample time t), oldest first. */
@@ -18,7 +30,8 @@ export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): I
   const rows = db.prepare('SELECT * FROM incidents ORDER BY start_wall, id').all() as Row[];
   const notes = db.prepare('SELECT text, t, wall_time FROM notes WHERE incident = ? ORDER BY id');
   const startOf = (r: Row, b: TimeBound) => (b.kind === 'wall' ? Date.parse(r.start_wall) : r.start_t);
-  const endOf = (r: Row, b: TimeBound) => (b.kind === 'wall' ? (r.end_wall ? Date.parse(r.end_wall) : Infinity) : (r.end_t ?? Infinity));
+  const endOf = (r: Row, b: TimeBound) =>
+    b.kind === 'wall' ? (r.end_wall ? Date.parse(r.end_wall) : Infinity) : (r.end_t ?? Infinity);
   const value = (b: TimeBound) => (b.kind === 'wall' ? b.ms : b.seconds);
   return rows
     .filter((r) => (!to || startOf(r, to) < value(to)) && (!from || endOf(r, from) >= value(from)))
@@ -32,7 +45,11 @@ export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): I
       settled: r.settled ? JSON.parse(r.settled) : null,
       peak: JSON.parse(r.peak),
       acknowledged: r.acknowledged === 1,
-      notes: (notes.all(r.id) as { text: string; t: number | null; wall_time: string }[]).map((n) => ({ text: n.text, t: n.t, wallTime: n.wall_time })),
+      notes: (notes.all(r.id) as { text: string; t: number | null; wall_time: string }[]).map((n) => ({
+        text: n.text,
+        t: n.t,
+        wallTime: n.wall_time,
+      })),
       capture: r.capture,
     }));
 }
@@ -40,13 +57,31 @@ export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): I
 export function incidentsCsv(list: IncidentView[]): string {
   const q = (s: string) => (/[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s);
   const n = (v: number | null | undefined) => (v === null || v === undefined ? 'nan' : String(v));
-  const lines = ['id,channel,rules,start_t_s,start_sample,start_wall,end_t_s,end_sample,end_wall,settled_level_dB,settled_amplitude,peak_level_dB,peak_amplitude,peak_sample,acknowledged,notes,capture'];
+  const lines = [
+    'id,channel,rules,start_t_s,start_sample,start_wall,end_t_s,end_sample,end_wall,settled_level_dB,settled_amplitude,peak_level_dB,peak_amplitude,peak_sample,acknowledged,notes,capture',
+  ];
   for (const i of list) {
-    lines.push([
-      q(i.id), q(i.channel), q(i.rules.join(' ')), i.start.t, i.start.sample, i.start.wallTime, n(i.end?.t), n(i.end?.sample), i.end?.wallTime ?? '',
-      n(i.settled?.levelDb), n(i.settled?.amplitude), n(i.peak?.levelDb), n(i.peak?.amplitude), n(i.peak?.sample), i.acknowledged ? 1 : 0,
-      q(i.notes.map((x) => x.text).join(' | ')), q(i.capture ?? ''),
-    ].join(','));
+    lines.push(
+      [
+        q(i.id),
+        q(i.channel),
+        q(i.rules.join(' ')),
+        i.start.t,
+        i.start.sample,
+        i.start.wallTime,
+        n(i.end?.t),
+        n(i.end?.sample),
+        i.end?.wallTime ?? '',
+        n(i.settled?.levelDb),
+        n(i.settled?.amplitude),
+        n(i.peak?.levelDb),
+        n(i.peak?.amplitude),
+        n(i.peak?.sample),
+        i.acknowledged ? 1 : 0,
+        q(i.notes.map((x) => x.text).join(' | ')),
+        q(i.capture ?? ''),
+      ].join(','),
+    );
   }
   return lines.join('\n') + '\n';
 }

@@ -58,7 +58,17 @@ export class IntervalAccumulator {
     const n = this.n[s];
     if (n === 0) return;
     const k = this.k[s];
-    this.out.push(this.levelIndex, this.seriesIds[s], k, n, this.sum[s] / n, this.lo[s], this.hi[s], this.from[s], this.to[s]);
+    this.out.push(
+      this.levelIndex,
+      this.seriesIds[s],
+      k,
+      n,
+      this.sum[s] / n,
+      this.lo[s],
+      this.hi[s],
+      this.from[s],
+      this.to[s],
+    );
     this.n[s] = 0;
     this.sum[s] = 0;
   }

@@ -21,9 +21,15 @@ export function levelSamples(sampleRate: number, snapshotInterval: number): Reco
 /** Parses "1s=3h,1m=14d,…" (units s, m, h, d) into retention seconds per level, over the defaults. */
 export function parseRetention(text: string): Record<Level, number> {
   const out = { ...DEFAULT_RETENTION };
-  for (const part of text.split(',').map((p) => p.trim()).filter(Boolean)) {
+  for (const part of text
+    .split(',')
+    .map((p) => p.trim())
+    .filter(Boolean)) {
     const m = /^(snap|1s|1m|1h)=(\d+(?:\.\d+)?)(s|m|h|d)$/.exec(part);
-    if (!m) throw new RangeError(`'${part}' is not LEVEL=DURATION; write e.g. 1s=3h,1m=14d,1h=400d (levels snap, 1s, 1m, 1h; units s, m, h, d)`);
+    if (!m)
+      throw new RangeError(
+        `'${part}' is not LEVEL=DURATION; write e.g. 1s=3h,1m=14d,1h=400d (levels snap, 1s, 1m, 1h; units s, m, h, d)`,
+      );
     out[m[1] as Level] = Number(m[2]) * { s: 1, m: 60, h: 3600, d: 86400 }[m[3] as 's' | 'm' | 'h' | 'd'];
   }
   return out;

@@ -49,13 +49,22 @@ function problemWithDb(db: StoreDb): { reason: string; movable: boolean } | unde
   try {
     const rows = db.pragma('integrity_check') as { integrity_check: string }[];
     if (rows.length !== 1 || rows[0].integrity_check !== 'ok') {
-      return { reason: `its integrity check failed (${rows.slice(0, 3).map((r) => r.integrity_check).join('; ')})`, movable: true };
+      return {
+        reason: `its integrity check failed (${rows
+          .slice(0, 3)
+          .map((r) => r.integrity_check)
+          .join('; ')})`,
+        movable: true,
+      };
     }
   } catch (err) {
     return { reason: `its integrity check failed (${(err as Error).message})`, movable: true };
   }
   if (version > SCHEMA_VERSION) {
-    return { reason: `it was written by a newer floorline (schema ${version}, this one knows ${SCHEMA_VERSION}); upgrade floorline`, movable: false };
+    return {
+      reason: `it was written by a newer floorline (schema ${version}, this one knows ${SCHEMA_VERSION}); upgrade floorline`,
+      movable: false,
+    };
   }
   return undefined;
 }
@@ -83,7 +92,10 @@ function migrate(db: StoreDb): void {
 }
 
 function moveAside(path: string): string {
-  const stamp = new Date().toISOString().replace(/[-:]/g, '').replace(/\.\d+Z$/, 'Z');
+  const stamp = new Date()
+    .toISOString()
+    .replace(/[-:]/g, '')
+    .replace(/\.\d+Z$/, 'Z');
   const aside = `${path}.corrupt-${stamp}`;
   renameSync(path, aside);
   for (const ext of ['-wal', '-shm']) if (existsSync(path + ext)) renameSync(path + ext, aside + ext);
@@ -99,7 +111,8 @@ export function openStoreForWriting(path: string, warn: (message: string) => voi
       db = new Database(path);
     } catch (err) {
       const code = (err as { code?: string }).code;
-      if (code === 'SQLITE_NOTADB' || code === 'SQLITE_CORRUPT') problem = `it cannot be opened (${(err as Error).message})`;
+      if (code === 'SQLITE_NOTADB' || code === 'SQLITE_CORRUPT')
+        problem = `it cannot be opened (${(err as Error).message})`;
       else throw err;
     }
     if (db) {
@@ -117,7 +130,9 @@ export function openStoreForWriting(path: string, warn: (message: string) => voi
   }
   if (problem) {
     const aside = moveAside(path);
-    warn(`history store ${path} is refused: ${problem}. It was moved aside to ${aside}, untouched; a new store starts.`);
+    warn(
+      `history store ${path} is refused: ${problem}. It was moved aside to ${aside}, untouched; a new store starts.`,
+    );
     db = new Database(path);
   }
   applyPragmas(db!, false);
@@ -131,7 +146,9 @@ export function openStoreForWriting(path: string, warn: (message: string) => voi
  */
 export function openStoreForReading(path: string, check = true): StoreDb {
   if (!existsSync(path)) {
-    throw new StoreFileError(`no history store at ${path}; a run, replay or demo writes one (give --store FILE or --data DIR).`);
+    throw new StoreFileError(
+      `no history store at ${path}; a run, replay or demo writes one (give --store FILE or --data DIR).`,
+    );
   }
   const problem = problemWithFile(path);
   if (problem) throw new StoreFileError(`${path} is not a floorline history store: ${problem}.`);
@@ -139,7 +156,9 @@ export function openStoreForReading(path: string, check = true): StoreDb {
   try {
     db = new Database(path, { readonly: true, fileMustExist: true });
   } catch (err) {
-    throw new StoreFileError(`${path} is not a floorline history store: it cannot be opened (${(err as Error).message}).`);
+    throw new StoreFileError(
+      `${path} is not a floorline history store: it cannot be opened (${(err as Error).message}).`,
+    );
   }
   applyPragmas(db, true);
   const p = check ? problemWithDb(db) : undefined;
@@ -147,7 +166,9 @@ export function openStoreForReading(path: string, check = true): StoreDb {
   if (p || version < SCHEMA_VERSION) {
     db.close();
     throw new StoreFileError(
-      p ? `${path} is not a usable floorline history store: ${p.reason}.` : `${path} has schema ${version}; open it once with a running agent to migrate it to ${SCHEMA_VERSION}.`,
+      p
+        ? `${path} is not a usable floorline history store: ${p.reason}.`
+        : `${path} has schema ${version}; open it once with a running agent to migrate it to ${SCHEMA_VERSION}.`,
     );
   }
   return db;
@@ -155,7 +176,10 @@ export function openStoreForReading(path: string, check = true): StoreDb {
 
 /** Opens a store for a short write (a note from the CLI), migrating like a writer but never moving the file. */
 export function openStoreForNote(path: string): StoreDb {
-  if (!existsSync(path)) throw new StoreFileError(`no history store at ${path}; a run, replay or demo writes one (give --store FILE or --data DIR).`);
+  if (!existsSync(path))
+    throw new StoreFileError(
+      `no history store at ${path}; a run, replay or demo writes one (give --store FILE or --data DIR).`,
+    );
   const problem = problemWithFile(path);
   if (problem) throw new StoreFileError(`${path} is not a floorline history store: ${problem}.`);
   const db = new Database(path, { fileMustExist: true });

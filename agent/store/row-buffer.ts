@@ -12,7 +12,17 @@ export class RowBuffer {
   firstSample = Infinity;
   lastSample = -Infinity;
 
-  push(level: number, series: number, k: number, n: number, power: number, min: number, max: number, from: number, to: number): void {
+  push(
+    level: number,
+    series: number,
+    k: number,
+    n: number,
+    power: number,
+    min: number,
+    max: number,
+    from: number,
+    to: number,
+  ): void {
     if (this.length === this.level.length) this.grow();
     const i = this.length++;
     this.level[i] = level;

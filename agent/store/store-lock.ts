@@ -30,7 +30,9 @@ function alive(pid: number): boolean {
 function holder(path: string): { pid: number; command?: string; started?: string } | undefined {
   try {
     const o = JSON.parse(readFileSync(path, 'utf8')) as { pid?: unknown; command?: unknown; started?: unknown };
-    return typeof o.pid === 'number' && Number.isInteger(o.pid) ? { pid: o.pid, command: String(o.command ?? ''), started: String(o.started ?? '') } : undefined;
+    return typeof o.pid === 'number' && Number.isInteger(o.pid)
+      ? { pid: o.pid, command: String(o.command ?? ''), started: String(o.started ?? '') }
+      : undefined;
   } catch {
     return undefined;
   }
@@ -73,5 +75,8 @@ export function lockStore(store: string, command: string): StoreLock {
       },
     };
   }
-  throw new StoreLockedError(`cannot take the lock ${path}: other agents keep replacing it; start one agent per data folder.`, -1);
+  throw new StoreLockedError(
+    `cannot take the lock ${path}: other agents keep replacing it; start one agent per data folder.`,
+    -1,
+  );
 }

@@ -11,7 +11,9 @@ export function parseTimeBound(text: string): TimeBound {
     const ms = Date.parse(text.trim());
     if (Number.isFinite(ms)) return { kind: 'wall', ms, text };
   }
-  throw new RangeError(`'${text}' is not a time: give ISO-8601 wall time (e.g. 2026-12-02T10:00:00Z) or t=SECONDS of sample time (e.g. t=120)`);
+  throw new RangeError(
+    `'${text}' is not a time: give ISO-8601 wall time (e.g. 2026-12-02T10:00:00Z) or t=SECONDS of sample time (e.g. t=120)`,
+  );
 }
 
 export interface RunTiming {
@@ -22,7 +24,9 @@ export interface RunTiming {
 
 /** Sample index of a bound within a run (fractional). */
 export function boundSample(b: TimeBound, run: RunTiming): number {
-  return b.kind === 't' ? b.seconds * run.sampleRate : run.firstSample + ((b.ms - run.startWallMs) / 1000) * run.sampleRate;
+  return b.kind === 't'
+    ? b.seconds * run.sampleRate
+    : run.firstSample + ((b.ms - run.startWallMs) / 1000) * run.sampleRate;
 }
 
 export function wallAt(run: RunTiming, sample: number): string {

@@ -75,11 +75,17 @@ function bandMatches(s: SeriesRow, b: { low: number; high: number }): boolean {
 
 export function queryTrend(db: StoreDb, q: TrendRequest): TrendResult {
   const quantities = q.quantities ?? TREND_QUANTITIES;
-  const all = db.prepare('SELECT id, channel, quantity, band_low, band_high, unit FROM series ORDER BY id').all() as SeriesRow[];
-  let chosen = all.filter((s) => quantities.includes(s.quantity) && (q.channel === undefined || s.channel === q.channel));
+  const all = db
+    .prepare('SELECT id, channel, quantity, band_low, band_high, unit FROM series ORDER BY id')
+    .all() as SeriesRow[];
+  let chosen = all.filter(
+    (s) => quantities.includes(s.quantity) && (q.channel === undefined || s.channel === q.channel),
+  );
   if (q.channel !== undefined && chosen.length === 0) {
     const names = [...new Set(all.map((s) => s.channel))];
-    throw new TrendQueryError(`floorline trend: no channel '${q.channel}' in the store; it has ${names.length ? names.map((n) => `'${n}'`).join(', ') : 'no channels yet'}.`);
+    throw new TrendQueryError(
+      `floorline trend: no channel '${q.channel}' in the store; it has ${names.length ? names.map((n) => `'${n}'`).join(', ') : 'no channels yet'}.`,
+    );
   }
   if (q.band) {
     const band = q.band;
@@ -87,18 +93,33 @@ export function queryTrend(db: StoreDb, q: TrendRequest): TrendResult {
     const hit = bands.filter((s) => bandMatches(s, band));
     if (hit.length === 0) {
       const listed = [...new Set(bands.map((s) => `${s.band_low}:${s.band_high}`))];
-      throw new TrendQueryError(`floorline trend: no band ${band.low}:${band.high} Hz in the store; it keeps ${listed.length ? listed.join(', ') : 'no bands'} (give one of these to --band).`);
+      throw new TrendQueryError(
+        `floorline trend: no band ${band.low}:${band.high} Hz in the store; it keeps ${listed.length ? listed.join(', ') : 'no bands'} (give one of these to --band).`,
+      );
     }
     chosen = chosen.filter((s) => s.quantity !== 'bandRms' || bandMatches(s, band));
   }
-  const runs = (db.prepare('SELECT id, sample_rate, first_sample, start_wall_ms, level_samples FROM runs ORDER BY id').all() as {
-    id: number; sample_rate: number; first_sample: number; start_wall_ms: number; level_samples: string;
-  }[]).map((r): RunRow => ({
-    id: r.id, sampleRate: r.sample_rate, firstSample: r.first_sample, startWallMs: r.start_wall_ms,
+  const runs = (
+    db.prepare('SELECT id, sample_rate, first_sample, start_wall_ms, level_samples FROM runs ORDER BY id').all() as {
+      id: number;
+      sample_rate: number;
+      first_sample: number;
+      start_wall_ms: number;
+      level_samples: string;
+    }[]
+  ).map((r): RunRow => ({
+    id: r.id,
+    sampleRate: r.sample_rate,
+    firstSample: r.first_sample,
+    startWallMs: r.start_wall_ms,
     length: (JSON.parse(r.level_samples) as Record<Level, number>)[q.every],
   }));
   // Raw rows (arrays, not objects): a week of minutes is 10 080 rows per series.
-  const select = db.prepare(`SELECT k, n, power, min, max FROM trend_${q.every} WHERE series = ? AND run = ? AND k >= ? AND k < ? ORDER BY k`).raw(true);
+  const select = db
+    .prepare(
+      `SELECT k, n, power, min, max FROM trend_${q.every} WHERE series = ? AND run = ? AND k >= ? AND k < ? ORDER BY k`,
+    )
+    .raw(true);
   const series = chosen.map((s): TrendSeries => {
     const rows: (TrendRow & { n: number; power: number })[] = [];
     let pendingBreak: { run: RunRow; k: number } | undefined;
@@ -106,22 +127,50 @@ export function queryTrend(db: StoreDb, q: TrendRequest): TrendResult {
       const lo = q.from ? Math.max(0, Math.ceil(boundSample(q.from, run) / run.length)) : 0;
       const hi = q.to ? Math.ceil(boundSample(q.to, run) / run.length) : Number.MAX_SAFE_INTEGER;
       if (hi <= lo) continue;
-      const found = select.all(s.id, run.id, lo, hi) as [k: number, n: number, power: number, min: number, max: number][];
+      const found = select.all(s.id, run.id, lo, hi) as [
+        k: number,
+        n: number,
+        power: number,
+        min: number,
+        max: number,
+      ][];
       if (found.length === 0) continue;
       if (pendingBreak) rows.push(gapRow(pendingBreak.run, pendingBreak.k));
       let prev = -1;
       for (const [k, n, power, min, max] of found) {
         if (prev >= 0 && k > prev + 1) rows.push(gapRow(run, prev + 1));
         const sample = k * run.length;
-        rows.push({ t: sample / run.sampleRate, sample, wallTime: wallAt(run, sample), min, mean: Math.sqrt(power), max, gap: false, n, power });
+        rows.push({
+          t: sample / run.sampleRate,
+          sample,
+          wallTime: wallAt(run, sample),
+          min,
+          mean: Math.sqrt(power),
+          max,
+          gap: false,
+          n,
+          power,
+        });
         prev = k;
       }
       pendingBreak = { run, k: prev + 1 };
     }
-    const merged = q.points !== undefined && rows.length > q.points ? mergeRows(rows, Math.ceil(rows.length / q.points)) : rows;
+    const merged =
+      q.points !== undefined && rows.length > q.points ? mergeRows(rows, Math.ceil(rows.length / q.points)) : rows;
     return {
-      channel: s.channel, quantity: s.quantity, band: s.band_low === null ? null : [s.band_low, s.band_high!], unit: s.unit,
-      rows: merged.map(({ t, sample, wallTime, min, mean, max, gap }) => ({ t, sample, wallTime, min, mean, max, gap })),
+      channel: s.channel,
+      quantity: s.quantity,
+      band: s.band_low === null ? null : [s.band_low, s.band_high!],
+      unit: s.unit,
+      rows: merged.map(({ t, sample, wallTime, min, mean, max, gap }) => ({
+        t,
+        sample,
+        wallTime,
+        min,
+        mean,
+        max,
+        gap,
+      })),
     };
   });
   return { every: q.every, series };
@@ -129,11 +178,24 @@ export function queryTrend(db: StoreDb, q: TrendRequest): TrendResult {
 
 function gapRow(run: RunRow, k: number): TrendRow & { n: number; power: number } {
   const sample = k * run.length;
-  return { t: sample / run.sampleRate, sample, wallTime: wallAt(run, sample), min: null, mean: null, max: null, gap: true, n: 0, power: 0 };
+  return {
+    t: sample / run.sampleRate,
+    sample,
+    wallTime: wallAt(run, sample),
+    min: null,
+    mean: null,
+    max: null,
+    gap: true,
+    n: 0,
+    power: 0,
+  };
 }
 
 /** Merges groups of `size` neighbours: a group is a gap only if every member is. */
-function mergeRows(rows: (TrendRow & { n: number; power: number })[], size: number): (TrendRow & { n: number; power: number })[] {
+function mergeRows(
+  rows: (TrendRow & { n: number; power: number })[],
+  size: number,
+): (TrendRow & { n: number; power: number })[] {
   const out: (TrendRow & { n: number; power: number })[] = [];
   for (let i = 0; i < rows.length; i += size) {
     const group = rows.slice(i, i + size);
@@ -145,8 +207,13 @@ function mergeRows(rows: (TrendRow & { n: number; power: number })[], size: numb
     const n = data.reduce((a, r) => a + r.n, 0);
     const power = data.reduce((a, r) => a + r.n * r.power, 0) / n;
     out.push({
-      ...group[0], n, power, gap: false, mean: Math.sqrt(power),
-      min: Math.min(...data.map((r) => r.min!)), max: Math.max(...data.map((r) => r.max!)),
+      ...group[0],
+      n,
+      power,
+      gap: false,
+      mean: Math.sqrt(power),
+      min: Math.min(...data.map((r) => r.min!)),
+      max: Math.max(...data.map((r) => r.max!)),
     });
   }
   return out;

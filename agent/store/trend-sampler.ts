@@ -44,16 +44,24 @@ export class TrendSampler implements SegmentObserver {
     this.finish();
     const s = g.settings;
     const bins = g.frequencies.length;
-    const bandSpecs = this.options.bands?.length ? this.options.bands : defaultBands(s.sampleRate, s.segment, windowMainLobeHalfWidth(s.window));
+    const bandSpecs = this.options.bands?.length
+      ? this.options.bands
+      : defaultBands(s.sampleRate, s.segment, windowMainLobeHalfWidth(s.window));
     const usable = usableRange(s.sampleRate, s.segment, windowMainLobeHalfWidth(s.window));
     const lengths = levelSamples(s.sampleRate, g.snapshotInterval);
     const w = this.writer;
     w.beginRun({
-      command: this.options.command, source: this.options.source, sampleRate: s.sampleRate, firstSample: g.firstSample,
-      startWallMs: this.options.wallMsAt(g.firstSample), settings: s, levelSamples: lengths,
+      command: this.options.command,
+      source: this.options.source,
+      sampleRate: s.sampleRate,
+      firstSample: g.firstSample,
+      startWallMs: this.options.wallMsAt(g.firstSample),
+      settings: s,
+      levelSamples: lengths,
     });
     const ids: number[] = [];
-    for (const ch of g.channels) for (const b of bandSpecs) ids.push(w.seriesId(ch.name, 'bandRms', [b.low, b.high], ch.unit));
+    for (const ch of g.channels)
+      for (const b of bandSpecs) ids.push(w.seriesId(ch.name, 'bandRms', [b.low, b.high], ch.unit));
     for (const ch of g.channels) ids.push(w.seriesId(ch.name, 'floorDensity', null, `${ch.unit}/√Hz`));
     for (const ch of g.channels) ids.push(w.seriesId(ch.name, 'mainsTotal', null, ch.unit));
     for (const ch of g.channels) ids.push(w.seriesId(ch.name, 'strongestLine', null, ch.unit));

@@ -19,13 +19,22 @@ export function wavIoError(err: unknown, path: string, doing: 'open' | 'read' | 
   switch (e?.code) {
     case 'ENOSPC':
     case 'EDQUOT':
-      return new WavError('WAV_DISK_FULL', `cannot ${doing} ${path}: the disk is full; free some space or record to another folder (--data DIR).`);
+      return new WavError(
+        'WAV_DISK_FULL',
+        `cannot ${doing} ${path}: the disk is full; free some space or record to another folder (--data DIR).`,
+      );
     case 'EACCES':
     case 'EPERM':
     case 'EROFS':
-      return new WavError('WAV_NO_PERMISSION', `cannot ${doing} ${path}: no permission; choose a folder you can ${doing === 'read' || doing === 'open' ? 'read' : 'write'} or fix its permissions.`);
+      return new WavError(
+        'WAV_NO_PERMISSION',
+        `cannot ${doing} ${path}: no permission; choose a folder you can ${doing === 'read' || doing === 'open' ? 'read' : 'write'} or fix its permissions.`,
+      );
     case 'ENOENT':
-      return new WavError('WAV_IO', `cannot ${doing} ${path}: no such file or folder; check the path${doing === 'create' ? ' and create the folder first' : ''}.`);
+      return new WavError(
+        'WAV_IO',
+        `cannot ${doing} ${path}: no such file or folder; check the path${doing === 'create' ? ' and create the folder first' : ''}.`,
+      );
     case 'EISDIR':
       return new WavError('WAV_IO', `cannot ${doing} ${path}: it is a folder; give a .wav file.`);
     default:

@@ -51,12 +51,16 @@ function tagName(tag: number): string {
   }
 }
 
-const CONVERT_HINT = 'convert it to 16/24/32-bit PCM or 32/64-bit float WAV first (e.g. `sox IN.wav -b 24 -e signed OUT.wav`)';
+const CONVERT_HINT =
+  'convert it to 16/24/32-bit PCM or 32/64-bit float WAV first (e.g. `sox IN.wav -b 24 -e signed OUT.wav`)';
 
 /** Parses the body of a 'fmt ' chunk (without its 8-byte header). `path` only labels errors. */
 export function parseFmtChunk(body: Uint8Array, path: string): WavFormat {
   if (body.length < 16) {
-    throw new WavError('WAV_BAD_HEADER', `${path}: the 'fmt ' chunk is ${body.length} bytes, shorter than the 16 every WAV needs; the file is damaged.`);
+    throw new WavError(
+      'WAV_BAD_HEADER',
+      `${path}: the 'fmt ' chunk is ${body.length} bytes, shorter than the 16 every WAV needs; the file is damaged.`,
+    );
   }
   const v = new DataView(body.buffer, body.byteOffset, body.byteLength);
   let formatTag = v.getUint16(0, true);
@@ -70,7 +74,10 @@ export function parseFmtChunk(body: Uint8Array, path: string): WavFormat {
   if (formatTag === WAVE_FORMAT_EXTENSIBLE) {
     const cbSize = body.length >= 18 ? v.getUint16(16, true) : 0;
     if (cbSize < 22 || body.length < 40) {
-      throw new WavError('WAV_BAD_HEADER', `${path}: WAVE_FORMAT_EXTENSIBLE header is too short (${body.length} bytes, needs 40); the file is damaged.`);
+      throw new WavError(
+        'WAV_BAD_HEADER',
+        `${path}: WAVE_FORMAT_EXTENSIBLE header is too short (${body.length} bytes, needs 40); the file is damaged.`,
+      );
     }
     extensible = true;
     validBits = v.getUint16(18, true);
@@ -78,15 +85,23 @@ export function parseFmtChunk(body: Uint8Array, path: string): WavFormat {
     for (let i = 0; i < GUID_TAIL.length; i++) {
       if (body[26 + i] !== GUID_TAIL[i]) {
         const hex = Array.from(body.subarray(24, 40), (b) => b.toString(16).padStart(2, '0')).join('');
-        throw new WavError('WAV_UNSUPPORTED', `${path}: WAVE_FORMAT_EXTENSIBLE with an unknown sub-format GUID (${hex}); ${CONVERT_HINT}.`);
+        throw new WavError(
+          'WAV_UNSUPPORTED',
+          `${path}: WAVE_FORMAT_EXTENSIBLE with an unknown sub-format GUID (${hex}); ${CONVERT_HINT}.`,
+        );
       }
     }
     formatTag = v.getUint16(24, true);
   }
   if (channels === 0) throw new WavError('WAV_BAD_HEADER', `${path}: the header says 0 channels; the file is damaged.`);
-  if (sampleRate === 0) throw new WavError('WAV_BAD_HEADER', `${path}: the header says a sample rate of 0 Hz; the file is damaged.`);
+  if (sampleRate === 0)
+    throw new WavError('WAV_BAD_HEADER', `${path}: the header says a sample rate of 0 Hz; the file is damaged.`);
   // Checked before any buffer is sized by the channel count.
-  if (channels > MAX_CHANNELS) throw new WavError('WAV_UNSUPPORTED', `${path}: the header says ${channels} channels; floorline reads at most ${MAX_CHANNELS}.`);
+  if (channels > MAX_CHANNELS)
+    throw new WavError(
+      'WAV_UNSUPPORTED',
+      `${path}: the header says ${channels} channels; floorline reads at most ${MAX_CHANNELS}.`,
+    );
   const rate = rateProblem(sampleRate);
   if (rate) throw new WavError('WAV_UNSUPPORTED', `${path}: the header's ${rate}.`);
 
@@ -96,18 +111,28 @@ export function parseFmtChunk(body: Uint8Array, path: string): WavFormat {
     else if (bitsPerSample === 24) encoding = 'int24';
     else if (bitsPerSample === 32) encoding = 'int32';
     else {
-      throw new WavError('WAV_UNSUPPORTED', `${path}: ${bitsPerSample}-bit PCM is not supported (16, 24 and 32-bit are); ${CONVERT_HINT}.`);
+      throw new WavError(
+        'WAV_UNSUPPORTED',
+        `${path}: ${bitsPerSample}-bit PCM is not supported (16, 24 and 32-bit are); ${CONVERT_HINT}.`,
+      );
     }
   } else if (formatTag === WAVE_FORMAT_IEEE_FLOAT) {
     if (bitsPerSample === 32) encoding = 'float32';
     else if (bitsPerSample === 64) encoding = 'float64';
-    else throw new WavError('WAV_UNSUPPORTED', `${path}: ${bitsPerSample}-bit float is not supported (32 and 64-bit are); ${CONVERT_HINT}.`);
+    else
+      throw new WavError(
+        'WAV_UNSUPPORTED',
+        `${path}: ${bitsPerSample}-bit float is not supported (32 and 64-bit are); ${CONVERT_HINT}.`,
+      );
   } else {
     throw new WavError('WAV_UNSUPPORTED', `${path}: ${tagName(formatTag)} is not supported; ${CONVERT_HINT}.`);
   }
   const bytesPerSample = bitsPerSample / 8;
   if (validBits === 0 || validBits > bitsPerSample) {
-    throw new WavError('WAV_BAD_HEADER', `${path}: ${validBits} valid bits in a ${bitsPerSample}-bit container cannot be right; the file is damaged.`);
+    throw new WavError(
+      'WAV_BAD_HEADER',
+      `${path}: ${validBits} valid bits in a ${bitsPerSample}-bit container cannot be right; the file is damaged.`,
+    );
   }
   if (blockAlign !== bytesPerSample * channels) {
     throw new WavError(

@@ -77,7 +77,10 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
   const magic = head.length >= 4 ? fourcc(head, 0) : '';
   if (head.length < 12 || (magic !== 'RIFF' && magic !== 'RF64' && magic !== 'BW64') || fourcc(head, 8) !== 'WAVE') {
     const shown = head.length >= 4 ? JSON.stringify(fourcc(head, 0)) : `${fileBytes} bytes`;
-    throw new WavError('WAV_NOT_RIFF', `${path} is not a WAV file (starts with ${shown}, not "RIFF…WAVE"); give a RIFF/WAVE or RF64 recording.`);
+    throw new WavError(
+      'WAV_NOT_RIFF',
+      `${path} is not a WAV file (starts with ${shown}, not "RIFF…WAVE"); give a RIFF/WAVE or RF64 recording.`,
+    );
   }
   const container: Container = magic === 'RIFF' ? 'RIFF' : 'RF64';
   const warnings: string[] = [];
@@ -95,7 +98,11 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
   let chunks = 0;
   while (pos + 8 <= fileBytes) {
     // A real WAV has a handful of chunks; thousands of empty ones are a damaged or hostile file, not worth a walk.
-    if (++chunks > MAX_CHUNKS) throw new WavError('WAV_BAD_HEADER', `${path}: more than ${MAX_CHUNKS} chunks before the samples; the file is damaged.`);
+    if (++chunks > MAX_CHUNKS)
+      throw new WavError(
+        'WAV_BAD_HEADER',
+        `${path}: more than ${MAX_CHUNKS} chunks before the samples; the file is damaged.`,
+      );
     const ch = await readExactly(fh, 8, pos);
     if (!isChunkId(ch)) {
       // Not a chunk: bytes past the declared data, e.g. samples written after the last header update of a
@@ -113,7 +120,8 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
       if (container !== 'RF64') warnings.push(`${path}: a 'ds64' chunk in a plain RIFF file was ignored.`);
       else {
         const b = await readExactly(fh, 24, body);
-        if (b.length < 24) throw new WavError('WAV_BAD_HEADER', `${path}: the RF64 'ds64' chunk is cut short; the file is damaged.`);
+        if (b.length < 24)
+          throw new WavError('WAV_BAD_HEADER', `${path}: the RF64 'ds64' chunk is cut short; the file is damaged.`);
         ds64DataBytes = u64(b, 8);
       }
       ds64Offset = body;
@@ -121,16 +129,28 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
       ds64Offset = body; // reserved room for a future ds64 (EBU Tech 3306 §3.3)
     } else if (id === 'fmt ') {
       if (format) {
-        throw new WavError('WAV_BAD_HEADER', `${path}: a second 'fmt ' chunk at offset ${pos}; a WAV has one format, the file is damaged.`);
+        throw new WavError(
+          'WAV_BAD_HEADER',
+          `${path}: a second 'fmt ' chunk at offset ${pos}; a WAV has one format, the file is damaged.`,
+        );
       }
-      if (body + size > fileBytes) throw new WavError('WAV_BAD_HEADER', `${path}: the 'fmt ' chunk claims ${size} bytes, past the end of the file; the file is damaged.`);
+      if (body + size > fileBytes)
+        throw new WavError(
+          'WAV_BAD_HEADER',
+          `${path}: the 'fmt ' chunk claims ${size} bytes, past the end of the file; the file is damaged.`,
+        );
       format = parseFmtChunk(await readExactly(fh, Math.min(size, MAX_FMT_BYTES), body), path);
     } else if (id === 'fact') {
       factOffset = body;
     } else if (id === METADATA_CHUNK_ID && body + size > fileBytes) {
-      throw new WavError('WAV_BAD_HEADER', `${path}: the '${METADATA_CHUNK_ID}' chunk claims ${size} bytes, past the end of the file before any 'data'; the file is damaged.`);
+      throw new WavError(
+        'WAV_BAD_HEADER',
+        `${path}: the '${METADATA_CHUNK_ID}' chunk claims ${size} bytes, past the end of the file before any 'data'; the file is damaged.`,
+      );
     } else if (id === METADATA_CHUNK_ID && size > MAX_METADATA_BYTES) {
-      warnings.push(`${path}: its '${METADATA_CHUNK_ID}' chunk claims ${size} bytes, over the ${MAX_METADATA_BYTES} allowed; it was ignored.`);
+      warnings.push(
+        `${path}: its '${METADATA_CHUNK_ID}' chunk claims ${size} bytes, over the ${MAX_METADATA_BYTES} allowed; it was ignored.`,
+      );
     } else if (id === METADATA_CHUNK_ID) {
       const text = new TextDecoder().decode(await readExactly(fh, size, body));
       try {
@@ -139,12 +159,20 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
         warnings.push(`${(err as Error).message} It was ignored; the samples are read without it.`);
       }
     } else if (id === 'data') {
-      if (!format) throw new WavError('WAV_BAD_HEADER', `${path}: 'data' comes before 'fmt '; the file is damaged or not a standard WAV.`);
+      if (!format)
+        throw new WavError(
+          'WAV_BAD_HEADER',
+          `${path}: 'data' comes before 'fmt '; the file is damaged or not a standard WAV.`,
+        );
       dataOffset = body;
       dataSizeOffset = pos + 4;
       available = fileBytes - body;
       if (container === 'RF64' && size === U32_UNSET) {
-        if (ds64DataBytes < 0) throw new WavError('WAV_BAD_HEADER', `${path}: RF64 without a 'ds64' chunk before 'data'; the file is damaged.`);
+        if (ds64DataBytes < 0)
+          throw new WavError(
+            'WAV_BAD_HEADER',
+            `${path}: RF64 without a 'ds64' chunk before 'data'; the file is damaged.`,
+          );
         declared = ds64DataBytes;
       } else declared = size;
       // An unpatched size (0, or 0xFFFFFFFF in plain RIFF) or one past the end of the file: the rest of the file
@@ -167,16 +195,22 @@ export async function readWavLayout(fh: FileHandle, path: string): Promise<WavLa
     }
     pos = body + size + (size & 1);
   }
-  if (!format) throw new WavError('WAV_BAD_HEADER', `${path}: no 'fmt ' chunk; the file is damaged or not a standard WAV.`);
+  if (!format)
+    throw new WavError('WAV_BAD_HEADER', `${path}: no 'fmt ' chunk; the file is damaged or not a standard WAV.`);
   if (dataOffset < 0) throw new WavError('WAV_NO_DATA', `${path}: no 'data' chunk; the file holds no samples.`);
 
   let usable = declared;
   if (declared === 0 || (container === 'RIFF' && declared === U32_UNSET)) {
     usable = available;
-    if (available > 0) warnings.push(`${path}: the header's data size was never written (the recorder stopped without closing); read the ${available} bytes present.`);
+    if (available > 0)
+      warnings.push(
+        `${path}: the header's data size was never written (the recorder stopped without closing); read the ${available} bytes present.`,
+      );
   } else if (declared > available) {
     usable = available;
-    warnings.push(`${path}: the file is truncated (header says ${declared} data bytes, ${available} present); read to the last whole frame.`);
+    warnings.push(
+      `${path}: the file is truncated (header says ${declared} data bytes, ${available} present); read to the last whole frame.`,
+    );
   }
   const frames = Math.floor(usable / format.blockAlign);
   const partial = usable - frames * format.blockAlign;

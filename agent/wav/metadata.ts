@@ -3,7 +3,16 @@
 import type { AnalysisSettings } from '../../protocol/settings.ts';
 import type { ChannelCalibration, SourceKind } from '../../protocol/stream.ts';
 import { WavError } from './errors.ts';
-import { MAX_CHANNELS, MAX_NAME_LENGTH, hasControlCharacters, printable, MAX_FIRST_SAMPLE, WALL_TIME_MAX_MS, WALL_TIME_MIN_MS, rateProblem } from '../../protocol/limits.ts';
+import {
+  MAX_CHANNELS,
+  MAX_NAME_LENGTH,
+  hasControlCharacters,
+  printable,
+  MAX_FIRST_SAMPLE,
+  WALL_TIME_MAX_MS,
+  WALL_TIME_MIN_MS,
+  rateProblem,
+} from '../../protocol/limits.ts';
 
 /** Chunk id of the embedded metadata (our own naming: "floorline metadata"). */
 export const METADATA_CHUNK_ID = 'flmd';
@@ -51,12 +60,14 @@ function fail(where: string, what: string): never {
 export function validateMetadata(value: unknown, where: string): RecordingMetadata {
   if (typeof value !== 'object' || value === null || Array.isArray(value)) fail(where, 'metadata is not a JSON object');
   const m = value as Record<string, unknown>;
-  if (m.schema !== METADATA_SCHEMA) fail(where, `"schema" is ${JSON.stringify(m.schema)}, expected "${METADATA_SCHEMA}"`);
+  if (m.schema !== METADATA_SCHEMA)
+    fail(where, `"schema" is ${JSON.stringify(m.schema)}, expected "${METADATA_SCHEMA}"`);
   if (typeof m.sampleRate !== 'number' || !(m.sampleRate > 0)) fail(where, '"sampleRate" must be a positive number');
   const rate = rateProblem(m.sampleRate);
   if (rate) fail(where, `"sampleRate": ${rate}`);
   if (!Array.isArray(m.channels) || m.channels.length === 0) fail(where, '"channels" must be a non-empty array');
-  if (m.channels.length > MAX_CHANNELS) fail(where, `"channels" lists ${m.channels.length}; at most ${MAX_CHANNELS} are supported`);
+  if (m.channels.length > MAX_CHANNELS)
+    fail(where, `"channels" lists ${m.channels.length}; at most ${MAX_CHANNELS} are supported`);
   m.channels.forEach((c: unknown, i: number) => {
     const ch = c as Record<string, unknown>;
     if (typeof ch !== 'object' || ch === null) fail(where, `channels[${i}] is not an object`);
@@ -64,13 +75,15 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
     if (typeof ch.unit !== 'string' || ch.unit === '') fail(where, `channels[${i}].unit must be a non-empty string`);
     for (const k of ['name', 'unit'] as const) {
       const text = ch[k] as string;
-      if (text.length > MAX_NAME_LENGTH || hasControlCharacters(text)) fail(where, `channels[${i}].${k} must be at most ${MAX_NAME_LENGTH} printable characters`);
+      if (text.length > MAX_NAME_LENGTH || hasControlCharacters(text))
+        fail(where, `channels[${i}].${k} must be at most ${MAX_NAME_LENGTH} printable characters`);
     }
     for (const k of ['scale', 'gain', 'fullScaleCounts']) {
       if (ch[k] !== undefined && (typeof ch[k] !== 'number' || !Number.isFinite(ch[k] as number))) {
         fail(where, `channels[${i}].${k} must be a finite number`);
       }
-      if (ch[k] !== undefined && k !== 'gain' && !((ch[k] as number) > 0)) fail(where, `channels[${i}].${k} must be above 0, got ${ch[k]}`);
+      if (ch[k] !== undefined && k !== 'gain' && !((ch[k] as number) > 0))
+        fail(where, `channels[${i}].${k} must be above 0, got ${ch[k]}`);
     }
     if (ch.budget !== undefined) {
       const b = ch.budget as Record<string, unknown>;
@@ -82,16 +95,28 @@ export function validateMetadata(value: unknown, where: string): RecordingMetada
       }
     }
     const cal = ch.calibration as Record<string, unknown> | undefined;
-    if (cal !== undefined && (typeof cal !== 'object' || cal === null || typeof cal.unit !== 'string' || typeof cal.inputReferred !== 'boolean')) {
+    if (
+      cal !== undefined &&
+      (typeof cal !== 'object' ||
+        cal === null ||
+        typeof cal.unit !== 'string' ||
+        typeof cal.inputReferred !== 'boolean')
+    ) {
       fail(where, `channels[${i}].calibration must be an object with "unit" and "inputReferred"`);
     }
   });
-  if (typeof m.firstSample !== 'number' || !Number.isSafeInteger(m.firstSample) || m.firstSample < 0 || m.firstSample > MAX_FIRST_SAMPLE) {
+  if (
+    typeof m.firstSample !== 'number' ||
+    !Number.isSafeInteger(m.firstSample) ||
+    m.firstSample < 0 ||
+    m.firstSample > MAX_FIRST_SAMPLE
+  ) {
     fail(where, `"firstSample" must be an integer from 0 to 2^48`);
   }
   if (m.startWallTime !== undefined) {
     const ms = typeof m.startWallTime === 'string' ? Date.parse(m.startWallTime) : NaN;
-    if (!(ms >= WALL_TIME_MIN_MS && ms <= WALL_TIME_MAX_MS)) fail(where, '"startWallTime" must be an ISO-8601 time in years 1970…9999');
+    if (!(ms >= WALL_TIME_MIN_MS && ms <= WALL_TIME_MAX_MS))
+      fail(where, '"startWallTime" must be an ISO-8601 time in years 1970…9999');
   }
   return m as unknown as RecordingMetadata;
 }

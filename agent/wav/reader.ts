@@ -61,7 +61,9 @@ async function loadSidecar(path: string, warnings: string[]): Promise<RecordingM
     text = await readSmallTextFile(sidecarPath(path), MAX_METADATA_BYTES);
   } catch (err) {
     if ((err as NodeJS.ErrnoException).code === 'ENOENT') return undefined; // no sidecar: normal for files from elsewhere
-    warnings.push(`${err instanceof WavError ? err.message : `${sidecarPath(path)}: ${(err as Error).message}`} It was ignored; the samples are read without it.`);
+    warnings.push(
+      `${err instanceof WavError ? err.message : `${sidecarPath(path)}: ${(err as Error).message}`} It was ignored; the samples are read without it.`,
+    );
     return undefined;
   }
   try {
@@ -72,7 +74,11 @@ async function loadSidecar(path: string, warnings: string[]): Promise<RecordingM
   }
 }
 
-function describeChannels(layout: WavLayout, meta: RecordingMetadata | undefined, scale: number | undefined): WavChannel[] {
+function describeChannels(
+  layout: WavLayout,
+  meta: RecordingMetadata | undefined,
+  scale: number | undefined,
+): WavChannel[] {
   const { format, path } = layout;
   const isInt = format.encoding.startsWith('int');
   const fsc = fullScaleCounts(format.encoding);
@@ -143,7 +149,10 @@ export class WavReader {
       const fromSidecar = options.sidecar === false ? undefined : await loadSidecar(path, warnings);
       let metadata = fromSidecar ?? layout.embedded;
       const metadataFrom = fromSidecar ? 'sidecar' : layout.embedded ? 'chunk' : 'none';
-      if (metadata && (metadata.channels.length !== layout.format.channels || metadata.sampleRate !== layout.format.sampleRate)) {
+      if (
+        metadata &&
+        (metadata.channels.length !== layout.format.channels || metadata.sampleRate !== layout.format.sampleRate)
+      ) {
         warnings.push(
           `${path}: its metadata (${metadataFrom}) describes ${metadata.channels.length} channel(s) at ${metadata.sampleRate} Hz but the file has ` +
             `${layout.format.channels} at ${layout.format.sampleRate} Hz; the metadata was ignored.`,
@@ -202,7 +211,9 @@ export class WavReader {
     }
     const frames = Math.floor(got / blockAlign);
     if (frames === 0) {
-      this.info.warnings.push(`${this.info.path}: the file ended early at frame ${this.position} (it shrank while being read).`);
+      this.info.warnings.push(
+        `${this.info.path}: the file ended early at frame ${this.position} (it shrank while being read).`,
+      );
       this.position = this.info.frames;
       return null;
     }
@@ -219,7 +230,10 @@ export class WavReader {
 }
 
 /** Reads a whole (small) file into one Float64Array per channel: for tests and short clips. */
-export async function readWavFile(path: string, options: WavReaderOptions = {}): Promise<{ info: WavInfo; data: Float64Array[] }> {
+export async function readWavFile(
+  path: string,
+  options: WavReaderOptions = {},
+): Promise<{ info: WavInfo; data: Float64Array[] }> {
   const reader = await WavReader.open(path, options);
   try {
     const data = reader.info.channels.map(() => new Float64Array(reader.info.frames));

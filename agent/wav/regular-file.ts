@@ -10,7 +10,13 @@ export async function openRegularFile(path: string): Promise<FileHandle> {
   try {
     const st = await fh.stat();
     if (!st.isFile()) {
-      const what = st.isFIFO() ? 'a FIFO' : st.isCharacterDevice() || st.isBlockDevice() ? 'a device' : st.isDirectory() ? 'a folder' : 'not a regular file';
+      const what = st.isFIFO()
+        ? 'a FIFO'
+        : st.isCharacterDevice() || st.isBlockDevice()
+          ? 'a device'
+          : st.isDirectory()
+            ? 'a folder'
+            : 'not a regular file';
       throw new WavError('WAV_IO', `${path} is ${what}; give a regular file.`);
     }
     return fh;
@@ -25,7 +31,11 @@ export async function readSmallTextFile(path: string, maxBytes: number): Promise
   const fh = await openRegularFile(path);
   try {
     const { size } = await fh.stat();
-    if (size > maxBytes) throw new WavError('WAV_BAD_METADATA', `${path} is ${size} bytes, more than the ${maxBytes} a metadata file may be; fix or delete it.`);
+    if (size > maxBytes)
+      throw new WavError(
+        'WAV_BAD_METADATA',
+        `${path} is ${size} bytes, more than the ${maxBytes} a metadata file may be; fix or delete it.`,
+      );
     const buf = Buffer.alloc(size);
     const { bytesRead } = await fh.read(buf, 0, size, 0);
     return buf.subarray(0, bytesRead).toString('utf8');

@@ -34,26 +34,45 @@ export async function repairWav(path: string): Promise<RepairResult> {
       const next = new Uint8Array(8);
       await fh.read(next, 0, 8, declaredEnd + (layout.declaredDataBytes & 1));
       if (isChunkId(next)) {
-        throw new WavError('WAV_MISUSE', `${path}: a chunk follows the sample data, so its size is not from a crash; the file needs no repair.`);
+        throw new WavError(
+          'WAV_MISUSE',
+          `${path}: a chunk follows the sample data, so its size is not from a crash; the file needs no repair.`,
+        );
       }
     }
     const available = layout.fileBytes - layout.dataOffset;
     const frames = Math.floor(available / blockAlign);
     const dataBytes = frames * blockAlign;
     const droppedBytes = available - dataBytes;
-    const fields = { ds64Offset: layout.ds64Offset, dataSizeOffset: layout.dataSizeOffset, factOffset: layout.factOffset, dataOffset: layout.dataOffset };
+    const fields = {
+      ds64Offset: layout.ds64Offset,
+      dataSizeOffset: layout.dataSizeOffset,
+      factOffset: layout.factOffset,
+      dataOffset: layout.dataOffset,
+    };
     const result = sizePatches(fields, dataBytes, frames, layout.container === 'RF64');
     if (!result) {
-      throw new WavError('WAV_UNSUPPORTED', `${path}: ${dataBytes} data bytes need RF64 but the file has no JUNK chunk reserved for ds64; copy it with a tool that writes RF64.`);
+      throw new WavError(
+        'WAV_UNSUPPORTED',
+        `${path}: ${dataBytes} data bytes need RF64 but the file has no JUNK chunk reserved for ds64; copy it with a tool that writes RF64.`,
+      );
     }
-    const changed = droppedBytes > 0 || layout.declaredDataBytes !== dataBytes || result.rf64 !== (layout.container === 'RF64');
+    const changed =
+      droppedBytes > 0 || layout.declaredDataBytes !== dataBytes || result.rf64 !== (layout.container === 'RF64');
     if (changed) {
       if (droppedBytes > 0) await fh.truncate(layout.dataOffset + dataBytes);
       if (dataBytes & 1) await fh.write(new Uint8Array(1), 0, 1, layout.dataOffset + dataBytes); // RIFF pad byte
       for (const p of result.patches) await fh.write(p.bytes, 0, p.bytes.length, p.offset);
       await fh.datasync();
     }
-    return { path, container: result.rf64 ? 'RF64' : 'RIFF', frames, declaredBefore: layout.declaredDataBytes, droppedBytes, changed };
+    return {
+      path,
+      container: result.rf64 ? 'RF64' : 'RIFF',
+      frames,
+      declaredBefore: layout.declaredDataBytes,
+      droppedBytes,
+      changed,
+    };
   } catch (err) {
     throw wavIoError(err, path, 'write');
   } finally {

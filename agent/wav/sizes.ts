@@ -33,7 +33,13 @@ function ascii(s: string): Uint8Array {
  * Patches for `dataBytes` of samples (`frames` frames). RF64 is used when `rf64` is set or the RIFF size would
  * pass `rf64Above`; returns null when that is needed but the file has no room reserved for ds64.
  */
-export function sizePatches(f: SizeFields, dataBytes: number, frames: number, rf64: boolean, rf64Above = U32_MAX): { rf64: boolean; patches: Patch[] } | null {
+export function sizePatches(
+  f: SizeFields,
+  dataBytes: number,
+  frames: number,
+  rf64: boolean,
+  rf64Above = U32_MAX,
+): { rf64: boolean; patches: Patch[] } | null {
   const riffSize = f.dataOffset - 8 + dataBytes + (dataBytes & 1);
   const useRf64 = rf64 || riffSize > rf64Above;
   const patches: Patch[] = [];

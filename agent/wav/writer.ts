@@ -12,7 +12,13 @@
 import { closeSync, fdatasyncSync, lstatSync, openSync, renameSync, rmSync, writeFileSync, writeSync } from 'node:fs';
 import { WavError, wavIoError } from './errors.ts';
 import { WAVE_FORMAT_IEEE_FLOAT } from './format.ts';
-import { METADATA_CHUNK_ID, METADATA_SCHEMA, sidecarPath, validateMetadata, type RecordingMetadata } from './metadata.ts';
+import {
+  METADATA_CHUNK_ID,
+  METADATA_SCHEMA,
+  sidecarPath,
+  validateMetadata,
+  type RecordingMetadata,
+} from './metadata.ts';
 import { sizePatches } from './sizes.ts';
 
 function isRegularFile(p: string): boolean {
@@ -61,14 +67,19 @@ export class WavWriter {
 
   /** Creates (or truncates) `path` and writes the header and the sidecar `path`.json. */
   constructor(path: string, metadata: WavWriterMetadata, options: WavWriterOptions = {}) {
-    if (!LITTLE_ENDIAN_HOST) throw new WavError('WAV_MISUSE', 'WavWriter needs a little-endian host (WAV samples are little-endian).');
+    if (!LITTLE_ENDIAN_HOST)
+      throw new WavError('WAV_MISUSE', 'WavWriter needs a little-endian host (WAV samples are little-endian).');
     validateMetadata({ ...metadata, schema: METADATA_SCHEMA }, `metadata for ${path}`);
     const channels = metadata.channels.length;
     const sampleRate = metadata.sampleRate;
     if (!Number.isInteger(sampleRate) || sampleRate > U32_MAX) {
-      throw new WavError('WAV_MISUSE', `WavWriter: sampleRate must be a whole number of Hz for a WAV header, got ${sampleRate}.`);
+      throw new WavError(
+        'WAV_MISUSE',
+        `WavWriter: sampleRate must be a whole number of Hz for a WAV header, got ${sampleRate}.`,
+      );
     }
-    if (channels > 0xffff / 4) throw new WavError('WAV_MISUSE', `WavWriter: ${channels} channels is more than a WAV header holds (16383).`);
+    if (channels > 0xffff / 4)
+      throw new WavError('WAV_MISUSE', `WavWriter: ${channels} channels is more than a WAV header holds (16383).`);
     this.path = path;
     this.channels = channels;
     this.sampleRate = sampleRate;
@@ -128,7 +139,8 @@ export class WavWriter {
       // Nothing is left behind: a header-only (or empty) file on a full disk is no recording.
       closeSync(this.fd);
       // Only regular files: a device given as the path (e.g. /dev/full) must never be unlinked.
-      for (const p of [path, sidecarPath(path), `${sidecarPath(path)}.tmp`]) if (isRegularFile(p)) rmSync(p, { force: true });
+      for (const p of [path, sidecarPath(path), `${sidecarPath(path)}.tmp`])
+        if (isRegularFile(p)) rmSync(p, { force: true });
       throw err;
     }
   }
@@ -157,14 +169,21 @@ export class WavWriter {
     if (this.closed) throw new WavError('WAV_MISUSE', `${this.path}: append() after close().`);
     const channels = this.channels;
     if (!(Number.isInteger(frames) && Number.isInteger(start) && frames >= 0 && start >= 0)) {
-      throw new RangeError(`WavWriter.append: frames and start must be non-negative integers, got ${frames} and ${start}`);
+      throw new RangeError(
+        `WavWriter.append: frames and start must be non-negative integers, got ${frames} and ${start}`,
+      );
     }
     if (data.length !== channels) {
-      throw new WavError('WAV_MISUSE', `${this.path}: append() got ${data.length} channel arrays, the file has ${channels}.`);
+      throw new WavError(
+        'WAV_MISUSE',
+        `${this.path}: append() got ${data.length} channel arrays, the file has ${channels}.`,
+      );
     }
     for (let c = 0; c < channels; c++) {
       if (start + frames > data[c].length) {
-        throw new RangeError(`WavWriter.append: channel ${c} has ${data[c].length} samples, fewer than start ${start} + frames ${frames}`);
+        throw new RangeError(
+          `WavWriter.append: channel ${c} has ${data[c].length} samples, fewer than start ${start} + frames ${frames}`,
+        );
       }
     }
     const buf = this.interleaved;
@@ -231,7 +250,12 @@ export class WavWriter {
 
   private patchHeader(): void {
     const dataBytes = this.written * this.channels * 4;
-    const fields = { ds64Offset: 20, dataSizeOffset: this.dataSizeOffset, factOffset: this.factOffset, dataOffset: this.dataOffset };
+    const fields = {
+      ds64Offset: 20,
+      dataSizeOffset: this.dataSizeOffset,
+      factOffset: this.factOffset,
+      dataOffset: this.dataOffset,
+    };
     const result = sizePatches(fields, dataBytes, this.written, this.rf64, this.rf64Above);
     if (!result) throw new WavError('WAV_MISUSE', `${this.path}: no room reserved for ds64.`); // our layout always has it
     this.rf64 = result.rf64;

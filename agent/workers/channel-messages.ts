@@ -8,7 +8,8 @@ export interface ChannelWorkerData {
 }
 
 /** samples[0..frames) of one channel; the buffer is transferred and comes back in a 'free' message. */
-export type ToChannelWorker = { kind: 'block'; channel: number; frames: number; samples: Float64Array } | { kind: 'finish' };
+export type ToChannelWorker =
+  { kind: 'block'; channel: number; frames: number; samples: Float64Array } | { kind: 'finish' };
 
 export type FromChannelWorker =
   | { kind: 'free'; channel: number; samples: Float64Array }

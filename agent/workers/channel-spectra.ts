@@ -31,9 +31,16 @@ export interface ChannelSpectra {
   finish(): Promise<ChannelResult[]>;
 }
 
-export function makeEstimator(plan: ChannelEstimatorPlan, accept?: (first: number, last: number) => boolean): WelchEstimator {
+export function makeEstimator(
+  plan: ChannelEstimatorPlan,
+  accept?: (first: number, last: number) => boolean,
+): WelchEstimator {
   return new WelchEstimator({
-    sampleRate: plan.sampleRate, segment: plan.segment, window: plan.window, overlap: plan.overlap, detrend: plan.detrend,
+    sampleRate: plan.sampleRate,
+    segment: plan.segment,
+    window: plan.window,
+    overlap: plan.overlap,
+    detrend: plan.detrend,
     firstSample: plan.firstSample,
     // With the median averager injected, the spec only picks the equal-weight equivalent-averages formula.
     averaging: { mode: 'mean' },
@@ -43,7 +50,12 @@ export function makeEstimator(plan: ChannelEstimatorPlan, accept?: (first: numbe
 }
 
 export function resultOf(est: WelchEstimator): ChannelResult {
-  return { psd: est.psd(), segmentsUsed: est.segmentsUsed, segmentsExcluded: est.segmentsExcluded, equivalentAverages: est.equivalentAverages() };
+  return {
+    psd: est.psd(),
+    segmentsUsed: est.segmentsUsed,
+    segmentsExcluded: est.segmentsExcluded,
+    equivalentAverages: est.equivalentAverages(),
+  };
 }
 
 /** Every channel on the calling thread. */

@@ -20,6 +20,9 @@ port.on('message', (m: ToChannelWorker) => {
   } else {
     const results = channels.map((c) => ({ channel: c, ...resultOf(estimators.get(c)!) }));
     const reply: FromChannelWorker = { kind: 'result', results };
-    port.postMessage(reply, results.map((r) => r.psd.buffer as ArrayBuffer));
+    port.postMessage(
+      reply,
+      results.map((r) => r.psd.buffer as ArrayBuffer),
+    );
   }
 });

@@ -15,7 +15,8 @@ export class SpanWelch {
   private nextId = 0;
 
   constructor(readonly threads: number) {
-    if (!Number.isInteger(threads) || threads < 1) throw new RangeError(`SpanWelch: threads must be a positive integer, got ${threads}`);
+    if (!Number.isInteger(threads) || threads < 1)
+      throw new RangeError(`SpanWelch: threads must be a positive integer, got ${threads}`);
     const script = workerScript('span-worker.mjs');
     this.workers = Array.from({ length: threads }, () => {
       const w = new Worker(script);
@@ -39,7 +40,8 @@ export class SpanWelch {
     }
     const step = welchStep(options.segment, options.overlap);
     const total = samples.length < options.segment ? 0 : Math.floor((samples.length - options.segment) / step) + 1;
-    if (total === 0) throw new RangeError(`SpanWelch.psd: ${samples.length} samples hold no segment of ${options.segment}`);
+    if (total === 0)
+      throw new RangeError(`SpanWelch.psd: ${samples.length} samples hold no segment of ${options.segment}`);
     const spans = Math.min(this.workers.length, total);
     const parts = await Promise.all(
       Array.from({ length: spans }, (_, w) => {

@@ -12,7 +12,9 @@ export function defaultThreads(): number {
 export function resolveThreads(requested: number | undefined): number {
   if (requested === undefined) return defaultThreads();
   if (!Number.isInteger(requested) || requested < 1 || requested > MAX_THREADS) {
-    throw new RangeError(`--threads ${requested}: give a whole number of threads from 1 to ${MAX_THREADS} (default: cores − 1 = ${defaultThreads()})`);
+    throw new RangeError(
+      `--threads ${requested}: give a whole number of threads from 1 to ${MAX_THREADS} (default: cores − 1 = ${defaultThreads()})`,
+    );
   }
   return requested;
 }

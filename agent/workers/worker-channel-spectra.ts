@@ -93,7 +93,13 @@ export class WorkerChannelSpectra implements ChannelSpectra {
       wake?.();
       return;
     }
-    for (const r of m.results) this.results[r.channel] = { psd: r.psd, segmentsUsed: r.segmentsUsed, segmentsExcluded: r.segmentsExcluded, equivalentAverages: r.equivalentAverages };
+    for (const r of m.results)
+      this.results[r.channel] = {
+        psd: r.psd,
+        segmentsUsed: r.segmentsUsed,
+        segmentsExcluded: r.segmentsExcluded,
+        equivalentAverages: r.equivalentAverages,
+      };
     if (--this.resultsPending === 0) this.onResults?.();
   }
 

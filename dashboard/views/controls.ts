@@ -41,11 +41,19 @@ export class Controls {
   ) {
     const seg = $<HTMLSelectElement>('segment');
     seg.replaceChildren(...SEGMENTS.map((n) => new Option(String(n), String(n))));
-    $<HTMLSelectElement>('units').addEventListener('change', (e) => hooks.units((e.target as HTMLSelectElement).value as DensityUnit));
-    $<HTMLInputElement>('maxhold').addEventListener('change', (e) => hooks.maxHold((e.target as HTMLInputElement).checked));
+    $<HTMLSelectElement>('units').addEventListener('change', (e) =>
+      hooks.units((e.target as HTMLSelectElement).value as DensityUnit),
+    );
+    $<HTMLInputElement>('maxhold').addEventListener('change', (e) =>
+      hooks.maxHold((e.target as HTMLInputElement).checked),
+    );
     $('maxhold-reset').addEventListener('click', () => hooks.resetMaxHold());
-    $<HTMLInputElement>('show-baseline').addEventListener('change', (e) => hooks.baselineOverlay((e.target as HTMLInputElement).checked));
-    $<HTMLInputElement>('show-mains').addEventListener('change', (e) => hooks.mains((e.target as HTMLInputElement).checked));
+    $<HTMLInputElement>('show-baseline').addEventListener('change', (e) =>
+      hooks.baselineOverlay((e.target as HTMLInputElement).checked),
+    );
+    $<HTMLInputElement>('show-mains').addEventListener('change', (e) =>
+      hooks.mains((e.target as HTMLInputElement).checked),
+    );
     $('export-csv').addEventListener('click', () => hooks.exportCsv());
     $('export-png').addEventListener('click', () => hooks.exportPng());
     $('export-events').addEventListener('click', () => hooks.exportEvents());
@@ -53,7 +61,9 @@ export class Controls {
     $('capture-baseline').addEventListener('click', () => void this.captureBaseline());
     $('recording').addEventListener('click', () => void this.toggleRecording());
     $('zoom-reset')?.addEventListener('click', () => hooks.resetZoom());
-    $<HTMLInputElement>('follow-y')?.addEventListener('change', (e) => hooks.followY((e.target as HTMLInputElement).checked));
+    $<HTMLInputElement>('follow-y')?.addEventListener('change', (e) =>
+      hooks.followY((e.target as HTMLInputElement).checked),
+    );
     $('comparison-restore')?.addEventListener('click', () => void this.restoreComparison());
     document.addEventListener('keydown', (e) => this.onKey(e));
   }
@@ -133,8 +143,7 @@ export class Controls {
     banner.hidden = !off;
     const text = document.getElementById('comparison-text');
     if (off && text) {
-      text.textContent =
-        `Baseline comparison off since t = ${(this.comparisonOffSince ?? s.t).toFixed(1)} s: the analysis settings differ from the baseline's, so band alarms are not judged.`;
+      text.textContent = `Baseline comparison off since t = ${(this.comparisonOffSince ?? s.t).toFixed(1)} s: the analysis settings differ from the baseline's, so band alarms are not judged.`;
     }
     const back = document.getElementById('comparison-restore') as HTMLButtonElement | null;
     if (back) back.hidden = this.comparedSettings === null;
@@ -143,8 +152,11 @@ export class Controls {
   private async restoreComparison(): Promise<void> {
     const c = this.comparedSettings;
     if (!c) return;
-    const r = await this.send('analysis', () => this.link.request({ type: 'set-analysis', averaging: c.averaging, segment: c.segment, window: c.window }));
-    if (r) this.say(`back to segment ${c.segment}, ${c.window}: the baseline comparison resumes with the next spectrum`);
+    const r = await this.send('analysis', () =>
+      this.link.request({ type: 'set-analysis', averaging: c.averaging, segment: c.segment, window: c.window }),
+    );
+    if (r)
+      this.say(`back to segment ${c.segment}, ${c.window}: the baseline comparison resumes with the next spectrum`);
   }
 
   /** First call warns and arms; a second call within CONFIRM_MS goes ahead. */
@@ -172,10 +184,21 @@ export class Controls {
     const win = $<HTMLSelectElement>('window').value;
     const c = this.comparedSettings;
     if (this.status && Controls.comparing(this.status) && c && (c.segment !== seg || c.window !== win)) {
-      if (!this.confirmed('apply', `The baseline was taken with segment ${c.segment} and ${c.window}: with segment ${seg} and ${win} the band alarms stop comparing against it.`)) return;
+      if (
+        !this.confirmed(
+          'apply',
+          `The baseline was taken with segment ${c.segment} and ${c.window}: with segment ${seg} and ${win} the band alarms stop comparing against it.`,
+        )
+      )
+        return;
     }
     const r = await this.send('analysis', () =>
-      this.link.request({ type: 'set-analysis', averaging: this.averaging(), segment: Number($<HTMLSelectElement>('segment').value), window: $<HTMLSelectElement>('window').value }),
+      this.link.request({
+        type: 'set-analysis',
+        averaging: this.averaging(),
+        segment: Number($<HTMLSelectElement>('segment').value),
+        window: $<HTMLSelectElement>('window').value,
+      }),
     );
     if (r) this.say('analysis change sent; estimates restart with the next spectrum');
   }
@@ -185,7 +208,13 @@ export class Controls {
     const raised = this.status?.alarms.filter((a) => a.state === 'raised') ?? [];
     if (raised.length > 0) {
       const what = [...new Set(raised.map((a) => `${a.rule} on ${a.channel}`))].join(', ');
-      if (!this.confirmed('baseline', `Alarms are raised (${what}): a baseline captured now would hold the fault and hide it.`)) return;
+      if (
+        !this.confirmed(
+          'baseline',
+          `Alarms are raised (${what}): a baseline captured now would hold the fault and hide it.`,
+        )
+      )
+        return;
     }
     this.say(`capturing a baseline over the next ${seconds} s of sample time…`);
     const r = await this.send('baseline', () => this.link.request({ type: 'capture-baseline', seconds }));
@@ -193,12 +222,20 @@ export class Controls {
   }
 
   private async toggleRecording(): Promise<void> {
-    const r = await this.send('recording', () => this.link.request({ type: 'recording', action: this.recording ? 'stop' : 'start' }));
+    const r = await this.send('recording', () =>
+      this.link.request({ type: 'recording', action: this.recording ? 'stop' : 'start' }),
+    );
     if (r && r.ok && r.request === 'recording') {
       this.showStatus({ recording: r.result.recording } as AgentStatus);
       const rec = r.result.recording;
       this.recordingFileShown = rec.state !== 'recording' || rec.file !== undefined;
-      this.say(rec.state === 'recording' ? (rec.file ? `recording to ${rec.file}` : 'recording starts with the next block of samples…') : 'recording stopped');
+      this.say(
+        rec.state === 'recording'
+          ? rec.file
+            ? `recording to ${rec.file}`
+            : 'recording starts with the next block of samples…'
+          : 'recording stopped',
+      );
     }
   }
 

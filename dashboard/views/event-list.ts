@@ -85,7 +85,8 @@ export class EventList {
       if (!btn) continue;
       const rows = alarms.filter((x) => x.id === tr.dataset.alarm);
       if (rows.length === 0) continue;
-      if (rows.some((x) => x.state === 'raised' && x.acknowledged)) btn.replaceWith(document.createTextNode('acknowledged'));
+      if (rows.some((x) => x.state === 'raised' && x.acknowledged))
+        btn.replaceWith(document.createTextNode('acknowledged'));
       else if (rows.every((x) => x.state === 'clear')) btn.replaceWith(document.createTextNode('cleared'));
     }
   }

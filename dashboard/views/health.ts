@@ -19,10 +19,21 @@ export class HealthStrip {
       ['sync', 'link errors', count(s.syncErrors ?? 0), (s.syncErrors ?? 0) > 0],
       ['nonfinite', 'non-finite', count(s.nonfiniteFrames ?? 0), (s.nonfiniteFrames ?? 0) > 0],
       ['dropped', 'dropped blocks', count(s.droppedBlocks), s.droppedBlocks > 0],
-      ['recording', 'recording', s.recording.state === 'recording' ? `on → ${s.recording.file ?? ''}` : s.recording.state === 'failed' ? `FAILED: ${s.recording.error ?? ''}` : 'off', s.recording.state === 'failed'],
+      [
+        'recording',
+        'recording',
+        s.recording.state === 'recording'
+          ? `on → ${s.recording.file ?? ''}`
+          : s.recording.state === 'failed'
+            ? `FAILED: ${s.recording.error ?? ''}`
+            : 'off',
+        s.recording.state === 'failed',
+      ],
     ];
     if (this.list.children.length !== items.length) {
-      this.list.replaceChildren(...items.map(([id]) => Object.assign(document.createElement('li'), { id: `health-${id}` })));
+      this.list.replaceChildren(
+        ...items.map(([id]) => Object.assign(document.createElement('li'), { id: `health-${id}` })),
+      );
     }
     items.forEach(([, label, value, bad], i) => {
       const li = this.list.children[i] as HTMLElement;

@@ -12,7 +12,12 @@ export interface IncidentActions {
   note(text: string, incident?: string): Promise<string>;
 }
 
-const SHELVE_CHOICES: [number, string][] = [[600, '10 min'], [3600, '1 h'], [8 * 3600, '8 h'], [24 * 3600, '24 h']];
+const SHELVE_CHOICES: [number, string][] = [
+  [600, '10 min'],
+  [3600, '1 h'],
+  [8 * 3600, '8 h'],
+  [24 * 3600, '24 h'],
+];
 
 function el<K extends keyof HTMLElementTagNameMap>(tag: K, text = '', cls = ''): HTMLElementTagNameMap[K] {
   const e = document.createElement(tag);
@@ -23,7 +28,10 @@ function el<K extends keyof HTMLElementTagNameMap>(tag: K, text = '', cls = ''):
 
 export class IncidentPanel {
   private list: IncidentJson[] = [];
-  private readonly rendered = new Map<string, { actionsKey: string; moreKey: string; tr: HTMLTableRowElement; more: HTMLTableRowElement }>();
+  private readonly rendered = new Map<
+    string,
+    { actionsKey: string; moreKey: string; tr: HTMLTableRowElement; more: HTMLTableRowElement }
+  >();
   /** Alarm ids and the threshold of each incident, from the events that carry its id. */
   private readonly alarmsOf = new Map<string, Set<string>>();
   private readonly thresholdOf = new Map<string, number>();
@@ -69,8 +77,10 @@ export class IncidentPanel {
         const fresh = this.rowsOf(i, nowT);
         const cells = r.tr.cells;
         for (let k = 0; k < 7; k++) {
-          if (cells[k].textContent !== fresh[0].cells[k].textContent) cells[k].textContent = fresh[0].cells[k].textContent;
-          if (cells[k].dataset.value !== fresh[0].cells[k].dataset.value) cells[k].dataset.value = fresh[0].cells[k].dataset.value ?? '';
+          if (cells[k].textContent !== fresh[0].cells[k].textContent)
+            cells[k].textContent = fresh[0].cells[k].textContent;
+          if (cells[k].dataset.value !== fresh[0].cells[k].dataset.value)
+            cells[k].dataset.value = fresh[0].cells[k].dataset.value ?? '';
         }
         r.tr.className = fresh[0].className;
         if (r.actionsKey !== actionsKey) {
@@ -128,11 +138,17 @@ export class IncidentPanel {
     const td = el('td');
     td.colSpan = 8;
     const det = el('details');
-    det.append(el('summary', `${i.members.length} member${i.members.length === 1 ? '' : 's'}, ${i.notes.length} note${i.notes.length === 1 ? '' : 's'}`));
+    det.append(
+      el(
+        'summary',
+        `${i.members.length} member${i.members.length === 1 ? '' : 's'}, ${i.notes.length} note${i.notes.length === 1 ? '' : 's'}`,
+      ),
+    );
     const ul = el('ul');
     for (const m of i.members) ul.append(el('li', membersLine([m])));
     det.append(ul);
-    for (const n of i.notes) det.append(el('p', `note${n.t === null ? '' : ` at t = ${fixed(n.t, 1)} s`}: ${n.text}`, 'note'));
+    for (const n of i.notes)
+      det.append(el('p', `note${n.t === null ? '' : ` at t = ${fixed(n.t, 1)} s`}: ${n.text}`, 'note'));
     if (i.capture) {
       const p = el('p', '', 'capture');
       const a = el('a', 'capture file');
@@ -179,7 +195,8 @@ export class IncidentPanel {
       const input = document.getElementById('note-text') as HTMLInputElement | null;
       const target = document.getElementById('note-incident') as HTMLSelectElement | null;
       if (target) {
-        if (![...target.options].some((o) => o.value === i.id)) target.add(new Option(`${i.channel} t = ${fixed(i.start.t, 1)} s`, i.id));
+        if (![...target.options].some((o) => o.value === i.id))
+          target.add(new Option(`${i.channel} t = ${fixed(i.start.t, 1)} s`, i.id));
         target.value = i.id;
       }
       input?.focus();

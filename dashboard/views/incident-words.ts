@@ -36,12 +36,24 @@ export function membersLine(members: IncidentMemberJson[]): string {
   const parts: string[] = [];
   for (const [rule, ms] of byRule) {
     if (rule === 'mains') {
-      const h = [...new Set(ms.map((m) => m.harmonic).filter((x): x is number => x !== undefined))].sort((a, b) => a - b);
+      const h = [...new Set(ms.map((m) => m.harmonic).filter((x): x is number => x !== undefined))].sort(
+        (a, b) => a - b,
+      );
       parts.push(`mains harmonic${h.length > 1 ? 's' : ''} ${h.join(', ')}`);
     } else if (ms.some((m) => m.band)) {
-      parts.push(`${rule} ${ms.filter((m) => m.band).map((m) => `${short(m.band![0])}–${short(m.band![1])} Hz`).join(', ')}`);
+      parts.push(
+        `${rule} ${ms
+          .filter((m) => m.band)
+          .map((m) => `${short(m.band![0])}–${short(m.band![1])} Hz`)
+          .join(', ')}`,
+      );
     } else if (ms.some((m) => m.frequency !== undefined)) {
-      parts.push(`${rule} at ${ms.filter((m) => m.frequency !== undefined).map((m) => si(m.frequency!, 'Hz', 4)).join(', ')}`);
+      parts.push(
+        `${rule} at ${ms
+          .filter((m) => m.frequency !== undefined)
+          .map((m) => si(m.frequency!, 'Hz', 4))
+          .join(', ')}`,
+      );
     } else parts.push(rule);
   }
   return parts.join(' · ');

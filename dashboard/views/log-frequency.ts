@@ -36,7 +36,9 @@ export class LogFrequencyView {
     private readonly peaks: HTMLElement,
     private readonly contextLine: HTMLElement,
   ) {
-    new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.chart.clientWidth), height: 360 })).observe(chart);
+    new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.chart.clientWidth), height: 360 })).observe(
+      chart,
+    );
     chart.addEventListener('dblclick', () => this.resetZoom());
     chart.addEventListener('keydown', (e) => {
       if (e.key === 'Home' || e.key === 'Escape' || e.key === '0') {
@@ -49,7 +51,10 @@ export class LogFrequencyView {
       e.preventDefault();
       const n = this.ctx.frequency.length;
       const idx = Math.min(n - 1, Math.max(0, (this.cursorIdx ?? Math.floor(n / 2)) + step));
-      this.plot.setCursor({ left: this.plot.valToPos(this.ctx.frequency[idx], 'x'), top: this.plot.bbox.height / (2 * devicePixelRatio) });
+      this.plot.setCursor({
+        left: this.plot.valToPos(this.ctx.frequency[idx], 'x'),
+        top: this.plot.bbox.height / (2 * devicePixelRatio),
+      });
       this.cursorIdx = idx;
       this.showCursor();
     });
@@ -102,7 +107,8 @@ export class LogFrequencyView {
   private rebuild(): void {
     const ctx = this.ctx!;
     this.plot?.destroy();
-    const fmt = (_u: uPlot, v: number | null): string => (v == null ? '—' : si(v, `${ctx.channels[0]?.unit ?? 'V'}/√Hz`));
+    const fmt = (_u: uPlot, v: number | null): string =>
+      v == null ? '—' : si(v, `${ctx.channels[0]?.unit ?? 'V'}/√Hz`);
     const series: uPlot.Series[] = [{ label: 'Hz' }];
     const bands: uPlot.Band[] = [];
     ctx.channels.forEach((c, i) => {
@@ -126,19 +132,33 @@ export class LogFrequencyView {
         legend: { show: true, live: false },
         bands,
         scales: {
-          x: { time: false, distr: 3, log: 10, range: (_u, min, max) => (ctx.frequency.length ? [ctx.frequency[0], ctx.frequency[ctx.frequency.length - 1]] : [min, max]) },
+          x: {
+            time: false,
+            distr: 3,
+            log: 10,
+            range: (_u, min, max) =>
+              ctx.frequency.length ? [ctx.frequency[0], ctx.frequency[ctx.frequency.length - 1]] : [min, max],
+          },
           y: { distr: 3, log: 10, range: (_u, min, max) => paddedRange([[min, max]], true) },
         },
         axes: [
           { label: 'Frequency, Hz (log-spaced points)', stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
-          { label: `ASD, ${ctx.channels[0]?.unit ?? 'V'}/√Hz`, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+          {
+            label: `ASD, ${ctx.channels[0]?.unit ?? 'V'}/√Hz`,
+            size: 70,
+            values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))),
+            stroke: '#5b6670',
+            grid: { stroke: '#e6e1d6' },
+          },
         ],
         series,
         hooks: {
-          setCursor: [(p) => {
-            this.cursorIdx = p.cursor.idx ?? null;
-            this.showCursor();
-          }],
+          setCursor: [
+            (p) => {
+              this.cursorIdx = p.cursor.idx ?? null;
+              this.showCursor();
+            },
+          ],
         },
       },
       this.data as uPlot.AlignedData,
@@ -168,7 +188,8 @@ export class LogFrequencyView {
         this.data[at][p] = ch?.asd[p] ?? null;
         this.data[at + 1][p] = ch?.upper[p] ?? null;
         this.data[at + 2][p] = ch?.lower[p] ?? null;
-        this.data[at + 3][p] = fit && f <= ctx.fitMaxHz ? fit.whiteAsd * Math.sqrt(1 + (fit.corner / f) ** fit.exponent) : null;
+        this.data[at + 3][p] =
+          fit && f <= ctx.fitMaxHz ? fit.whiteAsd * Math.sqrt(1 + (fit.corner / f) ** fit.exponent) : null;
         this.data[at + 4][p] = base ? this.baselineAt(base, f) : null;
       }
     });
@@ -212,7 +233,12 @@ export class LogFrequencyView {
       const row = el('p', 'lf-fit');
       row.dataset.channel = c.name;
       if (fit) {
-        Object.assign(row.dataset, { white: String(fit.whiteAsd), corner: String(fit.corner), alpha: String(fit.exponent), sample: String(fit.sample) });
+        Object.assign(row.dataset, {
+          white: String(fit.whiteAsd),
+          corner: String(fit.corner),
+          alpha: String(fit.exponent),
+          sample: String(fit.sample),
+        });
         row.textContent =
           `${c.name}: white ${si(fit.whiteAsd, d)} ± ${si(fit.whiteAsdSigma, d)} · corner ${si(fit.corner, 'Hz')} ± ${si(fit.cornerSigma, 'Hz')} · ` +
           `α ${fixed(fit.exponent, 2)} ± ${fit.exponentFree ? fixed(fit.exponentSigma, 2) : 'fixed'} (fit to ${fit.points} points${fit.excludedPoints ? `, ${fit.excludedPoints} left out as lines` : ''} at t = ${fixed(fit.t, 1)} s)`;
@@ -223,12 +249,36 @@ export class LogFrequencyView {
       box.dataset.channel = c.name;
       box.append(el('dt', '', c.name));
       if (pp) {
-        Object.assign(box.dataset, { ptp: String(pp.peakToPeak), rms: String(pp.rms), g66: String(pp.gaussianPeakToPeak), sample: String(pp.sample) });
-        for (const [label, v] of [['peak-to-peak (max − min)', pp.peakToPeak], ['RMS', pp.rms], ['6.6σ (Gaussian-equivalent p-p)', pp.gaussianPeakToPeak]] as const) {
+        Object.assign(box.dataset, {
+          ptp: String(pp.peakToPeak),
+          rms: String(pp.rms),
+          g66: String(pp.gaussianPeakToPeak),
+          sample: String(pp.sample),
+        });
+        for (const [label, v] of [
+          ['peak-to-peak (max − min)', pp.peakToPeak],
+          ['RMS', pp.rms],
+          ['6.6σ (Gaussian-equivalent p-p)', pp.gaussianPeakToPeak],
+        ] as const) {
           box.append(el('dd', '', `${label}: ${si(v, c.unit)}`));
         }
-        box.append(el('dd', 'context', `samples ${count(pp.startSample)}–${count(pp.sample)} (t = ${fixed(pp.startSample / ctx.sampleRate, 1)}–${fixed(pp.t, 1)} s)`));
-      } else box.append(el('dd', 'context', ctx.peakToPeak ? `first window after ${fixed(ctx.peakToPeak.settleSeconds + ctx.peakToPeak.windowSeconds, 1)} s of sample time` : 'sample rate too low for 0.1–10 Hz'));
+        box.append(
+          el(
+            'dd',
+            'context',
+            `samples ${count(pp.startSample)}–${count(pp.sample)} (t = ${fixed(pp.startSample / ctx.sampleRate, 1)}–${fixed(pp.t, 1)} s)`,
+          ),
+        );
+      } else
+        box.append(
+          el(
+            'dd',
+            'context',
+            ctx.peakToPeak
+              ? `first window after ${fixed(ctx.peakToPeak.settleSeconds + ctx.peakToPeak.windowSeconds, 1)} s of sample time`
+              : 'sample rate too low for 0.1–10 Hz',
+          ),
+        );
       ppRows.push(box);
     });
     this.contextLine.textContent =
@@ -246,7 +296,11 @@ export class LogFrequencyView {
     const u = this.latest;
     const parts = ctx.channels.map((c, i) => `${c.name} ${si(u?.channels[i]?.asd[p] ?? null, `${c.unit}/√Hz`)}`);
     const avg = u?.channels[0]?.averages[p];
-    Object.assign(this.readout.dataset, { index: String(p), frequency: String(ctx.frequency[p]), rbw: String(ctx.rbwHz[p]) });
+    Object.assign(this.readout.dataset, {
+      index: String(p),
+      frequency: String(ctx.frequency[p]),
+      rbw: String(ctx.rbwHz[p]),
+    });
     this.readout.textContent = `${si(ctx.frequency[p], 'Hz', 4)}: ${parts.join(' · ')} · RBW ${si(ctx.rbwHz[p], 'Hz')} · ${avg ?? 0} averages`;
   }
 }

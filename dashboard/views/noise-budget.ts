@@ -20,8 +20,12 @@ export type BudgetResult = BudgetTerms;
 
 export function noiseBudget(b: BudgetInputs, sampleRate: number): BudgetResult {
   return budgetTerms({
-    sourceOhms: b.ohms, kelvin: b.kelvin, amplifierDensity: b.enNv * 1e-9, amplifierCurrent: b.inPa * 1e-12,
-    quantisation: quantizationDensity(b.spanV, b.bits, sampleRate), gain: b.gain,
+    sourceOhms: b.ohms,
+    kelvin: b.kelvin,
+    amplifierDensity: b.enNv * 1e-9,
+    amplifierCurrent: b.inPa * 1e-12,
+    quantisation: quantizationDensity(b.spanV, b.bits, sampleRate),
+    gain: b.gain,
   });
 }
 
@@ -44,8 +48,13 @@ export class NoiseBudgetForm {
     const show = (this.form.querySelector('#nb-show') as HTMLInputElement).checked;
     if (!this.sampleRate) return;
     const inputs: BudgetInputs = {
-      ohms: this.read('nb-r'), kelvin: this.read('nb-t'), enNv: this.read('nb-en'), inPa: this.read('nb-in'),
-      bits: this.read('nb-bits'), spanV: this.read('nb-span'), gain: this.read('nb-gain'),
+      ohms: this.read('nb-r'),
+      kelvin: this.read('nb-t'),
+      enNv: this.read('nb-en'),
+      inPa: this.read('nb-in'),
+      bits: this.read('nb-bits'),
+      spanV: this.read('nb-span'),
+      gain: this.read('nb-gain'),
     };
     try {
       if (!(inputs.gain > 0)) throw new RangeError('gain must be above 0');

@@ -190,7 +190,9 @@ export class SpectrumView {
   }
 
   setBands(rows: BandRow[]): void {
-    const changed = rows.length !== this.bands.length || rows.some((r, i) => r.thresholdDb !== this.bands[i]?.thresholdDb || r.low !== this.bands[i]?.low);
+    const changed =
+      rows.length !== this.bands.length ||
+      rows.some((r, i) => r.thresholdDb !== this.bands[i]?.thresholdDb || r.low !== this.bands[i]?.low);
     this.bands = rows;
     if (changed) {
       this.recomputeOverlays();
@@ -284,15 +286,62 @@ export class SpectrumView {
     const unit = ctx.channels[0]?.unit ?? 'V';
     const label = densityLabel(this.units, unit);
     const series: uPlot.Series[] = [{ label: 'f', value: (_u, v) => (v == null ? '—' : hz(v)) }];
-    const fmt = (_u: uPlot, v: number | null) => (v == null || !Number.isFinite(v) ? '—' : this.units === 'dbv' ? `${v.toFixed(1)}` : si(v, ''));
+    const fmt = (_u: uPlot, v: number | null) =>
+      v == null || !Number.isFinite(v) ? '—' : this.units === 'dbv' ? `${v.toFixed(1)}` : si(v, '');
     // A channel's own colour and line style on every trace of it: live solid or its dash, max-hold faint, the
     // baseline long-dashed and the threshold dotted, in the same hue.
-    for (let c = 0; c < C; c++) series.push({ label: ctx.channels[c].name, stroke: channelColour(c), dash: channelDash(c), width: 1.25, value: fmt, spanGaps: false });
-    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} max`, stroke: withAlpha(channelColour(c), 0.45), dash: channelDash(c), width: 1, show: this.overlays.maxHold, value: fmt });
-    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} baseline`, stroke: withAlpha(channelColour(c), 0.8), dash: [8, 4], width: 1, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
-    for (let c = 0; c < C; c++) series.push({ label: `${ctx.channels[c].name} threshold`, stroke: withAlpha(channelColour(c), 0.65), dash: [1.5, 3], width: 1.5, show: this.overlays.baseline && this.baselineFrame !== null, value: fmt });
-    series.push({ label: 'expected floor', stroke: '#2f7d32', dash: [10, 4], width: 1.5, show: this.overlays.expectedFloor !== null, value: fmt });
-    this.data = [this.x, ...this.live, ...this.held, ...this.base, ...this.thr, this.floor] as unknown as uPlot.AlignedData;
+    for (let c = 0; c < C; c++)
+      series.push({
+        label: ctx.channels[c].name,
+        stroke: channelColour(c),
+        dash: channelDash(c),
+        width: 1.25,
+        value: fmt,
+        spanGaps: false,
+      });
+    for (let c = 0; c < C; c++)
+      series.push({
+        label: `${ctx.channels[c].name} max`,
+        stroke: withAlpha(channelColour(c), 0.45),
+        dash: channelDash(c),
+        width: 1,
+        show: this.overlays.maxHold,
+        value: fmt,
+      });
+    for (let c = 0; c < C; c++)
+      series.push({
+        label: `${ctx.channels[c].name} baseline`,
+        stroke: withAlpha(channelColour(c), 0.8),
+        dash: [8, 4],
+        width: 1,
+        show: this.overlays.baseline && this.baselineFrame !== null,
+        value: fmt,
+      });
+    for (let c = 0; c < C; c++)
+      series.push({
+        label: `${ctx.channels[c].name} threshold`,
+        stroke: withAlpha(channelColour(c), 0.65),
+        dash: [1.5, 3],
+        width: 1.5,
+        show: this.overlays.baseline && this.baselineFrame !== null,
+        value: fmt,
+      });
+    series.push({
+      label: 'expected floor',
+      stroke: '#2f7d32',
+      dash: [10, 4],
+      width: 1.5,
+      show: this.overlays.expectedFloor !== null,
+      value: fmt,
+    });
+    this.data = [
+      this.x,
+      ...this.live,
+      ...this.held,
+      ...this.base,
+      ...this.thr,
+      this.floor,
+    ] as unknown as uPlot.AlignedData;
     const log = isLogAxis(this.units);
     const opts: uPlot.Options = {
       width: Math.max(300, this.el.clientWidth),
@@ -302,21 +351,40 @@ export class SpectrumView {
       cursor: { drag: { x: true, y: false }, focus: { prox: 16 } },
       scales: {
         // x runs from the first bin to Nyquist exactly (a log scale would otherwise snap out to the next decade).
-        x: { time: false, distr: 3, log: 10, range: (_u, min, max) => (this.x.length ? [this.x[0], this.x[this.x.length - 1]] : [min, max]) },
+        x: {
+          time: false,
+          distr: 3,
+          log: 10,
+          range: (_u, min, max) => (this.x.length ? [this.x[0], this.x[this.x.length - 1]] : [min, max]),
+        },
         // y is never auto-ranged per frame: it holds the range set by resetZoom (fixed, or the data on request).
         y: { ...(log ? { distr: 3, log: 10 } : { distr: 1 }), auto: false, range: () => this.yRange() },
       },
       axes: [
-        { label: 'Frequency, Hz', splits: (_u, _i, min, max) => logTicks(min, max), values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${short(v / 1000)}k` : short(v))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
-        { label, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : log ? si(v, '', 2) : v.toFixed(0))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+        {
+          label: 'Frequency, Hz',
+          splits: (_u, _i, min, max) => logTicks(min, max),
+          values: (_u, vals) => vals.map((v) => (v == null ? '' : v >= 1000 ? `${short(v / 1000)}k` : short(v))),
+          stroke: '#5b6670',
+          grid: { stroke: '#e6e1d6' },
+        },
+        {
+          label,
+          size: 70,
+          values: (_u, vals) => vals.map((v) => (v == null ? '' : log ? si(v, '', 2) : v.toFixed(0))),
+          stroke: '#5b6670',
+          grid: { stroke: '#e6e1d6' },
+        },
       ],
       series,
       hooks: {
         drawClear: [(u) => this.drawBackdrop(u)],
-        setCursor: [(u) => {
-          this.cursorIdx = u.cursor.idx ?? null;
-          if (this.cursorIdx !== null) this.showReadout(this.cursorIdx);
-        }],
+        setCursor: [
+          (u) => {
+            this.cursorIdx = u.cursor.idx ?? null;
+            if (this.cursorIdx !== null) this.showReadout(this.cursorIdx);
+          },
+        ],
       },
     };
     this.plot = new uPlot(opts, this.data, this.el);
@@ -380,7 +448,12 @@ export class SpectrumView {
       const psd = Float64Array.from(f.values[c]); // dsp/tone.ts reads float64; a copy only when the cursor moves
       const bin = idx + 1;
       const d = fromPsd(this.units, psd[bin]);
-      const dens = d === null ? '—' : this.units === 'dbv' ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}` : si(d, densityLabel(this.units, unit));
+      const dens =
+        d === null
+          ? '—'
+          : this.units === 'dbv'
+            ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}`
+            : si(d, densityLabel(this.units, unit));
       // Line level: the largest bin within one main lobe of the cursor, its lobe's power less the local floor's
       // share (dsp/tone.ts lineAboveFloor, the rule the spur and mains events use; floor = local median as there).
       const peak = peakBin(psd, Math.max(1, bin - h), Math.min(psd.length - 1, bin + h));

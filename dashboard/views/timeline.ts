@@ -24,7 +24,10 @@ export interface TimelineQuery {
  *  wall clock; a replay's ends at its newest sample (`sampleNow`, seconds of sample time), since its wall-time
  *  labels come from the recording. */
 export function trendUrl(q: TimelineQuery, points: number, sampleNow: number | null = null, now = Date.now()): string {
-  const from = sampleNow === null ? new Date(now - SPANS[q.span].seconds * 1000).toISOString() : `t=${Math.max(0, sampleNow - SPANS[q.span].seconds)}`;
+  const from =
+    sampleNow === null
+      ? new Date(now - SPANS[q.span].seconds * 1000).toISOString()
+      : `t=${Math.max(0, sampleNow - SPANS[q.span].seconds)}`;
   const p = new URLSearchParams({
     channel: q.channel,
     from,
@@ -38,8 +41,18 @@ export function trendUrl(q: TimelineQuery, points: number, sampleNow: number | n
 /** The series a query asks for out of a reply (band RMS of that band, or the floor density). */
 export function pickSeries(reply: TrendReply, q: TimelineQuery): TrendSeriesJson | null {
   return (
-    reply.series.find((s) =>
-      s.channel === q.channel && (q.what === 'floor' ? s.quantity === 'floorDensity' : s.quantity === 'bandRms' && s.band !== null && `${short(s.band[0])}:${short(s.band[1])}` === q.what.split(':').map((x) => short(Number(x))).join(':')),
+    reply.series.find(
+      (s) =>
+        s.channel === q.channel &&
+        (q.what === 'floor'
+          ? s.quantity === 'floorDensity'
+          : s.quantity === 'bandRms' &&
+            s.band !== null &&
+            `${short(s.band[0])}:${short(s.band[1])}` ===
+              q.what
+                .split(':')
+                .map((x) => short(Number(x)))
+                .join(':')),
     ) ?? null
   );
 }
@@ -55,8 +68,13 @@ export class TimelineView {
   lastDrawMs = 0;
   series: TrendSeriesJson | null = null;
 
-  constructor(private readonly el: HTMLElement, private readonly info: HTMLElement) {
-    new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.el.clientWidth), height: 220 })).observe(el);
+  constructor(
+    private readonly el: HTMLElement,
+    private readonly info: HTMLElement,
+  ) {
+    new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.el.clientWidth), height: 220 })).observe(
+      el,
+    );
   }
 
   /** Shows one series; rows marked as gaps become breaks in the line (null values, spanGaps off). */
@@ -79,7 +97,13 @@ export class TimelineView {
       hi.push(ok && r.max !== null && r.max > 0 ? r.max : null);
     }
     this.data = [x, mean, lo, hi];
-    const unit = s ? (s.quantity === 'floorDensity' ? (s.unit.includes('√Hz') ? s.unit : `${s.unit}/√Hz`) : `${s.unit} rms`) : 'V';
+    const unit = s
+      ? s.quantity === 'floorDensity'
+        ? s.unit.includes('√Hz')
+          ? s.unit
+          : `${s.unit}/√Hz`
+        : `${s.unit} rms`
+      : 'V';
     if (!this.plot || unit !== this.unit) this.rebuild(unit);
     else this.plot.setData(this.data as uPlot.AlignedData, true);
     const gaps = rows.filter((r) => r.gap).length;
@@ -105,7 +129,13 @@ export class TimelineView {
         scales: { x: { time: true }, y: { distr: 3, log: 10 } },
         axes: [
           { stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
-          { label: unit, size: 70, values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+          {
+            label: unit,
+            size: 70,
+            values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))),
+            stroke: '#5b6670',
+            grid: { stroke: '#e6e1d6' },
+          },
         ],
         series: [
           { label: 'time' },
@@ -155,7 +185,8 @@ export class TimelineView {
     if (!s) return '';
     const unit = s.quantity === 'floorDensity' ? `${s.unit}/sqrtHz` : s.unit;
     const lines = [`wall_time,t_s,sample,min_${unit},mean_${unit},max_${unit},gap`];
-    for (const r of s.rows) lines.push([r.wallTime, r.t, r.sample, r.min ?? 'nan', r.mean ?? 'nan', r.max ?? 'nan', r.gap ? 1 : 0].join(','));
+    for (const r of s.rows)
+      lines.push([r.wallTime, r.t, r.sample, r.min ?? 'nan', r.mean ?? 'nan', r.max ?? 'nan', r.gap ? 1 : 0].join(','));
     return lines.join('\n') + '\n';
   }
 }

@@ -29,14 +29,24 @@ export class TraceView {
     this.t = new Float64Array(f.length);
     this.ys = Array.from({ length: f.channels }, () => new Float64Array(f.length));
     const series: uPlot.Series[] = [{ label: 't s' }];
-    for (let c = 0; c < f.channels; c++) series.push({ label: names[c] ?? `ch${c}`, stroke: channelColour(c), width: 1, value: (_u, v) => si(v, unit) });
+    for (let c = 0; c < f.channels; c++)
+      series.push({ label: names[c] ?? `ch${c}`, stroke: channelColour(c), width: 1, value: (_u, v) => si(v, unit) });
     this.plot = new uPlot(
       {
         width: Math.max(300, this.el.clientWidth),
         height: 170,
         legend: { show: true, live: false },
         scales: { x: { time: false } },
-        axes: [{ label: 'Sample time, s', stroke: '#5b6670', grid: { stroke: '#e6e1d6' } }, { label: unit, size: 70, values: (_u, v) => v.map((x) => (x == null ? '' : si(x, '', 2))), stroke: '#5b6670', grid: { stroke: '#e6e1d6' } }],
+        axes: [
+          { label: 'Sample time, s', stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
+          {
+            label: unit,
+            size: 70,
+            values: (_u, v) => v.map((x) => (x == null ? '' : si(x, '', 2))),
+            stroke: '#5b6670',
+            grid: { stroke: '#e6e1d6' },
+          },
+        ],
         series,
       },
       [this.t, ...this.ys] as unknown as uPlot.AlignedData,

@@ -2,7 +2,13 @@
 
 /** For each of `width` columns spanning [fLow, fHigh] on a log axis: the first and last bin whose centre lies
  *  in the column; a column narrower than a bin shows the bin nearest its centre. Bin k sits at k·binHz. */
-export function logColumns(width: number, bins: number, binHz: number, fLow: number, fHigh: number): { first: Int32Array<ArrayBuffer>; last: Int32Array<ArrayBuffer> } {
+export function logColumns(
+  width: number,
+  bins: number,
+  binHz: number,
+  fLow: number,
+  fHigh: number,
+): { first: Int32Array<ArrayBuffer>; last: Int32Array<ArrayBuffer> } {
   const first = new Int32Array(width);
   const last = new Int32Array(width);
   const lo = Math.log10(fLow);

@@ -12,7 +12,11 @@ export const FLOOR_ABOVE_DB = 40;
 
 /** Our own colour ramp: deep ink → blue → teal → sand → paper. */
 const STOPS: [number, number, number][] = [
-  [16, 24, 43], [29, 78, 137], [42, 157, 143], [233, 196, 106], [253, 246, 227],
+  [16, 24, 43],
+  [29, 78, 137],
+  [42, 157, 143],
+  [233, 196, 106],
+  [253, 246, 227],
 ];
 
 function buildLut(): Uint8ClampedArray {
@@ -190,7 +194,11 @@ export class WaterfallView {
     this.axisText.textContent =
       `newest row at the top, t = ${this.newestT.toFixed(1)} s (sample time); about ${spanS.toFixed(0)} s shown at 10 spectra/s; ` +
       `${this.snapshotsPerRow} spectra per row (max); colours ${this.lowDb}…${this.highDb} ${densityLabel('dbv', this.unit)}` +
-      (this.rangeSource === 'baseline' ? ` (baseline floor −${FLOOR_BELOW_DB} to +${FLOOR_ABOVE_DB} dB)` : this.rangeSource ? ` (${this.rangeSource})` : '');
+      (this.rangeSource === 'baseline'
+        ? ` (baseline floor −${FLOOR_BELOW_DB} to +${FLOOR_ABOVE_DB} dB)`
+        : this.rangeSource
+          ? ` (${this.rangeSource})`
+          : '');
     if (this.rows % 10 === 1) this.drawAxes();
   }
 
@@ -214,7 +222,11 @@ export class WaterfallView {
             if (f < this.fLow || f > this.fHigh) continue;
             const x = Math.round(this.columnOf(f)) + 0.5;
             c.fillRect(x, 0, 1, 4 * dpr);
-            c.fillText(f >= 1000 ? `${f / 1000}k` : `${f}`, Math.min(fa.width - 12 * dpr, Math.max(12 * dpr, x)), fa.height);
+            c.fillText(
+              f >= 1000 ? `${f / 1000}k` : `${f}`,
+              Math.min(fa.width - 12 * dpr, Math.max(12 * dpr, x)),
+              fa.height,
+            );
           }
         }
       }
@@ -290,5 +302,4 @@ export class WaterfallView {
     c.textAlign = 'left';
     c.fillText(densityLabel('dbv', this.unit), barW + 8 * dpr, 0);
   }
-
 }

@@ -26,7 +26,11 @@ function widen([lo, hi]: [number, number], log: boolean): [number, number] {
 }
 
 /** The fixed range from the baseline, thresholds and expected floor, or null when none is known yet. */
-export function fixedDensityRange(reference: ArrayLike<number | null>[], floor: ArrayLike<number>, log: boolean): [number, number] | null {
+export function fixedDensityRange(
+  reference: ArrayLike<number | null>[],
+  floor: ArrayLike<number>,
+  log: boolean,
+): [number, number] | null {
   const e = extent([...reference, floor], log);
   return e ? widen(e, log) : null;
 }

@@ -48,7 +48,8 @@ export class AlarmState {
   constructor(timing: AlarmTiming) {
     for (const k of ['onDelay', 'offDelay', 'reAlarm'] as const) {
       const v = timing[k];
-      if (!Number.isInteger(v) || v < 0) throw new RangeError(`AlarmState: ${k} must be a whole number of samples ≥ 0, got ${v}`);
+      if (!Number.isInteger(v) || v < 0)
+        throw new RangeError(`AlarmState: ${k} must be a whole number of samples ≥ 0, got ${v}`);
     }
     if (!(timing.deadband >= 0) || !Number.isFinite(timing.deadband)) {
       throw new RangeError(`AlarmState: deadband must be a finite number ≥ 0, got ${timing.deadband}`);
@@ -83,7 +84,8 @@ export class AlarmState {
       case NORMAL:
       case PENDING: {
         if (this.rearmOnRecent && !(level >= threshold - this.deadband)) this.rearmOnRecent = false;
-        const up = level > threshold && (this.rearmOnRecent ? recent > threshold : !(recent < threshold - this.deadband));
+        const up =
+          level > threshold && (this.rearmOnRecent ? recent > threshold : !(recent < threshold - this.deadband));
         if (!up) {
           this.phase = NORMAL;
           return AlarmTransition.None;

@@ -55,7 +55,8 @@ export class BandCompare {
     this.baselinePower = new Float64Array(n);
     this.baselinePsd = o.baselinePsd;
     this.baselineK = o.baselineEquivalentAverages;
-    if (!(this.baselineK > 0)) throw new RangeError(`BandCompare: baseline equivalent averages must be > 0, got ${this.baselineK}`);
+    if (!(this.baselineK > 0))
+      throw new RangeError(`BandCompare: baseline equivalent averages must be > 0, got ${this.baselineK}`);
     this.cachedK = new Float64Array(n).fill(-1);
     this.cachedBins = new Int32Array(n);
     this.levelDb = new Float64Array(n);
@@ -67,14 +68,18 @@ export class BandCompare {
     for (let b = 0; b < n; b++) {
       const { low, high } = o.bands[b];
       const { first: lo, last: hi } = bandBins(bins, o.binHz, low, high);
-      if (hi < lo) throw new RangeError(`band ${low}:${high} Hz holds no bin centre (bins are ${o.binHz} Hz apart); widen it`);
+      if (hi < lo)
+        throw new RangeError(`band ${low}:${high} Hz holds no bin centre (bins are ${o.binHz} Hz apart); widen it`);
       this.firstBin[b] = lo;
       this.lastBin[b] = hi;
       this.binsIn[b] = hi - lo + 1;
       let p = 0;
       for (let k = lo; k <= hi; k++) p += o.baselinePsd[k];
       // A zero floor (a silent channel's baseline) cannot be compared against: such a band is not judged.
-      if (!(p >= 0) || !Number.isFinite(p)) throw new RangeError(`BandCompare: baseline power in band ${low}:${high} Hz is ${p}; a floor must be a finite number ≥ 0`);
+      if (!(p >= 0) || !Number.isFinite(p))
+        throw new RangeError(
+          `BandCompare: baseline power in band ${low}:${high} Hz is ${p}; a floor must be a finite number ≥ 0`,
+        );
       this.baselinePower[b] = p;
     }
   }
@@ -89,7 +94,8 @@ export class BandCompare {
    */
   evaluate(psd: Float64Array, liveK: number, exclude?: Uint8Array): void {
     const n = this.bands.length;
-    if (psd.length < this.baselineBins) throw new RangeError(`BandCompare.evaluate: psd has ${psd.length} bins, baseline ${this.baselineBins}`);
+    if (psd.length < this.baselineBins)
+      throw new RangeError(`BandCompare.evaluate: psd has ${psd.length} bins, baseline ${this.baselineBins}`);
     const base = this.baselinePsd;
     const k = conservativeAverages(liveK);
     for (let b = 0; b < n; b++) {

@@ -10,7 +10,8 @@ const OFFSETS = 11;
 export function leakageEnvelope(window: ArrayLike<number>, maxBins: number): Float64Array {
   const n = window.length;
   if (n < 8) throw new RangeError(`leakageEnvelope: window needs at least 8 samples, got ${n}`);
-  if (!Number.isInteger(maxBins) || maxBins < 1) throw new RangeError(`leakageEnvelope: maxBins must be a positive integer, got ${maxBins}`);
+  if (!Number.isInteger(maxBins) || maxBins < 1)
+    throw new RangeError(`leakageEnvelope: maxBins must be a positive integer, got ${maxBins}`);
   const stride = Math.max(1, Math.floor(n / DECIMATED));
   const m = Math.floor(n / stride);
   const w = new Float64Array(m);

@@ -40,7 +40,8 @@ export class RecentSpectrum {
 
   constructor(private readonly o: RecentSpectrumOptions) {
     const { bins, averaging, windowSegments } = o;
-    if (!Number.isInteger(windowSegments) || windowSegments < 1) throw new RangeError(`RecentSpectrum: windowSegments must be a positive integer, got ${windowSegments}`);
+    if (!Number.isInteger(windowSegments) || windowSegments < 1)
+      throw new RangeError(`RecentSpectrum: windowSegments must be a positive integer, got ${windowSegments}`);
     this.bins = bins;
     this.mode = averaging.mode;
     const alpha = averaging.mode === 'exponential' ? 1 - Math.exp(-o.step / (o.sampleRate * averaging.tauSeconds)) : 0;

@@ -8,7 +8,8 @@ export class RunningMedian {
   private readonly scratch: Float64Array;
 
   constructor(bins: number, halfWidth: number) {
-    if (!Number.isInteger(bins) || bins < 1) throw new RangeError(`RunningMedian: bins must be a positive integer, got ${bins}`);
+    if (!Number.isInteger(bins) || bins < 1)
+      throw new RangeError(`RunningMedian: bins must be a positive integer, got ${bins}`);
     if (!Number.isInteger(halfWidth) || halfWidth < 1) {
       throw new RangeError(`RunningMedian: halfWidth must be a positive integer number of bins, got ${halfWidth}`);
     }
@@ -64,7 +65,8 @@ export class RunningMedian {
 }
 
 function checked(x: number): number {
-  if (x !== x) throw new RangeError('RunningMedian: input holds NaN; a spectrum must be complete before its floor is taken');
+  if (x !== x)
+    throw new RangeError('RunningMedian: input holds NaN; a spectrum must be complete before its floor is taken');
   return x;
 }
 

@@ -49,14 +49,17 @@ export class SpurFinder {
     const n = o.frequencies.length;
     if (n < 8) throw new RangeError(`SpurFinder: need at least 8 bins, got ${n}`);
     if (!(o.binHz > 0)) throw new RangeError(`SpurFinder: binHz must be > 0, got ${o.binHz}`);
-    if (!(o.mainLobeHalfWidth > 0)) throw new RangeError(`SpurFinder: mainLobeHalfWidth must be > 0, got ${o.mainLobeHalfWidth}`);
+    if (!(o.mainLobeHalfWidth > 0))
+      throw new RangeError(`SpurFinder: mainLobeHalfWidth must be > 0, got ${o.mainLobeHalfWidth}`);
     this.bins = n;
     this.f = o.frequencies;
     this.binHz = o.binHz;
     this.lobe = Math.ceil(o.mainLobeHalfWidth - 1e-9);
     const h = o.floorHalfWidth ?? Math.max(8, 4 * this.lobe);
     if (!Number.isInteger(h) || h <= this.lobe) {
-      throw new RangeError(`SpurFinder: floorHalfWidth must be an integer > the lobe half-width ${this.lobe}, got ${h}`);
+      throw new RangeError(
+        `SpurFinder: floorHalfWidth must be an integer > the lobe half-width ${this.lobe}, got ${h}`,
+      );
     }
     this.median = new RunningMedian(n, h);
     const fMin = o.minFrequency ?? (this.lobe + 1) * o.binHz;
@@ -68,7 +71,8 @@ export class SpurFinder {
     this.firstBin = first;
     this.lastBin = last;
     this.maxLines = o.maxLines ?? 64;
-    if (!Number.isInteger(this.maxLines) || this.maxLines < 1) throw new RangeError(`SpurFinder: maxLines must be a positive integer, got ${o.maxLines}`);
+    if (!Number.isInteger(this.maxLines) || this.maxLines < 1)
+      throw new RangeError(`SpurFinder: maxLines must be a positive integer, got ${o.maxLines}`);
     this.lineFloor = new Float64Array(this.maxLines);
     this.lineBin = new Int32Array(this.maxLines);
     this.lineFrequency = new Float64Array(this.maxLines);

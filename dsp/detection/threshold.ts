@@ -29,7 +29,8 @@ export const MAX_CORRELATION_LAG = 64;
 export function binPowerCorrelation(window: ArrayLike<number>, maxLag = MAX_CORRELATION_LAG): Float64Array {
   const n = window.length;
   if (n < 2) throw new RangeError(`binPowerCorrelation: window needs at least 2 samples, got ${n}`);
-  if (!Number.isInteger(maxLag) || maxLag < 0) throw new RangeError(`binPowerCorrelation: maxLag must be a non-negative integer, got ${maxLag}`);
+  if (!Number.isInteger(maxLag) || maxLag < 0)
+    throw new RangeError(`binPowerCorrelation: maxLag must be a non-negative integer, got ${maxLag}`);
   let s2 = 0;
   for (let i = 0; i < n; i++) s2 += window[i] * window[i];
   if (!(s2 > 0)) throw new RangeError('binPowerCorrelation: window is all zeros');
@@ -52,7 +53,8 @@ export function binPowerCorrelation(window: ArrayLike<number>, maxLag = MAX_CORR
 
 /** B_eff = B² / Σ_{i,j}|c(i−j)|²: the number of independent bins a sum over `bins` adjacent bins is worth. */
 export function effectiveBins(bins: number, correlation: Float64Array): number {
-  if (!Number.isInteger(bins) || bins < 1) throw new RangeError(`effectiveBins: bins must be a positive integer, got ${bins}`);
+  if (!Number.isInteger(bins) || bins < 1)
+    throw new RangeError(`effectiveBins: bins must be a positive integer, got ${bins}`);
   let denom = bins;
   const last = Math.min(bins - 1, correlation.length - 1);
   for (let m = 1; m <= last; m++) denom += 2 * (bins - m) * correlation[m];
@@ -61,21 +63,24 @@ export function effectiveBins(bins: number, correlation: Float64Array): number {
 
 /** Degrees of freedom of a band sum: ν = 2·K_eq·B_eff. */
 export function bandDegreesOfFreedom(equivalentAverages: number, bins: number, correlation: Float64Array): number {
-  if (!(equivalentAverages > 0)) throw new RangeError(`bandDegreesOfFreedom: equivalentAverages must be > 0, got ${equivalentAverages}`);
+  if (!(equivalentAverages > 0))
+    throw new RangeError(`bandDegreesOfFreedom: equivalentAverages must be > 0, got ${equivalentAverages}`);
   return 2 * equivalentAverages * effectiveBins(bins, correlation);
 }
 
 /** Upper F quantile F⁻¹(1 − α; ν1, ν2) as a power ratio. */
 export function fUpperQuantile(alpha: number, nu1: number, nu2: number): number {
   checkAlpha(alpha, 'fUpperQuantile');
-  if (!(nu1 > 0) || !(nu2 > 0)) throw new RangeError(`fUpperQuantile: degrees of freedom must be > 0, got ${nu1}, ${nu2}`);
+  if (!(nu1 > 0) || !(nu2 > 0))
+    throw new RangeError(`fUpperQuantile: degrees of freedom must be > 0, got ${nu1}, ${nu2}`);
   return fQuantile(1 - alpha, nu1, nu2);
 }
 
 /** Lower F quantile F⁻¹(α; ν1, ν2) as a power ratio. */
 export function fLowerQuantile(alpha: number, nu1: number, nu2: number): number {
   checkAlpha(alpha, 'fLowerQuantile');
-  if (!(nu1 > 0) || !(nu2 > 0)) throw new RangeError(`fLowerQuantile: degrees of freedom must be > 0, got ${nu1}, ${nu2}`);
+  if (!(nu1 > 0) || !(nu2 > 0))
+    throw new RangeError(`fLowerQuantile: degrees of freedom must be > 0, got ${nu1}, ${nu2}`);
   return fQuantile(alpha, nu1, nu2);
 }
 
@@ -92,7 +97,8 @@ export function riseThresholdDb(marginDb: number, alpha: number, nuLive: number,
 }
 
 function checkAlpha(alpha: number, who: string): void {
-  if (!(alpha > 0 && alpha < 0.5)) throw new RangeError(`${who}: false-alarm probability must be in (0, 0.5), got ${alpha}`);
+  if (!(alpha > 0 && alpha < 0.5))
+    throw new RangeError(`${who}: false-alarm probability must be in (0, 0.5), got ${alpha}`);
 }
 
 /** Median of χ²(ν)/ν: where a running median of averaged noise bins sits relative to their mean. */
@@ -115,7 +121,12 @@ export function conservativeAverages(k: number): number {
  * bin exceeds with probability α/bins) (Bonferroni over the bins searched). Shared by the live spur rule and the
  * offline line list, so both call the same lines on the same spectrum. Both pass K through conservativeAverages.
  */
-export function lineThresholdRatio(equivalentAverages: number, alpha: number, bins: number, marginRatio: number): number {
+export function lineThresholdRatio(
+  equivalentAverages: number,
+  alpha: number,
+  bins: number,
+  marginRatio: number,
+): number {
   const nu = 2 * equivalentAverages;
   return Math.max(marginRatio, chi2MeanUpperQuantile(alpha / bins, nu) / chi2MeanMedian(nu));
 }

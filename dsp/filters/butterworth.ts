@@ -119,7 +119,8 @@ export function settleSamples(filter: SosFilter, ratio: number): number {
     const a2 = filter.sos[6 * s + 5];
     const disc = a1 * a1 - 4 * a2;
     // Complex pair: |z| = sqrt(a2); real pair: the larger root magnitude.
-    const r = disc < 0 ? Math.sqrt(a2) : Math.max(Math.abs((-a1 + Math.sqrt(disc)) / 2), Math.abs((-a1 - Math.sqrt(disc)) / 2));
+    const r =
+      disc < 0 ? Math.sqrt(a2) : Math.max(Math.abs((-a1 + Math.sqrt(disc)) / 2), Math.abs((-a1 - Math.sqrt(disc)) / 2));
     if (r > rmax) rmax = r;
   }
   if (rmax >= 1) throw new RangeError('settleSamples: the filter is not stable (a pole on or outside the unit circle)');

@@ -12,7 +12,9 @@ export class SosCascade {
 
   constructor(filter: SosFilter) {
     if (!Number.isInteger(filter.sections) || filter.sections < 1 || filter.sos.length !== 6 * filter.sections) {
-      throw new RangeError(`SosCascade: need 6 coefficients per section, got ${filter.sos.length} for ${filter.sections}`);
+      throw new RangeError(
+        `SosCascade: need 6 coefficients per section, got ${filter.sos.length} for ${filter.sections}`,
+      );
     }
     for (let s = 0; s < filter.sections; s++) {
       if (filter.sos[6 * s + 3] !== 1) throw new RangeError(`SosCascade: section ${s} must have a0 = 1`);
@@ -24,13 +26,7 @@ export class SosCascade {
   }
 
   /** Filters input[start..end) into output[outStart..). Input and output may be the same array. */
-  process(
-    input: Float64Array,
-    output: Float64Array,
-    start = 0,
-    end = input.length,
-    outStart = start,
-  ): void {
+  process(input: Float64Array, output: Float64Array, start = 0, end = input.length, outStart = start): void {
     for (let i = start, o = outStart; i < end; i++, o++) {
       const x = this.step(input[i]);
       output[o] = x;

@@ -168,7 +168,9 @@ export function fitCorner(input: CornerFitInput, options: CornerFitOptions = {})
       const nal = free ? alpha + step[2] : alpha;
       const nc = chi2(na, nb, nal);
       if (Number.isFinite(nc) && nc <= cost) {
-        const small = Math.abs(step[0]) < 1e-12 + 1e-10 * Math.abs(na) && Math.abs(step[1]) < 1e-12 + 1e-10 * Math.abs(nb) &&
+        const small =
+          Math.abs(step[0]) < 1e-12 + 1e-10 * Math.abs(na) &&
+          Math.abs(step[1]) < 1e-12 + 1e-10 * Math.abs(nb) &&
           (!free || Math.abs(step[2]) < 1e-12 + 1e-10 * Math.abs(nal));
         converged = small || cost - nc <= 1e-14 * cost;
         a = na;

@@ -52,10 +52,20 @@ export interface PeakToPeakReading {
 }
 
 /** The figures a report or the dashboard shows of one window: its span and the three labelled levels. */
-export type PeakToPeakFigures = Pick<PeakToPeakReading, 'startSample' | 'sample' | 't' | 'peakToPeak' | 'rms' | 'gaussianPeakToPeak'>;
+export type PeakToPeakFigures = Pick<
+  PeakToPeakReading,
+  'startSample' | 'sample' | 't' | 'peakToPeak' | 'rms' | 'gaussianPeakToPeak'
+>;
 
 export function peakToPeakFigures(r: PeakToPeakReading): PeakToPeakFigures {
-  return { startSample: r.startSample, sample: r.sample, t: r.t, peakToPeak: r.peakToPeak, rms: r.rms, gaussianPeakToPeak: r.gaussianPeakToPeak };
+  return {
+    startSample: r.startSample,
+    sample: r.sample,
+    t: r.t,
+    peakToPeak: r.peakToPeak,
+    rms: r.rms,
+    gaussianPeakToPeak: r.gaussianPeakToPeak,
+  };
 }
 
 export class PeakToPeakMeter {
@@ -80,12 +90,15 @@ export class PeakToPeakMeter {
 
   constructor(options: PeakToPeakOptions) {
     const fs = options.sampleRate;
-    if (!(fs > 0) || !Number.isFinite(fs)) throw new RangeError(`peak-to-peak: sampleRate must be a positive number of Hz, got ${fs}`);
+    if (!(fs > 0) || !Number.isFinite(fs))
+      throw new RangeError(`peak-to-peak: sampleRate must be a positive number of Hz, got ${fs}`);
     const lo = options.lowHz ?? 0.1;
     const hi = options.highHz ?? 10;
     if (!(lo > 0 && hi > lo)) throw new RangeError(`peak-to-peak: need 0 < lowHz < highHz, got ${lo} and ${hi}`);
     if (!(hi < fs / 2)) {
-      throw new RangeError(`peak-to-peak: the ${hi} Hz low-pass needs a sample rate above ${2 * hi} Hz, got ${fs}; resample or lower highHz`);
+      throw new RangeError(
+        `peak-to-peak: the ${hi} Hz low-pass needs a sample rate above ${2 * hi} Hz, got ${fs}; resample or lower highHz`,
+      );
     }
     const windowSeconds = options.windowSeconds ?? 10;
     if (!(windowSeconds > 0) || !Number.isFinite(windowSeconds)) {

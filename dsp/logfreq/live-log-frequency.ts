@@ -20,8 +20,10 @@ import { SingleBinKernel } from './single-bin-dft.ts';
 import { equalWeightEquivalent, overlapRho } from '../welch.ts';
 
 /** Grid options as planLogFrequencies (defaults here: 120 points, 10 averages), plus the span and chunking. */
-export interface LiveLogFrequencyOptions
-  extends Pick<LogFrequencyPlanOptions, 'sampleRate' | 'minFrequency' | 'maxFrequency' | 'points' | 'averages' | 'window' | 'overlap'> {
+export interface LiveLogFrequencyOptions extends Pick<
+  LogFrequencyPlanOptions,
+  'sampleRate' | 'minFrequency' | 'maxFrequency' | 'points' | 'averages' | 'window' | 'overlap'
+> {
   /** Sample time each point averages over (its rolling record), seconds. Default 100. */
   spanSeconds?: number;
   /** Absolute index of the first sample pushed. Default 0. */
@@ -102,9 +104,11 @@ export class LiveLogFrequency {
   constructor(options: LiveLogFrequencyOptions) {
     const fs = options.sampleRate;
     const span = options.spanSeconds ?? 100;
-    if (!(span > 0) || !Number.isFinite(span)) throw new RangeError(`live log-frequency: spanSeconds must be positive, got ${span}`);
+    if (!(span > 0) || !Number.isFinite(span))
+      throw new RangeError(`live log-frequency: spanSeconds must be positive, got ${span}`);
     const chunk = options.chunk ?? 8192;
-    if (!Number.isInteger(chunk) || chunk < 16) throw new RangeError(`live log-frequency: chunk must be an integer ≥ 16, got ${chunk}`);
+    if (!Number.isInteger(chunk) || chunk < 16)
+      throw new RangeError(`live log-frequency: chunk must be an integer ≥ 16, got ${chunk}`);
     const plan = planLogFrequencies({
       sampleRate: fs,
       samples: Math.round(span * fs),
@@ -137,7 +141,12 @@ export class LiveLogFrequency {
       const f = plan.frequency[j];
       const full = plan.segment[j];
       let k = 0;
-      while (k + 1 < MAX_STAGES && f <= (STAGE_TOP * fs) / 2 ** (k + 1) && Math.round(full / 2 ** (k + 1)) >= MIN_STAGE_SEGMENT) k++;
+      while (
+        k + 1 < MAX_STAGES &&
+        f <= (STAGE_TOP * fs) / 2 ** (k + 1) &&
+        Math.round(full / 2 ** (k + 1)) >= MIN_STAGE_SEGMENT
+      )
+        k++;
       const len = Math.round(full / 2 ** k);
       this.stage[j] = k;
       this.segment[j] = len;
@@ -379,7 +388,8 @@ export class LiveLogFrequency {
   /** Overlap-corrected averages (Welch 1967) of each point's current mean. */
   equivalentAverages(out: Float64Array = new Float64Array(this.count)): Float64Array {
     this.averagesUsed(out);
-    for (let p = 0; p < this.count; p++) out[p] = equalWeightEquivalent(out[p], this.rho, this.rhoOffset[p], this.rhoCount[p]);
+    for (let p = 0; p < this.count; p++)
+      out[p] = equalWeightEquivalent(out[p], this.rho, this.rhoOffset[p], this.rhoCount[p]);
     return out;
   }
 

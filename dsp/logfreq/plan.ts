@@ -52,22 +52,28 @@ const MIN_SEGMENT = 8;
 export function planLogFrequencies(options: LogFrequencyPlanOptions): LogFrequencyPlan {
   const fs = options.sampleRate;
   const n = options.samples;
-  if (!(fs > 0) || !Number.isFinite(fs)) throw new RangeError(`log-frequency plan: sampleRate must be a positive number of Hz, got ${fs}`);
+  if (!(fs > 0) || !Number.isFinite(fs))
+    throw new RangeError(`log-frequency plan: sampleRate must be a positive number of Hz, got ${fs}`);
   if (!Number.isInteger(n) || n < 2 * MIN_SEGMENT) {
-    throw new RangeError(`log-frequency plan: a record of ${n} samples is too short; give at least ${2 * MIN_SEGMENT} samples (a longer recording)`);
+    throw new RangeError(
+      `log-frequency plan: a record of ${n} samples is too short; give at least ${2 * MIN_SEGMENT} samples (a longer recording)`,
+    );
   }
   const windowSpec = options.window ?? 'hann';
   const probe = makeWindow(windowSpec, 64);
   const overlap = options.overlap ?? probe.recommendedOverlap;
-  if (!(overlap >= 0 && overlap < 1)) throw new RangeError(`log-frequency plan: overlap must lie in [0, 1), got ${overlap}`);
+  if (!(overlap >= 0 && overlap < 1))
+    throw new RangeError(`log-frequency plan: overlap must lie in [0, 1), got ${overlap}`);
   const minBin = options.minBin ?? probe.mainLobeHalfWidth;
-  if (!(minBin >= 0.5) || !Number.isFinite(minBin)) throw new RangeError(`log-frequency plan: minBin must be at least 0.5, got ${minBin}`);
+  if (!(minBin >= 0.5) || !Number.isFinite(minBin))
+    throw new RangeError(`log-frequency plan: minBin must be at least 0.5, got ${minBin}`);
   const jDesired = options.points ?? 200;
   if (!Number.isInteger(jDesired) || jDesired < 2 || jDesired > 100000) {
     throw new RangeError(`log-frequency plan: points must be an integer from 2 to 100000, got ${jDesired}`);
   }
   const kDesired = options.averages ?? 100;
-  if (!(kDesired >= 1) || !Number.isFinite(kDesired)) throw new RangeError(`log-frequency plan: averages must be at least 1, got ${kDesired}`);
+  if (!(kDesired >= 1) || !Number.isFinite(kDesired))
+    throw new RangeError(`log-frequency plan: averages must be at least 1, got ${kDesired}`);
   const rMin = fs / n; // one segment spanning the whole record
   const lowest = (minBin * fs) / n;
   const fMin = options.minFrequency ?? lowest;
@@ -79,7 +85,9 @@ export function planLogFrequencies(options: LogFrequencyPlanOptions): LogFrequen
     );
   }
   if (!(fMax > fMin && fMax <= fs / 2)) {
-    throw new RangeError(`log-frequency plan: maxFrequency must lie in (minFrequency, fs/2] = (${fMin}, ${fs / 2}], got ${fMax}`);
+    throw new RangeError(
+      `log-frequency plan: maxFrequency must lie in (minFrequency, fs/2] = (${fMin}, ${fs / 2}], got ${fMax}`,
+    );
   }
   // Resolution at which kDesired segments with this overlap just fit: N = L·(1 + (1 − ξ)(K − 1)).
   const rAvg = rMin * (1 + (1 - overlap) * (kDesired - 1));
@@ -120,10 +128,14 @@ export function planFromPoints(
   const n = base.samples;
   const windowSpec = makeWindow(base.window ?? 'hann', 64);
   const overlap = base.overlap ?? windowSpec.recommendedOverlap;
-  if (!(fs > 0) || !Number.isFinite(fs)) throw new RangeError(`log-frequency plan: sampleRate must be a positive number of Hz, got ${fs}`);
-  if (!(overlap >= 0 && overlap < 1)) throw new RangeError(`log-frequency plan: overlap must lie in [0, 1), got ${overlap}`);
+  if (!(fs > 0) || !Number.isFinite(fs))
+    throw new RangeError(`log-frequency plan: sampleRate must be a positive number of Hz, got ${fs}`);
+  if (!(overlap >= 0 && overlap < 1))
+    throw new RangeError(`log-frequency plan: overlap must lie in [0, 1), got ${overlap}`);
   if (frequencies.length !== segments.length || frequencies.length === 0) {
-    throw new RangeError(`log-frequency plan: need one segment length per frequency (got ${frequencies.length} and ${segments.length})`);
+    throw new RangeError(
+      `log-frequency plan: need one segment length per frequency (got ${frequencies.length} and ${segments.length})`,
+    );
   }
   const count = frequencies.length;
   const plan = {
@@ -143,9 +155,12 @@ export function planFromPoints(
     const fj = frequencies[j];
     const len = segments[j];
     if (!Number.isInteger(len) || len < 2 || len > n) {
-      throw new RangeError(`log-frequency plan: point ${j}: segment ${len} must be an integer from 2 to the record length ${n}`);
+      throw new RangeError(
+        `log-frequency plan: point ${j}: segment ${len} must be an integer from 2 to the record length ${n}`,
+      );
     }
-    if (!(fj >= 0 && fj <= fs / 2)) throw new RangeError(`log-frequency plan: point ${j}: frequency ${fj} Hz must lie in [0, fs/2]`);
+    if (!(fj >= 0 && fj <= fs / 2))
+      throw new RangeError(`log-frequency plan: point ${j}: frequency ${fj} Hz must lie in [0, fs/2]`);
     const step = Math.max(1, len - Math.floor(overlap * len));
     plan.frequency[j] = fj;
     plan.segment[j] = len;

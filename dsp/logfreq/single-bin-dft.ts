@@ -27,7 +27,8 @@ export class SingleBinKernel {
   sum = 0;
 
   constructor(capacity: number) {
-    if (!Number.isInteger(capacity) || capacity < 2) throw new RangeError(`SingleBinKernel: capacity must be an integer ≥ 2, got ${capacity}`);
+    if (!Number.isInteger(capacity) || capacity < 2)
+      throw new RangeError(`SingleBinKernel: capacity must be an integer ≥ 2, got ${capacity}`);
     this.capacity = capacity;
     this.re = new Float64Array(capacity);
     this.im = new Float64Array(capacity);
@@ -36,7 +37,8 @@ export class SingleBinKernel {
   /** Prepares the kernel for window w (length L ≤ capacity) at bin m. */
   build(w: Float64Array, m: number): void {
     const len = w.length;
-    if (len > this.capacity) throw new RangeError(`SingleBinKernel: window of ${len} exceeds capacity ${this.capacity}`);
+    if (len > this.capacity)
+      throw new RangeError(`SingleBinKernel: window of ${len} exceeds capacity ${this.capacity}`);
     const re = this.re;
     const im = this.im;
     const dTheta = (2 * Math.PI * m) / len;
@@ -44,7 +46,12 @@ export class SingleBinKernel {
     const sr = Math.sin(dTheta);
     let c = 1;
     let s = 0;
-    let c0r = 0, c0i = 0, c1r = 0, c1i = 0, sq = 0, sm = 0;
+    let c0r = 0,
+      c0i = 0,
+      c1r = 0,
+      c1i = 0,
+      sq = 0,
+      sm = 0;
     for (let n = 0; n < len; n++) {
       if (n % RESYNC === 0) {
         // Phase reduced mod L before scaling, so the resync itself is exact to rounding.

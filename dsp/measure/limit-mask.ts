@@ -39,7 +39,13 @@ export function maskOnBins(mask: LimitMask, frequencies: Float64Array): Float64A
 }
 
 /** Verdict over bins [first, last] (DC is the caller's to leave out) of an ASD against limits from maskOnBins. */
-export function judgeMask(asd: Float64Array, limits: Float64Array, frequencies: Float64Array, first: number, last: number): MaskVerdict {
+export function judgeMask(
+  asd: Float64Array,
+  limits: Float64Array,
+  frequencies: Float64Array,
+  first: number,
+  last: number,
+): MaskVerdict {
   let worst = Infinity;
   let worstK = -1;
   let bins = 0;

@@ -34,7 +34,8 @@ export class BandStep implements SynthComponent {
     if (!(o.high > o.low && o.high < o.sampleRate / 2)) {
       throw new RangeError(`band step: need low < high < Nyquist (${o.sampleRate / 2} Hz), got ${o.low}..${o.high} Hz`);
     }
-    if (!(o.end > o.start && o.start >= 0)) throw new RangeError(`band step: need 0 ≤ start < end, got ${o.start}..${o.end} s`);
+    if (!(o.end > o.start && o.start >= 0))
+      throw new RangeError(`band step: need 0 ≤ start < end, got ${o.start}..${o.end} s`);
     const fs = o.sampleRate;
     const sections: BiquadCoefficients[] = BUTTERWORTH4_Q.map((q) => cookbookSection('lowpass', o.high, q, fs));
     if (o.low > 0) for (const q of BUTTERWORTH4_Q) sections.push(cookbookSection('highpass', o.low, q, fs));

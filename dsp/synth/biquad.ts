@@ -12,7 +12,12 @@ export interface BiquadCoefficients {
   a2: number;
 }
 
-export function cookbookSection(kind: 'lowpass' | 'highpass', frequency: number, q: number, sampleRate: number): BiquadCoefficients {
+export function cookbookSection(
+  kind: 'lowpass' | 'highpass',
+  frequency: number,
+  q: number,
+  sampleRate: number,
+): BiquadCoefficients {
   if (!(frequency > 0 && frequency < sampleRate / 2)) {
     throw new RangeError(`${kind} corner ${frequency} Hz must lie between 0 and Nyquist (${sampleRate / 2} Hz)`);
   }

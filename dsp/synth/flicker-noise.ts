@@ -36,7 +36,8 @@ export class FlickerNoise implements SynthComponent {
     const fs = o.sampleRate;
     const lowest = o.lowest ?? 0.01;
     requirePositive('flicker noise lowest frequency', lowest);
-    if (lowest >= fs / 200) throw new RangeError(`flicker noise: lowest frequency ${lowest} Hz must be below fs/200 = ${fs / 200} Hz`);
+    if (lowest >= fs / 200)
+      throw new RangeError(`flicker noise: lowest frequency ${lowest} Hz must be below fs/200 = ${fs / 200} Hz`);
     const r = Math.pow(10, 1 / SECTIONS_PER_DECADE);
     const K = 2 * fs;
     const warp = (f: number): number => K * Math.tan((Math.PI * f) / fs);

@@ -27,14 +27,18 @@ export class MainsPickup implements SynthComponent {
   constructor(o: MainsOptions) {
     requirePositive('mains fundamental', o.fundamental);
     requirePositive('sample rate', o.sampleRate);
-    if (o.harmonics.length === 0) throw new RangeError('mains pickup needs at least one harmonic amplitude (RMS of the fundamental)');
+    if (o.harmonics.length === 0)
+      throw new RangeError('mains pickup needs at least one harmonic amplitude (RMS of the fundamental)');
     o.harmonics.forEach((h, k) => requireNonNegative(`mains harmonic ${k + 1} rms`, h));
     const span = o.driftSpan ?? 0;
     const period = o.driftPeriod ?? 60;
     requireNonNegative('mains drift span', span);
     requirePositive('mains drift period', period);
     const top = o.harmonics.length * (o.fundamental + span);
-    if (top >= o.sampleRate / 2) throw new RangeError(`mains harmonic ${o.harmonics.length} reaches ${top} Hz, above Nyquist (${o.sampleRate / 2} Hz); list fewer harmonics`);
+    if (top >= o.sampleRate / 2)
+      throw new RangeError(
+        `mains harmonic ${o.harmonics.length} reaches ${top} Hz, above Nyquist (${o.sampleRate / 2} Hz); list fewer harmonics`,
+      );
     this.peaks = Float64Array.from(o.harmonics, (h) => h * Math.SQRT2);
     this.f0 = o.fundamental;
     this.span = span;

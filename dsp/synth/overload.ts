@@ -13,8 +13,10 @@ export class Overload implements SynthComponent {
     requirePositive('sample rate', o.sampleRate);
     requirePositive('overload frequency', o.frequency);
     requireNonNegative('overload peak', o.peak);
-    if (!(o.end > o.start && o.start >= 0)) throw new RangeError(`overload: need 0 ≤ start < end, got ${o.start}..${o.end} s`);
-    if (o.frequency >= o.sampleRate / 2) throw new RangeError(`overload frequency ${o.frequency} Hz must be below Nyquist`);
+    if (!(o.end > o.start && o.start >= 0))
+      throw new RangeError(`overload: need 0 ≤ start < end, got ${o.start}..${o.end} s`);
+    if (o.frequency >= o.sampleRate / 2)
+      throw new RangeError(`overload frequency ${o.frequency} Hz must be below Nyquist`);
     this.first = Math.round(o.start * o.sampleRate);
     this.last = Math.round(o.end * o.sampleRate);
     this.cyclesPerSample = o.frequency / o.sampleRate;

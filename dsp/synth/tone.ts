@@ -11,7 +11,8 @@ export class Tone implements SynthComponent {
     requirePositive('sample rate', o.sampleRate);
     requireNonNegative('tone frequency', o.frequency);
     requireNonNegative('tone rms', o.rms);
-    if (o.frequency >= o.sampleRate / 2) throw new RangeError(`tone frequency ${o.frequency} Hz must be below Nyquist (${o.sampleRate / 2} Hz)`);
+    if (o.frequency >= o.sampleRate / 2)
+      throw new RangeError(`tone frequency ${o.frequency} Hz must be below Nyquist (${o.sampleRate / 2} Hz)`);
     this.cyclesPerSample = o.frequency / o.sampleRate;
     this.peak = o.rms * Math.SQRT2;
     this.phase = (((o.phaseDeg ?? 0) % 360) * Math.PI) / 180;

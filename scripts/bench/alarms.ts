@@ -23,12 +23,22 @@ const rng = new SeededRandom(1);
 const data = Array.from({ length: CH }, () => rng.fillGaussian(new Float64Array(FS * SECONDS), 1e-6));
 const settings = { sampleRate: FS, segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' as const };
 
-const cap = new BaselineCapture({ settings, channels: info.channels, firstSample: 0, samples: FS * SECONDS, bands: defaultBands(FS, 4096, 2), source: 'bench' });
+const cap = new BaselineCapture({
+  settings,
+  channels: info.channels,
+  firstSample: 0,
+  samples: FS * SECONDS,
+  bands: defaultBands(FS, 4096, 2),
+  source: 'bench',
+});
 cap.push({ firstSample: 0, frames: FS * SECONDS, data });
 const baseline = cap.result('2026-01-01T00:00:00.000Z');
 
 function run(withAlarms: boolean): number {
-  const p = new Pipeline({ analysis: { segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' }, mode: 'lossless' });
+  const p = new Pipeline({
+    analysis: { segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' },
+    mode: 'lossless',
+  });
   if (withAlarms) p.addDetector(new AlarmHook({ baseline }));
   p.info(info);
   const view = data.map(() => new Float64Array(BLOCK));
@@ -53,7 +63,13 @@ for (let i = 0; i < 5; i++) {
 const total = CH * FS * SECONDS;
 const a = median(alarms);
 const b = median(plain);
-console.log(`pipeline alone          ${(total / (b / 1000) / 1e6).toFixed(2)} M samples/s  (${b.toFixed(0)} ms for ${SECONDS} s × ${CH} ch)`);
+console.log(
+  `pipeline alone          ${(total / (b / 1000) / 1e6).toFixed(2)} M samples/s  (${b.toFixed(0)} ms for ${SECONDS} s × ${CH} ch)`,
+);
 console.log(`pipeline + alarms       ${(total / (a / 1000) / 1e6).toFixed(2)} M samples/s  (${a.toFixed(0)} ms)`);
-console.log(`detectors per snapshot  ${((a - b) / (SECONDS * 10)).toFixed(3)} ms for ${CH} channels × 2049 bins (${(((a - b) / a) * 100).toFixed(0)} % of the run)`);
-console.log(`real-time share         ${(((a - b) / (SECONDS * 1000)) * 100).toFixed(2)} % of one core for the detectors at ${FS / 1000} kS/s × ${CH} ch`);
+console.log(
+  `detectors per snapshot  ${((a - b) / (SECONDS * 10)).toFixed(3)} ms for ${CH} channels × 2049 bins (${(((a - b) / a) * 100).toFixed(0)} % of the run)`,
+);
+console.log(
+  `real-time share         ${(((a - b) / (SECONDS * 1000)) * 100).toFixed(2)} % of one core for the detectors at ${FS / 1000} kS/s × ${CH} ch`,
+);

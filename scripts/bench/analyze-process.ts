@@ -20,7 +20,15 @@ const file = `${tmp}analyze-4ch.wav`;
 
 // Seeded noise with a few lines (so --lines has work), written as our float32 recording.
 const rng = new SeededRandom(7);
-const w = new WavWriter(file, { sampleRate: RATE, channels: Array.from({ length: CHANNELS }, (_, c) => ({ name: `ch${c}`, unit: 'V' })), firstSample: 0 }, { durable: false });
+const w = new WavWriter(
+  file,
+  {
+    sampleRate: RATE,
+    channels: Array.from({ length: CHANNELS }, (_, c) => ({ name: `ch${c}`, unit: 'V' })),
+    firstSample: 0,
+  },
+  { durable: false },
+);
 const block = 65536;
 const data = Array.from({ length: CHANNELS }, () => new Float64Array(block));
 for (let at = 0; at < FRAMES; at += block) {
@@ -70,8 +78,14 @@ const sw = median(s.map((x) => x.wall));
 const orss = median(o.map((x) => x.rssMiB));
 const srss = median(s.map((x) => x.rssMiB));
 process.stdout.write(`4 ch × 2^22 float32, ${ROUNDS} alternating rounds, medians (wall s / peak RSS MiB)\n`);
-process.stdout.write(`floorline analyze --lines --cumulative --json: ${ow.toFixed(2)} s, ${orss.toFixed(0)} MiB (rounds ${o.map((x) => x.wall.toFixed(2)).join(' ')})\n`);
-process.stdout.write(`scipy read + welch + cumsum + json:           ${sw.toFixed(2)} s, ${srss.toFixed(0)} MiB (rounds ${s.map((x) => x.wall.toFixed(2)).join(' ')})\n`);
+process.stdout.write(
+  `floorline analyze --lines --cumulative --json: ${ow.toFixed(2)} s, ${orss.toFixed(0)} MiB (rounds ${o.map((x) => x.wall.toFixed(2)).join(' ')})\n`,
+);
+process.stdout.write(
+  `scipy read + welch + cumsum + json:           ${sw.toFixed(2)} s, ${srss.toFixed(0)} MiB (rounds ${s.map((x) => x.wall.toFixed(2)).join(' ')})\n`,
+);
 const pairs = o.map((x, i) => s[i].wall / x.wall);
-process.stdout.write(`ratio (scipy / ours): ${(sw / ow).toFixed(2)}× wall of the medians, ${median(pairs).toFixed(2)}× median of the rounds' ratios ` +
-  `(${pairs.map((r) => r.toFixed(2)).join(' ')}), ${(srss / orss).toFixed(1)}× memory (target ≥ 2.5× wall)\n`);
+process.stdout.write(
+  `ratio (scipy / ours): ${(sw / ow).toFixed(2)}× wall of the medians, ${median(pairs).toFixed(2)}× median of the rounds' ratios ` +
+    `(${pairs.map((r) => r.toFixed(2)).join(' ')}), ${(srss / orss).toFixed(1)}× memory (target ≥ 2.5× wall)\n`,
+);

@@ -84,7 +84,11 @@ const floorError = (p: Float64Array): number => {
 };
 console.log(`${N}-point real transform + |X|², medians of 7 rounds × ${REPS}`);
 console.log(`floorline RealFftPower (float64 radix-4)  ${med(runs.ours).toFixed(2)} µs`);
-console.log(`fft.js realTransform (float64)            ${med(runs.fftjs).toFixed(2)} µs   max rel. diff ${worst(fjPow).toExponential(1)}, on the floor ${floorError(fjPow).toExponential(1)}`);
+console.log(
+  `fft.js realTransform (float64)            ${med(runs.fftjs).toFixed(2)} µs   max rel. diff ${worst(fjPow).toExponential(1)}, on the floor ${floorError(fjPow).toExponential(1)}`,
+);
 if (pffftCall) {
-  console.log(`pffft WASM SIMD (float32)                 ${med(runs.pffft).toFixed(2)} µs   max rel. diff ${worst(pPow).toExponential(1)}, on the floor ${floorError(pPow).toExponential(1)}`);
+  console.log(
+    `pffft WASM SIMD (float32)                 ${med(runs.pffft).toFixed(2)} µs   max rel. diff ${worst(pPow).toExponential(1)}, on the floor ${floorError(pPow).toExponential(1)}`,
+  );
 }

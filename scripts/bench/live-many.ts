@@ -16,10 +16,17 @@ const FRAMES = RATE / 100;
 const SECONDS = Number(process.env.LIVE_SECONDS ?? 60);
 const POOL = 8;
 const rng = new SeededRandom(32);
-const pool = Array.from({ length: POOL }, () => Array.from({ length: CH }, () => rng.fillGaussian(new Float64Array(FRAMES), 1000)));
+const pool = Array.from({ length: POOL }, () =>
+  Array.from({ length: CH }, () => rng.fillGaussian(new Float64Array(FRAMES), 1000)),
+);
 const info: StreamInfo = {
   sampleRate: RATE,
-  channels: Array.from({ length: CH }, (_, c) => ({ name: `ch${c}`, unit: 'V', scale: 1e-7, fullScaleCounts: 8388607 })),
+  channels: Array.from({ length: CH }, (_, c) => ({
+    name: `ch${c}`,
+    unit: 'V',
+    scale: 1e-7,
+    fullScaleCounts: 8388607,
+  })),
   source: { kind: 'simulator', label: 'live many-channel bench' },
   firstSample: 0,
   startWallTime: '2026-01-01T00:00:00.000Z',
@@ -68,8 +75,14 @@ const c1 = cores();
 const sorted = [...latencies].sort((a, b) => a - b);
 const q = (f: number): number => sorted[Math.min(sorted.length - 1, Math.floor(f * sorted.length))];
 const k = p.counters();
-console.log(`${CH} ch × ${RATE / 1000} kS/s, ${FRAMES}-frame blocks paced to the wall clock, bounded pipeline + default detectors, ${SECONDS} s`);
+console.log(
+  `${CH} ch × ${RATE / 1000} kS/s, ${FRAMES}-frame blocks paced to the wall clock, bounded pipeline + default detectors, ${SECONDS} s`,
+);
 console.log(`  dropped blocks ${k.droppedBlocks} (samples ${k.droppedSamples}), snapshots ${latencies.length}`);
 console.log(`  process CPU ${(((u.user + u.system) / 1000 / wall) * 100).toFixed(1)} % of one core`);
-console.log(`  per core (machine-wide, /proc/stat): ${c1.map((c, i) => `cpu${i} ${((100 * (c.busy - c0[i].busy)) / (c.total - c0[i].total)).toFixed(0)} %`).join(', ')}`);
-console.log(`  latency block handed over → snapshot emitted: median ${q(0.5).toFixed(1)} ms, p99 ${q(0.99).toFixed(1)} ms, max ${sorted[sorted.length - 1].toFixed(1)} ms`);
+console.log(
+  `  per core (machine-wide, /proc/stat): ${c1.map((c, i) => `cpu${i} ${((100 * (c.busy - c0[i].busy)) / (c.total - c0[i].total)).toFixed(0)} %`).join(', ')}`,
+);
+console.log(
+  `  latency block handed over → snapshot emitted: median ${q(0.5).toFixed(1)} ms, p99 ${q(0.99).toFixed(1)} ms, max ${sorted[sorted.length - 1].toFixed(1)} ms`,
+);

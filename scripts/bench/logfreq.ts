@@ -34,7 +34,10 @@ for (let j = 0; j < plan.count; j++) {
 const tmp = `${process.cwd()}/.bench-tmp/`;
 mkdirSync(tmp, { recursive: true });
 writeFileSync(`${tmp}logfreq-x.bin`, new Uint8Array(x.buffer));
-writeFileSync(`${tmp}logfreq-plan.json`, JSON.stringify({ f: [...plan.frequency], L: [...plan.segment], D: [...plan.step], K: [...plan.averages] }));
+writeFileSync(
+  `${tmp}logfreq-plan.json`,
+  JSON.stringify({ f: [...plan.frequency], L: [...plan.segment], D: [...plan.step], K: [...plan.averages] }),
+);
 const py = `
 import sys, time, json, numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
@@ -70,7 +73,11 @@ for (let r = 0; r < ROUNDS; r++) {
   ours.push(Number(process.hrtime.bigint() - t0) / 1e9);
   oursCpu.push(cpuSeconds(process.cpuUsage(c0)));
 }
-const r = spawnSync('python3', ['-c', py, `${tmp}logfreq-x.bin`, `${tmp}logfreq-plan.json`, `${tmp}logfreq-numpy.bin`], { encoding: 'utf8' });
+const r = spawnSync(
+  'python3',
+  ['-c', py, `${tmp}logfreq-x.bin`, `${tmp}logfreq-plan.json`, `${tmp}logfreq-numpy.bin`],
+  { encoding: 'utf8' },
+);
 if (r.status !== 0) throw new Error(`python3 failed: ${r.stderr}`);
 const [theirs, theirsCpu]: number[][] = JSON.parse(r.stdout.trim().split('\n').pop() ?? '[[],[]]');
 const refBytes = readFileSync(`${tmp}logfreq-numpy.bin`);
@@ -78,10 +85,16 @@ const ref = new Float64Array(refBytes.buffer.slice(refBytes.byteOffset, refBytes
 let worst = 0;
 for (let j = 0; j < psd.length; j++) worst = Math.max(worst, Math.abs(psd[j] - ref[j]) / ref[j]);
 
-console.log(`offline: ${SAMPLES} samples (10 min at ${FS} S/s), ${plan.count} points, ${segs} segments, ${(work / 1e9).toFixed(2)} G sample-visits`);
+console.log(
+  `offline: ${SAMPLES} samples (10 min at ${FS} S/s), ${plan.count} points, ${segs} segments, ${(work / 1e9).toFixed(2)} G sample-visits`,
+);
 const list = (v: number[]): string => v.map((t) => t.toFixed(2)).join(', ');
-console.log(`  floorline logFrequencyPsd  wall median ${median(ours).toFixed(2)} s (${list(ours)}), CPU median ${median(oursCpu).toFixed(2)} s (${list(oursCpu)}), ${(work / median(oursCpu) / 1e6).toFixed(0)} M visits per CPU second`);
-console.log(`  numpy, same plan           wall median ${median(theirs).toFixed(2)} s (${list(theirs)}), CPU median ${median(theirsCpu).toFixed(2)} s (${list(theirsCpu)})`);
+console.log(
+  `  floorline logFrequencyPsd  wall median ${median(ours).toFixed(2)} s (${list(ours)}), CPU median ${median(oursCpu).toFixed(2)} s (${list(oursCpu)}), ${(work / median(oursCpu) / 1e6).toFixed(0)} M visits per CPU second`,
+);
+console.log(
+  `  numpy, same plan           wall median ${median(theirs).toFixed(2)} s (${list(theirs)}), CPU median ${median(theirsCpu).toFixed(2)} s (${list(theirsCpu)})`,
+);
 console.log(`  max relative difference    ${worst.toExponential(2)}`);
 
 // Live: 4 independent channels, 1000-sample blocks, default live grid; CPU share of one core = busy / sample time.
@@ -101,8 +114,12 @@ const snapshot = new Float64Array(l0.count);
 const s0 = process.cpuUsage();
 for (let i = 0; i < 1000; i++) l0.psd(snapshot);
 const snapUs = (cpuSeconds(process.cpuUsage(s0)) * 1e6) / 1000;
-console.log(`live: ${CHANNELS} ch × ${FS} S/s, ${BLOCK}-sample blocks, ${l0.count} points on ${l0.stages} stages, span 100 s`);
-console.log(`  CPU time / sample time, one core: median ${median(liveRuns).toFixed(2)} %  (${liveRuns.map((v) => v.toFixed(2)).join(', ')})`);
+console.log(
+  `live: ${CHANNELS} ch × ${FS} S/s, ${BLOCK}-sample blocks, ${l0.count} points on ${l0.stages} stages, span 100 s`,
+);
+console.log(
+  `  CPU time / sample time, one core: median ${median(liveRuns).toFixed(2)} %  (${liveRuns.map((v) => v.toFixed(2)).join(', ')})`,
+);
 console.log(`  psd() snapshot: ${snapUs.toFixed(1)} µs CPU per channel`);
 
 // The agent's whole live view (agent/lowfreq/live-low-frequency.ts) at the same load: the estimators above plus
@@ -113,7 +130,10 @@ const viewRuns: number[] = [];
 let updates = 0;
 for (let run = 0; run < ROUNDS; run++) {
   const view = new LiveLowFrequency();
-  view.start(FS, Array.from({ length: CHANNELS }, (_, c) => ({ name: `ch${c}`, unit: 'V' })));
+  view.start(
+    FS,
+    Array.from({ length: CHANNELS }, (_, c) => ({ name: `ch${c}`, unit: 'V' })),
+  );
   view.onUpdate(() => updates++);
   const data = Array.from({ length: CHANNELS }, () => new Float64Array(BLOCK));
   const c0 = process.cpuUsage();
@@ -123,5 +143,9 @@ for (let run = 0; run < ROUNDS; run++) {
   }
   viewRuns.push((cpuSeconds(process.cpuUsage(c0)) / LIVE_SECONDS) * 100);
 }
-console.log(`live view (agent): ${CHANNELS} ch × ${FS} S/s, estimator + 0.1–10 Hz meter + 2 frames/s + a fit every 2 s, ${updates / ROUNDS} updates per run`);
-console.log(`  CPU time / sample time, one core: median ${median(viewRuns).toFixed(2)} %  (${viewRuns.map((v) => v.toFixed(2)).join(', ')}); bare estimator above: ${median(liveRuns).toFixed(2)} %`);
+console.log(
+  `live view (agent): ${CHANNELS} ch × ${FS} S/s, estimator + 0.1–10 Hz meter + 2 frames/s + a fit every 2 s, ${updates / ROUNDS} updates per run`,
+);
+console.log(
+  `  CPU time / sample time, one core: median ${median(viewRuns).toFixed(2)} %  (${viewRuns.map((v) => v.toFixed(2)).join(', ')}); bare estimator above: ${median(liveRuns).toFixed(2)} %`,
+);

@@ -73,20 +73,33 @@ print(json.dumps(ts))`,
 );
 const demoDuration = demoFrames / 8000;
 console.log('1. demo recording, replay --speed max (pipeline + detectors + baseline), median of 3');
-console.log(`   floorline: ${demoSec.toFixed(3)} s for ${demoDuration} s of sample time = ${fmt(demoSamples / demoSec)}samples/s aggregate, ${(demoDuration / demoSec).toFixed(0)}× real time`);
-console.log(`   without detectors: ${bareSec.toFixed(3)} s = ${fmt(demoSamples / bareSec)}samples/s, ${(demoDuration / bareSec).toFixed(0)}× real time`);
-console.log(`   scipy read + welch of the same file: ${scipyDemo.toFixed(3)} s = ${fmt(demoSamples / scipyDemo)}samples/s`);
+console.log(
+  `   floorline: ${demoSec.toFixed(3)} s for ${demoDuration} s of sample time = ${fmt(demoSamples / demoSec)}samples/s aggregate, ${(demoDuration / demoSec).toFixed(0)}× real time`,
+);
+console.log(
+  `   without detectors: ${bareSec.toFixed(3)} s = ${fmt(demoSamples / bareSec)}samples/s, ${(demoDuration / bareSec).toFixed(0)}× real time`,
+);
+console.log(
+  `   scipy read + welch of the same file: ${scipyDemo.toFixed(3)} s = ${fmt(demoSamples / scipyDemo)}samples/s`,
+);
 
 // ---- 2. synthetic throughput ----
 const CH = 4;
 const BLOCK = 65536;
 const POOL = 8;
 const rng = new SeededRandom(99);
-const pool = Array.from({ length: POOL }, () => Array.from({ length: CH }, () => rng.fillGaussian(new Float64Array(BLOCK), 1000)));
+const pool = Array.from({ length: POOL }, () =>
+  Array.from({ length: CH }, () => rng.fillGaussian(new Float64Array(BLOCK), 1000)),
+);
 function info(rate: number, channels: number): StreamInfo {
   return {
     sampleRate: rate,
-    channels: Array.from({ length: channels }, (_, c) => ({ name: `ch${c}`, unit: 'V', scale: 1e-7, fullScaleCounts: 8388607 })),
+    channels: Array.from({ length: channels }, (_, c) => ({
+      name: `ch${c}`,
+      unit: 'V',
+      scale: 1e-7,
+      fullScaleCounts: 8388607,
+    })),
     source: { kind: 'simulator', label: 'bench' },
     firstSample: 0,
     startWallTime: '2026-01-01T00:00:00.000Z',
@@ -124,8 +137,12 @@ print(json.dumps(ts[1:]))`,
     [`${tmp}pipeline-x.bin`],
   ),
 );
-console.log(`2. synthetic, ${CH} ch × 65536-frame blocks, segment 4096, Hann, 50 %, mean detrend, exp averaging, 10 snapshots/s`);
-console.log(`   floorline pipeline: ${fmt(tp)}samples/s aggregate (target ≥ 10 M)   scipy.signal.welch alone: ${fmt(scipyTp)}samples/s`);
+console.log(
+  `2. synthetic, ${CH} ch × 65536-frame blocks, segment 4096, Hann, 50 %, mean detrend, exp averaging, 10 snapshots/s`,
+);
+console.log(
+  `   floorline pipeline: ${fmt(tp)}samples/s aggregate (target ≥ 10 M)   scipy.signal.welch alone: ${fmt(scipyTp)}samples/s`,
+);
 
 // ---- 3. CPU in real time ----
 async function cpuDuring(seconds: number, run: (stop: Promise<void>) => Promise<void>): Promise<number> {
@@ -172,7 +189,9 @@ const paced = await cpuDuring(WALL, async (stop) => {
 });
 console.log(`3. CPU in real time (process.cpuUsage over ${WALL} s wall)`);
 console.log(`   demo (2 ch × 8 kS/s, replay speed 1, detectors): ${demoCpu.toFixed(1)} % of one core`);
-console.log(`   paced 1 MS/s (2 ch × 500 kS/s, bounded queue, detectors): ${paced.toFixed(1)} % of one core (target < 25 %)`);
+console.log(
+  `   paced 1 MS/s (2 ch × 500 kS/s, bounded queue, detectors): ${paced.toFixed(1)} % of one core (target < 25 %)`,
+);
 
 // ---- 4. memory over 10 minutes of sample time at 1 MS/s ----
 {
@@ -198,6 +217,10 @@ console.log(`   paced 1 MS/s (2 ch × 500 kS/s, bounded queue, detectors): ${pac
   feed(540);
   const after10 = rss();
   const s = (performance.now() - t0) / 1000;
-  console.log(`4. resident memory at 1 MS/s, speed max, 1 ch, detectors on (${(next / rate).toFixed(0)} s of sample time in ${s.toFixed(1)} s)`);
-  console.log(`   after 1 min: ${(after1 / 2 ** 20).toFixed(1)} MiB   after 10 min: ${(after10 / 2 ** 20).toFixed(1)} MiB   growth ${(((after10 - after1) / after1) * 100).toFixed(1)} % (target < 10 %)`);
+  console.log(
+    `4. resident memory at 1 MS/s, speed max, 1 ch, detectors on (${(next / rate).toFixed(0)} s of sample time in ${s.toFixed(1)} s)`,
+  );
+  console.log(
+    `   after 1 min: ${(after1 / 2 ** 20).toFixed(1)} MiB   after 10 min: ${(after10 / 2 ** 20).toFixed(1)} MiB   growth ${(((after10 - after1) / after1) * 100).toFixed(1)} % (target < 10 %)`,
+  );
 }

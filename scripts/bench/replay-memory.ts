@@ -8,14 +8,29 @@ import { existsSync, readFileSync } from 'node:fs';
 
 const file = process.env.REPLAY_FILE;
 if (!file || !existsSync(file)) {
-  console.log('replay-memory: set REPLAY_FILE to a long recording (see the header of scripts/bench/replay-memory.ts); skipped');
+  console.log(
+    'replay-memory: set REPLAY_FILE to a long recording (see the header of scripts/bench/replay-memory.ts); skipped',
+  );
   process.exit(0);
 }
 const root = `${process.cwd()}/`;
 const t0 = performance.now();
-const child = spawn(process.execPath, [`${root}bin/floorline.mjs`, 'replay', file, '--speed', 'max', '--baseline', `${root}recordings/demo-baseline.json`, '--no-server'], {
-  stdio: ['ignore', 'pipe', 'inherit'],
-});
+const child = spawn(
+  process.execPath,
+  [
+    `${root}bin/floorline.mjs`,
+    'replay',
+    file,
+    '--speed',
+    'max',
+    '--baseline',
+    `${root}recordings/demo-baseline.json`,
+    '--no-server',
+  ],
+  {
+    stdio: ['ignore', 'pipe', 'inherit'],
+  },
+);
 let out = '';
 child.stdout.on('data', (d) => (out += String(d)));
 const samples: { t: number; rss: number }[] = [];
@@ -34,5 +49,12 @@ const wall = performance.now() - t0;
 const at = (f: number): number => samples.find((s) => s.t >= f * wall)?.rss ?? NaN;
 const last = samples[samples.length - 1].rss;
 const peak = Math.max(...samples.map((s) => s.rss));
-console.log(out.split('\n').filter((l) => /^(samples|snapshots|events)/.test(l)).join('\n'));
-console.log(`RSS at 10 % ${at(0.1).toFixed(1)} MiB, 50 % ${at(0.5).toFixed(1)} MiB, end ${last.toFixed(1)} MiB, peak ${peak.toFixed(1)} MiB; growth 10 % → end ${(((last - at(0.1)) / at(0.1)) * 100).toFixed(1)} %`);
+console.log(
+  out
+    .split('\n')
+    .filter((l) => /^(samples|snapshots|events)/.test(l))
+    .join('\n'),
+);
+console.log(
+  `RSS at 10 % ${at(0.1).toFixed(1)} MiB, 50 % ${at(0.5).toFixed(1)} MiB, end ${last.toFixed(1)} MiB, peak ${peak.toFixed(1)} MiB; growth 10 % → end ${(((last - at(0.1)) / at(0.1)) * 100).toFixed(1)} %`,
+);

@@ -23,7 +23,12 @@ function makeStream(frames: number): Uint8Array {
   const data = Array.from({ length: CH }, () => new Float64Array(PER_FRAME));
   const len = samplesFrameLength(CH, 'int24', PER_FRAME);
   const desc = encodeDescriptorFrame({
-    rate: 1000, format: 'int24', board: 'bench', firmware: '1', boot: '1', clock: 0,
+    rate: 1000,
+    format: 'int24',
+    board: 'bench',
+    firmware: '1',
+    boot: '1',
+    clock: 0,
     channels: Array.from({ length: CH }, (_, c) => ({ name: `c${c}`, unit: 'V', perCount: 1e-7, fullScale: 8388607 })),
   });
   const out = new Uint8Array(desc.length + frames * len);
@@ -71,7 +76,11 @@ print(n / (time.perf_counter() - t0))`;
   return Number(r.stdout);
 }
 
-async function ptyIngest(stream: Uint8Array, seconds: number, mode: 'source' | 'raw'): Promise<{ mbps: number; sps: number; cpu: number }> {
+async function ptyIngest(
+  stream: Uint8Array,
+  seconds: number,
+  mode: 'source' | 'raw',
+): Promise<{ mbps: number; sps: number; cpu: number }> {
   const dir = mkdtempSync(join(tmpdir(), 'fl-bench-'));
   const board = join(dir, 'board');
   const host = join(dir, 'host');
@@ -83,7 +92,13 @@ async function ptyIngest(stream: Uint8Array, seconds: number, mode: 'source' | '
   let samples = 0;
   let stopReader: () => Promise<void>;
   if (mode === 'source') {
-    const sink: SourceSink = { info() {}, block: (b) => void (samples += b.frames * b.data.length), gap() {}, link() {}, end() {} };
+    const sink: SourceSink = {
+      info() {},
+      block: (b) => void (samples += b.frames * b.data.length),
+      gap() {},
+      link() {},
+      end() {},
+    };
     const source = new SerialSource({ port: host, noDataSeconds: 30 });
     await source.start(sink);
     stopReader = async () => {
@@ -99,9 +114,16 @@ async function ptyIngest(stream: Uint8Array, seconds: number, mode: 'source' | '
   }
   // The writer repeats the buffer as fast as the pty takes it (its sequence steps back at each repeat: counted
   // by the source as a board restart, which does not slow it down).
-  const writer = spawn(process.execPath, ['-e', `
+  const writer = spawn(
+    process.execPath,
+    [
+      '-e',
+      `
 const fs = require('fs'); const b = fs.readFileSync(${JSON.stringify(file)}); const fd = fs.openSync(${JSON.stringify(board)}, 'w');
-const end = Date.now() + ${seconds * 1000}; while (Date.now() < end) { let o = 0; while (o < b.length) o += fs.writeSync(fd, b, o, Math.min(65536, b.length - o)); }`], { stdio: 'ignore' });
+const end = Date.now() + ${seconds * 1000}; while (Date.now() < end) { let o = 0; while (o < b.length) o += fs.writeSync(fd, b, o, Math.min(65536, b.length - o)); }`,
+    ],
+    { stdio: 'ignore' },
+  );
   const cpu0 = process.cpuUsage();
   const t0 = performance.now();
   await new Promise((r) => writer.once('exit', r));
@@ -117,17 +139,35 @@ const end = Date.now() + ${seconds * 1000}; while (Date.now() < end) { let o = 0
 }
 
 const stream = makeStream(20000); // 10 M instants × 4 ch = 40 M samples, 120 MB
-const small = stream.subarray(0, encodeDescriptorFrame({ rate: 1000, format: 'int24', board: 'bench', firmware: '1', boot: '1', clock: 0, channels: Array.from({ length: CH }, (_, c) => ({ name: `c${c}`, unit: 'V', perCount: 1e-7, fullScale: 8388607 })) }).length + 5000 * samplesFrameLength(CH, 'int24', PER_FRAME));
+const small = stream.subarray(
+  0,
+  encodeDescriptorFrame({
+    rate: 1000,
+    format: 'int24',
+    board: 'bench',
+    firmware: '1',
+    boot: '1',
+    clock: 0,
+    channels: Array.from({ length: CH }, (_, c) => ({ name: `c${c}`, unit: 'V', perCount: 1e-7, fullScale: 8388607 })),
+  }).length +
+    5000 * samplesFrameLength(CH, 'int24', PER_FRAME),
+);
 const dir = mkdtempSync(join(tmpdir(), 'fl-bench-'));
 writeFileSync(join(dir, 'small.bin'), small);
 
 const runs = 5;
 const alone = Array.from({ length: runs }, () => decoderAlone(stream, 65536));
 const py = Array.from({ length: 3 }, () => pythonReference(join(dir, 'small.bin')));
-console.log(`decoder alone (4 ch int24, 500 instants/frame, 64 KiB chunks, ${stream.length / 1e6} MB): median ${(median(alone) / 1e6).toFixed(1)} M samples/s aggregate over ${runs} runs (min ${(Math.min(...alone) / 1e6).toFixed(1)}, max ${(Math.max(...alone) / 1e6).toFixed(1)})`);
+console.log(
+  `decoder alone (4 ch int24, 500 instants/frame, 64 KiB chunks, ${stream.length / 1e6} MB): median ${(median(alone) / 1e6).toFixed(1)} M samples/s aggregate over ${runs} runs (min ${(Math.min(...alone) / 1e6).toFixed(1)}, max ${(Math.max(...alone) / 1e6).toFixed(1)})`,
+);
 console.log(`reference, python struct+zlib.crc32+numpy per frame: median ${(median(py) / 1e6).toFixed(1)} M samples/s`);
 const src = await ptyIngest(small, 5, 'source');
 const raw = await ptyIngest(small, 5, 'raw');
-console.log(`pty ingest into SerialSource (decode + blocks): ${src.mbps.toFixed(1)} MB/s, ${(src.sps / 1e6).toFixed(2)} M samples/s, reader process CPU ${src.cpu.toFixed(0)} %`);
-console.log(`reference, serialport reading the same pty (no decoding): ${raw.mbps.toFixed(1)} MB/s, reader process CPU ${raw.cpu.toFixed(0)} %`);
+console.log(
+  `pty ingest into SerialSource (decode + blocks): ${src.mbps.toFixed(1)} MB/s, ${(src.sps / 1e6).toFixed(2)} M samples/s, reader process CPU ${src.cpu.toFixed(0)} %`,
+);
+console.log(
+  `reference, serialport reading the same pty (no decoding): ${raw.mbps.toFixed(1)} MB/s, reader process CPU ${raw.cpu.toFixed(0)} %`,
+);
 rmSync(dir, { recursive: true, force: true });

@@ -10,17 +10,33 @@ import { SeededRandom } from '../../dsp/random.ts';
 import { PlainScanSpurFinder } from '../../tests/alarms/plain-scan-spur-finder.ts';
 
 const FS = 8000;
-const est = new WelchEstimator({ sampleRate: FS, segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean', averaging: { mode: 'exponential', tauSeconds: 10 } });
+const est = new WelchEstimator({
+  sampleRate: FS,
+  segment: 4096,
+  window: 'hann',
+  overlap: 0.5,
+  detrend: 'mean',
+  averaging: { mode: 'exponential', tauSeconds: 10 },
+});
 const rng = new SeededRandom(7);
 const x = new Float64Array(FS * 60);
 let pink = 0;
 for (let i = 0; i < x.length; i++) {
   pink = 0.995 * pink + rng.gaussian() * 4e-8;
-  x[i] = rng.gaussian() * 1e-7 + pink + 3e-6 * Math.sin((2 * Math.PI * 50.02 * i) / FS) + 1e-6 * Math.sin((2 * Math.PI * 150.1 * i) / FS);
+  x[i] =
+    rng.gaussian() * 1e-7 +
+    pink +
+    3e-6 * Math.sin((2 * Math.PI * 50.02 * i) / FS) +
+    1e-6 * Math.sin((2 * Math.PI * 150.1 * i) / FS);
 }
 est.push(x);
 const psd = est.psd();
-const options = { frequencies: est.frequencies, binHz: est.binHz, mainLobeHalfWidth: est.window.mainLobeHalfWidth, maxLines: 64 };
+const options = {
+  frequencies: est.frequencies,
+  binHz: est.binHz,
+  mainLobeHalfWidth: est.window.mainLobeHalfWidth,
+  maxLines: 64,
+};
 const ratio = 10; // the spur rule's default 10 dB margin
 const fast = new SpurFinder(options);
 const plain = new PlainScanSpurFinder(options);
@@ -44,7 +60,9 @@ function wholeMedianFind(): number {
 
 const nFast = fast.find(psd, ratio);
 if (nFast !== plain.find(psd, ratio) || nFast !== wholeMedianFind()) throw new Error('variants disagree on the lines');
-for (let i = 0; i < nFast; i++) if (fast.lineBin[i] !== plain.lineBin[i] || fast.lineAmplitude[i] !== plain.lineAmplitude[i]) throw new Error('lines differ');
+for (let i = 0; i < nFast; i++)
+  if (fast.lineBin[i] !== plain.lineBin[i] || fast.lineAmplitude[i] !== plain.lineAmplitude[i])
+    throw new Error('lines differ');
 
 const CALLS = 20000;
 function time(f: () => number): number {
@@ -61,7 +79,9 @@ for (let round = 0; round < 7; round++) {
   runs.whole.push(time(wholeMedianFind));
 }
 const med = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1];
-console.log(`density: ${psd.length} bins, lobe ±${fast.lobe}, floor median ±${median.halfWidth} bins, ${nFast} lines at ${10 * Math.log10(ratio)} dB`);
+console.log(
+  `density: ${psd.length} bins, lobe ±${fast.lobe}, floor median ±${median.halfWidth} bins, ${nFast} lines at ${10 * Math.log10(ratio)} dB`,
+);
 console.log(`one-pass maxima scan (in use)         ${med(runs.fast).toFixed(2)} µs per find`);
 console.log(`plain scan (before)                   ${med(runs.plain).toFixed(2)} µs per find`);
 console.log(`floor at every bin (sorted window)    ${med(runs.whole).toFixed(2)} µs per find`);

@@ -32,7 +32,12 @@ const warn = (m: string) => process.stderr.write(m + '\n');
 function writingCost(seconds: number): number {
   const db = openStoreForWriting(join(dir, `write-${seconds}-${Math.random()}.sqlite`), warn);
   const writer = new HistoryWriter(db, { warn });
-  const sampler = new TrendSampler(writer, { command: 'bench', source: 'bench', bands: BANDS, wallMsAt: (s) => 1.7e12 + (s / FS) * 1000 });
+  const sampler = new TrendSampler(writer, {
+    command: 'bench',
+    source: 'bench',
+    bands: BANDS,
+    wallMsAt: (s) => 1.7e12 + (s / FS) * 1000,
+  });
   const bins = SEGMENT / 2 + 1;
   const frequencies = Float64Array.from({ length: bins }, (_, k) => (k * FS) / SEGMENT);
   const channels = Array.from({ length: CH }, (_, i) => ({ name: `ch${i}`, unit: 'V' }));
@@ -40,8 +45,24 @@ function writingCost(seconds: number): number {
   const rng = new SeededRandom(2);
   const density = rng.fillGaussian(new Float64Array(bins), 1e-12).map((x) => x * x);
   const snap = {
-    sample: 0, t: 0, wallTime: '', sequence: 0, settings, averaging: { mode: 'exponential', tauSeconds: 10 }, frequencies, binHz: FS / SEGMENT, nenbw: 1.5, enbwHz: 7.3,
-    channels: channels.map((c) => ({ ...c, psd: density.slice(), segmentsUsed: 10, segmentsTotal: 10, equivalentAverages: 10, lastSegmentSample: 0 })),
+    sample: 0,
+    t: 0,
+    wallTime: '',
+    sequence: 0,
+    settings,
+    averaging: { mode: 'exponential', tauSeconds: 10 },
+    frequencies,
+    binHz: FS / SEGMENT,
+    nenbw: 1.5,
+    enbwHz: 7.3,
+    channels: channels.map((c) => ({
+      ...c,
+      psd: density.slice(),
+      segmentsUsed: 10,
+      segmentsTotal: 10,
+      equivalentAverages: 10,
+      lastSegmentSample: 0,
+    })),
   } as unknown as SpectrumSnapshot;
   const t0 = process.cpuUsage();
   let nextSeg = SEGMENT - 1;
@@ -64,18 +85,30 @@ function writingCost(seconds: number): number {
 
 writingCost(30);
 const costs = [0, 1, 2].map(() => writingCost(300));
-process.stdout.write(`trend writing, ${CH} ch × ${BANDS.length} bands, 10 snapshots/s: ${(median(costs) * 100).toFixed(3)} % of one core ` +
-  `(median of 3 × 300 s of sample time; runs ${costs.map((c) => (c * 100).toFixed(3)).join(', ')} %)\n`);
+process.stdout.write(
+  `trend writing, ${CH} ch × ${BANDS.length} bands, 10 snapshots/s: ${(median(costs) * 100).toFixed(3)} % of one core ` +
+    `(median of 3 × 300 s of sample time; runs ${costs.map((c) => (c * 100).toFixed(3)).join(', ')} %)\n`,
+);
 
 // ---- (2) size at the default retention after 90 days, and (3) the 7-day query
 const path = join(dir, 'ninety-days.sqlite');
 const db = openStoreForWriting(path, warn);
 const writer = new HistoryWriter(db, { warn });
 const lengths = levelSamples(FS, SNAP);
-writer.beginRun({ command: 'bench', source: 'bench', sampleRate: FS, firstSample: 0, startWallMs: 1.7e12, settings, levelSamples: lengths });
+writer.beginRun({
+  command: 'bench',
+  source: 'bench',
+  sampleRate: FS,
+  firstSample: 0,
+  startWallMs: 1.7e12,
+  settings,
+  levelSamples: lengths,
+});
 const series: number[] = [];
-for (let c = 0; c < CH; c++) for (const b of BANDS) series.push(writer.seriesId(`ch${c}`, 'bandRms', [b.low, b.high], 'V'));
-for (const q of ['floorDensity', 'mainsTotal', 'strongestLine']) for (let c = 0; c < CH; c++) series.push(writer.seriesId(`ch${c}`, q, null, 'V'));
+for (let c = 0; c < CH; c++)
+  for (const b of BANDS) series.push(writer.seriesId(`ch${c}`, 'bandRms', [b.low, b.high], 'V'));
+for (const q of ['floorDensity', 'mainsTotal', 'strongestLine'])
+  for (let c = 0; c < CH; c++) series.push(writer.seriesId(`ch${c}`, q, null, 'V'));
 const DAYS = 90;
 const end = DAYS * 86400 * FS;
 const rng = new SeededRandom(3);
@@ -97,9 +130,11 @@ db.pragma('wal_checkpoint(TRUNCATE)');
 writer.close();
 db.close();
 const bytes = statSync(path).size;
-process.stdout.write(`store size at default retention (snap ${DEFAULT_RETENTION.snap / 60} min, 1 s ${DEFAULT_RETENTION['1s'] / 3600} h, 1 min ${DEFAULT_RETENTION['1m'] / 86400} d, ` +
-  `1 h ${DEFAULT_RETENTION['1h'] / 86400} d) after ${DAYS} days, ${series.length} series (${CH} ch × ${BANDS.length} bands + 3 per channel): ` +
-  `${(bytes / 2 ** 20).toFixed(1)} MiB for ${rows} rows (${(bytes / rows).toFixed(1)} bytes a row)\n`);
+process.stdout.write(
+  `store size at default retention (snap ${DEFAULT_RETENTION.snap / 60} min, 1 s ${DEFAULT_RETENTION['1s'] / 3600} h, 1 min ${DEFAULT_RETENTION['1m'] / 86400} d, ` +
+    `1 h ${DEFAULT_RETENTION['1h'] / 86400} d) after ${DAYS} days, ${series.length} series (${CH} ch × ${BANDS.length} bands + 3 per channel): ` +
+    `${(bytes / 2 ** 20).toFixed(1)} MiB for ${rows} rows (${(bytes / rows).toFixed(1)} bytes a row)\n`,
+);
 
 const reader = openStoreForReading(path);
 const from = { kind: 'wall' as const, ms: 1.7e12 + (DAYS - 7) * 86400e3, text: '' };
@@ -113,14 +148,36 @@ for (let i = 0; i < 9; i++) {
   got = r.series[0].rows.length;
 }
 reader.close();
-process.stdout.write(`7-day query at 1 min, one band of one channel: ${got} rows in ${median(times).toFixed(1)} ms (median of 9)\n`);
+process.stdout.write(
+  `7-day query at 1 min, one band of one channel: ${got} rows in ${median(times).toFixed(1)} ms (median of 9)\n`,
+);
 
 // ---- (4) a report of the last 7 days of that store, as a whole process (wall time and peak RSS by /usr/bin/time)
 const root = process.cwd(); // scripts/bench.mjs runs each benchmark from the repository root
 const fromIso = new Date(1.7e12 + (DAYS - 7) * 86400e3).toISOString();
 const toIso = new Date(1.7e12 + DAYS * 86400e3).toISOString();
-const rep = spawnSync('/usr/bin/time', ['-f', '%e %M', process.execPath, join(root, 'bin/floorline.mjs'), 'report', '--store', path, '--from', fromIso, '--to', toIso, '-o', join(dir, 'week.html')], { encoding: 'utf8' });
+const rep = spawnSync(
+  '/usr/bin/time',
+  [
+    '-f',
+    '%e %M',
+    process.execPath,
+    join(root, 'bin/floorline.mjs'),
+    'report',
+    '--store',
+    path,
+    '--from',
+    fromIso,
+    '--to',
+    toIso,
+    '-o',
+    join(dir, 'week.html'),
+  ],
+  { encoding: 'utf8' },
+);
 const [secs, kib] = (rep.stderr.trim().split('\n').pop() ?? '').split(' ').map(Number);
-process.stdout.write(rep.status === 0
-  ? `report of 7 days (${CH} ch × ${BANDS.length} bands, 1 h rows): ${secs.toFixed(2)} s wall, ${(kib / 1024).toFixed(0)} MiB peak RSS, ${(statSync(join(dir, 'week.html')).size / 1024).toFixed(0)} KiB of HTML\n`
-  : `report failed: ${rep.stderr}\n`);
+process.stdout.write(
+  rep.status === 0
+    ? `report of 7 days (${CH} ch × ${BANDS.length} bands, 1 h rows): ${secs.toFixed(2)} s wall, ${(kib / 1024).toFixed(0)} MiB peak RSS, ${(statSync(join(dir, 'week.html')).size / 1024).toFixed(0)} KiB of HTML\n`
+    : `report failed: ${rep.stderr}\n`,
+);

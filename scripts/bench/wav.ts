@@ -29,7 +29,11 @@ const data = Array.from({ length: CHANNELS }, () => rng.fillGaussian(new Float64
 
 function writeOurs(): number {
   const t0 = process.hrtime.bigint();
-  const w = new WavWriter(ours, { sampleRate: RATE, channels: data.map((_, c) => ({ name: `ch${c}`, unit: 'V' })), firstSample: 0 }, { durable: true });
+  const w = new WavWriter(
+    ours,
+    { sampleRate: RATE, channels: data.map((_, c) => ({ name: `ch${c}`, unit: 'V' })), firstSample: 0 },
+    { durable: true },
+  );
   for (let at = 0, n = 0; at < FRAMES; at += BLOCK, n++) {
     w.append(data, Math.min(BLOCK, FRAMES - at), at);
     if (n % 100 === 99) w.flush(); // once per 100 blocks = once per second of sample time at 100 kS/s
@@ -50,7 +54,13 @@ async function readOurs(): Promise<number> {
 
 async function analyzeOurs(): Promise<number> {
   const t0 = process.hrtime.bigint();
-  await analyzeFile(ours, { window: 'hann', overlap: 0.5, detrend: 'mean', bands: [{ low: 20, high: 20000 }], segment: 4096 });
+  await analyzeFile(ours, {
+    window: 'hann',
+    overlap: 0.5,
+    detrend: 'mean',
+    bands: [{ low: 20, high: 20000 }],
+    segment: 4096,
+  });
   return Number(process.hrtime.bigint() - t0) / 1e9;
 }
 
@@ -91,8 +101,11 @@ rmSync(theirs);
 const mb = (FRAMES * CHANNELS * 4) / 2 ** 20;
 const row = (label: string, a: number[], b: number[]): string =>
   `  ${label.padEnd(9)} floorline ${(mb / median(a)).toFixed(0).padStart(5)} MiB/s   scipy ${(mb / median(b)).toFixed(0).padStart(5)} MiB/s   ` +
-  `(${((FRAMES / median(a)) / 1e6).toFixed(1)} vs ${((FRAMES / median(b)) / 1e6).toFixed(1)} M frames/s)`;
+  `(${(FRAMES / median(a) / 1e6).toFixed(1)} vs ${(FRAMES / median(b) / 1e6).toFixed(1)} M frames/s)`;
 console.log(`${CHANNELS} ch × 2^22 frames float32 (${mb} MiB); medians of ${ROUNDS} alternating rounds`);
 console.log(row('write', o.write, s.write) + '  [ours: 1000-frame appends, flush+fdatasync every 100 blocks]');
-console.log(row('read', o.read, s.read) + '  [ours: 64 Ki-frame blocks to Float64Array per channel; scipy: whole file + astype(float64)]');
+console.log(
+  row('read', o.read, s.read) +
+    '  [ours: 64 Ki-frame blocks to Float64Array per channel; scipy: whole file + astype(float64)]',
+);
 console.log(row('analyze', o.analyze, s.analyze) + '  [read + Welch 4096/hann/50 %/mean on every channel]');

@@ -136,7 +136,9 @@ rmSync(output);
 
 const rate = (t: Timing[], which: 0 | 1): number => SAMPLES / median(t.map((v) => v[which]));
 const fmt = (v: number): string => `${(v / 1e6).toFixed(1).padStart(6)} M samples/s`;
-console.log(`2^24 samples, segment ${SEGMENT}, hann, 50 % overlap, mean detrend; medians of ${ROUNDS * PER_ROUND} runs each, alternating`);
+console.log(
+  `2^24 samples, segment ${SEGMENT}, hann, 50 % overlap, mean detrend; medians of ${ROUNDS * PER_ROUND} runs each, alternating`,
+);
 console.log('                            wall clock              process CPU time');
 for (const [name, t] of [
   ['floorline WelchEstimator', ours],
@@ -150,7 +152,9 @@ const ratio = (a: Timing[], b: Timing[], w: 0 | 1): string => (rate(a, w) / rate
 console.log(`  ratio floorline / scipy  : ${ratio(ours, theirs, 0)}×                  ${ratio(ours, theirs, 1)}×`);
 console.log(`  ratio span workers / scipy: ${ratio(spanned, theirs, 0)}× wall (CPU time counts every thread)`);
 console.log(`  ratio floorline / plain  : ${ratio(ours, plain, 0)}×                  ${ratio(ours, plain, 1)}×`);
-console.log(`  max relative difference from scipy: ${worst.toExponential(1)} (one thread), ${worstSpan.toExponential(1)} (span workers)`);
+console.log(
+  `  max relative difference from scipy: ${worst.toExponential(1)} (one thread), ${worstSpan.toExponential(1)} (span workers)`,
+);
 console.log(`  span workers: ${THREADS} started and warmed in ${startMs.toFixed(0)} ms (outside the timing)`);
 
 // Streaming: 4 channels at 100 kS/s in 1000-sample blocks, 20 s of sample time, default settings.

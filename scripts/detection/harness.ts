@@ -56,14 +56,30 @@ const BLOCK = 2000;
 
 function floorComponents(bench: Bench, seed: number): SynthComponent[] {
   const fs = bench.sampleRate;
-  const c: SynthComponent[] = [new WhiteNoise({ density: bench.floor.white, sampleRate: fs, seed: deriveSeed(seed, 1) })];
+  const c: SynthComponent[] = [
+    new WhiteNoise({ density: bench.floor.white, sampleRate: fs, seed: deriveSeed(seed, 1) }),
+  ];
   if (bench.floor.corner) {
-    c.push(new FlickerNoise({ density: bench.floor.white, corner: bench.floor.corner, sampleRate: fs, seed: deriveSeed(seed, 2), lowest: 0.05 }));
+    c.push(
+      new FlickerNoise({
+        density: bench.floor.white,
+        corner: bench.floor.corner,
+        sampleRate: fs,
+        seed: deriveSeed(seed, 2),
+        lowest: 0.05,
+      }),
+    );
   }
   return c;
 }
 
-function faultComponents(bench: Bench, fault: Fault, onsetSeconds: number, endSeconds: number, seed: number): SynthComponent[] {
+function faultComponents(
+  bench: Bench,
+  fault: Fault,
+  onsetSeconds: number,
+  endSeconds: number,
+  seed: number,
+): SynthComponent[] {
   const fs = bench.sampleRate;
   switch (fault.kind) {
     case 'none':
@@ -71,18 +87,43 @@ function faultComponents(bench: Bench, fault: Fault, onsetSeconds: number, endSe
     case 'tone':
       return [new Tone({ frequency: fault.frequency, rms: fault.rms, sampleRate: fs })];
     case 'mains':
-      return [new MainsPickup({ fundamental: fault.fundamental, harmonics: fault.harmonics, sampleRate: fs, driftSpan: fault.driftSpan ?? 0.05 })];
+      return [
+        new MainsPickup({
+          fundamental: fault.fundamental,
+          harmonics: fault.harmonics,
+          sampleRate: fs,
+          driftSpan: fault.driftSpan ?? 0.05,
+        }),
+      ];
     case 'band-rise': {
       // Added power D² = floor² · (10^(rise/10) − 1) over the band makes the band's floor rise by riseDb.
       const density = bench.floor.white * Math.sqrt(10 ** (fault.riseDb / 10) - 1);
-      return [new BandStep({ density, low: fault.low, high: fault.high, start: onsetSeconds, end: endSeconds, sampleRate: fs, seed: deriveSeed(seed, 3) })];
+      return [
+        new BandStep({
+          density,
+          low: fault.low,
+          high: fault.high,
+          start: onsetSeconds,
+          end: endSeconds,
+          sampleRate: fs,
+          seed: deriveSeed(seed, 3),
+        }),
+      ];
     }
     case 'overload':
       return [new Tone({ frequency: fault.frequency, rms: fault.peak / Math.SQRT2, sampleRate: fs })];
     case 'corner': {
       // D²·fc/f grows to D²·fc'/f: add an independent 1/f part with corner fc' − fc.
       const base = bench.floor.corner ?? 0;
-      return [new FlickerNoise({ density: bench.floor.white, corner: fault.to - base, sampleRate: fs, seed: deriveSeed(seed, 4), lowest: 0.05 })];
+      return [
+        new FlickerNoise({
+          density: bench.floor.white,
+          corner: fault.to - base,
+          sampleRate: fs,
+          seed: deriveSeed(seed, 4),
+          lowest: 0.05,
+        }),
+      ];
     }
   }
 }
@@ -130,7 +171,8 @@ function generator(bench: Bench, fault: Fault, seed: number, onset: number, endS
           out[i] += age >= ramp ? scratch[i] : scratch[i] * 0.5 * (1 - Math.cos((Math.PI * age) / ramp));
         }
       }
-      if (fullScale < Infinity) for (let i = 0; i < frames; i++) out[i] = Math.max(-fullScale, Math.min(fullScale, out[i]));
+      if (fullScale < Infinity)
+        for (let i = 0; i < frames; i++) out[i] = Math.max(-fullScale, Math.min(fullScale, out[i]));
     },
   };
 }
@@ -206,7 +248,14 @@ export function runScenario(o: {
 }
 
 /** First raised alarm of `rule` at or after the onset, as latency in seconds; undefined if none. */
-export function detectionLatency(events: FloorlineEvent[], rule: string, onsetSeconds: number, sampleRate: number): number | undefined {
-  const e = events.find((x) => x.kind === 'alarm' && x.rule === rule && x.state === 'raised' && x.sample >= onsetSeconds * sampleRate);
+export function detectionLatency(
+  events: FloorlineEvent[],
+  rule: string,
+  onsetSeconds: number,
+  sampleRate: number,
+): number | undefined {
+  const e = events.find(
+    (x) => x.kind === 'alarm' && x.rule === rule && x.state === 'raised' && x.sample >= onsetSeconds * sampleRate,
+  );
   return e ? e.sample / sampleRate - onsetSeconds : undefined;
 }

@@ -5,7 +5,12 @@ import { spawnSync } from 'node:child_process';
 
 const root = new URL('../..', import.meta.url).pathname;
 const out = await bundleForNode(`${root}scripts/detection/measure.ts`, `${root}.bench-tmp/detection-measure.mjs`);
-const r = spawnSync(process.execPath, [out], { cwd: root, encoding: 'utf8', maxBuffer: 16 << 20, stdio: ['ignore', 'pipe', 'inherit'] });
+const r = spawnSync(process.execPath, [out], {
+  cwd: root,
+  encoding: 'utf8',
+  maxBuffer: 16 << 20,
+  stdio: ['ignore', 'pipe', 'inherit'],
+});
 if (r.status !== 0) {
   process.stderr.write(`detection measurement failed (exit ${r.status})\n`);
   process.exit(1);

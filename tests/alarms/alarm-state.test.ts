@@ -89,7 +89,11 @@ describe('AlarmState', () => {
     }
     // Cleared offDelay after the recent level fell (evaluation 52), not when the long one reached T − 1 (evaluation 90);
     // raised again when the fault returned at 150.
-    expect(out).toEqual([[0, AlarmTransition.Raised], [52, AlarmTransition.Cleared], [150, AlarmTransition.Raised]]);
+    expect(out).toEqual([
+      [0, AlarmTransition.Raised],
+      [52, AlarmTransition.Cleared],
+      [150, AlarmTransition.Raised],
+    ]);
   });
 
   it('after a clear on the recent level, a recent level inside the deadband does not re-raise', () => {

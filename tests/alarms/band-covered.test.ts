@@ -23,7 +23,15 @@ function scattered(seed: number, level: number): Float64Array {
   return out;
 }
 
-function numpyReference(live: Float64Array, base: Float64Array, lo: number, hi: number, mask: Uint8Array, nu: [number, number][], alpha: number): { kept: number; all: number; fdb: number[] } {
+function numpyReference(
+  live: Float64Array,
+  base: Float64Array,
+  lo: number,
+  hi: number,
+  mask: Uint8Array,
+  nu: [number, number][],
+  alpha: number,
+): { kept: number; all: number; fdb: number[] } {
   const code = `
 import json, sys, numpy as np
 from scipy.stats import f
@@ -35,7 +43,15 @@ print(json.dumps({"kept": float(10*np.log10(live[keep].sum()/base[keep].sum())) 
                   "all": float(10*np.log10(live[sel].sum()/base[sel].sum())),
                   "fdb": [float(10*np.log10(f.ppf(1 - a["alpha"], n1, n2))) for n1, n2 in a["nu"]]}))`;
   const r = spawnSync('python3', ['-c', code], {
-    input: JSON.stringify({ live: Array.from(live), base: Array.from(base), mask: Array.from(mask), lo, hi, nu, alpha }),
+    input: JSON.stringify({
+      live: Array.from(live),
+      base: Array.from(base),
+      mask: Array.from(mask),
+      lo,
+      hi,
+      nu,
+      alpha,
+    }),
     encoding: 'utf8',
   });
   if (r.status !== 0) throw new Error(`python3 failed: ${r.stderr}`);
@@ -53,7 +69,15 @@ describe('a band under new lines', () => {
     const lo = Math.ceil(low / BIN);
     const hi = Math.floor(high / BIN);
     const alpha = 1e-3;
-    const cmp = new BandCompare({ binHz: BIN, bands: [{ low, high }], baselinePsd: base, baselineEquivalentAverages: 50, correlation: corr, marginDb: 0, alpha });
+    const cmp = new BandCompare({
+      binHz: BIN,
+      bands: [{ low, high }],
+      baselinePsd: base,
+      baselineEquivalentAverages: 50,
+      correlation: corr,
+      marginDb: 0,
+      alpha,
+    });
     const K = 20;
     const k = conservativeAverages(K);
     const all = hi - lo + 1;

@@ -23,7 +23,10 @@ function openAlarms(events: readonly FloorlineEvent[]): string[] {
     const key = [e.rule, e.channel, e.band?.join('-') ?? '', e.frequency ?? '', e.harmonic ?? ''].join('|');
     open.set(key, e.state === 'raised');
   }
-  return [...open].filter(([, v]) => v).map(([k]) => k).sort();
+  return [...open]
+    .filter(([, v]) => v)
+    .map(([k]) => k)
+    .sort();
 }
 
 describe('the demo past its loop seam', () => {
@@ -48,10 +51,13 @@ describe('the demo past its loop seam', () => {
         }
       },
     });
-    const monitor = await startMonitor(src, testMonitorOptions(mkdtempSync(join(tmpdir(), 'floorline-seam-')), {
-      baseline: { baseline, where: 'recordings/demo-baseline.json' },
-      parts: [watch],
-    }));
+    const monitor = await startMonitor(
+      src,
+      testMonitorOptions(mkdtempSync(join(tmpdir(), 'floorline-seam-')), {
+        baseline: { baseline, where: 'recordings/demo-baseline.json' },
+        parts: [watch],
+      }),
+    );
     await src.done;
     await monitor.finished;
     expect(status).toBeDefined();
@@ -61,7 +67,10 @@ describe('the demo past its loop seam', () => {
     expect(bridgeStates.filter((st) => st === 'ok')).toEqual([]);
     expect(bridgeStates.some((st) => st === 'held' || st === 'not-judged')).toBe(true);
     expect(afterClip!.bands.filter((b) => b.channel === 'shorted').every((b) => b.state !== 'held')).toBe(true);
-    const rows = status!.alarms.filter((a) => a.state === 'raised').map((a) => `${a.rule}|${a.channel}`).sort();
+    const rows = status!.alarms
+      .filter((a) => a.state === 'raised')
+      .map((a) => `${a.rule}|${a.channel}`)
+      .sort();
     expect(rows).toEqual(openAlarms(logAtStatus).map((k) => k.split('|').slice(0, 2).join('|')));
     // In the demo's script (recordings/README.md) the regulator spurs start at 30 s of each loop and mains at 20 s:
     // 12 s after the seam neither is on, so nothing is raised then.
@@ -71,6 +80,13 @@ describe('the demo past its loop seam', () => {
     expect(fundamentals.length).toBeGreaterThan(100);
     expect(fundamentals.filter((f) => Math.abs(f - 50) > 0.2)).toEqual([]);
     expect(events.filter((e) => / of 0\.00 Hz/.test(e.detail))).toEqual([]);
-    expect(events.filter((e) => e.rule === 'mains' && e.frequency !== undefined && Math.abs(e.frequency - 50 * (e.harmonic ?? 0)) > 0.05 * (e.harmonic ?? 0) + 1)).toEqual([]);
+    expect(
+      events.filter(
+        (e) =>
+          e.rule === 'mains' &&
+          e.frequency !== undefined &&
+          Math.abs(e.frequency - 50 * (e.harmonic ?? 0)) > 0.05 * (e.harmonic ?? 0) + 1,
+      ),
+    ).toEqual([]);
   }, 120_000);
 });

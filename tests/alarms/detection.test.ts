@@ -36,7 +36,12 @@ describe('detection on seeded recordings', () => {
   for (const level of [3e-7, 1e-6, 1e-5]) {
     it(`mains pickup of ${level} V rms at 50 Hz (with a third harmonic) fading in over 1 s is reported as mains within 3 s`, () => {
       const r = runScenario({
-        bench: DEFAULT_BENCH, baseline, seed: 7, onsetSeconds: 20, rampSeconds: 1, seconds: 40,
+        bench: DEFAULT_BENCH,
+        baseline,
+        seed: 7,
+        onsetSeconds: 20,
+        rampSeconds: 1,
+        seconds: 40,
         fault: { kind: 'mains', fundamental: 50, harmonics: [level, 0, level / 3], driftSpan: 0.05 },
       });
       const lat = detectionLatency(r.events, 'mains', 20, DEFAULT_BENCH.sampleRate);
@@ -65,7 +70,11 @@ describe('detection on seeded recordings', () => {
     // does not taper an edge inside the segment), so for a line 60 dB over the floor one segment carries a broadband
     // burst, and the exponential average holds it for a few τ. This documents the behaviour rather than hiding it.
     const r = runScenario({
-      bench: DEFAULT_BENCH, baseline, seed: 7, onsetSeconds: 20, seconds: 60,
+      bench: DEFAULT_BENCH,
+      baseline,
+      seed: 7,
+      onsetSeconds: 20,
+      seconds: 60,
       fault: { kind: 'mains', fundamental: 50, harmonics: [1e-5, 0, 1e-5 / 3], driftSpan: 0.05 },
     });
     const band = r.events.filter((e) => e.rule === 'band-rise');
@@ -78,7 +87,14 @@ describe('detection on seeded recordings', () => {
   it('a new 3e-7 V rms spur at 1234.5 Hz is reported with its frequency within 4 s', () => {
     // Peak density of a Hann-windowed line ≈ A²/(NENBW·Δf) (Heinzel 2002 §10) = 9e-14/5.86 = 1.5e-14 V²/Hz over a
     // 1e-16 V²/Hz floor: R ≈ 150, threshold 10 dB → t ≈ 10·ln(149/140) + 0.5 ≈ 1.1 s, 4 s allows worst scalloping.
-    const r = runScenario({ bench: DEFAULT_BENCH, baseline, seed: 8, onsetSeconds: 20, seconds: 40, fault: { kind: 'tone', frequency: 1234.5, rms: 3e-7 } });
+    const r = runScenario({
+      bench: DEFAULT_BENCH,
+      baseline,
+      seed: 8,
+      onsetSeconds: 20,
+      seconds: 40,
+      fault: { kind: 'tone', frequency: 1234.5, rms: 3e-7 },
+    });
     const lat = detectionLatency(r.events, 'spur', 20, DEFAULT_BENCH.sampleRate);
     expect(lat).toBeDefined();
     expect(lat!).toBeLessThan(4);
@@ -89,7 +105,15 @@ describe('detection on seeded recordings', () => {
 
   it('a +6 dB floor rise confined to 200–800 Hz raises that band within the first-order latency, and no other band', () => {
     const rules = parseRules({ band: { bands: ['200:800', '1000:1900', '20:150'] } }, 'test');
-    const r = runScenario({ bench: DEFAULT_BENCH, baseline, rules, seed: 9, onsetSeconds: 20, seconds: 45, fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 6 } });
+    const r = runScenario({
+      bench: DEFAULT_BENCH,
+      baseline,
+      rules,
+      seed: 9,
+      onsetSeconds: 20,
+      seconds: 45,
+      fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 6 },
+    });
     const raised = r.events.filter((e) => e.rule === 'band-rise' && e.state === 'raised');
     expect(raised.map((e) => e.band)).toEqual([[200, 800]]);
     const lat = raised[0].t - 20;
@@ -102,7 +126,15 @@ describe('detection on seeded recordings', () => {
     // At the default margin a +3 dB rise equals the threshold: the exponential average approaches it from below
     // and crosses only by chance, so a +3 dB watch needs a lower margin; 2 dB gives t ≈ 10·ln(1/0.415) + 0.5 ≈ 9.3 s.
     const rules = parseRules({ band: { marginDb: 2, bands: ['200:800', '1000:1900'] } }, 'test');
-    const r = runScenario({ bench: DEFAULT_BENCH, baseline, rules, seed: 10, onsetSeconds: 20, seconds: 50, fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 3 } });
+    const r = runScenario({
+      bench: DEFAULT_BENCH,
+      baseline,
+      rules,
+      seed: 10,
+      onsetSeconds: 20,
+      seconds: 50,
+      fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 3 },
+    });
     const raised = r.events.filter((e) => e.rule === 'band-rise' && e.state === 'raised');
     expect(raised.map((e) => e.band)).toEqual([[200, 800]]);
     const expected = expectedLatency(10 ** 0.3, 2);
@@ -112,7 +144,14 @@ describe('detection on seeded recordings', () => {
 
   it('a 1/f corner moving from 10 Hz to 100 Hz raises the lowest decade band within the first-order latency', () => {
     // Band 11.7–100 Hz (default decade band): white part 88.3·w², 1/f part w²·fc·ln(100/11.72) → R = 302.9/109.8 = 2.76
-    const r = runScenario({ bench: flickerBench, baseline: flickerBaseline, seed: 11, onsetSeconds: 20, seconds: 45, fault: { kind: 'corner', to: 100 } });
+    const r = runScenario({
+      bench: flickerBench,
+      baseline: flickerBaseline,
+      seed: 11,
+      onsetSeconds: 20,
+      seconds: 45,
+      fault: { kind: 'corner', to: 100 },
+    });
     const raised = r.events.filter((e) => e.rule === 'band-rise' && e.state === 'raised');
     expect(raised.length).toBeGreaterThan(0);
     expect(raised[0].band![1]).toBe(100);
@@ -129,7 +168,16 @@ describe('detection on seeded recordings', () => {
     const fault = { kind: 'band-rise', low: 200, high: 800, riseDb: 3.05 } as const;
     const bands = { bands: ['200:800'] };
     const withRules = (band: object) =>
-      runScenario({ bench: DEFAULT_BENCH, baseline, rules: parseRules({ band: { ...bands, ...band } }, 'test'), seed: 12, onsetSeconds: 10, faultSeconds: 100, seconds: 160, fault });
+      runScenario({
+        bench: DEFAULT_BENCH,
+        baseline,
+        rules: parseRules({ band: { ...bands, ...band } }, 'test'),
+        seed: 12,
+        onsetSeconds: 10,
+        faultSeconds: 100,
+        seconds: 160,
+        fault,
+      });
     const hysteresis = withRules({}).events.filter((e) => e.rule === 'band-rise');
     expect(hysteresis.map((e) => e.state)).toEqual(['raised', 'settled', 'cleared']);
     const bare = withRules({ onDelay: 0, offDelay: 0, deadband: 0 }).events.filter((e) => e.rule === 'band-rise');
@@ -138,9 +186,21 @@ describe('detection on seeded recordings', () => {
 
   it('two hours of quiet floor at default rules raise no alarm', () => {
     // 2 h of sample time at 1 kS/s (256-point segments) with a 1/f corner at 5 Hz: 56 000 snapshots.
-    const bench: Bench = { sampleRate: 1000, analysis: { segment: 256, window: 'hann', overlap: 0.5, detrend: 'mean' }, floor: { white: 10e-9, corner: 5 } };
+    const bench: Bench = {
+      sampleRate: 1000,
+      analysis: { segment: 256, window: 'hann', overlap: 0.5, detrend: 'mean' },
+      floor: { white: 10e-9, corner: 5 },
+    };
     const base = captureQuietBaseline(bench, 600, 201);
-    const r = runScenario({ bench, baseline: base, rules: defaultRules(), fault: { kind: 'none' }, onsetSeconds: 0, seconds: 7200, seed: 202 });
+    const r = runScenario({
+      bench,
+      baseline: base,
+      rules: defaultRules(),
+      fault: { kind: 'none' },
+      onsetSeconds: 0,
+      seconds: 7200,
+      seed: 202,
+    });
     expect(r.snapshots).toBeGreaterThan(50_000);
     expect(r.events).toEqual([]);
   }, 120_000);

@@ -22,8 +22,14 @@ const info: StreamInfo = {
 };
 
 /** Feeds seeded noise (σ = 100 counts) in 1000-frame blocks; `at` can alter a block (clip, skip) by its index. */
-function drive(blocks: number, at: (i: number, p: Pipeline, data: Float64Array, first: number) => boolean | void): FloorlineEvent[] {
-  const p = new Pipeline({ analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' }, mode: 'lossless' });
+function drive(
+  blocks: number,
+  at: (i: number, p: Pipeline, data: Float64Array, first: number) => boolean | void,
+): FloorlineEvent[] {
+  const p = new Pipeline({
+    analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+    mode: 'lossless',
+  });
   p.addDetector(new AlarmHook());
   const events: FloorlineEvent[] = [];
   p.on('event', (e) => events.push(e));
@@ -87,14 +93,24 @@ describe('health alarms', () => {
 
 describe('analysis overrun', () => {
   it('dropped blocks raise overrun once and clear it after a second of sample time without drops', () => {
-    const d = new Detectors(undefined, defaultRules(), { settings: { sampleRate: FS, segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' }, channels: [{ name: 'ch0' }], startWallTime: '2026-01-01T00:00:00.000Z' });
+    const d = new Detectors(undefined, defaultRules(), {
+      settings: { sampleRate: FS, segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+      channels: [{ name: 'ch0' }],
+      startWallTime: '2026-01-01T00:00:00.000Z',
+    });
     const psd = new Float64Array(513).fill(1e-16);
     const snap = (sample: number) => ({
-      sample, t: sample / FS, wallTime: '', settings: d.settings, frequencies: new Float64Array(513),
+      sample,
+      t: sample / FS,
+      wallTime: '',
+      settings: d.settings,
+      frequencies: new Float64Array(513),
       channels: [{ name: 'ch0', unit: 'V', psd, segmentsUsed: 10, equivalentAverages: 10 }],
     });
     const raised = d.onOverrun({ sample: 8000, lost: 4000, droppedBlocks: 2 });
-    expect(raised.map((e) => [e.rule, e.state, e.sample, e.wallTime])).toEqual([['overrun', 'raised', 8000, '2026-01-01T00:00:02.000Z']]);
+    expect(raised.map((e) => [e.rule, e.state, e.sample, e.wallTime])).toEqual([
+      ['overrun', 'raised', 8000, '2026-01-01T00:00:02.000Z'],
+    ]);
     expect(d.onOverrun({ sample: 9000, lost: 1000, droppedBlocks: 1 })).toEqual([]);
     expect(d.onSnapshot(snap(12_000)).filter((e) => e.rule === 'overrun')).toEqual([]);
     const cleared = d.onSnapshot(snap(13_000)).filter((e) => e.rule === 'overrun');
@@ -106,12 +122,23 @@ describe('analysis overrun', () => {
 describe('acknowledge and shelve', () => {
   it('a shelved band rule stays silent while its fault is present and speaks when the shelf ends', () => {
     const baseline = captureQuietBaseline(DEFAULT_BENCH, 60, 301);
-    const plain = runScenario({ bench: DEFAULT_BENCH, baseline, seed: 302, onsetSeconds: 10, seconds: 40, fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 10 } });
+    const plain = runScenario({
+      bench: DEFAULT_BENCH,
+      baseline,
+      seed: 302,
+      onsetSeconds: 10,
+      seconds: 40,
+      fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 10 },
+    });
     const raisedAt = plain.events.find((e) => e.rule === 'band-rise' && e.state === 'raised')!.sample;
     // Same run, shelving band-rise on ch0 until t = 30 s from the first snapshot on.
     const until = 30 * DEFAULT_BENCH.sampleRate;
     const shelved = runScenario({
-      bench: DEFAULT_BENCH, baseline, seed: 302, onsetSeconds: 10, seconds: 40,
+      bench: DEFAULT_BENCH,
+      baseline,
+      seed: 302,
+      onsetSeconds: 10,
+      seconds: 40,
       fault: { kind: 'band-rise', low: 200, high: 800, riseDb: 10 },
       onHook: (hook) => hook.whenBuilt((d) => d.shelve('band-rise', 'ch0', until)),
     });
@@ -129,7 +156,16 @@ describe('EventLog', () => {
       const a = join(dir, 'events.jsonl');
       const b = join(dir, 'sub/out.jsonl');
       const log = new EventLog([a, b]);
-      const e: FloorlineEvent = { kind: 'alarm', rule: 'gap', state: 'raised', channel: '*', sample: 5, t: 0.00125, wallTime: '2026-01-01T00:00:00.001Z', detail: 'x' };
+      const e: FloorlineEvent = {
+        kind: 'alarm',
+        rule: 'gap',
+        state: 'raised',
+        channel: '*',
+        sample: 5,
+        t: 0.00125,
+        wallTime: '2026-01-01T00:00:00.001Z',
+        detail: 'x',
+      };
       log.write(e);
       // Read back before close: written through, not buffered (JSON Lines, jsonlines.org: one JSON value per line).
       expect(readFileSync(a, 'utf8')).toBe(JSON.stringify(e) + '\n');

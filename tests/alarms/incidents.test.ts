@@ -18,7 +18,10 @@ function raisedState(): AlarmState {
 describe('incidents', () => {
   it('groups mains harmonics 1..5 of one channel into one incident, apart from another channel', () => {
     const book = new IncidentBook(FS, BIN);
-    const ids = [1, 3, 2, 5].map((k, i) => book.join({ rule: 'mains', channel: 'bridge', frequency: 50.01 * k, harmonic: k }, at(20 + i)).incident.id);
+    const ids = [1, 3, 2, 5].map(
+      (k, i) =>
+        book.join({ rule: 'mains', channel: 'bridge', frequency: 50.01 * k, harmonic: k }, at(20 + i)).incident.id,
+    );
     expect(new Set(ids).size).toBe(1);
     const other = book.join({ rule: 'mains', channel: 'shorted', frequency: 50.01, harmonic: 1 }, at(21)).incident.id;
     expect(other).not.toBe(ids[0]);
@@ -44,10 +47,12 @@ describe('incidents', () => {
     // A band rise long after an unrelated line outside its band is its own incident.
     const later = new IncidentBook(FS, BIN);
     const l2 = later.join({ rule: 'spur', channel: 'bridge', frequency: 1953 }, at(10));
-    expect(later.join({ rule: 'band-rise', channel: 'bridge', band: [100, 1000] }, at(10 + GROUP_SECONDS + 1)).incident).not.toBe(l2.incident);
+    expect(
+      later.join({ rule: 'band-rise', channel: 'bridge', band: [100, 1000] }, at(10 + GROUP_SECONDS + 1)).incident,
+    ).not.toBe(l2.incident);
   });
 
-  it('ends at its last member\'s clear; a later alarm opens a new incident', () => {
+  it("ends at its last member's clear; a later alarm opens a new incident", () => {
     const book = new IncidentBook(FS, BIN);
     const m1 = book.join({ rule: 'mains', channel: 'bridge', frequency: 50, harmonic: 1 }, at(20));
     const m3 = book.join({ rule: 'mains', channel: 'bridge', frequency: 150, harmonic: 3 }, at(21));
@@ -58,12 +63,20 @@ describe('incidents', () => {
     const rec = book.record(m1.incident);
     expect(rec.members.map((m) => m.harmonic)).toEqual([1, 3]);
     expect(rec.peak).toEqual({ levelDb: 30, amplitude: 3e-6, sample: 33 * FS });
-    expect(book.join({ rule: 'mains', channel: 'bridge', frequency: 50, harmonic: 1 }, at(60)).incident).not.toBe(m1.incident);
+    expect(book.join({ rule: 'mains', channel: 'bridge', frequency: 50, harmonic: 1 }, at(60)).incident).not.toBe(
+      m1.incident,
+    );
   });
 
   it('acknowledges and shelves every member of an incident, and the members that join it later', () => {
     const book = new IncidentBook(FS, BIN);
-    const spec = (k: number): MemberSpec => ({ rule: 'mains', channel: 'bridge', frequency: 50 * k, harmonic: k, state: raisedState() });
+    const spec = (k: number): MemberSpec => ({
+      rule: 'mains',
+      channel: 'bridge',
+      frequency: 50 * k,
+      harmonic: k,
+      state: raisedState(),
+    });
     const a = book.join(spec(1), at(20));
     expect(book.acknowledge(a.incident.id)).toBe(true);
     expect(a.state!.acknowledged).toBe(true);

@@ -9,7 +9,13 @@ describe('MainsClassifier', () => {
   it('finds a 50 Hz supply running 0.15 Hz fast and classifies its harmonics up to k = 20 at 1 Hz resolution', () => {
     // A grid inside its normal ±0.2 Hz range (EN 50160 allows ±1 % over a year; ±0.2 Hz is typical practice).
     const f0 = 50.15;
-    const { f, a, n } = lines([[f0, 1e-6], [2 * f0, 2e-7], [3 * f0, 5e-7], [20 * f0 + 0.3, 1e-7], [1234.5, 3e-7]]);
+    const { f, a, n } = lines([
+      [f0, 1e-6],
+      [2 * f0, 2e-7],
+      [3 * f0, 5e-7],
+      [20 * f0 + 0.3, 1e-7],
+      [1234.5, 3e-7],
+    ]);
     const m = new MainsClassifier({ setting: 'auto', binHz: 0.9765625 }, 8);
     m.classify(f, a, n);
     expect(m.fundamental).toBeCloseTo(f0, 9);
@@ -21,7 +27,11 @@ describe('MainsClassifier', () => {
   });
 
   it('tells a 60 Hz grid from a 50 Hz one', () => {
-    const { f, a, n } = lines([[59.9, 1e-6], [179.7, 4e-7], [299.5, 2e-7]]);
+    const { f, a, n } = lines([
+      [59.9, 1e-6],
+      [179.7, 4e-7],
+      [299.5, 2e-7],
+    ]);
     const m = new MainsClassifier({ setting: 'auto', binHz: 1 }, 8);
     m.classify(f, a, n);
     expect(m.fundamental).toBeCloseTo(59.9, 9);
@@ -49,7 +59,10 @@ describe('MainsClassifier', () => {
     let l = lines([[50.02, 1e-6]]);
     m.classify(l.f, l.a, l.n);
     expect(m.nominal).toBe(50);
-    l = lines([[119.8, 1e-2], [50.01, 1e-6]]);
+    l = lines([
+      [119.8, 1e-2],
+      [50.01, 1e-6],
+    ]);
     m.classify(l.f, l.a, l.n);
     expect(m.fundamental).toBeCloseTo(50.01, 9);
     expect(Array.from(m.harmonic.subarray(0, l.n))).toEqual([0, 1]);

@@ -29,11 +29,15 @@ beforeAll(() => {
 });
 
 describe('overload hold', () => {
-  it('holds new spectral alarms while clipped segments weigh ≥ 1 % of their entry weight, and raises none of the burst\'s products after it', () => {
+  it("holds new spectral alarms while clipped segments weigh ≥ 1 % of their entry weight, and raises none of the burst's products after it", () => {
     // A 119.47 Hz swing at 1.2 × full scale for 0.1 s, as in the demo's overload: clipping spreads its harmonics
     // and their aliases over the whole spectrum.
     const r = runScenario({
-      bench: BENCH, baseline, seed: 31, onsetSeconds: 10, seconds: 36,
+      bench: BENCH,
+      baseline,
+      seed: 31,
+      onsetSeconds: 10,
+      seconds: 36,
       fault: { kind: 'overload', frequency: 119.47, peak: 1.2, seconds: 0.1 },
     });
     const clip = r.events.filter((e) => e.rule === 'clip');
@@ -46,7 +50,9 @@ describe('overload hold', () => {
     // n ≥ τ·ln(100)/hop newer segments; the first of those ends at lastClipped + segment.
     const n = Math.ceil((TAU * Math.log(1 / CONTAMINATION_HOLD_WEIGHT)) / (STEP / FS));
     const release = lastClipped + SEGMENT + (n - 1) * STEP;
-    const spectral = r.events.filter((e) => e.kind === 'alarm' && SPECTRAL.has(e.rule) && e.state === 'raised' && e.sample >= clipFirst);
+    const spectral = r.events.filter(
+      (e) => e.kind === 'alarm' && SPECTRAL.has(e.rule) && e.state === 'raised' && e.sample >= clipFirst,
+    );
     // Nothing raised between the clip and the release (the products were above threshold all along) …
     expect(spectral.filter((e) => e.sample < release - STEP)).toEqual([]);
     // … nor at the release: the long average still holds the products there, but a raise also needs the recent
@@ -63,7 +69,11 @@ describe('overload hold', () => {
     // A 0.3 µV rms tone present 5–15 s. An alarm journal pairs each return to normal with the alarm it ends
     // (ISA-18.2 alarm records, common practice); the status table keys lines by frequency to 0.1 Hz.
     const r = runScenario({
-      bench: { ...BENCH, fullScale: undefined }, baseline, seed: 32, onsetSeconds: 5, seconds: 30,
+      bench: { ...BENCH, fullScale: undefined },
+      baseline,
+      seed: 32,
+      onsetSeconds: 5,
+      seconds: 30,
       fault: { kind: 'overload', frequency: 1234.56, peak: 3e-7 * Math.SQRT2, seconds: 10 },
     });
     const spur = r.events.filter((e) => e.rule === 'spur');
@@ -73,7 +83,9 @@ describe('overload hold', () => {
     expect(spur[0].frequency!.toFixed(1)).toBe(spur[2].frequency!.toFixed(1));
     expect(Math.abs(spur[1].frequency! - 1234.56)).toBeLessThan(0.5);
     // numpy's view of where the tone sits: within half a bin of 1234.56 Hz.
-    const bin = python(`import numpy as np, json; f=np.fft.rfftfreq(${SEGMENT}, 1/${FS}); print(json.dumps(float(f[1]-f[0])))`) as number;
+    const bin = python(
+      `import numpy as np, json; f=np.fft.rfftfreq(${SEGMENT}, 1/${FS}); print(json.dumps(float(f[1]-f[0])))`,
+    ) as number;
     expect(Math.abs(spur[0].frequency! - 1234.56)).toBeLessThan(bin / 2);
     // Status: no line reads as raised once the log says cleared.
     expect((r.status?.[0].lines ?? []).filter((l) => l.active)).toEqual([]);
@@ -99,9 +111,15 @@ print(json.dumps({"ex": (ex / ex[j]).tolist(), "mean": (mean / mean[j]).tolist()
     for (let m = j; m < N; m++) {
       const newer = m - j;
       const used = m + 1;
-      expect(contaminationWeight({ mode: 'exponential', tauSeconds: TAU }, newer, used, hop)).toBeCloseTo(ref.ex[m], 12);
+      expect(contaminationWeight({ mode: 'exponential', tauSeconds: TAU }, newer, used, hop)).toBeCloseTo(
+        ref.ex[m],
+        12,
+      );
       expect(contaminationWeight({ mode: 'mean' }, newer, used, hop)).toBeCloseTo(ref.mean[m], 12);
-      expect(contaminationWeight({ mode: 'rolling', count: 16 }, newer, Math.min(used, 16), hop)).toBeCloseTo(ref.roll[m] > 1e-12 ? 1 : 0, 12);
+      expect(contaminationWeight({ mode: 'rolling', count: 16 }, newer, Math.min(used, 16), hop)).toBeCloseTo(
+        ref.roll[m] > 1e-12 ? 1 : 0,
+        12,
+      );
     }
     // Max hold never forgets until the average restarts; a restarted average holds none of it.
     expect(contaminationWeight({ mode: 'max' }, 70, 80, hop)).toBe(1);

@@ -27,19 +27,42 @@ afterAll(() => py.close());
 
 async function numpyRecent(last: number, m: number, r: number): Promise<Float64Array> {
   // Segment j starts at j·STEP; its own periodogram is scipy.signal.welch over exactly that segment. Weights r^age.
-  const hex = await py.run<string>(`x = np.frombuffer(bytes.fromhex(args[0]), dtype='<f8')
+  const hex = await py.run<string>(
+    `x = np.frombuffer(bytes.fromhex(args[0]), dtype='<f8')
 last, m, r, n, step, fs = args[1:]
 rows = [signal.welch(x[j * step:j * step + n], fs=fs, nperseg=n, noverlap=0, window='hann', detrend='constant')[1] for j in range(last - m + 1, last + 1)]
 w = np.array([r ** (m - 1 - i) for i in range(m)])
 result = (np.tensordot(w, np.array(rows), 1) / w.sum()).astype('<f8').tobytes().hex()`,
-  Buffer.from(samples.buffer, samples.byteOffset, samples.byteLength).toString('hex'), last, m, r, N, STEP, FS);
+    Buffer.from(samples.buffer, samples.byteOffset, samples.byteLength).toString('hex'),
+    last,
+    m,
+    r,
+    N,
+    STEP,
+    FS,
+  );
   return hexToFloat64(hex);
 }
 
 function run(averaging: AveragingSpec): { recent: RecentSpectrum; segments: number } {
-  const est = new WelchEstimator({ sampleRate: FS, segment: N, window: 'hann', overlap: 0.5, detrend: 'mean', averaging });
+  const est = new WelchEstimator({
+    sampleRate: FS,
+    segment: N,
+    window: 'hann',
+    overlap: 0.5,
+    detrend: 'mean',
+    averaging,
+  });
   const win = makeWindow('hann', N);
-  const recent = new RecentSpectrum({ bins: N / 2 + 1, averaging, segment: N, step: STEP, sampleRate: FS, windowSegments: M, rho: overlapRho(win.values, STEP) });
+  const recent = new RecentSpectrum({
+    bins: N / 2 + 1,
+    averaging,
+    segment: N,
+    step: STEP,
+    sampleRate: FS,
+    windowSegments: M,
+    rho: overlapRho(win.values, STEP),
+  });
   // One snapshot per new segment, and some with two new segments (as a slow snapshot rate gives).
   for (let pos = 0; pos + STEP <= samples.length; pos += STEP) {
     est.push(samples, pos, pos + STEP);
@@ -73,6 +96,7 @@ describe('recent estimate from the long average', () => {
     const rho = overlapRho(win.values, STEP);
     // Hann at 50 % overlap: ρ(N/2) = 0.1667² = 0.0278 (Heinzel 2002 table), the only non-zero lag.
     expect(rho[0]).toBeCloseTo(1 / 36, 4);
-    for (const k of [1, 2, 9, 40]) expect(weightedEquivalent(k, 1, rho)).toBeCloseTo(k / (1 + 2 * (1 - 1 / k) * (1 / 36)), 3);
+    for (const k of [1, 2, 9, 40])
+      expect(weightedEquivalent(k, 1, rho)).toBeCloseTo(k / (1 + 2 * (1 - 1 / k) * (1 / 36)), 3);
   });
 });

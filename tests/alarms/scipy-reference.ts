@@ -5,8 +5,13 @@ import { fileURLToPath } from 'node:url';
 const script = fileURLToPath(new URL('./scipy-reference.py', import.meta.url));
 
 export function scipyReference<T>(command: string, args: unknown): T {
-  const r = spawnSync('python3', [script, command], { input: JSON.stringify(args), encoding: 'utf8', maxBuffer: 64 << 20 });
-  if (r.status !== 0) throw new Error(`scipy-reference.py ${command} failed (${r.error?.message ?? r.status}): ${r.stderr}`);
+  const r = spawnSync('python3', [script, command], {
+    input: JSON.stringify(args),
+    encoding: 'utf8',
+    maxBuffer: 64 << 20,
+  });
+  if (r.status !== 0)
+    throw new Error(`scipy-reference.py ${command} failed (${r.error?.message ?? r.status}): ${r.stderr}`);
   return JSON.parse(r.stdout) as T;
 }
 

@@ -16,7 +16,7 @@ function density(rng: SeededRandom, kind: 'scatter' | 'ties' | 'flat'): Float64A
     // Mean of 8 exponential variates (χ² with 16 degrees of freedom / 16) over a 1/f + white floor.
     let s = 0;
     for (let i = 0; i < 8; i++) s -= Math.log(1 - rng.uniform());
-    psd[k] = (1e-15 * (1 + 40 / (k + 1))) * (s / 8);
+    psd[k] = 1e-15 * (1 + 40 / (k + 1)) * (s / 8);
   }
   for (let t = 0; t < 12; t++) {
     const at = 20 + Math.floor(rng.uniform() * (bins - 40));
@@ -26,7 +26,8 @@ function density(rng: SeededRandom, kind: 'scatter' | 'ties' | 'flat'): Float64A
     psd[at + 1] *= height / 4;
   }
   if (kind === 'ties') for (let k = 0; k < bins; k++) psd[k] = Math.round(psd[k] / 1e-15) * 1e-15;
-  if (kind === 'flat') for (let k = 0; k < bins; k += 37) psd.fill(psd[k], k, Math.min(bins, k + 1 + Math.floor(rng.uniform() * 9)));
+  if (kind === 'flat')
+    for (let k = 0; k < bins; k += 37) psd.fill(psd[k], k, Math.min(bins, k + 1 + Math.floor(rng.uniform() * 9)));
   return psd;
 }
 

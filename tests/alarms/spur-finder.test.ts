@@ -7,7 +7,11 @@ import { scipyBatch } from './scipy-reference.ts';
 const fs = 8000;
 const segment = 1024;
 const medianWidths = [1, 4, 16];
-const tones = [[1234.5, 1e-3], [2000.0, 3e-4], [517.3, 1e-2]] as const;
+const tones = [
+  [1234.5, 1e-3],
+  [2000.0, 3e-4],
+  [517.3, 1e-2],
+] as const;
 const rng = new SeededRandom(11);
 const x = new Float64Array(301);
 for (let i = 0; i < x.length; i++) x[i] = Math.exp(rng.gaussian());
@@ -24,7 +28,10 @@ beforeAll(() => {
   const calls: [string, unknown][] = [
     ...medianWidths.map((h): [string, unknown] => ['median', { x: Array.from(x), h }]),
     ['median', { x: Array.from(ties), h: 4 }],
-    ...tones.map(([freq, rms]): [string, unknown] => ['tone-psd', { fs, n: fs * 8, segment, freq, rms, noise: 1e-5, seed: 3, window: 'hann' }]),
+    ...tones.map(([freq, rms]): [string, unknown] => [
+      'tone-psd',
+      { fs, n: fs * 8, segment, freq, rms, noise: 1e-5, seed: 3, window: 'hann' },
+    ]),
     ['tone-psd', { fs, n: fs * 8, segment, freq: 1000, rms: 0, noise: 1e-5, seed: 4, window: 'hann' }],
   ];
   const r = scipyBatch(calls);

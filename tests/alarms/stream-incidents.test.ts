@@ -3,8 +3,16 @@ import { describe, expect, it } from 'vitest';
 import { StreamIncidents } from '../../agent/rules/stream-incidents.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 
-const ev = (state: FloorlineEvent['state'], sample: number, channel = '*'): FloorlineEvent =>
-  ({ kind: 'alarm', rule: 'nonfinite', state, channel, sample, t: sample / 1000, wallTime: '2026-01-01T00:00:00Z', detail: '' });
+const ev = (state: FloorlineEvent['state'], sample: number, channel = '*'): FloorlineEvent => ({
+  kind: 'alarm',
+  rule: 'nonfinite',
+  state,
+  channel,
+  sample,
+  t: sample / 1000,
+  wallTime: '2026-01-01T00:00:00Z',
+  detail: '',
+});
 
 describe('stream incidents', () => {
   it('gives a raise and its clear one id, the next raise another, and leaves detector incidents alone', () => {

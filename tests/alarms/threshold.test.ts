@@ -19,15 +19,27 @@ describe('threshold statistics', () => {
   it('F and χ² quantiles equal scipy.stats f.ppf and chi2.ppf across the degrees of freedom we meet', () => {
     const fCases: [number, number, number][] = [];
     for (const alpha of [1e-2, 1e-4, 1e-6, 1e-9]) {
-      for (const [d1, d2] of [[2, 2], [14, 2000], [37.5, 4100], [300, 300], [1e4, 1e5], [2e6, 2e6]]) fCases.push([1 - alpha, d1, d2]);
+      for (const [d1, d2] of [
+        [2, 2],
+        [14, 2000],
+        [37.5, 4100],
+        [300, 300],
+        [1e4, 1e5],
+        [2e6, 2e6],
+      ])
+        fCases.push([1 - alpha, d1, d2]);
     }
     const chiCases: [number, number][] = [];
     for (const alpha of [1e-3, 1e-6, 1e-9]) for (const k of [2, 7.3, 40, 1000]) chiCases.push([1 - alpha, k]);
     // Source: scipy.stats.f.ppf(p, d1, d2) and scipy.stats.chi2.ppf(p, k), scipy 1.17.
     const ref = scipyReference<{ f: number[]; chi2: number[] }>('quantiles', { f: fCases, chi2: chiCases });
     fCases.forEach(([p, d1, d2], i) => expect(fUpperQuantile(1 - p, d1, d2)).toBeCloseTo(ref.f[i], 6));
-    fCases.forEach(([p, d1, d2], i) => expect(Math.abs(fUpperQuantile(1 - p, d1, d2) / ref.f[i] - 1)).toBeLessThan(1e-6));
-    chiCases.forEach(([p, k], i) => expect(Math.abs(chi2MeanUpperQuantile(1 - p, k) * k / ref.chi2[i] - 1)).toBeLessThan(1e-6));
+    fCases.forEach(([p, d1, d2], i) =>
+      expect(Math.abs(fUpperQuantile(1 - p, d1, d2) / ref.f[i] - 1)).toBeLessThan(1e-6),
+    );
+    chiCases.forEach(([p, k], i) =>
+      expect(Math.abs((chi2MeanUpperQuantile(1 - p, k) * k) / ref.chi2[i] - 1)).toBeLessThan(1e-6),
+    );
   });
 
   it('the squared-Hann correlation of neighbouring bin powers is 4/9, then 1/36, then zero', () => {
@@ -42,7 +54,12 @@ describe('threshold statistics', () => {
   it('the band-sum degrees of freedom match a Monte Carlo of scipy.signal.welch on white noise', () => {
     const segment = 256;
     const segments = 8;
-    const bands: [number, number][] = [[10, 10], [20, 23], [40, 71], [5, 124]];
+    const bands: [number, number][] = [
+      [10, 10],
+      [20, 23],
+      [40, 71],
+      [5, 124],
+    ];
     const corr = binPowerCorrelation(hann(segment));
     const nu = bands.map(([lo, hi]) => bandDegreesOfFreedom(segments, hi - lo + 1, corr));
     const alpha = 0.01;
@@ -51,7 +68,12 @@ describe('threshold statistics', () => {
     // Source: scipy.signal.welch(hann, nperseg=256, noverlap=0) of numpy default_rng(20261201) white noise; the
     // Satterthwaite dof of a sum S is 2·E[S]²/Var[S].
     const ref = scipyReference<{ bands: { mean: number; var: number; exceed: number }[] }>('band-mc', {
-      seed: 20261201, trials, segment, segments, bands, threshold: thresholds,
+      seed: 20261201,
+      trials,
+      segment,
+      segments,
+      bands,
+      threshold: thresholds,
     });
     ref.bands.forEach((b, i) => {
       const nuMc = (2 * b.mean * b.mean) / b.var;

@@ -77,8 +77,20 @@ interface Reference {
 
 interface Report {
   samples: number;
-  settings: { averages: number; average: string; excludedSegments: number; equivalentAverages: number; span: { firstSample: number; endSample: number } };
-  channels: { name: string; psd: number[]; asd: number[]; clippedSamples: number; bands: { low: number; high: number; rms: number }[] }[];
+  settings: {
+    averages: number;
+    average: string;
+    excludedSegments: number;
+    equivalentAverages: number;
+    span: { firstSample: number; endSample: number };
+  };
+  channels: {
+    name: string;
+    psd: number[];
+    asd: number[];
+    clippedSamples: number;
+    bands: { low: number; high: number; rms: number }[];
+  }[];
 }
 
 let ref: Reference;
@@ -137,7 +149,17 @@ describe('analyze that survives a clip', () => {
   });
 
   it('--average median equals scipy.signal.welch(average="median"), bias-corrected the same way', () => {
-    const { report } = json(clipPath, '--segment', String(N), '--from', String(FROM / RATE), '--to', String(TO / RATE), '--average', 'median');
+    const { report } = json(
+      clipPath,
+      '--segment',
+      String(N),
+      '--from',
+      String(FROM / RATE),
+      '--to',
+      String(TO / RATE),
+      '--average',
+      'median',
+    );
     expect(report.settings.average).toBe('median');
     for (let c = 0; c < 2; c++) expect(worstRel(report.channels[c].psd, ref.psdMedian[c])).toBeLessThan(1e-9);
   });
@@ -145,11 +167,28 @@ describe('analyze that survives a clip', () => {
   it('takes ISO-8601 wall times for --from/--to when the metadata has a start, the same span as seconds', () => {
     const stamped = join(dir, 'stamped.wav');
     copyFileSync(clipPath, stamped);
-    writeFileSync(`${stamped}.json`, JSON.stringify({
-      schema: 'floorline.recording/1', sampleRate: RATE, firstSample: 0, startWallTime: '2026-12-02T10:00:00.000Z',
-      channels: [{ name: 'a', unit: 'FS' }, { name: 'b', unit: 'FS' }],
-    }));
-    const iso = json(stamped, '--segment', String(N), '--from', '2026-12-02T10:00:01Z', '--to', '2026-12-02T10:00:09Z').report;
+    writeFileSync(
+      `${stamped}.json`,
+      JSON.stringify({
+        schema: 'floorline.recording/1',
+        sampleRate: RATE,
+        firstSample: 0,
+        startWallTime: '2026-12-02T10:00:00.000Z',
+        channels: [
+          { name: 'a', unit: 'FS' },
+          { name: 'b', unit: 'FS' },
+        ],
+      }),
+    );
+    const iso = json(
+      stamped,
+      '--segment',
+      String(N),
+      '--from',
+      '2026-12-02T10:00:01Z',
+      '--to',
+      '2026-12-02T10:00:09Z',
+    ).report;
     expect(iso.settings.span).toMatchObject({ firstSample: FROM, endSample: TO });
     for (let c = 0; c < 2; c++) expect(worstRel(iso.channels[c].psd, ref.psdSpan[c])).toBeLessThan(1e-9); // scipy.signal.welch on x[a:b]
     const none = runCli('analyze', clipPath, '--from', '2026-12-02T10:00:01Z');
@@ -169,7 +208,9 @@ describe('analyze that survives a clip', () => {
   it('prints the equivalent averages and the χ² interval of the floor density in the text report', () => {
     const r = runCli('analyze', clipPath, '--segment', String(N), '--exclude-clipped');
     expect(r.status).toBe(0);
-    const m = /([0-9.]+) equivalent averages, 95 % interval of a bin's density (-[0-9.]+) \/ \+([0-9.]+) dB/.exec(r.stdout);
+    const m = /([0-9.]+) equivalent averages, 95 % interval of a bin's density (-[0-9.]+) \/ \+([0-9.]+) dB/.exec(
+      r.stdout,
+    );
     expect(m, r.stdout).not.toBeNull();
     expect(Number(m![1])).toBeCloseTo(ref.keqExcluded, 0);
     // scipy.stats.chi2.ppf(0.975 / 0.025, ν = 2·K_eq): the interval of a density estimate (printed to 2 decimals).
@@ -182,7 +223,14 @@ describe('analyze that survives a clip', () => {
   it('`--csv | head` ends quietly (no EPIPE crash) with exit 0', () => {
     // 2^17 samples at segment 65536: 32769 rows, far more than a pipe buffer, so the writer meets a closed pipe.
     const bin = join(root, 'bin/floorline.mjs');
-    const r = spawnSync('bash', ['-c', `set -o pipefail; "${process.execPath}" "${bin}" analyze "${clipPath}" --segment 65536 --csv 2>"${dir}/err.txt" | head -n 3 >/dev/null; echo "status \${PIPESTATUS[0]}"; cat "${dir}/err.txt"`], { encoding: 'utf8' });
+    const r = spawnSync(
+      'bash',
+      [
+        '-c',
+        `set -o pipefail; "${process.execPath}" "${bin}" analyze "${clipPath}" --segment 65536 --csv 2>"${dir}/err.txt" | head -n 3 >/dev/null; echo "status \${PIPESTATUS[0]}"; cat "${dir}/err.txt"`,
+      ],
+      { encoding: 'utf8' },
+    );
     expect(r.stdout).toMatch(/^status 0\n/);
     expect(r.stdout).not.toMatch(/EPIPE|Error|\n\s+at /);
   });

@@ -40,7 +40,15 @@ interface JsonReport {
   sampleRate: number;
   samples: number;
   settings: Record<string, number | string>;
-  channels: { name: string; unit: string; frequency: number[]; psd: number[]; asd: number[]; rms: number; bands: { low: number; high: number; rms: number }[] }[];
+  channels: {
+    name: string;
+    unit: string;
+    frequency: number[];
+    psd: number[];
+    asd: number[];
+    rms: number;
+    bands: { low: number; high: number; rms: number }[];
+  }[];
 }
 
 function analyzeJson(...args: string[]): JsonReport {
@@ -54,7 +62,8 @@ function analyzeJson(...args: string[]): JsonReport {
 /** Every check of one report against scipy.signal.welch on scipy.io.wavfile.read's samples. */
 async function expectMatchesScipy(path: string, report: JsonReport, s: ReferenceSettings): Promise<void> {
   // Without --band the report carries the default decade bands: check those edges against numpy too.
-  if (s.bands.length === 0) s = { ...s, bands: report.channels[0].bands.map((b) => [b.low, b.high] as [number, number]) };
+  if (s.bands.length === 0)
+    s = { ...s, bands: report.channels[0].bands.map((b) => [b.low, b.high] as [number, number]) };
   const ref = await welchReference(py, path, s);
   expect(report.sampleRate).toBe(ref.rate);
   expect(report.samples).toBe(ref.samples);
@@ -74,7 +83,8 @@ async function expectMatchesScipy(path: string, report: JsonReport, s: Reference
     // Total RMS: sqrt(Σ psd[1:]·Δf) in numpy (DC excluded); bands: bins with lo ≤ f ≤ hi (rule of docs/ARCHITECTURE.md).
     expect(Math.abs(ch.rms - ref.rms[c]) / ref.rms[c]).toBeLessThan(1e-9);
     expect(ch.bands.map((b) => [b.low, b.high])).toEqual(s.bands);
-    for (let b = 0; b < s.bands.length; b++) expect(Math.abs(ch.bands[b].rms - ref.bands[c][b]) / ref.bands[c][b]).toBeLessThan(1e-9);
+    for (let b = 0; b < s.bands.length; b++)
+      expect(Math.abs(ch.bands[b].rms - ref.bands[c][b]) / ref.bands[c][b]).toBeLessThan(1e-9);
   }
 }
 
@@ -86,17 +96,44 @@ describe('floorline analyze --json', () => {
     expect(report.settings).toMatchObject({ segment: 4096, window: 'hann', overlap: 0.5, detrend: 'mean' });
     expect(Object.keys(report)).toEqual(['file', 'sampleRate', 'samples', 'settings', 'channels']);
     expect(Object.keys(report.settings)).toEqual([
-      'segment', 'window', 'overlap', 'detrend', 'averages', 'nenbw', 'enbwHz', 'binHz', 'average', 'excludedSegments', 'equivalentAverages', 'span',
+      'segment',
+      'window',
+      'overlap',
+      'detrend',
+      'averages',
+      'nenbw',
+      'enbwHz',
+      'binHz',
+      'average',
+      'excludedSegments',
+      'equivalentAverages',
+      'span',
     ]);
     // A float file from elsewhere reads as FS: full scale ±1 is known (fullScale), its step is not (no lsb).
-    expect(Object.keys(report.channels[0])).toEqual(['name', 'unit', 'referredTo', 'frequency', 'psd', 'asd', 'rms', 'bands', 'clippedSamples', 'missingSamples', 'fullScale']);
+    expect(Object.keys(report.channels[0])).toEqual([
+      'name',
+      'unit',
+      'referredTo',
+      'frequency',
+      'psd',
+      'asd',
+      'rms',
+      'bands',
+      'clippedSamples',
+      'missingSamples',
+      'fullScale',
+    ]);
     expect(report.channels.map((c) => `${c.name}/${c.unit}`)).toEqual(['ch0/FS', 'ch1/FS', 'ch2/FS']);
     await expectMatchesScipy(path, report, {
       segment: 4096,
       scipyWindow: 'hann',
       overlap: 0.5,
       detrend: 'constant',
-      bands: [[20, 2000], [990, 1010], [1000, 10000]],
+      bands: [
+        [20, 2000],
+        [990, 1010],
+        [1000, 10000],
+      ],
     });
   });
 
@@ -106,20 +143,51 @@ describe('floorline analyze --json', () => {
     // 12000 samples: 4096 gives 4 segments, 2048 gives 10 (len(scipy.signal.spectrogram(...)[1]) checks it).
     expect(report.settings.segment).toBe(2048);
     expect(report.channels[0].unit).toBe('V');
-    await expectMatchesScipy(path, report, { segment: 2048, scipyWindow: 'hann', overlap: 0.5, detrend: 'constant', bands: [[100, 24000]], scale: 2.5 });
+    await expectMatchesScipy(path, report, {
+      segment: 2048,
+      scipyWindow: 'hann',
+      overlap: 0.5,
+      detrend: 'constant',
+      bands: [[100, 24000]],
+      scale: 2.5,
+    });
   });
 
   it('matches scipy with Blackman-Harris, 75 % overlap and linear detrend on 24-bit extensible PCM', async () => {
     const path = join(dir, 'fx/ext_int24_4ch.wav');
-    const report = analyzeJson(path, '--segment', '512', '--window', 'blackman-harris', '--overlap', '0.75', '--detrend', 'linear', '--band', '0:48000');
+    const report = analyzeJson(
+      path,
+      '--segment',
+      '512',
+      '--window',
+      'blackman-harris',
+      '--overlap',
+      '0.75',
+      '--detrend',
+      'linear',
+      '--band',
+      '0:48000',
+    );
     // scipy 'blackmanharris' is the 4-term 92 dB Blackman-Harris (Harris 1978), the same coefficients as ours.
-    await expectMatchesScipy(path, report, { segment: 512, scipyWindow: 'blackmanharris', overlap: 0.75, detrend: 'linear', bands: [[0, 48000]] });
+    await expectMatchesScipy(path, report, {
+      segment: 512,
+      scipyWindow: 'blackmanharris',
+      overlap: 0.75,
+      detrend: 'linear',
+      bands: [[0, 48000]],
+    });
   });
 
   it('matches scipy with a rectangular window and no detrend on float64 (DC kept in the spectrum)', async () => {
     const path = join(dir, 'f64.wav');
     const report = analyzeJson(path, '--segment', '1024', '--window', 'rect', '--detrend', 'none', '--overlap', '0');
-    await expectMatchesScipy(path, report, { segment: 1024, scipyWindow: 'boxcar', overlap: 0, detrend: false, bands: [] });
+    await expectMatchesScipy(path, report, {
+      segment: 1024,
+      scipyWindow: 'boxcar',
+      overlap: 0,
+      detrend: false,
+      bands: [],
+    });
     // No --band: decade bands (edges at powers of ten inside the usable range) and the whole usable band, as live.
     const edges = report.channels[0].bands.slice(0, -1).map((b) => b.high);
     expect(edges.slice(0, -1)).toEqual([100, 1000]);
@@ -131,11 +199,28 @@ describe('floorline analyze --json', () => {
     const path = join(dir, 'ours.wav');
     const rng = new SeededRandom(11);
     const data = [rng.fillGaussian(new Float64Array(30000), 2e-6), rng.fillGaussian(new Float64Array(30000), 5e-7)];
-    const w = new WavWriter(path, { sampleRate: 10000, channels: [{ name: 'lna-out', unit: 'V' }, { name: 'ref', unit: 'V' }], firstSample: 0 }, { durable: false });
+    const w = new WavWriter(
+      path,
+      {
+        sampleRate: 10000,
+        channels: [
+          { name: 'lna-out', unit: 'V' },
+          { name: 'ref', unit: 'V' },
+        ],
+        firstSample: 0,
+      },
+      { durable: false },
+    );
     w.append(data, 30000);
     w.close();
     const report = analyzeJson(path, '--band', '10:1000');
     expect(report.channels.map((c) => `${c.name}/${c.unit}`)).toEqual(['lna-out/V', 'ref/V']);
-    await expectMatchesScipy(path, report, { segment: 4096, scipyWindow: 'hann', overlap: 0.5, detrend: 'constant', bands: [[10, 1000]] });
+    await expectMatchesScipy(path, report, {
+      segment: 4096,
+      scipyWindow: 'hann',
+      overlap: 0.5,
+      detrend: 'constant',
+      bands: [[10, 1000]],
+    });
   });
 });

@@ -44,7 +44,13 @@ describe('floorline analyze --csv and text', () => {
     writeFileSync(csvPath, r.stdout);
     // Reference: python's csv module parses the rows (skipping '#' lines, header, units); scipy.signal.welch on
     // scipy.io.wavfile.read's samples gives the expected psd; averages = len(scipy.signal.spectrogram(...)[1]) = 18.
-    const ref = await welchReference(py, path, { segment: 512, scipyWindow: 'hann', overlap: 0.5, detrend: 'constant', bands: [] });
+    const ref = await welchReference(py, path, {
+      segment: 512,
+      scipyWindow: 'hann',
+      overlap: 0.5,
+      detrend: 'constant',
+      bands: [],
+    });
     expect(ref.averages).toBe(18);
     const worst = await py.run<number>(
       `import csv
@@ -65,7 +71,14 @@ result = float(np.max(np.abs(a[:, 1::2] - ref) / ref)) if ok else -1.0`,
     const path = join(fx, 'float64_mono.wav');
     const r = runCli('analyze', path, '--segment', '256', '--band', '100:1000', '--scale', '10');
     expect(r.status).toBe(0);
-    const ref = await welchReference(py, path, { segment: 256, scipyWindow: 'hann', overlap: 0.5, detrend: 'constant', bands: [[100, 1000]], scale: 10 });
+    const ref = await welchReference(py, path, {
+      segment: 256,
+      scipyWindow: 'hann',
+      overlap: 0.5,
+      detrend: 'constant',
+      bands: [[100, 1000]],
+      scale: 10,
+    });
     const prefix: Record<string, number> = { m: 1e-3, µ: 1e-6, n: 1e-9, p: 1e-12, '': 1 };
     const value = (label: RegExp): number => {
       const m = r.stdout.match(new RegExp(label.source + String.raw`\s+(-?[\d.]+) ([mµnp]?)V`));
@@ -76,7 +89,9 @@ result = float(np.max(np.abs(a[:, 1::2] - ref) / ref)) if ok else -1.0`,
     expect(Math.abs(value(/total RMS \(DC excluded\)/) / ref.rms[0] - 1)).toBeLessThan(5e-3);
     expect(Math.abs(value(/band 100–1000 Hz RMS/) / ref.bands[0][0] - 1)).toBeLessThan(5e-3);
     expect(r.stdout).toMatch(/floor density \(median ASD\)\s+[\d.]+ [mµnp]?V\/√Hz/);
-    expect(r.stdout).toMatch(new RegExp(`segment 256 .*window hann .*overlap 0.5, detrend mean\naveraging: mean of ${ref.averages} segments`));
+    expect(r.stdout).toMatch(
+      new RegExp(`segment 256 .*window hann .*overlap 0.5, detrend mean\naveraging: mean of ${ref.averages} segments`),
+    );
   });
 
   it('warns on stderr about a truncated file and still reports it', () => {
@@ -98,26 +113,67 @@ describe('floorline analyze errors', () => {
     ['A-law', ['fx/bad_alaw.wav'], /A-law.*not supported.*convert/],
     ['12-bit PCM', ['fx/bad_12bit.wav'], /12-bit PCM is not supported/],
     ['a missing file', ['nope.wav'], /nope\.wav: no such file or folder; check the path/],
-    ['a file shorter than the segment', ['short.wav', '--segment', '4096'], /short\.wav has 100 frames, shorter than one segment of 4096; give a smaller --segment/],
-    ['a file shorter than the minimum segment', ['tiny.wav'], /tiny\.wav has 50 frames, shorter than one segment of 64; analyze a recording of at least 64/],
-    ['a segment that is not a power of two', ['short.wav', '--segment', '1000'], /--segment 1000 is not a power of two; give e.g. --segment 1024/],
+    [
+      'a file shorter than the segment',
+      ['short.wav', '--segment', '4096'],
+      /short\.wav has 100 frames, shorter than one segment of 4096; give a smaller --segment/,
+    ],
+    [
+      'a file shorter than the minimum segment',
+      ['tiny.wav'],
+      /tiny\.wav has 50 frames, shorter than one segment of 64; analyze a recording of at least 64/,
+    ],
+    [
+      'a segment that is not a power of two',
+      ['short.wav', '--segment', '1000'],
+      /--segment 1000 is not a power of two; give e.g. --segment 1024/,
+    ],
     ['an unknown window', ['short.wav', '--window', 'hanning'], /unknown window "hanning": choose one of rect, hann/],
-    ['an unknown detrend', ['short.wav', '--detrend', 'quadratic'], /--detrend 'quadratic' is not one of none, mean, linear/],
-    ['an overlap out of range', ['short.wav', '--overlap', '1'], /--overlap 1 is out of range; give a number from 0 to 0.95/],
-    ['a scale that is not positive', ['short.wav', '--scale', '0'], /--scale 0 must be a positive number of volts per full scale/],
+    [
+      'an unknown detrend',
+      ['short.wav', '--detrend', 'quadratic'],
+      /--detrend 'quadratic' is not one of none, mean, linear/,
+    ],
+    [
+      'an overlap out of range',
+      ['short.wav', '--overlap', '1'],
+      /--overlap 1 is out of range; give a number from 0 to 0.95/,
+    ],
+    [
+      'a scale that is not positive',
+      ['short.wav', '--scale', '0'],
+      /--scale 0 must be a positive number of volts per full scale/,
+    ],
     ['--json with --csv', ['short.wav', '--json', '--csv'], /--json and --csv exclude each other/],
     ['an unknown flag', ['short.wav', '--segmnet', '64'], /unknown flag --segmnet/],
-    ['a band with LO ≥ HI', ['short.wav', '--band', '200:100'], /--band 200:100: LO must be below HI; write e\.g\. --band 100:200/],
+    [
+      'a band with LO ≥ HI',
+      ['short.wav', '--band', '200:100'],
+      /--band 200:100: LO must be below HI; write e\.g\. --band 100:200/,
+    ],
     ['a band that is not LO:HI', ['short.wav', '--band', '20-200'], /--band '20-200' is not LO:HI in Hz/],
-    ['a band above Nyquist', ['short.wav', '--segment', '64', '--band', '20:5000'], /--band 20:5000: HI is above the Nyquist frequency 4000 Hz of .*short\.wav; give HI ≤ 4000/],
-    ['--scale on a calibrated recording', ['calibrated.wav', '--scale', '2'], /already calibrated in V by its metadata; drop --scale/],
+    [
+      'a band above Nyquist',
+      ['short.wav', '--segment', '64', '--band', '20:5000'],
+      /--band 20:5000: HI is above the Nyquist frequency 4000 Hz of .*short\.wav; give HI ≤ 4000/,
+    ],
+    [
+      '--scale on a calibrated recording',
+      ['calibrated.wav', '--scale', '2'],
+      /already calibrated in V by its metadata; drop --scale/,
+    ],
   ];
 
   it.each(cases)('exits 2 naming the fix for %s', (_what, args, message) => {
     if (args[0] === 'calibrated.wav') {
       writeFileSync(
         join(dir, 'calibrated.wav.json'),
-        JSON.stringify({ schema: 'floorline.recording/1', sampleRate: 20000, channels: ['a', 'b', 'c'].map((name) => ({ name, unit: 'V' })), firstSample: 0 }),
+        JSON.stringify({
+          schema: 'floorline.recording/1',
+          sampleRate: 20000,
+          channels: ['a', 'b', 'c'].map((name) => ({ name, unit: 'V' })),
+          firstSample: 0,
+        }),
       );
       writeFileSync(join(dir, 'calibrated.wav'), readFileSync(join(fx, 'float32_3ch.wav')));
     }
@@ -132,7 +188,8 @@ describe('floorline analyze errors', () => {
 describe('analysis helpers', () => {
   it('counts segments as scipy.signal.spectrogram does and picks the default segment by the documented rule', async () => {
     const grid: [number, number, number][] = [];
-    for (const frames of [64, 100, 1000, 4096, 12000, 20000, 36863, 36864, 1e6]) for (const overlap of [0, 0.5, 0.75, 0.9]) for (const n of [64, 512, 4096]) grid.push([frames, n, overlap]);
+    for (const frames of [64, 100, 1000, 4096, 12000, 20000, 36863, 36864, 1e6])
+      for (const overlap of [0, 0.5, 0.75, 0.9]) for (const n of [64, 512, 4096]) grid.push([frames, n, overlap]);
     // Reference: len(scipy.signal.spectrogram(zeros(frames), nperseg=n, noverlap=floor(overlap·n))[1]).
     const ref = await py.run<number[]>(
       `import math

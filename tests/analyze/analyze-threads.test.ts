@@ -40,7 +40,13 @@ describe('analyze --threads', () => {
     expect(analyze('--threads', '3')).toBe(one);
     const report = JSON.parse(one) as { channels: { psd: number[] }[] };
     // Source: scipy.signal.welch(hann, nperseg=4096, noverlap=2048, detrend='constant') of wavfile.read's samples.
-    const ref = await welchReference(py, `${dir}/five.wav`, { segment: 4096, scipyWindow: 'hann', overlap: 0.5, detrend: 'constant', bands: [] });
+    const ref = await welchReference(py, `${dir}/five.wav`, {
+      segment: 4096,
+      scipyWindow: 'hann',
+      overlap: 0.5,
+      detrend: 'constant',
+      bands: [],
+    });
     for (let c = 0; c < 5; c++) {
       const m = psdMismatch(report.channels[c].psd, ref.psd[c]);
       expect(m.bad).toBe(0);

@@ -13,7 +13,8 @@ export interface CliResult {
 
 export function runCli(...args: string[]): CliResult {
   const bin = join(root, 'bin/floorline.mjs');
-  if (!existsSync(join(root, 'dist/floorline.mjs'))) throw new Error('dist/floorline.mjs is missing: run `npm run build` before these tests');
+  if (!existsSync(join(root, 'dist/floorline.mjs')))
+    throw new Error('dist/floorline.mjs is missing: run `npm run build` before these tests');
   const r = spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', maxBuffer: 256 << 20 });
   return { status: r.status, stdout: r.stdout, stderr: r.stderr };
 }

@@ -28,7 +28,18 @@ describe('floorline baseline', () => {
   let b: BaselineFile;
 
   it('stores the mean density of the whole recording exactly as scipy.signal.welch computes it', async () => {
-    const r = cli('baseline', 'quiet.wav', '-o', 'quiet.json', '--segment', '1024', '--band', '100:1000', '--notes', 'lid closed');
+    const r = cli(
+      'baseline',
+      'quiet.wav',
+      '-o',
+      'quiet.json',
+      '--segment',
+      '1024',
+      '--band',
+      '100:1000',
+      '--notes',
+      'lid closed',
+    );
     expect(r.status, r.stderr).toBe(0);
     b = await readBaseline(join(dir, 'quiet.json'));
     const psd = b.channels[0].psd;
@@ -60,7 +71,20 @@ describe('floorline baseline', () => {
   });
 
   it('refuses to compare against a baseline taken with another segment length, naming the setting', () => {
-    const r = cli('replay', 'tone.wav', '--baseline', 'quiet.json', '--segment', '4096', '--speed', 'max', '--no-server', '--quiet', '--data', 'data');
+    const r = cli(
+      'replay',
+      'tone.wav',
+      '--baseline',
+      'quiet.json',
+      '--segment',
+      '4096',
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--data',
+      'data',
+    );
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/segment \(1024 vs 4096\)/);
   });
@@ -72,12 +96,48 @@ describe('floorline baseline', () => {
   });
 
   it('replay with the baseline reports the new line with its sample and the same events at any speed', () => {
-    const a = cli('replay', 'tone.wav', '--baseline', 'quiet.json', '--segment', '1024', '--speed', 'max', '--no-server', '--quiet', '--data', 'd1', '--events-out', 'a.jsonl');
-    const c = cli('replay', 'tone.wav', '--baseline', 'quiet.json', '--segment', '1024', '--speed', '40', '--no-server', '--quiet', '--data', 'd2', '--events-out', 'c.jsonl');
+    const a = cli(
+      'replay',
+      'tone.wav',
+      '--baseline',
+      'quiet.json',
+      '--segment',
+      '1024',
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--data',
+      'd1',
+      '--events-out',
+      'a.jsonl',
+    );
+    const c = cli(
+      'replay',
+      'tone.wav',
+      '--baseline',
+      'quiet.json',
+      '--segment',
+      '1024',
+      '--speed',
+      '40',
+      '--no-server',
+      '--quiet',
+      '--data',
+      'd2',
+      '--events-out',
+      'c.jsonl',
+    );
     expect(a.status, a.stderr).toBe(0);
     expect(c.status, c.stderr).toBe(0);
-    const ea = readFileSync(join(dir, 'a.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
-    const ec = readFileSync(join(dir, 'c.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+    const ea = readFileSync(join(dir, 'a.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
+    const ec = readFileSync(join(dir, 'c.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
     const strip = (e: Record<string, unknown>) => ({ ...e, capture: undefined });
     expect(ea.map(strip)).toEqual(ec.map(strip));
     const spur = ea.find((e) => e.rule === 'spur');

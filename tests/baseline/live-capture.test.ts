@@ -15,7 +15,10 @@ const info: StreamInfo = {
 
 describe('captureLive', () => {
   it('captures the span from the next block on and stores the density scipy.signal.welch gives for those samples', async () => {
-    const p = new Pipeline({ analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' }, mode: 'lossless' });
+    const p = new Pipeline({
+      analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+      mode: 'lossless',
+    });
     p.info(info);
     const rng = new SeededRandom(21);
     const all = new Float64Array(FS * 30);
@@ -33,7 +36,11 @@ describe('captureLive', () => {
     expect(b.span.firstSample).toBe(blk);
     expect(b.span.lastSample).toBe(blk + 10 * FS - 1);
     // Source: scipy.signal.welch(x[1500:41500], 4000, 'hann', 1024, 512, detrend='constant').
-    const ref = scipyReference<{ psd: number[] }>('welch', { x: Array.from(all.subarray(blk, blk + 10 * FS)), fs: FS, segment: 1024 });
+    const ref = scipyReference<{ psd: number[] }>('welch', {
+      x: Array.from(all.subarray(blk, blk + 10 * FS)),
+      fs: FS,
+      segment: 1024,
+    });
     let worst = 0;
     for (let k = 1; k < ref.psd.length; k++) worst = Math.max(worst, Math.abs(b.channels[0].psd[k] / ref.psd[k] - 1));
     expect(worst).toBeLessThan(1e-9);
@@ -41,7 +48,10 @@ describe('captureLive', () => {
   });
 
   it('refuses a span shorter than four segments and rejects when the stream ends early', async () => {
-    const p = new Pipeline({ analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' }, mode: 'lossless' });
+    const p = new Pipeline({
+      analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+      mode: 'lossless',
+    });
     expect(() => captureLive(p, { seconds: 10 })).toThrow(/not started/);
     p.info(info);
     expect(() => captureLive(p, { seconds: 0.5 })).toThrow(/shorter than 4 segments/);

@@ -68,7 +68,17 @@ describe('dashboard against a running replay', () => {
   let page: Page;
 
   beforeAll(async () => {
-    a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--http-port', '0', '--data', join(dir, 'data')]);
+    a = await agent([
+      'replay',
+      join(dir, 'fault.wav'),
+      '--scale',
+      '1',
+      '--loop',
+      '--http-port',
+      '0',
+      '--data',
+      join(dir, 'data'),
+    ]);
     page = await openDashboard(a.url);
   });
 
@@ -117,7 +127,11 @@ describe('dashboard against a running replay', () => {
   it('captures a baseline when the button is clicked and writes it into the data folder', async () => {
     await page.fill('#baseline-seconds', '3');
     await page.click('#capture-baseline');
-    await waitUntil(page, `/baseline saved: baselines\\//.test(document.getElementById('control-message').textContent)`, 20_000);
+    await waitUntil(
+      page,
+      `/baseline saved: baselines\\//.test(document.getElementById('control-message').textContent)`,
+      20_000,
+    );
     const msg = (await page.textContent('#control-message'))!;
     const file = /baselines\/\S+\.json/.exec(msg)![0];
     const path = join(dir, 'data', file);
@@ -128,13 +142,25 @@ describe('dashboard against a running replay', () => {
     expect(b.channels[0].psd.length).toBe(4096 / 2 + 1);
     expect(b.span.seconds).toBeCloseTo(3, 3);
     // The band table then carries baseline figures.
-    await waitUntil(page, `Array.from(document.querySelectorAll('#bands tbody tr')).every((r) => r.cells[3].dataset.value !== '')`, 10_000);
+    await waitUntil(
+      page,
+      `Array.from(document.querySelectorAll('#bands tbody tr')).every((r) => r.cells[3].dataset.value !== '')`,
+      10_000,
+    );
     // And the alarm rules compare against it from then on: the status names it, and the event log says when.
     await expect
-      .poll(async () => ((await (await fetch(`${a.url}api/status`)).json()) as { baseline: { file: string } | null }).baseline?.file, { timeout: 10_000 })
+      .poll(
+        async () =>
+          ((await (await fetch(`${a.url}api/status`)).json()) as { baseline: { file: string } | null }).baseline?.file,
+        { timeout: 10_000 },
+      )
       .toBe(file);
     await expect
-      .poll(() => (existsSync(join(dir, 'data', 'events.jsonl')) ? readFileSync(join(dir, 'data', 'events.jsonl'), 'utf8') : ''), { timeout: 10_000 })
+      .poll(
+        () =>
+          existsSync(join(dir, 'data', 'events.jsonl')) ? readFileSync(join(dir, 'data', 'events.jsonl'), 'utf8') : '',
+        { timeout: 10_000 },
+      )
       .toContain(`comparing against baseline ${file}`);
   });
 
@@ -163,12 +189,15 @@ describe('dashboard against a running replay', () => {
     const text = (await page.textContent('#nb-result'))!;
     // Defaults: 1 kΩ at 296 K, eₙ 4 nV/√Hz, iₙ 0.5 pA/√Hz, 24-bit ADC over 5 V at 8 kS/s, gain 1. Independent sum with
     // scipy.constants.k (CODATA) and the quantisation density q/sqrt(6·fs), q = span/2^bits (common practice).
-    const py = 'from scipy.constants import k; import math; j = math.sqrt(4*k*296*1000); q = 5/2**24/math.sqrt(6*8000); print(math.sqrt(j*j + 4e-9**2 + (0.5e-12*1000)**2 + q*q))';
+    const py =
+      'from scipy.constants import k; import math; j = math.sqrt(4*k*296*1000); q = 5/2**24/math.sqrt(6*8000); print(math.sqrt(j*j + 4e-9**2 + (0.5e-12*1000)**2 + q*q))';
     const expected = Number(execFileSync('python3', ['-c', py], { encoding: 'utf8' }));
     const shown = Number(/^total ([0-9.]+) nV\/√Hz/.exec(text)![1]) * 1e-9;
     expect(Math.abs(shown / expected - 1)).toBeLessThan(0.002); // 3 significant figures shown
     // The overlay series is now shown (uPlot greys the legend entry of hidden series).
-    expect(await page.locator('.u-legend .u-series', { hasText: 'expected floor' }).first().getAttribute('class')).not.toMatch(/u-off/);
+    expect(
+      await page.locator('.u-legend .u-series', { hasText: 'expected floor' }).first().getAttribute('class'),
+    ).not.toMatch(/u-off/);
     await page.uncheck('#nb-show');
   });
 
@@ -195,10 +224,14 @@ describe('dashboard against a running replay', () => {
     const png = readFileSync(path);
     // PNG signature and IHDR (ISO/IEC 15948 §5.2, §11.2.2): width and height big-endian at bytes 16 and 20.
     expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
-    const size: [number, number] = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return [c.width, c.height]; })()`);
+    const size: [number, number] = await page.evaluate(
+      `(() => { const c = document.querySelector('#spectrum canvas'); return [c.width, c.height]; })()`,
+    );
     expect(png.readUInt32BE(16)).toBe(size[0]);
     // dashboard/export.ts PNG_CAPTION_PX (44 CSS px: legend row, then context and time), at the canvas's pixel ratio.
-    const ratio: number = await page.evaluate(`(() => { const c = document.querySelector('#spectrum canvas'); return c.width / c.clientWidth; })()`);
+    const ratio: number = await page.evaluate(
+      `(() => { const c = document.querySelector('#spectrum canvas'); return c.width / c.clientWidth; })()`,
+    );
     expect(png.readUInt32BE(20)).toBe(size[1] + Math.round(44 * ratio));
   });
 
@@ -208,7 +241,9 @@ describe('dashboard against a running replay', () => {
     // The recorder opens its file with the first block after the start: wait for the status to name it.
     let file: string | undefined;
     await expect
-      .poll(async () => (file = ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).recording.file), { timeout: 10_000 })
+      .poll(async () => (file = ((await (await fetch(`${a.url}api/status`)).json()) as AgentStatus).recording.file), {
+        timeout: 10_000,
+      })
       .toMatch(/^recordings\/.+\.wav$/);
     await new Promise((r) => setTimeout(r, 1500));
     await page.click('#recording');
@@ -221,7 +256,11 @@ describe('dashboard against a running replay', () => {
 
   it('changes the segment length from the controls after a warning; the agent and the chart follow, and a banner says the baseline comparison is off', async () => {
     // The baseline captured above compares at segment 4096: leaving its settings must not happen silently.
-    await waitUntil(page, `window.floorline.status && window.floorline.status.bands.some((b) => b.thresholdDb !== null)`, 15_000);
+    await waitUntil(
+      page,
+      `window.floorline.status && window.floorline.status.bands.some((b) => b.thresholdDb !== null)`,
+      15_000,
+    );
     await page.selectOption('#segment', '2048');
     await page.click('#apply-analysis');
     expect(await page.textContent('#control-message')).toMatch(/band alarms stop comparing.*Press again/);
@@ -246,7 +285,10 @@ describe('dashboard against a running replay', () => {
     await page.mouse.down();
     await page.mouse.move(box.x + box.width * 0.6, box.y + box.height / 2, { steps: 5 });
     await page.mouse.up();
-    const xs = () => page.evaluate(`[window.floorline.spectrum.plot.scales.x.min, window.floorline.spectrum.plot.scales.x.max, window.floorline.spectrum.plot.scales.y.min]`) as Promise<number[]>;
+    const xs = () =>
+      page.evaluate(
+        `[window.floorline.spectrum.plot.scales.x.min, window.floorline.spectrum.plot.scales.x.max, window.floorline.spectrum.plot.scales.y.min]`,
+      ) as Promise<number[]>;
     const zoomed = await xs();
     const start = await applied(page);
     await expect.poll(() => applied(page), { timeout: 20_000 }).toBeGreaterThan(start + 50);
@@ -265,7 +307,9 @@ describe('alarms and restarts', () => {
     expect(await page.textContent('#replay-banner')).toMatch(/Replaying .*demo\.wav .* at 4×, looping/);
     expect(await tracePixels(page, [0x00, 0x72, 0xb2])).toBeGreaterThan(300);
     // Rows are newest first: the last matching row is the first raise.
-    const mains = page.locator('#events tbody tr[data-rule="mains"][data-state="raised"][data-channel="bridge"]').last();
+    const mains = page
+      .locator('#events tbody tr[data-rule="mains"][data-state="raised"][data-channel="bridge"]')
+      .last();
     await mains.waitFor({ state: 'attached', timeout: 30_000 });
     const tm = Number(await mains.locator('td').first().textContent());
     expect(tm).toBeGreaterThanOrEqual(20);
@@ -290,7 +334,9 @@ describe('alarms and restarts', () => {
         await expect.poll(() => mainsRaised.count(), { timeout: 30_000 }).toBeGreaterThan(rowsBefore);
       }
     }
-    const rise = page.locator('#events tbody tr[data-rule="band-rise"][data-state="raised"][data-channel="bridge"]').last();
+    const rise = page
+      .locator('#events tbody tr[data-rule="band-rise"][data-state="raised"][data-channel="bridge"]')
+      .last();
     await rise.waitFor({ state: 'attached', timeout: 30_000 });
     const tr = Number(await rise.locator('td').first().textContent());
     expect(tr).toBeGreaterThanOrEqual(38);
@@ -302,7 +348,20 @@ describe('alarms and restarts', () => {
 
   it('with a token: refuses the page without it, and with the printed ?token= URL serves page and socket', async () => {
     const token = 'b7e1c0de5a1f00d2b7e1c0de5a1f00d2';
-    const a = await agent(['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--token', token, '--show-token', '--http-port', '0', '--data', join(dir, 'data-token')]);
+    const a = await agent([
+      'replay',
+      join(dir, 'fault.wav'),
+      '--scale',
+      '1',
+      '--loop',
+      '--token',
+      token,
+      '--show-token',
+      '--http-port',
+      '0',
+      '--data',
+      join(dir, 'data-token'),
+    ]);
     expect(a.url).toContain(`?token=${token}`);
     const bare = a.url.replace(/\?token=.*$/, '');
     const page = await browser.newPage();
@@ -318,7 +377,17 @@ describe('alarms and restarts', () => {
 
   it('reconnects and shows live data again after the agent restarts on the same port', async () => {
     const port = await freePort();
-    const args = ['replay', join(dir, 'fault.wav'), '--scale', '1', '--loop', '--http-port', String(port), '--data', join(dir, 'data-restart')];
+    const args = [
+      'replay',
+      join(dir, 'fault.wav'),
+      '--scale',
+      '1',
+      '--loop',
+      '--http-port',
+      String(port),
+      '--data',
+      join(dir, 'data-restart'),
+    ];
     const first = await agent(args);
     const page = await openDashboard(first.url);
     await first.stop();

@@ -15,9 +15,17 @@ let browser: BrowserContext;
 let agent: Agent;
 let page: Page;
 
-interface Signal { kind: string; start?: number }
-interface Scenario { duration: number; channels: { name: string; signals: Signal[] }[] }
-const scenario = JSON.parse(readFileSync(new URL('../../recordings/demo-scenario.json', import.meta.url), 'utf8')) as Scenario;
+interface Signal {
+  kind: string;
+  start?: number;
+}
+interface Scenario {
+  duration: number;
+  channels: { name: string; signals: Signal[] }[];
+}
+const scenario = JSON.parse(
+  readFileSync(new URL('../../recordings/demo-scenario.json', import.meta.url), 'utf8'),
+) as Scenario;
 
 /** Scripted faults of one loop: every non-noise signal, the tones of one channel being one spur fault. */
 function scriptedFaults(): { channel: string; kind: string; start: number }[] {
@@ -47,7 +55,10 @@ describe('incidents panel', () => {
   it('shows one incident per scripted fault of the first loop, with the settled levels of /api/incidents', async () => {
     // Past the end of the first loop (plus settling), in sample time.
     await expect
-      .poll(async () => ((await (await fetch(`${agent.url}api/status`)).json()) as AgentStatus).t, { timeout: 40_000, interval: 250 })
+      .poll(async () => ((await (await fetch(`${agent.url}api/status`)).json()) as AgentStatus).t, {
+        timeout: 40_000,
+        interval: 250,
+      })
       .toBeGreaterThan(scenario.duration + 3);
     const api = ((await (await fetch(`${agent.url}api/incidents`)).json()) as IncidentsReply).incidents;
     const firstLoop = api.filter((i) => i.start.t < scenario.duration);
@@ -56,11 +67,15 @@ describe('incidents panel', () => {
     for (const f of faults) {
       // Each fault's incident starts after its scripted onset, on its channel (detection takes a few seconds).
       const rule = { mains: 'mains', tone: 'spur', 'band-step': 'band-rise', overload: 'clip' }[f.kind] ?? f.kind;
-      const match = firstLoop.filter((i) => i.channel === f.channel && i.rules.includes(rule) && i.start.t >= f.start && i.start.t < f.start + 15);
+      const match = firstLoop.filter(
+        (i) => i.channel === f.channel && i.rules.includes(rule) && i.start.t >= f.start && i.start.t < f.start + 15,
+      );
       expect(match.length, `${f.kind} on ${f.channel} at ${f.start} s`).toBe(1);
     }
     await page.waitForTimeout(2500); // the page polls every 2 s: every incident ended before that poll is shown
-    const rows: { id: string; settled: string }[] = await page.evaluate(`Array.from(document.querySelectorAll('#incidents tbody tr[data-incident]')).map((r) => ({ id: r.dataset.incident, settled: r.cells[4].dataset.value }))`);
+    const rows: { id: string; settled: string }[] = await page.evaluate(
+      `Array.from(document.querySelectorAll('#incidents tbody tr[data-incident]')).map((r) => ({ id: r.dataset.incident, settled: r.cells[4].dataset.value }))`,
+    );
     for (const i of api.filter((x) => x.end !== null)) {
       const row = rows.find((r) => r.id === i.id);
       expect(row, i.id).toBeDefined();
@@ -72,10 +87,20 @@ describe('incidents panel', () => {
   it('acknowledges an open incident with one click, for all of its alarms', async () => {
     // At 6× an incident lasts seconds: the button is clicked as soon as it is there (a real click event on it).
     await page.waitForSelector('#incidents button.ack', { timeout: 30_000 });
-    const id = await page.evaluate(`(() => { const b = document.querySelector('#incidents button.ack'); b.click(); return b.closest('tr').dataset.incident; })()`);
-    await expect.poll(() => page.textContent('#incident-message'), { timeout: 10_000 }).toMatch(/acknowledged: the incident and its alarms/);
+    const id = await page.evaluate(
+      `(() => { const b = document.querySelector('#incidents button.ack'); b.click(); return b.closest('tr').dataset.incident; })()`,
+    );
     await expect
-      .poll(async () => ((await (await fetch(`${agent.url}api/incidents`)).json()) as IncidentsReply).incidents.find((i) => i.id === id)?.acknowledged, { timeout: 10_000 })
+      .poll(() => page.textContent('#incident-message'), { timeout: 10_000 })
+      .toMatch(/acknowledged: the incident and its alarms/);
+    await expect
+      .poll(
+        async () =>
+          ((await (await fetch(`${agent.url}api/incidents`)).json()) as IncidentsReply).incidents.find(
+            (i) => i.id === id,
+          )?.acknowledged,
+        { timeout: 10_000 },
+      )
       .toBe(true);
   });
 
@@ -83,7 +108,9 @@ describe('incidents panel', () => {
     const text = `<script>alert("x")</script> moved the cable at the chamber door`;
     await page.fill('#note-text', text);
     await page.click('#note-add');
-    await expect.poll(() => page.textContent('#incident-message'), { timeout: 10_000 }).toMatch(/note stored at t = [\d.]+ s/);
+    await expect
+      .poll(() => page.textContent('#incident-message'), { timeout: 10_000 })
+      .toMatch(/note stored at t = [\d.]+ s/);
     expect(await page.evaluate('document.querySelectorAll("script:not([src])").length')).toBe(0);
   });
 });

@@ -65,7 +65,8 @@ describe('log-frequency view on the demo replay', () => {
     await expect.poll(() => page.textContent('#logf-readout'), { timeout: 5_000 }).toMatch(/RBW .*Hz · \d+ averages/);
     // From the keyboard: focus the chart, arrows step point by point.
     await page.focus('#logf-chart');
-    const at = async (): Promise<Record<string, string>> => (await page.evaluate(`({ ...document.getElementById('logf-readout').dataset })`)) as Record<string, string>;
+    const at = async (): Promise<Record<string, string>> =>
+      (await page.evaluate(`({ ...document.getElementById('logf-readout').dataset })`)) as Record<string, string>;
     const before = Number((await at()).index);
     for (let i = 0; i < 5; i++) await page.keyboard.press('ArrowRight');
     const r = await at();
@@ -92,7 +93,14 @@ describe('log-frequency view on the demo replay', () => {
         `[{ ...(document.querySelector('#logf-fits p[data-channel="shorted"]')?.dataset ?? {}) }, { ...(document.querySelector('#logf-pp dl[data-channel="shorted"]')?.dataset ?? {}) }]`,
       )) as Record<string, string>[];
       const fitT = lf?.fit ? (lf.fit.sample % 480_000) / 8000 : 0;
-      if (lf?.fit && lf.peakToPeak && fitT >= 40 && shown[0].sample === String(lf.fit.sample) && shown[1].sample === String(lf.peakToPeak.sample)) break;
+      if (
+        lf?.fit &&
+        lf.peakToPeak &&
+        fitT >= 40 &&
+        shown[0].sample === String(lf.fit.sample) &&
+        shown[1].sample === String(lf.peakToPeak.sample)
+      )
+        break;
       if (Date.now() > end) throw new Error(`no matching fit after 40 s of sample time: ${JSON.stringify(lf)}`);
       await new Promise((r) => setTimeout(r, 40));
     }
@@ -123,17 +131,25 @@ describe('log-frequency view on the demo replay', () => {
     expect(pp.gaussianPeakToPeak / (6.6 * pp.rms)).toBeGreaterThan(0.95);
   }, 60_000);
 
-  it('keeps band alarms working in this view: the demo floor rise on bridge (38–46 s) is raised while log-frequency is shown', { timeout: 60_000 }, async () => {
-    // Scripted in recordings/README.md: 130 nV/√Hz added in 300–1200 Hz on `bridge` at 38–46 s of each loop.
-    expect(await page.inputValue('#spectrum-mode')).toBe('logf');
-    // Rows are newest first: the last matching row is the first raise.
-    const rise = page.locator('#events tbody tr[data-rule="band-rise"][data-state="raised"][data-channel="bridge"]').last();
-    await rise.waitFor({ state: 'attached', timeout: 50_000 });
-    const t = Number(await rise.locator('td').first().textContent()) % 60; // the demo loops every 60 s; sample time keeps counting
-    expect(t).toBeGreaterThanOrEqual(38);
-    expect(t).toBeLessThan(48);
-    expect(await page.textContent('#logf-context')).toMatch(/log-spaced points, .* 95 % band .* t = [\d.]+ s \(sample /);
-  });
+  it(
+    'keeps band alarms working in this view: the demo floor rise on bridge (38–46 s) is raised while log-frequency is shown',
+    { timeout: 60_000 },
+    async () => {
+      // Scripted in recordings/README.md: 130 nV/√Hz added in 300–1200 Hz on `bridge` at 38–46 s of each loop.
+      expect(await page.inputValue('#spectrum-mode')).toBe('logf');
+      // Rows are newest first: the last matching row is the first raise.
+      const rise = page
+        .locator('#events tbody tr[data-rule="band-rise"][data-state="raised"][data-channel="bridge"]')
+        .last();
+      await rise.waitFor({ state: 'attached', timeout: 50_000 });
+      const t = Number(await rise.locator('td').first().textContent()) % 60; // the demo loops every 60 s; sample time keeps counting
+      expect(t).toBeGreaterThanOrEqual(38);
+      expect(t).toBeLessThan(48);
+      expect(await page.textContent('#logf-context')).toMatch(
+        /log-spaced points, .* 95 % band .* t = [\d.]+ s \(sample /,
+      );
+    },
+  );
 
   it('exports what the view shows as CSV that numpy reads: one row per point, ASD inside its band, fits in the header', async () => {
     // What is shown and the click in one page task, so no update lands between them.
@@ -158,7 +174,15 @@ print(json.dumps({'rows': a.shape[0], 'cols': a.shape[1], 'f': a[:, 0].tolist(),
   'inside': bool(np.all((lo[ok] <= asd[ok]) & (asd[ok] <= hi[ok]))), 'sample': [l for l in head if l.startswith('# sample,')][0].split(',')[1],
   'fit': [l for l in head if l.startswith('# fit shorted,')][0]}))
 `;
-    const out = JSON.parse(execFileSync('python3', ['-c', py, path], { encoding: 'utf8' })) as { rows: number; cols: number; f: number[]; asd: (number | null)[]; inside: boolean; sample: string; fit: string };
+    const out = JSON.parse(execFileSync('python3', ['-c', py, path], { encoding: 'utf8' })) as {
+      rows: number;
+      cols: number;
+      f: number[];
+      asd: (number | null)[];
+      inside: boolean;
+      sample: string;
+      fit: string;
+    };
     expect(out.rows).toBe(shown.f.length);
     expect(out.cols).toBe(3 + 3 * 2);
     expect(out.f).toEqual(shown.f);
@@ -172,8 +196,11 @@ print(json.dumps({'rows': a.shape[0], 'cols': a.shape[1], 'f': a[:, 0].tolist(),
     // Fit and p-p are cleared at each loop seam of the demo (and a fit can fail): poll until both channels have them.
     let text = '';
     const complete = (): boolean =>
-      text.match(/^floorline_lowfreq_corner_hertz\{/gm)?.length === 2 && text.match(/^floorline_lowfreq_peak_to_peak_volts\{/gm)?.length === 2;
-    await expect.poll(async () => ((text = await (await fetch(`${agent.url}metrics`)).text()), complete()), { timeout: 30_000 }).toBe(true);
+      text.match(/^floorline_lowfreq_corner_hertz\{/gm)?.length === 2 &&
+      text.match(/^floorline_lowfreq_peak_to_peak_volts\{/gm)?.length === 2;
+    await expect
+      .poll(async () => ((text = await (await fetch(`${agent.url}metrics`)).text()), complete()), { timeout: 30_000 })
+      .toBe(true);
     expect(text).toMatch(/^floorline_lowfreq_corner_hertz\{channel="shorted"\} [\d.e+-]+$/m);
     expect(text).toMatch(/^floorline_lowfreq_white_density_volts_per_root_hertz\{channel="shorted"\} [\d.e+-]+$/m);
     expect(text).toMatch(/^floorline_lowfreq_peak_to_peak_volts\{channel="bridge"\} [\d.e+-]+$/m);

@@ -14,7 +14,16 @@ beforeAll(async () => {
   dir = tempDir('report-browser');
   const store = replayDemoIntoStore(dir);
   const floorline = cliIn(() => dir);
-  expect(floorline('note', '--store', store, '--incident', 'mains-bridge-s167999', '<script>console.error("injected")</script>').status).toBe(0);
+  expect(
+    floorline(
+      'note',
+      '--store',
+      store,
+      '--incident',
+      'mains-bridge-s167999',
+      '<script>console.error("injected")</script>',
+    ).status,
+  ).toBe(0);
   const r = floorline('report', '--store', store, '-o', 'report.html');
   expect(r.status, r.stderr).toBe(0);
   browser = await launchChromium({ width: 900, height: 1200 });

@@ -20,7 +20,13 @@ describe('parseArgs', () => {
   it('reads flags, defaults, repeats and positionals', () => {
     const p = parseArgs(spec, ['x.wav', '--segment', '1024', '--band', '1:10', '--band=20:200', '--json']);
     expect(p.positionals).toEqual(['x.wav']);
-    expect(p.flags).toMatchObject({ segment: 1024, window: 'hann', detrend: 'mean', band: ['1:10', '20:200'], json: true });
+    expect(p.flags).toMatchObject({
+      segment: 1024,
+      window: 'hann',
+      detrend: 'mean',
+      band: ['1:10', '20:200'],
+      json: true,
+    });
   });
 
   it('refuses an unknown flag naming it and the help', () => {

@@ -3,7 +3,16 @@
 // stack trace, no NaN printed and no raw control character reaching the terminal. The commands run in-process
 // (main() of the CLI), so a thrown error or an unhandled rejection fails the test directly.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { copyFileSync, mkdtempSync, readFileSync, rmSync, writeFileSync, existsSync, truncateSync, mkdirSync } from 'node:fs';
+import {
+  copyFileSync,
+  mkdtempSync,
+  readFileSync,
+  rmSync,
+  writeFileSync,
+  existsSync,
+  truncateSync,
+  mkdirSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import fc from 'fast-check';
@@ -51,7 +60,18 @@ beforeAll(async () => {
   const path = join(dir, 'good.wav');
   const rnd = new SeededRandom(16);
   const data = [rnd.fillGaussian(new Float64Array(4096), 1e-3), rnd.fillGaussian(new Float64Array(4096), 2e-3)];
-  const w = new WavWriter(path, { sampleRate: 1000, channels: [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V' }], firstSample: 0 }, { durable: false });
+  const w = new WavWriter(
+    path,
+    {
+      sampleRate: 1000,
+      channels: [
+        { name: 'a', unit: 'V' },
+        { name: 'b', unit: 'V' },
+      ],
+      firstSample: 0,
+    },
+    { durable: false },
+  );
   w.append(data, 4096);
   w.close();
   wavBytes = readFileSync(path);
@@ -65,22 +85,87 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 // Values that have broken readers before (from memory: zero, negative, huge, tiny, far-future dates, nulls,
 // terminal escapes) or that are simply wrong types.
-const oddJson = fc.constantFrom<unknown>(null, 0, -1, -0, 1e308, 1e-300, 1e300, 2 ** 53, 32767, '', 'x', '\u001b]0;pwned\u0007\u001b[2J', '+275760-09-13T00:00:00.000Z', [], [null], {}, true);
+const oddJson = fc.constantFrom<unknown>(
+  null,
+  0,
+  -1,
+  -0,
+  1e308,
+  1e-300,
+  1e300,
+  2 ** 53,
+  32767,
+  '',
+  'x',
+  '\u001b]0;pwned\u0007\u001b[2J',
+  '+275760-09-13T00:00:00.000Z',
+  [],
+  [null],
+  {},
+  true,
+);
 const jsonPath = (paths: string[][]) => fc.constantFrom(...paths);
-const SIDECAR_PATHS = [['sampleRate'], ['firstSample'], ['startWallTime'], ['channels'], ['channels', '0'], ['channels', '0', 'name'], ['channels', '0', 'unit'], ['channels', '0', 'scale'], ['channels', '0', 'fullScaleCounts'], ['schema']];
-const BASELINE_PATHS = [['channels'], ['channels', '0'], ['channels', '0', 'psd'], ['channels', '0', 'name'], ['channels', '0', 'equivalentAverages'], ['settings'], ['settings', 'segment'], ['settings', 'sampleRate'], ['span'], ['schema']];
+const SIDECAR_PATHS = [
+  ['sampleRate'],
+  ['firstSample'],
+  ['startWallTime'],
+  ['channels'],
+  ['channels', '0'],
+  ['channels', '0', 'name'],
+  ['channels', '0', 'unit'],
+  ['channels', '0', 'scale'],
+  ['channels', '0', 'fullScaleCounts'],
+  ['schema'],
+];
+const BASELINE_PATHS = [
+  ['channels'],
+  ['channels', '0'],
+  ['channels', '0', 'psd'],
+  ['channels', '0', 'name'],
+  ['channels', '0', 'equivalentAverages'],
+  ['settings'],
+  ['settings', 'segment'],
+  ['settings', 'sampleRate'],
+  ['span'],
+  ['schema'],
+];
 
 const f32 = (v: number): number[] => Array.from(new Uint8Array(new Float32Array([v]).buffer));
 const mutation = fc.oneof(
-  fc.record({ kind: fc.constant('byte' as const), at: fc.oneof(fc.nat(255), fc.nat(wavBytesLength() - 1)), value: fc.nat(255) }),
-  fc.record({ kind: fc.constant('field' as const), at: fc.constantFrom(['fmt ', 4], ['fmt ', 10], ['fmt ', 12], ['fmt ', 20], ['fmt ', 22], ['data', 4], ['flmd', 4], ['RIFF', 4]), value: fc.constantFrom(0, 1, 3, 1000, 32767, 65535, 0xffffffff, 0x7fffffff) }),
-  fc.record({ kind: fc.constant('sample' as const), frame: fc.nat(4095), value: fc.constantFrom(NaN, Infinity, -Infinity, 3.4028234663852886e38, 1e-45, 0) }),
+  fc.record({
+    kind: fc.constant('byte' as const),
+    at: fc.oneof(fc.nat(255), fc.nat(wavBytesLength() - 1)),
+    value: fc.nat(255),
+  }),
+  fc.record({
+    kind: fc.constant('field' as const),
+    at: fc.constantFrom(
+      ['fmt ', 4],
+      ['fmt ', 10],
+      ['fmt ', 12],
+      ['fmt ', 20],
+      ['fmt ', 22],
+      ['data', 4],
+      ['flmd', 4],
+      ['RIFF', 4],
+    ),
+    value: fc.constantFrom(0, 1, 3, 1000, 32767, 65535, 0xffffffff, 0x7fffffff),
+  }),
+  fc.record({
+    kind: fc.constant('sample' as const),
+    frame: fc.nat(4095),
+    value: fc.constantFrom(NaN, Infinity, -Infinity, 3.4028234663852886e38, 1e-45, 0),
+  }),
   fc.record({ kind: fc.constant('truncate' as const), length: fc.nat(wavBytesLength()) }),
   fc.record({ kind: fc.constant('sidecar' as const), path: jsonPath(SIDECAR_PATHS), value: oddJson }),
   fc.record({ kind: fc.constant('sidecar-bytes' as const), text: fc.string({ maxLength: 30 }) }),
   fc.record({ kind: fc.constant('baseline' as const), path: jsonPath(BASELINE_PATHS), value: oddJson }),
   fc.record({ kind: fc.constant('silent' as const), channel: fc.nat(1) }),
-  fc.record({ kind: fc.constant('u16' as const), at: fc.constantFrom(['fmt ', 10], ['fmt ', 20], ['fmt ', 22]), value: fc.constantFrom(0, 1, 1000, 32767, 65535) }),
+  fc.record({
+    kind: fc.constant('u16' as const),
+    at: fc.constantFrom(['fmt ', 10], ['fmt ', 20], ['fmt ', 22]),
+    value: fc.constantFrom(0, 1, 1000, 32767, 65535),
+  }),
 );
 type Mutation = typeof mutation extends fc.Arbitrary<infer T> ? T : never;
 
@@ -107,10 +192,12 @@ function apply(muts: Mutation[], caseDir: string): { wav: string; baseline: stri
   const dataStart = wavBytes.length - 4096 * 8;
   for (const m of muts) {
     if (m.kind === 'byte') wav[m.at % wav.length] = m.value;
-    else if (m.kind === 'field') wav.writeUInt32LE(m.value >>> 0, wavBytes.indexOf(m.at[0] as string) + (m.at[1] as number));
+    else if (m.kind === 'field')
+      wav.writeUInt32LE(m.value >>> 0, wavBytes.indexOf(m.at[0] as string) + (m.at[1] as number));
     else if (m.kind === 'u16') wav.writeUInt16LE(m.value, wavBytes.indexOf(m.at[0] as string) + (m.at[1] as number));
     else if (m.kind === 'sample') Buffer.from(f32(m.value)).copy(wav, dataStart + m.frame * 8);
-    else if (m.kind === 'truncate') cut = m.length < 0 ? dataStart : m.length; // < 0: keep the header only
+    else if (m.kind === 'truncate')
+      cut = m.length < 0 ? dataStart : m.length; // < 0: keep the header only
     else if (m.kind === 'sidecar') {
       try {
         const j = JSON.parse(sidecar);
@@ -163,7 +250,20 @@ async function allCommands(wav: string, baseline: string, caseDir: string): Prom
   const results: Record<string, Outcome> = {
     analyze: await cli('analyze', wav, '--json', '--segment', '256'),
     baseline: await cli('baseline', wav, '-o', join(caseDir, 'out.json'), '--segment', '256'),
-    replay: await cli('replay', wav, '--speed', 'max', '--no-server', '--quiet', '--segment', '256', '--baseline', baseline, '--data', join(caseDir, 'data')),
+    replay: await cli(
+      'replay',
+      wav,
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--segment',
+      '256',
+      '--baseline',
+      baseline,
+      '--data',
+      join(caseDir, 'data'),
+    ),
   };
   if (existsSync(wav)) copyFileSync(wav, copy);
   results.repair = await cli('repair', copy);
@@ -176,12 +276,18 @@ function check(name: string, r: Outcome): void {
   expect([0, 2], `${name}: exit ${r.code}\n${all.slice(0, 2000)}`).toContain(r.code);
   expect(all, `${name}: stack trace`).not.toMatch(/\n\s+at .+[(:]\d+/);
   const control = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f]/.exec(all);
-  expect(control && JSON.stringify(all.slice(Math.max(0, control.index - 80), control.index + 20)), `${name}: raw control character`).toBeNull();
-  if (name !== 'replay') expect(/(?<![\w-])(NaN|null)(?![\w-])/.exec(r.out)?.[0], `${name}: NaN printed`).toBeUndefined();
+  expect(
+    control && JSON.stringify(all.slice(Math.max(0, control.index - 80), control.index + 20)),
+    `${name}: raw control character`,
+  ).toBeNull();
+  if (name !== 'replay')
+    expect(/(?<![\w-])(NaN|null)(?![\w-])/.exec(r.out)?.[0], `${name}: NaN printed`).toBeUndefined();
   if (r.code === 2) {
     // Node's own process warnings (e.g. listener counts from running many commands in one process) are the
     // harness's, not the command's.
-    const lines = r.err.split('\n').filter((l) => l.trim() !== '' && !/warning:/.test(l) && !/^\(node:\d+\)|^\(Use `node --trace-warnings/.test(l));
+    const lines = r.err
+      .split('\n')
+      .filter((l) => l.trim() !== '' && !/warning:/.test(l) && !/^\(node:\d+\)|^\(Use `node --trace-warnings/.test(l));
     expect(lines.length, `${name}: want one message line\n${r.err}`).toBe(1);
   }
 }
@@ -195,7 +301,10 @@ describe('hostile files through analyze, baseline, replay and repair', () => {
     ['a 32767-channel header', [{ kind: 'u16', at: ['fmt ', 10], value: 32767 }]],
     ['a far-future start time', [{ kind: 'sidecar', path: ['startWallTime'], value: '+275760-09-13T00:00:00.000Z' }]],
     ['a null baseline channel', [{ kind: 'baseline', path: ['channels'], value: [null] }]],
-    ['an escape sequence as channel name', [{ kind: 'sidecar', path: ['channels', '0', 'name'], value: '\u001b]0;pwned\u0007' }]],
+    [
+      'an escape sequence as channel name',
+      [{ kind: 'sidecar', path: ['channels', '0', 'name'], value: '\u001b]0;pwned\u0007' }],
+    ],
   ];
   for (const [label, muts] of known) {
     it(`handles ${label}`, async () => {
@@ -218,7 +327,13 @@ describe('hostile files through analyze, baseline, replay and repair', () => {
   it('refuses a baseline of a silent channel naming it, and replays against a zero-floor baseline without crashing', async () => {
     const caseDir = join(dir, 'silent');
     mkdirSync(caseDir);
-    const { wav, baseline } = apply([{ kind: 'silent', channel: 1 }, { kind: 'baseline', path: ['channels', '1', 'psd'], value: new Array(129).fill(0) }], caseDir);
+    const { wav, baseline } = apply(
+      [
+        { kind: 'silent', channel: 1 },
+        { kind: 'baseline', path: ['channels', '1', 'psd'], value: new Array(129).fill(0) },
+      ],
+      caseDir,
+    );
     const r = await allCommands(wav, baseline, caseDir);
     expect(r.baseline.code).toBe(2);
     expect(r.baseline.err).toMatch(/channel b is silent/);
@@ -244,11 +359,26 @@ describe('hostile files through analyze, baseline, replay and repair', () => {
     const noise = Array.from(rnd.fillGaussian(new Float64Array(4096), 1000), Math.round);
     const int16 = join(caseDir, 'int16.wav');
     writeFileSync(int16, plainWav('int16', 1, noise));
-    writeFileSync(`${int16}.json`, JSON.stringify({ schema: 'floorline.recording/1', sampleRate: 1000, firstSample: 0, channels: [{ name: 'x', unit: 'V', scale: 1e308 }] }));
+    writeFileSync(
+      `${int16}.json`,
+      JSON.stringify({
+        schema: 'floorline.recording/1',
+        sampleRate: 1000,
+        firstSample: 0,
+        channels: [{ name: 'x', unit: 'V', scale: 1e308 }],
+      }),
+    );
     const r = await allCommands(int16, join(caseDir, 'none.json'), caseDir);
     expect(r.analyze.err).toMatch(/beyond float32/);
     const f64 = join(caseDir, 'f64.wav');
-    writeFileSync(f64, plainWav('float64', 1, noise.map((v, i) => (i === 2000 ? 1e300 : v * 1e-6))));
+    writeFileSync(
+      f64,
+      plainWav(
+        'float64',
+        1,
+        noise.map((v, i) => (i === 2000 ? 1e300 : v * 1e-6)),
+      ),
+    );
     const g = await allCommands(f64, join(caseDir, 'none.json'), caseDir);
     expect(g.analyze.code).toBe(0);
     expect(g.analyze.err).toMatch(/1 frames hold NaN/);

@@ -15,12 +15,30 @@ const bin = join(root, 'bin/floorline.mjs');
 
 // [config, the path the message must name, a word of the reason]
 const BAD: [unknown, string, string][] = [
-  [{ channels: [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V', gain: 0 }] }, 'channels[1].gain: must be > 0', 'positive'],
+  [
+    {
+      channels: [
+        { name: 'a', unit: 'V' },
+        { name: 'b', unit: 'V', gain: 0 },
+      ],
+    },
+    'channels[1].gain: must be > 0',
+    'positive',
+  ],
   [{ channels: [{ name: 'a', unit: 'V', gain: -3 }] }, 'channels[0].gain: must be > 0', 'positive'],
   [{ channels: [{ name: 'a' }] }, 'channels[0]: must have required property', 'unit'],
   [{ channels: [{ name: 'a', unit: 'V', voltsPerCount: 'x' }] }, 'channels[0].voltsPerCount: must be number', 'type'],
   [{ channels: [{ name: 'a', unit: 'V', inputReferred: true }] }, 'channels[0].inputReferred', 'gain'],
-  [{ channels: [{ name: 'a', unit: 'V' }, { name: 'a', unit: 'V' }] }, 'channels[1].name', 'twice'],
+  [
+    {
+      channels: [
+        { name: 'a', unit: 'V' },
+        { name: 'a', unit: 'V' },
+      ],
+    },
+    'channels[1].name',
+    'twice',
+  ],
   [{ channels: [] }, 'channels: must NOT have fewer than 1 items', 'at least one'],
   [{ source: { format: 'hex' } }, 'source.format: must be equal to one of the allowed values', '"binary"'],
   [{ source: { rate: 0 } }, 'source.rate: must be > 0', 'positive'],
@@ -60,12 +78,25 @@ describe('rig config check', () => {
   it('`config check` exits 2 naming the path, and 0 printing the effective settings', () => {
     const dir = mkdtempSync(join(tmpdir(), 'fl-config-'));
     const bad = join(dir, 'bad.json');
-    writeFileSync(bad, JSON.stringify({ channels: [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V', gain: 0 }] }));
+    writeFileSync(
+      bad,
+      JSON.stringify({
+        channels: [
+          { name: 'a', unit: 'V' },
+          { name: 'b', unit: 'V', gain: 0 },
+        ],
+      }),
+    );
     const r = spawnSync(process.execPath, [bin, 'config', 'check', bad], { encoding: 'utf8' });
     expect(r.status).toBe(2);
     expect(r.stderr).toContain('channels[1].gain: must be > 0');
     const good = join(dir, 'good.json');
-    writeFileSync(good, JSON.stringify({ notify: [{ webhook: 'https://example.invalid/h', headers: { Authorization: 'Bearer sekrit-token-value' } }] }));
+    writeFileSync(
+      good,
+      JSON.stringify({
+        notify: [{ webhook: 'https://example.invalid/h', headers: { Authorization: 'Bearer sekrit-token-value' } }],
+      }),
+    );
     const ok = spawnSync(process.execPath, [bin, 'config', 'check', good], { encoding: 'utf8' });
     expect(ok.status, ok.stderr).toBe(0);
     const eff = JSON.parse(ok.stdout);
@@ -76,7 +107,9 @@ describe('rig config check', () => {
   });
 
   it('accepts every example config in the repository', () => {
-    const files = readdirSync(join(root, 'contrib')).filter((f) => f.endsWith('.json')).map((f) => join(root, 'contrib', f));
+    const files = readdirSync(join(root, 'contrib'))
+      .filter((f) => f.endsWith('.json'))
+      .map((f) => join(root, 'contrib', f));
     expect(files.length).toBeGreaterThan(0);
     for (const f of files) {
       const r = spawnSync(process.execPath, [bin, 'config', 'check', f], { encoding: 'utf8' });
@@ -90,7 +123,10 @@ describe('rig config check', () => {
   });
 
   it('flags override the file; the file fills what the flags leave', () => {
-    const loaded = checkRigConfig({ source: { port: '/dev/ttyACM0', rate: 1000 }, analysis: { segment: 8192 }, bands: ['10:100'] }, join(root, 'x.json'));
+    const loaded = checkRigConfig(
+      { source: { port: '/dev/ttyACM0', rate: 1000 }, analysis: { segment: 8192 }, bands: ['10:100'] },
+      join(root, 'x.json'),
+    );
     const args = parseArgs(runCommand, ['--segment', '1024']);
     applyRigConfig(args, runCommand.flags, loaded);
     expect(args.flags.segment).toBe(1024);

@@ -53,7 +53,14 @@ const ref = JSON.parse(execFileSync('python3', ['-c', script], { encoding: 'utf8
 const x = Float64Array.from(ref.x);
 
 function run(averaging: AveragingSpec): Float64Array {
-  const est = new WelchEstimator({ sampleRate: FS, segment: SEGMENT, window: 'hann', overlap: OVERLAP, detrend: 'mean', averaging });
+  const est = new WelchEstimator({
+    sampleRate: FS,
+    segment: SEGMENT,
+    window: 'hann',
+    overlap: OVERLAP,
+    detrend: 'mean',
+    averaging,
+  });
   est.push(x);
   expect(est.segmentsTotal).toBe(ref.segments);
   return est.psd();
@@ -68,7 +75,8 @@ function expectClose(ours: Float64Array, theirs: number[]): void {
 describe('averaging modes match numpy over scipy.signal.spectrogram segments', () => {
   it('mean of all segments', () => expectClose(run({ mode: 'mean' }), ref.mean));
   it(`rolling mean of the last ${K}`, () => expectClose(run({ mode: 'rolling', count: K }), ref.rolling));
-  it(`median of the last ${K}, debiased as scipy.signal.welch(average='median')`, () => expectClose(run({ mode: 'median', count: K }), ref.median));
+  it(`median of the last ${K}, debiased as scipy.signal.welch(average='median')`, () =>
+    expectClose(run({ mode: 'median', count: K }), ref.median));
   it("median of all segments (odd count), as scipy.signal.welch(average='median')", () =>
     expectClose(run({ mode: 'median', count: 64 }), ref.median_all));
   it(`exponential with τ = ${TAU} s of sample time`, () =>

@@ -23,7 +23,11 @@ for x in data:
 print(json.dumps(out))
 `;
 const ref = JSON.parse(
-  execFileSync('python3', ['-c', script], { input: JSON.stringify(inputs.map((x) => Array.from(x))), encoding: 'utf8', maxBuffer: 1 << 28 }),
+  execFileSync('python3', ['-c', script], {
+    input: JSON.stringify(inputs.map((x) => Array.from(x))),
+    encoding: 'utf8',
+    maxBuffer: 1 << 28,
+  }),
 ) as { rre: number[]; rim: number[]; cre: number[]; cim: number[] }[];
 
 /** Largest error relative to the largest magnitude of the reference. */
@@ -44,8 +48,18 @@ describe('FFTs agree with numpy.fft to rounding', () => {
     it(`RealFft (fft.js) equals numpy.fft.rfft at N=${n}`, () => {
       const out = new Float64Array(n + 2);
       new RealFft(n).transform(x.slice(), out);
-      expect(worst(out.filter((_, i) => i % 2 === 0), r.rre)).toBeLessThan(1e-13);
-      expect(worst(out.filter((_, i) => i % 2 === 1), r.rim)).toBeLessThan(1e-13);
+      expect(
+        worst(
+          out.filter((_, i) => i % 2 === 0),
+          r.rre,
+        ),
+      ).toBeLessThan(1e-13);
+      expect(
+        worst(
+          out.filter((_, i) => i % 2 === 1),
+          r.rim,
+        ),
+      ).toBeLessThan(1e-13);
     });
 
     it(`ComplexFft equals numpy.fft.fft at M=${n}`, () => {

@@ -26,7 +26,12 @@ t = np.arange(60 * fs) / fs
 x = e * np.sqrt(fs / 2) * rng.standard_normal(t.size) + a * np.sqrt(2) * np.sin(2 * np.pi * f0 * t + 0.3)
 f, p = signal.welch(x, fs=fs, nperseg=n, noverlap=n // 2, window='hann', detrend='constant')
 result = {"psd": p.tolist(), "segments": int((x.size - n) // (n // 2) + 1)}`,
-    FS, N, e, a, f0, seed,
+    FS,
+    N,
+    e,
+    a,
+    f0,
+    seed,
   );
   return { psd: Float64Array.from(r.psd), segments: r.segments };
 }

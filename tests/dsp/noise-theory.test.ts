@@ -13,7 +13,15 @@ import {
   shotNoiseDensity,
   whiteNoiseRms,
 } from '../../dsp/noise-theory.ts';
-import { amplitudeRatioDb, dbToAmplitudeRatio, dbToPowerRatio, powerRatioDb, psdToDbvPerRootHz, rmsToDbfs, rmsToDbv } from '../../dsp/units.ts';
+import {
+  amplitudeRatioDb,
+  dbToAmplitudeRatio,
+  dbToPowerRatio,
+  powerRatioDb,
+  psdToDbvPerRootHz,
+  rmsToDbfs,
+  rmsToDbv,
+} from '../../dsp/units.ts';
 
 const py = JSON.parse(
   execFileSync(

@@ -49,7 +49,14 @@ describe('WelchEstimator obeys Parseval and the sine-wave calibration', () => {
     const x = new Float64Array(n);
     for (let i = 0; i < n; i++) x[i] = a * Math.sin((2 * Math.PI * k0 * i) / n + 0.4);
     for (const name of ALL_WINDOWS) {
-      const est = new WelchEstimator({ sampleRate: 8192, segment: n, window: name, overlap: 0, detrend: 'mean', scaling: 'spectrum' });
+      const est = new WelchEstimator({
+        sampleRate: 8192,
+        segment: n,
+        window: name,
+        overlap: 0,
+        detrend: 'mean',
+        scaling: 'spectrum',
+      });
       est.push(x);
       const spec = est.psd();
       // Cosine sums have exact zeros at the negative-frequency image (2·k0 bins away); Kaiser leaks a little.
@@ -66,7 +73,14 @@ describe('WelchEstimator obeys Parseval and the sine-wave calibration', () => {
       const f0 = 200 + d;
       const x = new Float64Array(4 * n);
       for (let i = 0; i < x.length; i++) x[i] = a * Math.cos((2 * Math.PI * f0 * i) / fs);
-      const est = new WelchEstimator({ sampleRate: fs, segment: n, window: 'hft95', overlap: 0.756, detrend: 'mean', scaling: 'spectrum' });
+      const est = new WelchEstimator({
+        sampleRate: fs,
+        segment: n,
+        window: 'hft95',
+        overlap: 0.756,
+        detrend: 'mean',
+        scaling: 'spectrum',
+      });
       est.push(x);
       const spec = est.psd();
       let peak = 0;
@@ -120,7 +134,14 @@ describe('equivalentAverages follows Welch (1967)', () => {
     const fs = 1000;
     const segment = 128;
     const tau = 1.2;
-    const est = new WelchEstimator({ sampleRate: fs, segment, window: 'hann', overlap: 0, detrend: 'none', averaging: { mode: 'exponential', tauSeconds: tau } });
+    const est = new WelchEstimator({
+      sampleRate: fs,
+      segment,
+      window: 'hann',
+      overlap: 0,
+      detrend: 'none',
+      averaging: { mode: 'exponential', tauSeconds: tau },
+    });
     est.push(gaussian(4, segment * 2000));
     const alpha = 1 - Math.exp(-segment / fs / tau);
     expect(est.equivalentAverages() / ((2 - alpha) / alpha) - 1).toBeCloseTo(0, 8);
@@ -166,7 +187,15 @@ describe('equivalentAverages follows Welch (1967)', () => {
 
   it('matches the simulated variance of an exponential average at 50 % overlap', () => {
     const [sim, predicted] = simulatedEquivalent(
-      () => new WelchEstimator({ sampleRate: 256, segment: 256, window: 'hann', overlap: 0.5, detrend: 'none', averaging: { mode: 'exponential', tauSeconds: 2 } }),
+      () =>
+        new WelchEstimator({
+          sampleRate: 256,
+          segment: 256,
+          window: 'hann',
+          overlap: 0.5,
+          detrend: 'none',
+          averaging: { mode: 'exponential', tauSeconds: 2 },
+        }),
       256 + 128 * 59,
       200,
     );
@@ -176,7 +205,14 @@ describe('equivalentAverages follows Welch (1967)', () => {
 
 describe('WelchEstimator bookkeeping in sample time', () => {
   it('stamps the last sample of the newest segment from firstSample, as scipy segments start at sample 0', () => {
-    const est = new WelchEstimator({ sampleRate: 100, segment: 64, window: 'hann', overlap: 0.5, detrend: 'mean', firstSample: 1000 });
+    const est = new WelchEstimator({
+      sampleRate: 100,
+      segment: 64,
+      window: 'hann',
+      overlap: 0.5,
+      detrend: 'mean',
+      firstSample: 1000,
+    });
     expect(est.lastSegmentSample).toBe(-1);
     expect(est.push(new Float64Array(63))).toBe(0);
     expect(est.push(new Float64Array(1 + 32 * 4 + 5))).toBe(5);
@@ -208,8 +244,12 @@ describe('WelchEstimator bookkeeping in sample time', () => {
     expect(() => new WelchEstimator({ ...ok, overlap: 1 })).toThrow(/overlap must be a fraction in \[0, 1\)/);
     expect(() => new WelchEstimator({ ...ok, sampleRate: 0 })).toThrow(/sampleRate/);
     expect(() => new WelchEstimator({ ...ok, window: 'triangle' })).toThrow(/unknown window "triangle"/);
-    expect(() => new WelchEstimator({ ...ok, averaging: { mode: 'rolling', count: 0 } })).toThrow(/count must be an integer/);
-    expect(() => new WelchEstimator({ ...ok, averaging: { mode: 'exponential', tauSeconds: -1 } })).toThrow(/tauSeconds/);
+    expect(() => new WelchEstimator({ ...ok, averaging: { mode: 'rolling', count: 0 } })).toThrow(
+      /count must be an integer/,
+    );
+    expect(() => new WelchEstimator({ ...ok, averaging: { mode: 'exponential', tauSeconds: -1 } })).toThrow(
+      /tauSeconds/,
+    );
     const est = new WelchEstimator(ok);
     expect(() => est.push(new Float64Array(10), 5, 20)).toThrow(/outside the 10 samples/);
     expect(() => est.psd(new Float64Array(3))).toThrow(/needs 33/);

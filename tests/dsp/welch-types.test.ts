@@ -16,7 +16,9 @@ describe('WelchEstimator options are typed', () => {
     // @ts-expect-error scaling is 'density' or 'spectrum'
     expect(() => new WelchEstimator({ ...ok, scaling: 'psd' })).toThrow(/scaling "psd"/);
     // @ts-expect-error sampleRate is required
-    expect(() => new WelchEstimator({ segment: 256, window: 'hann', overlap: 0.5, detrend: 'mean' })).toThrow(/sampleRate/);
+    expect(() => new WelchEstimator({ segment: 256, window: 'hann', overlap: 0.5, detrend: 'mean' })).toThrow(
+      /sampleRate/,
+    );
     const est = new WelchEstimator(ok);
     // @ts-expect-error samples are typed arrays, not plain arrays
     expect(() => est.push([1, 2, 3])).toThrow(/Float64Array or Float32Array/);

@@ -6,10 +6,21 @@ import type { BoardDescriptor } from '../../agent/framing/descriptor.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { concat, randomFrame, recordingDecoder, type SentFrame } from './frame-stream.ts';
 import { crc32 } from '../../agent/framing/crc32.ts';
-import { KIND_DESCRIPTOR, KIND_SAMPLES, MAX_BODY, SERIAL_PROTOCOL_VERSION, SYNC } from '../../agent/framing/protocol.ts';
+import {
+  KIND_DESCRIPTOR,
+  KIND_SAMPLES,
+  MAX_BODY,
+  SERIAL_PROTOCOL_VERSION,
+  SYNC,
+} from '../../agent/framing/protocol.ts';
 
 const GOOD: BoardDescriptor = {
-  rate: 48000, format: 'int24', board: 'rig-7', firmware: '0.3.1', boot: 'a1b2', clock: 12345,
+  rate: 48000,
+  format: 'int24',
+  board: 'rig-7',
+  firmware: '0.3.1',
+  boot: 'a1b2',
+  clock: 12345,
   channels: [{ name: 'lna', unit: 'V', perCount: 2.98e-7, fullScale: 8388607 }],
 };
 
@@ -68,7 +79,13 @@ describe('FrameDecoder', () => {
     const { decoder, got } = recordingDecoder();
     decoder.push(bytes);
     expect(got).toEqual(sent);
-    expect(decoder.counters).toMatchObject({ sampleFrames: 20000, crcErrors: 0, syncErrors: 0, malformed: 0, discardedBytes: 0 });
+    expect(decoder.counters).toMatchObject({
+      sampleFrames: 20000,
+      crcErrors: 0,
+      syncErrors: 0,
+      malformed: 0,
+      discardedBytes: 0,
+    });
     expect(decoder.pending).toBe(0);
   });
 
@@ -154,7 +171,11 @@ describe('FrameDecoder', () => {
     ['a body that is not JSON', descriptorBody(text('{"rate": 48000,')), 'UTF-8 JSON'],
     ['a JSON array instead of an object', descriptorJson([GOOD]), 'not a JSON object'],
     ['rate zero', descriptorJson({ ...GOOD, rate: 0 }), '"rate"'],
-    ['rate not finite (1e999 parses as Infinity)', descriptorBody(text(JSON.stringify({ ...GOOD, rate: 1 }).replace('"rate":1', '"rate":1e999'))), '"rate"'],
+    [
+      'rate not finite (1e999 parses as Infinity)',
+      descriptorBody(text(JSON.stringify({ ...GOOD, rate: 1 }).replace('"rate":1', '"rate":1e999'))),
+      '"rate"',
+    ],
     ['rate a string', descriptorJson({ ...GOOD, rate: '48000' }), '"rate"'],
     ['an absurd rate (above 10 MHz)', descriptorJson({ ...GOOD, rate: 1e9 }), '"rate"'],
     ['an unknown format', descriptorJson({ ...GOOD, format: 'int12' }), '"format"'],
@@ -165,16 +186,44 @@ describe('FrameDecoder', () => {
     ['a board name with a control character', descriptorJson({ ...GOOD, board: 'rig\u001b[2J' }), '"board"'],
     ['clock past 2^32 - 1', descriptorJson({ ...GOOD, clock: 2 ** 32 }), '"clock"'],
     ['zero channels', descriptorJson({ ...GOOD, channels: [] }), '"channels"'],
-    ['an absurd channel count (65 > MAX_CHANNELS)', descriptorJson({ ...GOOD, channels: Array.from({ length: 65 }, () => ch) }), '"channels"'],
+    [
+      'an absurd channel count (65 > MAX_CHANNELS)',
+      descriptorJson({ ...GOOD, channels: Array.from({ length: 65 }, () => ch) }),
+      '"channels"',
+    ],
     ['a channel that is not an object', descriptorJson({ ...GOOD, channels: [null] }), 'channels[0] is not an object'],
-    ['a channel name that is not a string', descriptorJson({ ...GOOD, channels: [{ ...ch, name: 3 }] }), 'channels[0].name'],
+    [
+      'a channel name that is not a string',
+      descriptorJson({ ...GOOD, channels: [{ ...ch, name: 3 }] }),
+      'channels[0].name',
+    ],
     ['an empty channel name', descriptorJson({ ...GOOD, channels: [{ ...ch, name: '' }] }), 'channels[0].name'],
-    ['a channel name of 65 characters', descriptorJson({ ...GOOD, channels: [{ ...ch, name: 'n'.repeat(65) }] }), 'channels[0].name'],
-    ['a channel name with a control character', descriptorJson({ ...GOOD, channels: [{ ...ch, name: 'a\nb' }] }), 'channels[0].name'],
-    ['a unit that is not a string', descriptorJson({ ...GOOD, channels: [{ ...ch, unit: { si: 'V' } }] }), 'channels[0].unit'],
+    [
+      'a channel name of 65 characters',
+      descriptorJson({ ...GOOD, channels: [{ ...ch, name: 'n'.repeat(65) }] }),
+      'channels[0].name',
+    ],
+    [
+      'a channel name with a control character',
+      descriptorJson({ ...GOOD, channels: [{ ...ch, name: 'a\nb' }] }),
+      'channels[0].name',
+    ],
+    [
+      'a unit that is not a string',
+      descriptorJson({ ...GOOD, channels: [{ ...ch, unit: { si: 'V' } }] }),
+      'channels[0].unit',
+    ],
     ['perCount above 1e20', descriptorJson({ ...GOOD, channels: [{ ...ch, perCount: 1e21 }] }), 'channels[0].perCount'],
-    ['perCount not finite', descriptorBody(text(JSON.stringify(GOOD).replace('"perCount":2.98e-7', '"perCount":-1e999'))), 'channels[0].perCount'],
-    ['fullScale past the format limit', descriptorJson({ ...GOOD, channels: [{ ...ch, fullScale: 2 ** 23 }] }), 'channels[0].fullScale'],
+    [
+      'perCount not finite',
+      descriptorBody(text(JSON.stringify(GOOD).replace('"perCount":2.98e-7', '"perCount":-1e999'))),
+      'channels[0].perCount',
+    ],
+    [
+      'fullScale past the format limit',
+      descriptorJson({ ...GOOD, channels: [{ ...ch, fullScale: 2 ** 23 }] }),
+      'channels[0].fullScale',
+    ],
     ['a samples frame with 0 channels', samplesBody(0, 1, 4), 'channel count 0'],
     ['a samples frame with 65 channels', samplesBody(65, 1, 65 * 3), 'channel count 65'],
     ['a samples frame with an unknown format code', samplesBody(1, 0x7f, 4), 'format code 127'],
@@ -185,7 +234,11 @@ describe('FrameDecoder', () => {
     const got: BoardDescriptor[] = [];
     const samples: number[] = [];
     const details: string[] = [];
-    const dec = new FrameDecoder({ samples: (f) => samples.push(f.frames), descriptor: (x) => got.push(x), malformed: (d) => details.push(d) });
+    const dec = new FrameDecoder({
+      samples: (f) => samples.push(f.frames),
+      descriptor: (x) => got.push(x),
+      malformed: (d) => details.push(d),
+    });
     // The bad frame, then a good descriptor: the good one still arrives, the bad one leaves only its count.
     dec.push(concat([frame, encodeDescriptorFrame(GOOD)]));
     expect(dec.counters).toMatchObject({ frames: 2, malformed: 1, descriptors: 1, sampleFrames: 0, crcErrors: 0 });
@@ -210,7 +263,10 @@ describe('FrameDecoder', () => {
   it('recovers exactly the sent frames for arbitrary garbage and chunking (property, fast-check)', () => {
     fc.assert(
       fc.property(
-        fc.array(fc.tuple(fc.uint8Array({ maxLength: 40 }), fc.integer({ min: 0, max: 1 << 20 })), { minLength: 1, maxLength: 30 }),
+        fc.array(fc.tuple(fc.uint8Array({ maxLength: 40 }), fc.integer({ min: 0, max: 1 << 20 })), {
+          minLength: 1,
+          maxLength: 30,
+        }),
         fc.array(fc.integer({ min: 1, max: 97 }), { minLength: 1, maxLength: 20 }),
         (pieces, chunks) => {
           const rng = new SeededRandom(pieces.length);

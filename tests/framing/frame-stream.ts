@@ -20,7 +20,11 @@ export function fingerprint(data: readonly Float64Array[], frames: number): numb
   return s;
 }
 
-export function randomFrame(rng: SeededRandom, sequence: number, maxFrames = 40): { bytes: Uint8Array; sent: SentFrame } {
+export function randomFrame(
+  rng: SeededRandom,
+  sequence: number,
+  maxFrames = 40,
+): { bytes: Uint8Array; sent: SentFrame } {
   const channels = 1 + (rng.nextUint32() % 6);
   const format = SAMPLE_FORMATS[rng.nextUint32() % 4];
   const frames = 1 + (rng.nextUint32() % maxFrames);
@@ -61,7 +65,13 @@ export function recordingDecoder(): { decoder: FrameDecoder; got: SentFrame[] } 
     samples(f) {
       // Decode the payload through the public helper to fingerprint it.
       decodeFrame(f.bytes, f.offset, f.format, f.channels, f.frames, scratch, 0);
-      got.push({ sequence: f.sequence, channels: f.channels, format: f.format, frames: f.frames, fingerprint: fingerprint(scratch.slice(0, f.channels), f.frames) });
+      got.push({
+        sequence: f.sequence,
+        channels: f.channels,
+        format: f.format,
+        frames: f.frames,
+        fingerprint: fingerprint(scratch.slice(0, f.channels), f.frames),
+      });
     },
     descriptor() {},
   });

@@ -1,5 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { encodeDescribeRequest, encodeDescriptorFrame, encodeSamplesFrame, samplesFrameLength } from '../../agent/framing/encoder.ts';
+import {
+  encodeDescribeRequest,
+  encodeDescriptorFrame,
+  encodeSamplesFrame,
+  samplesFrameLength,
+} from '../../agent/framing/encoder.ts';
 import { SAMPLE_FORMATS } from '../../agent/framing/protocol.ts';
 import { concat } from './frame-stream.ts';
 import { runPython } from './run-python.ts';
@@ -44,20 +49,29 @@ describe('frame layout', () => {
     const parts: Uint8Array[] = [];
     const expected: unknown[] = [];
     SAMPLE_FORMATS.forEach((format, k) => {
-      const data = [
-        Float64Array.of(0, 1, -1, 32767, -32768, 1234),
-        Float64Array.of(-5, 7, 100, -100, 2, 3),
-      ];
+      const data = [Float64Array.of(0, 1, -1, 32767, -32768, 1234), Float64Array.of(-5, 7, 100, -100, 2, 3)];
       if (format === 'int24' || format === 'int32' || format === 'float32') data[1][0] = -8388608;
       if (format === 'int32') data[0][2] = -2147483648;
       if (format === 'float32') data[0][5] = 0.15625;
       const bytes = new Uint8Array(samplesFrameLength(2, format, 6));
       encodeSamplesFrame(bytes, 0, 0xfffffff0 + k, format, data, 0, 6);
       parts.push(bytes);
-      expected.push({ version: 1, kind: 1, channels: 2, format: k + 1, sequence: 0xfffffff0 + k, values: data.map((a) => Array.from(a)) });
+      expected.push({
+        version: 1,
+        kind: 1,
+        channels: 2,
+        format: k + 1,
+        sequence: 0xfffffff0 + k,
+        values: data.map((a) => Array.from(a)),
+      });
     });
     const d = {
-      rate: 20000, format: 'int24' as const, board: 'bench-board', firmware: '1.0', boot: 'ff01', clock: 7,
+      rate: 20000,
+      format: 'int24' as const,
+      board: 'bench-board',
+      firmware: '1.0',
+      boot: 'ff01',
+      clock: 7,
       channels: [{ name: 'a', unit: 'V', perCount: 1e-6, fullScale: 8388607 }],
     };
     parts.push(encodeDescriptorFrame(d), encodeDescribeRequest());

@@ -8,7 +8,9 @@ const root = new URL('../../', import.meta.url).pathname;
 
 describe('error codes', () => {
   it('are the rows of docs/ERRORS.md, with the same exit status', () => {
-    const rows = [...readFileSync(`${root}docs/ERRORS.md`, 'utf8').matchAll(/^\| `([A-Z_]+)` \| (\d+) \|/gm)].map((m) => [m[1], Number(m[2])]);
+    const rows = [...readFileSync(`${root}docs/ERRORS.md`, 'utf8').matchAll(/^\| `([A-Z_]+)` \| (\d+) \|/gm)].map(
+      (m) => [m[1], Number(m[2])],
+    );
     expect(rows).toEqual(Object.entries(ERROR_CODES));
   });
 

@@ -19,20 +19,37 @@ function sources(dir: string): string[] {
 /** Every import specifier of a file: the relative ones resolved to repository paths, the others as written. */
 export function importsOf(file: string): string[] {
   const text = readFileSync(join(root, file), 'utf8');
-  const specs = [...text.matchAll(/(?:^|\n)\s*(?:import|export)\s[^'"]*?from\s*['"]([^'"]+)['"]|(?:^|\n)\s*import\s*['"]([^'"]+)['"]|import\(\s*['"]([^'"]+)['"]\s*\)/g)]
-    .map((m) => m[1] ?? m[2] ?? m[3]);
+  const specs = [
+    ...text.matchAll(
+      /(?:^|\n)\s*(?:import|export)\s[^'"]*?from\s*['"]([^'"]+)['"]|(?:^|\n)\s*import\s*['"]([^'"]+)['"]|import\(\s*['"]([^'"]+)['"]\s*\)/g,
+    ),
+  ].map((m) => m[1] ?? m[2] ?? m[3]);
   return specs.map((s) => (s.startsWith('.') ? relative(root, resolve(root, dirname(file), s)) : s));
 }
 
 function offenders(dir: string, allowed: (target: string) => boolean): string[] {
-  return sources(dir).flatMap((f) => importsOf(f).filter((t) => !allowed(t)).map((t) => `${f} → ${t}`));
+  return sources(dir).flatMap((f) =>
+    importsOf(f)
+      .filter((t) => !allowed(t))
+      .map((t) => `${f} → ${t}`),
+  );
 }
 
-const inside = (...folders: string[]) => (t: string) => folders.some((d) => t.startsWith(d + '/'));
+const inside =
+  (...folders: string[]) =>
+  (t: string) =>
+    folders.some((d) => t.startsWith(d + '/'));
 
 describe('folder boundaries', () => {
   it('dsp/ imports only dsp/ (and the numeric packages it wraps)', () => {
-    expect(offenders('dsp', (t) => inside('dsp')(t) || ['fft.js', '@stdlib/stats-base-dists-chisquare-quantile', '@stdlib/stats-base-dists-f-quantile'].includes(t))).toEqual([]);
+    expect(
+      offenders(
+        'dsp',
+        (t) =>
+          inside('dsp')(t) ||
+          ['fft.js', '@stdlib/stats-base-dists-chisquare-quantile', '@stdlib/stats-base-dists-f-quantile'].includes(t),
+      ),
+    ).toEqual([]);
   });
 
   it('protocol/ imports only protocol/ and dsp/', () => {
@@ -40,7 +57,12 @@ describe('folder boundaries', () => {
   });
 
   it('dashboard/ imports only dashboard/, protocol/, dsp/ and its chart package', () => {
-    expect(offenders('dashboard', (t) => inside('dashboard', 'protocol', 'dsp')(t) || t === 'uplot' || t.startsWith('uplot/'))).toEqual([]);
+    expect(
+      offenders(
+        'dashboard',
+        (t) => inside('dashboard', 'protocol', 'dsp')(t) || t === 'uplot' || t.startsWith('uplot/'),
+      ),
+    ).toEqual([]);
   });
 
   it('agent/server/ does no dsp of its own: it reads the monitor and the protocol', () => {

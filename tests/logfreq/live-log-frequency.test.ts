@@ -40,7 +40,11 @@ out['stages'] = st
         expect(got[p]).toBeNaN();
         continue;
       }
-      const plan = planFromPoints({ sampleRate: rate, samples: y.length, window: live.window, overlap: live.overlap }, [live.frequency[p]], [live.segment[p]]);
+      const plan = planFromPoints(
+        { sampleRate: rate, samples: y.length, window: live.window, overlap: live.overlap },
+        [live.frequency[p]],
+        [live.segment[p]],
+      );
       const off = logFrequencyPsd(y, plan);
       const expected = off.psd[0] * live.droop[p];
       expect(live.averagesUsed()[p]).toBe(plan.averages[0]);

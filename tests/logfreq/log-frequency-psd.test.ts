@@ -6,7 +6,10 @@ import { runPython, type PyValue } from './python.ts';
 
 /** P(X > k) for X ~ Binomial(n, p): scipy.stats.binom.sf. */
 function binomialTail(k: number, n: number, p: number): number {
-  return runPython<{ sf: number }>(`from scipy.stats import binom\nout['sf'] = float(binom.sf(inp['k'], inp['n'], inp['p']))`, { k, n, p }).sf;
+  return runPython<{ sf: number }>(
+    `from scipy.stats import binom\nout['sf'] = float(binom.sf(inp['k'], inp['n'], inp['p']))`,
+    { k, n, p },
+  ).sf;
 }
 
 function gaussian(n: number, sigma: number, seed: number): Float64Array {
@@ -40,7 +43,13 @@ describe('logFrequencyPsd', () => {
     const cases = [
       { window: 'hann', scipyWindow: 'hann', detrend: 'mean', scipyDetrend: 'constant', overlap: 0.5 },
       { window: 'hann', scipyWindow: 'hann', detrend: 'linear', scipyDetrend: 'linear', overlap: 0.75 },
-      { window: 'blackman-harris', scipyWindow: 'blackmanharris', detrend: 'none', scipyDetrend: false, overlap: 0.661 },
+      {
+        window: 'blackman-harris',
+        scipyWindow: 'blackmanharris',
+        detrend: 'none',
+        scipyDetrend: false,
+        overlap: 0.661,
+      },
     ] as const;
     const segments = [256, 1024, 4096];
     const ours: Float64Array[] = [];
@@ -103,7 +112,14 @@ for f, L, D, K in zip(inp['f'], inp['L'], inp['D'], inp['K']):
     psd.append(2 * np.mean(np.abs(X) ** 2) / (fs * np.sum(w * w)))
 out['psd'] = np.array(psd)
 `,
-      { x, fs, f: Array.from(plan.frequency), L: Array.from(plan.segment), D: Array.from(plan.step), K: Array.from(plan.averages) },
+      {
+        x,
+        fs,
+        f: Array.from(plan.frequency),
+        L: Array.from(plan.segment),
+        D: Array.from(plan.step),
+        K: Array.from(plan.averages),
+      },
     );
     expect(maxRelError(ours.psd, ref.psd)).toBeLessThan(1e-9);
   });
@@ -185,7 +201,11 @@ out['x'] = np.fft.irfft(X * shape, n)
     const fs = 1000;
     const noise = gaussian(1 << 16, 1e-6, 19);
     const x = Float64Array.from(noise, (v) => v + 10); // 10 V offset, 1 µV noise
-    const plan = planFromPoints({ sampleRate: fs, samples: x.length }, [2000 / 4096, 5000 / 4096, (40 * fs) / 4096], [4096, 4096, 4096]);
+    const plan = planFromPoints(
+      { sampleRate: fs, samples: x.length },
+      [2000 / 4096, 5000 / 4096, (40 * fs) / 4096],
+      [4096, 4096, 4096],
+    );
     const ours = logFrequencyPsd(x, plan).psd;
     const ref = runPython<{ psd: Float64Array }>(
       `

@@ -32,8 +32,12 @@ describe('planLogFrequencies', () => {
   });
 
   it('refuses a lowest frequency the record cannot resolve, naming the fix', () => {
-    expect(() => planLogFrequencies({ sampleRate: 100, samples: 1000, minFrequency: 0.1 })).toThrow(/raise minFrequency or use a longer record/);
-    expect(() => planLogFrequencies({ sampleRate: 100, samples: 1000, overlap: 1 })).toThrow(/overlap must lie in \[0, 1\)/);
+    expect(() => planLogFrequencies({ sampleRate: 100, samples: 1000, minFrequency: 0.1 })).toThrow(
+      /raise minFrequency or use a longer record/,
+    );
+    expect(() => planLogFrequencies({ sampleRate: 100, samples: 1000, overlap: 1 })).toThrow(
+      /overlap must lie in \[0, 1\)/,
+    );
   });
 });
 

@@ -32,7 +32,8 @@ export type PyValue = Json | Float64Array | PyValue[] | { [k: string]: PyValue }
 function encode(v: PyValue): unknown {
   if (v instanceof Float64Array) return { __f64: Buffer.from(v.buffer, v.byteOffset, v.byteLength).toString('base64') };
   if (Array.isArray(v)) return v.map(encode);
-  if (v !== null && typeof v === 'object') return Object.fromEntries(Object.entries(v).map(([k, e]) => [k, encode(e as PyValue)]));
+  if (v !== null && typeof v === 'object')
+    return Object.fromEntries(Object.entries(v).map(([k, e]) => [k, encode(e as PyValue)]));
   return v;
 }
 

@@ -15,7 +15,9 @@ const designs = [
 describe('butterworthSos', () => {
   it('gives the coefficients and response of scipy.signal.butter(N, fc, btype, fs=fs, output="sos")', () => {
     const ours = designs.map((d) => butterworthSos(d.kind, d.order, d.fc, d.fs));
-    const freqs = designs.map((d) => Array.from({ length: 40 }, (_, i) => (d.fs / 2) * Math.pow(10, -5 + (5 * i) / 40)));
+    const freqs = designs.map((d) =>
+      Array.from({ length: 40 }, (_, i) => (d.fs / 2) * Math.pow(10, -5 + (5 * i) / 40)),
+    );
     const ref = runPython<{ sos: Float64Array[]; h2: Float64Array[] }>(
       `
 from scipy.signal import butter, sosfreqz
@@ -31,7 +33,8 @@ for d, f in zip(inp['designs'], inp['freqs']):
       const a = ours[i].sos;
       const b = ref.sos[i];
       expect(a.length).toBe(b.length);
-      for (let k = 0; k < a.length; k++) expect(Math.abs(a[k] - b[k])).toBeLessThanOrEqual(1e-9 * Math.abs(b[k]) + 1e-13);
+      for (let k = 0; k < a.length; k++)
+        expect(Math.abs(a[k] - b[k])).toBeLessThanOrEqual(1e-9 * Math.abs(b[k]) + 1e-13);
       for (let k = 0; k < freqs[i].length; k++) {
         const h2 = sosPowerResponse(ours[i], freqs[i][k], designs[i].fs);
         // sosfreqz evaluates the polynomials directly, losing digits near DC for poles close to z = 1.
@@ -72,7 +75,8 @@ describe('SosCascade', () => {
     const ours = new Float64Array(x.length);
     const a = new SosCascade(filter);
     // Uneven block sizes: the state carries across calls.
-    for (let at = 0, b = 1; at < x.length; at += b, b = ((b * 7 + 3) % 997) + 1) a.process(x, ours, at, Math.min(x.length, at + b));
+    for (let at = 0, b = 1; at < x.length; at += b, b = ((b * 7 + 3) % 997) + 1)
+      a.process(x, ours, at, Math.min(x.length, at + b));
     const ref = runPython<{ y: Float64Array }>(
       `
 from scipy.signal import sosfilt
@@ -81,7 +85,8 @@ out['y'] = sosfilt(inp['sos'].reshape(-1, 6), inp['x'])
       { sos: filter.sos, x },
     );
     // Same recursion as scipy's compiled sosfilt, so equal to rounding.
-    for (let i = 0; i < x.length; i++) expect(Math.abs(ours[i] - ref.y[i])).toBeLessThanOrEqual(1e-12 * (1 + Math.abs(ref.y[i])));
+    for (let i = 0; i < x.length; i++)
+      expect(Math.abs(ours[i] - ref.y[i])).toBeLessThanOrEqual(1e-12 * (1 + Math.abs(ref.y[i])));
   });
 
   it('settleTo(x0) is the steady state of a held input, as scipy.signal.sosfilt_zi(sos)·x0', () => {

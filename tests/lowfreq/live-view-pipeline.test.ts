@@ -14,12 +14,18 @@ const N = 30 * FS;
 describe('LiveLowFrequency on a Pipeline', () => {
   it('repeats the first loop after a replay seam, with 0.1–10 Hz figures equal to scipy on the float32 samples', async () => {
     const x = new SeededRandom(31).fillGaussian(new Float64Array(N), 2e-6);
-    for (let i = 0; i < N; i++) x[i] += 1e-5 * Math.sin((2 * Math.PI * 0.03 * i) / FS) + 5e-6 * Math.sin((2 * Math.PI * 3 * i) / FS);
+    for (let i = 0; i < N; i++)
+      x[i] += 1e-5 * Math.sin((2 * Math.PI * 0.03 * i) / FS) + 5e-6 * Math.sin((2 * Math.PI * 3 * i) / FS);
     const pipeline = new Pipeline({ mode: 'lossless' });
     const view = new LiveLowFrequency({ updatesPerSecond: 2, fitEvery: 2 }).attach(pipeline);
     const updates: LowFrequencyUpdate[] = [];
     view.onUpdate((u) => updates.push(JSON.parse(JSON.stringify(u)) as LowFrequencyUpdate));
-    pipeline.info({ sampleRate: FS, channels: [{ name: 'in', unit: 'V', scale: 1, fullScaleCounts: Infinity }], source: { kind: 'replay', label: 'test' }, firstSample: 0 });
+    pipeline.info({
+      sampleRate: FS,
+      channels: [{ name: 'in', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+      source: { kind: 'replay', label: 'test' },
+      firstSample: 0,
+    });
     const feed = (first: number, block: number): void => {
       for (let at = 0; at < N; at += block) {
         const n = Math.min(block, N - at);

@@ -21,12 +21,21 @@ out['x'] = np.fft.irfft(np.fft.rfft(w) * g, n)
   ).x;
 }
 
-function run(view: LiveLowFrequency, x: Float64Array[], blockSizes: (i: number) => number, first = 0): LowFrequencyUpdate[] {
+function run(
+  view: LiveLowFrequency,
+  x: Float64Array[],
+  blockSizes: (i: number) => number,
+  first = 0,
+): LowFrequencyUpdate[] {
   const out: LowFrequencyUpdate[] = [];
   const off = view.onUpdate((u) => out.push(JSON.parse(JSON.stringify(u)) as LowFrequencyUpdate));
   for (let at = 0, i = 0; at < x[0].length; i++) {
     const n = Math.min(x[0].length - at, blockSizes(i));
-    view.block(first + at, n, x.map((c) => c.subarray(at, at + n)));
+    view.block(
+      first + at,
+      n,
+      x.map((c) => c.subarray(at, at + n)),
+    );
     at += n;
   }
   off();
@@ -40,10 +49,16 @@ describe('LiveLowFrequency (agent view)', () => {
 
   it('publishes at the samples s with (s + 1) mod (fs / rate) = 0 and gives identical updates for any block split', () => {
     const a = new LiveLowFrequency({ updatesPerSecond: 2 });
-    a.start(FS, [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V' }]);
+    a.start(FS, [
+      { name: 'a', unit: 'V' },
+      { name: 'b', unit: 'V' },
+    ]);
     const ua = run(a, x, () => 4096);
     const b = new LiveLowFrequency({ updatesPerSecond: 2 });
-    b.start(FS, [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V' }]);
+    b.start(FS, [
+      { name: 'a', unit: 'V' },
+      { name: 'b', unit: 'V' },
+    ]);
     const ub = run(b, x, (i) => ((i * 7919) % 1500) + 1);
     expect(ua.length).toBe(240); // 120 s × 2 per second
     expect(ua.map((u) => u.sample)).toEqual(Array.from({ length: 240 }, (_, k) => 500 * (k + 1) - 1));
@@ -53,7 +68,10 @@ describe('LiveLowFrequency (agent view)', () => {
 
   it('fits e_w, f_c and α of numpy-shaped 1/f + white noise within 3σ of the values it was made with', () => {
     const view = new LiveLowFrequency({ spanSeconds: 120 });
-    view.start(FS, [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V' }]);
+    view.start(FS, [
+      { name: 'a', unit: 'V' },
+      { name: 'b', unit: 'V' },
+    ]);
     run(view, x, () => 1000);
     const truth = [
       { ew, fc },
@@ -75,8 +93,14 @@ describe('LiveLowFrequency (agent view)', () => {
   it('leaves mains lines out of the fit (one-sided 4σ clipping) and still finds the floor the noise was made with', () => {
     const y = Float64Array.from(x[0]);
     // Mains pickup of our invented rig: 50 Hz and harmonics, 0.5–2 µV rms, far above a 20 nV/√Hz floor.
-    const lines: [number, number][] = [[50, 2e-6], [100, 0.5e-6], [150, 1e-6], [250, 0.5e-6]];
-    for (let i = 0; i < y.length; i++) for (const [f, rms] of lines) y[i] += rms * Math.SQRT2 * Math.sin((2 * Math.PI * f * i) / FS + f);
+    const lines: [number, number][] = [
+      [50, 2e-6],
+      [100, 0.5e-6],
+      [150, 1e-6],
+      [250, 0.5e-6],
+    ];
+    for (let i = 0; i < y.length; i++)
+      for (const [f, rms] of lines) y[i] += rms * Math.SQRT2 * Math.sin((2 * Math.PI * f * i) / FS + f);
     const view = new LiveLowFrequency({ spanSeconds: 120 });
     view.start(FS, [{ name: 'a', unit: 'V' }]);
     run(view, [y], () => 1000);
@@ -89,7 +113,14 @@ describe('LiveLowFrequency (agent view)', () => {
 
   it('reports the newest 0.1–10 Hz window equal to numpy on scipy.signal.sosfilt output started in steady state', () => {
     const view = new LiveLowFrequency();
-    view.start(FS, [{ name: 'a', unit: 'V' }, { name: 'b', unit: 'V' }], 3000);
+    view.start(
+      FS,
+      [
+        { name: 'a', unit: 'V' },
+        { name: 'b', unit: 'V' },
+      ],
+      3000,
+    );
     const ups = run(view, x, () => 777, 3000);
     const pp = ups[ups.length - 1].channels[0].peakToPeak!;
     const ctx = view.context()!;

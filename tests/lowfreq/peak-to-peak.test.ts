@@ -80,7 +80,11 @@ out['h'] = float(np.abs(sosfreqz(sos, worN=[1.0], fs=fs)[1][0]))
     const x = new SeededRandom(1).fillGaussian(new Float64Array(50_000), 1);
     const run = (block: number): number[] => {
       const out: number[] = [];
-      const m = new PeakToPeakMeter({ sampleRate: 500, windowSeconds: 5, onWindow: (r) => out.push(r.peakToPeak, r.rms, r.sample) });
+      const m = new PeakToPeakMeter({
+        sampleRate: 500,
+        windowSeconds: 5,
+        onWindow: (r) => out.push(r.peakToPeak, r.rms, r.sample),
+      });
       feed(m, x, block);
       return out;
     };

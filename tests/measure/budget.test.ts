@@ -22,20 +22,37 @@ describe('noise budget from the metadata', () => {
     // 1 kΩ source at 300 K (4.07 nV/√Hz), amplifier 3 nV/√Hz and 1 pA/√Hz (1 nV/√Hz through 1 kΩ), gain 50:
     // at the converter 203.6, 150 and 50 nV/√Hz.
     const scenario = {
-      rate: 8000, format: 'int24', duration: 20, seed: 3,
-      channels: [{
-        name: 'amp', unit: 'V', perCount: 2.98e-7, gain: 50,
-        budget: { sourceOhms: 1000, kelvin: 300, amplifierDensity: 3e-9, amplifierCurrent: 1e-12 },
-        signals: [{ kind: 'white', density: 203.6e-9 }, { kind: 'white', density: 150e-9 }, { kind: 'white', density: 50e-9 }],
-      }],
+      rate: 8000,
+      format: 'int24',
+      duration: 20,
+      seed: 3,
+      channels: [
+        {
+          name: 'amp',
+          unit: 'V',
+          perCount: 2.98e-7,
+          gain: 50,
+          budget: { sourceOhms: 1000, kelvin: 300, amplifierDensity: 3e-9, amplifierCurrent: 1e-12 },
+          signals: [
+            { kind: 'white', density: 203.6e-9 },
+            { kind: 'white', density: 150e-9 },
+            { kind: 'white', density: 50e-9 },
+          ],
+        },
+      ],
     };
     const sc = join(dir, 'amp.json');
     writeFileSync(sc, JSON.stringify(scenario));
     const wav = join(dir, 'amp.wav');
-    const sim = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), 'simulate', sc, '--out', wav], { encoding: 'utf8' });
+    const sim = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), 'simulate', sc, '--out', wav], {
+      encoding: 'utf8',
+    });
     expect(sim.status, sim.stderr).toBe(0);
     const meta = JSON.parse(readFileSync(`${wav}.json`, 'utf8'));
-    expect(meta.channels[0]).toMatchObject({ gain: 50, budget: { sourceOhms: 1000, kelvin: 300, amplifierDensity: 3e-9, amplifierCurrent: 1e-12 } });
+    expect(meta.channels[0]).toMatchObject({
+      gain: 50,
+      budget: { sourceOhms: 1000, kelvin: 300, amplifierDensity: 3e-9, amplifierCurrent: 1e-12 },
+    });
     const r = runCli('analyze', wav, '--input-referred', '--json');
     expect(r.status, r.stderr).toBe(0);
     const b = JSON.parse(r.stdout).channels[0].budget;
@@ -51,7 +68,9 @@ describe('noise budget from the metadata', () => {
     expect(adc.total / b.total).toBeCloseTo(50, 9);
     expect(adc.differenceDb).toBeCloseTo(b.differenceDb, 9);
     const text = runCli('analyze', wav, '--input-referred').stdout;
-    expect(text).toMatch(/noise budget \(metadata\) +5\.[0-9]+ nV\/√Hz \(input\) = √\(source R \(Johnson\) 4\.07 n² \+ amplifier eₙ 3\.00 n² \+ amplifier iₙ·R 1\.00 n² \+ ADC quantisation/);
+    expect(text).toMatch(
+      /noise budget \(metadata\) +5\.[0-9]+ nV\/√Hz \(input\) = √\(source R \(Johnson\) 4\.07 n² \+ amplifier eₙ 3\.00 n² \+ amplifier iₙ·R 1\.00 n² \+ ADC quantisation/,
+    );
     expect(text).toMatch(/measured near 1000 Hz +5\.[0-9]+ nV\/√Hz \(input\): [+-][0-9.]+ dB against the budget/);
   });
 });

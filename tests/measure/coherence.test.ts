@@ -55,7 +55,14 @@ result = True`,
 afterAll(() => py.close());
 
 async function expectScipy(pair: Pair, a: number, b: number, segment: number, detrend: string | false): Promise<void> {
-  const ref = await py.run<{ f: number[]; coherence: number[]; re: number[]; im: number[] }>(REFERENCE, join(dir, 'rig.wav'), a, b, segment, detrend);
+  const ref = await py.run<{ f: number[]; coherence: number[]; re: number[]; im: number[] }>(
+    REFERENCE,
+    join(dir, 'rig.wav'),
+    a,
+    b,
+    segment,
+    detrend,
+  );
   expect(pair.frequency).toEqual(ref.f);
   let worstC = 0;
   let worstP = 0;
@@ -71,7 +78,17 @@ async function expectScipy(pair: Pair, a: number, b: number, segment: number, de
 
 describe('analyze --coherence', () => {
   it('equals scipy.signal.coherence and scipy.signal.csd for pairs given by name and by index', async () => {
-    const r = runCli('analyze', join(dir, 'rig.wav'), '--coherence', 'bridge:shorted', '--coherence', '0:2', '--segment', '1024', '--json');
+    const r = runCli(
+      'analyze',
+      join(dir, 'rig.wav'),
+      '--coherence',
+      'bridge:shorted',
+      '--coherence',
+      '0:2',
+      '--segment',
+      '1024',
+      '--json',
+    );
     expect(r.status, r.stderr).toBe(0);
     const report = JSON.parse(r.stdout) as { coherence: Pair[] };
     expect(report.coherence.map((p) => `${p.a}:${p.b}`)).toEqual(['bridge:shorted', 'bridge:spare']);
@@ -84,7 +101,17 @@ describe('analyze --coherence', () => {
   });
 
   it('follows the detrend and segment settings as scipy does (linear, 512)', async () => {
-    const r = runCli('analyze', join(dir, 'rig.wav'), '--coherence', 'shorted:bridge', '--segment', '512', '--detrend', 'linear', '--json');
+    const r = runCli(
+      'analyze',
+      join(dir, 'rig.wav'),
+      '--coherence',
+      'shorted:bridge',
+      '--segment',
+      '512',
+      '--detrend',
+      'linear',
+      '--json',
+    );
     expect(r.status).toBe(0);
     await expectScipy((JSON.parse(r.stdout) as { coherence: Pair[] }).coherence[0], 1, 0, 512, 'linear');
   });

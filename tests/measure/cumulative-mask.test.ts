@@ -56,9 +56,15 @@ beforeAll(async () => {
   py = new Python();
   dir = tempDir('measure-mask');
   await py.run(WRITE, dir);
-  writeFileSync(join(dir, 'spec.csv'), ['# limit for the test rig', 'frequency,limit', ...MASK_F.map((f, i) => `${f},${MASK_L[i]}`)].join('\n') + '\n');
+  writeFileSync(
+    join(dir, 'spec.csv'),
+    ['# limit for the test rig', 'frequency,limit', ...MASK_F.map((f, i) => `${f},${MASK_L[i]}`)].join('\n') + '\n',
+  );
   // The same mask in µV/√Hz with a unit column (the file is then analysed with --unit V).
-  writeFileSync(join(dir, 'spec-uv.csv'), ['frequency,limit,unit', ...MASK_F.map((f, i) => `${f},${MASK_L[i] * 1e6},uV/√Hz`)].join('\r\n'));
+  writeFileSync(
+    join(dir, 'spec-uv.csv'),
+    ['frequency,limit,unit', ...MASK_F.map((f, i) => `${f},${MASK_L[i] * 1e6},uV/√Hz`)].join('\r\n'),
+  );
 });
 afterAll(() => py.close());
 
@@ -68,7 +74,13 @@ interface Report {
     rms: number;
     cumulativeRms: number[];
     frequency: number[];
-    mask: { pass: boolean; worstFrequency: number; worstMarginDb: number; bins: number; bands: { low: number; high: number; pass: boolean }[] };
+    mask: {
+      pass: boolean;
+      worstFrequency: number;
+      worstMarginDb: number;
+      bins: number;
+      bands: { low: number; high: number; pass: boolean }[];
+    };
   }[];
 }
 
@@ -84,7 +96,8 @@ describe('analyze --cumulative', () => {
     expect(Math.abs(ch.cumulativeRms[ch.cumulativeRms.length - 1] - ch.rms) / ch.rms).toBeLessThan(1e-12);
     expect(Math.abs(ch.rms - ref.rms) / ref.rms).toBeLessThan(1e-9); // numpy sqrt(sum(psd[1:])·df)
     let worst = 0;
-    for (let k = 1; k < ref.cum.length; k++) worst = Math.max(worst, Math.abs(ch.cumulativeRms[k] - ref.cum[k]) / ref.cum[k]);
+    for (let k = 1; k < ref.cum.length; k++)
+      worst = Math.max(worst, Math.abs(ch.cumulativeRms[k] - ref.cum[k]) / ref.cum[k]);
     expect(worst).toBeLessThan(1e-9);
     // The line's 0.3 mV rms shows as a step of √(rms_after² − rms_before²) across it (Parseval).
     const k0 = ch.frequency.findIndex((f) => f > 1220);
@@ -130,7 +143,9 @@ describe('analyze --mask', () => {
   });
 
   it('reads a unit column with an SI prefix (µV/√Hz) against a channel given as volts by --unit V', () => {
-    const a = JSON.parse(runCli('analyze', join(dir, 'line.wav'), '--mask', join(dir, 'spec.csv'), '--json').stdout) as Report;
+    const a = JSON.parse(
+      runCli('analyze', join(dir, 'line.wav'), '--mask', join(dir, 'spec.csv'), '--json').stdout,
+    ) as Report;
     const r = runCli('analyze', join(dir, 'line.wav'), '--unit', 'V', '--mask', join(dir, 'spec-uv.csv'), '--json');
     expect(r.status).toBe(3);
     const b = JSON.parse(r.stdout) as Report;
@@ -162,9 +177,17 @@ describe('analyze --mask', () => {
   });
 
   const BAD: [string, string, RegExp][] = [
-    ['non-monotonic', 'frequency,limit\n10,1e-4\n100,4e-5\n50,3e-5\n', /line 4: frequency 50 Hz does not increase \(previous row 100 Hz\)/],
+    [
+      'non-monotonic',
+      'frequency,limit\n10,1e-4\n100,4e-5\n50,3e-5\n',
+      /line 4: frequency 50 Hz does not increase \(previous row 100 Hz\)/,
+    ],
     ['negative', 'frequency,limit\n10,1e-4\n100,-4e-5\n', /line 3: limit -0.00004 is negative/],
-    ['beyond Nyquist', 'frequency,limit\n10,1e-4\n6000,4e-5\n', /line 3: frequency 6000 Hz is beyond the Nyquist frequency 5000 Hz/],
+    [
+      'beyond Nyquist',
+      'frequency,limit\n10,1e-4\n6000,4e-5\n',
+      /line 3: frequency 6000 Hz is beyond the Nyquist frequency 5000 Hz/,
+    ],
     ['bad header', 'freq,lim\n10,1e-4\n', /line 1: the header must be 'frequency,limit' or 'frequency,limit,unit'/],
     ['not a number', '# c\nfrequency,limit\n10,abc\n', /line 3: limit 'abc' is not a number/],
   ];

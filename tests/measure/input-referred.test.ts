@@ -18,8 +18,15 @@ result = [(signal.welch(y[:, c].astype(np.float64) / g, fs=r, nperseg=4096)[1]).
 `;
 
 function sidecar(path: string, gains: (number | undefined)[]): void {
-  const channels = gains.map((g, i) => ({ name: ['amp', 'ref'][i], unit: 'V', ...(g !== undefined ? { gain: g } : {}) }));
-  writeFileSync(`${path}.json`, JSON.stringify({ schema: 'floorline.recording/1', sampleRate: 8000, firstSample: 0, channels }));
+  const channels = gains.map((g, i) => ({
+    name: ['amp', 'ref'][i],
+    unit: 'V',
+    ...(g !== undefined ? { gain: g } : {}),
+  }));
+  writeFileSync(
+    `${path}.json`,
+    JSON.stringify({ schema: 'floorline.recording/1', sampleRate: 8000, firstSample: 0, channels }),
+  );
 }
 
 beforeAll(() => {
@@ -35,7 +42,9 @@ describe('analyze --input-referred', () => {
     sidecar(path, [100, 2]);
     const r = runCli('analyze', path, '--input-referred', '--json');
     expect(r.status, r.stderr).toBe(0);
-    const report = JSON.parse(r.stdout) as { channels: { unit: string; referredTo: string; gain: number; psd: number[] }[] };
+    const report = JSON.parse(r.stdout) as {
+      channels: { unit: string; referredTo: string; gain: number; psd: number[] }[];
+    };
     for (let c = 0; c < 2; c++) {
       const ch = report.channels[c];
       expect(ch.referredTo).toBe('input');
@@ -44,7 +53,9 @@ describe('analyze --input-referred', () => {
       for (let k = 0; k < ch.psd.length; k++) worst = Math.max(worst, Math.abs(ch.psd[k] - ref[c][k]) / ref[c][k]);
       expect(worst).toBeLessThan(1e-9);
     }
-    const adc = JSON.parse(runCli('analyze', path, '--json').stdout) as { channels: { referredTo: string; psd: number[] }[] };
+    const adc = JSON.parse(runCli('analyze', path, '--json').stdout) as {
+      channels: { referredTo: string; psd: number[] }[];
+    };
     expect(adc.channels[0].referredTo).toBe('adc');
     expect(adc.channels[0].psd[100] / report.channels[0].psd[100]).toBeCloseTo(1e4, 6);
     const text = runCli('analyze', path, '--input-referred');
@@ -60,12 +71,16 @@ describe('analyze --input-referred', () => {
     sidecar(path, [100, undefined]);
     const r = runCli('analyze', path, '--input-referred');
     expect(r.status).toBe(2);
-    expect(r.stderr).toMatch(/channel ref of .*nogain\.wav has no positive "gain" in its metadata; add "gain" \(V\/V ahead of the ADC\) to channels\[1\]/);
+    expect(r.stderr).toMatch(
+      /channel ref of .*nogain\.wav has no positive "gain" in its metadata; add "gain" \(V\/V ahead of the ADC\) to channels\[1\]/,
+    );
   });
 
   it('gives the floor at the ADC in dBFS/√Hz (re a full-scale sine, AES17) and LSB/√Hz where full scale is known', () => {
     const demo = join(root, 'recordings/demo.wav');
-    const j = JSON.parse(runCli('analyze', demo, '--exclude-clipped', '--json').stdout) as { channels: { asd: number[]; fullScale: number; lsb: number }[] };
+    const j = JSON.parse(runCli('analyze', demo, '--exclude-clipped', '--json').stdout) as {
+      channels: { asd: number[]; fullScale: number; lsb: number }[];
+    };
     const ch = j.channels[1];
     // recordings/demo.wav.json: 8388607 counts full scale at 2.98e-7 V per count.
     expect(ch.lsb).toBe(2.98e-7);

@@ -33,9 +33,26 @@ describe('replay --mask (live limit rule)', () => {
     const density = await py.run<number>(WRITE, wav);
     writeFileSync(join(dir, 'spec.csv'), `frequency,limit\n20,${2 * density}\n3900,${2 * density}\n`);
     const events = join(dir, 'events.jsonl');
-    const r = runCli('replay', wav, '--speed', 'max', '--no-server', '--quiet', '--mask', join(dir, 'spec.csv'), '--events-out', events, '--data', join(dir, 'data'));
+    const r = runCli(
+      'replay',
+      wav,
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--mask',
+      join(dir, 'spec.csv'),
+      '--events-out',
+      events,
+      '--data',
+      join(dir, 'data'),
+    );
     expect(r.status, r.stderr).toBe(0);
-    const limit = readFileSync(events, 'utf8').trimEnd().split('\n').map((l) => JSON.parse(l)).filter((e) => e.rule === 'limit');
+    const limit = readFileSync(events, 'utf8')
+      .trimEnd()
+      .split('\n')
+      .map((l) => JSON.parse(l))
+      .filter((e) => e.rule === 'limit');
     const raised = limit.filter((e) => e.state === 'raised');
     expect(raised.length).toBe(1);
     const e = raised[0];
@@ -49,10 +66,21 @@ describe('replay --mask (live limit rule)', () => {
     expect(e.detail).toMatch(/ch0 above its limit mask by [0-9.]+ dB at 77[0-9.]+ Hz/);
   });
 
-  it('refuses a mask beyond the stream\'s Nyquist frequency, naming the file', () => {
+  it("refuses a mask beyond the stream's Nyquist frequency, naming the file", () => {
     const bad = join(dir, 'wide.csv');
     writeFileSync(bad, 'frequency,limit\n20,1e-7\n6000,1e-7\n');
-    const r = runCli('replay', join(dir, 'rig.wav'), '--speed', 'max', '--no-server', '--quiet', '--mask', bad, '--data', join(dir, 'data2'));
+    const r = runCli(
+      'replay',
+      join(dir, 'rig.wav'),
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--mask',
+      bad,
+      '--data',
+      join(dir, 'data2'),
+    );
     expect(r.status).toBe(2);
     expect(r.stderr).toMatch(/wide\.csv: its last point at 6000 Hz is beyond the Nyquist frequency 4000 Hz/);
   });

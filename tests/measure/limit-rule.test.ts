@@ -45,7 +45,10 @@ afterAll(() => py.close());
 function detector(): LimitDetector {
   const f = Float64Array.from(spectra.f);
   // The mask: the true density itself from 20 Hz to 3.9 kHz.
-  const limits = maskOnBins({ frequency: Float64Array.from([20, 3900]), limit: Float64Array.from([DENSITY, DENSITY]) }, f);
+  const limits = maskOnBins(
+    { frequency: Float64Array.from([20, 3900]), limit: Float64Array.from([DENSITY, DENSITY]) },
+    f,
+  );
   return new LimitDetector('bridge', 'V', f, limits, defaultRules(), RATE);
 }
 
@@ -61,7 +64,10 @@ describe('live limit rule', () => {
     expect(exceeded).toBeGreaterThan(35); // the worst of ~480 χ² bins lies above its mean nearly always
     expect(out).toEqual([]);
     // The bound: χ²(ν)/ν upper quantile at α/bins (scipy.stats.chi2.ppf gives the same to 1e-9; from the spur rule).
-    expect(d.thresholdDb).toBeCloseTo(10 * Math.log10(chi2MeanUpperQuantile(1e-6 / 482, 2 * Math.floor(spectra.k * 100) / 100)), 1);
+    expect(d.thresholdDb).toBeCloseTo(
+      10 * Math.log10(chi2MeanUpperQuantile(1e-6 / 482, (2 * Math.floor(spectra.k * 100)) / 100)),
+      1,
+    );
   });
 
   it('raises on a line over the mask with the worst bin numpy finds, and clears when the line goes', () => {
@@ -69,7 +75,8 @@ describe('live limit rule', () => {
     const out: FloorlineEvent[] = [];
     const step = 2048; // one spectrum every 0.256 s of sample time
     let sample = 0;
-    for (const p of spectra.quiet.slice(0, 5)) d.onSpectrum(Float64Array.from(p), spectra.k, (sample += step), 'w', out);
+    for (const p of spectra.quiet.slice(0, 5))
+      d.onSpectrum(Float64Array.from(p), spectra.k, (sample += step), 'w', out);
     expect(out).toEqual([]);
     for (const p of spectra.line) d.onSpectrum(Float64Array.from(p), spectra.k, (sample += step), 'w', out);
     const raised = out.filter((e) => e.state === 'raised');
@@ -87,7 +94,8 @@ describe('live limit rule', () => {
     expect(e.marginDb).toBeCloseTo(-10 * Math.log10(p[best] / DENSITY ** 2), 1); // events keep 4 significant digits
     expect(e.marginDb!).toBeLessThan(-10);
     expect(e.detail).toMatch(/bridge above its limit mask by [0-9.]+ dB at 100[0-9.]+ Hz/);
-    for (const q of spectra.quiet.slice(5, 25)) d.onSpectrum(Float64Array.from(q), spectra.k, (sample += step), 'w', out);
+    for (const q of spectra.quiet.slice(5, 25))
+      d.onSpectrum(Float64Array.from(q), spectra.k, (sample += step), 'w', out);
     const cleared = out.filter((x) => x.state === 'cleared');
     expect(cleared.length).toBe(1);
     expect(cleared[0].sample - (5 + 10) * step).toBeLessThanOrEqual(Math.ceil((2 * RATE) / step) * step + step); // off-delay 2 s

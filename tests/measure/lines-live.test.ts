@@ -74,7 +74,22 @@ describe('analyze --lines', () => {
   it('the live rules on the same samples: same spectrum, same lines from the live SpurDetector, same raised events', () => {
     const events = join(dir, 'events.jsonl');
     const snaps = join(dir, 'snaps.jsonl');
-    const r = runCli('replay', wav, '--speed', 'max', '--no-server', '--quiet', '--average', 'mean', '--events-out', events, '--snapshots-out', snaps, '--data', join(dir, 'data'));
+    const r = runCli(
+      'replay',
+      wav,
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--average',
+      'mean',
+      '--events-out',
+      events,
+      '--snapshots-out',
+      snaps,
+      '--data',
+      join(dir, 'data'),
+    );
     expect(r.status, r.stderr).toBe(0);
     const last = JSON.parse(readFileSync(snaps, 'utf8').trimEnd().split('\n').at(-1)!) as {
       sample: number;
@@ -92,18 +107,42 @@ describe('analyze --lines', () => {
     // The live spur rule's own finder and mains classifier on that spectrum (a zero baseline: every line is new).
     const win = makeWindow('hann', offline.settings.segment);
     const detector = new SpurDetector(
-      'ch0', Float64Array.from(ch.frequency), offline.settings.binHz, win.mainLobeHalfWidth,
-      leakageEnvelope(win.values, MAX_SKIRT_BINS), new Float64Array(ch.psd.length), defaultRules(), 8000, 'V',
+      'ch0',
+      Float64Array.from(ch.frequency),
+      offline.settings.binHz,
+      win.mainLobeHalfWidth,
+      leakageEnvelope(win.values, MAX_SKIRT_BINS),
+      new Float64Array(ch.psd.length),
+      defaultRules(),
+      8000,
+      'V',
       new IncidentBook(8000, offline.settings.binHz),
     );
     const psd = Float64Array.from(live.psd);
-    detector.onSpectrum(psd, live.equivalentAverages, { psd, equivalentAverages: live.equivalentAverages, spanSamples: 0 }, last.sample, '2026-01-01T00:00:00Z', []);
-    const found = detector.tracked.map((t) => ({ frequency: t.frequency, amplitude: t.amplitude, harmonic: t.harmonic })).sort((a, b) => a.frequency - b.frequency);
-    expect(found).toEqual(ch.lines.map((l) => ({ frequency: l.frequency, amplitude: l.amplitude, harmonic: l.harmonic ?? 0 })));
+    detector.onSpectrum(
+      psd,
+      live.equivalentAverages,
+      { psd, equivalentAverages: live.equivalentAverages, spanSamples: 0 },
+      last.sample,
+      '2026-01-01T00:00:00Z',
+      [],
+    );
+    const found = detector.tracked
+      .map((t) => ({ frequency: t.frequency, amplitude: t.amplitude, harmonic: t.harmonic }))
+      .sort((a, b) => a.frequency - b.frequency);
+    expect(found).toEqual(
+      ch.lines.map((l) => ({ frequency: l.frequency, amplitude: l.amplitude, harmonic: l.harmonic ?? 0 })),
+    );
 
     // The replay's raised spur/mains events: the same lines (within a bin), the same orders, amplitudes within 10 %
     // (raised early, on fewer averages).
-    const raised = readFileSync(events, 'utf8').trimEnd().split('\n').map((l) => JSON.parse(l) as { rule: string; state: string; frequency: number; amplitude: number; harmonic?: number })
+    const raised = readFileSync(events, 'utf8')
+      .trimEnd()
+      .split('\n')
+      .map(
+        (l) =>
+          JSON.parse(l) as { rule: string; state: string; frequency: number; amplitude: number; harmonic?: number },
+      )
       .filter((e) => (e.rule === 'spur' || e.rule === 'mains') && e.state === 'raised')
       .sort((a, b) => a.frequency - b.frequency);
     expect(raised.length).toBe(ch.lines.length);

@@ -68,13 +68,25 @@ describe('analyze --source-ohms', () => {
     const ref = await py.run<{ nfDb: number; te: number; nfBin: number[] }>(WRITE, path);
     const r = runCli('analyze', path, '--unit', 'V', '--band', '100:1000', '--source-ohms', '1000', '--json');
     expect(r.status, r.stderr).toBe(0);
-    const nf = (JSON.parse(r.stdout) as { channels: { noiseFigure: { sourceOhms: number; sourceKelvin: number; bands: { noiseFigureDb: number; noiseTemperature: number }[]; noiseFigureDb: (number | null)[] } }[] }).channels[0].noiseFigure;
+    const nf = (
+      JSON.parse(r.stdout) as {
+        channels: {
+          noiseFigure: {
+            sourceOhms: number;
+            sourceKelvin: number;
+            bands: { noiseFigureDb: number; noiseTemperature: number }[];
+            noiseFigureDb: (number | null)[];
+          };
+        }[];
+      }
+    ).channels[0].noiseFigure;
     expect(nf.sourceKelvin).toBe(290);
     expect(Math.abs(nf.bands[0].noiseFigureDb - ref.nfDb)).toBeLessThan(1e-9);
     expect(Math.abs(nf.bands[0].noiseTemperature - ref.te) / ref.te).toBeLessThan(1e-9);
     expect(nf.noiseFigureDb[0]).toBeNull(); // DC
     let worst = 0;
-    for (let k = 1; k < nf.noiseFigureDb.length; k++) worst = Math.max(worst, Math.abs((nf.noiseFigureDb[k] as number) - ref.nfBin[k - 1]));
+    for (let k = 1; k < nf.noiseFigureDb.length; k++)
+      worst = Math.max(worst, Math.abs((nf.noiseFigureDb[k] as number) - ref.nfBin[k - 1]));
     expect(worst).toBeLessThan(1e-9);
     // 460 bins × ~93 averages: the band mean lands within 0.1 dB of the 3.008 dB the noise was made with.
     expect(Math.abs(nf.bands[0].noiseFigureDb - 3.008)).toBeLessThan(0.1);

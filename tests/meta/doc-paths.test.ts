@@ -7,8 +7,23 @@ import { dirname, join, relative, resolve } from 'node:path';
 
 const root = resolve(import.meta.dirname, '../..');
 const skipDirs = new Set(['node_modules', 'dist', '.git', 'floorline-data']);
-const topFolders = ['agent', 'dsp', 'dashboard', 'protocol', 'tests', 'scripts', 'recordings', 'docs', 'types', 'bin', '.ci'];
-const pathInText = new RegExp(`(?<![\\w./@-])((?:${topFolders.map((f) => f.replace('.', '\\.')).join('|')})/[\\w./*…-]*)`, 'g');
+const topFolders = [
+  'agent',
+  'dsp',
+  'dashboard',
+  'protocol',
+  'tests',
+  'scripts',
+  'recordings',
+  'docs',
+  'types',
+  'bin',
+  '.ci',
+];
+const pathInText = new RegExp(
+  `(?<![\\w./@-])((?:${topFolders.map((f) => f.replace('.', '\\.')).join('|')})/[\\w./*…-]*)`,
+  'g',
+);
 const linkTarget = /\]\(([^)\s#]+)(?:#[^)]*)?\)/g;
 
 function markdownFiles(dir: string): string[] {
@@ -25,7 +40,10 @@ function markdownFiles(dir: string): string[] {
 // A token is a concrete path only if it names no placeholder: no glob, no ellipsis, no UPPERCASE part such as
 // PREFIX or NAME (those describe files the program makes, not files in the repository).
 function isConcrete(path: string): boolean {
-  return !/[*…]/.test(path) && !path.split('/').some((part) => /^[A-Z][A-Z_-]*[A-Z](\.|$)/.test(part) || /[A-Z]{3,}-/.test(part));
+  return (
+    !/[*…]/.test(path) &&
+    !path.split('/').some((part) => /^[A-Z][A-Z_-]*[A-Z](\.|$)/.test(part) || /[A-Z]{3,}-/.test(part))
+  );
 }
 
 export function missingPaths(): string[] {
@@ -49,7 +67,9 @@ export function missingPaths(): string[] {
 describe('paths named in the docs', () => {
   it('finds the documents to scan', () => {
     const names = markdownFiles(root).map((f) => relative(root, f));
-    expect(names).toEqual(expect.arrayContaining(['README.md', 'DEVELOPERS.md', 'docs/ARCHITECTURE.md', 'docs/TOOLCHAIN.md']));
+    expect(names).toEqual(
+      expect.arrayContaining(['README.md', 'DEVELOPERS.md', 'docs/ARCHITECTURE.md', 'docs/TOOLCHAIN.md']),
+    );
   });
 
   it('every repository path named in a Markdown file exists', () => {

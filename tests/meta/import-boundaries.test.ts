@@ -6,7 +6,8 @@ import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
 
 const root = resolve(import.meta.dirname, '../..');
-const importSpec = /(?:^|[;\s])(?:import|export)\s(?:[^'";]*?\sfrom\s*)?['"]([^'"]+)['"]|import\(\s*['"]([^'"]+)['"]\s*\)/g;
+const importSpec =
+  /(?:^|[;\s])(?:import|export)\s(?:[^'";]*?\sfrom\s*)?['"]([^'"]+)['"]|import\(\s*['"]([^'"]+)['"]\s*\)/g;
 const nodeModules = new Set(builtinModules);
 
 function tsFiles(dir: string): string[] {
@@ -19,7 +20,11 @@ function tsFiles(dir: string): string[] {
   return out;
 }
 
-interface Import { file: string; spec: string; target: string | null }
+interface Import {
+  file: string;
+  spec: string;
+  target: string | null;
+}
 
 /** Every import under `folder`: `target` is the repository path it resolves to, null for a package. */
 function importsOf(folder: string): Import[] {

@@ -16,7 +16,10 @@ describe('capture-baseline', () => {
     writeFileSync(join(dir, 'baselines', 'quiet.json'), 'keep me');
     const src = new ReplaySource(join(root, 'recordings/demo.wav'), { speed: 'max' });
     const m = await startMonitor(src, testMonitorOptions(dir));
-    await expect(m.captureBaseline({ seconds: 3, name: 'quiet.json' })).rejects.toMatchObject({ code: 'exists', message: expect.stringMatching(/baselines\/quiet\.json exists; .*"replace": true/) });
+    await expect(m.captureBaseline({ seconds: 3, name: 'quiet.json' })).rejects.toMatchObject({
+      code: 'exists',
+      message: expect.stringMatching(/baselines\/quiet\.json exists; .*"replace": true/),
+    });
     expect(readFileSync(join(dir, 'baselines', 'quiet.json'), 'utf8')).toBe('keep me');
     const replaced = await m.captureBaseline({ seconds: 3, name: 'quiet.json', replace: true });
     expect(replaced.file).toBe('baselines/quiet.json');

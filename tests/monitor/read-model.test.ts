@@ -15,8 +15,22 @@ import { testMonitorOptions } from '../support/monitor-options.ts';
 
 const root = new URL('../../', import.meta.url).pathname;
 
-function event(rule: FloorlineEvent['rule'], state: FloorlineEvent['state'], extra: Partial<FloorlineEvent> = {}): FloorlineEvent {
-  return { kind: 'alarm', rule, state, channel: 'ch0', sample: 100, t: 0.0125, wallTime: '2026-01-01T00:00:00.000Z', detail: '', ...extra };
+function event(
+  rule: FloorlineEvent['rule'],
+  state: FloorlineEvent['state'],
+  extra: Partial<FloorlineEvent> = {},
+): FloorlineEvent {
+  return {
+    kind: 'alarm',
+    rule,
+    state,
+    channel: 'ch0',
+    sample: 100,
+    t: 0.0125,
+    wallTime: '2026-01-01T00:00:00.000Z',
+    detail: '',
+    ...extra,
+  };
 }
 
 describe('alarm table', () => {
@@ -53,12 +67,34 @@ describe('band table', () => {
     const psd = new Float64Array(513).fill(4e-16);
     psd[100] = 4e-12; // a line: moves the RMS, not the median floor
     const snapshot = {
-      sample: 7999, t: 1, wallTime: '', sequence: 0, settings, averaging: { mode: 'mean' }, frequencies: new Float64Array(513),
-      binHz: 8000 / 1024, nenbw: 1.5, enbwHz: 11.72,
-      channels: [{ name: 'ch0', unit: 'V', psd, segmentsUsed: 15, segmentsTotal: 15, equivalentAverages: 14, lastSegmentSample: 7999 }],
+      sample: 7999,
+      t: 1,
+      wallTime: '',
+      sequence: 0,
+      settings,
+      averaging: { mode: 'mean' },
+      frequencies: new Float64Array(513),
+      binHz: 8000 / 1024,
+      nenbw: 1.5,
+      enbwHz: 11.72,
+      channels: [
+        {
+          name: 'ch0',
+          unit: 'V',
+          psd,
+          segmentsUsed: 15,
+          segmentsTotal: 15,
+          equivalentAverages: 14,
+          lastSegmentSample: 7999,
+        },
+      ],
     } as unknown as SpectrumSnapshot;
     const rows = new BandTable().rows({
-      snapshot, baseline: undefined, rules: undefined, bandsOf: () => [{ low: 5.859375, high: 3998.046875 }], raised: () => false,
+      snapshot,
+      baseline: undefined,
+      rules: undefined,
+      bandsOf: () => [{ low: 5.859375, high: 3998.046875 }],
+      raised: () => false,
     });
     // Bins with 5.859375 ≤ k·7.8125 ≤ 3998.046875: k = 1..511.
     expect(rows[0].rms).toBeCloseTo(Math.sqrt((510 * 4e-16 + 4e-12) * 7.8125), 15);
@@ -74,14 +110,26 @@ describe('monitor parts', () => {
       const dir = mkdtempSync(join(tmpdir(), 'floorline-parts-'));
       const seen: string[] = [];
       let calls = 0;
-      const faulty = { name: 'faulty', onSnapshot: () => { calls++; if (calls === 5) throw new Error('disk on fire'); } };
+      const faulty = {
+        name: 'faulty',
+        onSnapshot: () => {
+          calls++;
+          if (calls === 5) throw new Error('disk on fire');
+        },
+      };
       const after = { name: 'after', onEvent: (e: FloorlineEvent) => void seen.push(e.rule) };
       const src = new ReplaySource(join(root, 'recordings/demo.wav'), { speed: 'max' });
       const lines: string[] = [];
-      const m = await startMonitor(src, testMonitorOptions(dir, { parts: withFaulty ? [faulty, after] : [after], log: (l) => lines.push(l) }));
+      const m = await startMonitor(
+        src,
+        testMonitorOptions(dir, { parts: withFaulty ? [faulty, after] : [after], log: (l) => lines.push(l) }),
+      );
       await src.done;
       await m.finished;
-      const events = readFileSync(join(dir, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as FloorlineEvent);
+      const events = readFileSync(join(dir, 'events.jsonl'), 'utf8')
+        .trim()
+        .split('\n')
+        .map((l) => JSON.parse(l) as FloorlineEvent);
       return { digest: m.digest.hex(), events, calls, lines, seen, parts: m.partNames() };
     };
     const plain = await run(false);
@@ -93,20 +141,24 @@ describe('monitor parts', () => {
     expect(internal).toHaveLength(1);
     expect(internal[0].kind).toBe('info');
     expect(faulty.digest).toBe(plain.digest);
-    const strip = (es: FloorlineEvent[]) => es.filter((e) => e.rule !== 'internal').map((e) => ({ ...e, wallTime: '' }));
+    const strip = (es: FloorlineEvent[]) =>
+      es.filter((e) => e.rule !== 'internal').map((e) => ({ ...e, wallTime: '' }));
     expect(strip(faulty.events)).toEqual(strip(plain.events));
     expect(faulty.seen).toContain('internal'); // the other parts hear about it
   });
 });
 
 describe('monitor incidents', () => {
-  it('acknowledges every mains harmonic of the demo\'s ground loop with one incident id, and leaves the shorted channel\'s spur asking', async () => {
+  it("acknowledges every mains harmonic of the demo's ground loop with one incident id, and leaves the shorted channel's spur asking", async () => {
     const dir = mkdtempSync(join(tmpdir(), 'floorline-incident-ack-'));
     const src = new ReplaySource(join(root, 'recordings/demo.wav'), { speed: 'max', loop: false });
     const m = await startMonitor(src, testMonitorOptions(dir));
     await src.done;
     await m.finished;
-    const events = readFileSync(join(dir, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as FloorlineEvent);
+    const events = readFileSync(join(dir, 'events.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l) as FloorlineEvent);
     const mains = events.filter((e) => e.rule === 'mains' && e.state === 'raised');
     // Harmonics of one fundamental on one channel (k × f, a fact of the trade) are one fault: one incident.
     expect(mains.length).toBeGreaterThan(1);
@@ -135,7 +187,9 @@ describe('alarm table bound', () => {
     const rows = t.all();
     expect(rows.length).toBe(MAX_ALARM_ROWS);
     expect(rows.filter((r) => r.state === 'raised')).toHaveLength(3);
-    expect(Math.min(...rows.filter((r) => r.state === 'clear').map((r) => r.sample))).toBeGreaterThan(2 * (400 - MAX_ALARM_ROWS));
+    expect(Math.min(...rows.filter((r) => r.state === 'clear').map((r) => r.sample))).toBeGreaterThan(
+      2 * (400 - MAX_ALARM_ROWS),
+    );
     expect(t.forgotten).toBe(400 - MAX_ALARM_ROWS + 3);
   });
 });

@@ -31,7 +31,10 @@ function disk(message: string): Error {
 }
 
 /** Runs 10 s of noise; `breakAt` (a block index) is when the injected fault starts. */
-function run(p: Pipeline, onBlock?: (i: number) => void): { events: FloorlineEvent[]; blocksSeen: number; snapshots: number } {
+function run(
+  p: Pipeline,
+  onBlock?: (i: number) => void,
+): { events: FloorlineEvent[]; blocksSeen: number; snapshots: number } {
   const events: FloorlineEvent[] = [];
   let blocksSeen = 0;
   let snapshots = 0;
@@ -77,12 +80,27 @@ describe('a subscriber that throws', () => {
 
   it('history store: cut off, the rest goes on', () => {
     const p = new Pipeline({ analysis: { segment: 256 }, mode: 'lossless' });
-    const h = attachHistory(p, { path: join(dir, 'store', 'h.sqlite'), command: 'replay', source: 'test', warn: () => undefined });
+    const h = attachHistory(p, {
+      path: join(dir, 'store', 'h.sqlite'),
+      command: 'replay',
+      source: 'test',
+      warn: () => undefined,
+    });
     h.writer.event = () => {
       throw disk('injected store fault');
     };
     const r = run(p, (i) => {
-      if (i === 3) p.emitEvent({ kind: 'info', rule: 'gap', state: 'raised', channel: '*', sample: 2999, t: 3, wallTime: '2026-01-01T00:00:03.000Z', detail: 'trigger' });
+      if (i === 3)
+        p.emitEvent({
+          kind: 'info',
+          rule: 'gap',
+          state: 'raised',
+          channel: '*',
+          sample: 2999,
+          t: 3,
+          wallTime: '2026-01-01T00:00:03.000Z',
+          detail: 'trigger',
+        });
     });
     h.close();
     expectCutOff(r, /^history store failed on 'event'/);
@@ -95,7 +113,17 @@ describe('a subscriber that throws', () => {
       throw disk('injected notifier fault');
     };
     const r = run(p, (i) => {
-      if (i === 3) p.emitEvent({ kind: 'info', rule: 'gap', state: 'raised', channel: '*', sample: 2999, t: 3, wallTime: '2026-01-01T00:00:03.000Z', detail: 'trigger' });
+      if (i === 3)
+        p.emitEvent({
+          kind: 'info',
+          rule: 'gap',
+          state: 'raised',
+          channel: '*',
+          sample: 2999,
+          t: 3,
+          wallTime: '2026-01-01T00:00:03.000Z',
+          detail: 'trigger',
+        });
     });
     await n.close();
     expectCutOff(r, /^notifier failed on 'event'/);
@@ -106,7 +134,13 @@ describe('a subscriber that throws', () => {
     const host = new PartHost((part, where, err) => failures.push(`${part.name} ${where} ${err.message}`));
     let other = 0;
     let broken = 0;
-    const server: MonitorPart = { name: 'dashboard', onSnapshot: () => { broken++; throw disk('injected server fault'); } };
+    const server: MonitorPart = {
+      name: 'dashboard',
+      onSnapshot: () => {
+        broken++;
+        throw disk('injected server fault');
+      },
+    };
     const store: MonitorPart = { name: 'other', onSnapshot: () => void other++ };
     host.add(server);
     host.add(store);

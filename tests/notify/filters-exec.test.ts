@@ -10,7 +10,12 @@ import { SinkFilter } from '../../agent/notify/filter.ts';
 
 const root = new URL('../..', import.meta.url).pathname;
 const bin = join(root, 'bin/floorline.mjs');
-const lines = (f: string) => readFileSync(f, 'utf8').trim().split('\n').filter(Boolean).map((l) => JSON.parse(l));
+const lines = (f: string) =>
+  readFileSync(f, 'utf8')
+    .trim()
+    .split('\n')
+    .filter(Boolean)
+    .map((l) => JSON.parse(l));
 
 describe('notification filters and the exec sink', () => {
   const dir = mkdtempSync(join(tmpdir(), 'fl-exec-'));
@@ -22,15 +27,34 @@ describe('notification filters and the exec sink', () => {
 
   beforeAll(() => {
     const config = join(dir, 'rig.json');
-    writeFileSync(config, JSON.stringify({
-      notify: [
-        { exec: ['/usr/bin/tee', '-a', all] },
-        { exec: ['/usr/bin/tee', '-a', clip], states: ['raised'], rules: ['clip'] },
-        { exec: ['/usr/bin/tee', '-a', long], minDurationSeconds: 2 },
+    writeFileSync(
+      config,
+      JSON.stringify({
+        notify: [
+          { exec: ['/usr/bin/tee', '-a', all] },
+          { exec: ['/usr/bin/tee', '-a', clip], states: ['raised'], rules: ['clip'] },
+          { exec: ['/usr/bin/tee', '-a', long], minDurationSeconds: 2 },
+        ],
+        data: 'data',
+      }),
+    );
+    const r = spawnSync(
+      process.execPath,
+      [
+        bin,
+        'replay',
+        join(root, 'recordings/demo.wav'),
+        '--config',
+        config,
+        '--speed',
+        'max',
+        '--no-server',
+        '--quiet',
+        '--events-out',
+        join(dir, 'ev.jsonl'),
       ],
-      data: 'data',
-    }));
-    const r = spawnSync(process.execPath, [bin, 'replay', join(root, 'recordings/demo.wav'), '--config', config, '--speed', 'max', '--no-server', '--quiet', '--events-out', join(dir, 'ev.jsonl')], { encoding: 'utf8', cwd: dir, timeout: 60_000 });
+      { encoding: 'utf8', cwd: dir, timeout: 60_000 },
+    );
     expect(r.status, r.stderr).toBe(0);
     events = lines(join(dir, 'ev.jsonl')).filter((e) => e.kind === 'alarm');
   });
@@ -39,7 +63,9 @@ describe('notification filters and the exec sink', () => {
     expect(existsSync(all)).toBe(true);
     expect(existsSync(join(dir, 'pwned'))).toBe(false);
     const got = lines(all);
-    expect(got.map((e) => `${e.rule}|${e.state}|${e.sample}`).sort()).toEqual(events.map((e) => `${e.rule}|${e.state}|${e.sample}`).sort());
+    expect(got.map((e) => `${e.rule}|${e.state}|${e.sample}`).sort()).toEqual(
+      events.map((e) => `${e.rule}|${e.state}|${e.sample}`).sort(),
+    );
     expect(new Set(got.map((e) => e.id)).size).toBe(got.length);
   });
 
@@ -53,7 +79,12 @@ describe('notification filters and the exec sink', () => {
     expect(got.some((e) => e.rule === 'clip')).toBe(false);
     const mains = events.filter((e) => e.rule === 'mains' && e.state === 'raised');
     expect(mains.length).toBeGreaterThan(0);
-    expect(got.filter((e) => e.rule === 'mains' && e.state === 'raised').map((e) => e.sample).sort()).toEqual(mains.map((e) => e.sample).sort());
+    expect(
+      got
+        .filter((e) => e.rule === 'mains' && e.state === 'raised')
+        .map((e) => e.sample)
+        .sort(),
+    ).toEqual(mains.map((e) => e.sample).sort());
   });
 
   it('a quiet period per incident: one fault notifies once, then once on settle and once on clear', () => {

@@ -16,14 +16,22 @@ const root = new URL('../..', import.meta.url).pathname;
 describe('live run over a pty: one notification per incident and state, through an outage', () => {
   it('exactly once per incident raise, settle and clear', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'fl-pty-notify-'));
-    const port = await new Promise<number>((r) => { const s = createServer().listen(0, '127.0.0.1', () => { const p = (s.address() as AddressInfo).port; s.close(() => r(p)); }); });
+    const port = await new Promise<number>((r) => {
+      const s = createServer().listen(0, '127.0.0.1', () => {
+        const p = (s.address() as AddressInfo).port;
+        s.close(() => r(p));
+      });
+    });
     const config = join(dir, 'rig.json');
-    writeFileSync(config, JSON.stringify({
-      source: { format: 'binary' },
-      // Quiet period longer than the run: one notification per incident and state.
-      notify: [{ webhook: `http://127.0.0.1:${port}/hook`, quietSeconds: 600 }],
-      data: join(dir, 'data'),
-    }));
+    writeFileSync(
+      config,
+      JSON.stringify({
+        source: { format: 'binary' },
+        // Quiet period longer than the run: one notification per incident and state.
+        notify: [{ webhook: `http://127.0.0.1:${port}/hook`, quietSeconds: 600 }],
+        data: join(dir, 'data'),
+      }),
+    );
     const got: { id: string; incident: string; state: string }[] = [];
     let server: Server | undefined;
     const up = () => {
@@ -40,7 +48,25 @@ describe('live run over a pty: one notification per incident and state, through 
     up();
     const pair = new PtyPair(join(dir, 'board'), join(dir, 'host'));
     await pair.start();
-    const agent = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'run', '--config', config, '--port', pair.host, '--no-server', '--no-history', '--quiet', '--baseline', join(root, 'recordings/demo-baseline.json'), '--events-out', join(dir, 'events.jsonl')], { stdio: ['ignore', 'ignore', 'pipe'] });
+    const agent = spawn(
+      process.execPath,
+      [
+        join(root, 'bin/floorline.mjs'),
+        'run',
+        '--config',
+        config,
+        '--port',
+        pair.host,
+        '--no-server',
+        '--no-history',
+        '--quiet',
+        '--baseline',
+        join(root, 'recordings/demo-baseline.json'),
+        '--events-out',
+        join(dir, 'events.jsonl'),
+      ],
+      { stdio: ['ignore', 'ignore', 'pipe'] },
+    );
     let err = '';
     agent.stderr.on('data', (c) => (err += c));
     const exited = new Promise<number | null>((r) => agent.on('exit', r));
@@ -54,7 +80,15 @@ describe('live run over a pty: one notification per incident and state, through 
       up();
       await sim.exited;
       // Back-off after 60 s down is at most 32 s (±20 %); wait until everything in the event log has arrived.
-      const want = () => new Set(readFileSync(join(dir, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l)).filter((e) => e.kind === 'alarm').map((e) => `${e.incident}|${e.state}`)).size;
+      const want = () =>
+        new Set(
+          readFileSync(join(dir, 'events.jsonl'), 'utf8')
+            .trim()
+            .split('\n')
+            .map((l) => JSON.parse(l))
+            .filter((e) => e.kind === 'alarm')
+            .map((e) => `${e.incident}|${e.state}`),
+        ).size;
       for (let i = 0; i < 120 && new Set(got.map((g) => g.id)).size < want(); i++) await sleep(500);
       await sleep(1000);
     } finally {
@@ -65,7 +99,11 @@ describe('live run over a pty: one notification per incident and state, through 
     await new Promise<void>((r) => server!.close(() => r()));
     expect(err).toMatch(/notify: .* failed/);
 
-    const events = readFileSync(join(dir, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l)).filter((e) => e.kind === 'alarm');
+    const events = readFileSync(join(dir, 'events.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l))
+      .filter((e) => e.kind === 'alarm');
     const expected = [...new Set(events.map((e) => `${e.incident}|${e.state}`))].sort();
     expect(expected.some((k) => k.endsWith('|settled'))).toBe(true);
     expect(expected.some((k) => k.endsWith('|cleared'))).toBe(true);

@@ -21,7 +21,10 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 const info: StreamInfo = {
   sampleRate: 1000,
   // float32 board: scale 1, no code limit (full scale Infinity), so only non-finite values are faults
-  channels: [{ name: 'x', unit: 'V', scale: 1, fullScaleCounts: Infinity }, { name: 'y', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+  channels: [
+    { name: 'x', unit: 'V', scale: 1, fullScaleCounts: Infinity },
+    { name: 'y', unit: 'V', scale: 1, fullScaleCounts: Infinity },
+  ],
   source: { kind: 'simulator', label: 'property' },
   firstSample: 0,
   startWallTime: '2026-01-01T00:00:00.000Z',
@@ -30,8 +33,15 @@ const info: StreamInfo = {
 // IEEE 754 specials and extremes (from memory: 1e308 overflows float32, 5e-324 is the smallest double subnormal,
 // 1e-45 the smallest float32 subnormal).
 const special = fc.constantFrom(NaN, Infinity, -Infinity, 1e308, -1e308, 5e-324, 1e-45, -0, 3.4028234663852886e38);
-const sample = fc.oneof({ weight: 300, arbitrary: fc.double({ min: -1, max: 1, noNaN: true }) }, { weight: 1, arbitrary: special });
-const block = fc.integer({ min: 1, max: 600 }).chain((n) => fc.tuple(fc.array(sample, { minLength: n, maxLength: n }), fc.array(sample, { minLength: n, maxLength: n })));
+const sample = fc.oneof(
+  { weight: 300, arbitrary: fc.double({ min: -1, max: 1, noNaN: true }) },
+  { weight: 1, arbitrary: special },
+);
+const block = fc
+  .integer({ min: 1, max: 600 })
+  .chain((n) =>
+    fc.tuple(fc.array(sample, { minLength: n, maxLength: n }), fc.array(sample, { minLength: n, maxLength: n })),
+  );
 
 let totalSamples = 0;
 
@@ -41,7 +51,10 @@ describe('non-finite samples', () => {
     await fc.assert(
       fc.asyncProperty(fc.array(block, { minLength: 1, maxLength: 8 }), async (blocks) => {
         const folder = ensureDataFolder(dataFolderAt(join(dir, `run-${run++}`)));
-        const p = new Pipeline({ analysis: { segment: 64, window: 'hann', overlap: 0.5, detrend: 'mean' }, mode: 'lossless' });
+        const p = new Pipeline({
+          analysis: { segment: 64, window: 'hann', overlap: 0.5, detrend: 'mean' },
+          mode: 'lossless',
+        });
         p.addDetector(new AlarmHook());
         const recorder = new Recorder(folder, { durable: false, rotateSeconds: 0 });
         recorder.attach(p);
@@ -59,7 +72,8 @@ describe('non-finite samples', () => {
         let first = 0;
         let expectedFaults = 0;
         for (const [a, b] of blocks) {
-          for (let i = 0; i < a.length; i++) if (!Number.isFinite(Math.fround(a[i])) || !Number.isFinite(Math.fround(b[i]))) expectedFaults++;
+          for (let i = 0; i < a.length; i++)
+            if (!Number.isFinite(Math.fround(a[i])) || !Number.isFinite(Math.fround(b[i]))) expectedFaults++;
           p.block({ firstSample: first, frames: a.length, data: [Float64Array.from(a), Float64Array.from(b)] });
           first += a.length;
           totalSamples += 2 * a.length;

@@ -55,7 +55,11 @@ function feed(p: Pipeline, data: Float64Array[], from: number, to: number, sizes
 }
 
 function collect(options: PipelineOptions = {}) {
-  const p = new Pipeline({ analysis: { segment: SEGMENT, window: 'hann', overlap: 0.5, detrend: 'mean' }, averaging: { mode: 'mean' }, ...options });
+  const p = new Pipeline({
+    analysis: { segment: SEGMENT, window: 'hann', overlap: 0.5, detrend: 'mean' },
+    averaging: { mode: 'mean' },
+    ...options,
+  });
   const snaps: SpectrumSnapshot[] = [];
   const gaps: GapNotice[] = [];
   const clips: ClipNotice[] = [];
@@ -80,8 +84,15 @@ describe('Pipeline', () => {
     // Reference: scipy.signal.welch(x[:sample+1], fs, 'hann', nperseg=256, noverlap=128, detrend='constant'),
     // x = float32(raw · scale) (the precision recordings keep); scipy drops the trailing partial segment as we do.
     const refs = await scipyWelch(py, {
-      channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
-      cases: chosen.map((s) => [[0, s.sample + 1]]), scale: SCALE, fround: true,
+      channels: raw,
+      fs: RATE,
+      nperseg: SEGMENT,
+      noverlap: SEGMENT - STEP,
+      window: 'hann',
+      detrend: 'constant',
+      cases: chosen.map((s) => [[0, s.sample + 1]]),
+      scale: SCALE,
+      fround: true,
     });
     for (const [i, snap] of chosen.entries()) {
       const ref = refs[i];
@@ -102,7 +113,9 @@ describe('Pipeline', () => {
       expect((s.sample + 1) % interval).toBe(0);
       expect(s.t).toBe(s.sample / RATE);
       // Label = start wall time + sample time (here the stream starts at sample 0).
-      expect(s.wallTime).toBe(new Date(Date.parse('2026-01-01T00:00:00.000Z') + (s.sample / RATE) * 1000).toISOString());
+      expect(s.wallTime).toBe(
+        new Date(Date.parse('2026-01-01T00:00:00.000Z') + (s.sample / RATE) * 1000).toISOString(),
+      );
       expect(s.channels[0].lastSegmentSample).toBeLessThanOrEqual(s.sample);
     }
   });
@@ -112,7 +125,12 @@ describe('Pipeline', () => {
     const raw = rawCounts(frames, 11);
     const runs: SpectrumSnapshot[][] = [];
     const rng = new SeededRandom(3);
-    for (const sizes of [[frames], [1], [255, 256, 257], Array.from({ length: 50 }, () => 1 + Math.floor(rng.uniform() * 3000))]) {
+    for (const sizes of [
+      [frames],
+      [1],
+      [255, 256, 257],
+      Array.from({ length: 50 }, () => 1 + Math.floor(rng.uniform() * 3000)),
+    ]) {
       const { p, snaps } = collect({ averaging: { mode: 'exponential', tauSeconds: 0.5 } });
       p.info(streamInfo());
       feed(p, raw, 0, frames, sizes);
@@ -120,17 +138,27 @@ describe('Pipeline', () => {
     }
     for (const run of runs.slice(1)) {
       expect(run.map((s) => s.sample)).toEqual(runs[0].map((s) => s.sample));
-      for (let i = 0; i < run.length; i++) for (let c = 0; c < 2; c++) expect(run[i].channels[c].psd).toEqual(runs[0][i].channels[c].psd);
+      for (let i = 0; i < run.length; i++)
+        for (let c = 0; c < 2; c++) expect(run[i].channels[c].psd).toEqual(runs[0][i].channels[c].psd);
     }
     // And the last one is still scipy's answer for mean averaging (same samples, one run).
     const { p, snaps } = collect();
     p.info(streamInfo());
     feed(p, raw, 0, frames, [1, 999, 5000]);
     const last = snaps[snaps.length - 1];
-    const ref = (await scipyWelch(py, {
-      channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
-      cases: [[[0, last.sample + 1]]], scale: SCALE, fround: true,
-    }))[0];
+    const ref = (
+      await scipyWelch(py, {
+        channels: raw,
+        fs: RATE,
+        nperseg: SEGMENT,
+        noverlap: SEGMENT - STEP,
+        window: 'hann',
+        detrend: 'constant',
+        cases: [[[0, last.sample + 1]]],
+        scale: SCALE,
+        fround: true,
+      })
+    )[0];
     expect(maxRelativeError(last.channels[1].psd, ref.psd[1])).toBeLessThan(1e-9);
   });
 
@@ -149,10 +177,24 @@ describe('Pipeline', () => {
     const last = snaps[snaps.length - 1];
     const resume = Math.ceil((gapAt + lost) / STEP) * STEP;
     // scipy.signal.welch on [0, gapAt) and on [resume, last.sample + 1), combined as the mean of all segments.
-    const ref = (await scipyWelch(py, {
-      channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
-      cases: [[[0, gapAt], [resume, last.sample + 1]]], scale: SCALE, fround: true,
-    }))[0];
+    const ref = (
+      await scipyWelch(py, {
+        channels: raw,
+        fs: RATE,
+        nperseg: SEGMENT,
+        noverlap: SEGMENT - STEP,
+        window: 'hann',
+        detrend: 'constant',
+        cases: [
+          [
+            [0, gapAt],
+            [resume, last.sample + 1],
+          ],
+        ],
+        scale: SCALE,
+        fround: true,
+      })
+    )[0];
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     for (let c = 0; c < 2; c++) expect(maxRelativeError(last.channels[c].psd, ref.psd[c])).toBeLessThan(1e-9);
   });
@@ -170,7 +212,14 @@ describe('Pipeline', () => {
   it('counts samples within 0.1 % of full scale as clipped, as numpy counts |x| ≥ 0.999·FS', async () => {
     const raw = rawCounts(RATE);
     // Samples at, just inside and just outside the 0.1 % band below full scale (32768 counts): common practice.
-    const marks: [number, number][] = [[10, 32767], [20, -32768], [30, 32735], [40, 32734], [50, -32736], [60, 32700]];
+    const marks: [number, number][] = [
+      [10, 32767],
+      [20, -32768],
+      [30, 32735],
+      [40, 32734],
+      [50, -32736],
+      [60, 32700],
+    ];
     for (const [i, v] of marks) raw[0][i] = v;
     const { p, clips } = collect();
     p.info(streamInfo());
@@ -179,7 +228,13 @@ describe('Pipeline', () => {
     const expected = raw[0].filter((v) => Math.abs(v) >= threshold).length;
     expect(expected).toBe(3); // 32767, -32768, -32736 (numpy: np.sum(np.abs(x) >= 0.999*32768))
     expect(clips).toHaveLength(1);
-    expect(clips[0]).toMatchObject({ channel: 'ch0', count: expected, firstSample: 10, lastSample: 50, peakCounts: 32768 });
+    expect(clips[0]).toMatchObject({
+      channel: 'ch0',
+      count: expected,
+      firstSample: 10,
+      lastSample: 50,
+      peakCounts: 32768,
+    });
     expect(p.counters().clippedSamples).toEqual([expected, 0]);
   });
 
@@ -196,16 +251,33 @@ describe('Pipeline', () => {
     feed(p, raw, 20 * 256, frames, [256]);
     p.end();
     expect(p.counters()).toMatchObject({ droppedBlocks: 32, droppedSamples: 32 * 256, queueDepth: 0 });
-    expect(overruns.map((o) => [o.sample, o.lost])).toEqual([[4 * 256, 16 * 256], [24 * 256, 16 * 256]]);
+    expect(overruns.map((o) => [o.sample, o.lost])).toEqual([
+      [4 * 256, 16 * 256],
+      [24 * 256, 16 * 256],
+    ]);
     expect(gaps.map((g) => [g.sample, g.lost])).toEqual([[4 * 256, 16 * 256]]);
     // The analysed pieces are [0, 1024) and [5120, 6144) (up to the last snapshot instant): scipy.signal.welch's
     // mean over both.
     const last = snaps[snaps.length - 1];
     expect(last.sample).toBeGreaterThan(5120 + SEGMENT);
-    const ref = (await scipyWelch(py, {
-      channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
-      cases: [[[0, 1024], [5120, last.sample + 1]]], scale: SCALE, fround: true,
-    }))[0];
+    const ref = (
+      await scipyWelch(py, {
+        channels: raw,
+        fs: RATE,
+        nperseg: SEGMENT,
+        noverlap: SEGMENT - STEP,
+        window: 'hann',
+        detrend: 'constant',
+        cases: [
+          [
+            [0, 1024],
+            [5120, last.sample + 1],
+          ],
+        ],
+        scale: SCALE,
+        fround: true,
+      })
+    )[0];
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
   });
@@ -227,10 +299,19 @@ describe('Pipeline', () => {
     // The first block after configure() starts at 4106; segments of the new step (256) start at 4352.
     const resume = Math.ceil((2 * RATE + 10) / 256) * 256;
     // scipy.signal.welch(x[resume : sample + 1], nperseg=512, noverlap=256): the estimate after the change.
-    const ref = (await scipyWelch(py, {
-      channels: raw, fs: RATE, nperseg: 512, noverlap: 256, window: 'hann', detrend: 'constant',
-      cases: [[[resume, last.sample + 1]]], scale: SCALE, fround: true,
-    }))[0];
+    const ref = (
+      await scipyWelch(py, {
+        channels: raw,
+        fs: RATE,
+        nperseg: 512,
+        noverlap: 256,
+        window: 'hann',
+        detrend: 'constant',
+        cases: [[[resume, last.sample + 1]]],
+        scale: SCALE,
+        fround: true,
+      })
+    )[0];
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
   });
@@ -249,10 +330,19 @@ describe('Pipeline', () => {
     const last = snaps[snaps.length - 1];
     const resume = Math.ceil(seam / STEP) * STEP;
     // Only segments after the seam: scipy.signal.welch(x[resume : sample + 1]).
-    const ref = (await scipyWelch(py, {
-      channels: raw, fs: RATE, nperseg: SEGMENT, noverlap: SEGMENT - STEP, window: 'hann', detrend: 'constant',
-      cases: [[[resume, last.sample + 1]]], scale: SCALE, fround: true,
-    }))[0];
+    const ref = (
+      await scipyWelch(py, {
+        channels: raw,
+        fs: RATE,
+        nperseg: SEGMENT,
+        noverlap: SEGMENT - STEP,
+        window: 'hann',
+        detrend: 'constant',
+        cases: [[[resume, last.sample + 1]]],
+        scale: SCALE,
+        fround: true,
+      })
+    )[0];
     expect(last.channels[0].segmentsUsed).toBe(ref.segments);
     expect(maxRelativeError(last.channels[0].psd, ref.psd[0])).toBeLessThan(1e-9);
   });

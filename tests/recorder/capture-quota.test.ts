@@ -18,7 +18,12 @@ describe('event captures', () => {
     rec.attach(p);
     const events: FloorlineEvent[] = [];
     p.on('event', (e) => events.push(e));
-    p.info({ sampleRate: 1000, channels: [{ name: 'a', unit: 'V', scale: 1, fullScaleCounts: Infinity }], source: { kind: 'simulator', label: 't' }, firstSample: 0 });
+    p.info({
+      sampleRate: 1000,
+      channels: [{ name: 'a', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+      source: { kind: 'simulator', label: 't' },
+      firstSample: 0,
+    });
     const x = new Float64Array(1000).fill(1e-3);
     const files: string[] = [];
     for (let i = 0; i < 20; i++) {

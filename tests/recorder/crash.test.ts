@@ -23,22 +23,30 @@ beforeAll(async () => {
   await py.run(
     `rng = np.random.default_rng(5)
 wavfile.write(args[0], args[1], (1e-3 * rng.standard_normal((args[2], 2))).astype(np.float32))`,
-    source, RATE, FRAMES,
+    source,
+    RATE,
+    FRAMES,
   );
 });
 
 afterAll(() => py.close());
 
 function wavsIn(folder: string): string[] {
-  return readdirSync(join(folder, 'recordings')).filter((f) => f.endsWith('.wav')).map((f) => join(folder, 'recordings', f));
+  return readdirSync(join(folder, 'recordings'))
+    .filter((f) => f.endsWith('.wav'))
+    .map((f) => join(folder, 'recordings', f));
 }
 
 describe('recording under failure', () => {
   it('after kill -9 the WAV opens in scipy.io.wavfile and our reader with at most the last second missing', async () => {
     const data = join(dir, 'killed');
-    const child = spawn(process.execPath, [bin, 'replay', source, '--speed', '1', '--record', '--data', data, '--status-every', '0.2', '--no-server'], {
-      stdio: ['ignore', 'pipe', 'pipe'],
-    });
+    const child = spawn(
+      process.execPath,
+      [bin, 'replay', source, '--speed', '1', '--record', '--data', data, '--status-every', '0.2', '--no-server'],
+      {
+        stdio: ['ignore', 'pipe', 'pipe'],
+      },
+    );
     // Wait until the status line reports ≥ 2.5 s of sample time, then kill without warning.
     const lastSample = await new Promise<number>((resolve, reject) => {
       let seen = -1;
@@ -65,7 +73,8 @@ describe('recording under failure', () => {
     // What is there is the source, sample for sample (numpy.array_equal).
     const same = await py.run<boolean>(
       `fs, a = wavfile.read(args[0]); fs, b = wavfile.read(args[1]); result = bool(np.array_equal(a, b[: len(a)]))`,
-      wav, source,
+      wav,
+      source,
     );
     expect(same).toBe(true);
     // Repair on the next start makes the header cover every whole frame on disk (scipy agrees).
@@ -86,7 +95,10 @@ describe('recording under failure', () => {
     try {
       const args = ['replay', source, '--speed', 'max', '--no-server', '--quiet'];
       const reference = spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', cwd: dir });
-      const full = spawnSync(process.execPath, [bin, ...args, '--record', '--data', mnt], { encoding: 'utf8', cwd: dir });
+      const full = spawnSync(process.execPath, [bin, ...args, '--record', '--data', mnt], {
+        encoding: 'utf8',
+        cwd: dir,
+      });
       expect(full.status, full.stderr).toBe(0);
       // wavIoError's ENOSPC message (agent/wav/errors.ts) names the file and the fix.
       expect(full.stderr).toMatch(/recording failed: .*disk is full; free some space/);
@@ -110,7 +122,11 @@ describe('recording under failure', () => {
     const data = join(dir, 'blocked');
     mkdirSync(data, { recursive: true });
     writeFileSync(join(data, 'recordings'), 'not a folder'); // mkdir and every file inside fail (ENOTDIR/EEXIST)
-    const r = spawnSync(process.execPath, [bin, 'replay', source, '--speed', 'max', '--no-server', '--quiet', '--record', '--data', data], { encoding: 'utf8', cwd: dir });
+    const r = spawnSync(
+      process.execPath,
+      [bin, 'replay', source, '--speed', 'max', '--no-server', '--quiet', '--record', '--data', data],
+      { encoding: 'utf8', cwd: dir },
+    );
     expect(r.status, r.stderr).toBe(0);
     expect(r.stderr).toMatch(/cannot create data folder .*recordings.*--data DIR/);
     expect(r.stderr).toMatch(/recording failed/);

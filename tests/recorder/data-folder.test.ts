@@ -33,15 +33,26 @@ describe('data folder', () => {
     symlinkSync(join(root, 'baselines-real'), join(root, 'in-link'));
     mkdirSync(join(root, 'baselines-real'), { recursive: true });
     const names = [
-      'recordings/a.wav', 'baselines/quiet.json', 'events.jsonl', './recordings/../baselines/b.json', 'in-link/x.json',
-      '../x.wav', 'recordings/../../x.wav', '/etc/passwd', join(dir, 'elsewhere', 'x.wav'), 'recordings/out-link/x.wav',
-      join(root, 'recordings', 'ok.wav'), '..', 'recordings/../..',
+      'recordings/a.wav',
+      'baselines/quiet.json',
+      'events.jsonl',
+      './recordings/../baselines/b.json',
+      'in-link/x.json',
+      '../x.wav',
+      'recordings/../../x.wav',
+      '/etc/passwd',
+      join(dir, 'elsewhere', 'x.wav'),
+      'recordings/out-link/x.wav',
+      join(root, 'recordings', 'ok.wav'),
+      '..',
+      'recordings/../..',
     ];
     const inside = await py.run<boolean[]>(
       `import os
 root = os.path.realpath(args[0])
 result = [os.path.commonpath([root, os.path.realpath(os.path.join(args[0], n))]) == root for n in args[1]]`,
-      root, names,
+      root,
+      names,
     );
     const ours = names.map((n) => {
       try {

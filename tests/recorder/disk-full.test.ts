@@ -47,7 +47,10 @@ function fill(mnt: string): string {
 
 const info: StreamInfo = {
   sampleRate: 4000,
-  channels: [{ name: 'a', unit: 'V', scale: 1, fullScaleCounts: Infinity }, { name: 'b', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+  channels: [
+    { name: 'a', unit: 'V', scale: 1, fullScaleCounts: Infinity },
+    { name: 'b', unit: 'V', scale: 1, fullScaleCounts: Infinity },
+  ],
   source: { kind: 'simulator', label: 'disk-full test' },
   firstSample: 0,
   startWallTime: '2026-01-01T00:00:00.000Z',
@@ -87,7 +90,9 @@ describe('a full disk', () => {
     feed(2);
     expect(recorder.status().state).toBe('recording');
     const resumed = events.find((e) => e.rule === 'recording' && e.state === 'cleared');
-    expect(resumed?.detail).toMatch(/recording resumed in recordings\/.*the disk has room again; samples \d+…\d+ are not in the recording/);
+    expect(resumed?.detail).toMatch(
+      /recording resumed in recordings\/.*the disk has room again; samples \d+…\d+ are not in the recording/,
+    );
     recorder.close();
     // No file is left without samples (a header-only WAV from a failed open is no recording).
     for (const f of readdirSync(folder.recordings).filter((n) => n.endsWith('.wav'))) {
@@ -117,9 +122,23 @@ describe('a full disk', () => {
     const warnings: string[] = [];
     const log = new EventLog([join(mnt, 'events.jsonl'), other], { warn: (m) => warnings.push(m) });
     const filler = fill(mnt);
-    const event = (i: number): FloorlineEvent => ({ kind: 'info', rule: 'gap', state: 'raised', channel: '*', sample: i, t: i, wallTime: '2026-01-01T00:00:00.000Z', detail: 'x'.repeat(300) });
+    const event = (i: number): FloorlineEvent => ({
+      kind: 'info',
+      rule: 'gap',
+      state: 'raised',
+      channel: '*',
+      sample: i,
+      t: i,
+      wallTime: '2026-01-01T00:00:00.000Z',
+      detail: 'x'.repeat(300),
+    });
     for (let i = 0; i < 15; i++) log.write(event(i));
-    expect(readFileSync(other, 'utf8').trim().split('\n').map((l) => JSON.parse(l).sample)).toEqual([...Array(15).keys()]);
+    expect(
+      readFileSync(other, 'utf8')
+        .trim()
+        .split('\n')
+        .map((l) => JSON.parse(l).sample),
+    ).toEqual([...Array(15).keys()]);
     const full = readFileSync(join(mnt, 'events.jsonl'), 'utf8');
     expect(full === '' || full.endsWith('\n')).toBe(true); // never a torn line
     expect(log.problems()[0]).toMatchObject({ error: 'ENOSPC', held: 15 - full.split('\n').filter(Boolean).length });
@@ -127,7 +146,12 @@ describe('a full disk', () => {
     rmSync(filler);
     log.write(event(15));
     log.close();
-    expect(readFileSync(join(mnt, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l).sample)).toEqual([...Array(16).keys()]);
+    expect(
+      readFileSync(join(mnt, 'events.jsonl'), 'utf8')
+        .trim()
+        .split('\n')
+        .map((l) => JSON.parse(l).sample),
+    ).toEqual([...Array(16).keys()]);
     expect(warnings.join('\n')).toMatch(/writing again after "ENOSPC"/);
   });
 });
@@ -137,7 +161,16 @@ describe('the event log', () => {
     const path = join(tempDir('torn'), 'events.jsonl');
     writeFileSync(path, '{"a":1}\n{"b":');
     const log = new EventLog([path]);
-    log.write({ kind: 'info', rule: 'gap', state: 'raised', channel: '*', sample: 1, t: 1, wallTime: '2026-01-01T00:00:00.000Z', detail: 'd' });
+    log.write({
+      kind: 'info',
+      rule: 'gap',
+      state: 'raised',
+      channel: '*',
+      sample: 1,
+      t: 1,
+      wallTime: '2026-01-01T00:00:00.000Z',
+      detail: 'd',
+    });
     log.close();
     const lines = readFileSync(path, 'utf8').trim().split('\n');
     expect(lines.map((l) => JSON.parse(l))).toHaveLength(2);
@@ -147,7 +180,17 @@ describe('the event log', () => {
     const dir = tempDir('rotate');
     const path = join(dir, 'events.jsonl');
     const log = new EventLog([path], { maxBytes: 2000, keep: 2 });
-    for (let i = 0; i < 100; i++) log.write({ kind: 'info', rule: 'gap', state: 'raised', channel: '*', sample: i, t: i, wallTime: '2026-01-01T00:00:00.000Z', detail: 'y'.repeat(100) });
+    for (let i = 0; i < 100; i++)
+      log.write({
+        kind: 'info',
+        rule: 'gap',
+        state: 'raised',
+        channel: '*',
+        sample: i,
+        t: i,
+        wallTime: '2026-01-01T00:00:00.000Z',
+        detail: 'y'.repeat(100),
+      });
     log.close();
     expect(readdirSync(dir).sort()).toEqual(['events.jsonl', 'events.jsonl.1', 'events.jsonl.2']);
     for (const f of readdirSync(dir)) expect(readFileSync(join(dir, f)).length).toBeLessThanOrEqual(2000);

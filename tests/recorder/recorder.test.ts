@@ -22,13 +22,19 @@ beforeAll(async () => {
   await py.run(
     `rng = np.random.default_rng(3)
 wavfile.write(args[0], args[1], (1e-3 * rng.standard_normal((args[2], 2))).astype(np.float32))`,
-    source, RATE, FRAMES,
+    source,
+    RATE,
+    FRAMES,
   );
 });
 
 afterAll(() => py.close());
 
-async function replayWithRecorder(folderName: string, options: ConstructorParameters<typeof Recorder>[1], during?: (r: Recorder, p: Pipeline) => void) {
+async function replayWithRecorder(
+  folderName: string,
+  options: ConstructorParameters<typeof Recorder>[1],
+  during?: (r: Recorder, p: Pipeline) => void,
+) {
   const folder = ensureDataFolder(dataFolderAt(join(dir, folderName)));
   const pipeline = new Pipeline({ analysis: { segment: 1024 } });
   const recorder = new Recorder(folder, { durable: false, ...options });
@@ -53,7 +59,10 @@ describe('Recorder', () => {
       const meta = JSON.parse(readFileSync(join(folder.root, `${f}.json`), 'utf8'));
       expect(meta.firstSample).toBe(next);
       // Frame counts as scipy.io.wavfile reads the file
-      const frames = await py.run<number>(`fs, x = wavfile.read(args[0]); result = int(x.shape[0])`, join(folder.root, f));
+      const frames = await py.run<number>(
+        `fs, x = wavfile.read(args[0]); result = int(x.shape[0])`,
+        join(folder.root, f),
+      );
       next += frames;
     }
     expect(next).toBe(FRAMES);
@@ -62,7 +71,8 @@ describe('Recorder', () => {
       `fs, src = wavfile.read(args[0])
 parts = [wavfile.read(p)[1] for p in args[1]]
 result = bool(np.array_equal(np.concatenate(parts), src)) and all(wavfile.read(p)[0] == fs for p in args[1])`,
-      source, status.files.map((f) => join(folder.root, f)),
+      source,
+      status.files.map((f) => join(folder.root, f)),
     );
     expect(equal).toBe(true);
   });
@@ -99,7 +109,9 @@ result = bool(np.array_equal(np.concatenate(parts), src)) and all(wavfile.read(p
     const same = await py.run<boolean>(
       `fs, src = wavfile.read(args[0]); fs2, cap = wavfile.read(args[1])
 result = bool(np.array_equal(cap, src[args[2]: args[2] + len(cap)])) and fs2 == fs`,
-      source, join(folder.root, handle!.file), trigger - 2 * RATE,
+      source,
+      join(folder.root, handle!.file),
+      trigger - 2 * RATE,
     );
     expect(same).toBe(true);
     // Trigger 500 samples in: the pre-trigger span starts at the stream's first sample.
@@ -145,7 +157,11 @@ result = bool(np.array_equal(cap, src[args[2]: args[2] + len(cap)])) and fs2 == 
     const ok = await py.run<boolean>(
       `fs, src = wavfile.read(args[0]); a = wavfile.read(args[1])[1]; b = wavfile.read(args[2])[1]
 result = bool(np.array_equal(a, src[:args[3]]) and np.array_equal(b, src[args[4]:]))`,
-      source, join(folder.root, files[0]), join(folder.root, files[1]), gapAt, gapAt + lost,
+      source,
+      join(folder.root, files[0]),
+      join(folder.root, files[1]),
+      gapAt,
+      gapAt + lost,
     );
     expect(ok).toBe(true);
   });

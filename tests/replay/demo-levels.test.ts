@@ -14,15 +14,31 @@ import { defaultRules } from '../../agent/rules/rules.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { Python, root, tempDir } from '../wav/support.ts';
 
-interface Signal { kind: string; start?: number; end?: number; [k: string]: unknown }
-interface Fault { channel: string; index: number; signal: Signal; start: number; end: number | null }
+interface Signal {
+  kind: string;
+  start?: number;
+  end?: number;
+  [k: string]: unknown;
+}
+interface Fault {
+  channel: string;
+  index: number;
+  signal: Signal;
+  start: number;
+  end: number | null;
+}
 
 const scenario = JSON.parse(readFileSync(join(root, 'recordings/demo-scenario.json'), 'utf8')) as {
-  duration: number; channels: { name: string; signals: Signal[] }[];
+  duration: number;
+  channels: { name: string; signals: Signal[] }[];
 };
-const sidecar = JSON.parse(readFileSync(join(root, 'recordings/demo.wav.json'), 'utf8')) as { sampleRate: number; channels: { name: string }[] };
+const sidecar = JSON.parse(readFileSync(join(root, 'recordings/demo.wav.json'), 'utf8')) as {
+  sampleRate: number;
+  channels: { name: string }[];
+};
 const baseline = JSON.parse(readFileSync(join(root, 'recordings/demo-baseline.json'), 'utf8')) as {
-  settings: { segment: number; overlap: number }; span: { firstSample: number; lastSample: number };
+  settings: { segment: number; overlap: number };
+  span: { firstSample: number; lastSample: number };
 };
 const FS = sidecar.sampleRate;
 const SEGMENT = baseline.settings.segment;
@@ -40,7 +56,8 @@ for (const ch of scenario.channels) {
     if (!FAULT_KINDS.has(s.kind)) return;
     const start = s.start ?? 0;
     const end = s.end !== undefined && s.end < scenario.duration ? s.end : null;
-    if (s.kind === 'tone' && faults.some((f) => f.channel === ch.name && f.signal.kind === 'tone' && f.start === start)) return;
+    if (s.kind === 'tone' && faults.some((f) => f.channel === ch.name && f.signal.kind === 'tone' && f.start === start))
+      return;
     faults.push({ channel: ch.name, index, signal: s, start, end });
   });
 }
@@ -53,9 +70,17 @@ beforeAll(() => {
   dir = tempDir('demo-levels');
   py = new Python();
   const data = join(dir, 'data');
-  const r = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), 'demo', '--speed', 'max', '--no-loop', '--no-server', '--quiet', '--data', data], { encoding: 'utf8', timeout: 120_000 });
+  const r = spawnSync(
+    process.execPath,
+    [join(root, 'bin/floorline.mjs'), 'demo', '--speed', 'max', '--no-loop', '--no-server', '--quiet', '--data', data],
+    { encoding: 'utf8', timeout: 120_000 },
+  );
   expect(r.status, r.stderr).toBe(0);
-  events = readFileSync(join(data, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as FloorlineEvent).filter((e) => e.kind === 'alarm');
+  events = readFileSync(join(data, 'events.jsonl'), 'utf8')
+    .trim()
+    .split('\n')
+    .map((l) => JSON.parse(l) as FloorlineEvent)
+    .filter((e) => e.kind === 'alarm');
 });
 afterAll(() => py.close());
 
@@ -64,12 +89,17 @@ function scriptedLine(channel: string, f: number): { rms: number; fault: Fault }
   const ch = scenario.channels.find((c) => c.name === channel)!;
   let best: { rms: number; fault: Fault; off: number } | undefined;
   for (const s of ch.signals) {
-    const lines: [number, number][] = s.kind === 'mains'
-      ? (s.harmonics as number[]).map((a, i) => [(i + 1) * (s.fundamental as number), a])
-      : s.kind === 'tone' ? [[s.frequency as number, s.rms as number]] : [];
+    const lines: [number, number][] =
+      s.kind === 'mains'
+        ? (s.harmonics as number[]).map((a, i) => [(i + 1) * (s.fundamental as number), a])
+        : s.kind === 'tone'
+          ? [[s.frequency as number, s.rms as number]]
+          : [];
     for (const [fl, a] of lines) {
       const off = Math.abs(fl - f);
-      const fault = faults.find((x) => x.channel === channel && x.start === (s.start ?? 0) && x.signal.kind === s.kind)!;
+      const fault = faults.find(
+        (x) => x.channel === channel && x.start === (s.start ?? 0) && x.signal.kind === s.kind,
+      )!;
       if (!best || off < best.off) best = { rms: a, fault, off };
     }
   }
@@ -78,8 +108,10 @@ function scriptedLine(channel: string, f: number): { rms: number; fault: Fault }
 
 function faultOf(e: FloorlineEvent): Fault | undefined {
   if (e.frequency !== undefined) return scriptedLine(e.channel, e.frequency)?.fault;
-  if (e.rule === 'band-rise') return faults.find((f) => f.channel === e.channel && f.signal.kind === 'band-step' && e.sample >= f.start * FS);
-  if (e.rule === 'clip') return faults.find((f) => f.channel === e.channel && f.signal.kind === 'overload' && e.sample >= f.start * FS);
+  if (e.rule === 'band-rise')
+    return faults.find((f) => f.channel === e.channel && f.signal.kind === 'band-step' && e.sample >= f.start * FS);
+  if (e.rule === 'clip')
+    return faults.find((f) => f.channel === e.channel && f.signal.kind === 'overload' && e.sample >= f.start * FS);
   return undefined;
 }
 
@@ -102,33 +134,56 @@ df = f[1]; k = int(np.argmax(np.where(np.abs(f - args[6]) <= 2 * df, p, 0)))
 lobe = p[k - 2:k + 3]
 floor = np.median(p[(np.abs(f - f[k]) > 10 * df) & (np.abs(f - f[k]) < 60 * df)])
 result = float(np.sqrt(max(np.sum(lobe - floor) * df, 0.0)))`,
-        join(root, 'recordings/demo.wav'), c, last - SPAN + 1, last, SEGMENT, STEP, e.frequency,
+        join(root, 'recordings/demo.wav'),
+        c,
+        last - SPAN + 1,
+        last,
+        SEGMENT,
+        STEP,
+        e.frequency,
       );
       const db = (a: number, b: number) => 20 * Math.log10(a / b);
-      expect(Math.abs(db(e.amplitude!, s!.rms)), `${e.rule} ${e.frequency} Hz: ${e.amplitude} against scripted ${s!.rms}`).toBeLessThan(0.5);
-      expect(Math.abs(db(e.amplitude!, ref)), `${e.rule} ${e.frequency} Hz: ${e.amplitude} against scipy ${ref}`).toBeLessThan(0.25);
+      expect(
+        Math.abs(db(e.amplitude!, s!.rms)),
+        `${e.rule} ${e.frequency} Hz: ${e.amplitude} against scripted ${s!.rms}`,
+      ).toBeLessThan(0.5);
+      expect(
+        Math.abs(db(e.amplitude!, ref)),
+        `${e.rule} ${e.frequency} Hz: ${e.amplitude} against scipy ${ref}`,
+      ).toBeLessThan(0.25);
       // The event says in words what it carries in numbers (levelDb in the detail; amplitude with an SI prefix).
       expect(e.detail).toContain(`${e.levelDb} dB`);
       expect(e.detail).toMatch(/\d (n|µ|m|p)?V rms/);
     }
   });
 
-  it('each incident\'s settled band level matches the scripted floor step within 1 dB and scipy.signal.welch within 0.5 dB', async () => {
+  it("each incident's settled band level matches the scripted floor step within 1 dB and scipy.signal.welch within 0.5 dB", async () => {
     const leads = new Map<string, FloorlineEvent>();
-    for (const e of events) if (e.rule === 'band-rise' && e.state === 'settled' && !leads.has(e.incident!)) leads.set(e.incident!, e);
+    for (const e of events)
+      if (e.rule === 'band-rise' && e.state === 'settled' && !leads.has(e.incident!)) leads.set(e.incident!, e);
     expect(leads.size).toBeGreaterThan(0);
     for (const e of leads.values()) {
       const fault = faultOf(e)!;
       expect(fault).toBeDefined();
       const ch = scenario.channels.find((c) => c.name === e.channel)!;
       // The floor: every white term in quadrature, and every flicker term D²·fc/f summed (a channel's budget terms).
-      const white = Math.sqrt(ch.signals.filter((s) => s.kind === 'white').reduce((a, s) => a + (s.density as number) ** 2, 0));
-      const flickerD2fc = ch.signals.filter((s) => s.kind === 'flicker').reduce((a, s) => a + (s.density as number) ** 2 * (s.corner as number), 0);
+      const white = Math.sqrt(
+        ch.signals.filter((s) => s.kind === 'white').reduce((a, s) => a + (s.density as number) ** 2, 0),
+      );
+      const flickerD2fc = ch.signals
+        .filter((s) => s.kind === 'flicker')
+        .reduce((a, s) => a + (s.density as number) ** 2 * (s.corner as number), 0);
       const flicker = flickerD2fc > 0 ? { density: Math.sqrt(flickerD2fc), corner: 1 } : undefined;
       const c = sidecar.channels.findIndex((x) => x.name === e.channel);
       const last = e.sample - ((e.sample + 1) % STEP);
       // Lines raised on the channel are left out of the band by the rule; leave their lobes out here too.
-      const lines = [...new Set(events.filter((x) => x.channel === e.channel && x.frequency !== undefined && x.state === 'raised').map((x) => x.frequency!))];
+      const lines = [
+        ...new Set(
+          events
+            .filter((x) => x.channel === e.channel && x.frequency !== undefined && x.state === 'raised')
+            .map((x) => x.frequency!),
+        ),
+      ];
       const r = await py.run<{ scripted: number; scipy: number }>(
         `fs, x = wavfile.read(args[0]); x = x[:, args[1]].astype(np.float64)
 lo, hi, seg, step = args[4], args[5], args[6], args[7]
@@ -151,12 +206,29 @@ _, hb = signal.sosfreqz(sos, worN=inband, fs=fs)
 fault = st['density'] ** 2 * np.trapezoid(np.abs(h) ** 2, grid) / np.mean(np.abs(hb) ** 2)
 floor = args[12] ** 2 * (hi - lo) + (args[13] ** 2 * args[14] * np.log(hi / lo) if args[13] else 0.0)
 result = {"scripted": float(10 * np.log10(1 + fault / floor)), "scipy": float(scipy_db)}`,
-        join(root, 'recordings/demo.wav'), c, last - SPAN + 1, last, e.band![0], e.band![1], SEGMENT, STEP,
-        baseline.span.firstSample, baseline.span.lastSample, lines, fault.signal, white,
-        (flicker?.density as number) ?? 0, (flicker?.corner as number) ?? 0,
+        join(root, 'recordings/demo.wav'),
+        c,
+        last - SPAN + 1,
+        last,
+        e.band![0],
+        e.band![1],
+        SEGMENT,
+        STEP,
+        baseline.span.firstSample,
+        baseline.span.lastSample,
+        lines,
+        fault.signal,
+        white,
+        (flicker?.density as number) ?? 0,
+        (flicker?.corner as number) ?? 0,
       );
-      expect(Math.abs(e.levelDb! - r.scripted), `${e.band} settled ${e.levelDb} dB against scripted ${r.scripted}`).toBeLessThan(1);
-      expect(Math.abs(e.levelDb! - r.scipy), `${e.band} settled ${e.levelDb} dB against scipy ${r.scipy}`).toBeLessThan(0.5);
+      expect(
+        Math.abs(e.levelDb! - r.scripted),
+        `${e.band} settled ${e.levelDb} dB against scripted ${r.scripted}`,
+      ).toBeLessThan(1);
+      expect(Math.abs(e.levelDb! - r.scipy), `${e.band} settled ${e.levelDb} dB against scipy ${r.scipy}`).toBeLessThan(
+        0.5,
+      );
       expect(e.detail).toContain(`${e.levelDb} dB`);
     }
   });
@@ -174,7 +246,9 @@ result = {"scripted": float(10 * np.log10(1 + fault / floor)), "scipy": float(sc
       // Each raised alarm has its clear, stamped after the end and within 10 s of it.
       expect(cleared.length).toBe(new Set(raised.map((e) => `${e.rule}|${e.band}|${e.frequency}`)).size);
       for (const e of cleared) {
-        expect(e.t, `${e.rule} ${e.band ?? ''} cleared at ${e.t} s, fault ended ${f.end} s`).toBeGreaterThanOrEqual(f.end);
+        expect(e.t, `${e.rule} ${e.band ?? ''} cleared at ${e.t} s, fault ended ${f.end} s`).toBeGreaterThanOrEqual(
+          f.end,
+        );
         expect(e.t - f.end).toBeLessThan(10);
         expect(e.durationSeconds).toBeGreaterThan(0);
         if (e.rule !== 'clip') {
@@ -196,7 +270,10 @@ result = {"scripted": float(10 * np.log10(1 + fault / floor)), "scipy": float(sc
       const mine = events.filter((e) => e.incident === id);
       const lead = mine.find((e) => e.rule !== 'band-rise') ?? mine[0];
       const f = faultOf(lead);
-      expect(f, `incident ${id} (${lead.rule} on ${lead.channel} at ${lead.t} s) belongs to a scripted fault`).toBeDefined();
+      expect(
+        f,
+        `incident ${id} (${lead.rule} on ${lead.channel} at ${lead.t} s) belongs to a scripted fault`,
+      ).toBeDefined();
       if (!byFault.has(f!)) byFault.set(f!, new Set());
       byFault.get(f!)!.add(id);
     }
@@ -204,6 +281,7 @@ result = {"scripted": float(10 * np.log10(1 + fault / floor)), "scipy": float(sc
     for (const [f, ids] of byFault) expect([...ids], `${f.signal.kind} on ${f.channel}`).toHaveLength(1);
     expect(new Set(events.map((e) => e.incident)).size).toBe(faults.length);
     // The capture of each incident is named after it and the channel that raised it.
-    for (const e of events.filter((x) => x.state === 'raised' && x.capture)) expect(e.capture).toContain(`capture-${e.incident}-${e.channel}-`);
+    for (const e of events.filter((x) => x.state === 'raised' && x.capture))
+      expect(e.capture).toContain(`capture-${e.incident}-${e.channel}-`);
   });
 });

@@ -21,19 +21,31 @@ afterAll(() => py.close());
 describe('demo recording', () => {
   it('is what `floorline simulate recordings/demo-scenario.json` makes, sample for sample', async () => {
     const out = join(dir, 'again.wav');
-    const r = spawnSync(process.execPath, [bin, 'simulate', join(root, 'recordings/demo-scenario.json'), '--out', out], { encoding: 'utf8' });
+    const r = spawnSync(
+      process.execPath,
+      [bin, 'simulate', join(root, 'recordings/demo-scenario.json'), '--out', out],
+      { encoding: 'utf8' },
+    );
     expect(r.status, r.stderr).toBe(0);
-    const same = await py.run<boolean>(`a = wavfile.read(args[0]); b = wavfile.read(args[1]); result = bool(a[0] == b[0] and np.array_equal(a[1], b[1]))`, demo, out);
+    const same = await py.run<boolean>(
+      `a = wavfile.read(args[0]); b = wavfile.read(args[1]); result = bool(a[0] == b[0] and np.array_equal(a[1], b[1]))`,
+      demo,
+      out,
+    );
     expect(same).toBe(true);
   });
 
   it('has the baseline `floorline baseline` makes from it with the command in recordings/README.md', () => {
     const committed = JSON.parse(readFileSync(join(root, 'recordings/demo-baseline.json'), 'utf8'));
     const out = join(dir, 'demo-baseline.json');
-    const r = spawnSync(process.execPath, [bin, 'baseline', 'recordings/demo.wav', '-o', out, '--seconds', '18', '--notes', committed.notes], {
-      cwd: root,
-      encoding: 'utf8',
-    });
+    const r = spawnSync(
+      process.execPath,
+      [bin, 'baseline', 'recordings/demo.wav', '-o', out, '--seconds', '18', '--notes', committed.notes],
+      {
+        cwd: root,
+        encoding: 'utf8',
+      },
+    );
     expect(r.status, r.stderr).toBe(0);
     const again = JSON.parse(readFileSync(out, 'utf8'));
     // Everything but the creation time is what the command gives now: settings and their hash, span, segments,
@@ -47,7 +59,8 @@ describe('demo recording', () => {
         a.forEach((v, i) => close(v, b[i], `${path}[${i}]`));
       } else if (a !== null && b !== null && typeof a === 'object' && typeof b === 'object') {
         expect(Object.keys(b).sort(), path).toEqual(Object.keys(a).sort());
-        for (const k of Object.keys(a)) close((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], `${path}.${k}`);
+        for (const k of Object.keys(a))
+          close((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], `${path}.${k}`);
       } else {
         expect(b, path).toEqual(a);
       }
@@ -108,7 +121,9 @@ result = {
     // the 350 Ω bridge at 296 K √(4kTR) (Nyquist 1928, k exact by the 2019 SI), the amplifier's 6 nV/√Hz and
     // 0.2 pA/√Hz × 350 Ω, and one LSB's quantisation q/√(6·fs) ÷ 100 (common practice): within ±1 dB.
     const k = 1.380649e-23;
-    const budget = Math.sqrt(4 * k * 296 * 350 + 6e-9 ** 2 + (0.2e-12 * 350) ** 2 + (2.98e-7 / Math.sqrt(6 * RATE) / 100) ** 2);
+    const budget = Math.sqrt(
+      4 * k * 296 * 350 + 6e-9 ** 2 + (0.2e-12 * 350) ** 2 + (2.98e-7 / Math.sqrt(6 * RATE) / 100) ** 2,
+    );
     expect(Math.abs(20 * Math.log10(m.at1kHz / 100 / budget))).toBeLessThan(1);
     // Clipped samples (|x| ≥ 0.999 FS) only inside the overload at 52.0–52.1 s.
     expect(m.clipCount).toBeGreaterThan(0);
@@ -117,7 +132,10 @@ result = {
   });
 
   it('analyze --input-referred on the quiet span lands on the budget its metadata records, within ±1 dB at 1 kHz', () => {
-    const r = spawnSync(process.execPath, [bin, 'analyze', demo, '--input-referred', '--to', '18', '--json'], { encoding: 'utf8', maxBuffer: 64 << 20 });
+    const r = spawnSync(process.execPath, [bin, 'analyze', demo, '--input-referred', '--to', '18', '--json'], {
+      encoding: 'utf8',
+      maxBuffer: 64 << 20,
+    });
     expect(r.status, r.stderr).toBe(0);
     const ch = JSON.parse(r.stdout).channels[0];
     expect(ch.gain).toBe(100);
@@ -131,10 +149,18 @@ result = {
 
   it('`floorline demo` raises mains, spur, band-rise and clip alarms after their scripted times', () => {
     const data = join(dir, 'data');
-    const r = spawnSync(process.execPath, [bin, 'demo', '--speed', 'max', '--no-loop', '--no-server', '--quiet', '--data', data], { encoding: 'utf8', timeout: 120_000 });
+    const r = spawnSync(
+      process.execPath,
+      [bin, 'demo', '--speed', 'max', '--no-loop', '--no-server', '--quiet', '--data', data],
+      { encoding: 'utf8', timeout: 120_000 },
+    );
     expect(r.status, r.stderr).toBe(0);
-    const events = readFileSync(join(data, 'events.jsonl'), 'utf8').trim().split('\n').map((l) => JSON.parse(l));
-    const first = (rule: string, channel: string) => events.find((e) => e.rule === rule && e.channel === channel && e.state === 'raised');
+    const events = readFileSync(join(data, 'events.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
+    const first = (rule: string, channel: string) =>
+      events.find((e) => e.rule === rule && e.channel === channel && e.state === 'raised');
     const mains = first('mains', 'bridge');
     const spur = first('spur', 'shorted');
     const rise = first('band-rise', 'bridge');

@@ -24,16 +24,40 @@ x = 1e-4 * rng.standard_normal((n, 2))
 t = np.arange(n) / fs
 x[onset:, 0] += 2e-3 * np.sin(2 * np.pi * f0 * t[onset:])
 wavfile.write(args[0], fs, x.astype(np.float32))`,
-    wav, RATE, 20 * RATE, ONSET, TONE_HZ,
+    wav,
+    RATE,
+    20 * RATE,
+    ONSET,
+    TONE_HZ,
   );
 });
 
 afterAll(() => py.close());
 
 function replay(out: string, speed: string) {
-  const r = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), 'replay', wav, '--speed', speed, '--no-server', '--quiet', '--segment', '1024', '--events-out', out, '--data', join(dir, `data-${speed}`)], {
-    encoding: 'utf8', cwd: dir, timeout: 60_000,
-  });
+  const r = spawnSync(
+    process.execPath,
+    [
+      join(root, 'bin/floorline.mjs'),
+      'replay',
+      wav,
+      '--speed',
+      speed,
+      '--no-server',
+      '--quiet',
+      '--segment',
+      '1024',
+      '--events-out',
+      out,
+      '--data',
+      join(dir, `data-${speed}`),
+    ],
+    {
+      encoding: 'utf8',
+      cwd: dir,
+      timeout: 60_000,
+    },
+  );
   expect(r.status, r.stderr).toBe(0);
   return readFileSync(join(dir, out), 'utf8');
 }
@@ -46,7 +70,10 @@ describe('replay events', () => {
     expect(a.length).toBeGreaterThan(0);
     expect(b).toBe(a);
     expect(c).toBe(a);
-    const events = a.trim().split('\n').map((l) => JSON.parse(l));
+    const events = a
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
     const spur = events.find((e) => e.rule === 'spur' && e.state === 'raised');
     expect(spur).toBeDefined();
     expect(spur.channel).toBe('ch0');
@@ -62,7 +89,9 @@ describe('replay events', () => {
     const same = await py.run<boolean>(
       `fs, src = wavfile.read(args[0]); fs, cap = wavfile.read(args[1])
 result = bool(len(cap) > 0 and np.array_equal(cap, src[args[2]: args[2] + len(cap)]))`,
-      wav, capture, first,
+      wav,
+      capture,
+      first,
     );
     expect(same).toBe(true);
   });

@@ -19,7 +19,15 @@ const scenario = {
   board: 'live test rig (invented)',
   seed: 77,
   channels: [
-    { name: 'a', unit: 'V', perCount: 2.98e-7, signals: [{ kind: 'white', density: 40e-9 }, { kind: 'tone', frequency: 312.5, rms: 2e-6, start: 3 }] },
+    {
+      name: 'a',
+      unit: 'V',
+      perCount: 2.98e-7,
+      signals: [
+        { kind: 'white', density: 40e-9 },
+        { kind: 'tone', frequency: 312.5, rms: 2e-6, start: 3 },
+      ],
+    },
     { name: 'b', unit: 'V', perCount: 2.98e-7, signals: [{ kind: 'white', density: 15e-9 }] },
   ],
 };
@@ -39,15 +47,38 @@ afterAll(async () => {
 const digest = (s: string) => /digest ([0-9a-f]+)/.exec(s)?.[1];
 
 describe('floorline run', () => {
-  it('records a live run whose replay gives the same snapshots; the samples are the simulator\'s', async () => {
+  it("records a live run whose replay gives the same snapshots; the samples are the simulator's", async () => {
     const scenarioPath = join(dir, 'scenario.json');
     writeFileSync(scenarioPath, JSON.stringify(scenario));
     const data = join(dir, 'data');
     // A deep analysis queue (4096 blocks ≈ 41 s here): this test is about live = replay, not about overruns, and a
     // loaded CI machine may stall the agent for longer than the default 64 blocks (0.64 s) cover.
-    const run = spawn(process.execPath, [bin, 'run', '--port', pair.host, '--no-server', '--quiet', '--record', '--data', data, '--duration', '5', '--segment', '1024', '--status-every', '0', '--queue', '4096'], {
-      stdio: ['ignore', 'pipe', 'pipe'], cwd: dir,
-    });
+    const run = spawn(
+      process.execPath,
+      [
+        bin,
+        'run',
+        '--port',
+        pair.host,
+        '--no-server',
+        '--quiet',
+        '--record',
+        '--data',
+        data,
+        '--duration',
+        '5',
+        '--segment',
+        '1024',
+        '--status-every',
+        '0',
+        '--queue',
+        '4096',
+      ],
+      {
+        stdio: ['ignore', 'pipe', 'pipe'],
+        cwd: dir,
+      },
+    );
     let out = '';
     let err = '';
     run.stdout.on('data', (d: Buffer) => (out += d));
@@ -68,7 +99,23 @@ describe('floorline run', () => {
     const first = JSON.parse(readFileSync(`${wav}.json`, 'utf8')).firstSample;
 
     // Replay of the recording: bit-identical snapshots (same digest) at the same sample instants.
-    const replay = spawnSync(process.execPath, [bin, 'replay', wav, '--speed', 'max', '--no-server', '--quiet', '--segment', '1024', '--data', join(dir, 'data2')], { encoding: 'utf8', cwd: dir });
+    const replay = spawnSync(
+      process.execPath,
+      [
+        bin,
+        'replay',
+        wav,
+        '--speed',
+        'max',
+        '--no-server',
+        '--quiet',
+        '--segment',
+        '1024',
+        '--data',
+        join(dir, 'data2'),
+      ],
+      { encoding: 'utf8', cwd: dir },
+    );
     expect(replay.status, replay.stderr).toBe(0);
     expect(digest(out)).toBeDefined();
     expect(digest(replay.stdout)).toBe(digest(out));
@@ -78,12 +125,16 @@ describe('floorline run', () => {
 
     // The simulator's own WAV of the same scenario and seed, read by scipy.io.wavfile, holds the same samples.
     const ref = join(dir, 'reference.wav');
-    const made = spawnSync(process.execPath, [bin, 'simulate', scenarioPath, '--out', ref, '--duration', '7'], { encoding: 'utf8' });
+    const made = spawnSync(process.execPath, [bin, 'simulate', scenarioPath, '--out', ref, '--duration', '7'], {
+      encoding: 'utf8',
+    });
     expect(made.status, made.stderr).toBe(0);
     const same = await py.run<{ equal: boolean; frames: number }>(
       `fs, rec = wavfile.read(args[0]); fs2, ref = wavfile.read(args[1])
 result = {"equal": bool(fs == fs2 and np.array_equal(rec, ref[args[2]: args[2] + len(rec)])), "frames": int(len(rec))}`,
-      wav, ref, first,
+      wav,
+      ref,
+      first,
     );
     expect(same.frames).toBeGreaterThanOrEqual(5 * 4000 - first);
     expect(same.equal).toBe(true);
@@ -93,7 +144,9 @@ result = {"equal": bool(fs == fs2 and np.array_equal(rec, ref[args[2]: args[2] +
     const a = spawnSync(process.execPath, [bin, 'run', '--no-server'], { encoding: 'utf8' });
     expect(a.status).toBe(2);
     expect(a.stderr).toMatch(/--port is required/);
-    const b = spawnSync(process.execPath, [bin, 'run', '--port', '/dev/null', '--format', 'text', '--no-server'], { encoding: 'utf8' });
+    const b = spawnSync(process.execPath, [bin, 'run', '--port', '/dev/null', '--format', 'text', '--no-server'], {
+      encoding: 'utf8',
+    });
     expect(b.status).toBe(2);
     expect(b.stderr).toMatch(/--rate HZ/);
   });

@@ -17,7 +17,11 @@ let floatWav: string;
 let int16Wav: string;
 
 function floorline(...args: string[]) {
-  return spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], { encoding: 'utf8', cwd: dir, timeout: 60_000 });
+  return spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], {
+    encoding: 'utf8',
+    cwd: dir,
+    timeout: 60_000,
+  });
 }
 
 beforeAll(async () => {
@@ -36,14 +40,20 @@ q = np.clip(np.round(x / 0.02 * 32767), -32768, 32767).astype(np.int16)
 q[1000, 0] = 32767
 q[1001, 0] = -32768
 wavfile.write(args[3], fs, q)`,
-    FRAMES, RATE, floatWav, int16Wav,
+    FRAMES,
+    RATE,
+    floatWav,
+    int16Wav,
   );
 });
 
 afterAll(() => py.close());
 
 function snapshotsOf(path: string): { sample: number; channels: { psd: number[]; segmentsUsed: number }[] }[] {
-  return readFileSync(path, 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+  return readFileSync(path, 'utf8')
+    .trim()
+    .split('\n')
+    .map((l) => JSON.parse(l));
 }
 
 describe('floorline replay', () => {
@@ -71,7 +81,8 @@ describe('floorline replay', () => {
 x = x.astype(np.float64)[: args[1] + 1]
 psd = [signal.welch(x[:, c], fs=fs, window='hann', nperseg=1024, noverlap=512, detrend='constant')[1].tolist() for c in range(2)]
 result = {"psd": psd, "k": (len(x) - 1024) // 512 + 1}`,
-      floatWav, last.sample,
+      floatWav,
+      last.sample,
     );
     expect(last.channels[0].segmentsUsed).toBe(ref.k);
     for (let ch = 0; ch < 2; ch++) {
@@ -106,7 +117,8 @@ function recordingSink() {
   let ended = false;
   const sink: SourceSink = {
     info: (i) => (info = i),
-    block: (b: SampleBlock) => blocks.push({ firstSample: b.firstSample, frames: b.frames, data: b.data.map((d) => d.slice(0, b.frames)) }),
+    block: (b: SampleBlock) =>
+      blocks.push({ firstSample: b.firstSample, frames: b.frames, data: b.data.map((d) => d.slice(0, b.frames)) }),
     gap: (g) => gaps.push(g),
     link: () => undefined,
     end: () => (ended = true),
@@ -130,7 +142,10 @@ describe('ReplaySource', () => {
     }
     expect(rec.gaps).toEqual([{ sample: FRAMES, lost: 0, reason: expect.stringMatching(/loop/), restartsAt: 0 }]);
     // scipy.io.wavfile.read: samples 0..4 of ch1 and the first samples after the seam equal the file's first ones.
-    const head = await py.run<number[]>(`fs, x = wavfile.read(args[0]); result = x[:5, 1].astype(float).tolist()`, floatWav);
+    const head = await py.run<number[]>(
+      `fs, x = wavfile.read(args[0]); result = x[:5, 1].astype(float).tolist()`,
+      floatWav,
+    );
     const seamBlock = rec.blocks.find((b) => b.firstSample <= FRAMES && b.firstSample + b.frames > FRAMES)!;
     const off = FRAMES - seamBlock.firstSample;
     expect(Array.from(rec.blocks[0].data[1].subarray(0, 5))).toEqual(head);
@@ -139,7 +154,11 @@ describe('ReplaySource', () => {
 
   it('analyses every loop of a looping replay exactly as the first (same spectra, shifted by the file length)', async () => {
     // Step 512 and snapshot interval 1333 do not divide the 32000-frame file: the grids restart with each loop.
-    const p = new Pipeline({ analysis: { segment: 1024, overlap: 0.5 }, averaging: { mode: 'exponential', tauSeconds: 1 }, snapshotRate: 3 });
+    const p = new Pipeline({
+      analysis: { segment: 1024, overlap: 0.5 },
+      averaging: { mode: 'exponential', tauSeconds: 1 },
+      snapshotRate: 3,
+    });
     const snaps: SpectrumSnapshot[] = [];
     p.on('snapshot', (s) => snaps.push(s));
     const src = new ReplaySource(floatWav, { speed: 'max', loop: true, maxLoops: 2, blockFrames: 4321 });
@@ -175,7 +194,9 @@ describe('ReplaySource', () => {
       `fs, x = wavfile.read(args[0])
 y = x[args[1]: args[2] + 1, 0].astype(np.float64)
 result = {"psd": signal.welch(y, fs=fs, window='hann', nperseg=1024, noverlap=512, detrend='constant')[1].tolist(), "k": (len(y) - 1024) // 512 + 1}`,
-      floatWav, aligned, last.sample,
+      floatWav,
+      aligned,
+      last.sample,
     );
     expect(last.channels[0].segmentsUsed).toBe(ref.k);
     const peak = Math.max(...ref.psd);
@@ -195,7 +216,10 @@ result = {"psd": signal.welch(y, fs=fs, window='hann', nperseg=1024, noverlap=51
     expect(info.channels[0].unit).toBe('V');
     // int16 full scale is 32768 counts = 1 V at --scale 1 (libsndfile-style normalisation, common practice);
     // numpy: np.sum(np.abs(q/32768) >= 0.999) over the file is the count of clipped samples.
-    const expected = await py.run<number>(`fs, q = wavfile.read(args[0]); result = int(np.sum(np.abs(q[:, 0] / 32768.0) >= 0.999))`, int16Wav);
+    const expected = await py.run<number>(
+      `fs, q = wavfile.read(args[0]); result = int(np.sum(np.abs(q[:, 0] / 32768.0) >= 0.999))`,
+      int16Wav,
+    );
     expect(p.counters().clippedSamples[0]).toBe(expected);
     expect(expected).toBeGreaterThanOrEqual(2);
     expect(clips.slice(0, 2)).toEqual([1000, expected === 2 ? 1001 : clips[1]]);

@@ -29,7 +29,11 @@ wavfile.write(args[0], fs, x.astype(np.float32))`,
 afterAll(() => py.close());
 
 function replay(...args: string[]) {
-  const r = spawnSync(process.execPath, [bin, 'replay', ...args, '--speed', 'max', '--no-server', '--quiet', '--segment', '1024'], { encoding: 'utf8', cwd: dir });
+  const r = spawnSync(
+    process.execPath,
+    [bin, 'replay', ...args, '--speed', 'max', '--no-server', '--quiet', '--segment', '1024'],
+    { encoding: 'utf8', cwd: dir },
+  );
   expect(r.status, r.stderr).toBe(0);
   return r.stdout;
 }
@@ -39,7 +43,9 @@ const samples = (s: string) => Number(/samples {4}(\d+)/.exec(s)?.[1]);
 describe('replay --follow', () => {
   it('replays a rotated recording as the one stream it was recorded from', () => {
     const reference = replay(source, '--data', join(dir, 'd1'), '--record', '--rotate', '3');
-    const files = readdirSync(join(dir, 'd1', 'recordings')).filter((f) => f.startsWith('rec-') && f.endsWith('.wav')).sort((a, b) => Number(/-s(\d+)\.wav$/.exec(a)![1]) - Number(/-s(\d+)\.wav$/.exec(b)![1]));
+    const files = readdirSync(join(dir, 'd1', 'recordings'))
+      .filter((f) => f.startsWith('rec-') && f.endsWith('.wav'))
+      .sort((a, b) => Number(/-s(\d+)\.wav$/.exec(a)![1]) - Number(/-s(\d+)\.wav$/.exec(b)![1]));
     expect(files).toHaveLength(4);
     const first = join(dir, 'd1', 'recordings', files[0]);
     const followed = replay(first, '--follow', '--data', join(dir, 'd2'));

@@ -25,7 +25,9 @@ describe('floorline report', () => {
     const r = floorline('report', '--store', store, '-o', 'a.html');
     expect(r.status, r.stderr).toBe(0);
     const html = readFileSync(join(dir, 'a.html'), 'utf8');
-    const { incidents } = JSON.parse(floorline('incidents', '--store', store, '--json').stdout) as { incidents: { id: string; settled: { levelDb: number } | null }[] };
+    const { incidents } = JSON.parse(floorline('incidents', '--store', store, '--json').stdout) as {
+      incidents: { id: string; settled: { levelDb: number } | null }[];
+    };
     expect(incidents.length).toBe(4);
     for (const i of incidents) {
       expect(html).toContain(`<td>${i.id}<br>`);
@@ -44,7 +46,8 @@ describe('floorline report', () => {
   it('is byte-identical on a second run apart from the marked generation time', () => {
     expect(floorline('report', '--store', store, '-o', 'b.html').status).toBe(0);
     expect(floorline('report', '--store', store, '-o', 'c.html').status).toBe(0);
-    const strip = (f: string) => readFileSync(join(dir, f), 'utf8').replace(/<p class="muted" id="generated">[^<]*<\/p>/, '');
+    const strip = (f: string) =>
+      readFileSync(join(dir, f), 'utf8').replace(/<p class="muted" id="generated">[^<]*<\/p>/, '');
     expect(strip('b.html') === strip('c.html')).toBe(true);
   });
 

@@ -3,7 +3,16 @@
 // frees it again. The quota must hold, recording must pause with a `disk` alarm raised and then cleared, the event
 // captures made while paused must survive as valid WAVs, and analysis must not notice (same spectra digest).
 import { spawn, spawnSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, statfsSync, writeFileSync } from 'node:fs';
+import {
+  mkdirSync,
+  mkdtempSync,
+  readdirSync,
+  readFileSync,
+  rmSync,
+  statSync,
+  statfsSync,
+  writeFileSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -22,12 +31,29 @@ describe('retention on a small disk', () => {
     expect(mount.status, `mount tmpfs: ${mount.stderr}`).toBe(0);
     try {
       const config = join(dir, 'rig.json');
-      writeFileSync(config, JSON.stringify({
-        data: join(mnt, 'data'),
-        retention: { recordings: { maxBytes: 0.8 * MB }, captures: { maxBytes: 8 * MB }, minFreeBytes: 4 * MB },
-      }));
-      const args = ['demo', '--speed', '10', '--no-loop', '--no-server', '--quiet', '--no-history', '--pre', '2', '--post', '2'];
-      const child = spawn(process.execPath, [bin, ...args, '--config', config, '--record', '--rotate', '2'], { stdio: ['ignore', 'pipe', 'pipe'] });
+      writeFileSync(
+        config,
+        JSON.stringify({
+          data: join(mnt, 'data'),
+          retention: { recordings: { maxBytes: 0.8 * MB }, captures: { maxBytes: 8 * MB }, minFreeBytes: 4 * MB },
+        }),
+      );
+      const args = [
+        'demo',
+        '--speed',
+        '10',
+        '--no-loop',
+        '--no-server',
+        '--quiet',
+        '--no-history',
+        '--pre',
+        '2',
+        '--post',
+        '2',
+      ];
+      const child = spawn(process.execPath, [bin, ...args, '--config', config, '--record', '--rotate', '2'], {
+        stdio: ['ignore', 'pipe', 'pipe'],
+      });
       let out = '';
       let err = '';
       child.stdout.on('data', (c) => (out += c));
@@ -40,17 +66,35 @@ describe('retention on a small disk', () => {
       const until = async (cond: () => boolean) => {
         for (let i = 0; i < 400 && !cond(); i++) await sleep(25);
       };
-      await until(() => { try { return readdirSync(recDir).some((f) => f.includes('-s80000')); } catch { return false; } });
+      await until(() => {
+        try {
+          return readdirSync(recDir).some((f) => f.includes('-s80000'));
+        } catch {
+          return false;
+        }
+      });
       const fs = statfsSync(mnt);
       const filler = join(mnt, 'filler.bin');
       writeFileSync(filler, Buffer.alloc(Math.max(0, fs.bavail * fs.bsize - 3 * MB)));
-      await until(() => { try { return readFileSync(eventsFile, 'utf8').includes('"rule":"spur"'); } catch { return false; } });
+      await until(() => {
+        try {
+          return readFileSync(eventsFile, 'utf8').includes('"rule":"spur"');
+        } catch {
+          return false;
+        }
+      });
       rmSync(filler);
       expect(await exited, err).toBe(0);
 
-      const events = readFileSync(eventsFile, 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+      const events = readFileSync(eventsFile, 'utf8')
+        .trim()
+        .split('\n')
+        .map((l) => JSON.parse(l));
       const disk = events.filter((e) => e.rule === 'disk').map((e) => e.state);
-      expect(disk, JSON.stringify(events.map((e) => [e.rule, e.state, e.sample, e.detail.slice(0, 60)]))).toEqual(['raised', 'cleared']);
+      expect(disk, JSON.stringify(events.map((e) => [e.rule, e.state, e.sample, e.detail.slice(0, 60)]))).toEqual([
+        'raised',
+        'cleared',
+      ]);
       const deletions = events.filter((e) => e.rule === 'retention');
       expect(deletions.length).toBeGreaterThan(0);
       for (const d of deletions) expect(d.detail).toMatch(/^deleted recordings\/rec-\S+\.wav /);
@@ -68,15 +112,25 @@ describe('retention on a small disk', () => {
       const captures = files.filter((f) => f.startsWith('capture-') && f.endsWith('.wav'));
       expect(captures.some((f) => f.includes('spur'))).toBe(true);
       // Every kept file opens in scipy.io.wavfile.
-      const py = spawnSync('python3', ['-c', `
+      const py = spawnSync(
+        'python3',
+        [
+          '-c',
+          `
 import sys, scipy.io.wavfile as w
 for p in sys.argv[1:]:
     fs, x = w.read(p); assert fs == 8000 and x.shape[0] > 0, p
-print('ok')`, ...[...rec, ...captures].map((f) => join(recDir, f))], { encoding: 'utf8' });
+print('ok')`,
+          ...[...rec, ...captures].map((f) => join(recDir, f)),
+        ],
+        { encoding: 'utf8' },
+      );
       expect(py.stdout.trim(), py.stderr).toBe('ok');
 
       // Analysis is the same as a run without recording (same snapshot digest).
-      const ref = spawnSync(process.execPath, [bin, ...args, '--speed', 'max', '--data', join(dir, 'ref')], { encoding: 'utf8' });
+      const ref = spawnSync(process.execPath, [bin, ...args, '--speed', 'max', '--data', join(dir, 'ref')], {
+        encoding: 'utf8',
+      });
       const digest = (s: string) => /digest ([0-9a-f]+)/.exec(s)?.[1];
       expect(digest(out)).toBeDefined();
       expect(digest(out)).toBe(digest(ref.stdout));

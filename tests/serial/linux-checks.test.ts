@@ -24,13 +24,17 @@ function roots(latency: string | undefined, comms: string[]): { sys: string; pro
 
 describe('Linux start-up checks', () => {
   it('hints at the FTDI latency timer when it is above 1 ms, and stays quiet at 1 ms or for other devices', () => {
-    expect(latencyHint('/dev/ttyUSB3', roots('16\n', []))).toMatch(/16 ms.*echo 1 \| sudo tee .*ttyUSB3\/latency_timer/);
+    expect(latencyHint('/dev/ttyUSB3', roots('16\n', []))).toMatch(
+      /16 ms.*echo 1 \| sudo tee .*ttyUSB3\/latency_timer/,
+    );
     expect(latencyHint('/dev/ttyUSB3', roots('1\n', []))).toBeUndefined();
     expect(latencyHint('/dev/ttyACM0', roots(undefined, []))).toBeUndefined();
   });
 
   it('names a running ModemManager with its pid and the fix', () => {
-    expect(modemManagerHint(roots(undefined, ['bash', 'ModemManager']))).toMatch(/ModemManager \(pid 101\).*systemctl stop ModemManager/);
+    expect(modemManagerHint(roots(undefined, ['bash', 'ModemManager']))).toMatch(
+      /ModemManager \(pid 101\).*systemctl stop ModemManager/,
+    );
     expect(modemManagerHint(roots(undefined, ['bash', 'sshd']))).toBeUndefined();
   });
 });

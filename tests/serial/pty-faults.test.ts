@@ -15,13 +15,20 @@ afterAll(() => pair.kill());
 
 const channels = [
   { name: 'p', perCount: 1e-6, signals: [{ kind: 'white', density: 1e-6 }] },
-  { name: 'q', perCount: 1e-6, signals: [{ kind: 'mains', fundamental: 50, harmonics: [0.002, 0.0005], drift: { span: 0.1, period: 2 } }] },
+  {
+    name: 'q',
+    perCount: 1e-6,
+    signals: [{ kind: 'mains', fundamental: 50, harmonics: [0.002, 0.0005], drift: { span: 0.1, period: 2 } }],
+  },
 ];
 
 describe('serial source on a damaged link', () => {
   it('counts garbage as one sync error and a flipped byte as one CRC error, losing only the damaged and withheld frames', async () => {
     const scenario = {
-      rate: 20000, format: 'int32', seed: 9, channels,
+      rate: 20000,
+      format: 'int32',
+      seed: 9,
+      channels,
       link: { garbage: [{ at: 1.0, bytes: 48 }], corrupt: [{ at: 2.0, bytes: 1 }], drop: [{ at: 3.0, frames: 2 }] },
     };
     await pair.start();
@@ -39,7 +46,10 @@ describe('serial source on a damaged link', () => {
     expect(d.syncErrors).toBe(1);
     expect(d.crcErrors).toBe(1);
     // 10 ms frames at 20 kHz: 200 instants each; the corrupt frame at 2.0 s and the two withheld at 3.0 s.
-    expect(sink.gaps.map((g) => [g.sample, g.lost])).toEqual([[40000, 200], [60000, 400]]);
+    expect(sink.gaps.map((g) => [g.sample, g.lost])).toEqual([
+      [40000, 200],
+      [60000, 400],
+    ]);
     expect(sink.delivered).toBe(total - 600);
     const { counts } = regenerateCounts(scenario, 9, total);
     expect(firstMismatch(sink.data, counts, sink.seen)).toBe(-1);
@@ -59,7 +69,10 @@ describe('serial source on a damaged link', () => {
     expect(await sim.exited, sim.stderr()).toBe(0);
     await waitFor('the last sample', () => sink.lastIndex >= total - 1, 15000);
     await source.stop();
-    expect(sink.infos[0].channels.map((c) => [c.name, c.unit, c.scale])).toEqual([['p', 'V', 1], ['q', 'V', 1]]);
+    expect(sink.infos[0].channels.map((c) => [c.name, c.unit, c.scale])).toEqual([
+      ['p', 'V', 1],
+      ['q', 'V', 1],
+    ]);
     expect(sink.delivered).toBe(total);
     // Text carries volts printed shortest-round-trip (ECMAScript Number::toString), so parsing gives them back.
     const { volts } = regenerateCounts(scenario, 4, total);

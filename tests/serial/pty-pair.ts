@@ -18,13 +18,18 @@ export async function waitFor(what: string, cond: () => boolean, timeoutMs = 100
 
 export class PtyPair {
   private proc: ChildProcess | undefined;
-  constructor(readonly board: string, readonly host: string) {}
+  constructor(
+    readonly board: string,
+    readonly host: string,
+  ) {}
 
   async start(): Promise<void> {
     // Links left dangling by a killed socat would make the new one fail to create them.
     rmSync(this.board, { force: true });
     rmSync(this.host, { force: true });
-    this.proc = spawn('socat', ['-d', '-d', `pty,raw,echo=0,link=${this.board}`, `pty,raw,echo=0,link=${this.host}`], { stdio: 'ignore' });
+    this.proc = spawn('socat', ['-d', '-d', `pty,raw,echo=0,link=${this.board}`, `pty,raw,echo=0,link=${this.host}`], {
+      stdio: 'ignore',
+    });
     await waitFor('socat pty links', () => existsSync(this.board) && existsSync(this.host), 5000);
   }
 
@@ -39,8 +44,14 @@ export class PtyPair {
   }
 }
 
-export function startSimulator(args: string[]): { proc: ChildProcess; exited: Promise<number | null>; stderr: () => string } {
-  const proc = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'simulate', ...args], { stdio: ['ignore', 'ignore', 'pipe'] });
+export function startSimulator(args: string[]): {
+  proc: ChildProcess;
+  exited: Promise<number | null>;
+  stderr: () => string;
+} {
+  const proc = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'simulate', ...args], {
+    stdio: ['ignore', 'ignore', 'pipe'],
+  });
   let err = '';
   proc.stderr!.on('data', (d: Buffer) => (err += d.toString()));
   const exited = new Promise<number | null>((r) => proc.once('exit', (code) => r(code)));

@@ -93,7 +93,10 @@ describe('serial source watchdog', () => {
       expect(await second.exited, second.stderr()).toBe(0);
       await waitFor('second run delivered', () => sink.delivered >= 40000, 15000);
       await source.stop();
-      expect(sink.links.map((l) => l.state), JSON.stringify(sink.links)).toEqual(['lost', 'back']);
+      expect(
+        sink.links.map((l) => l.state),
+        JSON.stringify(sink.links),
+      ).toEqual(['lost', 'back']);
       expect(source.detail().sequencer!.restarts).toBe(1);
       const restart = sink.gaps.find((g) => g.reason.includes('restarted'))!;
       expect(restart.sample).toBe(20000);

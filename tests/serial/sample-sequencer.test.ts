@@ -8,7 +8,12 @@ import { CollectingSink } from './pty-pair.ts';
 // The host rules of PROTOCOL.md ("Host behaviour"): sequence jumps are gaps of exactly that many instants,
 // modulo 2^32; a new boot restarts the count; stale duplicates are dropped; frames before the descriptor wait.
 const desc = (boot: string): BoardDescriptor => ({
-  rate: 1000, format: 'int16', board: 'b', firmware: 'f', boot, clock: 0,
+  rate: 1000,
+  format: 'int16',
+  board: 'b',
+  firmware: 'f',
+  boot,
+  clock: 0,
   channels: [{ name: 'a', unit: 'V', perCount: 0.001, fullScale: 32767 }],
 });
 

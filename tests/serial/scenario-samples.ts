@@ -2,7 +2,11 @@
 import { ScenarioPlayer } from '../../agent/sim/player.ts';
 import { parseScenario } from '../../agent/sim/scenario.ts';
 
-export function regenerateCounts(scenario: object, seed: number, frames: number): { counts: Float64Array[]; volts: Float64Array[] } {
+export function regenerateCounts(
+  scenario: object,
+  seed: number,
+  frames: number,
+): { counts: Float64Array[]; volts: Float64Array[] } {
   const player = new ScenarioPlayer(parseScenario(JSON.stringify(scenario), 'test scenario'), seed);
   const counts = player.counts.map(() => new Float64Array(frames));
   const volts = player.counts.map(() => new Float64Array(frames));

@@ -15,11 +15,22 @@ beforeAll(async () => {
 });
 afterAll(() => s.server.close());
 
-const python = ['python3', '/usr/bin/python3'].find((py) => spawnSync(py, ['-c', 'import prometheus_client.openmetrics.parser']).status === 0);
+const python = ['python3', '/usr/bin/python3'].find(
+  (py) => spawnSync(py, ['-c', 'import prometheus_client.openmetrics.parser']).status === 0,
+);
 
 describe('disk figures in /metrics', () => {
   it.skipIf(python === undefined)('used, free, floor, days held, paused and deletions', () => {
-    const disk = { usedBytes: 123456789, recordingsBytes: 100000000, capturesBytes: 23456789, freeBytes: 987654321, minFreeBytes: 2e9, historyDays: 13.5, paused: true, deletedFiles: 7 };
+    const disk = {
+      usedBytes: 123456789,
+      recordingsBytes: 100000000,
+      capturesBytes: 23456789,
+      freeBytes: 987654321,
+      minFreeBytes: 2e9,
+      historyDays: 13.5,
+      paused: true,
+      deletedFiles: 7,
+    };
     const text = renderMetrics({ ...status, disk }, 'test');
     const script = [
       'import sys, json',
@@ -34,7 +45,12 @@ describe('disk figures in /metrics', () => {
     expect(fams.floorline_disk_min_free_bytes[3]).toBe(2e9);
     expect(fams.floorline_history_days).toEqual(['gauge', 'days', 'floorline_history_days', 13.5]);
     expect(fams.floorline_recording_paused[3]).toBe(1);
-    expect(fams.floorline_retention_deleted_files).toEqual(['counter', '', 'floorline_retention_deleted_files_total', 7]);
+    expect(fams.floorline_retention_deleted_files).toEqual([
+      'counter',
+      '',
+      'floorline_retention_deleted_files_total',
+      7,
+    ]);
   });
 
   it('absent without a retention policy', () => {

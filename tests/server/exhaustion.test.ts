@@ -60,7 +60,8 @@ describe('control actions', () => {
   it('are rate-limited agent-wide: a burst of recording toggles starts one, the rest are refused with rate-limited', async () => {
     started = await startWithFake({ controlIntervalMs: 1000 });
     const c = await open(started.ws);
-    for (let i = 0; i < 10; i++) c.ws.send(JSON.stringify({ type: 'recording', id: i, action: i % 2 ? 'stop' : 'start' }));
+    for (let i = 0; i < 10; i++)
+      c.ws.send(JSON.stringify({ type: 'recording', id: i, action: i % 2 ? 'stop' : 'start' }));
     const replies = await Promise.all([...Array(10).keys()].map((i) => c.reply(i)));
     expect(replies.filter((r) => r.ok)).toHaveLength(1);
     expect(replies.filter((r) => !r.ok).every((r) => !r.ok && r.error.code === 'rate-limited')).toBe(true);
@@ -91,10 +92,17 @@ describe('connections', () => {
 describe('analysis settings', () => {
   it(`refuse a setting whose averaging would hold more than ${ANALYSIS_MEMORY_MAX_BYTES / 2 ** 20} MiB, before allocating it`, () => {
     const p = new Pipeline({ analysis: { segment: 1024 } });
-    p.info({ sampleRate: 48000, channels: [{ name: 'a', unit: 'V', scale: 1, fullScaleCounts: Infinity }], source: { kind: 'simulator', label: 't' }, firstSample: 0 });
+    p.info({
+      sampleRate: 48000,
+      channels: [{ name: 'a', unit: 'V', scale: 1, fullScaleCounts: Infinity }],
+      source: { kind: 'simulator', label: 't' },
+      firstSample: 0,
+    });
     const rss = process.memoryUsage().rss;
     // 4096 spectra × 32769 bins × 8 bytes = 1 GiB for one channel (the probe's setting).
-    expect(() => p.configure({ analysis: { segment: 65536 }, averaging: { mode: 'median', count: 4096 } })).toThrow(/would hold 10\d\d MiB; the live analysis may hold at most 256 MiB/);
+    expect(() => p.configure({ analysis: { segment: 65536 }, averaging: { mode: 'median', count: 4096 } })).toThrow(
+      /would hold 10\d\d MiB; the live analysis may hold at most 256 MiB/,
+    );
     expect(process.memoryUsage().rss - rss).toBeLessThan(64 << 20);
     expect(() => p.configure({ analysis: { segment: 4096 }, averaging: { mode: 'median', count: 100 } })).not.toThrow();
   });

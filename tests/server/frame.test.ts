@@ -10,7 +10,21 @@ function sampleFrame(): { buf: ArrayBuffer; psd: Float64Array[] } {
   const rng = new SeededRandom(11);
   const psd = [0, 1, 2].map(() => Float64Array.from({ length: 257 }, () => Math.exp(rng.gaussian() * 10 - 30)));
   const buf = new ArrayBuffer(frameBytes(3, 257));
-  encodeFrame(buf, { kind: 'spectrum', seq: 42, channels: 3, contextId: 7, length: 257, sample: 2 ** 40 + 3, sampleRate: 48000, binHz: 93.75 }, [10, 20.5, 30], psd);
+  encodeFrame(
+    buf,
+    {
+      kind: 'spectrum',
+      seq: 42,
+      channels: 3,
+      contextId: 7,
+      length: 257,
+      sample: 2 ** 40 + 3,
+      sampleRate: 48000,
+      binHz: 93.75,
+    },
+    [10, 20.5, 30],
+    psd,
+  );
   return { buf, psd };
 }
 
@@ -18,7 +32,16 @@ describe('spectrum frames', () => {
   it('round-trip: header fields exactly, values rounded to float32 as Math.fround does (IEEE 754 binary32)', () => {
     const { buf, psd } = sampleFrame();
     const f = decodeFrame(buf);
-    expect(f).toMatchObject({ kind: 'spectrum', seq: 42, channels: 3, contextId: 7, length: 257, sample: 2 ** 40 + 3, sampleRate: 48000, binHz: 93.75 });
+    expect(f).toMatchObject({
+      kind: 'spectrum',
+      seq: 42,
+      channels: 3,
+      contextId: 7,
+      length: 257,
+      sample: 2 ** 40 + 3,
+      sampleRate: 48000,
+      binHz: 93.75,
+    });
     expect([...f.averages]).toEqual([10, 20.5, 30]);
     for (let c = 0; c < 3; c++) for (let k = 0; k < 257; k++) expect(f.values[c][k]).toBe(Math.fround(psd[c][k]));
   });
@@ -36,7 +59,21 @@ describe('spectrum frames', () => {
     const r = spawnSync('python3', ['-c', py], { input: Buffer.from(buf), encoding: 'utf8' });
     expect(r.stderr).toBe('');
     const out = JSON.parse(r.stdout);
-    expect(out).toEqual([FRAME_MAGIC, WIRE_PROTOCOL_VERSION, 1, 42, 3, 7, 257, 2 ** 40 + 3, 48000, 93.75, [10, 20.5, 30], Math.fround(psd[1][100]), Math.fround(psd[2][256])]);
+    expect(out).toEqual([
+      FRAME_MAGIC,
+      WIRE_PROTOCOL_VERSION,
+      1,
+      42,
+      3,
+      7,
+      257,
+      2 ** 40 + 3,
+      48000,
+      93.75,
+      [10, 20.5, 30],
+      Math.fround(psd[1][100]),
+      Math.fround(psd[2][256]),
+    ]);
   });
 
   it('decodes a misaligned slice (as Node hands out pooled Buffers) by copying it', () => {
@@ -71,7 +108,12 @@ describe('spectrum frames', () => {
 
   it('refuses to encode into a buffer that is too small', () => {
     expect(() =>
-      encodeFrame(new ArrayBuffer(100), { kind: 'trace', seq: 0, channels: 1, contextId: 0, length: 100, sample: 0, sampleRate: 1, binHz: 0 }, null, [new Float64Array(100)]),
+      encodeFrame(
+        new ArrayBuffer(100),
+        { kind: 'trace', seq: 0, channels: 1, contextId: 0, length: 100, sample: 0, sampleRate: 1, binHz: 0 },
+        null,
+        [new Float64Array(100)],
+      ),
     ).toThrow(RangeError);
   });
 });

@@ -49,26 +49,62 @@ function raw(port: number, bytes: string): Promise<string> {
 }
 
 async function statusAnswers(): Promise<number> {
-  const res = await fetch(`http://127.0.0.1:${agent.port}/api/status`, { headers: { authorization: `Bearer ${TOKEN}` } });
+  const res = await fetch(`http://127.0.0.1:${agent.port}/api/status`, {
+    headers: { authorization: `Bearer ${TOKEN}` },
+  });
   await res.text();
   return res.status;
 }
 
 // Pieces that have broken parsers before (from memory: malformed IPv6 literals, lone '%', '@' in Host) mixed
 // with random text so the search is both aimed and open.
-const nasty = fc.constantFrom('//[', '/%', '%', '%E0%A4%A', '/..', '/files/%', '/files/../../etc/passwd', '/ws', '?token=', '?token=%', '@', '[::1', '\u0000', '\u00ff', '');
+const nasty = fc.constantFrom(
+  '//[',
+  '/%',
+  '%',
+  '%E0%A4%A',
+  '/..',
+  '/files/%',
+  '/files/../../etc/passwd',
+  '/ws',
+  '?token=',
+  '?token=%',
+  '@',
+  '[::1',
+  '\u0000',
+  '\u00ff',
+  '',
+);
 const piece = fc.oneof(nasty, fc.string({ maxLength: 12 }), fc.stringMatching(/^[!-~]{0,16}$/));
 const text = fc.array(piece, { maxLength: 4 }).map((p) => p.join(''));
 const method = fc.constantFrom('GET', 'HEAD', 'POST', 'PUT', 'OPTIONS', 'CONNECT', 'G\u00e9T', '');
 const header = fc.oneof(
-  fc.tuple(fc.constantFrom('Host', 'Cookie', 'Origin', 'Authorization', 'Upgrade', 'Connection', 'Sec-WebSocket-Key', 'Sec-WebSocket-Version', 'Content-Length', 'Transfer-Encoding'), text),
+  fc.tuple(
+    fc.constantFrom(
+      'Host',
+      'Cookie',
+      'Origin',
+      'Authorization',
+      'Upgrade',
+      'Connection',
+      'Sec-WebSocket-Key',
+      'Sec-WebSocket-Version',
+      'Content-Length',
+      'Transfer-Encoding',
+    ),
+    text,
+  ),
   fc.constant(['Cookie', 'floorline_token=%'] as [string, string]),
   fc.constant(['Host', `127.0.0.1:1@evil.example`] as [string, string]),
   fc.tuple(fc.stringMatching(/^[A-Za-z-]{1,12}$/), text),
 );
 const request = fc.record({
   method,
-  target: fc.oneof(fc.constant('/api/status'), text.map((t) => (t.startsWith('/') ? t : '/' + t)), text),
+  target: fc.oneof(
+    fc.constant('/api/status'),
+    text.map((t) => (t.startsWith('/') ? t : '/' + t)),
+    text,
+  ),
   version: fc.constantFrom('HTTP/1.1', 'HTTP/1.0', 'HTTP/9', ''),
   headers: fc.array(header, { maxLength: 6 }),
   upgrade: fc.boolean(),
@@ -80,7 +116,13 @@ describe('the agent under hostile HTTP and WebSocket input', () => {
     await fc.assert(
       fc.asyncProperty(request, async (r) => {
         const lines = [`${r.method} ${r.target} ${r.version}`, ...r.headers.map(([k, v]) => `${k}: ${v}`)];
-        if (r.upgrade) lines.push('Upgrade: websocket', 'Connection: Upgrade', 'Sec-WebSocket-Version: 13', 'Sec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==');
+        if (r.upgrade)
+          lines.push(
+            'Upgrade: websocket',
+            'Connection: Upgrade',
+            'Sec-WebSocket-Version: 13',
+            'Sec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==',
+          );
         await raw(agent.port, lines.join('\r\n') + '\r\n\r\n' + r.body);
         expect(agent.proc.exitCode, agent.output()).toBeNull();
       }),
@@ -92,13 +134,30 @@ describe('the agent under hostile HTTP and WebSocket input', () => {
   it(`survives ${WS_RUNS} random WebSocket messages from an authorised client, then still answers /api/status`, async () => {
     const message = fc.oneof(
       fc.json(),
-      fc.record({ type: fc.constantFrom('request', 'hello', 'x'), id: fc.oneof(fc.integer(), fc.string()), request: fc.constantFrom('get-status', 'set-analysis', 'start-recording', 'stop-recording', 'capture-baseline', 'nope'), params: fc.anything() }).map((o) => JSON.stringify(o)),
+      fc
+        .record({
+          type: fc.constantFrom('request', 'hello', 'x'),
+          id: fc.oneof(fc.integer(), fc.string()),
+          request: fc.constantFrom(
+            'get-status',
+            'set-analysis',
+            'start-recording',
+            'stop-recording',
+            'capture-baseline',
+            'nope',
+          ),
+          params: fc.anything(),
+        })
+        .map((o) => JSON.stringify(o)),
       fc.uint8Array({ maxLength: 64 }),
       fc.string({ maxLength: 200 }),
     );
     await fc.assert(
       fc.asyncProperty(fc.array(message, { minLength: 1, maxLength: 5 }), async (msgs) => {
-        const ws = new WebSocket(`ws://127.0.0.1:${agent.port}/ws`, { headers: { authorization: `Bearer ${TOKEN}` }, perMessageDeflate: false });
+        const ws = new WebSocket(`ws://127.0.0.1:${agent.port}/ws`, {
+          headers: { authorization: `Bearer ${TOKEN}` },
+          perMessageDeflate: false,
+        });
         await new Promise<void>((resolve) => {
           const timer = setTimeout(() => {
             ws.terminate();

@@ -37,36 +37,48 @@ describe('GET /metrics', () => {
     expect(contentType).toBe(OPENMETRICS_CONTENT_TYPE);
   });
 
-  it.skipIf(python === null)('parses with prometheus_client’s OpenMetrics parser, with the types and units we declare', () => {
-    const script = [
-      'import sys, json',
-      'from prometheus_client.openmetrics.parser import text_string_to_metric_families as p',
-      'fams = [{"name": f.name, "type": f.type, "unit": f.unit, "samples": [[x.name, x.labels, x.value] for x in f.samples]} for f in p(sys.stdin.read())]',
-      'print(json.dumps(fams))',
-    ].join('\n');
-    const r = spawnSync(python!, ['-c', script], { input: text, encoding: 'utf8' });
-    expect(r.stderr).toBe('');
-    const fams = JSON.parse(r.stdout) as { name: string; type: string; unit: string; samples: [string, Record<string, string>, number][] }[];
-    const byName = new Map(fams.map((f) => [f.name, f]));
-    expect(byName.get('floorline_samples')?.type).toBe('counter');
-    expect(byName.get('floorline_samples')?.samples[0]).toEqual(['floorline_samples_total', {}, 800]);
-    expect(byName.get('floorline_crc_errors')?.samples[0][2]).toBe(3);
-    // Counters once hidden: link errors (sync, malformed, rejected frames, bad text lines) and non-finite frames.
-    expect(byName.get('floorline_sync_errors')?.samples[0][2]).toBe(0);
-    expect(byName.get('floorline_nonfinite_frames')?.samples[0][2]).toBe(0);
-    const rms = byName.get('floorline_band_rms_volts');
-    expect(rms?.type).toBe('gauge');
-    expect(rms?.unit).toBe('volts');
-    // White noise sigma = 1 µV at 8 kS/s: band RMS = sigma·sqrt(2·(bins in band)·binHz/fs) (common practice: PSD 2σ²/fs).
-    const row = rms!.samples.find((x) => x[1].channel === 'ch0' && x[1].low_hz === '20')!;
-    const binHz = 8000 / 1024;
-    let bins = 0;
-    for (let k = 0; k <= 512; k++) if (k * binHz >= 20 && k * binHz <= 2000) bins++;
-    expect(row[2]).toBeCloseTo(1e-6 * Math.sqrt((2 * bins * binHz) / 8000), 18);
-    expect(byName.get('floorline_floor_density_volts_per_root_hertz')?.unit).toBe('volts_per_root_hertz');
-    expect(byName.get('floorline_mains_frequency_hertz')?.samples[0][2]).toBe(50);
-    expect(byName.get('floorline_alarm_active')?.samples[0]).toEqual(['floorline_alarm_active', { rule: 'band-rise', channel: 'ch0', band: '20-2000' }, 0]);
-  });
+  it.skipIf(python === null)(
+    'parses with prometheus_client’s OpenMetrics parser, with the types and units we declare',
+    () => {
+      const script = [
+        'import sys, json',
+        'from prometheus_client.openmetrics.parser import text_string_to_metric_families as p',
+        'fams = [{"name": f.name, "type": f.type, "unit": f.unit, "samples": [[x.name, x.labels, x.value] for x in f.samples]} for f in p(sys.stdin.read())]',
+        'print(json.dumps(fams))',
+      ].join('\n');
+      const r = spawnSync(python!, ['-c', script], { input: text, encoding: 'utf8' });
+      expect(r.stderr).toBe('');
+      const fams = JSON.parse(r.stdout) as {
+        name: string;
+        type: string;
+        unit: string;
+        samples: [string, Record<string, string>, number][];
+      }[];
+      const byName = new Map(fams.map((f) => [f.name, f]));
+      expect(byName.get('floorline_samples')?.type).toBe('counter');
+      expect(byName.get('floorline_samples')?.samples[0]).toEqual(['floorline_samples_total', {}, 800]);
+      expect(byName.get('floorline_crc_errors')?.samples[0][2]).toBe(3);
+      // Counters once hidden: link errors (sync, malformed, rejected frames, bad text lines) and non-finite frames.
+      expect(byName.get('floorline_sync_errors')?.samples[0][2]).toBe(0);
+      expect(byName.get('floorline_nonfinite_frames')?.samples[0][2]).toBe(0);
+      const rms = byName.get('floorline_band_rms_volts');
+      expect(rms?.type).toBe('gauge');
+      expect(rms?.unit).toBe('volts');
+      // White noise sigma = 1 µV at 8 kS/s: band RMS = sigma·sqrt(2·(bins in band)·binHz/fs) (common practice: PSD 2σ²/fs).
+      const row = rms!.samples.find((x) => x[1].channel === 'ch0' && x[1].low_hz === '20')!;
+      const binHz = 8000 / 1024;
+      let bins = 0;
+      for (let k = 0; k <= 512; k++) if (k * binHz >= 20 && k * binHz <= 2000) bins++;
+      expect(row[2]).toBeCloseTo(1e-6 * Math.sqrt((2 * bins * binHz) / 8000), 18);
+      expect(byName.get('floorline_floor_density_volts_per_root_hertz')?.unit).toBe('volts_per_root_hertz');
+      expect(byName.get('floorline_mains_frequency_hertz')?.samples[0][2]).toBe(50);
+      expect(byName.get('floorline_alarm_active')?.samples[0]).toEqual([
+        'floorline_alarm_active',
+        { rule: 'band-rise', channel: 'ch0', band: '20-2000' },
+        0,
+      ]);
+    },
+  );
 
   it('keeps the spec’s rules: ends with # EOF, TYPE before samples, _total counters, unit suffixes, no per-bin series', () => {
     // OpenMetrics 1.0, "Text format": the exposition MUST end with "# EOF" and a newline.

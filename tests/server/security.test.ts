@@ -29,7 +29,10 @@ async function open(url: string, headers: Record<string, string> = {}): Promise<
 }
 
 /** A raw GET with chosen headers (fetch would not let us set Host). */
-function get(url: string, headers: Record<string, string> = {}): Promise<{ status: number; body: string; headers: Record<string, unknown> }> {
+function get(
+  url: string,
+  headers: Record<string, string> = {},
+): Promise<{ status: number; body: string; headers: Record<string, unknown> }> {
   return new Promise((resolve, reject) => {
     const req = request(url, { headers }, (res) => {
       let body = '';
@@ -62,13 +65,17 @@ describe('binding', () => {
 
   it('refuses to start on a wider address without a token, naming --token as the fix', async () => {
     const backend = new FakeBackend({ dataRoot: '/tmp/floorline-unused' });
-    await expect(startServer(backend, { host: '0.0.0.0', port: 0, assetsDir: '/tmp' })).rejects.toThrow(ServerConfigError);
+    await expect(startServer(backend, { host: '0.0.0.0', port: 0, assetsDir: '/tmp' })).rejects.toThrow(
+      ServerConfigError,
+    );
     await expect(startServer(backend, { host: '0.0.0.0', port: 0, assetsDir: '/tmp' })).rejects.toThrow(/--token/);
   });
 
   it('refuses a short token', async () => {
     const backend = new FakeBackend({ dataRoot: '/tmp/floorline-unused' });
-    await expect(startServer(backend, { host: '0.0.0.0', port: 0, token: 'short', assetsDir: '/tmp' })).rejects.toThrow(/at least 16/);
+    await expect(startServer(backend, { host: '0.0.0.0', port: 0, token: 'short', assetsDir: '/tmp' })).rejects.toThrow(
+      /at least 16/,
+    );
   });
 
   it('starts on a wider address with a token and then requires it on every HTTP request and on the upgrade', async () => {
@@ -115,7 +122,12 @@ describe('origin and host', () => {
 
   it('parses Host strictly: userinfo, a path or a bad port after a loopback name is refused', async () => {
     started = await startWithFake();
-    for (const host of [`127.0.0.1:${started.server.port}@evil.example`, `127.0.0.1:${started.server.port}/x`, '127.0.0.1:99999', '127.0.0.1 evil']) {
+    for (const host of [
+      `127.0.0.1:${started.server.port}@evil.example`,
+      `127.0.0.1:${started.server.port}/x`,
+      '127.0.0.1:99999',
+      '127.0.0.1 evil',
+    ]) {
       expect((await get(`${started.base}/api/status`, { host })).status, host).toBe(403);
     }
   });
@@ -130,7 +142,10 @@ describe('origin and host', () => {
 describe('pre-auth input that once stopped the process', () => {
   it('answers a request target that is not a URL (GET //[) with 400, on plain requests and upgrades, and keeps serving', async () => {
     started = await startWithFake({ token: TOKEN });
-    for (const extra of ['', 'Upgrade: websocket\r\nConnection: Upgrade\r\nSec-WebSocket-Version: 13\r\nSec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==\r\n']) {
+    for (const extra of [
+      '',
+      'Upgrade: websocket\r\nConnection: Upgrade\r\nSec-WebSocket-Version: 13\r\nSec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==\r\n',
+    ]) {
       const reply = await rawRequest(started.server.port, `GET //[ HTTP/1.1\r\nHost: 127.0.0.1\r\n${extra}\r\n`);
       expect(reply).toMatch(/^HTTP\/1\.1 400/);
     }
@@ -219,7 +234,12 @@ describe('files', () => {
     expect(ok.status).toBe(200);
     expect(ok.body).toBe('RIFF');
     // Raw ../ in the request target (http.request keeps it as given), percent-encoded ../, and an absolute path.
-    for (const p of ['/files/../secret.txt', '/files/%2e%2e%2fsecret.txt', '/files/..%2F..%2Fsecret.txt', `/files/${encodeURIComponent(join(started.dir, 'secret.txt'))}`]) {
+    for (const p of [
+      '/files/../secret.txt',
+      '/files/%2e%2e%2fsecret.txt',
+      '/files/..%2F..%2Fsecret.txt',
+      `/files/${encodeURIComponent(join(started.dir, 'secret.txt'))}`,
+    ]) {
       const r = await get(started.base + p);
       expect(r.status, p).not.toBe(200);
       expect(r.body, p).not.toContain('not yours');

@@ -26,7 +26,9 @@ describe('latest-frame-only delivery', () => {
       // Pace by the reading client, so it is never slow itself and must get every frame.
       await fast.until(() => fast.frames.filter((f) => f.kind === 'spectrum').length >= i);
     }
-    expect(fast.frames.filter((f) => f.kind === 'spectrum').map((f) => f.averages[0])).toEqual(Array.from({ length: N }, (_, i) => i + 1));
+    expect(fast.frames.filter((f) => f.kind === 'spectrum').map((f) => f.averages[0])).toEqual(
+      Array.from({ length: N }, (_, i) => i + 1),
+    );
     raw.resume();
     await slow.until(() => slow.frames.filter((f) => f.kind === 'spectrum').some((f) => f.averages[0] === N), 10_000);
     await slow.until(() => slow.frames.some((f) => f.kind === 'trace' && f.sample === N * 100 - 1), 10_000);
@@ -42,7 +44,9 @@ describe('latest-frame-only delivery', () => {
     }
     const status = s.server.status();
     expect(status.clients.framesSkipped).toBeGreaterThan(0);
-    expect(status.clients.framesSkipped).toBe(N - spectra.length + (N - slow.frames.filter((f) => f.kind === 'trace').length));
+    expect(status.clients.framesSkipped).toBe(
+      N - spectra.length + (N - slow.frames.filter((f) => f.kind === 'trace').length),
+    );
     // Buffers are recycled: of 400 frames, spectra need a handful of buffers (in flight + waiting per client) and
     // traces one per size while their 2048-sample ring fills (21 sizes at 100 samples a block).
     expect(s.server.poolStats().created).toBeLessThan(40);

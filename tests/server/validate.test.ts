@@ -53,7 +53,9 @@ describe('parseClientMessage', () => {
   });
 
   it('tells bad JSON, non-objects, unknown types and bad ids apart', () => {
-    expect(parseClientMessage('{').ok === false && (parseClientMessage('{') as { error: { code: string } }).error.code).toBe('bad-json');
+    expect(
+      parseClientMessage('{').ok === false && (parseClientMessage('{') as { error: { code: string } }).error.code,
+    ).toBe('bad-json');
     const arr = parseClientMessage('[1,2]');
     expect(arr.ok === false && arr.error.code).toBe('bad-message');
     const unk = ok({ type: 'reboot', id: 1 });

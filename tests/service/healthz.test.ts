@@ -14,7 +14,22 @@ describe('GET /healthz', () => {
     const dir = mkdtempSync(join(tmpdir(), 'fl-health-'));
     const pair = new PtyPair(join(dir, 'board'), join(dir, 'host'));
     await pair.start();
-    const agent = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'run', '--port', pair.host, '--http-port', '0', '--no-history', '--data', join(dir, 'data'), '--quiet'], { stdio: ['ignore', 'pipe', 'pipe'] });
+    const agent = spawn(
+      process.execPath,
+      [
+        join(root, 'bin/floorline.mjs'),
+        'run',
+        '--port',
+        pair.host,
+        '--http-port',
+        '0',
+        '--no-history',
+        '--data',
+        join(dir, 'data'),
+        '--quiet',
+      ],
+      { stdio: ['ignore', 'pipe', 'pipe'] },
+    );
     let out = '';
     agent.stdout.on('data', (c) => (out += c));
     try {

@@ -13,12 +13,35 @@ describe('structured log lines', () => {
     const dir = mkdtempSync(join(tmpdir(), 'fl-log-'));
     const config = join(dir, 'rig.json');
     // The webhook points at a closed port, so its failures are logged (they must not show the header).
-    writeFileSync(config, JSON.stringify({ notify: [{ webhook: 'http://127.0.0.1:9/hook', headers: { Authorization: 'Bearer hook-secret-4242' } }] }));
+    writeFileSync(
+      config,
+      JSON.stringify({
+        notify: [{ webhook: 'http://127.0.0.1:9/hook', headers: { Authorization: 'Bearer hook-secret-4242' } }],
+      }),
+    );
     const token = 'token-secret-0123456789abcdef';
-    const child = spawn(process.execPath, [join(root, 'bin/floorline.mjs'), 'demo', '--speed', '8', '--config', config, '--http-port', '0', '--no-history', '--data', join(dir, 'data'), '--status-every', '1'], {
-      env: { ...process.env, INVOCATION_ID: 'test', FLOORLINE_TOKEN: token },
-      stdio: ['ignore', 'pipe', 'pipe'],
-    });
+    const child = spawn(
+      process.execPath,
+      [
+        join(root, 'bin/floorline.mjs'),
+        'demo',
+        '--speed',
+        '8',
+        '--config',
+        config,
+        '--http-port',
+        '0',
+        '--no-history',
+        '--data',
+        join(dir, 'data'),
+        '--status-every',
+        '1',
+      ],
+      {
+        env: { ...process.env, INVOCATION_ID: 'test', FLOORLINE_TOKEN: token },
+        stdio: ['ignore', 'pipe', 'pipe'],
+      },
+    );
     let text = '';
     child.stdout.on('data', (c) => (text += c));
     child.stderr.on('data', (c) => (text += c));

@@ -11,18 +11,30 @@ const root = new URL('../..', import.meta.url).pathname;
 const bin = join(root, 'bin/floorline.mjs');
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
-function startDemo(data: string): { child: ChildProcess; exited: Promise<{ code: number | null; at: number }>; stderr: () => string; stdout: () => string } {
-  const child = spawn(process.execPath, [bin, 'demo', '--speed', '20', '--record', '--http-port', '0', '--data', data, '--quiet'], { stdio: ['ignore', 'pipe', 'pipe'] });
+function startDemo(data: string): {
+  child: ChildProcess;
+  exited: Promise<{ code: number | null; at: number }>;
+  stderr: () => string;
+  stdout: () => string;
+} {
+  const child = spawn(
+    process.execPath,
+    [bin, 'demo', '--speed', '20', '--record', '--http-port', '0', '--data', data, '--quiet'],
+    { stdio: ['ignore', 'pipe', 'pipe'] },
+  );
   let err = '';
   let out = '';
   child.stderr!.on('data', (c) => (err += c));
   child.stdout!.on('data', (c) => (out += c));
-  const exited = new Promise<{ code: number | null; at: number }>((r) => child.on('exit', (code) => r({ code, at: performance.now() })));
+  const exited = new Promise<{ code: number | null; at: number }>((r) =>
+    child.on('exit', (code) => r({ code, at: performance.now() })),
+  );
   return { child, exited, stderr: () => err, stdout: () => out };
 }
 
 async function waitForRecording(dir: string): Promise<void> {
-  for (let i = 0; i < 200 && !(existsSync(dir) && readdirSync(dir).some((f) => f.startsWith('rec-'))); i++) await sleep(50);
+  for (let i = 0; i < 200 && !(existsSync(dir) && readdirSync(dir).some((f) => f.startsWith('rec-'))); i++)
+    await sleep(50);
 }
 
 describe('shutdown on a signal', () => {
@@ -37,10 +49,16 @@ describe('shutdown on a signal', () => {
     expect(code, run.stderr()).toBe(0);
     expect(at - t0).toBeLessThan(2000);
 
-    const wavs = readdirSync(join(data, 'recordings')).filter((f) => f.endsWith('.wav')).map((f) => join(data, 'recordings', f));
+    const wavs = readdirSync(join(data, 'recordings'))
+      .filter((f) => f.endsWith('.wav'))
+      .map((f) => join(data, 'recordings', f));
     expect(wavs.length).toBeGreaterThanOrEqual(2);
     // scipy.io.wavfile with warnings as errors: a header whose sizes disagree with the file raises.
-    const py = spawnSync('python3', ['-c', `
+    const py = spawnSync(
+      'python3',
+      [
+        '-c',
+        `
 import os, sys, struct, warnings, sqlite3, scipy.io.wavfile as w
 warnings.simplefilter('error')
 warnings.filterwarnings('ignore', 'Chunk .non-data. not understood')  # our metadata chunk
@@ -59,12 +77,21 @@ for p in sys.argv[2:]:
     print(p, x.shape[0])
 db = sqlite3.connect(sys.argv[1])
 print(db.execute('pragma integrity_check').fetchone()[0])
-`, join(data, 'demo.sqlite'), ...wavs], { encoding: 'utf8' });
+`,
+        join(data, 'demo.sqlite'),
+        ...wavs,
+      ],
+      { encoding: 'utf8' },
+    );
     expect(py.status, py.stderr).toBe(0);
     expect(py.stdout.trim().split('\n').pop()).toBe('ok');
     // Nothing buffered was lost: the continuous recording holds every frame the summary says it recorded.
     const said = Number(/recording\s+on, (\d+) frames/.exec(run.stdout())?.[1]);
-    const recFrames = py.stdout.trim().split('\n').filter((l) => /\/rec-[^/]*\.wav /.test(l)).reduce((a, l) => a + Number(l.split(' ').pop()), 0);
+    const recFrames = py.stdout
+      .trim()
+      .split('\n')
+      .filter((l) => /\/rec-[^/]*\.wav /.test(l))
+      .reduce((a, l) => a + Number(l.split(' ').pop()), 0);
     expect(said).toBeGreaterThan(0);
     expect(recFrames).toBe(said);
   });

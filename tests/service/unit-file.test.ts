@@ -17,9 +17,20 @@ describe('contrib/floorline.service', () => {
 
   it('runs as its own user with the hardening options', () => {
     const text = readFileSync(unit, 'utf8');
-    for (const line of ['User=floorline', 'Restart=on-failure', 'NoNewPrivileges=yes', 'ProtectSystem=strict', 'ProtectHome=yes', 'PrivateTmp=yes', 'SupplementaryGroups=dialout', 'ReadWritePaths=/var/lib/floorline']) {
+    for (const line of [
+      'User=floorline',
+      'Restart=on-failure',
+      'NoNewPrivileges=yes',
+      'ProtectSystem=strict',
+      'ProtectHome=yes',
+      'PrivateTmp=yes',
+      'SupplementaryGroups=dialout',
+      'ReadWritePaths=/var/lib/floorline',
+    ]) {
       expect(text.split('\n')).toContain(line);
     }
-    expect(text).toMatch(/^ExecStart=\S+node \S+floorline\.mjs run --config \/etc\/floorline\/rig\.json --data \/var\/lib\/floorline/m);
+    expect(text).toMatch(
+      /^ExecStart=\S+node \S+floorline\.mjs run --config \/etc\/floorline\/rig\.json --data \/var\/lib\/floorline/m,
+    );
   });
 });

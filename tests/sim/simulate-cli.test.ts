@@ -16,8 +16,24 @@ const scenarioJson = {
   board: 'test board',
   seed: 3,
   channels: [
-    { name: 'a', unit: 'V', perCount: 1e-8, signals: [{ kind: 'white', density: 2e-7 }, { kind: 'tone', frequency: 1000, rms: 1e-5 }] },
-    { name: 'b', unit: 'V', perCount: 1e-8, signals: [{ kind: 'white', density: 5e-8 }, { kind: 'mains', fundamental: 60, harmonics: [3e-6, 1e-6] }] },
+    {
+      name: 'a',
+      unit: 'V',
+      perCount: 1e-8,
+      signals: [
+        { kind: 'white', density: 2e-7 },
+        { kind: 'tone', frequency: 1000, rms: 1e-5 },
+      ],
+    },
+    {
+      name: 'b',
+      unit: 'V',
+      perCount: 1e-8,
+      signals: [
+        { kind: 'white', density: 5e-8 },
+        { kind: 'mains', fundamental: 60, harmonics: [3e-6, 1e-6] },
+      ],
+    },
   ],
   link: { drop: [{ at: 0.5, frames: 3 }], corrupt: [{ at: 0.8, bytes: 1 }], garbage: [{ at: 1.2, bytes: 30 }] },
 };
@@ -25,7 +41,10 @@ let dir = '';
 let scenarioPath = '';
 
 function floorline(args: string[]): { status: number | null; stdout: Buffer; stderr: string } {
-  const r = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], { encoding: 'buffer', maxBuffer: 1 << 28 });
+  const r = spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], {
+    encoding: 'buffer',
+    maxBuffer: 1 << 28,
+  });
   return { status: r.status, stdout: r.stdout, stderr: r.stderr.toString() };
 }
 
@@ -135,7 +154,13 @@ print(bool(np.array_equal(x, ref)))`,
 
   it('refuses a bad scenario with exit 2, naming the field and the fix', () => {
     const p = join(dir, 'bad.json');
-    writeFileSync(p, JSON.stringify({ ...scenarioJson, channels: [{ name: 'a', perCount: 1e-8, signals: [{ kind: 'tone', frequency: 6000, rms: 1 }] }] }));
+    writeFileSync(
+      p,
+      JSON.stringify({
+        ...scenarioJson,
+        channels: [{ name: 'a', perCount: 1e-8, signals: [{ kind: 'tone', frequency: 6000, rms: 1 }] }],
+      }),
+    );
     const r = floorline(['simulate', p, '--out', join(dir, 'x.wav'), '--duration', '1']);
     expect(r.status).toBe(2);
     expect(r.stderr).toContain('channels[0].signals[0].frequency');

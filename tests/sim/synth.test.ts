@@ -38,7 +38,7 @@ describe('dsp/synth generators, measured with scipy.signal.welch', () => {
     const D = 10e-9;
     const x = render(new WhiteNoise({ density: D, sampleRate: fs, seed: 1 }), 1 << 20);
     // scipy.signal.welch(scaling='density') is one-sided: white noise of variance σ² reads 2σ²/fs = D².
-    const [mean] = welch(x, fs, "nperseg=4096", 'np.mean(p[10:-10]),');
+    const [mean] = welch(x, fs, 'nperseg=4096', 'np.mean(p[10:-10]),');
     expect(Math.abs(dB(mean / (D * D)))).toBeLessThan(0.05);
   });
 
@@ -50,7 +50,12 @@ describe('dsp/synth generators, measured with scipy.signal.welch', () => {
     const freqs = [1, 3, 10, 30, 100, 300, 500];
     // Mean of psd·f over ±25 % around each frequency (flat for 1/f noise, so the band average is unbiased), from
     // scipy.signal.welch (Hann, 50 % overlap, 2^15 segments: 255 averages, ≥ 2 bins, ≈ 0.2 dB standard error at 1 Hz).
-    const got = welch(x, fs, 'nperseg=32768', `[np.mean((p*f)[(f > 0.75*g) & (f < 1.25*g)]) / g for g in ${JSON.stringify(freqs)}]`);
+    const got = welch(
+      x,
+      fs,
+      'nperseg=32768',
+      `[np.mean((p*f)[(f > 0.75*g) & (f < 1.25*g)]) / g for g in ${JSON.stringify(freqs)}]`,
+    );
     freqs.forEach((f, i) => {
       // Target density of 1/f noise with corner fc: D²·fc/f (our definition, PROTOCOL of the scenario file).
       expect(Math.abs(dB(got[i] / ((D * D * fc) / f)))).toBeLessThan(0.5);
@@ -69,7 +74,12 @@ describe('dsp/synth generators, measured with scipy.signal.welch', () => {
     const fs = 5000;
     const harmonics = [2e-6, 0.5e-6, 1e-6];
     const x = render(new MainsPickup({ fundamental: 50, harmonics, sampleRate: fs }), 1 << 18);
-    const lines = welch(x, fs, "window='flattop', nperseg=16384, scaling='spectrum'", '[np.max(p[(f > 48*k) & (f < 52*k)]) for k in (1, 2, 3)]');
+    const lines = welch(
+      x,
+      fs,
+      "window='flattop', nperseg=16384, scaling='spectrum'",
+      '[np.max(p[(f > 48*k) & (f < 52*k)]) for k in (1, 2, 3)]',
+    );
     // Flat-top scalloping loss is below 0.02 dB (Heinzel, Rüdiger & Schilling 2002, Table): 0.5 % on amplitude is ample.
     harmonics.forEach((h, k) => expect(Math.sqrt(lines[k]) / h).toBeCloseTo(1, 2));
 
@@ -99,7 +109,12 @@ print(json.dumps([float((len(frac) - 1) / ((frac[-1] - frac[0]) / ${fs}))]))`,
     expect(x.subarray(0, fs).every((v) => v === 0)).toBe(true);
     expect(x.subarray(31 * fs).every((v) => v === 0)).toBe(true);
     // Band RMS = sqrt(Σ psd·binHz) over 200 ≤ f ≤ 1200 (the band rule of docs/ARCHITECTURE.md), psd from scipy.signal.welch.
-    const [rms] = welch(x.subarray(fs, 31 * fs), fs, 'nperseg=4096', 'np.sqrt(np.sum(p[(f >= 200) & (f <= 1200)]) * (f[1] - f[0])),');
+    const [rms] = welch(
+      x.subarray(fs, 31 * fs),
+      fs,
+      'nperseg=4096',
+      'np.sqrt(np.sum(p[(f >= 200) & (f <= 1200)]) * (f[1] - f[0])),',
+    );
     expect(rms / (D * Math.sqrt(1000))).toBeGreaterThan(0.97);
     expect(rms / (D * Math.sqrt(1000))).toBeLessThan(1.03);
   });

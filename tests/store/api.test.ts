@@ -20,13 +20,35 @@ beforeAll(async () => {
   await py.run(
     `rng = np.random.default_rng(11)
 wavfile.write(args[0], args[1], (1e-3 * rng.standard_normal((30 * args[1], 2))).astype(np.float32))`,
-    wav, RATE,
+    wav,
+    RATE,
   );
   py.close();
   store = join(dir, 'api.sqlite');
-  agent = spawn(process.execPath, [bin, 'replay', wav, '--speed', '10', '--loop', '--store', store, '--http-port', '0', '--token', TOKEN, '--data', join(dir, 'data'), '--segment', '512'], {
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
+  agent = spawn(
+    process.execPath,
+    [
+      bin,
+      'replay',
+      wav,
+      '--speed',
+      '10',
+      '--loop',
+      '--store',
+      store,
+      '--http-port',
+      '0',
+      '--token',
+      TOKEN,
+      '--data',
+      join(dir, 'data'),
+      '--segment',
+      '512',
+    ],
+    {
+      stdio: ['ignore', 'pipe', 'pipe'],
+    },
+  );
   base = await new Promise<string>((resolve, reject) => {
     let out = '';
     const timer = setTimeout(() => reject(new Error(`no dashboard URL: ${out}`)), 20_000);
@@ -41,8 +63,13 @@ wavfile.write(args[0], args[1], (1e-3 * rng.standard_normal((30 * args[1], 2))).
   });
   // Wait until at least 25 one-second rows of ch0 are committed (about 3 s at 10×, longer on a loaded machine).
   for (let i = 0; i < 120; i++) {
-    const r = spawnSync(process.execPath, [bin, 'trend', '--store', store, '--channel', 'ch0', '--every', '1s', '--json'], { encoding: 'utf8' });
-    if (r.status === 0 && (JSON.parse(r.stdout) as { series: { rows: unknown[] }[] }).series[0]?.rows.length >= 25) break;
+    const r = spawnSync(
+      process.execPath,
+      [bin, 'trend', '--store', store, '--channel', 'ch0', '--every', '1s', '--json'],
+      { encoding: 'utf8' },
+    );
+    if (r.status === 0 && (JSON.parse(r.stdout) as { series: { rows: unknown[] }[] }).series[0]?.rows.length >= 25)
+      break;
     await new Promise((res) => setTimeout(res, 500));
   }
 }, 120_000);
@@ -52,20 +79,28 @@ afterAll(async () => {
   await new Promise((r) => (agent.exitCode !== null ? r(null) : agent.once('exit', r)));
 });
 
-const get = (path: string, headers: Record<string, string> = { authorization: `Bearer ${TOKEN}` }) => fetch(base + path, { headers });
+const get = (path: string, headers: Record<string, string> = { authorization: `Bearer ${TOKEN}` }) =>
+  fetch(base + path, { headers });
 
 describe('/api/trend and /api/incidents', () => {
   it('refuses requests without the token or from another origin, and anything but GET', async () => {
     expect((await get('/api/trend', {})).status).toBe(401);
     expect((await get('/api/incidents', {})).status).toBe(401);
-    expect((await get('/api/trend', { authorization: `Bearer ${TOKEN}`, origin: 'http://evil.example' })).status).toBe(403);
-    expect((await fetch(base + '/api/trend', { method: 'POST', headers: { authorization: `Bearer ${TOKEN}` } })).status).toBe(405);
+    expect((await get('/api/trend', { authorization: `Bearer ${TOKEN}`, origin: 'http://evil.example' })).status).toBe(
+      403,
+    );
+    expect(
+      (await fetch(base + '/api/trend', { method: 'POST', headers: { authorization: `Bearer ${TOKEN}` } })).status,
+    ).toBe(405);
   });
 
   it('answers the same JSON as floorline trend, downsampled to at most `points` rows per series', async () => {
     const r = await get('/api/trend?channel=ch0&every=1s&points=5');
     expect(r.status).toBe(200);
-    const body = (await r.json()) as { every: string; series: { channel: string; quantity: string; rows: { mean: number | null; gap: boolean }[] }[] };
+    const body = (await r.json()) as {
+      every: string;
+      series: { channel: string; quantity: string; rows: { mean: number | null; gap: boolean }[] }[];
+    };
     expect(body.every).toBe('1s');
     expect(body.series.length).toBeGreaterThan(1);
     for (const s of body.series) {
@@ -78,9 +113,14 @@ describe('/api/trend and /api/incidents', () => {
     expect(rows).toBeGreaterThan(20);
     // The merged rows' RMS lies between the finest rows' extremes (a mean of powers).
     const means = full.series[0].rows.filter((x) => !x.gap).map((x) => x.mean!);
-    for (const x of body.series[0].rows) if (!x.gap) expect(x.mean!).toBeGreaterThanOrEqual(Math.min(...means) * (1 - 1e-12));
+    for (const x of body.series[0].rows)
+      if (!x.gap) expect(x.mean!).toBeGreaterThanOrEqual(Math.min(...means) * (1 - 1e-12));
     // What the CLI prints for the store (the agent is still writing, so compare the first rows only).
-    const cli = spawnSync(process.execPath, [bin, 'trend', '--store', store, '--channel', 'ch0', '--every', '1s', '--json'], { encoding: 'utf8' });
+    const cli = spawnSync(
+      process.execPath,
+      [bin, 'trend', '--store', store, '--channel', 'ch0', '--every', '1s', '--json'],
+      { encoding: 'utf8' },
+    );
     expect(cli.status, cli.stderr).toBe(0);
     const cliRows = (JSON.parse(cli.stdout) as typeof body).series[0].rows.slice(0, 10);
     expect(full.series[0].rows.slice(0, 10)).toEqual(cliRows);

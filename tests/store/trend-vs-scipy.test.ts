@@ -14,11 +14,29 @@ let wav: string;
 let store: string;
 
 function floorline(...args: string[]) {
-  return spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], { encoding: 'utf8', cwd: dir, timeout: 120_000 });
+  return spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], {
+    encoding: 'utf8',
+    cwd: dir,
+    timeout: 120_000,
+  });
 }
 
-interface Row { t: number; sample: number; wallTime: string; min: number | null; mean: number | null; max: number | null; gap: boolean }
-interface Series { channel: string; quantity: string; band: [number, number] | null; unit: string; rows: Row[] }
+interface Row {
+  t: number;
+  sample: number;
+  wallTime: string;
+  min: number | null;
+  mean: number | null;
+  max: number | null;
+  gap: boolean;
+}
+interface Series {
+  channel: string;
+  quantity: string;
+  band: [number, number] | null;
+  unit: string;
+  rows: Row[];
+}
 
 beforeAll(async () => {
   dir = tempDir('store-trend');
@@ -33,10 +51,28 @@ t = np.arange(n) / fs
 a = 1e-3 * rng.standard_normal(n) + np.where(t >= 70, 4e-3, 1e-3) * np.sin(2 * np.pi * 300 * t)
 b = 5e-4 * rng.standard_normal(n)
 wavfile.write(args[2], fs, np.stack([a, b], axis=1).astype(np.float32))`,
-    SECONDS * RATE, RATE, wav,
+    SECONDS * RATE,
+    RATE,
+    wav,
   );
-  const r = floorline('replay', wav, '--speed', 'max', '--no-server', '--quiet', '--segment', String(SEGMENT), '--band', '100:400', '--band', '20:1900',
-    '--data', join(dir, 'data'), '--store', store);
+  const r = floorline(
+    'replay',
+    wav,
+    '--speed',
+    'max',
+    '--no-server',
+    '--quiet',
+    '--segment',
+    String(SEGMENT),
+    '--band',
+    '100:400',
+    '--band',
+    '20:1900',
+    '--data',
+    join(dir, 'data'),
+    '--store',
+    store,
+  );
   expect(r.status, r.stderr).toBe(0);
 }, 120_000);
 
@@ -75,7 +111,14 @@ describe('history store trend rows', () => {
     expect(out.every).toBe('1m');
     const bands = out.series.filter((s) => s.quantity === 'bandRms');
     expect(bands.map((s) => s.channel)).toEqual(['ch0', 'ch1']);
-    const ref = await py.run<{ k: number; n: number; mean: number; min: number; max: number }[][]>(REFERENCE, wav, SEGMENT, 60 * RATE, 100, 400);
+    const ref = await py.run<{ k: number; n: number; mean: number; min: number; max: number }[][]>(
+      REFERENCE,
+      wav,
+      SEGMENT,
+      60 * RATE,
+      100,
+      400,
+    );
     bands.forEach((s, ch) => {
       expect(s.band).toEqual([100, 400]);
       expect(s.unit).toBe('FS'); // an unlabelled float WAV is in full-scale units
@@ -86,7 +129,8 @@ describe('history store trend rows', () => {
         const want = ref[ch][i];
         expect(row.sample).toBe(want.k * 60 * RATE);
         expect(row.t).toBe(want.k * 60);
-        for (const key of ['mean', 'min', 'max'] as const) expect(Math.abs(row[key]! / want[key] - 1)).toBeLessThan(1e-9);
+        for (const key of ['mean', 'min', 'max'] as const)
+          expect(Math.abs(row[key]! / want[key] - 1)).toBeLessThan(1e-9);
       });
     });
     // The step at 70 s: the second minute's mean on ch0 is well above the first (scripted ×4 line amplitude).
@@ -97,7 +141,14 @@ describe('history store trend rows', () => {
     const r = floorline('trend', '--store', store, '--channel', 'ch1', '--band', '20:1900', '--every', '1s', '--json');
     expect(r.status, r.stderr).toBe(0);
     const rows = (JSON.parse(r.stdout) as { series: Series[] }).series.find((s) => s.quantity === 'bandRms')!.rows;
-    const ref = await py.run<{ k: number; n: number; mean: number; min: number; max: number }[][]>(REFERENCE, wav, SEGMENT, RATE, 20, 1900);
+    const ref = await py.run<{ k: number; n: number; mean: number; min: number; max: number }[][]>(
+      REFERENCE,
+      wav,
+      SEGMENT,
+      RATE,
+      20,
+      1900,
+    );
     const byK = new Map(ref[1].map((x) => [x.k, x]));
     expect(rows.length).toBe(ref[1].length);
     for (const row of rows) {
@@ -121,7 +172,9 @@ result = [r[0] for r in db.execute('select n from trend_1m where series=? order 
     const r = floorline('trend', '--store', store, '--band', '100:400', '--every', '1m', '--csv');
     expect(r.status, r.stderr).toBe(0);
     const header = r.stdout.split('\n')[0];
-    expect(header).toBe('channel,band_low_Hz,band_high_Hz,t_s,sample,wall_time,rms_min_FS,rms_mean_FS,rms_max_FS,floor_density_FS_per_rtHz,gap');
+    expect(header).toBe(
+      'channel,band_low_Hz,band_high_Hz,t_s,sample,wall_time,rms_min_FS,rms_mean_FS,rms_max_FS,floor_density_FS_per_rtHz,gap',
+    );
     const parsed = await py.run<{ names: string[]; mean: number[]; csvRows: number }>(
       `import io, csv
 a = np.genfromtxt(io.StringIO(args[0]), delimiter=',', names=True, dtype=None, encoding='utf-8')
@@ -132,7 +185,9 @@ result = {"names": list(a.dtype.names), "mean": [float(v) for v in a['rms_mean_F
     expect(parsed.names).toContain('rms_mean_FS');
     expect(parsed.names).toContain('floor_density_FS_per_rtHz');
     expect(parsed.csvRows).toBe(6); // 2 channels × 3 minutes
-    const json = JSON.parse(floorline('trend', '--store', store, '--band', '100:400', '--every', '1m', '--json').stdout) as { series: Series[] };
+    const json = JSON.parse(
+      floorline('trend', '--store', store, '--band', '100:400', '--every', '1m', '--json').stdout,
+    ) as { series: Series[] };
     const means = json.series.filter((s) => s.quantity === 'bandRms').flatMap((s) => s.rows.map((x) => x.mean));
     expect(parsed.mean).toEqual(means);
   });

@@ -9,7 +9,8 @@ const root = fileURLToPath(new URL('../..', import.meta.url));
 // Oldest versions whose conventions the reference checks rely on (numpy 2 scalar/array API; scipy.signal.welch
 // and scipy.stats as of 1.14).
 const NEED = { numpy: [2, 0], scipy: [1, 14] } as const;
-const FIX = 'Install them with `bash scripts/ensure-system-packages.sh` (Debian: apt-get install python3-numpy python3-scipy) or pip.';
+const FIX =
+  'Install them with `bash scripts/ensure-system-packages.sh` (Debian: apt-get install python3-numpy python3-scipy) or pip.';
 
 function atLeast(version: string, need: readonly [number, number]): boolean {
   const [major, minor] = version.split('.').map((p) => Number.parseInt(p, 10));
@@ -17,10 +18,14 @@ function atLeast(version: string, need: readonly [number, number]): boolean {
 }
 
 export function checkPythonReferences(): void {
-  const r = spawnSync('python3', ['-c', 'import numpy, scipy; print(numpy.__version__, scipy.__version__)'], { encoding: 'utf8' });
+  const r = spawnSync('python3', ['-c', 'import numpy, scipy; print(numpy.__version__, scipy.__version__)'], {
+    encoding: 'utf8',
+  });
   if (r.status !== 0) {
     const why = r.error ? r.error.message : r.stderr.trim().split('\n').pop();
-    throw new Error(`floorline tests: python3 with numpy ≥ 2 and scipy ≥ 1.14 is needed for the reference checks (${why}). ${FIX}`);
+    throw new Error(
+      `floorline tests: python3 with numpy ≥ 2 and scipy ≥ 1.14 is needed for the reference checks (${why}). ${FIX}`,
+    );
   }
   const [numpy, scipy] = r.stdout.trim().split(/\s+/);
   const old = [

@@ -22,7 +22,9 @@ export default class SummaryLineReporter implements Reporter {
     failed += unhandledErrors.length;
     process.stdout.write(`\ntests: ${passed} passed, ${failed} failed, ${skipped.length} skipped\n`);
     if (skipped.length > 0 && process.env.CI === 'true') {
-      process.stdout.write(`CI=true: a skipped test is a failure. Skipped:\n${skipped.map((s) => `  ${s}\n`).join('')}`);
+      process.stdout.write(
+        `CI=true: a skipped test is a failure. Skipped:\n${skipped.map((s) => `  ${s}\n`).join('')}`,
+      );
       process.exitCode = 1;
     }
   }

@@ -30,7 +30,14 @@ describe('WavReader memory', () => {
     ftruncateSync(fd, 44 + dataBytes);
     closeSync(fd);
     const child = join(dir, 'child.mjs');
-    await build({ entryPoints: [join(root, 'tests/wav/read-all-child.ts')], outfile: child, bundle: true, platform: 'node', format: 'esm', logLevel: 'error' });
+    await build({
+      entryPoints: [join(root, 'tests/wav/read-all-child.ts')],
+      outfile: child,
+      bundle: true,
+      platform: 'node',
+      format: 'esm',
+      logLevel: 'error',
+    });
     const out = JSON.parse(execFileSync(process.execPath, [child, path], { encoding: 'utf8' }));
     expect(out.frames).toBe(frames);
     expect(out.sum).toBe(0);

@@ -26,7 +26,13 @@ beforeAll(() => {
 
 // Integer full scale: int16 -32768 ↔ -1 FS (common practice, as libsndfile/soundfile normalise). scipy.io.wavfile
 // returns 24-bit PCM left-justified in int32 (its docs: "24-bit … int32"), so int24 compares at 2^31.
-const FULL_SCALE: Record<string, number> = { int16: 32768, int24: 2147483648, int32: 2147483648, float32: 1, float64: 1 };
+const FULL_SCALE: Record<string, number> = {
+  int16: 32768,
+  int24: 2147483648,
+  int32: 2147483648,
+  float32: 1,
+  float64: 1,
+};
 
 describe('WavReader', () => {
   it('reads every encoding and layout to the same samples as scipy.io.wavfile.read', async () => {

@@ -17,7 +17,11 @@ describe('floorline repair', () => {
     const dir = tempDir('repair-cli');
     const path = join(dir, 'rec.wav');
     const data = [new SeededRandom(5).fillGaussian(new Float64Array(5000), 1e-6)];
-    const w = new WavWriter(path, { sampleRate: 1000, channels: [{ name: 'ch0', unit: 'V' }], firstSample: 0 }, { bufferFrames: 1000, durable: false });
+    const w = new WavWriter(
+      path,
+      { sampleRate: 1000, channels: [{ name: 'ch0', unit: 'V' }], firstSample: 0 },
+      { bufferFrames: 1000, durable: false },
+    );
     w.append(data, 2000);
     w.flush();
     w.append(data, 3000, 2000); // three more full buffers reach the disk, the header still says 2000
@@ -47,7 +51,11 @@ describe('floorline repair', () => {
     // so a chunk walk takes them for a chunk id (RIFF ids are four printable characters, from memory of the spec).
     const printable = new Float32Array(new Uint32Array([0x3a2f2b20]).buffer)[0];
     const data = [new Float64Array(6000).fill(printable)];
-    const w = new WavWriter(path, { sampleRate: 1000, channels: [{ name: 'ch0', unit: 'V' }], firstSample: 0 }, { bufferFrames: 1000, durable: false });
+    const w = new WavWriter(
+      path,
+      { sampleRate: 1000, channels: [{ name: 'ch0', unit: 'V' }], firstSample: 0 },
+      { bufferFrames: 1000, durable: false },
+    );
     w.append(data, 2000); // the declared size ends at a frame boundary…
     w.flush();
     w.append(data, 4000, 2000); // …and the bytes after it are these samples, flushed with the header not yet patched
@@ -59,7 +67,10 @@ describe('floorline repair', () => {
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/repaired: 6000 frames/);
     // Reference: scipy.io.wavfile.read sees all 6000 samples, each the printable-looking value.
-    const got = await py.run<[number, number]>('r, d = wavfile.read(args[0]); result = [int(d.shape[0]), float(d[-1])]', crashed);
+    const got = await py.run<[number, number]>(
+      'r, d = wavfile.read(args[0]); result = [int(d.shape[0]), float(d[-1])]',
+      crashed,
+    );
     expect(got[0]).toBe(6000);
     expect(got[1]).toBe(printable);
   });

@@ -20,7 +20,18 @@ afterAll(() => {
 describe('repairWav past 4 GiB', () => {
   it('turns a crashed recording of more than 4 GiB into RF64 that scipy.io.wavfile reads', async () => {
     const path = join(dir, 'long.wav');
-    const w = new WavWriter(path, { sampleRate: 100000, channels: [{ name: 'ch0', unit: 'V' }, { name: 'ch1', unit: 'V' }], firstSample: 0 }, { durable: false });
+    const w = new WavWriter(
+      path,
+      {
+        sampleRate: 100000,
+        channels: [
+          { name: 'ch0', unit: 'V' },
+          { name: 'ch1', unit: 'V' },
+        ],
+        firstSample: 0,
+      },
+      { durable: false },
+    );
     w.append([Float64Array.of(0.25, -0.5), Float64Array.of(1, 2)], 2);
     w.close();
     // Simulate a recorder killed after 4.5 GiB of samples: the tail is a sparse hole (zeros), the header says 2 frames.

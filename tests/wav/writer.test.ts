@@ -47,7 +47,9 @@ beforeAll(() => {
 afterAll(() => py.close());
 
 /** scipy.io.wavfile.read(path): rate, dtype, shape and the samples as float32. */
-async function scipyRead(path: string): Promise<{ rate: number; dtype: string; frames: number; channels: number; samples: Float32Array }> {
+async function scipyRead(
+  path: string,
+): Promise<{ rate: number; dtype: string; frames: number; channels: number; samples: Float32Array }> {
   const j = await py.run<{ rate: number; dtype: string; frames: number; channels: number; hex: string }>(
     `r, d = wavfile.read(args[0]); d = d.reshape(d.shape[0], -1)
 result = {"rate": int(r), "dtype": str(d.dtype), "frames": d.shape[0], "channels": d.shape[1], "hex": d.astype("<f4").tobytes().hex()}`,
@@ -59,7 +61,8 @@ result = {"rate": int(r), "dtype": str(d.dtype), "frames": d.shape[0], "channels
 function countMismatches(samples: Float32Array, data: Float64Array[], frames: number): number {
   let bad = 0;
   const ch = data.length;
-  for (let i = 0; i < frames; i++) for (let c = 0; c < ch; c++) if (samples[i * ch + c] !== Math.fround(data[c][i])) bad++;
+  for (let i = 0; i < frames; i++)
+    for (let c = 0; c < ch; c++) if (samples[i * ch + c] !== Math.fround(data[c][i])) bad++;
   return bad;
 }
 
@@ -75,7 +78,10 @@ describe('WavWriter', () => {
     expect(got).toMatchObject({ rate: 20000, dtype: 'float32', frames: 12345, channels: 3 });
     expect(countMismatches(got.samples, data, 12345)).toBe(0);
     // Reference: python's json module parses the sidecar.
-    const side = await py.run<Record<string, unknown> & { channels: { name: string }[] }>('result = json.load(open(args[0]))', `${path}.json`);
+    const side = await py.run<Record<string, unknown> & { channels: { name: string }[] }>(
+      'result = json.load(open(args[0]))',
+      `${path}.json`,
+    );
     expect(side).toMatchObject({ schema: 'floorline.recording/1', sampleRate: 20000, firstSample: 4_000_000 });
     expect(side.channels.map((c: { name: string }) => c.name)).toEqual(['lna-out', 'adc-ref', 'shield']);
   });
@@ -121,7 +127,9 @@ describe('WavWriter', () => {
     appendFileSync(crashed, Buffer.from([1, 2, 3, 4, 5])); // and half a frame of a torn last write
     const before = await readWavFile(crashed);
     expect(before.info.frames).toBe(5000); // the patched header is believed until repaired
-    expect(before.info.warnings.join(' ')).toMatch(/samples written after the last header update.*`floorline repair FILE` recovers them/);
+    expect(before.info.warnings.join(' ')).toMatch(
+      /samples written after the last header update.*`floorline repair FILE` recovers them/,
+    );
     const written = 5000 + Math.floor(15000 / 512) * 512; // flushed, then only full 512-frame buffers reach the disk
     const result = await repairWav(crashed);
     expect(result).toMatchObject({ frames: written, declaredBefore: 5000 * 12, droppedBytes: 5, changed: true });
@@ -170,11 +178,17 @@ describe('WavWriter', () => {
 
   it('names the file and the fix when the disk is full or the folder is missing', () => {
     // /dev/full answers every write with ENOSPC (Linux null-device family, common practice for this test).
-    expect(() => new WavWriter('/dev/full', meta)).toThrow(/cannot write \/dev\/full: the disk is full; free some space/);
-    expect(() => new WavWriter(join(dir, 'no/such/dir/x.wav'), meta)).toThrow(/no such file or folder; check the path and create the folder/);
+    expect(() => new WavWriter('/dev/full', meta)).toThrow(
+      /cannot write \/dev\/full: the disk is full; free some space/,
+    );
+    expect(() => new WavWriter(join(dir, 'no/such/dir/x.wav'), meta)).toThrow(
+      /no such file or folder; check the path and create the folder/,
+    );
     // EACCES cannot be provoked as root; the mapping from POSIX errno names is checked directly.
     const e = Object.assign(new Error('denied'), { code: 'EACCES' });
-    expect(wavIoError(e, '/srv/x.wav', 'create').message).toMatch(/\/srv\/x\.wav: no permission; choose a folder you can write/);
+    expect(wavIoError(e, '/srv/x.wav', 'create').message).toMatch(
+      /\/srv\/x\.wav: no permission; choose a folder you can write/,
+    );
   });
 
   it('takes Float32Array channels (a capture ring) as well, stored bit for bit', async () => {

@@ -16,7 +16,14 @@ afterAll(() => py.close());
 const CH = 3;
 const BLOCK = 5000;
 const BLOCKS = 40;
-const plan: ChannelEstimatorPlan = { sampleRate: 1000, segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean', firstSample: 0 };
+const plan: ChannelEstimatorPlan = {
+  sampleRate: 1000,
+  segment: 1024,
+  window: 'hann',
+  overlap: 0.5,
+  detrend: 'mean',
+  firstSample: 0,
+};
 const rng = new SeededRandom(3);
 const signal = Array.from({ length: CH }, (_, c) => rng.fillGaussian(new Float64Array(BLOCK * BLOCKS), 1 + c));
 

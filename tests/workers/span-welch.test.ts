@@ -24,12 +24,21 @@ result = p.tolist()
 `;
 
 describe('SpanWelch', () => {
-  for (const [threads, segment, overlap, detrend] of [[2, 1024, 0.5, 'mean'], [3, 512, 0.75, 'linear'], [1, 2048, 0.5, 'mean']] as const) {
+  for (const [threads, segment, overlap, detrend] of [
+    [2, 1024, 0.5, 'mean'],
+    [3, 512, 0.75, 'linear'],
+    [1, 2048, 0.5, 'mean'],
+  ] as const) {
     it(`equals scipy.signal.welch within 1e-9 on ${threads} thread(s), segment ${segment}, overlap ${overlap}, ${detrend} detrend`, async () => {
       const span = new SpanWelch(threads);
       try {
         const r = await span.psd(x, { sampleRate: 1000, segment, window: 'hann', overlap, detrend });
-        const ref = await py.run<number[]>(REFERENCE, Array.from(x), { fs: 1000, segment, overlap, detrend: detrend === 'mean' ? 'constant' : 'linear' });
+        const ref = await py.run<number[]>(REFERENCE, Array.from(x), {
+          fs: 1000,
+          segment,
+          overlap,
+          detrend: detrend === 'mean' ? 'constant' : 'linear',
+        });
         expect(r.psd.length).toBe(ref.length);
         expect(r.segments).toBe(Math.floor((n - segment) / (segment - Math.floor(overlap * segment))) + 1);
         let worst = 0;
@@ -44,7 +53,15 @@ describe('SpanWelch', () => {
   it('refuses samples outside a SharedArrayBuffer, naming the fix', async () => {
     const span = new SpanWelch(1);
     try {
-      await expect(span.psd(new Float64Array(4096), { sampleRate: 1, segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' })).rejects.toThrow(/SharedArrayBuffer/);
+      await expect(
+        span.psd(new Float64Array(4096), {
+          sampleRate: 1,
+          segment: 1024,
+          window: 'hann',
+          overlap: 0.5,
+          detrend: 'mean',
+        }),
+      ).rejects.toThrow(/SharedArrayBuffer/);
     } finally {
       await span.close();
     }

@@ -18,10 +18,15 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
   const [file] = args.positionals;
   const f = args.flags;
   const out = f.out as string | undefined;
-  if (!out) throw new UsageError('floorline baseline: missing -o FILE (where to write the baseline), e.g. -o floorline-data/baselines/rig.json.');
+  if (!out)
+    throw new UsageError(
+      'floorline baseline: missing -o FILE (where to write the baseline), e.g. -o floorline-data/baselines/rig.json.',
+    );
   const segment = f.segment as number;
   if ((segment & (segment - 1)) !== 0) {
-    throw new UsageError(`floorline baseline: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`);
+    throw new UsageError(
+      `floorline baseline: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`,
+    );
   }
   let window: string;
   try {
@@ -46,17 +51,26 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
     const info = reader.info;
     for (const w of info.warnings) process.stderr.write(`floorline baseline: warning: ${w}\n`);
     const settings: AnalysisSettings = {
-      sampleRate: info.sampleRate, segment, window, overlap: f.overlap as number, detrend: f.detrend as DetrendMode,
+      sampleRate: info.sampleRate,
+      segment,
+      window,
+      overlap: f.overlap as number,
+      detrend: f.detrend as DetrendMode,
     };
     const skip = Math.round(((f['start-time'] as number | undefined) ?? 0) * info.sampleRate);
     const available = info.frames - skip;
     const wanted = f.seconds !== undefined ? Math.round((f.seconds as number) * info.sampleRate) : available;
     if (wanted > available) {
-      throw new InputError(`floorline baseline: ${file} holds ${(available / info.sampleRate).toFixed(2)} s after the start; ask for at most that with --seconds.`);
+      throw new InputError(
+        `floorline baseline: ${file} holds ${(available / info.sampleRate).toFixed(2)} s after the start; ask for at most that with --seconds.`,
+      );
     }
     const lobe = windowMainLobeHalfWidth(window);
     for (const b of bandsGiven) {
-      if (b.high > info.sampleRate / 2) throw new UsageError(`floorline baseline: --band ${b.low}:${b.high} reaches past Nyquist (${info.sampleRate / 2} Hz); lower HI.`);
+      if (b.high > info.sampleRate / 2)
+        throw new UsageError(
+          `floorline baseline: --band ${b.low}:${b.high} reaches past Nyquist (${info.sampleRate / 2} Hz); lower HI.`,
+        );
     }
     let capture: BaselineCapture;
     try {
@@ -80,10 +94,18 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
       excluded += forEachFiniteRun(block.data, 0, block.frames, (from, to, finite) => {
         if (complete) return;
         if (!finite) capture.gap(block.firstSample + to);
-        else complete = capture.push({ firstSample: block.firstSample + from, frames: to - from, data: from === 0 ? block.data : block.data.map((d) => d.subarray(from)) });
+        else
+          complete = capture.push({
+            firstSample: block.firstSample + from,
+            frames: to - from,
+            data: from === 0 ? block.data : block.data.map((d) => d.subarray(from)),
+          });
       });
     }
-    if (excluded > 0) process.stderr.write(`floorline baseline: warning: ${excluded} frames hold NaN, ±Inf or values beyond float32; they are excluded like a gap\n`);
+    if (excluded > 0)
+      process.stderr.write(
+        `floorline baseline: warning: ${excluded} frames hold NaN, ±Inf or values beyond float32; they are excluded like a gap\n`,
+      );
     let baseline;
     try {
       baseline = capture.result(new Date().toISOString());
@@ -93,7 +115,9 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
     try {
       await writeBaseline(out, baseline);
     } catch (err) {
-      throw new InputError(`floorline baseline: cannot write ${out} (${(err as Error).message}); choose a writable path.`);
+      throw new InputError(
+        `floorline baseline: cannot write ${out} (${(err as Error).message}); choose a writable path.`,
+      );
     }
     const c0 = baseline.channels[0];
     process.stdout.write(
@@ -109,7 +133,7 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
 
 export const baselineCommand: CommandSpec = {
   name: 'baseline',
-  summary: "capture a noise-floor baseline from a recording, for the alarms to compare against",
+  summary: 'capture a noise-floor baseline from a recording, for the alarms to compare against',
   details: [
     'Stores the analysis settings and their hash, per channel the mean-averaged density with its equivalent number of',
     'averages (Welch 1967) and the band RMS values, the capture span in sample time, notes, and a settling check:',
@@ -121,10 +145,21 @@ export const baselineCommand: CommandSpec = {
   positionals: [{ name: 'FILE', help: 'WAV recording of the quiet rig', required: true }],
   flags: [
     { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'where to write the baseline JSON (required)' },
-    { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz to store (default: decade bands and the whole usable band)' },
+    {
+      name: 'band',
+      kind: 'list',
+      value: 'LO:HI',
+      help: 'band in Hz to store (default: decade bands and the whole usable band)',
+    },
     { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'skip this many seconds of the recording first' },
     { name: 'seconds', kind: 'number', value: 'S', min: 0, help: 'length of the span (default: the rest of the file)' },
-    { name: 'scale', kind: 'number', value: 'V', min: Number.MIN_VALUE, help: 'volts per full scale for integer PCM or unlabelled float files' },
+    {
+      name: 'scale',
+      kind: 'number',
+      value: 'V',
+      min: Number.MIN_VALUE,
+      help: 'volts per full scale for integer PCM or unlabelled float files',
+    },
     { name: 'notes', kind: 'string', value: 'TEXT', help: 'free text stored with the baseline' },
     ...PIPELINE_FLAGS.filter((fl) => ANALYSIS_FLAG_NAMES.includes(fl.name)),
   ],

@@ -6,8 +6,14 @@ import { effectiveSettings } from '../../config/apply-config.ts';
 
 async function runConfig(args: ParsedArgs): Promise<number> {
   const [action, file] = args.positionals;
-  if (action !== 'check') throw new UsageError(`floorline config: unknown action '${action}'; the action is check, e.g. floorline config check rig.json.`);
-  if (!file) throw new UsageError('floorline config check: missing FILE (the rig config JSON to check), e.g. floorline config check rig.json.');
+  if (action !== 'check')
+    throw new UsageError(
+      `floorline config: unknown action '${action}'; the action is check, e.g. floorline config check rig.json.`,
+    );
+  if (!file)
+    throw new UsageError(
+      'floorline config check: missing FILE (the rig config JSON to check), e.g. floorline config check rig.json.',
+    );
   const loaded = loadRigConfig(file);
   process.stdout.write(JSON.stringify(effectiveSettings(loaded), null, 2) + '\n');
   return 0;

@@ -17,7 +17,8 @@ export function consolePart(o: ConsoleOptions) {
     const p = m.pipeline;
     const wall0 = performance.now();
     if (m.history && !o.quiet) process.stdout.write(`history    ${m.history.path}\n`);
-    const timer = o.statusEvery > 0 ? setInterval(() => printStatusLine(p, m.recorder), o.statusEvery * 1000) : undefined;
+    const timer =
+      o.statusEvery > 0 ? setInterval(() => printStatusLine(p, m.recorder), o.statusEvery * 1000) : undefined;
     return {
       name: 'console',
       onInfo: (info) => {

@@ -25,7 +25,10 @@ export function printStreamHeader(info: StreamInfo, p: Pipeline, frames?: number
     `source     ${info.source.kind} ${info.source.label}${info.boardId ? ` (board ${info.boardId})` : ''}`,
     `stream     ${info.sampleRate} S/s, ${info.channels.length} channel(s): ${info.channels.map((c) => `${c.name} [${c.unit}]`).join(', ')}`,
   ];
-  if (frames !== undefined) lines.push(`length     ${frames} samples (${(frames / info.sampleRate).toFixed(3)} s) from sample ${info.firstSample}`);
+  if (frames !== undefined)
+    lines.push(
+      `length     ${frames} samples (${(frames / info.sampleRate).toFixed(3)} s) from sample ${info.firstSample}`,
+    );
   if (s) {
     lines.push(
       `analysis   segment ${s.segment} (${(s.sampleRate / s.segment).toPrecision(4)} Hz bins), ${s.window}, overlap ${s.overlap}, detrend ${s.detrend}, ${averagingText(p)}`,
@@ -35,7 +38,11 @@ export function printStreamHeader(info: StreamInfo, p: Pipeline, frames?: number
 }
 
 export function describeEvent(e: FloorlineEvent): string {
-  const where = e.band ? ` ${e.band[0]}–${e.band[1]} Hz` : e.frequency !== undefined ? ` ${e.frequency.toFixed(2)} Hz` : '';
+  const where = e.band
+    ? ` ${e.band[0]}–${e.band[1]} Hz`
+    : e.frequency !== undefined
+      ? ` ${e.frequency.toFixed(2)} Hz`
+      : '';
   const level = e.levelDb !== undefined ? ` ${e.levelDb >= 0 ? '+' : ''}${e.levelDb.toFixed(1)} dB` : '';
   return `t=${e.t.toFixed(3)} s  sample ${e.sample}  ${e.kind} ${e.rule} ${e.state}  ${e.channel}${where}${level}  ${e.detail}`;
 }

@@ -26,17 +26,24 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   const rig = readConfigFlag(args, demoCommand.flags);
   const f = args.flags;
   const speed = parseSpeed(f.speed as string);
-  if (speed === undefined) throw new UsageError(`floorline demo: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 4.`);
+  if (speed === undefined)
+    throw new UsageError(
+      `floorline demo: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 4.`,
+    );
   const file = bundledRecording('demo.wav');
   const baselinePath = bundledRecording('demo-baseline.json');
-  if (!existsSync(file)) throw new InputError(`floorline demo: the demo recording ${file} is missing; reinstall, or make it with \`floorline simulate recordings/demo-scenario.json --out recordings/demo.wav\`.`);
+  if (!existsSync(file))
+    throw new InputError(
+      `floorline demo: the demo recording ${file} is missing; reinstall, or make it with \`floorline simulate recordings/demo-scenario.json --out recordings/demo.wav\`.`,
+    );
   let baseline = existsSync(baselinePath) ? await readBaseline(baselinePath) : undefined;
   const channels = rig?.config.channels;
   if (baseline && channels) {
     // The bundled baseline is in the recording's own units; follow the config's calibration, and say so.
     const r = rescaleBaselineForReplay(baseline, channels);
     baseline = r.baseline;
-    if (r.changed.length) process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
+    if (r.changed.length)
+      process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
   }
   const loop = !(f['no-loop'] as boolean);
   const source = new ReplaySource(file, { speed, loop });
@@ -63,7 +70,8 @@ async function runDemo(args: ParsedArgs): Promise<number> {
 export const demoCommand: CommandSpec = {
   name: 'demo',
   summary: 'replay the bundled demo rig in real time, looping, with the dashboard (what `npm start` runs)',
-  details: 'The recording and its scripted events (mains pickup, a switching spur, a band floor rise, a clip) are described in recordings/README.md.',
+  details:
+    'The recording and its scripted events (mains pickup, a switching spur, a band floor rise, a clip) are described in recordings/README.md.',
   positionals: [],
   flags: [
     CONFIG_FLAG,
@@ -71,7 +79,13 @@ export const demoCommand: CommandSpec = {
     { name: 'no-loop', kind: 'boolean', help: 'play the recording once' },
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard' },
     { name: 'quiet', kind: 'boolean', help: 'print only errors and the summary' },
-    { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
+    {
+      name: 'data',
+      kind: 'string',
+      value: 'DIR',
+      default: DEFAULT_DATA_FOLDER,
+      help: 'data folder (recordings/, baselines/, events.jsonl)',
+    },
     ...RECORDING_FLAGS,
     ...SERVER_FLAGS,
     ...HISTORY_FLAGS,

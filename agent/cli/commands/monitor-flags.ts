@@ -24,13 +24,63 @@ import type { ReplaySource } from '../../sources/replay.ts';
 import { historyFromArgs, withSource } from '../../store/cli-flags.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
-  { name: 'segment', kind: 'number', value: 'N', integer: true, min: MIN_SEGMENT, max: MAX_SEGMENT, default: DEFAULT_ANALYSIS.segment, help: 'Welch segment length in samples, a power of two' },
-  { name: 'window', kind: 'string', value: 'NAME', default: DEFAULT_ANALYSIS.window, help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA' },
-  { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: DEFAULT_ANALYSIS.overlap, help: 'segment overlap fraction' },
-  { name: 'detrend', kind: 'string', value: 'MODE', choices: ['none', 'mean', 'linear'], default: DEFAULT_ANALYSIS.detrend, help: 'detrend each segment' },
-  { name: 'average', kind: 'string', value: 'SPEC', default: averagingFlag(DEFAULT_AVERAGING), help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K' },
-  { name: 'snapshot-rate', kind: 'number', value: 'N', min: 0.01, max: 1000, default: DEFAULT_SNAPSHOT_RATE, help: 'spectrum snapshots per second of sample time' },
-  { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder (recordings/, baselines/, events.jsonl)' },
+  {
+    name: 'segment',
+    kind: 'number',
+    value: 'N',
+    integer: true,
+    min: MIN_SEGMENT,
+    max: MAX_SEGMENT,
+    default: DEFAULT_ANALYSIS.segment,
+    help: 'Welch segment length in samples, a power of two',
+  },
+  {
+    name: 'window',
+    kind: 'string',
+    value: 'NAME',
+    default: DEFAULT_ANALYSIS.window,
+    help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA',
+  },
+  {
+    name: 'overlap',
+    kind: 'number',
+    value: 'F',
+    min: 0,
+    max: 0.95,
+    default: DEFAULT_ANALYSIS.overlap,
+    help: 'segment overlap fraction',
+  },
+  {
+    name: 'detrend',
+    kind: 'string',
+    value: 'MODE',
+    choices: ['none', 'mean', 'linear'],
+    default: DEFAULT_ANALYSIS.detrend,
+    help: 'detrend each segment',
+  },
+  {
+    name: 'average',
+    kind: 'string',
+    value: 'SPEC',
+    default: averagingFlag(DEFAULT_AVERAGING),
+    help: 'averaging: mean | rolling:K | exp:TAU_SECONDS | max | median:K',
+  },
+  {
+    name: 'snapshot-rate',
+    kind: 'number',
+    value: 'N',
+    min: 0.01,
+    max: 1000,
+    default: DEFAULT_SNAPSHOT_RATE,
+    help: 'spectrum snapshots per second of sample time',
+  },
+  {
+    name: 'data',
+    kind: 'string',
+    value: 'DIR',
+    default: DEFAULT_DATA_FOLDER,
+    help: 'data folder (recordings/, baselines/, events.jsonl)',
+  },
 ];
 
 /** The --average spelling of an averaging (the inverse of parseAveraging). */
@@ -53,7 +103,9 @@ export function parseAveraging(raw: string, command: string): AveragingSpec {
   const count = (): number => {
     const k = Number(arg);
     if (arg === undefined || !Number.isInteger(k) || k < 1) {
-      throw new UsageError(`floorline ${command}: --average ${raw} needs a whole count of segments ≥ 1 after the colon; ${fix}.`);
+      throw new UsageError(
+        `floorline ${command}: --average ${raw} needs a whole count of segments ≥ 1 after the colon; ${fix}.`,
+      );
     }
     return k;
   };
@@ -70,7 +122,9 @@ export function parseAveraging(raw: string, command: string): AveragingSpec {
     case 'exp': {
       const tau = Number(arg);
       if (arg === undefined || !Number.isFinite(tau) || tau <= 0) {
-        throw new UsageError(`floorline ${command}: --average ${raw} needs a time constant in seconds > 0 after the colon; ${fix}.`);
+        throw new UsageError(
+          `floorline ${command}: --average ${raw} needs a time constant in seconds > 0 after the colon; ${fix}.`,
+        );
       }
       return { mode: 'exponential', tauSeconds: tau };
     }
@@ -90,7 +144,9 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
   const f = args.flags;
   const segment = f.segment as number;
   if ((segment & (segment - 1)) !== 0) {
-    throw new UsageError(`floorline ${command}: --segment ${segment} is not a power of two; give one from ${MIN_SEGMENT} to ${MAX_SEGMENT}, e.g. --segment 4096.`);
+    throw new UsageError(
+      `floorline ${command}: --segment ${segment} is not a power of two; give one from ${MIN_SEGMENT} to ${MAX_SEGMENT}, e.g. --segment 4096.`,
+    );
   }
   let window: string;
   try {
@@ -108,10 +164,40 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
 
 export const RECORDING_FLAGS: FlagSpec[] = [
   { name: 'record', kind: 'boolean', help: 'record continuously to the data folder (float32 WAV + sidecar)' },
-  { name: 'rotate', kind: 'number', value: 'S', min: 0, default: 3600, help: 'start a new recording file every S seconds of sample time (0 = one file, RF64 past 4 GiB)' },
-  { name: 'pre', kind: 'number', value: 'S', min: 0, max: 600, default: 10, help: 'seconds an event capture keeps before its trigger' },
-  { name: 'post', kind: 'number', value: 'S', min: 0, max: 600, default: 10, help: 'seconds an event capture runs after its trigger' },
-  { name: 'status-every', kind: 'number', value: 'S', min: 0, default: 10, help: 'print a status line every S seconds of wall time (0 = never)' },
+  {
+    name: 'rotate',
+    kind: 'number',
+    value: 'S',
+    min: 0,
+    default: 3600,
+    help: 'start a new recording file every S seconds of sample time (0 = one file, RF64 past 4 GiB)',
+  },
+  {
+    name: 'pre',
+    kind: 'number',
+    value: 'S',
+    min: 0,
+    max: 600,
+    default: 10,
+    help: 'seconds an event capture keeps before its trigger',
+  },
+  {
+    name: 'post',
+    kind: 'number',
+    value: 'S',
+    min: 0,
+    max: 600,
+    default: 10,
+    help: 'seconds an event capture runs after its trigger',
+  },
+  {
+    name: 'status-every',
+    kind: 'number',
+    value: 'S',
+    min: 0,
+    default: 10,
+    help: 'print a status line every S seconds of wall time (0 = never)',
+  },
 ];
 
 export function readRecordingFlags(args: ParsedArgs): {
@@ -128,11 +214,26 @@ export function readRecordingFlags(args: ParsedArgs): {
 }
 
 export const ALARM_FLAGS: FlagSpec[] = [
-  { name: 'baseline', kind: 'string', value: 'FILE', help: 'compare against this baseline (from `floorline baseline` or the dashboard)' },
-  { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for the band rules (default: decade bands and the whole usable band)' },
+  {
+    name: 'baseline',
+    kind: 'string',
+    value: 'FILE',
+    help: 'compare against this baseline (from `floorline baseline` or the dashboard)',
+  },
+  {
+    name: 'band',
+    kind: 'list',
+    value: 'LO:HI',
+    help: 'band in Hz for the band rules (default: decade bands and the whole usable band)',
+  },
   { name: 'rules', kind: 'string', value: 'FILE', help: 'alarm rules JSON (margins, timings, bands)' },
   { name: 'events-out', kind: 'string', value: 'FILE', help: 'also append every event to this JSON Lines file' },
-  { name: 'mask', kind: 'string', value: 'FILE', help: 'ASD limit mask (CSV frequency,limit[,unit]) for every channel: the live limit rule' },
+  {
+    name: 'mask',
+    kind: 'string',
+    value: 'FILE',
+    help: 'ASD limit mask (CSV frequency,limit[,unit]) for every channel: the live limit rule',
+  },
 ];
 
 export interface AlarmFlagValues {
@@ -145,7 +246,10 @@ export interface AlarmFlagValues {
 }
 
 /** --mask FILE (every channel) and the config's masks (by channel); Nyquist is checked when the stream is known. */
-export function readMasks(flag: string | undefined, config: Record<string, string> | undefined): Record<string, MaskFile> | undefined {
+export function readMasks(
+  flag: string | undefined,
+  config: Record<string, string> | undefined,
+): Record<string, MaskFile> | undefined {
   const out: Record<string, MaskFile> = {};
   for (const [ch, file] of Object.entries(config ?? {})) out[ch] = readMaskFile(file, Infinity);
   if (flag) out['*'] = readMaskFile(flag, Infinity);
@@ -153,7 +257,10 @@ export function readMasks(flag: string | undefined, config: Record<string, strin
 }
 
 /** A mask file that cannot be read is a usage error naming the command. */
-function masksOrUsage(command: string, read: () => Record<string, MaskFile> | undefined): Record<string, MaskFile> | undefined {
+function masksOrUsage(
+  command: string,
+  read: () => Record<string, MaskFile> | undefined,
+): Record<string, MaskFile> | undefined {
   try {
     return read();
   } catch (err) {
@@ -162,9 +269,18 @@ function masksOrUsage(command: string, read: () => Record<string, MaskFile> | un
 }
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
-export async function readAlarmFlags(args: ParsedArgs, command: string, configRules?: RulesConfig, configMasks?: Record<string, string>): Promise<AlarmFlagValues> {
+export async function readAlarmFlags(
+  args: ParsedArgs,
+  command: string,
+  configRules?: RulesConfig,
+  configMasks?: Record<string, string>,
+): Promise<AlarmFlagValues> {
   const f = args.flags;
-  const rules = f.rules ? await loadRules(f.rules as string) : configRules ? structuredClone(configRules) : defaultRules();
+  const rules = f.rules
+    ? await loadRules(f.rules as string)
+    : configRules
+      ? structuredClone(configRules)
+      : defaultRules();
   const bands = (f.band as string[]).map((b) => {
     try {
       return parseBand(b);
@@ -203,21 +319,38 @@ const has = (args: ParsedArgs, name: string): boolean => Object.hasOwn(args.flag
  * Turns the parsed flags of run, replay or demo into the options of one monitor. Flags a command does not
  * declare take the defaults (demo has no analysis or alarm flags: its baseline was taken with the defaults).
  */
-export async function monitorOptionsFromFlags(args: ParsedArgs, command: string, w: CommandWiring): Promise<MonitorOptions> {
+export async function monitorOptionsFromFlags(
+  args: ParsedArgs,
+  command: string,
+  w: CommandWiring,
+): Promise<MonitorOptions> {
   const f = args.flags;
   const pipeline = has(args, 'segment')
     ? readPipelineFlags(args, command)
-    : { analysis: DEFAULT_ANALYSIS, averaging: DEFAULT_AVERAGING, snapshotRate: DEFAULT_SNAPSHOT_RATE, data: f.data as string };
+    : {
+        analysis: DEFAULT_ANALYSIS,
+        averaging: DEFAULT_AVERAGING,
+        snapshotRate: DEFAULT_SNAPSHOT_RATE,
+        data: f.data as string,
+      };
   const rig = w.rig;
   const alarms: AlarmFlagValues = has(args, 'band')
     ? await readAlarmFlags(args, command, rig?.rules, rig?.config.masks)
-    : { rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(), masks: masksOrUsage(command, () => readMasks(undefined, rig?.config.masks)) };
+    : {
+        rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(),
+        masks: masksOrUsage(command, () => readMasks(undefined, rig?.config.masks)),
+      };
   // demo has no --band: the config's bands still apply (its analysis settings do not: they stay the baseline's).
   if (!has(args, 'band') && rig?.config.bands?.length) alarms.rules.band.bands = rig.config.bands.map(parseBand);
   const rec = readRecordingFlags(args);
-  const baseline = w.baseline ?? (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
+  const baseline =
+    w.baseline ??
+    (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
   const quiet = f.quiet as boolean;
-  const parts: PartSpec[] = [consolePart({ quiet, statusEvery: rec.statusEvery, frames: w.frames }), ...(w.parts ?? [])];
+  const parts: PartSpec[] = [
+    consolePart({ quiet, statusEvery: rec.statusEvery, frames: w.frames }),
+    ...(w.parts ?? []),
+  ];
   if (!f['no-server']) parts.push(serveDashboard(serverOptionsFromArgs(args, defaultAssetsDir())));
   return {
     command,
@@ -233,7 +366,11 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
     baseline,
     eventsOut: alarms.eventsOut,
     durationSeconds: w.durationSeconds,
-    history: withSource(historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path), w.sourceLabel, alarms.rules.band.bands),
+    history: withSource(
+      historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path),
+      w.sourceLabel,
+      alarms.rules.band.bands,
+    ),
     rig,
     notify: rig?.config.notify,
     retention: rig?.config.retention,
@@ -246,5 +383,7 @@ export async function monitorOptionsFromFlags(args: ParsedArgs, command: string,
 /** The source as the monitor sees it: calibrated by the rig config's channels when it has any. */
 export function calibratedSource(source: Source, rig: LoadedRigConfig | undefined, command: string): Source {
   const channels = rig?.config.channels;
-  return channels ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline ${command}: calibration: ${n}\n`)) : source;
+  return channels
+    ? new CalibratedSource(source, channels, (n) => process.stderr.write(`floorline ${command}: calibration: ${n}\n`))
+    : source;
 }

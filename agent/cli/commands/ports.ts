@@ -9,16 +9,22 @@ async function run(args: ParsedArgs): Promise<number> {
     return 0;
   }
   if (ports.length === 0) {
-    process.stdout.write('no serial ports found (pseudo-terminals such as socat pairs are not listed; give their path to --port).\n');
+    process.stdout.write(
+      'no serial ports found (pseudo-terminals such as socat pairs are not listed; give their path to --port).\n',
+    );
     return 0;
   }
   for (const p of ports) {
     const usb = p.vendorId ? `${p.vendorId}:${p.productId}` : '-';
     process.stdout.write(`${p.path}\n`);
     for (const link of p.byId) process.stdout.write(`  stable path   ${link}\n`);
-    process.stdout.write(`  usb id        ${usb}${p.serialNumber ? `  serial ${p.serialNumber}` : ''}${p.manufacturer ? `  (${p.manufacturer})` : ''}\n`);
+    process.stdout.write(
+      `  usb id        ${usb}${p.serialNumber ? `  serial ${p.serialNumber}` : ''}${p.manufacturer ? `  (${p.manufacturer})` : ''}\n`,
+    );
     if (p.vendorId) {
-      process.stdout.write(`  open with     --port ${p.byId[0] ?? `${p.vendorId}:${p.productId}${p.serialNumber ? `:${p.serialNumber}` : ''}`}\n`);
+      process.stdout.write(
+        `  open with     --port ${p.byId[0] ?? `${p.vendorId}:${p.productId}${p.serialNumber ? `:${p.serialNumber}` : ''}`}\n`,
+      );
     }
   }
   return 0;
@@ -26,7 +32,8 @@ async function run(args: ParsedArgs): Promise<number> {
 
 export const portsCommand: CommandSpec = {
   name: 'ports',
-  summary: 'list serial ports with their stable /dev/serial/by-id paths and USB ids (vendor:product, serial, manufacturer)',
+  summary:
+    'list serial ports with their stable /dev/serial/by-id paths and USB ids (vendor:product, serial, manufacturer)',
   details: [
     '`floorline run --port` takes a path, VID:PID, VID:PID:SERIAL or serial=SERIAL; USB ids are looked up again',
     'at every reconnect, so the board is found after a replug even if it comes back as another ttyUSBn.',

@@ -2,7 +2,13 @@
 import { createWriteStream } from 'node:fs';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
-import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import {
+  ALARM_FLAGS,
+  PIPELINE_FLAGS,
+  RECORDING_FLAGS,
+  monitorOptionsFromFlags,
+  calibratedSource,
+} from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
@@ -27,7 +33,9 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   const f = args.flags;
   const speed = parseSpeed(f.speed as string);
   if (speed === undefined) {
-    throw new UsageError(`floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`);
+    throw new UsageError(
+      `floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`,
+    );
   }
   if (f.follow && f.loop) throw new UsageError('floorline replay: give --follow or --loop, not both.');
   if (f['start-sample'] !== undefined && f['start-time'] !== undefined) {
@@ -73,17 +81,51 @@ export const replayCommand: CommandSpec = {
     'gives the same results at the same sample indices as the live run that made the recording.',
     'Example: floorline replay floorline-data/recordings/rig.wav --speed max --no-server',
   ].join('\n'),
-  positionals: [{ name: 'FILE', help: 'recording to replay (our float32 WAV, or int16/24/32 or float WAV from elsewhere)', required: true }],
+  positionals: [
+    {
+      name: 'FILE',
+      help: 'recording to replay (our float32 WAV, or int16/24/32 or float WAV from elsewhere)',
+      required: true,
+    },
+  ],
   flags: [
     CONFIG_FLAG,
-    { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed: 1 = real time, N times faster, or max' },
+    {
+      name: 'speed',
+      kind: 'string',
+      value: '1|N|max',
+      default: '1',
+      help: 'replay speed: 1 = real time, N times faster, or max',
+    },
     { name: 'loop', kind: 'boolean', help: 'start again at the end (sample time keeps counting)' },
-    { name: 'follow', kind: 'boolean', help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them' },
-    { name: 'start-sample', kind: 'number', value: 'N', integer: true, min: 0, help: 'start at this sample index (as printed in events)' },
+    {
+      name: 'follow',
+      kind: 'boolean',
+      help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them',
+    },
+    {
+      name: 'start-sample',
+      kind: 'number',
+      value: 'N',
+      integer: true,
+      min: 0,
+      help: 'start at this sample index (as printed in events)',
+    },
     { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'start at this sample time t in seconds' },
-    { name: 'scale', kind: 'number', value: 'V', min: 0, help: 'volts per full scale for integer PCM or unlabelled float files' },
+    {
+      name: 'scale',
+      kind: 'number',
+      value: 'V',
+      min: 0,
+      help: 'volts per full scale for integer PCM or unlabelled float files',
+    },
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
-    { name: 'snapshots-out', kind: 'string', value: 'FILE', help: 'write every spectrum snapshot as JSON Lines (large)' },
+    {
+      name: 'snapshots-out',
+      kind: 'string',
+      value: 'FILE',
+      help: 'write every spectrum snapshot as JSON Lines (large)',
+    },
     { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
     ...SERVER_FLAGS,
     ...HISTORY_FLAGS,

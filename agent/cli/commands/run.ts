@@ -2,7 +2,13 @@
 // with alarms, event log, recording and the dashboard.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { UsageError } from '../../errors.ts';
-import { ALARM_FLAGS, PIPELINE_FLAGS, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import {
+  ALARM_FLAGS,
+  PIPELINE_FLAGS,
+  RECORDING_FLAGS,
+  monitorOptionsFromFlags,
+  calibratedSource,
+} from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { SerialSource } from '../../sources/serial.ts';
@@ -13,10 +19,15 @@ async function runLive(args: ParsedArgs): Promise<number> {
   const rig = readConfigFlag(args, runCommand.flags);
   const f = args.flags;
   const port = f.port as string | undefined;
-  if (!port) throw new UsageError('floorline run: --port is required: a device path (/dev/serial/by-id/…), VID:PID or serial=SERIAL; see `floorline ports`.');
+  if (!port)
+    throw new UsageError(
+      'floorline run: --port is required: a device path (/dev/serial/by-id/…), VID:PID or serial=SERIAL; see `floorline ports`.',
+    );
   const format = f.format as 'binary' | 'text';
   if (format === 'text' && f.rate === undefined) {
-    throw new UsageError('floorline run: --format text needs --rate HZ (a text board sends no descriptor), e.g. --rate 1000.');
+    throw new UsageError(
+      'floorline run: --format text needs --rate HZ (a text board sends no descriptor), e.g. --rate 1000.',
+    );
   }
   const options = await monitorOptionsFromFlags(args, 'run', {
     mode: 'bounded',
@@ -50,14 +61,50 @@ export const runCommand: CommandSpec = {
   positionals: [],
   flags: [
     CONFIG_FLAG,
-    { name: 'port', kind: 'string', value: 'PATH', help: 'serial device path, VID:PID[:SERIAL] or serial=SERIAL (see `floorline ports`)' },
-    { name: 'baud', kind: 'number', value: 'N', integer: true, min: 1, default: 921600, help: 'baud rate (ignored by USB CDC boards and ptys)' },
-    { name: 'format', kind: 'string', value: 'FMT', choices: ['binary', 'text'], default: 'binary', help: 'wire format' },
+    {
+      name: 'port',
+      kind: 'string',
+      value: 'PATH',
+      help: 'serial device path, VID:PID[:SERIAL] or serial=SERIAL (see `floorline ports`)',
+    },
+    {
+      name: 'baud',
+      kind: 'number',
+      value: 'N',
+      integer: true,
+      min: 1,
+      default: 921600,
+      help: 'baud rate (ignored by USB CDC boards and ptys)',
+    },
+    {
+      name: 'format',
+      kind: 'string',
+      value: 'FMT',
+      choices: ['binary', 'text'],
+      default: 'binary',
+      help: 'wire format',
+    },
     { name: 'rate', kind: 'number', value: 'HZ', min: 0.001, help: 'sample rate of a text-mode board' },
     { name: 'unit', kind: 'string', value: 'U', default: 'V', help: 'unit of a text-mode board' },
-    { name: 'scale', kind: 'number', value: 'X', min: Number.MIN_VALUE, default: 1, help: 'unit per printed value of a text-mode board' },
+    {
+      name: 'scale',
+      kind: 'number',
+      value: 'X',
+      min: Number.MIN_VALUE,
+      default: 1,
+      help: 'unit per printed value of a text-mode board',
+    },
     { name: 'duration', kind: 'number', value: 'S', min: 0, help: 'stop after S seconds of sample time' },
-    { name: 'queue', kind: 'number', value: 'N', integer: true, min: 1, max: 100000, default: 64, help: 'blocks queued for analysis before whole blocks are dropped' },
+    {
+      name: 'queue',
+      kind: 'number',
+      value: 'N',
+      integer: true,
+      min: 1,
+      max: 100000,
+      default: 64,
+      help: 'blocks queued for analysis before whole blocks are dropped',
+    },
     { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard' },
     { name: 'quiet', kind: 'boolean', help: 'print only errors and the summary' },
     ...ALARM_FLAGS,

@@ -11,12 +11,15 @@ function loadScenario(path: string): Scenario {
   try {
     text = readFileSync(path, 'utf8');
   } catch (err) {
-    throw new InputError(`floorline simulate: cannot read scenario ${path} (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); check the path.`);
+    throw new InputError(
+      `floorline simulate: cannot read scenario ${path} (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); check the path.`,
+    );
   }
   try {
     return parseScenario(text, path);
   } catch (err) {
-    if (err instanceof ScenarioError) throw new InputError(`floorline simulate: ${err.message}. See agent/sim/SCENARIO.md.`);
+    if (err instanceof ScenarioError)
+      throw new InputError(`floorline simulate: ${err.message}. See agent/sim/SCENARIO.md.`);
     throw err;
   }
 }
@@ -28,9 +31,14 @@ function outputOf(out: string, baudRate: number): SimulationOptions['output'] {
   try {
     isDevice = statSync(out).isCharacterDevice();
   } catch {
-    throw new UsageError(`floorline simulate: --out ${out} does not exist; give a serial device or pty path (e.g. one end of a socat pty pair), '-' for stdout, or a NAME.wav file.`);
+    throw new UsageError(
+      `floorline simulate: --out ${out} does not exist; give a serial device or pty path (e.g. one end of a socat pty pair), '-' for stdout, or a NAME.wav file.`,
+    );
   }
-  if (!isDevice) throw new UsageError(`floorline simulate: --out ${out} is not a character device; give a serial/pty path, '-' for stdout, or a path ending in .wav.`);
+  if (!isDevice)
+    throw new UsageError(
+      `floorline simulate: --out ${out} is not a character device; give a serial/pty path, '-' for stdout, or a path ending in .wav.`,
+    );
   return { kind: 'port', path: out, baudRate };
 }
 
@@ -41,14 +49,25 @@ async function run(args: ParsedArgs): Promise<number> {
   const duration = (f.duration as number | undefined) ?? scenario.duration;
   const output = outputOf(f.out as string, f.baud as number);
   if (output.kind === 'wav' && duration === undefined) {
-    throw new UsageError('floorline simulate: a WAV recording needs a length; give --duration S or "duration" in the scenario.');
+    throw new UsageError(
+      'floorline simulate: a WAV recording needs a length; give --duration S or "duration" in the scenario.',
+    );
   }
-  if (output.kind === 'wav' && f.format !== 'binary') throw new UsageError('floorline simulate: --format applies to serial and stdout output, not to WAV; drop it.');
+  if (output.kind === 'wav' && f.format !== 'binary')
+    throw new UsageError('floorline simulate: --format applies to serial and stdout output, not to WAV; drop it.');
   const totalFrames = duration === undefined ? Infinity : Math.round(duration * scenario.rate);
   const log = (line: string): void => {
     process.stderr.write(`${line}\n`);
   };
-  const sim = new Simulation({ scenario, seed, totalFrames, output, format: f.format as WireFormat, realtime: f.realtime as boolean, log });
+  const sim = new Simulation({
+    scenario,
+    seed,
+    totalFrames,
+    output,
+    format: f.format as WireFormat,
+    realtime: f.realtime as boolean,
+    log,
+  });
   const stop = (): void => sim.stop();
   process.once('SIGINT', stop);
   process.once('SIGTERM', stop);
@@ -57,7 +76,9 @@ async function run(args: ParsedArgs): Promise<number> {
     const seconds = s.frames / scenario.rate;
     log(
       `simulate: ${s.frames} instants (${seconds.toFixed(3)} s of sample time) × ${scenario.channels.length} ch at ${scenario.rate} Hz, seed ${seed}` +
-        (output.kind === 'wav' ? ` → ${output.path}` : `, ${s.bytes} bytes, ${s.droppedFrames} frames dropped by the scenario`) +
+        (output.kind === 'wav'
+          ? ` → ${output.path}`
+          : `, ${s.bytes} bytes, ${s.droppedFrames} frames dropped by the scenario`) +
         (s.clipped.some((c) => c > 0) ? `, clipped samples per channel ${s.clipped.join('/')}` : ''),
     );
   } finally {
@@ -85,11 +106,40 @@ export const simulateCommand: CommandSpec = {
   positionals: [{ name: 'SCENARIO', help: 'scenario JSON file', required: true }],
   flags: [
     { name: 'out', kind: 'string', value: 'PATH', default: '-', help: "serial/pty path, '-' for stdout, or NAME.wav" },
-    { name: 'format', kind: 'string', value: 'FMT', choices: ['binary', 'text'], default: 'binary', help: 'wire format for serial and stdout' },
-    { name: 'duration', kind: 'number', value: 'S', min: 0.001, help: 'seconds of sample time (default: the scenario\'s, else until stopped)' },
+    {
+      name: 'format',
+      kind: 'string',
+      value: 'FMT',
+      choices: ['binary', 'text'],
+      default: 'binary',
+      help: 'wire format for serial and stdout',
+    },
+    {
+      name: 'duration',
+      kind: 'number',
+      value: 'S',
+      min: 0.001,
+      help: "seconds of sample time (default: the scenario's, else until stopped)",
+    },
     { name: 'realtime', kind: 'boolean', help: 'pace stdout output to the wall clock too (serial paths always are)' },
-    { name: 'seed', kind: 'number', value: 'N', integer: true, min: 0, max: 0xffffffff, help: 'random seed (default: the scenario\'s, else 1)' },
-    { name: 'baud', kind: 'number', value: 'N', integer: true, min: 50, default: 921600, help: 'baud rate to open a real serial device with (ptys ignore it)' },
+    {
+      name: 'seed',
+      kind: 'number',
+      value: 'N',
+      integer: true,
+      min: 0,
+      max: 0xffffffff,
+      help: "random seed (default: the scenario's, else 1)",
+    },
+    {
+      name: 'baud',
+      kind: 'number',
+      value: 'N',
+      integer: true,
+      min: 50,
+      default: 921600,
+      help: 'baud rate to open a real serial device with (ptys ignore it)',
+    },
   ],
   run,
 };

@@ -3,6 +3,11 @@ import type { FlagSpec } from '../args.ts';
 import { defaultThreads, MAX_THREADS } from '../../workers/threads.ts';
 
 export const threadsFlag: FlagSpec = {
-  name: 'threads', kind: 'number', value: 'N', integer: true, min: 1, max: MAX_THREADS,
+  name: 'threads',
+  kind: 'number',
+  value: 'N',
+  integer: true,
+  min: 1,
+  max: MAX_THREADS,
   help: `analysis threads (default: cores − 1, here ${defaultThreads()}); results are identical for every N`,
 };

@@ -26,8 +26,19 @@ async function runIncidents(args: ParsedArgs): Promise<number> {
     if (output === 'json') process.stdout.write(JSON.stringify({ incidents: list }) + '\n');
     else if (output === 'csv') process.stdout.write(incidentsCsv(list));
     else {
-      const units = new Map((db.prepare("SELECT channel, unit FROM series WHERE quantity = 'bandRms'").all() as { channel: string; unit: string }[]).map((r) => [r.channel, r.unit]));
-      process.stdout.write(list.length ? list.map((i) => describe(i, units.get(i.channel) ?? '')).join('\n') + '\n' : 'no incidents in this span.\n');
+      const units = new Map(
+        (
+          db.prepare("SELECT channel, unit FROM series WHERE quantity = 'bandRms'").all() as {
+            channel: string;
+            unit: string;
+          }[]
+        ).map((r) => [r.channel, r.unit]),
+      );
+      process.stdout.write(
+        list.length
+          ? list.map((i) => describe(i, units.get(i.channel) ?? '')).join('\n') + '\n'
+          : 'no incidents in this span.\n',
+      );
     }
   } finally {
     db.close();

@@ -2,14 +2,21 @@
 import WebSocket from 'ws';
 import { InputError, UsageError } from '../../errors.ts';
 
-export async function noteThroughAgent(agentUrl: string, text: string, incident: string | undefined): Promise<{ sample: number; t: number; wallTime: string }> {
+export async function noteThroughAgent(
+  agentUrl: string,
+  text: string,
+  incident: string | undefined,
+): Promise<{ sample: number; t: number; wallTime: string }> {
   let url: URL;
   try {
     url = new URL(agentUrl);
   } catch {
-    throw new UsageError(`floorline note: --agent '${agentUrl}' is not a URL; give the dashboard URL the agent printed, e.g. http://127.0.0.1:8731/`);
+    throw new UsageError(
+      `floorline note: --agent '${agentUrl}' is not a URL; give the dashboard URL the agent printed, e.g. http://127.0.0.1:8731/`,
+    );
   }
-  if (url.protocol !== 'http:' && url.protocol !== 'https:') throw new UsageError(`floorline note: --agent needs an http:// URL, got ${url.protocol}`);
+  if (url.protocol !== 'http:' && url.protocol !== 'https:')
+    throw new UsageError(`floorline note: --agent needs an http:// URL, got ${url.protocol}`);
   const ws = new URL(url.toString());
   ws.protocol = url.protocol === 'https:' ? 'wss:' : 'ws:';
   ws.pathname = '/ws';
@@ -24,11 +31,33 @@ export async function noteThroughAgent(agentUrl: string, text: string, incident:
       sock.close();
       fn();
     };
-    sock.on('error', (err) => done(() => reject(new InputError(`floorline note: cannot reach the agent at ${url.host} (${err.message}); is it running? Without one, use --data DIR.`))));
-    sock.on('unexpected-response', (_req, res) => done(() => reject(new InputError(`floorline note: the agent refused the connection (HTTP ${res.statusCode}); add ?token=… to the URL if it has one.`))));
+    sock.on('error', (err) =>
+      done(() =>
+        reject(
+          new InputError(
+            `floorline note: cannot reach the agent at ${url.host} (${err.message}); is it running? Without one, use --data DIR.`,
+          ),
+        ),
+      ),
+    );
+    sock.on('unexpected-response', (_req, res) =>
+      done(() =>
+        reject(
+          new InputError(
+            `floorline note: the agent refused the connection (HTTP ${res.statusCode}); add ?token=… to the URL if it has one.`,
+          ),
+        ),
+      ),
+    );
     sock.on('open', () => sock.send(JSON.stringify({ type: 'note', id: 1, text, ...(incident ? { incident } : {}) })));
     sock.on('message', (data) => {
-      let m: { type?: string; id?: number; ok?: boolean; result?: { sample: number; t: number; wallTime: string }; error?: { message: string } };
+      let m: {
+        type?: string;
+        id?: number;
+        ok?: boolean;
+        result?: { sample: number; t: number; wallTime: string };
+        error?: { message: string };
+      };
       try {
         m = JSON.parse(data.toString());
       } catch {
@@ -36,7 +65,12 @@ export async function noteThroughAgent(agentUrl: string, text: string, incident:
       }
       if (m.type !== 'reply' || m.id !== 1) return;
       if (m.ok && m.result) done(() => resolve(m.result!));
-      else done(() => reject(new InputError(`floorline note: the agent refused the note: ${m.error?.message ?? 'no reason given'}.`)));
+      else
+        done(() =>
+          reject(
+            new InputError(`floorline note: the agent refused the note: ${m.error?.message ?? 'no reason given'}.`),
+          ),
+        );
     });
   });
 }

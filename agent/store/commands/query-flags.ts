@@ -6,7 +6,13 @@ import { parseTimeBound, type TimeBound } from '../time-bound.ts';
 
 export const STORE_SOURCE_FLAGS: FlagSpec[] = [
   { name: 'store', kind: 'string', value: 'FILE', help: 'history store file to read' },
-  { name: 'data', kind: 'string', value: 'DIR', default: DEFAULT_DATA_FOLDER, help: 'data folder whose floorline.sqlite to read (when --store is not given)' },
+  {
+    name: 'data',
+    kind: 'string',
+    value: 'DIR',
+    default: DEFAULT_DATA_FOLDER,
+    help: 'data folder whose floorline.sqlite to read (when --store is not given)',
+  },
 ];
 
 export const SPAN_FLAGS: FlagSpec[] = [

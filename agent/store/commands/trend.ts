@@ -48,9 +48,21 @@ export const trendCommand: CommandSpec = {
   positionals: [],
   flags: [
     { name: 'channel', kind: 'string', value: 'NAME', help: 'only this channel' },
-    { name: 'band', kind: 'string', value: 'LO:HI', help: 'only this band (Hz, as stored; see the list in the error when it does not match)' },
+    {
+      name: 'band',
+      kind: 'string',
+      value: 'LO:HI',
+      help: 'only this band (Hz, as stored; see the list in the error when it does not match)',
+    },
     ...SPAN_FLAGS,
-    { name: 'every', kind: 'string', value: 'RES', choices: EVERY_CHOICES, default: '1m', help: 'resolution: 1s, 1m or 1h' },
+    {
+      name: 'every',
+      kind: 'string',
+      value: 'RES',
+      choices: EVERY_CHOICES,
+      default: '1m',
+      help: 'resolution: 1s, 1m or 1h',
+    },
     ...OUTPUT_FLAGS,
     ...STORE_SOURCE_FLAGS,
   ],

@@ -26,9 +26,15 @@ export function freePort(): Promise<number> {
 
 export function startAgent(args: string[], timeoutMs = 20_000): Promise<Agent> {
   return new Promise((resolve, reject) => {
-    const proc = spawn(process.execPath, ['bin/floorline.mjs', ...args], { cwd: ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+    const proc = spawn(process.execPath, ['bin/floorline.mjs', ...args], {
+      cwd: ROOT,
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
     let out = '';
-    const timer = setTimeout(() => reject(new Error(`agent did not print its URL within ${timeoutMs} ms:\n${out}`)), timeoutMs);
+    const timer = setTimeout(
+      () => reject(new Error(`agent did not print its URL within ${timeoutMs} ms:\n${out}`)),
+      timeoutMs,
+    );
     const onData = (d: Buffer): void => {
       out += d.toString();
       const m = /dashboard\s+(http:\/\/\S+)/.exec(out);

@@ -4,7 +4,14 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { FloorlineEvent } from '../../../protocol/events.ts';
 import type { StreamInfo } from '../../../protocol/stream.ts';
-import type { BackendStatus, BackendSubscriber, ServerBackend, ServerSnapshot, BaselineOverlay, AnalysisChange } from '../../../agent/server/backend.ts';
+import type {
+  BackendStatus,
+  BackendSubscriber,
+  ServerBackend,
+  ServerSnapshot,
+  BaselineOverlay,
+  AnalysisChange,
+} from '../../../agent/server/backend.ts';
 import { MonitorRefusal } from '../../../agent/monitor/refusal.ts';
 import { alarmId, bandId } from '../../../protocol/ids.ts';
 import { resolveInside } from '../../../agent/config/safe-path.ts';
@@ -43,7 +50,12 @@ export class FakeBackend implements ServerBackend {
     const n = o.channels ?? 2;
     this.info = {
       sampleRate: this.sampleRate,
-      channels: Array.from({ length: n }, (_, i) => ({ name: `ch${i}`, unit: 'V', scale: 1, fullScaleCounts: Infinity })),
+      channels: Array.from({ length: n }, (_, i) => ({
+        name: `ch${i}`,
+        unit: 'V',
+        scale: 1,
+        fullScaleCounts: Infinity,
+      })),
       source: { kind: 'simulator', label: 'test double' },
       firstSample: 0,
     };
@@ -86,20 +98,35 @@ export class FakeBackend implements ServerBackend {
   }
 
   status(): BackendStatus {
-    const bands = this.info.channels.flatMap((c) => [
-      [20, 2000],
-      [2000, 4000],
-    ].map(([low, high]) => ({
-      id: bandId(c.name, low, high), channel: c.name, low, high, rms: this.bandRms(low, high), baselineRms: null, deltaDb: null, thresholdDb: 3,
-      state: 'no-baseline' as const, floorDensity: Math.sqrt(this.density()),
-    })));
+    const bands = this.info.channels.flatMap((c) =>
+      [
+        [20, 2000],
+        [2000, 4000],
+      ].map(([low, high]) => ({
+        id: bandId(c.name, low, high),
+        channel: c.name,
+        low,
+        high,
+        rms: this.bandRms(low, high),
+        baselineRms: null,
+        deltaDb: null,
+        thresholdDb: 3,
+        state: 'no-baseline' as const,
+        floorDensity: Math.sqrt(this.density()),
+      })),
+    );
     return {
       source: this.info.source,
       sampleRate: this.sampleRate,
       channels: this.info.channels.map((c) => ({ name: c.name, unit: c.unit })),
       samples: this.sample + 1,
       t: (this.sample + 1) / this.sampleRate,
-      gaps: 0, lostSamples: 0, crcErrors: 3, syncErrors: 0, nonfiniteFrames: 0, droppedBlocks: 0,
+      gaps: 0,
+      lostSamples: 0,
+      crcErrors: 3,
+      syncErrors: 0,
+      nonfiniteFrames: 0,
+      droppedBlocks: 0,
       recording: this.recording,
       replay: null,
       settings: { sampleRate: this.sampleRate, segment: this.segment, window: 'hann', overlap: 0.5, detrend: 'mean' },
@@ -107,14 +134,26 @@ export class FakeBackend implements ServerBackend {
       baseline: null,
       spectrumSample: this.last?.sample ?? null,
       bands,
-      alarms: [{ id: alarmId({ rule: 'band-rise', channel: 'ch0', band: [20, 2000] }), rule: 'band-rise', channel: 'ch0', band: [20, 2000], state: 'clear', acknowledged: false, sample: 0 }],
+      alarms: [
+        {
+          id: alarmId({ rule: 'band-rise', channel: 'ch0', band: [20, 2000] }),
+          rule: 'band-rise',
+          channel: 'ch0',
+          band: [20, 2000],
+          state: 'clear',
+          acknowledged: false,
+          sample: 0,
+        },
+      ],
     };
   }
 
   /** Emits one block of `frames` samples and a snapshot whose PSD is the white density, every bin scaled by `gain`. */
   step(frames = 800, gain = 1): ServerSnapshot {
     const first = this.sample + 1;
-    const data = this.info.channels.map((_, c) => Float64Array.from({ length: frames }, (_, i) => c + (first + i) * 1e-3));
+    const data = this.info.channels.map((_, c) =>
+      Float64Array.from({ length: frames }, (_, i) => c + (first + i) * 1e-3),
+    );
     this.sample = first + frames - 1;
     for (const s of this.subs) s.block({ firstSample: first, frames, data });
     const bins = this.segment / 2 + 1;
@@ -157,7 +196,8 @@ export class FakeBackend implements ServerBackend {
   }
   setAnalysis(change: AnalysisChange): void {
     if (change.window === 'no-such-window') throw new RangeError(`window 'no-such-window' is not one of hann, rect`);
-    if (change.segment !== undefined && change.segment > 65536) throw new MonitorRefusal('unsupported', 'segment above 65536 is not offered live');
+    if (change.segment !== undefined && change.segment > 65536)
+      throw new MonitorRefusal('unsupported', 'segment above 65536 is not offered live');
     this.analysisChanges.push(change);
   }
   acknowledge(alarm: string): boolean {

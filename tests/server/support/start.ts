@@ -13,7 +13,10 @@ export interface Started {
   dir: string;
 }
 
-export async function startWithFake(options: Partial<ServerOptions> = {}, fake: Partial<FakeOptions> = {}): Promise<Started> {
+export async function startWithFake(
+  options: Partial<ServerOptions> = {},
+  fake: Partial<FakeOptions> = {},
+): Promise<Started> {
   const dir = mkdtempSync(join(tmpdir(), 'floorline-server-'));
   const assetsDir = join(dir, 'assets');
   mkdirSync(assetsDir);

@@ -55,7 +55,9 @@ export class TestClient {
   }
 
   reply(id: number): Promise<Extract<ServerMessage, { type: 'reply' }>> {
-    return this.until(() => this.json.find((m): m is Extract<ServerMessage, { type: 'reply' }> => m.type === 'reply' && m.id === id));
+    return this.until(() =>
+      this.json.find((m): m is Extract<ServerMessage, { type: 'reply' }> => m.type === 'reply' && m.id === id),
+    );
   }
 
   send(obj: unknown): void {
