@@ -26,6 +26,10 @@ function el<K extends keyof HTMLElementTagNameMap>(tag: K, text = '', cls = ''):
   return e;
 }
 
+const rowClass = (i: IncidentJson): string => (i.end ? 'cleared' : 'raised');
+/** The settled level as the row carries it for tests and copying (the cell shows it rounded). */
+const settledValue = (i: IncidentJson): string => (i.settled ? String(i.settled.levelDb) : '');
+
 export class IncidentPanel {
   private list: IncidentJson[] = [];
   private readonly rendered = new Map<
@@ -74,22 +78,20 @@ export class IncidentPanel {
         r = { actionsKey, moreKey, tr, more };
         this.rendered.set(i.id, r);
       } else {
-        const fresh = this.rowsOf(i, nowT);
         const cells = r.tr.cells;
-        for (let k = 0; k < 7; k++) {
-          if (cells[k].textContent !== fresh[0].cells[k].textContent)
-            cells[k].textContent = fresh[0].cells[k].textContent;
-          if (cells[k].dataset.value !== fresh[0].cells[k].dataset.value)
-            cells[k].dataset.value = fresh[0].cells[k].dataset.value ?? '';
-        }
-        r.tr.className = fresh[0].className;
+        this.cellTexts(i, nowT).forEach((text, k) => {
+          if (cells[k].textContent !== text) cells[k].textContent = text;
+        });
+        cells[4].dataset.value = settledValue(i);
+        r.tr.className = rowClass(i);
         if (r.actionsKey !== actionsKey) {
-          cells[7].replaceWith(fresh[0].cells[7]);
+          cells[7].replaceWith(this.actionsCell(i));
           r.actionsKey = actionsKey;
         }
         if (r.moreKey !== moreKey) {
-          r.more.replaceWith(fresh[1]);
-          r.more = fresh[1];
+          const more = this.moreRow(i);
+          r.more.replaceWith(more);
+          r.more = more;
           r.moreKey = moreKey;
         }
       }
@@ -108,13 +110,12 @@ export class IncidentPanel {
     });
   }
 
-  private rowsOf(i: IncidentJson, nowT: number): HTMLTableRowElement[] {
+  /** The seven text cells of an incident's row: start, channel, members, state, settled, peak, threshold. */
+  private cellTexts(i: IncidentJson, nowT: number): string[] {
     const unit = this.unitOf(i.channel);
     const lines = i.rules.some((r) => r === 'mains' || r === 'spur');
-    const tr = el('tr', '', i.end ? 'cleared' : 'raised');
-    tr.dataset.incident = i.id;
     const threshold = this.thresholdOf.get(i.id);
-    const cells = [
+    return [
       `${fixed(i.start.t, 1)} s`,
       i.channel,
       membersLine(i.members),
@@ -123,16 +124,26 @@ export class IncidentPanel {
       levelWords(i.peak, unit, lines),
       threshold === undefined ? '—' : `threshold ${fixed(threshold, 1)} dB`,
     ];
-    cells.forEach((text, k) => {
-      const td = el('td', text, k >= 1 ? 'text' : '');
-      if (k === 4) td.dataset.value = i.settled ? String(i.settled.levelDb) : '';
-      tr.appendChild(td);
-    });
-    if (i.rules.includes('mains')) tr.cells[2].title = MAINS_CAUTION;
+  }
+
+  private actionsCell(i: IncidentJson): HTMLTableCellElement {
     const act = el('td', '', 'actions');
     act.append(...this.buttons(i));
-    tr.appendChild(act);
+    return act;
+  }
 
+  private rowsOf(i: IncidentJson, nowT: number): HTMLTableRowElement[] {
+    const tr = el('tr', '', rowClass(i));
+    tr.dataset.incident = i.id;
+    this.cellTexts(i, nowT).forEach((text, k) => tr.appendChild(el('td', text, k >= 1 ? 'text' : '')));
+    tr.cells[4].dataset.value = settledValue(i);
+    if (i.rules.includes('mains')) tr.cells[2].title = MAINS_CAUTION;
+    tr.appendChild(this.actionsCell(i));
+    return [tr, this.moreRow(i)];
+  }
+
+  /** The folded part under an incident's row. */
+  private moreRow(i: IncidentJson): HTMLTableRowElement {
     // The folded part: members one per line, notes, the capture and how to replay it, and the mains caution.
     const more = el('tr', '', 'incident-more');
     const td = el('td');
@@ -160,7 +171,7 @@ export class IncidentPanel {
     if (i.rules.includes('mains')) det.append(el('p', MAINS_CAUTION, 'caution'));
     td.append(det);
     more.append(td);
-    return [tr, more];
+    return more;
   }
 
   private buttons(i: IncidentJson): HTMLElement[] {

@@ -31,6 +31,17 @@ function buildLut(): Uint8ClampedArray {
   return lut;
 }
 
+/** FLOOR_BELOW_DB under to FLOOR_ABOVE_DB over the median of the positive values from index `from` on (the
+ *  floor, not its lines), in whole dB; null when there are none. */
+function rangeAroundFloor(values: ArrayLike<number>, from: number): [number, number] | null {
+  const v: number[] = [];
+  for (let k = from; k < values.length; k++) if (values[k] > 0) v.push(values[k]);
+  if (v.length === 0) return null;
+  v.sort((a, b) => a - b);
+  const floorDb = powerRatioDb(v[v.length >> 1]);
+  return [Math.round(floorDb - FLOOR_BELOW_DB), Math.round(floorDb + FLOOR_ABOVE_DB)];
+}
+
 export class WaterfallView {
   private readonly lut = buildLut();
   private readonly ctx: CanvasRenderingContext2D;
@@ -121,16 +132,12 @@ export class WaterfallView {
   /** Colour range from the baseline: its median density (unit²/Hz) sets the floor. */
   setBaselineFloor(psd: ArrayLike<number> | null): void {
     if (!psd || this.rangeSource === 'user') return;
-    const v: number[] = [];
-    for (let k = 1; k < psd.length; k++) if (psd[k] > 0) v.push(psd[k]);
-    if (v.length === 0) return;
-    v.sort((a, b) => a - b);
-    const floorDb = powerRatioDb(v[v.length >> 1]);
-    this.setRange(Math.round(floorDb - FLOOR_BELOW_DB), Math.round(floorDb + FLOOR_ABOVE_DB), 'baseline');
+    const r = rangeAroundFloor(psd, 1); // bin 0 (DC) is no part of the floor
+    if (r) this.setRange(r[0], r[1], 'baseline');
   }
 
   /** Sets the colour range in dB (re 1 unit²/Hz); a user's choice wins over the baseline's until cleared. */
-  setRange(lowDb: number, highDb: number, source: 'baseline' | 'user' = 'user'): void {
+  setRange(lowDb: number, highDb: number, source: 'baseline' | 'user' | 'first row' = 'user'): void {
     if (!(highDb > lowDb)) return;
     this.lowDb = lowDb;
     this.highDb = highDb;
@@ -255,16 +262,8 @@ export class WaterfallView {
 
   /** Without a baseline: the same rule around the first row's median level (its floor, not its lines). */
   private autoRange(): void {
-    const v: number[] = [];
-    for (let x = 0; x < this.acc.length; x++) if (this.acc[x] > 0) v.push(this.acc[x]);
-    if (v.length === 0) return;
-    v.sort((a, b) => a - b);
-    const floorDb = powerRatioDb(v[v.length >> 1]);
-    this.lowDb = Math.round(floorDb - FLOOR_BELOW_DB);
-    this.highDb = Math.round(floorDb + FLOOR_ABOVE_DB);
-    this.ranged = true;
-    this.rangeSource = 'first row';
-    this.drawLegend();
+    const r = rangeAroundFloor(this.acc, 0);
+    if (r) this.setRange(r[0], r[1], 'first row');
   }
 
   get range(): [number, number] {
