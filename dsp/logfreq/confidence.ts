@@ -4,10 +4,22 @@
 // @stdlib, within 1e-9 of scipy.stats.chi2.ppf up to ν ≈ 200 and 1e-4 at ν = 5000: meant for display bands.
 import chiSquareQuantile from '@stdlib/stats-base-dists-chisquare-quantile';
 
+// A live view asks for the same few ν again and again (a point's averages take a handful of values as its ring
+// fills and rolls), and one quantile costs microseconds of series evaluation: remember them. Bounded: cleared
+// when full, so a caller cycling through many ν only loses the speed-up.
+const MEMO_LIMIT = 4096;
+const memo = new Map<string, { lower: number; upper: number }>();
+
 /** Factors (lower, upper) that multiply an estimate to give its confidence interval at `level`. */
 export function densityIntervalFactors(dof: number, level = 0.95): { lower: number; upper: number } {
   if (!(level > 0 && level < 1)) throw new RangeError(`confidence level must lie in (0, 1), got ${level}`);
   if (!(dof > 0) || !Number.isFinite(dof)) return { lower: NaN, upper: NaN };
+  const key = `${dof} ${level}`;
+  const known = memo.get(key);
+  if (known) return { lower: known.lower, upper: known.upper };
   const tail = (1 - level) / 2;
-  return { lower: dof / chiSquareQuantile(1 - tail, dof), upper: dof / chiSquareQuantile(tail, dof) };
+  const factors = { lower: dof / chiSquareQuantile(1 - tail, dof), upper: dof / chiSquareQuantile(tail, dof) };
+  if (memo.size >= MEMO_LIMIT) memo.clear();
+  memo.set(key, factors);
+  return { lower: factors.lower, upper: factors.upper };
 }
