@@ -2,6 +2,10 @@
 // place; only a frame split across chunks is held, in one preallocated buffer of the largest frame size.
 // A bad header or CRC rejects only the candidate's sync word: the search resumes at the next byte, so a valid
 // frame that began inside a damaged one is still found.
+// Work per byte is bounded (a flood of false sync words promising 64 KiB bodies must not cost a CRC of 64 KiB per
+// few bytes): the held buffer is compacted at most once per frame length of input, and candidates longer than the
+// longest valid frame seen so far are CRC-checked only while the bytes spent on failed checks stay within
+// CRC_WORK_PER_BYTE per byte received; past that they are skipped unchecked and counted.
 import { crc32 } from './crc32.ts';
 import { DescriptorError, descriptorFromBytes, type BoardDescriptor } from './descriptor.ts';
 import {
@@ -57,7 +61,14 @@ export interface DecoderCounters {
   malformed: number;
   /** Bytes skipped while searching for a sync word. */
   discardedBytes: number;
+  /** Long candidates skipped without a CRC check because failed checks had used up the work budget. */
+  unchecked: number;
+  /** Bytes run through the CRC of candidates that failed it (the work the budget bounds). */
+  failedCheckBytes: number;
 }
+
+/** Bytes of failed CRC checks allowed per byte received (plus one largest frame of head start). */
+export const CRC_WORK_PER_BYTE = 8;
 
 /** What the held partial frame is waiting for (named states of the machine). */
 export type DecoderState = 'seek-sync' | 'need-header' | 'need-body';
@@ -77,9 +88,17 @@ export class FrameDecoder {
     syncErrors: 0,
     malformed: 0,
     discardedBytes: 0,
+    unchecked: 0,
+    failedCheckBytes: 0,
   };
-  private readonly held = new Uint8Array(MAX_FRAME);
+  // Twice the largest frame, so that dropping a rejected candidate's first bytes moves an offset, not the bytes:
+  // the held bytes are held[heldStart .. heldStart + heldLength).
+  private readonly held = new Uint8Array(2 * MAX_FRAME);
+  private heldStart = 0;
   private heldLength = 0;
+  /** Bytes of CRC work still allowed for candidates longer than `longestValid` (grows with the input). */
+  private credit = MAX_FRAME;
+  private longestValid = 0;
   /** True while bytes are being discarded, so one run of garbage counts as one sync error. */
   private lostAlignment = false;
   private readonly frame: SampleFrame = {
@@ -106,6 +125,7 @@ export class FrameDecoder {
 
   /** Forget any held partial frame (e.g. after the port was reopened). */
   reset(): void {
+    this.heldStart = 0;
     this.heldLength = 0;
     this.lostAlignment = false;
   }
@@ -113,6 +133,7 @@ export class FrameDecoder {
   /** Consumes bytes[start..end). The view is not kept after the call returns. */
   push(bytes: Uint8Array, start = 0, end = bytes.length): void {
     this.counters.bytes += end - start;
+    this.credit = Math.min(this.credit + CRC_WORK_PER_BYTE * (end - start), 4 * MAX_FRAME);
     let pos = start;
     if (this.heldLength > 0) {
       pos = this.completeHeld(bytes, pos, end);
@@ -121,6 +142,7 @@ export class FrameDecoder {
     const tail = this.scan(bytes, pos, end);
     if (tail < end) {
       this.held.set(bytes.subarray(tail, end), 0);
+      this.heldStart = 0;
       this.heldLength = end - tail;
     }
   }
@@ -128,11 +150,12 @@ export class FrameDecoder {
   /** Bytes the held candidate needs before the scanner can decide on it. */
   private heldNeed(): number {
     const h = this.held;
+    const o = this.heldStart;
     const n = this.heldLength;
     if (n < HEADER_LENGTH) return HEADER_LENGTH;
-    if (h[0] !== S0 || h[1] !== S1 || h[2] !== S2 || h[3] !== S3) return n;
-    const body = h[6] | (h[7] << 8);
-    if (!plausibleHeader(h[4], h[5], body)) return n;
+    if (h[o] !== S0 || h[o + 1] !== S1 || h[o + 2] !== S2 || h[o + 3] !== S3) return n;
+    const body = h[o + 6] | (h[o + 7] << 8);
+    if (!plausibleHeader(h[o + 4], h[o + 5], body)) return n;
     return HEADER_LENGTH + body + CRC_LENGTH;
   }
 
@@ -142,19 +165,26 @@ export class FrameDecoder {
     while (this.heldLength > 0) {
       const need = this.heldNeed();
       if (this.heldLength < need) {
+        if (this.heldStart + need > h.length) {
+          // Compact: heldStart > MAX_FRAME here, so this copy is paid for by that many bytes consumed.
+          h.copyWithin(0, this.heldStart, this.heldStart + this.heldLength);
+          this.heldStart = 0;
+        }
         const k = Math.min(need - this.heldLength, end - pos);
-        h.set(bytes.subarray(pos, pos + k), this.heldLength);
+        h.set(bytes.subarray(pos, pos + k), this.heldStart + this.heldLength);
         this.heldLength += k;
         pos += k;
         if (this.heldLength < need) return pos;
       }
-      const tail = this.scan(h, 0, this.heldLength);
-      if (tail >= this.heldLength) {
+      const heldEnd = this.heldStart + this.heldLength;
+      const tail = this.scan(h, this.heldStart, heldEnd);
+      if (tail >= heldEnd) {
+        this.heldStart = 0;
         this.heldLength = 0;
       } else {
-        // tail > 0 here: the scanner always consumes a decided candidate, and heldNeed() made it decidable.
-        h.copyWithin(0, tail, this.heldLength);
-        this.heldLength -= tail;
+        // tail > heldStart here: the scanner always consumes a decided candidate, and heldNeed() made it decidable.
+        this.heldLength = heldEnd - tail;
+        this.heldStart = tail;
       }
     }
     return pos;
@@ -178,15 +208,26 @@ export class FrameDecoder {
       }
       const total = HEADER_LENGTH + body + CRC_LENGTH;
       if (end - pos < total) return pos;
-      const crcAt = pos + HEADER_LENGTH + body;
-      const stored = (src[crcAt] | (src[crcAt + 1] << 8) | (src[crcAt + 2] << 16) | (src[crcAt + 3] << 24)) >>> 0;
-      if (crc32(src, pos + 4, crcAt) !== stored) {
-        c.crcErrors++;
+      const long = body > this.longestValid;
+      if (long && this.credit < body) {
+        c.unchecked++;
         this.lostAlignment = true;
         c.discardedBytes += 1;
         pos += 1;
         continue;
       }
+      const crcAt = pos + HEADER_LENGTH + body;
+      const stored = (src[crcAt] | (src[crcAt + 1] << 8) | (src[crcAt + 2] << 16) | (src[crcAt + 3] << 24)) >>> 0;
+      if (crc32(src, pos + 4, crcAt) !== stored) {
+        c.crcErrors++;
+        c.failedCheckBytes += body + 4;
+        if (long) this.credit -= body;
+        this.lostAlignment = true;
+        c.discardedBytes += 1;
+        pos += 1;
+        continue;
+      }
+      if (body > this.longestValid) this.longestValid = body;
       this.lostAlignment = false;
       c.frames++;
       this.dispatch(src, pos + HEADER_LENGTH, kind, body);

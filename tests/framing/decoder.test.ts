@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { encodeDescribeRequest, encodeDescriptorFrame } from '../../agent/framing/encoder.ts';
-import { FrameDecoder } from '../../agent/framing/decoder.ts';
+import { CRC_WORK_PER_BYTE, FrameDecoder } from '../../agent/framing/decoder.ts';
 import type { BoardDescriptor } from '../../agent/framing/descriptor.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { concat, randomFrame, recordingDecoder, type SentFrame } from './frame-stream.ts';
@@ -10,6 +10,7 @@ import {
   KIND_DESCRIPTOR,
   KIND_SAMPLES,
   MAX_BODY,
+  MAX_FRAME,
   SERIAL_PROTOCOL_VERSION,
   SYNC,
 } from '../../agent/framing/protocol.ts';
@@ -258,6 +259,46 @@ describe('FrameDecoder', () => {
     expect(got).toEqual([GOOD]);
     expect(dec.counters.descriptors).toBe(1);
     expect(dec.counters.crcErrors).toBeGreaterThanOrEqual(1);
+  });
+
+  // A flood of false sync words, each promising the largest body (65535 bytes), one every 8 bytes: checked one by
+  // one, each costs a CRC over 64 KiB for 8 bytes of input (about 8000 bytes of work per byte). The decoder's
+  // stated bound is CRC_WORK_PER_BYTE bytes of failed checks per byte received, plus a few largest frames.
+  it('bounds the work a flood of false 64 KiB headers costs, and still delivers the real frames inside it', () => {
+    const fake = new Uint8Array(8);
+    fake.set(SYNC, 0);
+    fake[4] = SERIAL_PROTOCOL_VERSION;
+    fake[5] = KIND_SAMPLES;
+    fake[6] = 0xff;
+    fake[7] = 0xff;
+    const flood = new Uint8Array(2 * 1024 * 1024);
+    for (let i = 0; i < flood.length; i += 8) flood.set(fake, i);
+    const rng = new SeededRandom(7);
+    const parts: Uint8Array[] = [];
+    const sent: SentFrame[] = [];
+    let seq = 0;
+    for (let k = 0; k < 16; k++) {
+      // A real frame, then a slice of the flood: the board's frames must survive among the false headers.
+      const f = randomFrame(rng, seq);
+      parts.push(f.bytes, flood.subarray(k * 131072, (k + 1) * 131072));
+      sent.push(f.sent);
+      seq = (seq + f.sent.frames) >>> 0;
+    }
+    const tail = randomFrame(rng, seq);
+    parts.push(tail.bytes);
+    sent.push(tail.sent);
+    const bytes = concat(parts);
+    const { decoder, got } = recordingDecoder();
+    for (let p = 0; p < bytes.length; p += 4096) decoder.push(bytes.subarray(p, Math.min(bytes.length, p + 4096)));
+    const c = decoder.counters;
+    expect(c.failedCheckBytes).toBeLessThanOrEqual(CRC_WORK_PER_BYTE * c.bytes + 4 * MAX_FRAME);
+    expect(c.unchecked).toBeGreaterThan(0);
+    // Every real frame whose length was seen before is still checked and delivered; the first real frame of the
+    // stream comes before the flood. Frames longer than any seen may be skipped while the budget is spent.
+    const delivered = got.map((g) => g.sequence);
+    expect(delivered[0]).toBe(sent[0].sequence);
+    expect(got.length).toBeGreaterThanOrEqual(sent.length - 8);
+    for (const g of got) expect(sent).toContainEqual(g);
   });
 
   it('recovers exactly the sent frames for arbitrary garbage and chunking (property, fast-check)', () => {
