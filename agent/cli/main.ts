@@ -4,6 +4,7 @@ import { commands } from './commands.ts';
 import { printable } from '../../protocol/limits.ts';
 import { installStructuredLogs, structuredLogsWanted } from '../service/log-lines.ts';
 import { FloorlineError } from '../errors.ts';
+import { guardTerminalOutput } from './output-guard.ts';
 
 /** The long-running commands, whose output becomes JSON lines under a service manager. */
 const SERVICE_COMMANDS = ['run', 'replay', 'demo'];
@@ -22,6 +23,7 @@ function topHelp(): string {
 }
 
 export async function main(argv: string[]): Promise<number> {
+  guardTerminalOutput();
   const [name, ...rest] = argv;
   if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
     process.stdout.write(topHelp());

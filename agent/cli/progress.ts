@@ -1,5 +1,8 @@
 // A one-line progress bar on stderr, drawn only when stderr is a terminal (pipes and logs stay clean).
+// Drawn through rawStderr(): its \r and erase sequence are ours, not text from outside.
 // Redraws when the shown permille changes, so the cost does not depend on how often update() is called.
+import { rawStderr } from './output-guard.ts';
+
 export interface Progress {
   update(done: number, total: number): void;
   finish(): void;
@@ -11,7 +14,7 @@ interface TtyLike {
   write(text: string): unknown;
 }
 
-export function createProgress(label: string, stream: TtyLike = process.stderr): Progress {
+export function createProgress(label: string, stream: TtyLike = rawStderr()): Progress {
   if (!stream.isTTY) return { update() {}, finish() {} };
   let shown = -1;
   let drawn = false;
