@@ -15,6 +15,7 @@ import { handleRequest } from './control.ts';
 import { renderMetrics, OPENMETRICS_CONTENT_TYPE } from './metrics.ts';
 import { sendError, sendFileInside } from './static-files.ts';
 import { handleHistoryApi } from '../store/api.ts';
+import { handleSpectraApi } from '../store/spectra-api.ts';
 
 export const AGENT_VERSION = '0.1.0';
 const EVENTS_ON_CONNECT = 200;
@@ -211,6 +212,8 @@ export async function startServer(
       res.end(head ? undefined : body);
     } else if (handleHistoryApi(path, url, res, head, backend.history?.path)) {
       // /api/trend, /api/incidents: answered from the history store
+    } else if (handleSpectraApi(path, url, res, head, backend.history?.path)) {
+      // /api/spectra, /api/spectrum: kept spectra from the history store
     } else if (path === '/metrics') {
       res.writeHead(200, { 'content-type': OPENMETRICS_CONTENT_TYPE, 'cache-control': 'no-store' });
       res.end(head ? undefined : renderMetrics(status(), AGENT_VERSION));

@@ -11,16 +11,16 @@ import { FloorlineError } from '../errors.ts';
 export const DEFAULT_POINTS = 1000;
 export const MAX_POINTS = 10_000;
 
-class BadParameter extends Error {}
+export class BadParameter extends Error {}
 
-function param(url: URL, name: string, max = 200): string | undefined {
+export function param(url: URL, name: string, max = 200): string | undefined {
   const v = url.searchParams.get(name);
   if (v === null || v === '') return undefined;
   if (v.length > max) throw new BadParameter(`'${name}' is longer than ${max} characters`);
   return v;
 }
 
-function time(url: URL, name: string): TimeBound | undefined {
+export function time(url: URL, name: string): TimeBound | undefined {
   const v = param(url, name);
   if (v === undefined) return undefined;
   try {
@@ -32,7 +32,7 @@ function time(url: URL, name: string): TimeBound | undefined {
 
 /** A reader connection per store path, opened on first use (the writer checked the file when it opened it). */
 const readers = new Map<string, StoreDb>();
-function reader(path: string): StoreDb {
+export function reader(path: string): StoreDb {
   let db = readers.get(path);
   if (!db || !db.open) {
     db = openStoreForReading(path, false);
@@ -46,9 +46,24 @@ export function closeHistoryReaders(): void {
   readers.clear();
 }
 
-function send(res: ServerResponse, status: number, body: unknown, head: boolean): void {
+export function send(res: ServerResponse, status: number, body: unknown, head: boolean): void {
   res.writeHead(status, { 'content-type': 'application/json; charset=utf-8', 'cache-control': 'no-store' });
   res.end(head ? undefined : JSON.stringify(body));
+}
+
+/** 404 for a history request to an agent that keeps no store. */
+export function sendNoHistory(res: ServerResponse, head: boolean): void {
+  send(
+    res,
+    404,
+    {
+      error: {
+        code: 'no-history',
+        message: 'this agent keeps no history store (started with --no-history, or no data folder)',
+      },
+    },
+    head,
+  );
 }
 
 /** Answers /api/trend and /api/incidents; returns false for other paths. */
@@ -61,17 +76,7 @@ export function handleHistoryApi(
 ): boolean {
   if (path !== '/api/trend' && path !== '/api/incidents') return false;
   if (!storePath) {
-    send(
-      res,
-      404,
-      {
-        error: {
-          code: 'no-history',
-          message: 'this agent keeps no history store (started with --no-history, or no data folder)',
-        },
-      },
-      head,
-    );
+    sendNoHistory(res, head);
     return true;
   }
   try {

@@ -9,8 +9,9 @@ import { lockStore, type StoreLock } from './store-lock.ts';
 import { openStoreForWriting, type StoreDb } from './open-store.ts';
 import { HistoryWriter } from './history-writer.ts';
 import { TrendSampler } from './trend-sampler.ts';
+import { SpectrumSampler } from './spectrum-sampler.ts';
 import { IncidentBook, type AlarmEventLike, type IncidentRecord } from './incident-book.ts';
-import type { Level } from './schema.ts';
+import type { Retention } from './levels.ts';
 
 export interface HistoryOptions {
   /** The store file (DATA/floorline.sqlite for a live run). */
@@ -19,7 +20,7 @@ export interface HistoryOptions {
   /** What feeds the pipeline (port path or recording), kept with each run. */
   source: string;
   bands?: readonly { low: number; high: number }[];
-  retention?: Record<Level, number>;
+  retention?: Retention;
   detectorStatus?: () => readonly DetectorStatus[] | undefined;
   /** The detectors' own incident records (grouping, acknowledge state); absent: incidents are built from events. */
   incidentRecords?: () => readonly IncidentRecord[] | undefined;
@@ -57,10 +58,18 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
     detectorStatus: o.detectorStatus,
     wallMsAt: (sample) => Date.parse(pipeline.wallTimeAt(sample)),
   });
+  const spectra = new SpectrumSampler(writer);
   const book = new IncidentBook();
   pipeline.addSegmentObserver(sampler);
   const offs = [
-    pipeline.on('snapshot', (s) => sampler.onSnapshot(s), 'history store'),
+    pipeline.on(
+      'snapshot',
+      (s) => {
+        sampler.onSnapshot(s);
+        spectra.onSnapshot(s);
+      },
+      'history store',
+    ),
     pipeline.on(
       'event',
       (e) => {

@@ -21,7 +21,7 @@ export const HISTORY_FLAGS: FlagSpec[] = [
     name: 'keep',
     kind: 'string',
     value: 'SPEC',
-    help: 'history retention per level, e.g. 1s=3h,1m=14d,1h=400d (defaults: snap=10m,1s=3h,1m=14d,1h=400d)',
+    help: 'history retention per level, e.g. 1s=3h,1m=14d,1h=400d,spectra=7d (defaults: snap=10m,1s=3h,1m=14d,1h=400d,spectra=2d)',
   },
 ];
 

@@ -5,7 +5,7 @@
 import type { StoreDb } from './open-store.ts';
 import { LEVELS, type Level } from './schema.ts';
 import { RowBuffer } from './row-buffer.ts';
-import { DEFAULT_RETENTION } from './levels.ts';
+import { DEFAULT_RETENTION, SPECTRA_RETENTION_SECONDS, type Retention } from './levels.ts';
 import type { IncidentRecord } from './incident-book.ts';
 
 export interface RunInfo {
@@ -24,12 +24,12 @@ interface OpenRun extends RunInfo {
 
 export interface WriterOptions {
   warn: (message: string) => void;
-  retention?: Record<Level, number>;
+  retention?: Retention;
   /** Wall ms between retries after a failed write (default 5000). */
   retryMs?: number;
 }
 
-type Op = { sql: 'event'; args: unknown[] } | { sql: 'note'; args: unknown[] } | { sql: 'incident'; args: unknown[] };
+type Op = { sql: 'event' | 'note' | 'incident' | 'spectrum'; args: unknown[] };
 
 const MAX_QUEUED_OPS = 100_000;
 
@@ -44,7 +44,7 @@ export class HistoryWriter {
   private readonly ops: Op[] = [];
   private readonly insertRow: Record<Level, import('better-sqlite3').Statement>;
   private readonly stmt;
-  private readonly retention: Record<Level, number>;
+  private readonly retention: Retention;
   private readonly retryMs: number;
   private run: OpenRun | undefined;
   private failing:
@@ -84,6 +84,10 @@ export class HistoryWriter {
         `INSERT OR REPLACE INTO incidents (id, run, channel, rules, members, start_sample, start_t, start_wall, end_sample, end_t, end_wall,
            settled, peak, acknowledged, capture) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
       ),
+      spectrum: db.prepare(
+        'INSERT OR REPLACE INTO spectra (run, sample, channel, wall_ms, unit, f_low, f_high, density) VALUES (?, ?, ?, ?, ?, ?, ?, ?)',
+      ),
+      pruneSpectra: db.prepare('DELETE FROM spectra WHERE wall_ms < ?'),
       unstored: db.prepare(
         'INSERT INTO unstored (run, from_sample, to_sample, from_wall, to_wall, reason) VALUES (?, ?, ?, ?, ?, ?)',
       ),
@@ -197,6 +201,23 @@ export class HistoryWriter {
     });
   }
 
+  /** A kept spectrum: `density` (unit²/Hz) on the log grid from fLow to fHigh, stored as float32. */
+  spectrum(s: {
+    sample: number;
+    channel: string;
+    unit: string;
+    fLow: number;
+    fHigh: number;
+    density: Float32Array;
+  }): void {
+    if (!this.run) return;
+    const blob = Buffer.from(s.density.buffer, s.density.byteOffset, s.density.byteLength);
+    this.queue({
+      sql: 'spectrum',
+      args: [this.run.id, s.sample, s.channel, this.wallMsAt(s.sample), s.unit, s.fLow, s.fHigh, Buffer.from(blob)],
+    });
+  }
+
   private queue(op: Op): void {
     if (this.ops.length >= MAX_QUEUED_OPS) this.ops.shift(); // bounded while the disk refuses; events.jsonl keeps them too
     this.ops.push(op);
@@ -306,6 +327,7 @@ export class HistoryWriter {
             else for (const s of series) prune.run(s, r.id, k);
           }
         }
+        this.stmt.pruneSpectra.run(this.latestWallMs - (this.retention.spectra ?? SPECTRA_RETENTION_SECONDS) * 1000);
       })();
     } catch (err) {
       if (!isStorageFault(err)) throw err;

@@ -163,7 +163,9 @@ export function openStoreForReading(path: string, check = true): StoreDb {
   applyPragmas(db, true);
   const p = check ? problemWithDb(db) : undefined;
   const version = p ? 0 : (db.pragma('user_version', { simple: true }) as number);
-  if (p || version < SCHEMA_VERSION) {
+  // An older schema reads as it is: versions only add tables, so every query but the newer tables' answers
+  // (e.g. /api/spectra says the store keeps none until an agent has migrated it).
+  if (p || version < 1 || version > SCHEMA_VERSION) {
     db.close();
     throw new StoreFileError(
       p

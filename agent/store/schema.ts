@@ -96,6 +96,25 @@ CREATE TABLE unstored (
 );
 `;
 
+// Version 2: spectra kept every few seconds of sample time on a reduced log grid (dsp/log-grid.ts), for the
+// waterfall after a page load and the timeline's "spectrum at this time". A rowid table: its 1 KiB rows fit three
+// to a page, where a WITHOUT ROWID table would spill each into an overflow page (four times the size).
+const VERSION_2 = `
+CREATE TABLE spectra (
+  id INTEGER PRIMARY KEY,
+  run INTEGER NOT NULL REFERENCES runs(id),
+  channel TEXT NOT NULL,
+  sample INTEGER NOT NULL,      -- snapshot instant: the estimate holds the segments that end at or before it
+  wall_ms REAL NOT NULL,        -- wall time of sample, ms since 1970 UTC
+  unit TEXT NOT NULL,           -- channel unit; density is unit²/Hz
+  f_low REAL NOT NULL,          -- Hz, first grid point (the first bin)
+  f_high REAL NOT NULL,         -- Hz, last grid point (Nyquist)
+  density BLOB NOT NULL         -- float32 little-endian, one per log-spaced grid point (length/4 points)
+);
+CREATE UNIQUE INDEX spectra_key ON spectra (run, channel, sample);
+CREATE INDEX spectra_wall ON spectra (wall_ms);
+`;
+
 /** MIGRATIONS[v]: SQL taking the schema from version v to v + 1 (v = 0: an empty file). */
-export const MIGRATIONS: readonly string[] = [VERSION_1];
+export const MIGRATIONS: readonly string[] = [VERSION_1, VERSION_2];
 export const SCHEMA_VERSION = MIGRATIONS.length;
