@@ -13,6 +13,7 @@ import { IncidentPanel } from './views/incident-panel.ts';
 import { TimelineView, pickSeries, trendUrl, type TimelineQuery } from './views/timeline.ts';
 import type { TrendReply } from '../protocol/trend.ts';
 import type { IncidentsReply } from '../protocol/incidents.ts';
+import type { SpectraReply } from '../protocol/spectra.ts';
 import { TraceView } from './views/trace.ts';
 import { HealthStrip } from './views/health.ts';
 import { Controls } from './views/controls.ts';
@@ -129,6 +130,7 @@ export class App {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
       this.waterfall.setBaselineFloor(this.baselinePsd());
       this.waterfall.clear();
+      void this.prefillWaterfall();
     });
   }
 
@@ -140,6 +142,7 @@ export class App {
         void this.refreshIncidents();
         if (m.context) this.setContext(m.context);
         this.setStatus(m.status);
+        void this.prefillWaterfall();
         break;
       case 'context':
         this.setContext(m.context);
@@ -221,6 +224,36 @@ export class App {
       const b = this.pendingBaseline;
       this.pendingBaseline = null;
       this.onBinary(b);
+    }
+  }
+
+  /**
+   * Fills the waterfall from the spectra the store kept over the span it shows, so a page load starts with
+   * history instead of an empty canvas. A replay's span is in sample time (its wall labels come from the file).
+   */
+  async prefillWaterfall(): Promise<void> {
+    const ctx = this.context;
+    const st = this.status;
+    const channel = ctx?.channels[this.waterfall.channel]?.name;
+    if (!ctx || !st || !channel) return;
+    const span = this.waterfall.spanSeconds;
+    const replay = st.replay !== null;
+    const nowWall = Date.parse(st.wallTime) / 1000;
+    const from = replay ? `t=${Math.max(0, st.t - span)}` : new Date((nowWall - span) * 1000).toISOString();
+    try {
+      const q = new URLSearchParams({ channel, from, rows: String(Math.round(span / 5) + 2) });
+      const r = await fetch(`api/spectra?${q.toString()}`, { credentials: 'same-origin' });
+      if (!r.ok) return; // no store, or none kept yet: the waterfall fills live
+      const body = (await r.json()) as SpectraReply;
+      if (this.context !== ctx || ctx.channels[this.waterfall.channel]?.name !== channel) return;
+      const latest = this.status ?? st;
+      this.waterfall.prefill(
+        body.rows,
+        (row) => (replay ? row.t : Date.parse(row.wallTime) / 1000),
+        replay ? latest.t : Date.parse(latest.wallTime) / 1000,
+      );
+    } catch {
+      /* the link state shows a lost agent */
     }
   }
 

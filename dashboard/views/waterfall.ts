@@ -3,7 +3,8 @@
 // the baseline floor, with a colour-scale legend. One row per `snapshotsPerRow` updates (max over them), so the
 // canvas spans minutes; per update the work is one pass over the bins and, per row, one scroll and one line.
 import { densityLabel } from '../units.ts';
-import { columnOf, logColumns } from './waterfall-columns.ts';
+import { columnOf, gridColumns, logColumns } from './waterfall-columns.ts';
+import type { StoredSpectrumJson } from '../../protocol/spectra.ts';
 import { powerRatioDb } from '../../dsp/units.ts';
 
 /** Colour range around the baseline floor (median density): 10 dB below to 40 dB above. */
@@ -174,6 +175,56 @@ export class WaterfallView {
     }
   }
 
+  /** Sample time one drawn row stands for, seconds (10 spectra a second). */
+  get rowSeconds(): number {
+    return this.snapshotsPerRow / 10;
+  }
+
+  /**
+   * Fills the canvas from kept spectra (oldest first, from the store), each drawn as the rows of the time until
+   * the next one (`timeOf`, seconds; `now` ends the newest), so the live rows that follow continue one time
+   * scale. Rows on another grid (kept under other settings) are skipped. Returns the number of rows drawn.
+   */
+  prefill(rows: readonly StoredSpectrumJson[], timeOf: (r: StoredSpectrumJson) => number, now: number): number {
+    const w = this.colFirst.length;
+    if (w === 0) return 0;
+    const same = (a: number, b: number): boolean => Math.abs(a - b) <= 1e-9 * Math.max(1, Math.abs(b));
+    const h = this.canvas.height;
+    const usable = rows
+      .filter((r) => same(r.fLow, this.fLow) && same(r.fHigh, this.fHigh) && r.density.length > 1)
+      .slice(-h);
+    if (usable.length === 0) return 0;
+    this.clear();
+    let drawn = 0;
+    let cols: { first: Int32Array; last: Int32Array; n: number } | null = null;
+    for (let i = 0; i < usable.length; i++) {
+      const r = usable[i];
+      const until = i + 1 < usable.length ? timeOf(usable[i + 1]) : now;
+      const k = Math.max(1, Math.min(h, Math.round((until - timeOf(r)) / this.rowSeconds)));
+      if (!cols || cols.n !== r.density.length)
+        cols = { ...gridColumns(w, this.fLow, this.fHigh, r.density.length, r.fLow, r.fHigh), n: r.density.length };
+      for (let x = 0; x < w; x++) {
+        let m = 0;
+        for (let j = cols.first[x], e = cols.last[x]; j <= e; j++) if (r.density[j] > m) m = r.density[j];
+        this.acc[x] = m;
+      }
+      this.newestT = r.t;
+      for (let j = 0; j < k; j++) this.drawRow();
+      drawn += k;
+    }
+    this.accCount = 0;
+    this.prefilledRows = drawn;
+    return drawn;
+  }
+
+  /** Sample time the canvas spans when full, seconds. */
+  get spanSeconds(): number {
+    return this.canvas.height * this.rowSeconds;
+  }
+
+  /** Rows drawn by the last prefill (tests read it). */
+  prefilledRows = 0;
+
   private drawRow(): void {
     const w = this.acc.length;
     const acc = this.acc;
@@ -197,7 +248,7 @@ export class WaterfallView {
     this.ctx.drawImage(this.canvas, 0, 0, w, h - 1, 0, 1, w, h - 1);
     this.ctx.putImageData(this.row, 0, 0);
     this.rows++;
-    const spanS = (Math.min(this.rows, h) * this.snapshotsPerRow) / 10;
+    const spanS = Math.min(this.rows, h) * this.rowSeconds;
     this.axisText.textContent =
       `newest row at the top, t = ${this.newestT.toFixed(1)} s (sample time); about ${spanS.toFixed(0)} s shown at 10 spectra/s; ` +
       `${this.snapshotsPerRow} spectra per row (max); colours ${this.lowDb}…${this.highDb} ${densityLabel('dbv', this.unit)}` +
@@ -250,7 +301,7 @@ export class WaterfallView {
         c.font = `${Math.round(10 * dpr)}px system-ui, sans-serif`;
         c.textAlign = 'right';
         c.textBaseline = 'middle';
-        const rowSeconds = this.snapshotsPerRow / 10;
+        const rowSeconds = this.rowSeconds;
         for (let s = 0; s <= 4; s++) {
           const y = Math.min(ta.height - 6, Math.max(6, (s / 4) * (ta.height - 1)));
           const ago = ((s / 4) * this.canvas.height * rowSeconds).toFixed(0);

@@ -1,0 +1,81 @@
+// The dashboard for a long watch, in real headless Chromium against the bundled demo (`floorline demo`, its own
+// history store): the waterfall filled from the store on page load, the spectrum at a clicked time of the
+// timeline, and every control with a name in Chromium's accessibility tree.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { BrowserContext, Page } from 'playwright-core';
+import { launchChromium, ARTIFACTS } from './support/browser.ts';
+import { startAgent, type Agent } from './support/agent.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
+import type { SpectraReply } from '../../protocol/spectra.ts';
+
+const dir = mkdtempSync(join(tmpdir(), 'floorline-long-watch-'));
+let browser: BrowserContext;
+let agent: Agent;
+
+const status = async (): Promise<AgentStatus> => (await (await fetch(`${agent.url}api/status`)).json()) as AgentStatus;
+
+/** Polls a page-side expression until it is truthy. */
+async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
+  const end = Date.now() + timeoutMs;
+  while (!(await page.evaluate(expression))) {
+    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}`);
+    await new Promise((r) => setTimeout(r, 50));
+  }
+}
+
+async function open(): Promise<Page> {
+  const page = await browser.newPage();
+  const errors: string[] = [];
+  page.on('pageerror', (e) => errors.push(e.message));
+  await page.goto(agent.url);
+  await waitUntil(page, 'window.floorline !== undefined && window.floorline.spectraApplied >= 1', 20_000);
+  expect(errors).toEqual([]);
+  return page;
+}
+
+beforeAll(async () => {
+  browser = await launchChromium({ width: 1600, height: 1200 });
+  agent = await startAgent(['demo', '--speed', '4', '--http-port', '0', '--data', join(dir, 'data')]);
+  // Two minutes of sample time (the waterfall's span) kept in the store before the page opens.
+  const end = Date.now() + 90_000;
+  while ((await status()).t < 125) {
+    if (Date.now() > end) throw new Error('the demo did not reach 125 s of sample time within 90 s');
+    await new Promise((r) => setTimeout(r, 250));
+  }
+}, 120_000);
+afterAll(async () => {
+  await agent?.stop();
+  await browser?.close();
+});
+
+describe('waterfall after a page load', () => {
+  it('is filled from the kept spectra at once, not row by row from the live stream', async () => {
+    const kept = (await (await fetch(`${agent.url}api/spectra?channel=bridge&from=t=0`)).json()) as SpectraReply;
+    expect(kept.rows.length).toBeGreaterThan(20);
+    const page = await open();
+    await waitUntil(page, 'window.floorline.waterfall.prefilledRows > 0', 10_000);
+    const r: { prefilled: number; live: number; height: number; darkRows: number } = await page.evaluate(`(() => {
+      const w = window.floorline.waterfall;
+      const c = document.getElementById('waterfall');
+      const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+      // Rows still in the cleared colour rgb(16, 24, 43) across the whole width: never drawn.
+      let darkRows = 0;
+      for (let y = 0; y < c.height; y++) {
+        let dark = true;
+        for (let x = 0; x < c.width && dark; x++) { const i = (y * c.width + x) * 4; dark = d[i] === 16 && d[i + 1] === 24 && d[i + 2] === 43; }
+        if (dark) darkRows++;
+      }
+      return { prefilled: w.prefilledRows, live: window.floorline.spectraApplied, height: c.height, darkRows };
+    })()`);
+    await page.screenshot({ path: join(ARTIFACTS, 'waterfall-prefilled.png') });
+    // 125 s of kept history at 0.5 s a row fills the 240-row canvas; the live stream alone would have drawn one
+    // row per 5 spectra received so far.
+    expect(r.prefilled).toBeGreaterThanOrEqual(r.height - 12);
+    expect(r.live / 5).toBeLessThan(r.prefilled / 4);
+    expect(r.darkRows).toBeLessThan(12);
+    await page.close();
+  });
+});
