@@ -3,11 +3,12 @@
 import { spawn, spawnSync } from 'node:child_process';
 import { mkdirSync, readdirSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { dataFolderAt } from '../../agent/config/data-folder.ts';
 import { repairRecordings } from '../../agent/recorder/repair-on-start.ts';
 import { readWavFile } from '../../agent/wav/reader.ts';
 import { Python, root, tempDir } from '../wav/support.ts';
+import { mountSmallDisk, releaseSmallDisks } from '../support/small-disk.ts';
 
 const RATE = 4000;
 const FRAMES = 8 * RATE;
@@ -36,6 +37,8 @@ function wavsIn(folder: string): string[] {
     .filter((f) => f.endsWith('.wav'))
     .map((f) => join(folder, 'recordings', f));
 }
+
+afterEach(releaseSmallDisks);
 
 describe('recording under failure', () => {
   it('after kill -9 the WAV opens in scipy.io.wavfile and our reader with at most the last second missing', async () => {
@@ -88,10 +91,8 @@ describe('recording under failure', () => {
 
   it('on a full disk: a clear error, analysis runs to the end, the summary says recording failed', async () => {
     const mnt = join(dir, 'small-disk');
-    mkdirSync(mnt, { recursive: true });
     // A 96 KiB tmpfs: the 256 KB recording cannot fit. Needs root (as CI and this machine run).
-    const mount = spawnSync('mount', ['-t', 'tmpfs', '-o', 'size=96k', 'tmpfs', mnt]);
-    expect(mount.status, `mount tmpfs: ${mount.stderr}`).toBe(0);
+    mountSmallDisk(mnt, '96k');
     try {
       const args = ['replay', source, '--speed', 'max', '--no-server', '--quiet'];
       const reference = spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', cwd: dir });
@@ -114,7 +115,7 @@ describe('recording under failure', () => {
       expect(frames).toBeGreaterThan(0);
       expect(frames).toBeLessThan(FRAMES);
     } finally {
-      spawnSync('umount', [mnt]);
+      releaseSmallDisks();
     }
   });
 

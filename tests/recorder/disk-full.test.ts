@@ -14,19 +14,12 @@ import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
 import { SeededRandom } from '../../dsp/random.ts';
 import { tempDir } from '../wav/support.ts';
+import { mountSmallDisk, releaseSmallDisks } from '../support/small-disk.ts';
 
-const mounts: string[] = [];
-afterEach(() => {
-  for (const m of mounts.splice(0)) spawnSync('umount', [m]);
-});
+afterEach(releaseSmallDisks);
 
 function smallDisk(kib: number): string {
-  const mnt = join(tempDir('small-disk'), 'mnt');
-  mkdirSync(mnt);
-  const r = spawnSync('mount', ['-t', 'tmpfs', '-o', `size=${kib}k`, 'tmpfs', mnt]);
-  expect(r.status, `mount tmpfs: ${r.stderr}`).toBe(0);
-  mounts.push(mnt);
-  return mnt;
+  return mountSmallDisk(join(tempDir('small-disk'), 'mnt'), `${kib}k`);
 }
 
 /** Fills the disk to the last byte with a filler file (written until ENOSPC). */

@@ -15,20 +15,21 @@ import {
 } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { describe, expect, it } from 'vitest';
+import { afterEach, describe, expect, it } from 'vitest';
+import { mountSmallDisk, ownProcess, releaseSmallDisks } from '../support/small-disk.ts';
 
 const root = new URL('../..', import.meta.url).pathname;
 const bin = join(root, 'bin/floorline.mjs');
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const MB = 1_000_000;
 
+afterEach(releaseSmallDisks);
+
 describe('retention on a small disk', () => {
   it('quota holds, the floor pauses recording with a disk alarm, captures survive, analysis goes on', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'fl-disk-'));
     const mnt = join(dir, 'disk');
-    mkdirSync(mnt);
-    const mount = spawnSync('mount', ['-t', 'tmpfs', '-o', 'size=16m', 'tmpfs', mnt]);
-    expect(mount.status, `mount tmpfs: ${mount.stderr}`).toBe(0);
+    mountSmallDisk(mnt, '16m');
     try {
       const config = join(dir, 'rig.json');
       writeFileSync(
@@ -51,9 +52,11 @@ describe('retention on a small disk', () => {
         '--post',
         '2',
       ];
-      const child = spawn(process.execPath, [bin, ...args, '--config', config, '--record', '--rotate', '2'], {
-        stdio: ['ignore', 'pipe', 'pipe'],
-      });
+      const child = ownProcess(
+        spawn(process.execPath, [bin, ...args, '--config', config, '--record', '--rotate', '2'], {
+          stdio: ['ignore', 'pipe', 'pipe'],
+        }),
+      );
       let out = '';
       let err = '';
       child.stdout.on('data', (c) => (out += c));
@@ -135,7 +138,7 @@ print('ok')`,
       expect(digest(out)).toBeDefined();
       expect(digest(out)).toBe(digest(ref.stdout));
     } finally {
-      spawnSync('umount', [mnt]);
+      releaseSmallDisks();
     }
   }, 60_000);
 });

@@ -3,8 +3,9 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { Python, root, tempDir } from '../wav/support.ts';
+import { mountSmallDisk, releaseSmallDisks, ownProcess } from '../support/small-disk.ts';
 
 const RATE = 4000;
 const bin = join(root, 'bin/floorline.mjs');
@@ -63,6 +64,8 @@ wavfile.write(args[2], args[1], (1e-3 * rng.standard_normal((600 * args[1], 4)))
 }, 60_000);
 
 afterAll(() => py.close());
+
+afterEach(releaseSmallDisks);
 
 describe('history store durability', () => {
   it('kill -9: the store opens, at most the last second is missing, and a restart continues the series after a gap', async () => {
@@ -241,20 +244,19 @@ result = sqlite3.connect(args[0]).execute('select count(*) from accounts').fetch
 
   it('a full disk: the monitor runs on with the same spectra, says once that history is off, and records the unstored span once space returns', async () => {
     const mnt = join(dir, 'small-disk');
-    mkdirSync(mnt, { recursive: true });
     // A 384 KiB tmpfs (needs root, as CI and this machine run): room for the schema, not for 10 min × 4 channels.
-    const mount = spawnSync('mount', ['-t', 'tmpfs', '-o', 'size=384k', 'tmpfs', mnt]);
-    expect(mount.status, `mount tmpfs: ${mount.stderr}`).toBe(0);
+    mountSmallDisk(mnt, '384k');
     try {
       const args = ['replay', longWav, '--speed', '40', '--no-server', '--quiet', '--segment', '256'];
       const reference = spawnSync(process.execPath, [bin, ...args, '--speed', 'max', '--no-history'], {
         encoding: 'utf8',
         cwd: dir,
       });
-      const child = spawn(
-        process.execPath,
-        [bin, ...args, '--store', join(mnt, 'h.sqlite'), '--keep', 'snap=1h,1s=1d'],
-        { cwd: dir, stdio: ['ignore', 'pipe', 'pipe'] },
+      const child = ownProcess(
+        spawn(process.execPath, [bin, ...args, '--store', join(mnt, 'h.sqlite'), '--keep', 'snap=1h,1s=1d'], {
+          cwd: dir,
+          stdio: ['ignore', 'pipe', 'pipe'],
+        }),
       );
       let err = '';
       let out = '';
@@ -289,7 +291,7 @@ result = [{"from": r[0], "to": r[1], "reason": r[2]} for r in sqlite3.connect(ar
       expect(span[0].to).toBeGreaterThan(span[0].from);
       expect(span[0].reason).toMatch(/SQLITE_FULL/);
     } finally {
-      spawnSync('umount', [mnt]);
+      releaseSmallDisks();
     }
   }, 240_000);
 });
