@@ -18,7 +18,11 @@ const node = {
 await build({ ...node, entryPoints: [`${root}agent/cli/main.ts`], outfile: `${root}dist/floorline.mjs` });
 await build({
   ...node,
-  entryPoints: [`${root}agent/workers/channel-worker.ts`, `${root}agent/workers/span-worker.ts`],
+  entryPoints: [
+    `${root}agent/workers/channel-worker.ts`,
+    `${root}agent/workers/span-worker.ts`,
+    `${root}agent/workers/lowfreq-worker.ts`,
+  ],
   outdir: `${root}dist`,
   outExtension: { '.js': '.mjs' },
 });

@@ -20,6 +20,8 @@ import type {
   LowFrequencyUpdate,
   PeakToPeakFigures,
 } from '../../protocol/low-frequency-messages.ts';
+import type { LowFrequencyView } from './view.ts';
+import { FrameListeners } from './frame-listeners.ts';
 
 export interface LiveLowFrequencyOptions {
   /** Updates per second of sample time (default 2). */
@@ -124,22 +126,19 @@ export function fitFrame(
   }
 }
 
-export class LiveLowFrequency {
+export class LiveLowFrequency implements LowFrequencyView {
   readonly updatesPerSecond: number;
   readonly fitEvery: number;
   readonly spanSeconds: number;
   private readonly o: LiveLowFrequencyOptions;
   private channels: ChannelState[] = [];
-  private ctx: LowFrequencyContext | null = null;
-  private last: LowFrequencyUpdate | null = null;
+  private readonly out = new FrameListeners();
   private stride = 0;
   private sampleRate = 0;
   /** Next sample expected, and the sample-index offset of the grid (absolute − file index after a seam). */
   private expected = 0;
   private gridOffset = 0;
   private eq = new Float64Array(0);
-  private readonly contextListeners = new Set<(c: LowFrequencyContext) => void>();
-  private readonly updateListeners = new Set<(u: LowFrequencyUpdate) => void>();
 
   constructor(options: LiveLowFrequencyOptions = {}) {
     this.updatesPerSecond = options.updatesPerSecond ?? 2;
@@ -160,29 +159,32 @@ export class LiveLowFrequency {
   }
 
   onContext(fn: (c: LowFrequencyContext) => void): () => void {
-    this.contextListeners.add(fn);
-    return () => this.contextListeners.delete(fn);
+    return this.out.onContext(fn);
   }
 
   onUpdate(fn: (u: LowFrequencyUpdate) => void): () => void {
-    this.updateListeners.add(fn);
-    return () => this.updateListeners.delete(fn);
+    return this.out.onUpdate(fn);
+  }
+
+  /** Nothing runs elsewhere: every frame was delivered inside block(). */
+  close(): Promise<void> {
+    return Promise.resolve();
   }
 
   context(): LowFrequencyContext | null {
-    return this.ctx;
+    return this.out.ctx;
   }
 
   latest(): LowFrequencyUpdate | null {
-    return this.last;
+    return this.out.last;
   }
 
   status(): LowFrequencyStatus[] {
     return this.channels.map((c) => ({
       channel: c.name,
       unit: c.unit,
-      sample: this.last?.sample ?? -1,
-      t: this.last?.t ?? 0,
+      sample: this.out.last?.sample ?? -1,
+      t: this.out.last?.t ?? 0,
       fit: c.fit,
       peakToPeak: c.peakToPeak,
     }));
@@ -216,8 +218,8 @@ export class LiveLowFrequency {
     const first = this.channels[0]?.live;
     this.eq = new Float64Array(first?.count ?? 0);
     const meter = this.channels[0]?.meter;
-    this.ctx = {
-      id: (this.ctx?.id ?? 0) + 1,
+    this.out.context({
+      id: (this.out.ctx?.id ?? 0) + 1,
       sampleRate,
       channels: channels.map((c) => ({ name: c.name, unit: c.unit })),
       frequency: first ? Array.from(first.frequency) : [],
@@ -235,9 +237,7 @@ export class LiveLowFrequency {
             settleSeconds: meter.settleSeconds,
           }
         : null,
-    };
-    this.last = null;
-    for (const fn of this.contextListeners) fn(this.ctx);
+    });
   }
 
   private makeMeter(firstSample: number): PeakToPeakMeter | null {
@@ -290,7 +290,7 @@ export class LiveLowFrequency {
   }
 
   private publish(sample: number): void {
-    const ctx = this.ctx!;
+    const ctx = this.out.ctx!;
     const index = Math.round((sample - this.gridOffset + 1) / this.stride);
     const fitNow = index % this.fitEvery === 0;
     const update: LowFrequencyUpdate = {
@@ -315,7 +315,6 @@ export class LiveLowFrequency {
         };
       }),
     };
-    this.last = update;
-    for (const fn of this.updateListeners) fn(update);
+    this.out.update(update);
   }
 }

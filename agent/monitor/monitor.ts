@@ -12,7 +12,8 @@ import { captureLive, type LiveCapture } from '../baseline/live-capture.ts';
 import type { BaselineFile } from '../baseline/format.ts';
 import { dataFolderAt, ensureDataFolder, type DataFolder } from '../config/data-folder.ts';
 import { EventLog } from '../events/event-log.ts';
-import { LiveLowFrequency } from '../lowfreq/live-low-frequency.ts';
+import { chooseLowFrequencyView } from '../lowfreq/choose-view.ts';
+import type { LowFrequencyView } from '../lowfreq/view.ts';
 import { Pipeline } from '../pipeline/pipeline.ts';
 import { SnapshotDigest } from '../pipeline/snapshot-digest.ts';
 import type { SpectrumSnapshot } from '../pipeline/types.ts';
@@ -71,7 +72,7 @@ export class Monitor {
   readonly pipeline: Pipeline;
   readonly folder: DataFolder;
   readonly digest = new SnapshotDigest();
-  readonly lowFrequency: LiveLowFrequency | undefined;
+  readonly lowFrequency: LowFrequencyView | undefined;
   /** Resolves when the source ended (or was stopped) and every part is closed. */
   finished: Promise<void> = Promise.resolve();
   private recorderRef: Recorder | undefined;
@@ -115,7 +116,15 @@ export class Monitor {
       capture: (sample, label) => this.recorderRef?.capture(sample, label).file || undefined, // '' = refused (quota)
     });
     this.healthWatch = new HealthWatch(this.pipeline);
-    this.lowFrequency = o.lowFrequency === false ? undefined : new LiveLowFrequency();
+    this.lowFrequency =
+      o.lowFrequency === false
+        ? undefined
+        : chooseLowFrequencyView({
+            threads: o.threads ?? 1,
+            mode: o.mode,
+            view: typeof o.lowFrequency === 'object' ? o.lowFrequency : undefined,
+            onFailure: (message) => this.internalFault(message),
+          });
   }
 
   get recorder(): Recorder | undefined {
@@ -243,6 +252,8 @@ export class Monitor {
 
   /** Releases what prepare() opened (also when startup failed half-way). */
   async close(): Promise<void> {
+    // The view's workers deliver their last frames to the parts before those close.
+    await this.lowFrequency?.close();
     this.capturing?.run.cancel();
     this.retention?.stop();
     this.recorderRef?.close();
@@ -527,21 +538,17 @@ export class Monitor {
 
   private partFailed(part: MonitorPart, where: string, err: Error): void {
     this.say(`part ${part.name} failed in ${where} and is disabled (acquisition goes on): ${err.message}`);
+    this.internalFault(`part ${part.name} failed in ${where} and was disabled: ${err.message}`, false);
+  }
+
+  /** Something of the monitor's own stopped: said on the log (unless already said) and as an `internal` info event. */
+  private internalFault(detail: string, say = true): void {
+    if (say) this.say(detail);
     const info = this.pipeline.stream;
     const sample = Math.max(0, this.pipeline.counters().lastSample);
     const rate = info?.sampleRate ?? 1;
     this.pipeline.emitEvent(
-      makeEvent(
-        'internal',
-        'raised',
-        '*',
-        sample,
-        rate,
-        this.pipeline.wallTimeAt(sample),
-        `part ${part.name} failed in ${where} and was disabled: ${err.message}`,
-        {},
-        'info',
-      ),
+      makeEvent('internal', 'raised', '*', sample, rate, this.pipeline.wallTimeAt(sample), detail, {}, 'info'),
     );
   }
 }

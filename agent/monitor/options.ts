@@ -12,6 +12,7 @@ import type { ReplaySource } from '../sources/replay.ts';
 import type { RetentionPolicy } from '../retention/retention.ts';
 import type { AlarmHookOptions } from '../rules/alarm-hook.ts';
 import type { MonitorPart } from './parts.ts';
+import type { LiveLowFrequencyOptions } from '../lowfreq/live-low-frequency.ts';
 
 /** A part, or a function that makes one from the monitor (for parts that read the monitor, e.g. a server). */
 export type PartSpec = MonitorPart | ((monitor: Monitor) => MonitorPart | Promise<MonitorPart>);
@@ -38,8 +39,10 @@ export interface MonitorOptions {
   eventsOut?: string;
   /** Stop after this much sample time, seconds. */
   durationSeconds?: number;
-  /** Run the live low-frequency view (1/f fit, 0.1–10 Hz peak-to-peak); default on. */
-  lowFrequency?: boolean;
+  /** Run the live low-frequency view (1/f fit, 0.1–10 Hz peak-to-peak), optionally with its options; default on. */
+  lowFrequency?: boolean | LiveLowFrequencyOptions;
+  /** Analysis threads: above 1 the low-frequency view runs on worker threads (same frames, events, snapshots). */
+  threads?: number;
   /** Events kept for clients that connect later (default 1000). */
   eventHistory?: number;
   /** Keep the trend history in this store (agent/store); absent: no history. */

@@ -1,6 +1,7 @@
 // `floorline demo`: the bundled recording of our invented rig, replayed in real time, looping, against its
 // baseline, with the dashboard served. `npm start` runs this.
 import { existsSync } from 'node:fs';
+import { threadsFlag } from './threads-flag.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import { RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
@@ -86,6 +87,7 @@ export const demoCommand: CommandSpec = {
       default: DEFAULT_DATA_FOLDER,
       help: 'data folder (recordings/, baselines/, events.jsonl)',
     },
+    threadsFlag,
     ...RECORDING_FLAGS,
     ...SERVER_FLAGS,
     ...HISTORY_FLAGS,

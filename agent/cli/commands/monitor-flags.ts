@@ -22,6 +22,7 @@ import { CalibratedSource } from '../../config/calibration.ts';
 import type { Source } from '../../../protocol/stream.ts';
 import type { ReplaySource } from '../../sources/replay.ts';
 import { historyFromArgs, withSource } from '../../store/cli-flags.ts';
+import { resolveThreads } from '../../workers/threads.ts';
 
 export const PIPELINE_FLAGS: FlagSpec[] = [
   {
@@ -358,6 +359,7 @@ export async function monitorOptionsFromFlags(
     averaging: pipeline.averaging,
     snapshotRate: pipeline.snapshotRate,
     mode: w.mode,
+    threads: resolveThreads(f.threads as number | undefined),
     queueCapacity: w.queueCapacity,
     dataDir: pipeline.data,
     record: rec.record,

@@ -1,5 +1,6 @@
 // `floorline replay FILE`: the live pipeline fed from a recording, at real time, N× or as fast as it goes.
 import { createWriteStream } from 'node:fs';
+import { threadsFlag } from './threads-flag.ts';
 import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import {
@@ -131,6 +132,7 @@ export const replayCommand: CommandSpec = {
     ...HISTORY_FLAGS,
     ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
+    threadsFlag,
     ...PIPELINE_FLAGS,
   ],
   run: runReplay,

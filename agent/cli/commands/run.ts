@@ -1,6 +1,7 @@
 // `floorline run --port PATH`: live from a board over USB serial (binary framed or text), through the pipeline,
 // with alarms, event log, recording and the dashboard.
 import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { threadsFlag } from './threads-flag.ts';
 import { UsageError } from '../../errors.ts';
 import {
   ALARM_FLAGS,
@@ -109,6 +110,7 @@ export const runCommand: CommandSpec = {
     { name: 'quiet', kind: 'boolean', help: 'print only errors and the summary' },
     ...ALARM_FLAGS,
     ...RECORDING_FLAGS,
+    threadsFlag,
     ...PIPELINE_FLAGS,
     ...SERVER_FLAGS,
     ...HISTORY_FLAGS,

@@ -1,0 +1,126 @@
+// A fixed pool of sample slots in shared memory between the agent's thread and one worker: the agent copies a
+// block's channels into the next free slot and posts only its index; the worker reads the slot in place and
+// releases it. Slots are used and released in ring order, so two counters say which are free. The agent can wait
+// for a free slot without its event loop (Atomics.wait), which paces a lossless replay by the worker; memory is
+// slots × channels × slotFrames doubles however fast blocks come.
+
+/** Control words: slots released by the worker, slots filled by the agent, the worker's failure flag and the
+ * length of its reason, which follows as UTF-8 (readable while the agent's event loop is blocked). */
+const RELEASED = 0;
+const FILLED = 1;
+const FAILED = 2;
+const REASON_LENGTH = 3;
+const WORDS = 4;
+const REASON_BYTES = 1024;
+
+export interface BlockSlotsShape {
+  slots: number;
+  channels: number;
+  slotFrames: number;
+}
+
+export interface SharedBlockSlots extends BlockSlotsShape {
+  control: SharedArrayBuffer;
+  samples: SharedArrayBuffer;
+}
+
+export function allocateBlockSlots(shape: BlockSlotsShape): SharedBlockSlots {
+  const { slots, channels, slotFrames } = shape;
+  for (const [name, v] of Object.entries(shape))
+    if (!Number.isInteger(v) || v < 1) throw new RangeError(`block slots: ${name} must be an integer ≥ 1, got ${v}`);
+  return {
+    ...shape,
+    control: new SharedArrayBuffer(WORDS * 4 + REASON_BYTES),
+    samples: new SharedArrayBuffer(slots * channels * slotFrames * 8),
+  };
+}
+
+class SlotViews {
+  protected readonly control: Int32Array;
+  private readonly views: Float64Array[][];
+  constructor(readonly shared: SharedBlockSlots) {
+    this.control = new Int32Array(shared.control, 0, WORDS);
+    const all = new Float64Array(shared.samples);
+    const { slots, channels, slotFrames } = shared;
+    this.views = Array.from({ length: slots }, (_, s) =>
+      Array.from({ length: channels }, (_, c) =>
+        all.subarray((s * channels + c) * slotFrames, (s * channels + c + 1) * slotFrames),
+      ),
+    );
+  }
+  /** The channels of one slot (each slotFrames long). */
+  slot(index: number): Float64Array[] {
+    return this.views[index];
+  }
+  get failed(): boolean {
+    return Atomics.load(this.control, FAILED) !== 0;
+  }
+  /** What the worker said when it flagged its failure. */
+  get reason(): string {
+    if (!this.failed) return '';
+    const bytes = new Uint8Array(this.shared.control, WORDS * 4, Atomics.load(this.control, REASON_LENGTH));
+    return new TextDecoder().decode(bytes.slice());
+  }
+}
+
+/** The agent's side: fills slots in ring order. */
+export class SlotWriter extends SlotViews {
+  private filled = 0;
+  private at = 0;
+
+  /** Slots filled and not yet released. */
+  get inUse(): number {
+    return (this.filled - Atomics.load(this.control, RELEASED)) | 0;
+  }
+
+  get hasFree(): boolean {
+    return this.inUse < this.shared.slots;
+  }
+
+  /**
+   * Index of the next slot once one is free, waiting up to waitMs (0: do not wait); -1 when none became free in
+   * time or the worker has flagged a failure (check `failed`).
+   */
+  next(waitMs: number): number {
+    const until = performance.now() + waitMs;
+    for (;;) {
+      if (this.failed) return -1;
+      const released = Atomics.load(this.control, RELEASED);
+      if (((this.filled - released) | 0) < this.shared.slots) return this.at;
+      const left = until - performance.now();
+      if (left <= 0) return -1;
+      // Woken by a release or a failure; short slices so a worker that died without a word is noticed by the caller.
+      Atomics.wait(this.control, RELEASED, released, Math.min(left, 100));
+    }
+  }
+
+  /** The slot returned by next() is filled: publish it (before posting its index). */
+  commit(): void {
+    this.filled = (this.filled + 1) | 0;
+    this.at = (this.at + 1) % this.shared.slots;
+    Atomics.store(this.control, FILLED, this.filled);
+  }
+}
+
+/** The worker's side: reads slots as their messages arrive and releases them in the same order. */
+export class SlotReader extends SlotViews {
+  /** The channels of a posted slot; the fill is visible once FILLED is read. */
+  read(index: number): Float64Array[] {
+    Atomics.load(this.control, FILLED);
+    return this.slot(index);
+  }
+
+  release(): void {
+    Atomics.add(this.control, RELEASED, 1);
+    Atomics.notify(this.control, RELEASED);
+  }
+
+  /** Wakes a waiting agent and tells it this worker is gone, and why. */
+  fail(reason: string): void {
+    const room = new Uint8Array(this.shared.control, WORDS * 4, REASON_BYTES);
+    const { written } = new TextEncoder().encodeInto(reason.slice(0, REASON_BYTES / 4), room);
+    Atomics.store(this.control, REASON_LENGTH, written);
+    Atomics.store(this.control, FAILED, 1);
+    Atomics.notify(this.control, RELEASED);
+  }
+}
