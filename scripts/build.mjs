@@ -1,8 +1,21 @@
 // Bundles the CLI (Node) and the dashboard (browser) with esbuild into dist/.
 import { build } from 'esbuild';
+import { execFileSync } from 'node:child_process';
 import { cpSync, existsSync, mkdirSync } from 'node:fs';
 
 const root = new URL('..', import.meta.url).pathname;
+
+// The commit the bundle comes from, for reports and --version ("unknown" outside a git checkout).
+function gitCommit() {
+  try {
+    const git = (...args) =>
+      execFileSync('git', ['-C', root, ...args], { encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] });
+    const head = git('rev-parse', 'HEAD').trim();
+    return git('status', '--porcelain', '--untracked-files=no').trim() ? `${head}-dirty` : head;
+  } catch {
+    return 'unknown';
+  }
+}
 
 // The CLI and the worker threads' own small bundles, side by side in dist/ (agent/workers/worker-script.ts finds
 // them there).
@@ -14,6 +27,7 @@ const node = {
   packages: 'external',
   sourcemap: true,
   logLevel: 'warning',
+  define: { FLOORLINE_COMMIT: JSON.stringify(gitCommit()) },
 };
 await build({ ...node, entryPoints: [`${root}agent/cli/main.ts`], outfile: `${root}dist/floorline.mjs` });
 await build({

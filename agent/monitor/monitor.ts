@@ -2,6 +2,7 @@
 // current baseline and the live low-frequency view, plus any attached parts. run, replay and demo all start one
 // through startMonitor; the dashboard server reads it through the read model below and keeps no state of its own.
 import { mkdirSync, existsSync } from 'node:fs';
+import { resolve as resolvePath } from 'node:path';
 import { writeFile } from 'node:fs/promises';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { alarmId, bandId } from '../../protocol/ids.ts';
@@ -24,6 +25,7 @@ import type { DetectorStatus } from '../rules/detectors.ts';
 import { makeEvent } from '../rules/event-factory.ts';
 import { ReplaySource } from '../sources/replay.ts';
 import { attachHistory, type History } from '../store/attach.ts';
+import { fileSha256, type RunContext } from '../store/run-context.ts';
 import { isDiskFault } from '../store/disk-fault.ts';
 import { attachNotifier } from '../notify/attach.ts';
 import type { Notifier } from '../notify/notifier.ts';
@@ -88,6 +90,8 @@ export class Monitor {
   private readonly bandTable = new BandTable();
   private last: SpectrumSnapshot | null = null;
   private baselineNow: BaselineView | null;
+  /** The baseline file on disk (for the history store's run context). */
+  private baselinePath: string | undefined;
   private capturing: { file: string; run: LiveCapture } | null = null;
   private stopping: Promise<void> | undefined;
   private readonly say: (line: string) => void;
@@ -107,6 +111,7 @@ export class Monitor {
     this.folder = dataFolderAt(o.dataDir);
     this.recent = new EventHistory(o.eventHistory ?? 1000);
     this.baselineNow = o.baseline ? baselineView(o.baseline.label ?? o.baseline.where, o.baseline.baseline) : null;
+    this.baselinePath = o.baseline ? resolvePath(o.baseline.where) : undefined;
     this.parts = new PartHost((part, where, err) => this.partFailed(part, where, err));
     this.hook = new AlarmHook({
       baseline: o.baseline?.baseline,
@@ -173,6 +178,7 @@ export class Monitor {
           ...o.history,
           command: o.command,
           detectorStatus: () => hook.detectors?.status(),
+          context: () => this.runContext(),
           incidentRecords: () => hook.detectors?.incidentRecords(),
           onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
           warn: (m) => this.say(m),
@@ -418,6 +424,25 @@ export class Monitor {
     return n > 0;
   }
 
+  /** What the history store keeps with each run besides its settings (agent/store/run-context.ts). */
+  private runContext(): RunContext | undefined {
+    const info = this.pipeline.stream;
+    if (!info) return undefined;
+    const b = this.baselineNow;
+    return {
+      dataDir: this.folder.root,
+      ...(info.boardId !== undefined ? { boardId: info.boardId } : {}),
+      ...(info.firmware !== undefined ? { firmware: info.firmware } : {}),
+      channels: info.channels,
+      averaging: this.pipeline.averaging,
+      baseline:
+        b && this.baselinePath
+          ? { path: this.baselinePath, sha256: fileSha256(this.baselinePath), settingsHash: b.hash }
+          : null,
+      config: this.o.rig ? { path: resolvePath(this.o.rig.file), sha256: fileSha256(this.o.rig.file) } : null,
+    };
+  }
+
   /** Acknowledge and shelve go into the event log (and so the store and reports) as info events of the incident. */
   private operatorEvent(
     row: AlarmRow,
@@ -502,6 +527,7 @@ export class Monitor {
     }
     this.hook.useBaseline(result, file);
     this.baselineNow = baselineView(file, result);
+    this.baselinePath = path;
     return { file };
   }
 

@@ -5,6 +5,22 @@ import { queryTrend, type Every, type TrendSeries } from '../store/trend-query.t
 import { queryIncidents, type IncidentView } from '../store/incident-query.ts';
 import type { TimeBound } from '../store/time-bound.ts';
 import { FloorlineError } from '../errors.ts';
+import { readRunContexts, type RunContext } from '../store/run-context.ts';
+
+/** An operator's acknowledge or shelve of an incident, from the events table. */
+export interface OperatorAction {
+  state: 'acknowledged' | 'shelved';
+  t: number;
+  wallTime: string;
+  /** Shelved until this sample (shelve only). */
+  untilSample?: number;
+}
+
+export interface ReportIncident extends IncidentView {
+  /** Sample of the incident's first settled event, null without one. */
+  settledSample: number | null;
+  history: OperatorAction[];
+}
 
 export interface ReportData {
   runs: {
@@ -14,6 +30,7 @@ export interface ReportData {
     sampleRate: number;
     startWall: string;
     settings: Record<string, unknown>;
+    context: RunContext | null;
   }[];
   every: Every;
   from: string;
@@ -21,7 +38,7 @@ export interface ReportData {
   fromT: number;
   toT: number;
   series: TrendSeries[];
-  incidents: IncidentView[];
+  incidents: ReportIncident[];
   notes: { text: string; wallTime: string; t: number | null; incident: string | null }[];
   health: { rule: string; state: string; count: number }[];
   unstored: { from: string; to: string; reason: string }[];
@@ -41,7 +58,28 @@ function everyFor(spanMs: number): Every {
   return '1h';
 }
 
+/** Each incident's settled sample and its acknowledge/shelve history, from the events table. */
+function withHistory(db: StoreDb, list: IncidentView[]): ReportIncident[] {
+  const settled = db.prepare(
+    "SELECT min(sample) AS sample FROM events WHERE incident = ? AND kind = 'alarm' AND state = 'settled'",
+  );
+  const actions = db.prepare(
+    "SELECT state, t, wall_time, json FROM events WHERE incident = ? AND kind = 'info' AND state IN ('acknowledged', 'shelved') ORDER BY id",
+  );
+  return list.map((i) => ({
+    ...i,
+    settledSample: (settled.get(i.id) as { sample: number | null }).sample,
+    history: (
+      actions.all(i.id) as { state: OperatorAction['state']; t: number; wall_time: string; json: string }[]
+    ).map((a) => {
+      const until = (JSON.parse(a.json) as { shelvedUntilSample?: number }).shelvedUntilSample;
+      return { state: a.state, t: a.t, wallTime: a.wall_time, ...(until !== undefined ? { untilSample: until } : {}) };
+    }),
+  }));
+}
+
 export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): ReportData {
+  const contexts = readRunContexts(db);
   const runs = (
     db.prepare('SELECT id, command, source, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
       id: number;
@@ -58,6 +96,7 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     sampleRate: r.sample_rate,
     startWall: r.start_wall,
     settings: JSON.parse(r.settings),
+    context: contexts.get(r.id) ?? null,
   }));
   // The span's extent from one series at the coarsest level that has rows (bounded memory for months), then the
   // resolution that suits it.
@@ -76,7 +115,7 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     rowMs = ms;
     if (rows.length) break;
   }
-  const incidents = queryIncidents(db, from, to);
+  const incidents = withHistory(db, queryIncidents(db, from, to));
   // An incident still open at the end of the store overlaps every later span: it alone does not make data.
   const startsInside = incidents.filter(
     (i) => !from || (from.kind === 'wall' ? Date.parse(i.start.wallTime) >= from.ms : i.start.t >= from.seconds),

@@ -2,15 +2,21 @@
 // its PDF through headless Chromium's print.
 import { spawnSync } from 'node:child_process';
 import { existsSync, writeFileSync } from 'node:fs';
-import { resolve } from 'node:path';
+import { dirname, join, relative, resolve } from 'node:path';
 import type { CommandSpec, ParsedArgs } from '../cli/args.ts';
 import { InputError, UsageError } from '../errors.ts';
 import { storePathFromArgs } from '../store/cli-flags.ts';
 import { openStoreForReading } from '../store/open-store.ts';
 import { SPAN_FLAGS, STORE_SOURCE_FLAGS, readSpan } from '../store/commands/query-flags.ts';
 import { collectReport } from './collect.ts';
+import type { TimeBound } from '../store/time-bound.ts';
 import { renderReport } from './render.ts';
-import { AGENT_VERSION } from '../server/server.ts';
+import { computeFigures } from './figures.ts';
+import { BUILD_COMMIT, FLOORLINE_VERSION } from '../build-info.ts';
+import { createProgress } from '../cli/progress.ts';
+
+/** Exit status when a limit mask fails (as `analyze --mask`): the report is written all the same. */
+export const MASK_FAIL_EXIT = 3;
 
 const CHROMIUM = ['/usr/bin/chromium', '/usr/bin/chromium-browser', '/usr/bin/google-chrome'];
 
@@ -42,30 +48,54 @@ function printPdf(html: string, pdf: string): void {
     );
 }
 
+/** The report as HTML, and whether a mask failed; shared by the command and the dashboard's report endpoint. */
+export async function buildReport(
+  storePath: string,
+  span: { from?: TimeBound; to?: TimeBound },
+  o: { maskPath?: string; outDir: string; generatedAt: string; progress?: boolean },
+): Promise<{ html: string; maskFailed: boolean }> {
+  const db = openStoreForReading(storePath);
+  let data;
+  try {
+    data = collectReport(db, span.from, span.to);
+  } finally {
+    db.close();
+  }
+  const bar = o.progress ? createProgress('report: incident spectra') : undefined;
+  const figures = await computeFigures(data, { maskPath: o.maskPath, onIncident: bar?.update });
+  bar?.finish();
+  // Captures are linked relative to the report, from the data folder the run recorded (else the store's folder).
+  const dataDir = figures.context?.dataDir ?? dirname(resolve(storePath));
+  const html = renderReport(data, figures, {
+    generatedAt: o.generatedAt,
+    version: FLOORLINE_VERSION,
+    commit: BUILD_COMMIT,
+    link: (capture) => relative(o.outDir, join(dataDir, capture)).split('\\').join('/'),
+  });
+  const maskFailed = [...figures.maskVerdicts.values()].some((v) => typeof v === 'object' && !v.pass);
+  return { html, maskFailed };
+}
+
 async function runReport(args: ParsedArgs): Promise<number> {
   const f = args.flags;
   const out = f.out as string | undefined;
   if (!out) throw new UsageError('floorline report: -o report.html is required (where to write the report).');
-  if (f.mask)
-    throw new UsageError(
-      'floorline report: --mask is not supported yet; leave it out (the report then has no pass/fail column).',
-    );
   const span = readSpan(args, 'report');
-  const db = openStoreForReading(storePathFromArgs(args));
-  let html: string;
-  try {
-    html = renderReport(collectReport(db, span.from, span.to), new Date().toISOString(), AGENT_VERSION);
-  } finally {
-    db.close();
-  }
   const path = resolve(out);
+  const { html, maskFailed } = await buildReport(storePathFromArgs(args), span, {
+    maskPath: f.mask as string | undefined,
+    outDir: dirname(path),
+    generatedAt: new Date().toISOString(),
+    progress: true,
+  });
   writeFileSync(path, html);
   process.stdout.write(`report ${path}\n`);
   if (f.pdf) {
     printPdf(path, resolve(f.pdf as string));
     process.stdout.write(`pdf    ${resolve(f.pdf as string)}\n`);
   }
-  return 0;
+  if (f.mask) process.stdout.write(`mask   ${maskFailed ? 'fail' : 'pass'}\n`);
+  return maskFailed ? MASK_FAIL_EXIT : 0;
 }
 
 export const reportCommand: CommandSpec = {
@@ -77,7 +107,12 @@ export const reportCommand: CommandSpec = {
   flags: [
     { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'the HTML report to write (required)' },
     { name: 'pdf', kind: 'string', value: 'FILE', help: 'also print it to PDF with headless Chromium' },
-    { name: 'mask', kind: 'string', value: 'FILE', help: 'limit mask CSV (not supported yet)' },
+    {
+      name: 'mask',
+      kind: 'string',
+      value: 'FILE',
+      help: 'limit mask CSV (frequency,limit[,unit]): pass/fail per channel and band, exit 3 on fail',
+    },
     ...SPAN_FLAGS,
     ...STORE_SOURCE_FLAGS,
   ],

@@ -1,5 +1,6 @@
 // HTTP + WebSocket server of the agent: dashboard assets, /api/status, /metrics, read-only data files, and /ws
 // (JSON control messages in, JSON messages and binary frames out). Binds 127.0.0.1 by default.
+import { FLOORLINE_VERSION } from '../build-info.ts';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
@@ -17,7 +18,7 @@ import { sendError, sendFileInside } from './static-files.ts';
 import { handleHistoryApi } from '../store/api.ts';
 import { handleSpectraApi } from '../store/spectra-api.ts';
 
-export const AGENT_VERSION = '0.1.0';
+export const AGENT_VERSION = FLOORLINE_VERSION;
 const EVENTS_ON_CONNECT = 200;
 
 export interface RunningServer {

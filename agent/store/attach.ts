@@ -12,6 +12,7 @@ import { TrendSampler } from './trend-sampler.ts';
 import { SpectrumSampler } from './spectrum-sampler.ts';
 import { IncidentBook, type AlarmEventLike, type IncidentRecord } from './incident-book.ts';
 import type { Retention } from './levels.ts';
+import type { RunContext } from './run-context.ts';
 
 export interface HistoryOptions {
   /** The store file (DATA/floorline.sqlite for a live run). */
@@ -22,6 +23,8 @@ export interface HistoryOptions {
   bands?: readonly { low: number; high: number }[];
   retention?: Retention;
   detectorStatus?: () => readonly DetectorStatus[] | undefined;
+  /** The run's baseline, config and channels, stored with each run for reports. */
+  context?: () => RunContext | undefined;
   /** The detectors' own incident records (grouping, acknowledge state); absent: incidents are built from events. */
   incidentRecords?: () => readonly IncidentRecord[] | undefined;
   /** Tells the detectors of a note on an incident (so their listing shows it too). */
@@ -56,6 +59,7 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
     source: o.source,
     bands: o.bands,
     detectorStatus: o.detectorStatus,
+    context: o.context,
     wallMsAt: (sample) => Date.parse(pipeline.wallTimeAt(sample)),
   });
   const spectra = new SpectrumSampler(writer);

@@ -7,6 +7,7 @@ import { LEVELS, type Level } from './schema.ts';
 import { RowBuffer } from './row-buffer.ts';
 import { DEFAULT_RETENTION, SPECTRA_RETENTION_SECONDS, type Retention } from './levels.ts';
 import type { IncidentRecord } from './incident-book.ts';
+import { contextKey, type RunContext } from './run-context.ts';
 
 export interface RunInfo {
   command: string;
@@ -16,6 +17,8 @@ export interface RunInfo {
   startWallMs: number;
   settings: object;
   levelSamples: Record<Level, number>;
+  /** Baseline, config, channels and data folder of the run (meta `run:ID:context`). */
+  context?: RunContext;
 }
 
 interface OpenRun extends RunInfo {
@@ -72,6 +75,7 @@ export class HistoryWriter {
       run: db.prepare(
         'INSERT INTO runs (command, source, pid, sample_rate, first_sample, start_wall_ms, start_wall, settings, level_samples) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)',
       ),
+      context: db.prepare('INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)'),
       seriesFind: db.prepare(
         'SELECT id FROM series WHERE channel = ? AND quantity = ? AND band_low IS ? AND band_high IS ?',
       ),
@@ -127,6 +131,7 @@ export class HistoryWriter {
       JSON.stringify(info.levelSamples),
     );
     this.run = { ...info, id: Number(r.lastInsertRowid) };
+    if (info.context) this.stmt.context.run(contextKey(this.run.id), JSON.stringify(info.context));
     return this.run.id;
   }
 

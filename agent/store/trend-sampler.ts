@@ -11,6 +11,7 @@ import { levelSamples } from './levels.ts';
 import { LEVELS } from './schema.ts';
 import type { HistoryWriter } from './history-writer.ts';
 import { medianInRange } from './median.ts';
+import type { RunContext } from './run-context.ts';
 
 export interface SamplerOptions {
   command: string;
@@ -20,6 +21,8 @@ export interface SamplerOptions {
   /** Wall time label of a sample (the pipeline's wallTimeAt). */
   wallMsAt: (sample: number) => number;
   detectorStatus?: () => readonly DetectorStatus[] | undefined;
+  /** The run's baseline, config and channels, asked at the start of each run. */
+  context?: () => RunContext | undefined;
 }
 
 interface RunGrid {
@@ -58,6 +61,7 @@ export class TrendSampler implements SegmentObserver {
       startWallMs: this.options.wallMsAt(g.firstSample),
       settings: s,
       levelSamples: lengths,
+      context: this.options.context?.(),
     });
     const ids: number[] = [];
     for (const ch of g.channels)

@@ -48,7 +48,8 @@ describe('the report in Chromium', () => {
     expect(errors).toEqual([]);
     expect(requests).toEqual([url]);
     const plots = await page.$$eval('svg', (svgs) => svgs.map((s) => s.getBoundingClientRect().width));
-    expect(plots.length).toBe(4); // band RMS and floor density for each of the demo's two channels
+    // One spectrum per incident (four scripted faults), band RMS and floor density for each of the two channels.
+    expect(plots.length).toBe(8);
     for (const w of plots) expect(w).toBeGreaterThan(500);
     // The hostile note is shown as text.
     expect(await page.textContent('table.incidents')).toContain('<script>console.error("injected")</script>');

@@ -1,7 +1,7 @@
 // `floorline report` on the bundled demo replayed into a store: one incident per scripted fault with the settled
 // levels `floorline incidents --json` gives, hostile note text escaped, no external resources, byte-identical
-// apart from the marked generation time, exit 2 on an empty span, and a PDF whose text holds the incident table
-// (pdftotext from poppler-utils, when installed).
+// apart from the marked generation time, exit 2 on an empty span, and an A4 PDF whose text holds the incident
+// table on its second page (pdftotext and pdfinfo from Debian's poppler-utils).
 import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -30,7 +30,8 @@ describe('floorline report', () => {
     };
     expect(incidents.length).toBe(4);
     for (const i of incidents) {
-      expect(html).toContain(`<td>${i.id}<br>`);
+      expect(html).toContain(`<td><a href="#inc-${i.id}">${i.id}</a><br>`);
+      expect(html).toContain(`<section class="incident" id="inc-${i.id}">`);
       if (i.settled) expect(html).toContain(`${i.settled.levelDb.toFixed(1)} dB re baseline`);
     }
     // The note is there as text: no live markup from it (HTML escaping, common practice).
@@ -60,13 +61,40 @@ describe('floorline report', () => {
     expect(none.stderr).toMatch(/no history store at/);
   });
 
-  it('prints a PDF through headless Chromium whose text holds the incident table', () => {
+  it('prints an A4 PDF through headless Chromium with the incident table on page 2 and the safety note last', () => {
     const r = floorline('report', '--store', store, '-o', 'p.html', '--pdf', 'p.pdf');
     expect(r.status, r.stderr).toBe(0);
-    expect(readFileSync(join(dir, 'p.pdf')).subarray(0, 5).toString()).toBe('%PDF-');
-    const text = spawnSync('pdftotext', [join(dir, 'p.pdf'), '-'], { encoding: 'utf8' });
-    if (text.error) return; // poppler-utils not installed: the PDF header check above stands
-    expect(text.stdout).toContain('Incidents');
-    expect(text.stdout).toMatch(/band-rise/);
+    const pdf = join(dir, 'p.pdf');
+    expect(readFileSync(pdf).subarray(0, 5).toString()).toBe('%PDF-');
+    // poppler-utils is installed by scripts/ensure-system-packages.sh: a missing pdfinfo fails here, not skips.
+    const info = spawnSync('pdfinfo', [pdf], { encoding: 'utf8' });
+    expect(info.error, 'pdfinfo (Debian poppler-utils) is needed').toBeUndefined();
+    const pages = Number(/^Pages:\s+(\d+)/m.exec(info.stdout)?.[1]);
+    // ISO 216 A4 is 210 × 297 mm = 595.28 × 841.89 pt; Chromium rounds to whole CSS px (1/96 in).
+    const size = /^Page size:\s+([\d.]+) x ([\d.]+) pts/m.exec(info.stdout)!;
+    expect(Math.abs(Number(size[1]) - 595.28)).toBeLessThan(1);
+    expect(Math.abs(Number(size[2]) - 841.89)).toBeLessThan(1);
+    const page = (n: number) =>
+      spawnSync('pdftotext', ['-f', String(n), '-l', String(n), pdf, '-'], { encoding: 'utf8' }).stdout;
+    // Page 1: header and summary; page 2 starts the incidents (a forced break), its table lists every incident.
+    expect(page(1)).toMatch(/1\. Rig and settings[\s\S]*2\. Summary/);
+    const second = page(2);
+    expect(second.trimStart().startsWith('3. Incidents')).toBe(true);
+    const { incidents } = JSON.parse(floorline('incidents', '--store', store, '--json').stdout) as {
+      incidents: { id: string; settled: { levelDb: number } | null }[];
+    };
+    expect(incidents.length).toBe(4);
+    // Table cells wrap: an id may break after a hyphen (which pdftotext then drops as a hyphenation), a level between its words.
+    for (const i of incidents) expect(second).toMatch(new RegExp(i.id.replace(/-/g, '-?\\s*')));
+    for (const i of incidents)
+      if (i.settled) expect(second).toMatch(new RegExp(`${i.settled.levelDb.toFixed(1)}\\s+dB\\s+re`));
+    // The trends start a page of their own, and the document ends with the safety note on its last page.
+    const withTrends = Array.from({ length: pages }, (_, n) => n + 1).filter((n) =>
+      page(n).trimStart().startsWith('4. Trends'),
+    );
+    expect(withTrends.length).toBe(1);
+    expect(page(pages)).toContain('Safety');
+    expect(pages).toBeGreaterThanOrEqual(withTrends[0] + 1);
+    expect(pages).toBeLessThanOrEqual(8);
   }, 60_000);
 });
