@@ -30,7 +30,8 @@ export interface WorkerLowFrequencyOptions {
   view?: LiveLowFrequencyOptions;
   /** Told once when the view stops because a worker failed. */
   onFailure: (message: string) => void;
-  /** Slots per worker and frames per slot (default 4 × 16384); longer blocks are cut into slot-sized pieces. */
+  /** Slots per worker and frames per slot; longer blocks are cut into slot-sized pieces. Defaults: 4 × 65536 in
+   * lossless mode (a replay's whole blocks), 32 × 8192 in bounded mode (a live run's short blocks, ~2 s deep). */
   slots?: number;
   slotFrames?: number;
   /** A lossless wait for a slot longer than this means the worker stopped answering (default 60 s). */
@@ -51,6 +52,8 @@ export class WorkerLowFrequency implements LowFrequencyView {
   private merger: FrameMerger | undefined;
   private readonly out = new FrameListeners();
   private failure: string | undefined;
+  private readonly slotCount: number;
+  private readonly slotFrames: number;
   private closing = false;
   /** Blocks (slot-sized pieces) left out of the view because its workers were behind (bounded mode only). */
   droppedBlocks = 0;
@@ -58,6 +61,8 @@ export class WorkerLowFrequency implements LowFrequencyView {
   constructor(private readonly o: WorkerLowFrequencyOptions) {
     if (!Number.isInteger(o.threads) || o.threads < 1)
       throw new RangeError(`low-frequency view: threads must be an integer ≥ 1, got ${o.threads}`);
+    this.slotCount = o.slots ?? (o.mode === 'lossless' ? 4 : 32);
+    this.slotFrames = o.slotFrames ?? (o.mode === 'lossless' ? 65536 : 8192);
   }
 
   attach(feed: BlockFeed): this {
@@ -83,7 +88,7 @@ export class WorkerLowFrequency implements LowFrequencyView {
     return this.out.last;
   }
 
-  /** Per channel, as of the last block each worker has finished (empty once the view has failed). */
+  /** Per channel, as of each worker's newest update, start or gap (empty once the view has failed). */
   status(): LowFrequencyStatus[] {
     if (this.failure) return [];
     const out: LowFrequencyStatus[] = [];
@@ -134,9 +139,9 @@ export class WorkerLowFrequency implements LowFrequencyView {
     this.workers = Array.from({ length: count }, (_, index) => {
       const owned = Array.from({ length: channels }, (_, c) => c).filter((c) => c % count === index);
       const shared = allocateBlockSlots({
-        slots: this.o.slots ?? 4,
+        slots: this.slotCount,
         channels: owned.length,
-        slotFrames: this.o.slotFrames ?? 16384,
+        slotFrames: this.slotFrames,
       });
       const data: LowFrequencyWorkerData = { view: this.o.view ?? {}, slots: shared };
       const worker = new Worker(script, { workerData: data });
@@ -171,7 +176,7 @@ export class WorkerLowFrequency implements LowFrequencyView {
 
   private block(firstSample: number, frames: number, data: readonly Float64Array[]): void {
     if (this.failure || this.closing || this.workers.length === 0) return;
-    const piece = this.o.slotFrames ?? 16384;
+    const piece = this.slotFrames;
     const lossless = this.o.mode === 'lossless';
     for (let at = 0; at < frames; at += piece) {
       const n = Math.min(piece, frames - at);

@@ -4,13 +4,15 @@
 // for a free slot without its event loop (Atomics.wait), which paces a lossless replay by the worker; memory is
 // slots × channels × slotFrames doubles however fast blocks come.
 
-/** Control words: slots released by the worker, slots filled by the agent, the worker's failure flag and the
- * length of its reason, which follows as UTF-8 (readable while the agent's event loop is blocked). */
+/** Control words: slots released by the worker, slots filled by the agent, the worker's failure flag, the
+ * length of its reason, which follows as UTF-8 (readable while the agent's event loop is blocked), and whether
+ * the agent is waiting (the worker wakes it only then: a wake is a system call). */
 const RELEASED = 0;
 const FILLED = 1;
 const FAILED = 2;
 const REASON_LENGTH = 3;
-const WORDS = 4;
+const WAITING = 4;
+const WORDS = 5;
 const REASON_BYTES = 1024;
 
 export interface BlockSlotsShape {
@@ -90,7 +92,10 @@ export class SlotWriter extends SlotViews {
       const left = until - performance.now();
       if (left <= 0) return -1;
       // Woken by a release or a failure; short slices so a worker that died without a word is noticed by the caller.
+      // A release between the load above and the wait changes RELEASED, so the wait returns at once.
+      Atomics.store(this.control, WAITING, 1);
       Atomics.wait(this.control, RELEASED, released, Math.min(left, 100));
+      Atomics.store(this.control, WAITING, 0);
     }
   }
 
@@ -112,7 +117,7 @@ export class SlotReader extends SlotViews {
 
   release(): void {
     Atomics.add(this.control, RELEASED, 1);
-    Atomics.notify(this.control, RELEASED);
+    if (Atomics.load(this.control, WAITING) !== 0) Atomics.notify(this.control, RELEASED);
   }
 
   /** Wakes a waiting agent and tells it this worker is gone, and why. */
