@@ -79,6 +79,12 @@ export interface NoteRequest {
   incident?: string;
 }
 
+/** Compare against the baseline in use before the current one again (the agent keeps one previous baseline). */
+export interface RestoreBaselineRequest {
+  type: 'restore-baseline';
+  id: number;
+}
+
 export interface StatusRequest {
   type: 'get-status';
   id: number;
@@ -91,6 +97,7 @@ export type ClientMessage =
   | AcknowledgeRequest
   | ShelveRequest
   | NoteRequest
+  | RestoreBaselineRequest
   | StatusRequest;
 export type ClientMessageType = ClientMessage['type'];
 
@@ -207,6 +214,8 @@ export interface AgentStatus {
   settings: AnalysisSettings | null;
   averaging: AveragingSpec | null;
   baseline: { file: string; hash: string } | null;
+  /** The baseline before the current one, which a restore-baseline request brings back (absent: none kept). */
+  previousBaseline?: { file: string; hash: string } | null;
   /** Sample index of the spectrum the band rows were computed from (null before the first). */
   spectrumSample: number | null;
   bands: BandRow[];
@@ -229,6 +238,8 @@ export interface ReplyResults {
   shelve: { shelved: boolean; untilSample: number };
   note: { sample: number; t: number; wallTime: string };
   'get-status': { status: AgentStatus };
+  /** `file`: the baseline compared against from the next spectrum on; `previous`: the one it replaced. */
+  'restore-baseline': { file: string; previous: string };
 }
 
 export type ReplyMessage =

@@ -92,6 +92,9 @@ export class Monitor {
   private baselineNow: BaselineView | null;
   /** The baseline file on disk (for the history store's run context). */
   private baselinePath: string | undefined;
+  /** The file behind baselineNow, and the baseline before it (one is kept, for restore-baseline). */
+  private baselineData: BaselineFile | null;
+  private baselinePrevious: { view: BaselineView; data: BaselineFile; path: string | undefined } | null = null;
   private capturing: { file: string; run: LiveCapture } | null = null;
   private stopping: Promise<void> | undefined;
   private readonly say: (line: string) => void;
@@ -112,6 +115,7 @@ export class Monitor {
     this.recent = new EventHistory(o.eventHistory ?? 1000);
     this.baselineNow = o.baseline ? baselineView(o.baseline.label ?? o.baseline.where, o.baseline.baseline) : null;
     this.baselinePath = o.baseline ? resolvePath(o.baseline.where) : undefined;
+    this.baselineData = o.baseline?.baseline ?? null;
     this.parts = new PartHost((part, where, err) => this.partFailed(part, where, err));
     this.hook = new AlarmHook({
       baseline: o.baseline?.baseline,
@@ -355,6 +359,9 @@ export class Monitor {
       settings: p.analysisSettings ?? null,
       averaging: p.averaging,
       baseline: b ? { file: b.file, hash: b.hash } : null,
+      previousBaseline: this.baselinePrevious
+        ? { file: this.baselinePrevious.view.file, hash: this.baselinePrevious.view.hash }
+        : null,
       spectrumSample: this.last?.sample ?? null,
       bands: this.bands(),
       alarms: this.alarms(),
@@ -526,9 +533,43 @@ export class Monitor {
       throw new MonitorRefusal('failed', `cannot write ${file}: ${(err as Error).message}`);
     }
     this.hook.useBaseline(result, file);
+    this.keepPrevious();
     this.baselineNow = baselineView(file, result);
     this.baselinePath = path;
+    this.baselineData = result;
     return { file };
+  }
+
+  private keepPrevious(): void {
+    this.baselinePrevious =
+      this.baselineNow && this.baselineData
+        ? { view: this.baselineNow, data: this.baselineData, path: this.baselinePath }
+        : null;
+  }
+
+  /**
+   * Compares against the baseline before the current one again, from the next snapshot on; the current one
+   * becomes the previous (so a restore can itself be undone). Refused when none is kept, or when it was taken
+   * with other analysis settings than the running ones.
+   */
+  restoreBaseline(): { file: string; previous: string } {
+    const prev = this.baselinePrevious;
+    if (!prev)
+      throw new MonitorRefusal(
+        'failed',
+        'no previous baseline: the agent keeps the one in use before the latest capture or restore, and there has been none',
+      );
+    try {
+      this.hook.useBaseline(prev.data, prev.view.file);
+    } catch (err) {
+      throw new MonitorRefusal('failed', (err as Error).message);
+    }
+    const replaced = this.baselineNow?.file ?? '(none)';
+    this.keepPrevious();
+    this.baselineNow = prev.view;
+    this.baselineData = prev.data;
+    this.baselinePath = prev.path;
+    return { file: prev.view.file, previous: replaced };
   }
 
   async setRecording(on: boolean): Promise<RecordingState> {

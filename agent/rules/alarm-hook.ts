@@ -1,7 +1,8 @@
 // The pipeline's detector hook (agent/pipeline/types.ts Detector): builds the detector set from the first snapshot's
 // analysis settings and channels, so callers need not know them in advance. A baseline taken with other settings
 // is refused then (InputError naming the setting). If the analysis is reconfigured later in a live run, the set is
-// rebuilt; when the baseline no longer matches, the comparison rules stop and an info event says why.
+// rebuilt; when the baseline no longer matches, the comparison rules stop and an info event says why, and when
+// the settings match it again (the dashboard's way back) they resume, with an info event too.
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { firstSettingMismatch } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice, StreamInfo } from '../../protocol/stream.ts';
@@ -110,24 +111,41 @@ export class AlarmHook implements Detector {
 
   private build(snap: SpectrumSnapshot, pre: FloorlineEvent[]): void {
     const first = this.set === undefined;
-    let baseline = this.baselineDropped ? undefined : this.o.baseline;
+    let baseline = this.o.baseline;
     const mismatch = baseline ? firstSettingMismatch(baseline.settings, snap.settings) : undefined;
-    if (baseline && mismatch && !first) {
-      baseline = undefined;
-      this.baselineDropped = true;
+    if (baseline && !mismatch && this.baselineDropped) {
+      this.baselineDropped = false;
       pre.push(
         makeEvent(
           'baseline',
-          'cleared',
+          'raised',
           '*',
           snap.sample,
           snap.settings.sampleRate,
           snap.wallTime,
-          `baseline comparison stopped: the analysis now differs from the baseline's in ${mismatch}; capture a new baseline`,
+          `baseline comparison resumed: the analysis settings match baseline ${this.o.baselineWhere ?? 'in use'} again (alarm rules restarted)`,
           {},
           'info',
         ),
       );
+    }
+    if (baseline && mismatch && !first) {
+      baseline = undefined;
+      if (!this.baselineDropped)
+        pre.push(
+          makeEvent(
+            'baseline',
+            'cleared',
+            '*',
+            snap.sample,
+            snap.settings.sampleRate,
+            snap.wallTime,
+            `baseline comparison stopped: the analysis now differs from the baseline's in ${mismatch}; go back to its settings, or capture a new baseline`,
+            {},
+            'info',
+          ),
+        );
+      this.baselineDropped = true;
     }
     // On the first snapshot a mismatch throws (checkBaselineMatches inside Detectors): the run is refused.
     this.set = new Detectors(

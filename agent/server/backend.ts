@@ -80,6 +80,8 @@ export interface ServerBackend {
     replace?: boolean;
   }): Promise<{ file: string }>;
   setRecording(on: boolean): Promise<RecordingState>;
+  /** Compares against the previous baseline again (the current one becomes the previous); throws MonitorRefusal when none is kept or it no longer fits the settings. */
+  restoreBaseline?(): { file: string; previous: string };
   /** Applies new analysis settings from the next snapshot on; throws MonitorRefusal or RangeError naming what is wrong. */
   setAnalysis(change: AnalysisChange): void;
   /** Acknowledges the alarm with this id (AlarmRow.id); false when no active alarm took it. */

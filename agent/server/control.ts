@@ -67,6 +67,10 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
         const stamped = backend.history.note(m.text, m.incident);
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: stamped };
       }
+      case 'restore-baseline': {
+        if (!backend.restoreBaseline) throw new MonitorRefusal('unsupported', 'this agent cannot restore a baseline');
+        return { type: 'reply', id: m.id, request: m.type, ok: true, result: backend.restoreBaseline() };
+      }
       case 'get-status':
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { status: deps.status() } };
     }

@@ -45,6 +45,7 @@ export function monitorBackend(m: Monitor): { backend: ServerBackend; part: Moni
     health: () => m.health(),
     captureBaseline: (request) => m.captureBaseline(request),
     setRecording: (on) => m.setRecording(on),
+    restoreBaseline: () => m.restoreBaseline(),
     setAnalysis: (change) => m.setAnalysis(change),
     acknowledge: (alarmId) => m.acknowledge(alarmId),
     shelve: (alarmId, seconds) => {

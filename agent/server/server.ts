@@ -297,7 +297,12 @@ export async function startServer(
         return;
       }
       const m = parsed.message;
-      if (m.type === 'recording' || m.type === 'capture-baseline' || m.type === 'set-analysis') {
+      if (
+        m.type === 'recording' ||
+        m.type === 'capture-baseline' ||
+        m.type === 'set-analysis' ||
+        m.type === 'restore-baseline'
+      ) {
         const now = performance.now();
         const wait = lastControlAt + options.controlIntervalMs - now;
         if (wait > 0) {

@@ -24,6 +24,7 @@ const TYPES: Record<ClientMessageType, readonly string[]> = {
   acknowledge: ['type', 'id', 'alarm'],
   shelve: ['type', 'id', 'alarm', 'seconds'],
   note: ['type', 'id', 'text', 'incident'],
+  'restore-baseline': ['type', 'id'],
   'get-status': ['type', 'id'],
 };
 
@@ -175,6 +176,7 @@ function build(o: Record<string, unknown>, type: ClientMessageType, id: number):
       return m;
     }
     case 'get-status':
+    case 'restore-baseline':
       return { type, id };
   }
 }

@@ -59,6 +59,7 @@ export class Controls {
     $('export-events').addEventListener('click', () => hooks.exportEvents());
     $('apply-analysis').addEventListener('click', () => void this.applyAnalysis());
     $('capture-baseline').addEventListener('click', () => void this.captureBaseline());
+    $('baseline-restore')?.addEventListener('click', () => void this.restoreBaseline());
     $('recording').addEventListener('click', () => void this.toggleRecording());
     $('zoom-reset')?.addEventListener('click', () => hooks.resetZoom());
     $<HTMLInputElement>('follow-y')?.addEventListener('change', (e) =>
@@ -114,7 +115,41 @@ export class Controls {
       this.recordingFileShown = true;
       this.say(`recording to ${s.recording.file}`);
     }
-    if (s.bands) this.showComparison(s);
+    if (s.bands) {
+      this.showComparison(s);
+      this.showBaseline(s);
+    }
+  }
+
+  /** The baseline in use (file and settings hash) and, when the agent keeps one, the way back to the previous. */
+  private showBaseline(s: AgentStatus): void {
+    const now = document.getElementById('baseline-now');
+    const text = s.baseline
+      ? `Comparing against ${s.baseline.file} (settings hash ${s.baseline.hash.slice(0, 12)})`
+      : 'No baseline: band alarms are off until one is captured.';
+    if (now && now.textContent !== text) now.textContent = text;
+    const b = document.getElementById('baseline-restore') as HTMLButtonElement | null;
+    if (!b) return;
+    const prev = s.previousBaseline ?? null;
+    b.hidden = prev === null;
+    const label = prev ? `Restore previous baseline (${prev.file})` : 'Restore previous baseline';
+    if (b.textContent !== label) b.textContent = label;
+  }
+
+  private async restoreBaseline(): Promise<void> {
+    const s = this.status;
+    const prev = s?.previousBaseline;
+    if (!s || !prev) return;
+    if (
+      !this.confirmed(
+        'restore-baseline',
+        `Compare against ${prev.file} again instead of ${s.baseline?.file ?? 'no baseline'}? The alarm rules restart.`,
+      )
+    )
+      return;
+    const r = await this.send('restore baseline', () => this.link.request({ type: 'restore-baseline' }));
+    if (r && r.ok && r.request === 'restore-baseline')
+      this.say(`comparing against ${r.result.file} again; ${r.result.previous} can be restored the same way`);
   }
 
   /** True while the band rules compare against the baseline (some band row has a threshold). */

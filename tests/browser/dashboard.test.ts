@@ -277,6 +277,16 @@ describe('dashboard against a running replay', () => {
     await page.click('#comparison-restore');
     await expect.poll(() => page.textContent('#control-message'), { timeout: 15_000 }).toMatch(/back to segment 4096/);
     await waitUntil(page, `/segment 4096/.test(document.getElementById('spectral-context').textContent)`, 15_000);
+    // And the agent compares again: the band rows carry thresholds, the banner goes, and the event log says so.
+    await waitUntil(
+      page,
+      `document.getElementById('comparison-banner').hidden && window.floorline.status.bands.some((b) => b.thresholdDb !== null)`,
+      20_000,
+    );
+    const again = (await (await fetch(`${a.url}api/status`)).json()) as AgentStatus;
+    const rows = again.bands.filter((b) => b.thresholdDb !== null);
+    expect(rows.length).toBeGreaterThanOrEqual(4);
+    expect(await page.textContent('#events')).toMatch(/baseline comparison resumed/);
   });
 
   it('holds a drag-zoom on the spectrum through 50 new frames, and resets it with a double-click', async () => {

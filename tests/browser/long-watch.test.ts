@@ -79,3 +79,43 @@ describe('waterfall after a page load', () => {
     await page.close();
   });
 });
+
+describe('the previous baseline', () => {
+  it('can be restored from the Baseline controls after a warning, and the agent compares against it again', async () => {
+    const page = await open();
+    const first = await status();
+    expect(first.baseline?.file).toMatch(/demo-baseline\.json$/);
+    expect(await page.isHidden('#baseline-restore')).toBe(true); // nothing before the demo's own baseline
+    // A new baseline from the page (twice when alarms are raised: the capture asks first).
+    await page.fill('#baseline-seconds', '8');
+    await page.click('#capture-baseline');
+    if (/Press again/.test((await page.textContent('#control-message')) ?? '')) await page.click('#capture-baseline');
+    await expect.poll(() => page.textContent('#control-message'), { timeout: 30_000 }).toMatch(/baseline saved/);
+    const captured = await status();
+    expect(captured.baseline?.file).toMatch(/^baselines\/baseline-\d+\.json$/);
+    expect(captured.previousBaseline?.file).toBe(first.baseline!.file);
+    await waitUntil(page, `!document.getElementById('baseline-restore').hidden`, 10_000);
+    expect(await page.textContent('#baseline-now')).toContain(captured.baseline!.file);
+    // The first click only warns; nothing is sent.
+    await page.click('#baseline-restore');
+    expect(await page.textContent('#control-message')).toMatch(
+      /Compare against .*demo-baseline\.json again.*Press again/,
+    );
+    expect((await status()).baseline?.file).toBe(captured.baseline!.file);
+    await page.click('#baseline-restore');
+    await waitUntil(
+      page,
+      `/comparing against .* again/.test(document.getElementById('control-message').textContent)`,
+      15_000,
+    );
+    const restored = await status();
+    expect(restored.baseline).toEqual(first.baseline);
+    expect(restored.previousBaseline?.file).toBe(captured.baseline!.file);
+    // The demo's floor against its own baseline: the band rows are judged again, near 0 dB in its quiet bands
+    // (a floor compared with a baseline of the same floor reads about 0 dB, common practice).
+    await expect
+      .poll(async () => (await status()).bands.filter((b) => b.thresholdDb !== null).length, { timeout: 15_000 })
+      .toBeGreaterThanOrEqual(4);
+    await page.close();
+  });
+});

@@ -14,6 +14,7 @@ describe('parseClientMessage', () => {
       { type: 'acknowledge', id: 5, alarm: 'band-rise/ch0:20-2000' },
       { type: 'shelve', id: 7, alarm: 'mains/ch0/h3', seconds: 600 },
       { type: 'get-status', id: 6 },
+      { type: 'restore-baseline', id: 8 },
     ]) {
       const r = ok(m);
       expect(r, JSON.stringify(m)).toEqual({ ok: true, message: m });
@@ -36,6 +37,7 @@ describe('parseClientMessage', () => {
     [{ type: 'acknowledge', id: 1, alarm: 'clip/ch0\u0007' }, /not an alarm or incident id/],
     [{ type: 'shelve', id: 1, alarm: 'clip/ch0', seconds: 0 }, /seconds/],
     [{ type: 'get-status', id: 1, extra: true }, /unknown field 'extra'/],
+    [{ type: 'restore-baseline', id: 1, file: 'baselines/old.json' }, /'restore-baseline' has an unknown field 'file'/],
   ])('refuses %j as bad-message, naming the problem', (m, why) => {
     const r = ok(m);
     expect(r.ok).toBe(false);
