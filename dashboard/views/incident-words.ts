@@ -2,9 +2,8 @@
 import type { IncidentJson, IncidentMemberJson } from '../../protocol/incidents.ts';
 import { fixed, short, si } from '../format.ts';
 
-/** The caution shown with every mains or ground-loop incident. */
-export const MAINS_CAUTION =
-  'Isolate the measurement path; never lift a protective earth to cure hum; defer to local electrical codes and qualified people.';
+/** The caution shown with every mains or ground-loop incident (the same words as `run --help`). */
+export { MAINS_CAUTION } from '../../protocol/safety.ts';
 
 /** "1 h 02 min", "3 min 12 s", "8.2 s": a duration of sample time for people. */
 export function duration(seconds: number): string {

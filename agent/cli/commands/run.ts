@@ -15,6 +15,7 @@ import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { SerialSource } from '../../sources/serial.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { startMonitor } from '../../monitor/monitor.ts';
+import { MAINS_CAUTION } from '../../../protocol/safety.ts';
 
 async function runLive(args: ParsedArgs): Promise<number> {
   const rig = readConfigFlag(args, runCommand.flags);
@@ -58,6 +59,7 @@ export const runCommand: CommandSpec = {
     'Binary boards describe themselves (rate, channels, units, volts per count); text boards print one line per',
     'sample instant and need --rate. Blocks the analysis cannot keep up with are dropped whole and counted.',
     'Example: floorline run --port /dev/serial/by-id/usb-…-if00 --baseline floorline-data/baselines/quiet.json',
+    `Safety with hum or mains pickup: ${MAINS_CAUTION}`,
   ].join('\n'),
   positionals: [],
   flags: [
