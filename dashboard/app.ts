@@ -11,6 +11,7 @@ import { BandTable } from './views/band-table.ts';
 import { EventList } from './views/event-list.ts';
 import { IncidentPanel } from './views/incident-panel.ts';
 import { TimelineView, pickSeries, trendUrl, type TimelineQuery } from './views/timeline.ts';
+import { attachReportLink } from './views/report-link.ts';
 import type { TrendReply } from '../protocol/trend.ts';
 import type { IncidentsReply } from '../protocol/incidents.ts';
 import type { SpectraReply } from '../protocol/spectra.ts';
@@ -119,6 +120,11 @@ export class App {
     for (const id of ['timeline-channel', 'timeline-what', 'timeline-span'])
       $(id).addEventListener('change', () => void this.refreshTimeline());
     $('timeline-channel').addEventListener('change', () => this.fillTimelineChoices());
+    attachReportLink(
+      $<HTMLAnchorElement>('timeline-report'),
+      () => this.timelineQuery(),
+      () => (this.status?.replay ? this.status.t : null),
+    );
     $('timeline-csv').addEventListener('click', () =>
       download('floorline-timeline.csv', this.timeline.csv(), 'text/csv'),
     );

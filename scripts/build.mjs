@@ -30,6 +30,12 @@ const node = {
   define: { FLOORLINE_COMMIT: JSON.stringify(gitCommit()) },
 };
 await build({ ...node, entryPoints: [`${root}agent/cli/main.ts`], outfile: `${root}dist/floorline.mjs` });
+// The dashboard's report endpoint builds reports on a worker thread (agent/report/report-api.ts).
+await build({
+  ...node,
+  entryPoints: [`${root}agent/report/report-worker.ts`],
+  outfile: `${root}dist/report-worker.mjs`,
+});
 await build({
   ...node,
   entryPoints: [

@@ -2,18 +2,12 @@
 // its PDF through headless Chromium's print.
 import { spawnSync } from 'node:child_process';
 import { existsSync, writeFileSync } from 'node:fs';
-import { dirname, join, relative, resolve } from 'node:path';
+import { dirname, relative, resolve } from 'node:path';
+import { buildReport } from './build-report.ts';
 import type { CommandSpec, ParsedArgs } from '../cli/args.ts';
 import { InputError, UsageError } from '../errors.ts';
 import { storePathFromArgs } from '../store/cli-flags.ts';
-import { openStoreForReading } from '../store/open-store.ts';
 import { SPAN_FLAGS, STORE_SOURCE_FLAGS, readSpan } from '../store/commands/query-flags.ts';
-import { collectReport } from './collect.ts';
-import type { TimeBound } from '../store/time-bound.ts';
-import { renderReport } from './render.ts';
-import { computeFigures } from './figures.ts';
-import { BUILD_COMMIT, FLOORLINE_VERSION } from '../build-info.ts';
-import { createProgress } from '../cli/progress.ts';
 
 /** Exit status when a limit mask fails (as `analyze --mask`): the report is written all the same. */
 export const MASK_FAIL_EXIT = 3;
@@ -48,34 +42,6 @@ function printPdf(html: string, pdf: string): void {
     );
 }
 
-/** The report as HTML, and whether a mask failed; shared by the command and the dashboard's report endpoint. */
-export async function buildReport(
-  storePath: string,
-  span: { from?: TimeBound; to?: TimeBound },
-  o: { maskPath?: string; outDir: string; generatedAt: string; progress?: boolean },
-): Promise<{ html: string; maskFailed: boolean }> {
-  const db = openStoreForReading(storePath);
-  let data;
-  try {
-    data = collectReport(db, span.from, span.to);
-  } finally {
-    db.close();
-  }
-  const bar = o.progress ? createProgress('report: incident spectra') : undefined;
-  const figures = await computeFigures(data, { maskPath: o.maskPath, onIncident: bar?.update });
-  bar?.finish();
-  // Captures are linked relative to the report, from the data folder the run recorded (else the store's folder).
-  const dataDir = figures.context?.dataDir ?? dirname(resolve(storePath));
-  const html = renderReport(data, figures, {
-    generatedAt: o.generatedAt,
-    version: FLOORLINE_VERSION,
-    commit: BUILD_COMMIT,
-    link: (capture) => relative(o.outDir, join(dataDir, capture)).split('\\').join('/'),
-  });
-  const maskFailed = [...figures.maskVerdicts.values()].some((v) => typeof v === 'object' && !v.pass);
-  return { html, maskFailed };
-}
-
 async function runReport(args: ParsedArgs): Promise<number> {
   const f = args.flags;
   const out = f.out as string | undefined;
@@ -84,7 +50,7 @@ async function runReport(args: ParsedArgs): Promise<number> {
   const path = resolve(out);
   const { html, maskFailed } = await buildReport(storePathFromArgs(args), span, {
     maskPath: f.mask as string | undefined,
-    outDir: dirname(path),
+    link: (file) => relative(dirname(path), file).split('\\').join('/'),
     generatedAt: new Date().toISOString(),
     progress: true,
   });

@@ -1,6 +1,5 @@
 // HTTP + WebSocket server of the agent: dashboard assets, /api/status, /metrics, read-only data files, and /ws
 // (JSON control messages in, JSON messages and binary frames out). Binds 127.0.0.1 by default.
-import { FLOORLINE_VERSION } from '../build-info.ts';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
@@ -10,6 +9,8 @@ import type { ServerBackend, ServerSnapshot } from './backend.ts';
 import { checkAccess, tokenCookie } from './access.ts';
 import { resolveServerOptions, ServerConfigError, type ServerOptions } from './options.ts';
 import { Broadcaster } from './broadcaster.ts';
+import { FLOORLINE_VERSION } from '../build-info.ts';
+import { handleReportApi } from '../report/report-api.ts';
 import { TokenBucket } from './rate-limit.ts';
 import { ClientConnection } from './client.ts';
 import { handleRequest } from './control.ts';
@@ -215,6 +216,8 @@ export async function startServer(
       // /api/trend, /api/incidents: answered from the history store
     } else if (handleSpectraApi(path, url, res, head, backend.history?.path)) {
       // /api/spectra, /api/spectrum: kept spectra from the history store
+    } else if (handleReportApi(path, url, res, head, backend.history?.path)) {
+      // /api/report: the test-record report of a span, as HTML
     } else if (path === '/metrics') {
       res.writeHead(200, { 'content-type': OPENMETRICS_CONTENT_TYPE, 'cache-control': 'no-store' });
       res.end(head ? undefined : renderMetrics(status(), AGENT_VERSION));
