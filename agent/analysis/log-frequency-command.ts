@@ -1,6 +1,6 @@
 // The `--log-frequency` branch of `floorline analyze`: checks the flags that do not apply, runs the
 // log-frequency report and prints it as JSON, CSV or text. Kept apart so analyze.ts only dispatches.
-import type { ParsedArgs } from '../cli/args.ts';
+import type { AnalyzeArgs } from '../cli/commands/analyze.ts';
 import { InputError, UsageError } from '../errors.ts';
 import type { AnalyzeOptions } from './report.ts';
 import {
@@ -10,7 +10,7 @@ import {
   logFrequencyToText,
 } from './log-frequency-report.ts';
 
-export async function runLogFrequencyAnalysis(args: ParsedArgs, options: AnalyzeOptions): Promise<number> {
+export async function runLogFrequencyAnalysis(args: AnalyzeArgs, options: AnalyzeOptions): Promise<number> {
   if (options.segment !== undefined) {
     throw new UsageError(
       'floorline analyze: --segment does not apply with --log-frequency (each frequency gets its own segment length); drop one of them.',
@@ -22,18 +22,10 @@ export async function runLogFrequencyAnalysis(args: ParsedArgs, options: Analyze
     );
   }
   const f = args.flags;
-  const notHere = [
-    'from',
-    'to',
-    'exclude-clipped',
-    'lines',
-    'cumulative',
-    'mask',
-    'input-referred',
-    'source-ohms',
-    'unit',
-  ].filter((k) => f[k] !== undefined && f[k] !== false);
-  if ((f.coherence as string[] | undefined)?.length) notHere.push('coherence');
+  const notHere: string[] = (
+    ['from', 'to', 'exclude-clipped', 'lines', 'cumulative', 'mask', 'input-referred', 'source-ohms', 'unit'] as const
+  ).filter((k) => f[k] !== undefined && f[k] !== false);
+  if (f.coherence.length) notHere.push('coherence');
   if (f.average === 'median') notHere.push('average');
   if (notHere.length > 0) {
     throw new UsageError(

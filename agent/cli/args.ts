@@ -27,24 +27,60 @@ export interface PositionalSpec {
   required: boolean;
 }
 
-export interface ParsedArgs {
-  flags: Record<string, string | number | boolean | string[] | undefined>;
+/** Any parsed flag value, for code that handles flags by name (the rig config overlay). */
+export type FlagValue = string | number | boolean | string[] | undefined;
+
+/** The value one flag parses to: repeatable flags are arrays, booleans default to false, and a string or number
+ * flag without a default is undefined when it is not given. String flags with choices give their union. */
+export type ValueOf<F extends FlagSpec> = string extends F['name']
+  ? FlagValue
+  : F['kind'] extends 'boolean'
+    ? boolean
+    : F['kind'] extends 'list'
+      ? string[]
+      : | (F['kind'] extends 'number'
+            ? number
+            : F extends { choices: readonly (infer C extends string)[] }
+              ? C
+              : string)
+        | (F extends { default: string | number | boolean } ? never : undefined);
+
+/** The parsed flags of a flag table, keyed by flag name, each typed from its declaration. */
+export type FlagValues<S extends readonly FlagSpec[]> = { [K in S[number] as K['name']]: ValueOf<K> };
+
+export interface ParsedArgs<S extends readonly FlagSpec[] = readonly FlagSpec[]> {
+  flags: FlagValues<S>;
   positionals: string[];
   /** Flags written on the command line (the rest hold defaults, which a rig config may replace). */
   given?: Set<string>;
 }
 
-export interface CommandSpec {
+export interface CommandSpec<S extends readonly FlagSpec[] = readonly FlagSpec[]> {
   name: string;
   summary: string;
   /** Extra paragraphs for --help (examples, notes). */
   details?: string;
-  flags: FlagSpec[];
+  flags: S;
   positionals: PositionalSpec[];
-  run(args: ParsedArgs): Promise<number>;
+  run(args: ParsedArgs<S>): Promise<number>;
 }
 
-function findFlag(spec: CommandSpec, token: string): FlagSpec | undefined {
+/** Declares a command so that its run() sees the flags typed from the table (`const` keeps the literal names). */
+export function defineCommand<const S extends readonly FlagSpec[]>(spec: CommandSpec<S>): CommandSpec<S> {
+  return spec;
+}
+
+/** Declares one shared flag with its literal name and kind kept. */
+export function defineFlag<const F extends FlagSpec>(flag: F): F {
+  return flag;
+}
+
+/** Declares a shared flag group with its literal names and kinds kept, for FlagValues. */
+export function defineFlags<const S extends readonly FlagSpec[]>(flags: S): S {
+  return flags;
+}
+
+function findFlag(spec: CommandSpec<readonly FlagSpec[]>, token: string): FlagSpec | undefined {
   if (token.startsWith('--')) return spec.flags.find((f) => f.name === token.slice(2));
   return spec.flags.find((f) => f.short !== undefined && `-${f.short}` === token);
 }
@@ -74,13 +110,18 @@ function parseNumber(flag: FlagSpec, raw: string, command: string): number {
 }
 
 /** Parses argv for one subcommand. Throws UsageError naming the offending flag and the fix. */
-export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArgs {
-  const flags: ParsedArgs['flags'] = {};
+export function parseArgs<const S extends readonly FlagSpec[]>(
+  spec: CommandSpec<S>,
+  argv: readonly string[],
+): ParsedArgs<S> {
+  // Built by name at run time; the table's declarations (defaults, kinds) make it a FlagValues<S>.
+  const flags: Record<string, string | number | boolean | string[]> = {};
+  const lists: Record<string, string[]> = {};
   const positionals: string[] = [];
   const given = new Set<string>();
   for (const f of spec.flags) {
-    if (f.default !== undefined) flags[f.name] = f.default;
-    else if (f.kind === 'list') flags[f.name] = [];
+    if (f.kind === 'list') flags[f.name] = lists[f.name] = [];
+    else if (f.default !== undefined) flags[f.name] = f.default;
     else if (f.kind === 'boolean') flags[f.name] = false;
   }
   for (let i = 0; i < argv.length; i++) {
@@ -123,7 +164,7 @@ export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArg
       );
     }
     if (flag.kind === 'number') flags[flag.name] = parseNumber(flag, raw, spec.name);
-    else if (flag.kind === 'list') (flags[flag.name] as string[]).push(raw);
+    else if (flag.kind === 'list') lists[flag.name].push(raw);
     else {
       if (flag.choices && !flag.choices.includes(raw)) {
         throw new UsageError(
@@ -146,7 +187,7 @@ export function parseArgs(spec: CommandSpec, argv: readonly string[]): ParsedArg
         `this command takes ${spec.positionals.length === 0 ? 'no arguments' : spec.positionals.map((p) => p.name).join(' ')}.`,
     );
   }
-  return { flags, positionals, given };
+  return { flags: flags as FlagValues<S>, positionals, given };
 }
 
 export function formatHelp(spec: CommandSpec): string {

@@ -1,18 +1,18 @@
 // Flags override the rig config: the config fills every flag the command line left at its default. So the
 // commands read their settings the one way they always did, from the parsed flags.
-import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
+import { defineFlag, type FlagSpec, type ParsedArgs } from '../cli/args.ts';
 import { defaultRules } from '../rules/rules.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE } from '../pipeline/analyser.ts';
 import { DEFAULT_DATA_FOLDER } from './data-folder.ts';
 import { DEFAULT_HOST, DEFAULT_HTTP_PORT } from '../server/options.ts';
 import { loadRigConfig, type LoadedRigConfig, type RigConfig, type SinkConfig } from './rig-config.ts';
 
-export const CONFIG_FLAG: FlagSpec = {
+export const CONFIG_FLAG = defineFlag({
   name: 'config',
   kind: 'string',
   value: 'FILE',
   help: 'rig config JSON (source, channel calibration, analysis, bands, rules, notify, retention, data, server); flags override it',
-};
+});
 
 /** Flag name → its value in the config (undefined when the config does not set it). */
 function configFlagValues(c: RigConfig): Record<string, string | number | string[] | undefined> {
@@ -47,8 +47,11 @@ export function applyRigConfig(args: ParsedArgs, flags: readonly FlagSpec[], loa
 }
 
 /** Loads --config when given and applies it under the flags; undefined without --config. */
-export function readConfigFlag(args: ParsedArgs, flags: readonly FlagSpec[]): LoadedRigConfig | undefined {
-  const file = args.flags.config as string | undefined;
+export function readConfigFlag(
+  args: ParsedArgs<readonly [typeof CONFIG_FLAG]>,
+  flags: readonly FlagSpec[],
+): LoadedRigConfig | undefined {
+  const file = args.flags.config;
   if (!file) return undefined;
   const loaded = loadRigConfig(file);
   applyRigConfig(args, flags, loaded);

@@ -4,7 +4,7 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, writeFileSync } from 'node:fs';
 import { dirname, relative, resolve } from 'node:path';
 import { buildReport } from './build-report.ts';
-import type { CommandSpec, ParsedArgs } from '../cli/args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../cli/args.ts';
 import { InputError, UsageError } from '../errors.ts';
 import { storePathFromArgs } from '../store/cli-flags.ts';
 import { SPAN_FLAGS, STORE_SOURCE_FLAGS, readSpan } from '../store/commands/query-flags.ts';
@@ -42,14 +42,14 @@ function printPdf(html: string, pdf: string): void {
     );
 }
 
-async function runReport(args: ParsedArgs): Promise<number> {
+async function runReport(args: ParsedArgs<typeof REPORT_FLAGS>): Promise<number> {
   const f = args.flags;
-  const out = f.out as string | undefined;
+  const out = f.out;
   if (!out) throw new UsageError('floorline report: -o report.html is required (where to write the report).');
-  const span = readSpan(args, 'report');
+  const span = readSpan(f, 'report');
   const path = resolve(out);
-  const { html, maskFailed } = await buildReport(storePathFromArgs(args), span, {
-    maskPath: f.mask as string | undefined,
+  const { html, maskFailed } = await buildReport(storePathFromArgs(f), span, {
+    maskPath: f.mask,
     link: (file) => relative(dirname(path), file).split('\\').join('/'),
     generatedAt: new Date().toISOString(),
     progress: true,
@@ -57,30 +57,32 @@ async function runReport(args: ParsedArgs): Promise<number> {
   writeFileSync(path, html);
   process.stdout.write(`report ${path}\n`);
   if (f.pdf) {
-    printPdf(path, resolve(f.pdf as string));
-    process.stdout.write(`pdf    ${resolve(f.pdf as string)}\n`);
+    printPdf(path, resolve(f.pdf));
+    process.stdout.write(`pdf    ${resolve(f.pdf)}\n`);
   }
   if (f.mask) process.stdout.write(`mask   ${maskFailed ? 'fail' : 'pass'}\n`);
   return maskFailed ? MASK_FAIL_EXIT : 0;
 }
 
-export const reportCommand: CommandSpec = {
+const REPORT_FLAGS = defineFlags([
+  { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'the HTML report to write (required)' },
+  { name: 'pdf', kind: 'string', value: 'FILE', help: 'also print it to PDF with headless Chromium' },
+  {
+    name: 'mask',
+    kind: 'string',
+    value: 'FILE',
+    help: 'limit mask CSV (frequency,limit[,unit]): pass/fail per channel and band, exit 3 on fail',
+  },
+  ...SPAN_FLAGS,
+  ...STORE_SOURCE_FLAGS,
+]);
+
+export const reportCommand = defineCommand({
   name: 'report',
   summary: 'a self-contained HTML report (and PDF) of a span of the history store, for a test record',
   details:
     'Example: floorline report --from 2026-12-01T00:00:00Z --to 2026-12-08T00:00:00Z -o week.html --pdf week.pdf',
   positionals: [],
-  flags: [
-    { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'the HTML report to write (required)' },
-    { name: 'pdf', kind: 'string', value: 'FILE', help: 'also print it to PDF with headless Chromium' },
-    {
-      name: 'mask',
-      kind: 'string',
-      value: 'FILE',
-      help: 'limit mask CSV (frequency,limit[,unit]): pass/fail per channel and band, exit 3 on fail',
-    },
-    ...SPAN_FLAGS,
-    ...STORE_SOURCE_FLAGS,
-  ],
+  flags: REPORT_FLAGS,
   run: runReport,
-};
+});

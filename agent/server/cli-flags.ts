@@ -1,12 +1,12 @@
 // Flags of the commands that serve the dashboard (run, replay, demo). The HTTP port flag is --http-port because
 // `run --port` names the serial device.
-import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
+import { defineFlags, type FlagValues } from '../cli/args.ts';
 import { readFileSync } from 'node:fs';
 import { registerSecret } from '../service/log-lines.ts';
 import { connectionBudget, DEFAULT_HOST, DEFAULT_HTTP_PORT, ServerConfigError, type ServerOptions } from './options.ts';
 import { openFileLimit } from './rate-limit.ts';
 
-export const SERVER_FLAGS: FlagSpec[] = [
+export const SERVER_FLAGS = defineFlags([
   {
     name: 'http-port',
     kind: 'number',
@@ -36,10 +36,12 @@ export const SERVER_FLAGS: FlagSpec[] = [
     kind: 'boolean',
     help: 'print the dashboard URL with its ?token=… (off: the token stays out of the terminal)',
   },
-];
+]);
 
-function tokenFrom(f: ParsedArgs['flags']): string | undefined {
-  const file = f['token-file'] as string | undefined;
+type ServerFlags = FlagValues<typeof SERVER_FLAGS>;
+
+function tokenFrom(f: ServerFlags): string | undefined {
+  const file = f['token-file'];
   if (file !== undefined) {
     let text: string;
     try {
@@ -54,22 +56,21 @@ function tokenFrom(f: ParsedArgs['flags']): string | undefined {
       throw new ServerConfigError(`--token-file ${file}: the file is empty; put the token on its first line.`);
     return token;
   }
-  return (f.token as string | undefined) ?? process.env.FLOORLINE_TOKEN;
+  return f.token ?? process.env.FLOORLINE_TOKEN;
 }
 
 export function serverOptionsFromArgs(
-  args: ParsedArgs,
+  f: ServerFlags,
   assetsDir: string,
 ): Partial<ServerOptions> & { assetsDir: string } {
-  const f = args.flags;
   const token = tokenFrom(f);
   registerSecret(token);
   return {
     assetsDir,
-    showToken: f['show-token'] === true,
+    showToken: f['show-token'],
     maxConnections: connectionBudget(openFileLimit(() => readFileSync('/proc/self/limits', 'utf8'))),
-    port: f['http-port'] as number,
-    host: f.host as string,
+    port: f['http-port'],
+    host: f.host,
     ...(token ? { token } : {}),
   };
 }

@@ -2,14 +2,14 @@
 // in DATA/floorline.sqlite; a replay writes to --store FILE or to a store of its own under DATA/replays/, never
 // into the rig's; the demo (a replay of the bundled recording) keeps DATA/replays/demo.sqlite.
 import { basename, join, resolve } from 'node:path';
-import type { FlagSpec, ParsedArgs } from '../cli/args.ts';
+import { defineFlags, type FlagValues } from '../cli/args.ts';
 import { UsageError } from '../errors.ts';
 import { parseRetention } from './levels.ts';
 import type { Level } from './schema.ts';
 
 export const STORE_FILE = 'floorline.sqlite';
 
-export const HISTORY_FLAGS: FlagSpec[] = [
+export const HISTORY_FLAGS = defineFlags([
   {
     name: 'store',
     kind: 'string',
@@ -23,12 +23,11 @@ export const HISTORY_FLAGS: FlagSpec[] = [
     value: 'SPEC',
     help: 'history retention per level, e.g. 1s=3h,1m=14d,1h=400d,spectra=7d (defaults: snap=10m,1s=3h,1m=14d,1h=400d,spectra=2d)',
   },
-];
+]);
 
 /** The store a query command reads: --store FILE, else DIR/floorline.sqlite of --data DIR. */
-export function storePathFromArgs(args: ParsedArgs): string {
-  const store = args.flags.store as string | undefined;
-  return store ? resolve(store) : join(resolve((args.flags.data as string) ?? './floorline-data'), STORE_FILE);
+export function storePathFromArgs(f: { store: string | undefined; data: string }): string {
+  return f.store ? resolve(f.store) : join(resolve(f.data), STORE_FILE);
 }
 
 export interface HistoryChoice {
@@ -38,12 +37,11 @@ export interface HistoryChoice {
 
 /** What run/replay/demo write to, or undefined with --no-history. `recording` names a replay's own store. */
 export function historyFromArgs(
-  args: ParsedArgs,
+  f: FlagValues<typeof HISTORY_FLAGS>,
   command: 'run' | 'replay' | 'demo',
   dataDir: string,
   recording?: string,
 ): HistoryChoice | undefined {
-  const f = args.flags;
   if (f['no-history']) {
     if (f.store) throw new UsageError(`floorline ${command}: give --store FILE or --no-history, not both.`);
     return undefined;
@@ -51,12 +49,12 @@ export function historyFromArgs(
   let retention: Record<Level, number> | undefined;
   if (f.keep !== undefined) {
     try {
-      retention = parseRetention(f.keep as string);
+      retention = parseRetention(f.keep);
     } catch (err) {
       throw new UsageError(`floorline ${command}: --keep: ${(err as Error).message}.`);
     }
   }
-  if (f.store) return { path: resolve(f.store as string), retention };
+  if (f.store) return { path: resolve(f.store), retention };
   const root = resolve(dataDir);
   if (command === 'run') return { path: join(root, STORE_FILE), retention };
   if (command === 'demo') return { path: join(root, 'replays', 'demo.sqlite'), retention };

@@ -1,16 +1,14 @@
 // `floorline analyze FILE`: offline report of a whole recording (docs/ARCHITECTURE.md "analyze --json").
 import { threadsFlag } from './threads-flag.ts';
 import { resolveThreads } from '../../workers/threads.ts';
-import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { UsageError } from '../../errors.ts';
 import { createProgress } from '../progress.ts';
-import type { DetrendMode } from '../../../protocol/settings.ts';
 import {
   analyzeFile,
   reportToJson,
   validateSettings,
   type AnalyzeOptions,
-  type AverageMode,
   type ClipSummary,
 } from '../../analysis/report.ts';
 import { parseBand } from '../../../protocol/bands.ts';
@@ -46,15 +44,17 @@ export function clipWarnings(clips: readonly ClipSummary[], sampleRate: number, 
   return out;
 }
 
-function optionsFrom(args: ParsedArgs): AnalyzeOptions {
+export type AnalyzeArgs = ParsedArgs<typeof ANALYZE_FLAGS>;
+
+function optionsFrom(args: AnalyzeArgs): AnalyzeOptions {
   const f = args.flags;
-  const segment = f.segment as number | undefined;
+  const segment = f.segment;
   if (segment !== undefined && (segment & (segment - 1)) !== 0) {
     throw new UsageError(
       `floorline analyze: --segment ${segment} is not a power of two; give e.g. --segment ${2 ** Math.round(Math.log2(segment))}.`,
     );
   }
-  if (f.scale !== undefined && !((f.scale as number) > 0)) {
+  if (f.scale !== undefined && !(f.scale > 0)) {
     throw new UsageError(
       `floorline analyze: --scale ${f.scale} must be a positive number of volts per full scale; e.g. --scale 2.5 for a ±2.5 V ADC.`,
     );
@@ -65,25 +65,25 @@ function optionsFrom(args: ParsedArgs): AnalyzeOptions {
     );
   const options: AnalyzeOptions = {
     segment,
-    window: f.window as string,
-    overlap: f.overlap as number,
-    detrend: f.detrend as DetrendMode,
+    window: f.window,
+    overlap: f.overlap,
+    detrend: f.detrend,
     bands: [],
-    scale: f.scale as number | undefined,
-    from: f.from as string | undefined,
-    to: f.to as string | undefined,
-    average: f.average as AverageMode,
-    excludeClipped: f['exclude-clipped'] === true,
-    lines: f.lines === true,
-    cumulative: f.cumulative === true,
-    mask: f.mask as string | undefined,
-    coherence: f.coherence as string[],
-    unit: f.unit as string | undefined,
-    inputReferred: f['input-referred'] === true,
-    threads: resolveThreads(f.threads as number | undefined),
+    scale: f.scale,
+    from: f.from,
+    to: f.to,
+    average: f.average,
+    excludeClipped: f['exclude-clipped'],
+    lines: f.lines,
+    cumulative: f.cumulative,
+    mask: f.mask,
+    coherence: f.coherence,
+    unit: f.unit,
+    inputReferred: f['input-referred'],
+    threads: resolveThreads(f.threads),
   };
   if (f['source-ohms'] !== undefined) {
-    options.source = { ohms: f['source-ohms'] as number, kelvin: f['source-kelvin'] as number };
+    options.source = { ohms: f['source-ohms'], kelvin: f['source-kelvin'] };
   } else if (f['source-kelvin'] !== 290) {
     throw new UsageError(
       'floorline analyze: --source-kelvin needs --source-ohms (the source resistance for the noise figure); add e.g. --source-ohms 350.',
@@ -97,14 +97,116 @@ function optionsFrom(args: ParsedArgs): AnalyzeOptions {
   try {
     options.window = validateSettings(options);
     // Syntax and order here; the Nyquist limit is checked once the file's rate is known.
-    options.bands = (f.band as string[]).map((b) => parseBand(b, Infinity));
+    options.bands = f.band.map((b) => parseBand(b, Infinity));
   } catch (err) {
     throw new UsageError(`floorline analyze: ${(err as Error).message}.`);
   }
   return options;
 }
 
-export const analyzeCommand: CommandSpec = {
+const ANALYZE_FLAGS = defineFlags([
+  threadsFlag,
+  {
+    name: 'segment',
+    kind: 'number',
+    value: 'N',
+    integer: true,
+    min: 64,
+    max: 1 << 20,
+    help: 'Welch segment length, a power of two (default 4096, or the largest giving ≥ 8 averages)',
+  },
+  {
+    name: 'window',
+    kind: 'string',
+    value: 'NAME',
+    default: 'hann',
+    help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA',
+  },
+  { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: 0.5, help: 'segment overlap fraction' },
+  {
+    name: 'detrend',
+    kind: 'string',
+    value: 'MODE',
+    choices: ['none', 'mean', 'linear'],
+    default: 'mean',
+    help: 'remove per segment before windowing',
+  },
+  { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for a band RMS' },
+  { name: 'scale', kind: 'number', value: 'V', help: 'volts per full scale for integer PCM or unscaled float files' },
+  { name: 'json', kind: 'boolean', help: 'print the report as JSON' },
+  { name: 'csv', kind: 'boolean', help: 'print the spectra as CSV' },
+  {
+    name: 'from',
+    kind: 'string',
+    value: 'TIME',
+    help: 'start of the span: seconds of sample time, or ISO-8601 wall time when the metadata has a start',
+  },
+  { name: 'to', kind: 'string', value: 'TIME', help: 'end of the span (exclusive), as --from' },
+  {
+    name: 'average',
+    kind: 'string',
+    value: 'MODE',
+    choices: ['mean', 'median'],
+    default: 'mean',
+    help: 'segment averaging; median is bias-corrected as scipy.signal.welch',
+  },
+  {
+    name: 'exclude-clipped',
+    kind: 'boolean',
+    help: 'leave out segments that touch a clipped or missing sample (counted in the report)',
+  },
+  {
+    name: 'lines',
+    kind: 'boolean',
+    help: 'list lines above the local floor (the live spur/mains finder), mains harmonics classified',
+  },
+  { name: 'cumulative', kind: 'boolean', help: 'cumulative RMS against frequency, from the first non-DC bin up' },
+  {
+    name: 'mask',
+    kind: 'string',
+    value: 'FILE',
+    help: 'ASD limit mask (CSV frequency,limit[,unit]); pass/fail per band, exit 3 on fail',
+  },
+  {
+    name: 'coherence',
+    kind: 'list',
+    value: 'A:B',
+    help: 'magnitude-squared coherence and CSD of two channels (names or 0-based indices)',
+  },
+  {
+    name: 'unit',
+    kind: 'string',
+    value: 'U',
+    help: 'unit of samples that read as FS (e.g. a float file from another tool already in volts: --unit V)',
+  },
+  {
+    name: 'input-referred',
+    kind: 'boolean',
+    help: "divide by each channel's gain from the recording's metadata (densities at the amplifier input)",
+  },
+  {
+    name: 'source-ohms',
+    kind: 'number',
+    value: 'R',
+    min: 1e-6,
+    help: 'source resistance for noise figure and noise temperature per band and per bin',
+  },
+  {
+    name: 'source-kelvin',
+    kind: 'number',
+    value: 'K',
+    min: 0.001,
+    default: 290,
+    help: 'source temperature for the noise figure',
+  },
+  {
+    name: 'log-frequency',
+    kind: 'boolean',
+    help: 'log-spaced density (per-frequency segments), 1/f corner fit and 0.1–10 Hz peak-to-peak instead of the Welch report',
+  },
+]);
+
+export const analyzeCommand = defineCommand({
   name: 'analyze',
   summary: 'offline report of a WAV recording: PSD/ASD per channel, total and band RMS, lines, masks, coherence',
   details: [
@@ -120,107 +222,7 @@ export const analyzeCommand: CommandSpec = {
   positionals: [
     { name: 'FILE', help: 'WAV recording (RIFF/RF64; PCM 16/24/32-bit or float 32/64-bit)', required: true },
   ],
-  flags: [
-    threadsFlag,
-    {
-      name: 'segment',
-      kind: 'number',
-      value: 'N',
-      integer: true,
-      min: 64,
-      max: 1 << 20,
-      help: 'Welch segment length, a power of two (default 4096, or the largest giving ≥ 8 averages)',
-    },
-    {
-      name: 'window',
-      kind: 'string',
-      value: 'NAME',
-      default: 'hann',
-      help: 'window: rect, hann, hamming, blackman-harris, nuttall, hft95, hft90d, hft116d, kaiser:ALPHA',
-    },
-    { name: 'overlap', kind: 'number', value: 'F', min: 0, max: 0.95, default: 0.5, help: 'segment overlap fraction' },
-    {
-      name: 'detrend',
-      kind: 'string',
-      value: 'MODE',
-      choices: ['none', 'mean', 'linear'],
-      default: 'mean',
-      help: 'remove per segment before windowing',
-    },
-    { name: 'band', kind: 'list', value: 'LO:HI', help: 'band in Hz for a band RMS' },
-    { name: 'scale', kind: 'number', value: 'V', help: 'volts per full scale for integer PCM or unscaled float files' },
-    { name: 'json', kind: 'boolean', help: 'print the report as JSON' },
-    { name: 'csv', kind: 'boolean', help: 'print the spectra as CSV' },
-    {
-      name: 'from',
-      kind: 'string',
-      value: 'TIME',
-      help: 'start of the span: seconds of sample time, or ISO-8601 wall time when the metadata has a start',
-    },
-    { name: 'to', kind: 'string', value: 'TIME', help: 'end of the span (exclusive), as --from' },
-    {
-      name: 'average',
-      kind: 'string',
-      value: 'MODE',
-      choices: ['mean', 'median'],
-      default: 'mean',
-      help: 'segment averaging; median is bias-corrected as scipy.signal.welch',
-    },
-    {
-      name: 'exclude-clipped',
-      kind: 'boolean',
-      help: 'leave out segments that touch a clipped or missing sample (counted in the report)',
-    },
-    {
-      name: 'lines',
-      kind: 'boolean',
-      help: 'list lines above the local floor (the live spur/mains finder), mains harmonics classified',
-    },
-    { name: 'cumulative', kind: 'boolean', help: 'cumulative RMS against frequency, from the first non-DC bin up' },
-    {
-      name: 'mask',
-      kind: 'string',
-      value: 'FILE',
-      help: 'ASD limit mask (CSV frequency,limit[,unit]); pass/fail per band, exit 3 on fail',
-    },
-    {
-      name: 'coherence',
-      kind: 'list',
-      value: 'A:B',
-      help: 'magnitude-squared coherence and CSD of two channels (names or 0-based indices)',
-    },
-    {
-      name: 'unit',
-      kind: 'string',
-      value: 'U',
-      help: 'unit of samples that read as FS (e.g. a float file from another tool already in volts: --unit V)',
-    },
-    {
-      name: 'input-referred',
-      kind: 'boolean',
-      help: "divide by each channel's gain from the recording's metadata (densities at the amplifier input)",
-    },
-    {
-      name: 'source-ohms',
-      kind: 'number',
-      value: 'R',
-      min: 1e-6,
-      help: 'source resistance for noise figure and noise temperature per band and per bin',
-    },
-    {
-      name: 'source-kelvin',
-      kind: 'number',
-      value: 'K',
-      min: 0.001,
-      default: 290,
-      help: 'source temperature for the noise figure',
-    },
-    {
-      name: 'log-frequency',
-      kind: 'boolean',
-      help: 'log-spaced density (per-frequency segments), 1/f corner fit and 0.1–10 Hz peak-to-peak instead of the Welch report',
-    },
-  ],
+  flags: ANALYZE_FLAGS,
   async run(args) {
     const options = optionsFrom(args);
     if (args.flags['log-frequency']) return runLogFrequencyAnalysis(args, options);
@@ -248,4 +250,4 @@ export const analyzeCommand: CommandSpec = {
     else await writeOutput([formatTextSummary(report, warnings)]);
     return maskFailed ? MASK_FAIL_EXIT : 0;
   },
-};
+});

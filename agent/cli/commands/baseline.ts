@@ -1,40 +1,27 @@
 // `floorline baseline FILE -o BASELINE.json`: capture a baseline (averaged density, band powers, settling check)
 // from a recording, with the same analysis settings the live pipeline will use.
-import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
-import { PIPELINE_FLAGS } from './monitor-flags.ts';
-import type { AnalysisSettings, DetrendMode } from '../../../protocol/settings.ts';
+import { ANALYSIS_FLAGS, readAnalysisFlags } from './monitor-flags.ts';
+import type { AnalysisSettings } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
-import { parseWindowName, windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
+import { windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
 import { BaselineCapture } from '../../baseline/capture.ts';
 import { forEachFiniteRun } from '../../pipeline/conditioner.ts';
 import { writeBaseline } from '../../baseline/format.ts';
 import { defaultBands } from '../../rules/default-bands.ts';
 import { parseBand } from '../../../protocol/bands.ts';
 
-const ANALYSIS_FLAG_NAMES = ['segment', 'window', 'overlap', 'detrend'];
-
-async function runBaseline(args: ParsedArgs): Promise<number> {
+async function runBaseline(args: ParsedArgs<typeof BASELINE_FLAGS>): Promise<number> {
   const [file] = args.positionals;
   const f = args.flags;
-  const out = f.out as string | undefined;
+  const out = f.out;
   if (!out)
     throw new UsageError(
       'floorline baseline: missing -o FILE (where to write the baseline), e.g. -o floorline-data/baselines/rig.json.',
     );
-  const segment = f.segment as number;
-  if ((segment & (segment - 1)) !== 0) {
-    throw new UsageError(
-      `floorline baseline: --segment ${segment} is not a power of two; give one from 64 to 1048576, e.g. --segment 4096.`,
-    );
-  }
-  let window: string;
-  try {
-    window = parseWindowName(f.window as string);
-  } catch (err) {
-    throw new UsageError(`floorline baseline: --window: ${(err as Error).message}.`);
-  }
-  const bandsGiven = (f.band as string[]).map((b) => {
+  const { segment, window, overlap, detrend } = readAnalysisFlags(f, 'baseline');
+  const bandsGiven = f.band.map((b) => {
     try {
       return parseBand(b);
     } catch (err) {
@@ -43,7 +30,7 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
   });
   let reader: WavReader;
   try {
-    reader = await WavReader.open(file, { scale: f.scale as number | undefined });
+    reader = await WavReader.open(file, { scale: f.scale });
   } catch (err) {
     throw new InputError(`floorline baseline: ${(err as Error).message}`);
   }
@@ -54,12 +41,12 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
       sampleRate: info.sampleRate,
       segment,
       window,
-      overlap: f.overlap as number,
-      detrend: f.detrend as DetrendMode,
+      overlap,
+      detrend,
     };
-    const skip = Math.round(((f['start-time'] as number | undefined) ?? 0) * info.sampleRate);
+    const skip = Math.round((f['start-time'] ?? 0) * info.sampleRate);
     const available = info.frames - skip;
-    const wanted = f.seconds !== undefined ? Math.round((f.seconds as number) * info.sampleRate) : available;
+    const wanted = f.seconds !== undefined ? Math.round(f.seconds * info.sampleRate) : available;
     if (wanted > available) {
       throw new InputError(
         `floorline baseline: ${file} holds ${(available / info.sampleRate).toFixed(2)} s after the start; ask for at most that with --seconds.`,
@@ -81,7 +68,7 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
         samples: wanted,
         bands: bandsGiven.length ? bandsGiven : defaultBands(info.sampleRate, segment, lobe),
         source: file,
-        notes: (f.notes as string | undefined) ?? '',
+        notes: f.notes ?? '',
       });
     } catch (err) {
       throw new InputError(`floorline baseline: ${file}: ${(err as Error).message}.`);
@@ -131,7 +118,28 @@ async function runBaseline(args: ParsedArgs): Promise<number> {
   }
 }
 
-export const baselineCommand: CommandSpec = {
+const BASELINE_FLAGS = defineFlags([
+  { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'where to write the baseline JSON (required)' },
+  {
+    name: 'band',
+    kind: 'list',
+    value: 'LO:HI',
+    help: 'band in Hz to store (default: decade bands and the whole usable band)',
+  },
+  { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'skip this many seconds of the recording first' },
+  { name: 'seconds', kind: 'number', value: 'S', min: 0, help: 'length of the span (default: the rest of the file)' },
+  {
+    name: 'scale',
+    kind: 'number',
+    value: 'V',
+    min: Number.MIN_VALUE,
+    help: 'volts per full scale for integer PCM or unlabelled float files',
+  },
+  { name: 'notes', kind: 'string', value: 'TEXT', help: 'free text stored with the baseline' },
+  ...ANALYSIS_FLAGS,
+]);
+
+export const baselineCommand = defineCommand({
   name: 'baseline',
   summary: 'capture a noise-floor baseline from a recording, for the alarms to compare against',
   details: [
@@ -143,25 +151,6 @@ export const baselineCommand: CommandSpec = {
     'Example: floorline baseline quiet.wav -o floorline-data/baselines/rig.json --notes "LNA on, lid closed"',
   ].join('\n'),
   positionals: [{ name: 'FILE', help: 'WAV recording of the quiet rig', required: true }],
-  flags: [
-    { name: 'out', short: 'o', kind: 'string', value: 'FILE', help: 'where to write the baseline JSON (required)' },
-    {
-      name: 'band',
-      kind: 'list',
-      value: 'LO:HI',
-      help: 'band in Hz to store (default: decade bands and the whole usable band)',
-    },
-    { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'skip this many seconds of the recording first' },
-    { name: 'seconds', kind: 'number', value: 'S', min: 0, help: 'length of the span (default: the rest of the file)' },
-    {
-      name: 'scale',
-      kind: 'number',
-      value: 'V',
-      min: Number.MIN_VALUE,
-      help: 'volts per full scale for integer PCM or unlabelled float files',
-    },
-    { name: 'notes', kind: 'string', value: 'TEXT', help: 'free text stored with the baseline' },
-    ...PIPELINE_FLAGS.filter((fl) => ANALYSIS_FLAG_NAMES.includes(fl.name)),
-  ],
+  flags: BASELINE_FLAGS,
   run: runBaseline,
-};
+});

@@ -1,10 +1,10 @@
 // `floorline config check FILE`: validates a rig config and prints the settings a run with it would use.
-import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { defineCommand, type ParsedArgs } from '../args.ts';
 import { UsageError } from '../../errors.ts';
 import { loadRigConfig } from '../../config/rig-config.ts';
 import { effectiveSettings } from '../../config/apply-config.ts';
 
-async function runConfig(args: ParsedArgs): Promise<number> {
+async function runConfig(args: ParsedArgs<readonly []>): Promise<number> {
   const [action, file] = args.positionals;
   if (action !== 'check')
     throw new UsageError(
@@ -19,7 +19,7 @@ async function runConfig(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const configCommand: CommandSpec = {
+export const configCommand = defineCommand({
   name: 'config',
   summary: 'check a rig config file and print the effective settings (exit 2 naming the JSON path of a mistake)',
   details: [
@@ -30,6 +30,6 @@ export const configCommand: CommandSpec = {
     { name: 'ACTION', help: 'check', required: true },
     { name: 'FILE', help: 'rig config JSON', required: false },
   ],
-  flags: [],
+  flags: [] as const,
   run: runConfig,
-};
+});

@@ -1,14 +1,13 @@
 // `floorline demo`: the bundled recording of our invented rig, replayed in real time, looping, against its
 // baseline, with the dashboard served. `npm start` runs this.
 import { existsSync } from 'node:fs';
+import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { threadsFlag } from './threads-flag.ts';
-import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
-import { RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
+import { DATA_FLAG, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
 import { rescaleBaselineForReplay } from '../../config/calibration.ts';
 import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
-import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
 import { readBaseline } from '../../baseline/format.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
@@ -23,10 +22,10 @@ export function bundledRecording(name: string): string {
   return new URL('../recordings/' + name, import.meta.url).pathname;
 }
 
-async function runDemo(args: ParsedArgs): Promise<number> {
+async function runDemo(args: ParsedArgs<typeof DEMO_FLAGS>): Promise<number> {
   const rig = readConfigFlag(args, demoCommand.flags);
   const f = args.flags;
-  const speed = parseSpeed(f.speed as string);
+  const speed = parseSpeed(f.speed);
   if (speed === undefined)
     throw new UsageError(
       `floorline demo: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 4.`,
@@ -46,7 +45,7 @@ async function runDemo(args: ParsedArgs): Promise<number> {
     if (r.changed.length)
       process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
   }
-  const loop = !(f['no-loop'] as boolean);
+  const loop = !f['no-loop'];
   const source = new ReplaySource(file, { speed, loop });
   process.stdout.write(
     `floorline demo: replaying ${file} (an invented thermal-stand load-cell rig; see recordings/README.md)\n` +
@@ -68,29 +67,25 @@ async function runDemo(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const demoCommand: CommandSpec = {
+const DEMO_FLAGS = defineFlags([
+  CONFIG_FLAG,
+  { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed' },
+  { name: 'no-loop', kind: 'boolean', help: 'play the recording once' },
+  { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard' },
+  { name: 'quiet', kind: 'boolean', help: 'print only errors and the summary' },
+  DATA_FLAG,
+  threadsFlag,
+  ...RECORDING_FLAGS,
+  ...SERVER_FLAGS,
+  ...HISTORY_FLAGS,
+]);
+
+export const demoCommand = defineCommand({
   name: 'demo',
   summary: 'replay the bundled demo rig in real time, looping, with the dashboard (what `npm start` runs)',
   details:
     'The recording and its scripted events (mains pickup, a switching spur, a band floor rise, a clip) are described in recordings/README.md.',
   positionals: [],
-  flags: [
-    CONFIG_FLAG,
-    { name: 'speed', kind: 'string', value: '1|N|max', default: '1', help: 'replay speed' },
-    { name: 'no-loop', kind: 'boolean', help: 'play the recording once' },
-    { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard' },
-    { name: 'quiet', kind: 'boolean', help: 'print only errors and the summary' },
-    {
-      name: 'data',
-      kind: 'string',
-      value: 'DIR',
-      default: DEFAULT_DATA_FOLDER,
-      help: 'data folder (recordings/, baselines/, events.jsonl)',
-    },
-    threadsFlag,
-    ...RECORDING_FLAGS,
-    ...SERVER_FLAGS,
-    ...HISTORY_FLAGS,
-  ],
+  flags: DEMO_FLAGS,
   run: runDemo,
-};
+});

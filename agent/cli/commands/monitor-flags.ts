@@ -1,10 +1,10 @@
 // Flags shared by the commands that run a monitor (run, replay, demo): analysis settings, averaging, snapshot
 // rate, data folder, recording, alarms and the dashboard. monitorOptionsFromFlags is the one place where they
 // become a MonitorOptions, so the three commands accept the same spellings and mean the same by them.
-import type { FlagSpec, ParsedArgs } from '../args.ts';
+import { defineFlag, defineFlags, type FlagValues } from '../args.ts';
 import { readMaskFile, type MaskFile } from '../../analysis/mask-file.ts';
 import { UsageError } from '../../errors.ts';
-import type { AveragingSpec, DetrendMode } from '../../../protocol/settings.ts';
+import type { AveragingSpec } from '../../../protocol/settings.ts';
 import { DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from '../../pipeline/analyser.ts';
 import { DEFAULT_AVERAGING } from '../../../dsp/averaging.ts';
 import { DEFAULT_DATA_FOLDER } from '../../config/data-folder.ts';
@@ -14,17 +14,19 @@ import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
 import { parseWindowName } from '../../../dsp/windows.ts';
 import { MAX_SEGMENT, MIN_SEGMENT } from '../../../dsp/welch.ts';
 import type { MonitorOptions, PartSpec } from '../../monitor/options.ts';
-import { defaultAssetsDir, serverOptionsFromArgs } from '../../server/cli-flags.ts';
+import { defaultAssetsDir, serverOptionsFromArgs, type SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
 import { consolePart } from './console-part.ts';
 import type { LoadedRigConfig } from '../../config/rig-config.ts';
 import { CalibratedSource } from '../../config/calibration.ts';
 import type { Source } from '../../../protocol/stream.ts';
 import type { ReplaySource } from '../../sources/replay.ts';
-import { historyFromArgs, withSource } from '../../store/cli-flags.ts';
+import { historyFromArgs, withSource, type HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { resolveThreads } from '../../workers/threads.ts';
+import type { threadsFlag } from './threads-flag.ts';
 
-export const PIPELINE_FLAGS: FlagSpec[] = [
+/** The Welch settings: run and replay have them, and baseline (a baseline is taken with the live settings). */
+export const ANALYSIS_FLAGS = defineFlags([
   {
     name: 'segment',
     kind: 'number',
@@ -59,6 +61,19 @@ export const PIPELINE_FLAGS: FlagSpec[] = [
     default: DEFAULT_ANALYSIS.detrend,
     help: 'detrend each segment',
   },
+]);
+
+/** --data DIR: every monitor command has it (demo without the analysis flags). */
+export const DATA_FLAG = defineFlag({
+  name: 'data',
+  kind: 'string',
+  value: 'DIR',
+  default: DEFAULT_DATA_FOLDER,
+  help: 'data folder (recordings/, baselines/, events.jsonl)',
+});
+
+export const PIPELINE_FLAGS = defineFlags([
+  ...ANALYSIS_FLAGS,
   {
     name: 'average',
     kind: 'string',
@@ -75,14 +90,8 @@ export const PIPELINE_FLAGS: FlagSpec[] = [
     default: DEFAULT_SNAPSHOT_RATE,
     help: 'spectrum snapshots per second of sample time',
   },
-  {
-    name: 'data',
-    kind: 'string',
-    value: 'DIR',
-    default: DEFAULT_DATA_FOLDER,
-    help: 'data folder (recordings/, baselines/, events.jsonl)',
-  },
-];
+  DATA_FLAG,
+]);
 
 /** The --average spelling of an averaging (the inverse of parseAveraging). */
 export function averagingFlag(a: AveragingSpec): string {
@@ -141,9 +150,9 @@ export interface PipelineFlagValues {
   data: string;
 }
 
-export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFlagValues {
-  const f = args.flags;
-  const segment = f.segment as number;
+/** The analysis flags checked: a power-of-two segment and a window the analysis knows. */
+export function readAnalysisFlags(f: FlagValues<typeof ANALYSIS_FLAGS>, command: string): AnalysisChoice {
+  const segment = f.segment;
   if ((segment & (segment - 1)) !== 0) {
     throw new UsageError(
       `floorline ${command}: --segment ${segment} is not a power of two; give one from ${MIN_SEGMENT} to ${MAX_SEGMENT}, e.g. --segment 4096.`,
@@ -151,19 +160,23 @@ export function readPipelineFlags(args: ParsedArgs, command: string): PipelineFl
   }
   let window: string;
   try {
-    window = parseWindowName(f.window as string);
+    window = parseWindowName(f.window);
   } catch (err) {
     throw new UsageError(`floorline ${command}: --window: ${(err as Error).message}.`);
   }
+  return { segment, window, overlap: f.overlap, detrend: f.detrend };
+}
+
+export function readPipelineFlags(f: FlagValues<typeof PIPELINE_FLAGS>, command: string): PipelineFlagValues {
   return {
-    analysis: { segment, window, overlap: f.overlap as number, detrend: f.detrend as DetrendMode },
-    averaging: parseAveraging(f.average as string, command),
-    snapshotRate: f['snapshot-rate'] as number,
-    data: f.data as string,
+    analysis: readAnalysisFlags(f, command),
+    averaging: parseAveraging(f.average, command),
+    snapshotRate: f['snapshot-rate'],
+    data: f.data,
   };
 }
 
-export const RECORDING_FLAGS: FlagSpec[] = [
+export const RECORDING_FLAGS = defineFlags([
   { name: 'record', kind: 'boolean', help: 'record continuously to the data folder (float32 WAV + sidecar)' },
   {
     name: 'rotate',
@@ -199,22 +212,21 @@ export const RECORDING_FLAGS: FlagSpec[] = [
     default: 10,
     help: 'print a status line every S seconds of wall time (0 = never)',
   },
-];
+]);
 
-export function readRecordingFlags(args: ParsedArgs): {
+export function readRecordingFlags(f: FlagValues<typeof RECORDING_FLAGS>): {
   record: boolean;
   statusEvery: number;
   recorder: { rotateSeconds: number; preSeconds: number; postSeconds: number };
 } {
-  const f = args.flags;
   return {
-    record: f.record as boolean,
-    statusEvery: f['status-every'] as number,
-    recorder: { rotateSeconds: f.rotate as number, preSeconds: f.pre as number, postSeconds: f.post as number },
+    record: f.record,
+    statusEvery: f['status-every'],
+    recorder: { rotateSeconds: f.rotate, preSeconds: f.pre, postSeconds: f.post },
   };
 }
 
-export const ALARM_FLAGS: FlagSpec[] = [
+export const ALARM_FLAGS = defineFlags([
   {
     name: 'baseline',
     kind: 'string',
@@ -235,7 +247,7 @@ export const ALARM_FLAGS: FlagSpec[] = [
     value: 'FILE',
     help: 'ASD limit mask (CSV frequency,limit[,unit]) for every channel: the live limit rule',
   },
-];
+]);
 
 export interface AlarmFlagValues {
   baseline?: BaselineFile;
@@ -271,18 +283,13 @@ function masksOrUsage(
 
 /** Loads the baseline and rules named by the flags; errors name the file or flag and the fix. */
 export async function readAlarmFlags(
-  args: ParsedArgs,
+  f: FlagValues<typeof ALARM_FLAGS>,
   command: string,
   configRules?: RulesConfig,
   configMasks?: Record<string, string>,
 ): Promise<AlarmFlagValues> {
-  const f = args.flags;
-  const rules = f.rules
-    ? await loadRules(f.rules as string)
-    : configRules
-      ? structuredClone(configRules)
-      : defaultRules();
-  const bands = (f.band as string[]).map((b) => {
+  const rules = f.rules ? await loadRules(f.rules) : configRules ? structuredClone(configRules) : defaultRules();
+  const bands = f.band.map((b) => {
     try {
       return parseBand(b);
     } catch (err) {
@@ -290,10 +297,10 @@ export async function readAlarmFlags(
     }
   });
   if (bands.length) rules.band.bands = bands;
-  const baselinePath = f.baseline as string | undefined;
+  const baselinePath = f.baseline;
   const baseline = baselinePath ? await readBaseline(baselinePath) : undefined;
-  const masks = masksOrUsage(command, () => readMasks(f.mask as string | undefined, configMasks));
-  return { baseline, baselinePath, rules, eventsOut: f['events-out'] as string | undefined, masks };
+  const masks = masksOrUsage(command, () => readMasks(f.mask, configMasks));
+  return { baseline, baselinePath, rules, eventsOut: f['events-out'], masks };
 }
 
 export interface CommandWiring {
@@ -314,52 +321,66 @@ export interface CommandWiring {
   parts?: PartSpec[];
 }
 
-const has = (args: ParsedArgs, name: string): boolean => Object.hasOwn(args.flags, name);
+/** The flags run, replay and demo all declare. */
+type CommonMonitorFlags = FlagValues<typeof RECORDING_FLAGS> &
+  FlagValues<typeof SERVER_FLAGS> &
+  FlagValues<typeof HISTORY_FLAGS> &
+  FlagValues<readonly [typeof DATA_FLAG, typeof threadsFlag]> & { quiet: boolean; 'no-server': boolean };
+
+/** What monitorOptionsFromFlags reads: the common flags, and the pipeline and alarm groups where declared. */
+export type MonitorFlags = CommonMonitorFlags &
+  Partial<FlagValues<typeof PIPELINE_FLAGS>> &
+  Partial<FlagValues<typeof ALARM_FLAGS>>;
+
+/** The command declares the whole flag group that `probe` belongs to (the parser fills every declared flag). */
+function declares<G>(f: MonitorFlags, probe: keyof G & string): f is MonitorFlags & G {
+  return Object.hasOwn(f, probe);
+}
 
 /**
  * Turns the parsed flags of run, replay or demo into the options of one monitor. Flags a command does not
  * declare take the defaults (demo has no analysis or alarm flags: its baseline was taken with the defaults).
  */
 export async function monitorOptionsFromFlags(
-  args: ParsedArgs,
-  command: string,
+  args: { flags: MonitorFlags },
+  command: 'run' | 'replay' | 'demo',
   w: CommandWiring,
 ): Promise<MonitorOptions> {
   const f = args.flags;
-  const pipeline = has(args, 'segment')
-    ? readPipelineFlags(args, command)
+  const pipeline = declares<FlagValues<typeof PIPELINE_FLAGS>>(f, 'segment')
+    ? readPipelineFlags(f, command)
     : {
         analysis: DEFAULT_ANALYSIS,
         averaging: DEFAULT_AVERAGING,
         snapshotRate: DEFAULT_SNAPSHOT_RATE,
-        data: f.data as string,
+        data: f.data,
       };
   const rig = w.rig;
-  const alarms: AlarmFlagValues = has(args, 'band')
-    ? await readAlarmFlags(args, command, rig?.rules, rig?.config.masks)
+  const alarmFlags = declares<FlagValues<typeof ALARM_FLAGS>>(f, 'band');
+  const alarms: AlarmFlagValues = alarmFlags
+    ? await readAlarmFlags(f, command, rig?.rules, rig?.config.masks)
     : {
         rules: rig?.rules ? structuredClone(rig.rules) : defaultRules(),
         masks: masksOrUsage(command, () => readMasks(undefined, rig?.config.masks)),
       };
   // demo has no --band: the config's bands still apply (its analysis settings do not: they stay the baseline's).
-  if (!has(args, 'band') && rig?.config.bands?.length) alarms.rules.band.bands = rig.config.bands.map(parseBand);
-  const rec = readRecordingFlags(args);
+  if (!alarmFlags && rig?.config.bands?.length) alarms.rules.band.bands = rig.config.bands.map(parseBand);
+  const rec = readRecordingFlags(f);
   const baseline =
     w.baseline ??
     (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
-  const quiet = f.quiet as boolean;
   const parts: PartSpec[] = [
-    consolePart({ quiet, statusEvery: rec.statusEvery, frames: w.frames }),
+    consolePart({ quiet: f.quiet, statusEvery: rec.statusEvery, frames: w.frames }),
     ...(w.parts ?? []),
   ];
-  if (!f['no-server']) parts.push(serveDashboard(serverOptionsFromArgs(args, defaultAssetsDir())));
+  if (!f['no-server']) parts.push(serveDashboard(serverOptionsFromArgs(f, defaultAssetsDir())));
   return {
     command,
     analysis: pipeline.analysis,
     averaging: pipeline.averaging,
     snapshotRate: pipeline.snapshotRate,
     mode: w.mode,
-    threads: resolveThreads(f.threads as number | undefined),
+    threads: resolveThreads(f.threads),
     queueCapacity: w.queueCapacity,
     dataDir: pipeline.data,
     record: rec.record,
@@ -369,7 +390,7 @@ export async function monitorOptionsFromFlags(
     eventsOut: alarms.eventsOut,
     durationSeconds: w.durationSeconds,
     history: withSource(
-      historyFromArgs(args, command as 'run' | 'replay' | 'demo', pipeline.data, w.replay?.path),
+      historyFromArgs(f, command, pipeline.data, w.replay?.path),
       w.sourceLabel,
       alarms.rules.band.bands,
     ),

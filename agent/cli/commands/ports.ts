@@ -1,8 +1,10 @@
 // `floorline ports`: the serial ports SerialPort.list() sees, with their stable /dev/serial/by-id paths and USB ids.
-import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { defineCommand, type ParsedArgs } from '../args.ts';
 import { listPorts } from '../../sources/port-resolve.ts';
 
-async function run(args: ParsedArgs): Promise<number> {
+const PORTS_FLAGS = [{ name: 'json', kind: 'boolean', help: 'print the list as JSON' }] as const;
+
+async function run(args: ParsedArgs<typeof PORTS_FLAGS>): Promise<number> {
   const ports = await listPorts();
   if (args.flags.json) {
     process.stdout.write(`${JSON.stringify(ports, null, 2)}\n`);
@@ -30,7 +32,7 @@ async function run(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const portsCommand: CommandSpec = {
+export const portsCommand = defineCommand({
   name: 'ports',
   summary:
     'list serial ports with their stable /dev/serial/by-id paths and USB ids (vendor:product, serial, manufacturer)',
@@ -39,6 +41,6 @@ export const portsCommand: CommandSpec = {
     'at every reconnect, so the board is found after a replug even if it comes back as another ttyUSBn.',
   ].join('\n'),
   positionals: [],
-  flags: [{ name: 'json', kind: 'boolean', help: 'print the list as JSON' }],
+  flags: PORTS_FLAGS,
   run,
-};
+});

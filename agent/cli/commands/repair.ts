@@ -1,8 +1,8 @@
 // `floorline repair FILE`: fixes the header of a recording left by a crash (see agent/wav/FORMAT.md).
-import type { CommandSpec } from '../args.ts';
+import { defineCommand } from '../args.ts';
 import { repairWav } from '../../wav/repair.ts';
 
-export const repairCommand: CommandSpec = {
+export const repairCommand = defineCommand({
   name: 'repair',
   summary: 'fix the header sizes of a WAV recording cut off by a crash, keeping every whole frame on disk',
   details: [
@@ -11,7 +11,7 @@ export const repairCommand: CommandSpec = {
     'Example: floorline repair floorline-data/recordings/rig-20261201T220000Z.wav',
   ].join('\n'),
   positionals: [{ name: 'FILE', help: 'WAV recording to repair in place', required: true }],
-  flags: [],
+  flags: [] as const,
   async run(args) {
     const r = await repairWav(args.positionals[0]);
     const what = r.changed
@@ -20,4 +20,4 @@ export const repairCommand: CommandSpec = {
     process.stdout.write(`${r.path}: ${what}\n`);
     return 0;
   },
-};
+});

@@ -1,7 +1,7 @@
 // `floorline replay FILE`: the live pipeline fed from a recording, at real time, N× or as fast as it goes.
 import { createWriteStream } from 'node:fs';
+import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { threadsFlag } from './threads-flag.ts';
-import type { CommandSpec, ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import {
   ALARM_FLAGS,
@@ -28,11 +28,11 @@ function snapshotWriter(path: string): MonitorPart {
   };
 }
 
-async function runReplay(args: ParsedArgs): Promise<number> {
+async function runReplay(args: ParsedArgs<typeof REPLAY_FLAGS>): Promise<number> {
   const [file] = args.positionals;
   const rig = readConfigFlag(args, replayCommand.flags);
   const f = args.flags;
-  const speed = parseSpeed(f.speed as string);
+  const speed = parseSpeed(f.speed);
   if (speed === undefined) {
     throw new UsageError(
       `floorline replay: --speed '${String(f.speed)}' is not 1, a positive number or max; e.g. --speed 10 or --speed max.`,
@@ -44,13 +44,13 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   }
   const source = new ReplaySource(file, {
     speed,
-    loop: f.loop as boolean,
-    follow: f.follow as boolean,
-    startSample: f['start-sample'] as number | undefined,
-    startTime: f['start-time'] as number | undefined,
-    scale: f.scale as number | undefined,
+    loop: f.loop,
+    follow: f.follow,
+    startSample: f['start-sample'],
+    startTime: f['start-time'],
+    scale: f.scale,
   });
-  const snapshotsOut = f['snapshots-out'] as string | undefined;
+  const snapshotsOut = f['snapshots-out'];
   const options = await monitorOptionsFromFlags(args, 'replay', {
     mode: 'lossless',
     rig,
@@ -74,7 +74,54 @@ async function runReplay(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const replayCommand: CommandSpec = {
+const REPLAY_FLAGS = defineFlags([
+  CONFIG_FLAG,
+  {
+    name: 'speed',
+    kind: 'string',
+    value: '1|N|max',
+    default: '1',
+    help: 'replay speed: 1 = real time, N times faster, or max',
+  },
+  { name: 'loop', kind: 'boolean', help: 'start again at the end (sample time keeps counting)' },
+  {
+    name: 'follow',
+    kind: 'boolean',
+    help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them',
+  },
+  {
+    name: 'start-sample',
+    kind: 'number',
+    value: 'N',
+    integer: true,
+    min: 0,
+    help: 'start at this sample index (as printed in events)',
+  },
+  { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'start at this sample time t in seconds' },
+  {
+    name: 'scale',
+    kind: 'number',
+    value: 'V',
+    min: 0,
+    help: 'volts per full scale for integer PCM or unlabelled float files',
+  },
+  { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
+  {
+    name: 'snapshots-out',
+    kind: 'string',
+    value: 'FILE',
+    help: 'write every spectrum snapshot as JSON Lines (large)',
+  },
+  { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
+  ...SERVER_FLAGS,
+  ...HISTORY_FLAGS,
+  ...ALARM_FLAGS,
+  ...RECORDING_FLAGS,
+  threadsFlag,
+  ...PIPELINE_FLAGS,
+]);
+
+export const replayCommand = defineCommand({
   name: 'replay',
   summary: 'run the live pipeline on a recording (WAV), in real time, N× faster or as fast as possible',
   details: [
@@ -89,51 +136,6 @@ export const replayCommand: CommandSpec = {
       required: true,
     },
   ],
-  flags: [
-    CONFIG_FLAG,
-    {
-      name: 'speed',
-      kind: 'string',
-      value: '1|N|max',
-      default: '1',
-      help: 'replay speed: 1 = real time, N times faster, or max',
-    },
-    { name: 'loop', kind: 'boolean', help: 'start again at the end (sample time keeps counting)' },
-    {
-      name: 'follow',
-      kind: 'boolean',
-      help: 'go on with the next files of a rotated recording (rec-…-sN.wav), as the live run saw them',
-    },
-    {
-      name: 'start-sample',
-      kind: 'number',
-      value: 'N',
-      integer: true,
-      min: 0,
-      help: 'start at this sample index (as printed in events)',
-    },
-    { name: 'start-time', kind: 'number', value: 'S', min: 0, help: 'start at this sample time t in seconds' },
-    {
-      name: 'scale',
-      kind: 'number',
-      value: 'V',
-      min: 0,
-      help: 'volts per full scale for integer PCM or unlabelled float files',
-    },
-    { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
-    {
-      name: 'snapshots-out',
-      kind: 'string',
-      value: 'FILE',
-      help: 'write every spectrum snapshot as JSON Lines (large)',
-    },
-    { name: 'quiet', kind: 'boolean', help: 'print only the summary at the end' },
-    ...SERVER_FLAGS,
-    ...HISTORY_FLAGS,
-    ...ALARM_FLAGS,
-    ...RECORDING_FLAGS,
-    threadsFlag,
-    ...PIPELINE_FLAGS,
-  ],
+  flags: REPLAY_FLAGS,
   run: runReplay,
-};
+});

@@ -1,10 +1,9 @@
 // `floorline simulate SCENARIO.json`: the board simulator and reference encoder of the serial protocol.
 import { readFileSync, statSync } from 'node:fs';
-import type { CommandSpec, ParsedArgs } from '../args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import { parseScenario, ScenarioError, type Scenario } from '../../sim/scenario.ts';
 import { Simulation, type SimulationOptions } from '../../sim/run-simulation.ts';
-import type { WireFormat } from '../../sim/frame-composer.ts';
 
 function loadScenario(path: string): Scenario {
   let text: string;
@@ -42,12 +41,12 @@ function outputOf(out: string, baudRate: number): SimulationOptions['output'] {
   return { kind: 'port', path: out, baudRate };
 }
 
-async function run(args: ParsedArgs): Promise<number> {
+async function run(args: ParsedArgs<typeof SIMULATE_FLAGS>): Promise<number> {
   const f = args.flags;
   const scenario = loadScenario(args.positionals[0]);
-  const seed = (f.seed as number | undefined) ?? scenario.seed;
-  const duration = (f.duration as number | undefined) ?? scenario.duration;
-  const output = outputOf(f.out as string, f.baud as number);
+  const seed = f.seed ?? scenario.seed;
+  const duration = f.duration ?? scenario.duration;
+  const output = outputOf(f.out, f.baud);
   if (output.kind === 'wav' && duration === undefined) {
     throw new UsageError(
       'floorline simulate: a WAV recording needs a length; give --duration S or "duration" in the scenario.',
@@ -64,8 +63,8 @@ async function run(args: ParsedArgs): Promise<number> {
     seed,
     totalFrames,
     output,
-    format: f.format as WireFormat,
-    realtime: f.realtime as boolean,
+    format: f.format,
+    realtime: f.realtime,
     log,
   });
   const stop = (): void => sim.stop();
@@ -88,7 +87,45 @@ async function run(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const simulateCommand: CommandSpec = {
+const SIMULATE_FLAGS = defineFlags([
+  { name: 'out', kind: 'string', value: 'PATH', default: '-', help: "serial/pty path, '-' for stdout, or NAME.wav" },
+  {
+    name: 'format',
+    kind: 'string',
+    value: 'FMT',
+    choices: ['binary', 'text'],
+    default: 'binary',
+    help: 'wire format for serial and stdout',
+  },
+  {
+    name: 'duration',
+    kind: 'number',
+    value: 'S',
+    min: 0.001,
+    help: "seconds of sample time (default: the scenario's, else until stopped)",
+  },
+  { name: 'realtime', kind: 'boolean', help: 'pace stdout output to the wall clock too (serial paths always are)' },
+  {
+    name: 'seed',
+    kind: 'number',
+    value: 'N',
+    integer: true,
+    min: 0,
+    max: 0xffffffff,
+    help: "random seed (default: the scenario's, else 1)",
+  },
+  {
+    name: 'baud',
+    kind: 'number',
+    value: 'N',
+    integer: true,
+    min: 50,
+    default: 921600,
+    help: 'baud rate to open a real serial device with (ptys ignore it)',
+  },
+]);
+
+export const simulateCommand = defineCommand({
   name: 'simulate',
   summary: 'board simulator: plays a scenario file as framed samples to a serial/pty path, stdout, or a WAV recording',
   details: [
@@ -104,42 +141,6 @@ export const simulateCommand: CommandSpec = {
     '         floorline run --port /tmp/fl-host',
   ].join('\n'),
   positionals: [{ name: 'SCENARIO', help: 'scenario JSON file', required: true }],
-  flags: [
-    { name: 'out', kind: 'string', value: 'PATH', default: '-', help: "serial/pty path, '-' for stdout, or NAME.wav" },
-    {
-      name: 'format',
-      kind: 'string',
-      value: 'FMT',
-      choices: ['binary', 'text'],
-      default: 'binary',
-      help: 'wire format for serial and stdout',
-    },
-    {
-      name: 'duration',
-      kind: 'number',
-      value: 'S',
-      min: 0.001,
-      help: "seconds of sample time (default: the scenario's, else until stopped)",
-    },
-    { name: 'realtime', kind: 'boolean', help: 'pace stdout output to the wall clock too (serial paths always are)' },
-    {
-      name: 'seed',
-      kind: 'number',
-      value: 'N',
-      integer: true,
-      min: 0,
-      max: 0xffffffff,
-      help: "random seed (default: the scenario's, else 1)",
-    },
-    {
-      name: 'baud',
-      kind: 'number',
-      value: 'N',
-      integer: true,
-      min: 50,
-      default: 921600,
-      help: 'baud rate to open a real serial device with (ptys ignore it)',
-    },
-  ],
+  flags: SIMULATE_FLAGS,
   run,
-};
+});

@@ -1,8 +1,8 @@
 // --threads N for the commands that can spread analysis over worker threads.
-import type { FlagSpec } from '../args.ts';
+import { defineFlag } from '../args.ts';
 import { defaultThreads, MAX_THREADS } from '../../workers/threads.ts';
 
-export const threadsFlag: FlagSpec = {
+export const threadsFlag = defineFlag({
   name: 'threads',
   kind: 'number',
   value: 'N',
@@ -10,4 +10,4 @@ export const threadsFlag: FlagSpec = {
   min: 1,
   max: MAX_THREADS,
   help: `analysis threads (default: cores − 1, here ${defaultThreads()}); results are identical for every N`,
-};
+});

@@ -1,5 +1,5 @@
 // `floorline incidents`: incidents from the history store with settled and peak levels and notes.
-import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../../cli/args.ts';
 import { formatSi } from '../../../protocol/si.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForReading } from '../open-store.ts';
@@ -17,10 +17,11 @@ function describe(i: IncidentView, unit: string): string {
   return lines.join('\n');
 }
 
-async function runIncidents(args: ParsedArgs): Promise<number> {
-  const output = readOutput(args, 'incidents');
-  const span = readSpan(args, 'incidents');
-  const db = openStoreForReading(storePathFromArgs(args));
+async function runIncidents(args: ParsedArgs<typeof INCIDENTS_FLAGS>): Promise<number> {
+  const f = args.flags;
+  const output = readOutput(f, 'incidents');
+  const span = readSpan(f, 'incidents');
+  const db = openStoreForReading(storePathFromArgs(f));
   try {
     const list = queryIncidents(db, span.from, span.to);
     if (output === 'json') process.stdout.write(JSON.stringify({ incidents: list }) + '\n');
@@ -46,11 +47,13 @@ async function runIncidents(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const incidentsCommand: CommandSpec = {
+const INCIDENTS_FLAGS = defineFlags([...SPAN_FLAGS, ...OUTPUT_FLAGS, ...STORE_SOURCE_FLAGS]);
+
+export const incidentsCommand = defineCommand({
   name: 'incidents',
   summary: 'list incidents from the history store: start, end, settled and peak levels, notes',
   details: 'Example: floorline incidents --from 2026-12-02T00:00:00Z --json',
   positionals: [],
-  flags: [...SPAN_FLAGS, ...OUTPUT_FLAGS, ...STORE_SOURCE_FLAGS],
+  flags: INCIDENTS_FLAGS,
   run: runIncidents,
-};
+});

@@ -2,7 +2,7 @@
 // through a running agent (--agent URL), which stamps it with its current sample.
 import { appendFileSync, existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
-import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../../cli/args.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForNote } from '../open-store.ts';
@@ -80,12 +80,12 @@ export function addNoteToStore(
   }
 }
 
-async function runNote(args: ParsedArgs): Promise<number> {
+async function runNote(args: ParsedArgs<typeof NOTE_FLAGS>): Promise<number> {
   const f = args.flags;
   const text = args.positionals.join(' ');
   const problem = checkNoteText(text);
   if (problem) throw new UsageError(`floorline note: ${problem}.`);
-  const incident = f.incident as string | undefined;
+  const incident = f.incident;
   if (incident !== undefined && !/^[A-Za-z0-9._:-]{1,200}$/.test(incident)) {
     throw new UsageError(
       `floorline note: --incident '${incident}' is not an incident id (letters, digits, . _ : -); see \`floorline incidents\`.`,
@@ -93,11 +93,11 @@ async function runNote(args: ParsedArgs): Promise<number> {
   }
   if (f.agent) {
     if (f.store) throw new UsageError('floorline note: give --agent URL or --store FILE, not both.');
-    const r = await noteThroughAgent(f.agent as string, text, incident);
+    const r = await noteThroughAgent(f.agent, text, incident);
     process.stdout.write(`note added by the agent at t=${r.t} s (sample ${r.sample})\n`);
     return 0;
   }
-  const path = storePathFromArgs(args);
+  const path = storePathFromArgs(f);
   if (!existsSync(path))
     throw new InputError(
       `floorline note: no history store at ${path}; give --store FILE, --data DIR or --agent URL of a running agent.`,
@@ -123,32 +123,34 @@ async function runNote(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const noteCommand: CommandSpec = {
+const NOTE_FLAGS = defineFlags([
+  {
+    name: 'incident',
+    kind: 'string',
+    value: 'ID',
+    help: 'attach the note to this incident (see `floorline incidents`)',
+  },
+  {
+    name: 'agent',
+    kind: 'string',
+    value: 'URL',
+    help: 'send the note to a running agent (its dashboard URL, with ?token=… if set)',
+  },
+  { name: 'store', kind: 'string', value: 'FILE', help: 'history store file to write' },
+  {
+    name: 'data',
+    kind: 'string',
+    value: 'DIR',
+    default: './floorline-data',
+    help: 'data folder whose floorline.sqlite and events.jsonl take the note',
+  },
+]);
+
+export const noteCommand = defineCommand({
   name: 'note',
   summary: 'add an operator note ("heater relay on") to the history, optionally on an incident',
   details: 'Example: floorline note --incident mains-bridge-167999 "moved the cable at the chamber door"',
   positionals: [{ name: 'TEXT', help: 'the note', required: true }],
-  flags: [
-    {
-      name: 'incident',
-      kind: 'string',
-      value: 'ID',
-      help: 'attach the note to this incident (see `floorline incidents`)',
-    },
-    {
-      name: 'agent',
-      kind: 'string',
-      value: 'URL',
-      help: 'send the note to a running agent (its dashboard URL, with ?token=… if set)',
-    },
-    { name: 'store', kind: 'string', value: 'FILE', help: 'history store file to write' },
-    {
-      name: 'data',
-      kind: 'string',
-      value: 'DIR',
-      default: './floorline-data',
-      help: 'data folder whose floorline.sqlite and events.jsonl take the note',
-    },
-  ],
+  flags: NOTE_FLAGS,
   run: runNote,
-};
+});

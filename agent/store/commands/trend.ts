@@ -1,28 +1,28 @@
 // `floorline trend`: band RMS and floor density rows from the history store.
-import type { CommandSpec, ParsedArgs } from '../../cli/args.ts';
+import { defineCommand, defineFlags, type ParsedArgs } from '../../cli/args.ts';
 import { UsageError } from '../../errors.ts';
 import { parseBand } from '../../../protocol/bands.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForReading } from '../open-store.ts';
-import { EVERY_CHOICES, queryTrend, type Every } from '../trend-query.ts';
+import { EVERY_CHOICES, queryTrend } from '../trend-query.ts';
 import { trendCsv, trendTable } from '../trend-format.ts';
 import { OUTPUT_FLAGS, SPAN_FLAGS, STORE_SOURCE_FLAGS, readOutput, readSpan } from './query-flags.ts';
 
-async function runTrend(args: ParsedArgs): Promise<number> {
+async function runTrend(args: ParsedArgs<typeof TREND_FLAGS>): Promise<number> {
   const f = args.flags;
-  const output = readOutput(args, 'trend');
-  const span = readSpan(args, 'trend');
+  const output = readOutput(f, 'trend');
+  const span = readSpan(f, 'trend');
   let band;
   if (f.band !== undefined) {
     try {
-      band = parseBand(f.band as string);
+      band = parseBand(f.band);
     } catch (err) {
       throw new UsageError(`floorline trend: ${(err as Error).message}.`);
     }
   }
-  const db = openStoreForReading(storePathFromArgs(args));
+  const db = openStoreForReading(storePathFromArgs(f));
   try {
-    const result = queryTrend(db, { channel: f.channel as string | undefined, band, ...span, every: f.every as Every });
+    const result = queryTrend(db, { channel: f.channel, band, ...span, every: f.every });
     if (output === 'json') process.stdout.write(JSON.stringify(result) + '\n');
     else if (output === 'csv') {
       try {
@@ -37,7 +37,28 @@ async function runTrend(args: ParsedArgs): Promise<number> {
   return 0;
 }
 
-export const trendCommand: CommandSpec = {
+const TREND_FLAGS = defineFlags([
+  { name: 'channel', kind: 'string', value: 'NAME', help: 'only this channel' },
+  {
+    name: 'band',
+    kind: 'string',
+    value: 'LO:HI',
+    help: 'only this band (Hz, as stored; see the list in the error when it does not match)',
+  },
+  ...SPAN_FLAGS,
+  {
+    name: 'every',
+    kind: 'string',
+    value: 'RES',
+    choices: EVERY_CHOICES,
+    default: '1m',
+    help: 'resolution: 1s, 1m or 1h',
+  },
+  ...OUTPUT_FLAGS,
+  ...STORE_SOURCE_FLAGS,
+]);
+
+export const trendCommand = defineCommand({
   name: 'trend',
   summary: 'band RMS (min/mean/max) and floor density over time, from the history store',
   details: [
@@ -46,25 +67,6 @@ export const trendCommand: CommandSpec = {
     'Example: floorline trend --channel bridge --band 100:1000 --from 2026-12-02T08:00:00Z --every 1m --csv',
   ].join('\n'),
   positionals: [],
-  flags: [
-    { name: 'channel', kind: 'string', value: 'NAME', help: 'only this channel' },
-    {
-      name: 'band',
-      kind: 'string',
-      value: 'LO:HI',
-      help: 'only this band (Hz, as stored; see the list in the error when it does not match)',
-    },
-    ...SPAN_FLAGS,
-    {
-      name: 'every',
-      kind: 'string',
-      value: 'RES',
-      choices: EVERY_CHOICES,
-      default: '1m',
-      help: 'resolution: 1s, 1m or 1h',
-    },
-    ...OUTPUT_FLAGS,
-    ...STORE_SOURCE_FLAGS,
-  ],
+  flags: TREND_FLAGS,
   run: runTrend,
-};
+});
