@@ -39,7 +39,7 @@ import { AlarmTable } from './alarm-table.ts';
 import { BandTable } from './band-table.ts';
 import { EventHistory } from './event-history.ts';
 import type { MonitorOptions } from './options.ts';
-import { PartHost, type MonitorPart } from './parts.ts';
+import { PartHost, type MonitorPart, type PartSink } from './parts.ts';
 import { MonitorRefusal } from './refusal.ts';
 
 /** The current baseline as the read model hands it out: built once per baseline, shared, never copied per call. */
@@ -70,7 +70,7 @@ function baselineView(file: string, b: BaselineFile): BaselineView {
   };
 }
 
-export class Monitor {
+export class Monitor implements PartSink {
   readonly pipeline: Pipeline;
   readonly folder: DataFolder;
   readonly digest = new SnapshotDigest();
@@ -97,6 +97,7 @@ export class Monitor {
   private baselinePrevious: { view: BaselineView; data: BaselineFile; path: string | undefined } | null = null;
   private capturing: { file: string; run: LiveCapture } | null = null;
   private stopping: Promise<void> | undefined;
+  private segmentsObserved = false;
   private readonly say: (line: string) => void;
 
   constructor(
@@ -145,9 +146,24 @@ export class Monitor {
     return this.historyRef;
   }
 
-  /** Attaches a part; from the next callback on it sees the stream (attach before the source starts to see all). */
-  attach(part: MonitorPart): void {
-    this.parts.add(part);
+  /**
+   * Attaches a part; from the next callback on it sees the stream (attach before the source starts to see all).
+   * The function returned detaches it. Welch segments are observed only once a part asks for them.
+   */
+  attach(part: MonitorPart): () => void {
+    const detach = this.parts.attach(part);
+    if (part.onSegment && !this.segmentsObserved) {
+      this.segmentsObserved = true;
+      this.pipeline.addSegmentObserver({
+        onAnalysis: (grid) => this.parts.call('onAnalysis', grid),
+        onSegment: (channel, density, lastSample) => this.parts.call('onSegment', channel, density, lastSample),
+      });
+    }
+    return detach;
+  }
+
+  guard(part: MonitorPart, where: string, work: () => void): void {
+    this.parts.guard(part, where, work);
   }
 
   /** Data folder, crash repair, recorder, event log; then the wiring. Called by startMonitor. */
@@ -178,7 +194,7 @@ export class Monitor {
     // Refused (another agent holds the store) before the source starts: nothing is read, nothing is written.
     if (o.history) {
       try {
-        this.historyRef = attachHistory(p, {
+        this.historyRef = attachHistory(p, this, {
           ...o.history,
           command: o.command,
           detectorStatus: () => hook.detectors?.status(),
@@ -199,10 +215,10 @@ export class Monitor {
     const logPaths = [...(folderOk ? [this.folder.events] : []), ...(o.eventsOut ? [o.eventsOut] : [])];
     this.log = logPaths.length ? new EventLog(logPaths) : undefined;
     if (this.recorderRef && o.retention) {
-      this.retention = attachRetention(p, this.recorderRef, this.folder.recordings, o.retention, () => o.record);
+      this.retention = attachRetention(p, this, this.recorderRef, this.folder.recordings, o.retention, () => o.record);
     }
     if (o.notify?.length) {
-      if (folderOk) this.notifier = attachNotifier(p, this.folder.root, o.notify, this.say);
+      if (folderOk) this.notifier = attachNotifier(p, this, this.folder.root, o.notify, this.say);
       else this.say('notifications are off: no usable data folder for their outbox.');
     }
     this.lowFrequency?.attach(p);
@@ -210,6 +226,7 @@ export class Monitor {
     p.on('info', (i) => this.parts.call('onInfo', i));
     p.on('block', (b) => this.parts.call('onBlock', b));
     p.on('gap', (g) => this.parts.call('onGap', g));
+    p.on('end', (e) => this.parts.call('onEnd', e));
     p.on('snapshot', (s) => {
       this.last = s;
       this.digest.add(s);
@@ -604,8 +621,10 @@ export class Monitor {
   }
 
   private partFailed(part: MonitorPart, where: string, err: Error): void {
-    this.say(`part ${part.name} failed in ${where} and is disabled (acquisition goes on): ${err.message}`);
-    this.internalFault(`part ${part.name} failed in ${where} and was disabled: ${err.message}`, false);
+    const code = (err as Error & { code?: string }).code;
+    const why = `${where}${code ? ` (${code})` : ''}`;
+    this.say(`part ${part.name} failed in ${why} and is disabled (acquisition goes on): ${err.message}`);
+    this.internalFault(`part ${part.name} failed in ${why} and was disabled: ${err.message}`, false);
   }
 
   /** Something of the monitor's own stopped: said on the log (unless already said) and as an `internal` info event. */

@@ -1,7 +1,8 @@
-// Hangs the notifier on a running pipeline: every event is offered to the sinks' filters, every snapshot moves
-// their sample clock on, and a notification given up comes back as an info event in the event log.
+// Hangs the notifier on a running monitor as one part: every event is offered to the sinks' filters, every
+// snapshot moves their sample clock on, and a notification given up comes back as an info event in the event log.
 import { join } from 'node:path';
 import type { Pipeline } from '../pipeline/pipeline.ts';
+import type { PartSink } from '../monitor/parts.ts';
 import type { SinkConfig } from '../config/rig-config.ts';
 import { Notifier } from './notifier.ts';
 
@@ -9,6 +10,7 @@ export const OUTBOX_FILE = 'notify-outbox.jsonl';
 
 export function attachNotifier(
   pipeline: Pipeline,
+  parts: PartSink,
   dataRoot: string,
   sinks: readonly SinkConfig[],
   log: (line: string) => void,
@@ -19,7 +21,6 @@ export function attachNotifier(
     onEvent: (e) => pipeline.emitEvent(e),
     log,
   });
-  pipeline.on('event', (e) => notifier.offer(e), 'notifier');
-  pipeline.on('snapshot', (s) => notifier.tick(s.t), 'notifier');
+  parts.attach({ name: 'notifier', onEvent: (e) => notifier.offer(e), onSnapshot: (s) => notifier.tick(s.t) });
   return notifier;
 }

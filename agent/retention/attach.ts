@@ -1,11 +1,13 @@
-// Hangs disk retention on a session: deletions and the `disk` alarm become pipeline events stamped with the
+// Hangs disk retention on a running monitor (one part, watching blocks for a new recording file): deletions and the `disk` alarm become pipeline events stamped with the
 // newest sample processed; the floor pauses and resumes the continuous recording the user asked for.
 import type { Pipeline } from '../pipeline/pipeline.ts';
+import type { MonitorPart, PartSink } from '../monitor/parts.ts';
 import type { Recorder } from '../recorder/recorder.ts';
 import { RetentionKeeper, type RetentionPolicy } from './retention.ts';
 
 export function attachRetention(
   pipeline: Pipeline,
+  parts: PartSink,
   recorder: Recorder,
   recordingsDir: string,
   policy: RetentionPolicy,
@@ -32,15 +34,26 @@ export function attachRetention(
       return s.state === 'recording' && s.file ? [s.file] : [];
     },
   });
-  keeper.start();
-  // Also sweep when a new continuous file starts (rotation is in sample time, so a fast replay sweeps as often).
+  // Sweeps start with the stream (every handler is in place by then) and, like every sweep, run behind the part
+  // boundary. Also sweep when a new continuous file starts (rotation is in sample time, so a fast replay sweeps as
+  // often).
   let file: string | undefined;
-  pipeline.on('block', () => {
-    const f = recorder.status().file;
-    if (f !== file) {
-      file = f;
-      keeper.sweep();
-    }
-  });
+  let started = false;
+  const part: MonitorPart = {
+    name: 'retention',
+    onInfo: () => {
+      if (started) return;
+      started = true;
+      keeper.start(undefined, (sweep) => parts.guard(part, 'sweep', sweep));
+    },
+    onBlock: () => {
+      const f = recorder.status().file;
+      if (f !== file) {
+        file = f;
+        keeper.sweep();
+      }
+    },
+  };
+  parts.attach(part);
   return keeper;
 }

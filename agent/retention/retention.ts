@@ -61,10 +61,14 @@ export class RetentionKeeper {
     };
   }
 
-  /** Sweeps now and then every intervalMs (wall clock: disk space is not a property of the signal). */
-  start(intervalMs = 2000): void {
-    this.sweep();
-    this.timer = setInterval(() => this.sweep(), intervalMs);
+  /**
+   * Sweeps now and then every intervalMs (wall clock: disk space is not a property of the signal). `run` wraps each
+   * sweep (the monitor passes its part boundary, so a throwing sweep is reported, not an uncaught exception).
+   */
+  start(intervalMs = 2000, run: (sweep: () => void) => void = (sweep) => sweep()): void {
+    const sweep = (): void => void this.sweep();
+    run(sweep);
+    this.timer = setInterval(() => run(sweep), intervalMs);
     this.timer.unref();
   }
 

@@ -1,8 +1,10 @@
-// The adapter that hangs the history store on a running pipeline: takes the store's lock, opens and checks the
-// file, observes segments, snapshots and events, and commits twice a second. One call, one close.
+// The adapter that hangs the history store on a running monitor: takes the store's lock, opens and checks the
+// file, observes segments, snapshots and events as one monitor part (behind the part boundary), and commits twice
+// a second. One call, one close; closing detaches the part.
 import { mkdirSync } from 'node:fs';
 import { dirname } from 'node:path';
 import type { Pipeline } from '../pipeline/pipeline.ts';
+import type { MonitorPart, PartSink } from '../monitor/parts.ts';
 import type { DetectorStatus } from '../rules/detectors.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { lockStore, type StoreLock } from './store-lock.ts';
@@ -42,8 +44,8 @@ export interface History {
   close(): void;
 }
 
-/** Opens the store and attaches it; throws StoreLockedError when another live agent holds it. */
-export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
+/** Opens the store and attaches it as a part; throws StoreLockedError when another live agent holds it. */
+export function attachHistory(pipeline: Pipeline, parts: PartSink, o: HistoryOptions): History {
   mkdirSync(dirname(o.path), { recursive: true });
   const lock: StoreLock = lockStore(o.path, o.command);
   let db: StoreDb;
@@ -64,31 +66,26 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
   });
   const spectra = new SpectrumSampler(writer);
   const book = new IncidentBook();
-  pipeline.addSegmentObserver(sampler);
-  const offs = [
-    pipeline.on(
-      'snapshot',
-      (s) => {
-        sampler.onSnapshot(s);
-        spectra.onSnapshot(s);
-      },
-      'history store',
-    ),
-    pipeline.on(
-      'event',
-      (e) => {
-        writer.event(e, JSON.stringify(e));
-        const ev = e as unknown as AlarmEventLike & { text?: string };
-        if ((ev.kind as string) === 'note' && typeof ev.text === 'string') {
-          writer.note({ sample: ev.sample, t: ev.t, wallTime: ev.wallTime, text: ev.text, incident: ev.incident });
-        }
-        const inc = book.apply(ev);
-        if (inc && !o.incidentRecords?.()) writer.incident(inc);
-      },
-      'history store',
-    ),
-    pipeline.on('end', () => sampler.finish(), 'history store'),
-  ];
+  const part: MonitorPart = {
+    name: 'history store',
+    onAnalysis: (grid) => sampler.onAnalysis(grid),
+    onSegment: (channel, density, lastSample) => sampler.onSegment(channel, density, lastSample),
+    onSnapshot: (s) => {
+      sampler.onSnapshot(s);
+      spectra.onSnapshot(s);
+    },
+    onEvent: (e) => {
+      writer.event(e, JSON.stringify(e));
+      const ev = e as unknown as AlarmEventLike & { text?: string };
+      if ((ev.kind as string) === 'note' && typeof ev.text === 'string') {
+        writer.note({ sample: ev.sample, t: ev.t, wallTime: ev.wallTime, text: ev.text, incident: ev.incident });
+      }
+      const inc = book.apply(ev);
+      if (inc && !o.incidentRecords?.()) writer.incident(inc);
+    },
+    onEnd: () => sampler.finish(),
+  };
+  const detach = parts.attach(part);
   // The detectors' records, when there are any, are the incidents: changed ones are written with each commit.
   const written = new Map<string, string>();
   const syncIncidents = (): void => {
@@ -109,10 +106,11 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
     }
   };
   const timer = setInterval(
-    () => {
-      syncIncidents();
-      writer.flush();
-    },
+    () =>
+      parts.guard(part, 'commit', () => {
+        syncIncidents();
+        writer.flush();
+      }),
     Math.min(1000, o.commitMs ?? 500),
   );
   timer.unref();
@@ -139,7 +137,7 @@ export function attachHistory(pipeline: Pipeline, o: HistoryOptions): History {
       if (closed) return;
       closed = true;
       clearInterval(timer);
-      for (const off of offs) off();
+      detach();
       syncIncidents();
       sampler.finish();
       writer.close();
