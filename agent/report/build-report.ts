@@ -24,6 +24,9 @@ export async function buildReport(
   span: { from?: TimeBound; to?: TimeBound },
   o: BuildOptions,
 ): Promise<{ html: string; maskFailed: boolean }> {
+  // On a terminal: one step for reading the store, then one per incident spectrum (each reads its capture).
+  const bar = o.progress ? createProgress('report') : undefined;
+  bar?.update(0, 1);
   const db = openStoreForReading(storePath);
   let data: ReportData;
   try {
@@ -31,8 +34,10 @@ export async function buildReport(
   } finally {
     db.close();
   }
-  const bar = o.progress ? createProgress('report: incident spectra') : undefined;
-  const figures = await computeFigures(data, { maskPath: o.maskPath, onIncident: bar?.update });
+  const figures = await computeFigures(data, {
+    maskPath: o.maskPath,
+    onIncident: (done, total) => bar?.update(1 + done, 1 + total),
+  });
   bar?.finish();
   // Captures lie in the data folder the run recorded (else, for a store without that record, the store's folder).
   const dataDir = figures.context?.dataDir ?? dirname(resolve(storePath));

@@ -9,7 +9,13 @@ import { readMaskFile, type MaskFile } from '../analysis/mask-file.ts';
 import { AnalysisInputError } from '../analysis/input-error.ts';
 import { fileSha256, type RunContext } from '../store/run-context.ts';
 import type { ReportData, ReportIncident } from './collect.ts';
-import { capturePath, incidentSpectrum, MAX_INCIDENT_SPECTRA, type IncidentSpectrum } from './incident-spectra.ts';
+import {
+  capturePath,
+  incidentSpectrum,
+  MAX_INCIDENT_ROWS,
+  MAX_INCIDENT_SPECTRA,
+  type IncidentSpectrum,
+} from './incident-spectra.ts';
 
 export interface BandMaskVerdict {
   pass: boolean;
@@ -94,7 +100,7 @@ export async function computeFigures(
         : 'the store holds no analysis settings for this span',
     );
   }
-  for (const i of d.incidents.slice(MAX_INCIDENT_SPECTRA))
+  for (const i of d.incidents.slice(MAX_INCIDENT_SPECTRA, MAX_INCIDENT_ROWS))
     spectra.set(i.id, `only the first ${MAX_INCIDENT_SPECTRA} incidents of a span get a spectrum`);
 
   const maskVerdicts = new Map<string, BandMaskVerdict | string>();

@@ -19,6 +19,10 @@ export interface IncidentSpectrum {
   psd: Float64Array;
 }
 
+/** At most this many incidents are listed one by one (a span of months can hold thousands): the report stays
+ *  bounded, and the rest are counted by rule and channel. */
+export const MAX_INCIDENT_ROWS = 500;
+
 /** At most this many incidents get a spectrum (each reads a few seconds of its capture). */
 export const MAX_INCIDENT_SPECTRA = 200;
 

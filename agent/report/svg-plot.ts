@@ -172,7 +172,9 @@ export function spectrumPlot(
   const range = logRange(all);
   const fs = lines.flatMap((l) => Array.from(l.frequency).filter((x) => x > 0));
   if (!range || fs.length === 0) return `<p>${esc(o.title)}: no spectrum.</p>`;
-  const [lo, hi] = range;
+  // A little headroom, so a line's peak is not drawn on the frame.
+  const lo = range[0];
+  const hi = range[1] + 0.05 * (range[1] - range[0]);
   const f0 = Math.log10(Math.min(...fs));
   const f1 = Math.log10(Math.max(...fs));
   const xs = (x: number) => L + ((Math.log10(x) - f0) / Math.max(1e-9, f1 - f0)) * (W - L - R);

@@ -6,7 +6,7 @@ import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { tempDir } from '../wav/support.ts';
+import { root, tempDir } from '../wav/support.ts';
 import { cliIn, replayDemoIntoStore } from '../store/support.ts';
 
 let dir: string;
@@ -50,6 +50,24 @@ describe('floorline report', () => {
     const strip = (f: string) =>
       readFileSync(join(dir, f), 'utf8').replace(/<p class="muted" id="generated">[^<]*<\/p>/, '');
     expect(strip('b.html') === strip('c.html')).toBe(true);
+  });
+
+  it('draws a progress bar on a terminal and writes nothing to stderr on a pipe', () => {
+    // util-linux `script` (Debian's essential bsdutils) runs the command on a pseudo-terminal.
+    const tty = spawnSync(
+      'script',
+      [
+        '-qfec',
+        `${process.execPath} ${join(root, 'bin/floorline.mjs')} report --store ${store} -o tty.html`,
+        '/dev/null',
+      ],
+      { cwd: dir, encoding: 'utf8' },
+    );
+    expect(tty.status, tty.stderr).toBe(0);
+    expect(tty.stdout).toMatch(/\rreport \[[#.]+\] +\d+\.\d%/);
+    const pipe = floorline('report', '--store', store, '-o', 'pipe.html');
+    expect(pipe.status).toBe(0);
+    expect(pipe.stderr).toBe('');
   });
 
   it('exits 2 with a clear message on an empty span and on a folder without a store', () => {
