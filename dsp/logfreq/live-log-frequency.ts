@@ -309,24 +309,51 @@ export class LiveLogFrequency {
         const oldestEnd = sStart[soff + head] + len;
         if (oldestEnd < stop) stop = oldestEnd;
       }
-      for (let c = 0; c < count; c++) {
-        const s = soff + ((head + c) % cap);
-        const t0 = toff + (idx - sStart[s]);
-        let re = sRe[s];
-        let im = sIm[s];
-        let sum = sSum[s];
-        const yOff = from - base;
-        const dc = stage0 ? this.offset : 0;
-        for (let i = idx, t = t0; i < stop; i++, t++) {
+      const yOff = from - base;
+      const dc = stage0 ? this.offset : 0;
+      if (count === 2) {
+        // The usual case at 50 % overlap: both open segments in one pass, each sample read once. Every
+        // accumulator sees the same operations in the same order as in the general loop below.
+        const s = soff + head;
+        const u = soff + ((head + 1) % cap);
+        let re0 = sRe[s];
+        let im0 = sIm[s];
+        let sum0 = sSum[s];
+        let re1 = sRe[u];
+        let im1 = sIm[u];
+        let sum1 = sSum[u];
+        for (let i = idx, t = toff + (idx - sStart[s]), w = toff + (idx - sStart[u]); i < stop; i++, t++, w++) {
           const v = y[i + yOff] - dc;
-          re += v * kRe[t];
-          im += v * kIm[t];
-          sum += v;
+          re0 += v * kRe[t];
+          im0 += v * kIm[t];
+          sum0 += v;
+          re1 += v * kRe[w];
+          im1 += v * kIm[w];
+          sum1 += v;
         }
-        sRe[s] = re;
-        sIm[s] = im;
-        sSum[s] = sum;
-      }
+        sRe[s] = re0;
+        sIm[s] = im0;
+        sSum[s] = sum0;
+        sRe[u] = re1;
+        sIm[u] = im1;
+        sSum[u] = sum1;
+      } else
+        for (let c = 0; c < count; c++) {
+          const s = soff + ((head + c) % cap);
+          const t0 = toff + (idx - sStart[s]);
+          let re = sRe[s];
+          let im = sIm[s];
+          let sum = sSum[s];
+          for (let i = idx, t = t0; i < stop; i++, t++) {
+            const v = y[i + yOff] - dc;
+            re += v * kRe[t];
+            im += v * kIm[t];
+            sum += v;
+          }
+          sRe[s] = re;
+          sIm[s] = im;
+          sSum[s] = sum;
+        }
       idx = stop;
       while (count > 0 && sStart[soff + head] + len === idx) {
         this.finish(p, soff + head, idx - 1);
