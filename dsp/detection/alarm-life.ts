@@ -33,14 +33,16 @@ export class AlarmLife {
     this.peakSample = -1;
   }
 
-  /** While raised: keeps the peak of the recent estimate (amplitude 0 for rules without one). */
+  /** While raised: keeps the peak of the recent estimate, and the amplitude at that same instant (0 for rules
+   * without one), so the pair describes one moment: the largest amplitude seen can belong to another (an overload
+   * lifts a line's amplitude and its local floor together, so its level over the floor does not peak there). */
   track(sample: number, recentLevel: number, amplitude = 0): void {
     if (this.raisedAt < 0) return;
     if (recentLevel > this.peakLevel) {
       this.peakLevel = recentLevel;
       this.peakSample = sample;
+      this.peakAmplitude = amplitude;
     }
-    if (amplitude > this.peakAmplitude) this.peakAmplitude = amplitude;
   }
 
   /** True once, when the recent window (first sample `windowFirstSample`) starts at or after the onset. */
