@@ -13,9 +13,11 @@ import { IncidentPanel } from './views/incident-panel.ts';
 import { TimelineView, pickSeries, trendUrl, type TimelineQuery } from './views/timeline.ts';
 import { attachReportLink } from './views/report-link.ts';
 import type { TrendReply } from '../protocol/trend.ts';
-import type { IncidentsReply } from '../protocol/incidents.ts';
+import type { IncidentJson, IncidentsReply } from '../protocol/incidents.ts';
 import type { SpectraReply } from '../protocol/spectra.ts';
 import { TraceView } from './views/trace.ts';
+import { MomentView } from './views/moment.ts';
+import type { SpectrumReply } from '../protocol/spectra.ts';
 import { HealthStrip } from './views/health.ts';
 import { Controls } from './views/controls.ts';
 import { NoiseBudgetForm } from './views/noise-budget.ts';
@@ -57,6 +59,12 @@ export class App {
     (ch) => this.context?.channels.find((c) => c.name === ch)?.unit ?? 'V',
   );
   readonly timeline = new TimelineView($('timeline'), $('timeline-info'));
+  readonly moment = new MomentView({
+    panel: $('moment'),
+    chart: $('moment-chart'),
+    info: $('moment-info'),
+    replay: $('moment-replay'),
+  });
   /** /api/incidents answered (false: no history store on this agent, so the panel says so). */
   incidentsAvailable = true;
   readonly health = new HealthStrip($('health'), $('replay-banner'));
@@ -129,6 +137,8 @@ export class App {
       download('floorline-timeline.csv', this.timeline.csv(), 'text/csv'),
     );
     setInterval(() => void this.refreshTimeline(), 10_000);
+    this.timeline.onPick = (wall, incident) => void this.showMoment(wall, incident);
+    $('moment-close').addEventListener('click', () => this.moment.hide());
     $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) =>
       this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'),
     );
@@ -358,6 +368,35 @@ export class App {
         this.incidents.incidents.filter((i) => i.channel === q.channel),
         Math.max(0, idx),
       );
+    } catch {
+      /* the link state shows a lost agent */
+    }
+  }
+
+  /**
+   * The kept spectrum at a time picked on the timeline against the baseline; for an incident, at its peak (or
+   * start) with its capture and the command that replays it.
+   */
+  async showMoment(wallSeconds: number, incident: IncidentJson | null): Promise<void> {
+    const channel = incident?.channel ?? this.timelineQuery().channel;
+    let at = wallSeconds * 1000;
+    if (incident) {
+      const rate = this.context?.settings.sampleRate ?? 0;
+      const start = Date.parse(incident.start.wallTime);
+      at = incident.peak && rate > 0 ? start + ((incident.peak.sample - incident.start.sample) / rate) * 1000 : start;
+    }
+    const q = new URLSearchParams({ channel, at: new Date(at).toISOString() });
+    try {
+      const r = await fetch(`api/spectrum?${q.toString()}`, { credentials: 'same-origin' });
+      if (!r.ok) {
+        const body = (await r.json().catch(() => null)) as { error?: { message?: string } } | null;
+        $('timeline-info').textContent = `no kept spectrum for that time: ${body?.error?.message ?? r.status}`;
+        return;
+      }
+      const s = (await r.json()) as SpectrumReply;
+      const idx = Math.max(0, this.context?.channels.findIndex((c) => c.name === s.channel) ?? 0);
+      const b = this.baselineFrame;
+      this.moment.show(s, b && idx < b.channels ? b.values[idx] : null, idx, incident);
     } catch {
       /* the link state shows a lost agent */
     }

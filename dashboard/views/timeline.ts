@@ -6,6 +6,7 @@ import type { TrendReply, TrendSeriesJson } from '../../protocol/trend.ts';
 import type { IncidentJson } from '../../protocol/incidents.ts';
 import { channelColour, channelDash, withAlpha } from '../colours.ts';
 import { short, si } from '../format.ts';
+import { siAxis } from './si-axis.ts';
 
 export const SPANS: Record<string, { seconds: number; every: string }> = {
   hour: { seconds: 3600, every: '1s' },
@@ -67,6 +68,10 @@ export class TimelineView {
   /** Wall time (ms) the last draw took, for the benchmark and tests. */
   lastDrawMs = 0;
   series: TrendSeriesJson | null = null;
+  /** Told of a click on the chart (or Enter on the keyboard cursor): wall time in s, and the incident there. */
+  onPick: ((wallSeconds: number, incident: IncidentJson | null) => void) | null = null;
+  /** Row the keyboard cursor is on (← → move it, Enter picks it). */
+  private keyRow = -1;
 
   constructor(
     private readonly el: HTMLElement,
@@ -75,6 +80,47 @@ export class TimelineView {
     new ResizeObserver(() => this.plot?.setSize({ width: Math.max(300, this.el.clientWidth), height: 220 })).observe(
       el,
     );
+    el.addEventListener('keydown', (e) => this.onKey(e));
+  }
+
+  /** The incident whose span holds wall time `x` (s), the newest first; open ones run to now. */
+  incidentAt(x: number): IncidentJson | null {
+    for (let k = this.incidents.length - 1; k >= 0; k--) {
+      const i = this.incidents[k];
+      const a = Date.parse(i.start.wallTime) / 1000;
+      const b = i.end ? Date.parse(i.end.wallTime) / 1000 : Infinity;
+      if (x >= a && x <= b) return i;
+    }
+    return null;
+  }
+
+  private pick(x: number): void {
+    this.onPick?.(x, this.incidentAt(x));
+  }
+
+  private onKey(e: KeyboardEvent): void {
+    const xs = this.data[0] as number[];
+    const u = this.plot;
+    if (!u || xs.length === 0) return;
+    if (e.key === 'ArrowLeft' || e.key === 'ArrowRight') {
+      e.preventDefault();
+      const step = e.key === 'ArrowLeft' ? -1 : 1;
+      this.keyRow = Math.max(0, Math.min(xs.length - 1, (this.keyRow < 0 ? xs.length : this.keyRow) + step));
+      u.setCursor({ left: u.valToPos(xs[this.keyRow], 'x'), top: u.bbox.height / (2 * devicePixelRatio) });
+    } else if (e.key === 'Enter' && this.keyRow >= 0) {
+      e.preventDefault();
+      this.pick(xs[this.keyRow]);
+    }
+  }
+
+  /** A click (not the end of a drag-zoom) picks the time under the pointer. */
+  private listen(u: uPlot): void {
+    let down: { x: number; y: number } | null = null;
+    u.over.addEventListener('mousedown', (e) => (down = { x: e.clientX, y: e.clientY }));
+    u.over.addEventListener('click', (e) => {
+      if (down && Math.hypot(e.clientX - down.x, e.clientY - down.y) > 3) return;
+      this.pick(u.posToVal(e.offsetX, 'x'));
+    });
   }
 
   /** Shows one series; rows marked as gaps become breaks in the line (null values, spanGaps off). */
@@ -127,16 +173,7 @@ export class TimelineView {
         legend: { show: true, live: true },
         cursor: { drag: { x: true, y: false } },
         scales: { x: { time: true }, y: { distr: 3, log: 10 } },
-        axes: [
-          { stroke: '#5b6670', grid: { stroke: '#e6e1d6' } },
-          {
-            label: unit,
-            size: 70,
-            values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))),
-            stroke: '#5b6670',
-            grid: { stroke: '#e6e1d6' },
-          },
-        ],
+        axes: [{ stroke: '#5b6670', grid: { stroke: '#e6e1d6' } }, siAxis(unit)],
         series: [
           { label: 'time' },
           { label: 'mean', stroke: col, dash: channelDash(this.colourIndex), width: 1.5, value: fmt, spanGaps: false },
@@ -148,6 +185,7 @@ export class TimelineView {
       this.data as uPlot.AlignedData,
       this.el,
     );
+    this.listen(this.plot);
   }
 
   /** Incidents as shaded spans (open ones to the right edge) and notes as dashed markers, under the traces. */
