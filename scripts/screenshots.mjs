@@ -52,9 +52,22 @@ try {
   const statusT = async () => (await (await fetch(`${url.replace(/\/?(\?.*)?$/, '/')}api/status`)).json()).t;
   for (let i = 0; i < 240 && (await statusT()) < 44; i++) await new Promise((r) => setTimeout(r, 250));
   for (const [p, tag] of pages) {
+    // A fresh load, as after a reload: the waterfall fills from the store's kept spectra at once.
+    await p.reload();
+    await p
+      .waitForFunction('window.floorline && window.floorline.waterfall.prefilledRows > 0', null, { timeout: 20_000 })
+      .catch(() => {});
+    await p.waitForTimeout(1500);
     await p.screenshot({ path: join(out, `spectrum-${tag}.png`) });
     await p.locator('.waterfall-panel').scrollIntoViewIfNeeded();
     await p.screenshot({ path: join(out, `history-${tag}.png`) });
+    // The spectrum at the mains incident's peak against the baseline, as a click on it in the timeline shows it.
+    await p.evaluate(`(() => {
+      const f = window.floorline;
+      const i = f.incidents.incidents.find((x) => x.rules.includes('mains')) ?? null;
+      return f.showMoment(Date.parse(f.status.wallTime) / 1000 - 20, i);
+    })()`);
+    await p.waitForTimeout(500);
     await p.locator('.timeline-panel').scrollIntoViewIfNeeded();
     await p.screenshot({ path: join(out, `timeline-incidents-${tag}.png`) });
     await p.evaluate('window.scrollTo(0, 0)');
