@@ -23,7 +23,7 @@ function quantile(sorted: number[], q: number): number {
 const si = (v: number | null | undefined, unit: string) =>
   v === null || v === undefined || !Number.isFinite(v) ? '—' : formatSi(v, unit);
 
-const signedDb = (v: number) => `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(2)} dB`;
+const signedDb = (v: number) => `${v >= 0 ? '+' : '−'}${Math.abs(v).toFixed(2)} dB re mask`;
 
 export interface RenderMeta {
   generatedAt: string;
@@ -69,7 +69,7 @@ function renderSummary(d: ReportData, f: ReportFigures): string {
       }
     }
     out.push(
-      `<tr><td>${esc(s.channel)}</td><td>${esc(`${s.band![0]}–${s.band![1]} Hz`)}</td><td class="n">${esc(si(f.baselineBandRms.get(key), s.unit))}</td><td class="n">${esc(si(quantile(means, 0.5), s.unit))}</td><td class="n">${esc(si(quantile(means, 0.95), s.unit))}</td><td class="n">${esc(si(max, s.unit))}</td><td class="n">${above > 0 ? `${above.toFixed(1)} s` : '0 s'}</td>${maskCell}</tr>`,
+      `<tr><td>${esc(s.channel)}</td><td>${esc(`${formatSi(s.band![0], 'Hz')} – ${formatSi(s.band![1], 'Hz')}`)}</td><td class="n">${esc(si(f.baselineBandRms.get(key), s.unit))}</td><td class="n">${esc(si(quantile(means, 0.5), s.unit))}</td><td class="n">${esc(si(quantile(means, 0.95), s.unit))}</td><td class="n">${esc(si(max, s.unit))}</td><td class="n">${above > 0 ? `${above.toFixed(1)} s` : '0 s'}</td>${maskCell}</tr>`,
     );
   }
   out.push('</table>');
