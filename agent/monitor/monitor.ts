@@ -387,7 +387,10 @@ export class Monitor implements PartSink {
     };
   }
 
-  /** Acknowledges the incident `id` names (all its alarms), or the alarm `id` names (and, for lines, the rule's other lines on that channel): no re-alarm until it clears. */
+  /**
+   * Acknowledges the incident `id` names (all its alarms), or the alarm `id` names (and, for lines, the rule's
+   * other lines on that channel): no re-alarm until it clears.
+   */
   acknowledge(id: string): boolean {
     const incident = this.hook.detectors?.incidents.get(id);
     if (incident) {

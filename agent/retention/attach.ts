@@ -1,5 +1,6 @@
-// Hangs disk retention on a running monitor (one part, watching blocks for a new recording file): deletions and the `disk` alarm become pipeline events stamped with the
-// newest sample processed; the floor pauses and resumes the continuous recording the user asked for.
+// Hangs disk retention on a running monitor (one part, watching blocks for a new recording file): deletions and
+// the `disk` alarm become pipeline events stamped with the newest sample processed; the floor pauses and resumes
+// the continuous recording the user asked for.
 import type { Pipeline } from '../pipeline/pipeline.ts';
 import type { MonitorPart, PartSink } from '../monitor/parts.ts';
 import type { Recorder } from '../recorder/recorder.ts';

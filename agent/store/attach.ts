@@ -39,7 +39,7 @@ export interface HistoryOptions {
 export interface History {
   path: string;
   writer: HistoryWriter;
-  /** Adds an operator note at the pipeline's current sample: into the event stream (and so the event log) and the store. */
+  /** Adds an operator note at the pipeline's current sample: into the event stream (so the event log) and the store. */
   note(text: string, incident?: string): { sample: number; t: number; wallTime: string };
   close(): void;
 }

@@ -3,9 +3,11 @@
 // exponential average to decay. No second FFT and no pipeline change: for an exponential average
 //   E_b = r^m·E_a + Σ_{j=1..m} α·r^{m−j}·P_j      (r = 1 − α, m segments added between snapshots a and b),
 // so the m newest segments' weighted mean is (E_b − r^m·E_a) / (1 − r^m) exactly (weights α·r^{m−j}, newest 1,
-// oldest r^{m−1}). For a plain mean, (n_b·E_b − n_a·E_a) / m is the equal-weight mean of those m segments. Rolling
-// and median averages already forget; their own estimate is the recent one (window = their count), and max-hold
-// never forgets (window = every segment). Constructors allocate; push allocates nothing.
+// oldest r^{m−1}). For a plain mean, (n_b·E_b − n_a·E_a) / m is the equal-weight mean of those m segments.
+// Rolling and median averages already forget; their own estimate is the recent one (window = their count), and
+// max-hold never forgets (window = every segment). Only the snapshots that can still be the far end of the window
+// are kept: at 1 MS/s one snapshot brings ~50 segments, so a 3 s window needs ~30 of them, not one slot per segment
+// (which was 24 MiB per channel, touched page by page over minutes). Push reuses dropped slots once warmed up.
 import type { AveragingSpec } from '../averaging.ts';
 
 export interface RecentSpectrumOptions {
@@ -31,12 +33,13 @@ export class RecentSpectrum {
   private readonly mode: AveragingSpec['mode'];
   private readonly r: number;
   private readonly windowSegments: number;
-  private readonly capacity: number;
-  private readonly ring: Float64Array;
-  private readonly ringUsed: Float64Array;
+  /** Earlier snapshots' long estimates (oldest first) that may still be the far end of the window. */
+  private readonly kept: { psd: Float64Array; used: number }[] = [];
+  /** Slots dropped from `kept`, reused by the next pushes. */
+  private readonly spare: { psd: Float64Array; used: number }[] = [];
   private readonly keqCache: Float64Array;
-  private head = 0;
-  private filled = 0;
+  /** Segments in the newest snapshot pushed (−1: none since the last clear). */
+  private lastUsed = -1;
 
   constructor(private readonly o: RecentSpectrumOptions) {
     const { bins, averaging, windowSegments } = o;
@@ -48,10 +51,6 @@ export class RecentSpectrum {
     this.r = 1 - alpha;
     const count = averaging.mode === 'rolling' || averaging.mode === 'median' ? averaging.count : Infinity;
     this.windowSegments = Math.min(windowSegments, count);
-    // Snapshots carry at least one new segment each, so windowSegments + 1 snapshots always reach back far enough.
-    this.capacity = this.windowSegments + 1;
-    this.ring = new Float64Array(this.capacity * bins);
-    this.ringUsed = new Float64Array(this.capacity);
     this.psd = new Float64Array(bins);
     this.keqCache = new Float64Array(Math.max(this.windowSegments, 1) + 1);
   }
@@ -61,9 +60,15 @@ export class RecentSpectrum {
     return this.segments > 0 ? this.o.segment + (this.segments - 1) * this.o.step : 0;
   }
 
+  /** Earlier snapshots held for the window (bounded by the window's span in snapshots, plus one). */
+  get keptSnapshots(): number {
+    return this.kept.length;
+  }
+
   clear(): void {
-    this.head = 0;
-    this.filled = 0;
+    this.spare.push(...this.kept);
+    this.kept.length = 0;
+    this.lastUsed = -1;
     this.segments = 0;
     this.equivalentAverages = 0;
   }
@@ -71,13 +76,9 @@ export class RecentSpectrum {
   /** Feeds the long estimate of one snapshot and the number of segments in it; updates psd and segments. */
   push(longPsd: Float64Array, segmentsUsed: number): void {
     const bins = this.bins;
-    const prevUsed = this.filled > 0 ? this.ringUsed[(this.head + this.capacity - 1) % this.capacity] : 0;
-    if (segmentsUsed < prevUsed) this.clear(); // the long average restarted (a loop seam, new settings)
-    if (this.filled > 0 && segmentsUsed === prevUsed) return; // no new segment: nothing changes
-    this.ring.set(longPsd.subarray(0, bins), this.head * bins);
-    this.ringUsed[this.head] = segmentsUsed;
-    this.head = (this.head + 1) % this.capacity;
-    if (this.filled < this.capacity) this.filled++;
+    if (segmentsUsed < this.lastUsed) this.clear(); // the long average restarted (a loop seam, new settings)
+    if (segmentsUsed === this.lastUsed) return; // no new segment: nothing changes
+    this.lastUsed = segmentsUsed;
     const out = this.psd;
     if (this.mode !== 'exponential' && this.mode !== 'mean') {
       out.set(longPsd.subarray(0, bins));
@@ -85,11 +86,11 @@ export class RecentSpectrum {
       return;
     }
     // The newest earlier snapshot at least windowSegments back; none: the whole long estimate is recent enough.
+    const kept = this.kept;
     let then = -1;
-    for (let i = 2; i <= this.filled; i++) {
-      const slot = (this.head + this.capacity - i) % this.capacity;
-      if (segmentsUsed - this.ringUsed[slot] >= this.windowSegments) {
-        then = slot;
+    for (let i = kept.length - 1; i >= 0; i--) {
+      if (segmentsUsed - kept[i].used >= this.windowSegments) {
+        then = i;
         break;
       }
     }
@@ -97,23 +98,28 @@ export class RecentSpectrum {
       // The first segment initialises an exponential average, so E itself is a proper weighted mean of all segments.
       out.set(longPsd.subarray(0, bins));
       this.setSegments(segmentsUsed, this.mode === 'mean');
-      return;
-    }
-    const m = segmentsUsed - this.ringUsed[then];
-    const base = then * bins;
-    const ring = this.ring;
-    if (this.mode === 'mean') {
-      const a = this.ringUsed[then];
-      for (let k = 0; k < bins; k++) out[k] = (segmentsUsed * longPsd[k] - a * ring[base + k]) / m;
     } else {
-      const rm = this.r ** m;
-      const inv = 1 / (1 - rm);
-      for (let k = 0; k < bins; k++) {
-        const v = (longPsd[k] - rm * ring[base + k]) * inv;
-        out[k] = v > 0 ? v : 0; // rounding on a zero bin must not give a negative density
+      const m = segmentsUsed - kept[then].used;
+      const earlier = kept[then].psd;
+      if (this.mode === 'mean') {
+        const a = kept[then].used;
+        for (let k = 0; k < bins; k++) out[k] = (segmentsUsed * longPsd[k] - a * earlier[k]) / m;
+      } else {
+        const rm = this.r ** m;
+        const inv = 1 / (1 - rm);
+        for (let k = 0; k < bins; k++) {
+          const v = (longPsd[k] - rm * earlier[k]) * inv;
+          out[k] = v > 0 ? v : 0; // rounding on a zero bin must not give a negative density
+        }
       }
+      this.setSegments(m, this.mode === 'mean');
     }
-    this.setSegments(m, this.mode === 'mean');
+    // Segment counts only grow, so a snapshot older than `then` can never be the far end again: drop it.
+    if (then > 0) this.spare.push(...kept.splice(0, then));
+    const slot = this.spare.pop() ?? { psd: new Float64Array(bins), used: 0 };
+    slot.psd.set(longPsd.subarray(0, bins));
+    slot.used = segmentsUsed;
+    kept.push(slot);
   }
 
   private setSegments(m: number, equal: boolean): void {

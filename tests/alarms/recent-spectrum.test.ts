@@ -44,7 +44,11 @@ result = (np.tensordot(w, np.array(rows), 1) / w.sum()).astype('<f8').tobytes().
   return hexToFloat64(hex);
 }
 
-function run(averaging: AveragingSpec): { recent: RecentSpectrum; segments: number } {
+/** `snapshotEvery` 0: one snapshot per new segment, some with two; N: a snapshot every N segments (a fast rate). */
+function run(
+  averaging: AveragingSpec,
+  snapshotEvery = 0,
+): { recent: RecentSpectrum; segments: number; kept: number; newest: number } {
   const est = new WelchEstimator({
     sampleRate: FS,
     segment: N,
@@ -64,11 +68,18 @@ function run(averaging: AveragingSpec): { recent: RecentSpectrum; segments: numb
     rho: overlapRho(win.values, STEP),
   });
   // One snapshot per new segment, and some with two new segments (as a slow snapshot rate gives).
+  let kept = 0;
+  let newest = -1;
   for (let pos = 0; pos + STEP <= samples.length; pos += STEP) {
     est.push(samples, pos, pos + STEP);
-    if ((pos / STEP) % 5 !== 3) recent.push(est.psd(), est.segmentsUsed);
+    const due = snapshotEvery ? (pos / STEP) % snapshotEvery === 0 : (pos / STEP) % 5 !== 3;
+    if (due) {
+      recent.push(est.psd(), est.segmentsUsed);
+      newest = est.segmentsUsed - 1;
+    }
+    kept = Math.max(kept, recent.keptSnapshots);
   }
-  return { recent, segments: est.segmentsTotal };
+  return { recent, segments: est.segmentsTotal, kept, newest };
 }
 
 describe('recent estimate from the long average', () => {
@@ -89,6 +100,22 @@ describe('recent estimate from the long average', () => {
     let worst = 0;
     for (let k = 0; k < ref.length; k++) worst = Math.max(worst, Math.abs(recent.psd[k] - ref[k]) / ref[k]);
     expect(worst).toBeLessThan(1e-9);
+  });
+
+  it('with 4 new segments per snapshot: the same newest segments as numpy, holding only the snapshots the window spans', async () => {
+    // Snapshots at 0, 4, 8, … segments: the window of the newest 9 ends at a snapshot 8 or more segments back.
+    const tau = 2;
+    const { recent, kept, newest } = run({ mode: 'exponential', tauSeconds: tau }, 4);
+    const m = recent.segments;
+    expect(m).toBeGreaterThanOrEqual(M); // whole snapshots: at least the window, at most 4 − 1 segments more
+    expect(m).toBeLessThan(M + 4);
+    const ref = await numpyRecent(newest, m, Math.exp(-STEP / FS / tau));
+    let worst = 0;
+    for (let k = 0; k < ref.length; k++) worst = Math.max(worst, Math.abs(recent.psd[k] - ref[k]) / ref[k]);
+    expect(worst).toBeLessThan(1e-9);
+    // A window of 9 segments spans at most ⌈9 / 4⌉ + 1 = 4 earlier snapshots (not one slot per segment).
+    expect(kept).toBeLessThanOrEqual(4);
+    expect(kept).toBeGreaterThanOrEqual(3);
   });
 
   it('counts equivalent averages as Welch does for equal weights: K / (1 + 2 Σ (1 − j/K) ρ_j)', async () => {
