@@ -321,17 +321,18 @@ describe('accessibility and keyboard', () => {
     await page.keyboard.type('keyboard note: lid closed');
     await page.keyboard.press('Enter');
     await expect.poll(() => page.textContent('#incident-message'), { timeout: 45_000 }).toMatch(/^note stored at t = /);
-    // In the demo's store, read by python's sqlite3.
-    const notes = execFileSync(
-      'python3',
-      [
-        '-c',
-        'import sqlite3, sys; print([r[0] for r in sqlite3.connect(sys.argv[1]).execute("select text from notes")])',
-        join(dir, 'data', 'replays', 'demo.sqlite'),
-      ],
-      { encoding: 'utf8' },
-    );
-    expect(notes).toContain('keyboard note: lid closed');
+    // In the demo's store, read by python's sqlite3 (the store commits its writes every half second).
+    const notes = (): string =>
+      execFileSync(
+        'python3',
+        [
+          '-c',
+          'import sqlite3, sys; print([r[0] for r in sqlite3.connect(sys.argv[1]).execute("select text from notes")])',
+          join(dir, 'data', 'replays', 'demo.sqlite'),
+        ],
+        { encoding: 'utf8' },
+      );
+    await expect.poll(notes, { timeout: 15_000 }).toContain('keyboard note: lid closed');
     await page.close();
   }, 180_000);
 });
