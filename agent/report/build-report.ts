@@ -7,7 +7,7 @@ import { BUILD_COMMIT, FLOORLINE_VERSION } from '../build-info.ts';
 import { createProgress } from '../cli/progress.ts';
 import { collectReport, type ReportData } from './collect.ts';
 import { computeFigures } from './figures.ts';
-import { renderReport } from './render.ts';
+import { writeReport } from './render.ts';
 
 export interface BuildOptions {
   maskPath?: string;
@@ -18,12 +18,13 @@ export interface BuildOptions {
   progress?: boolean;
 }
 
-/** The report as HTML, and whether a band failed the mask. */
+/** Writes the report's HTML in parts to `write` (joined by newlines); says whether a band failed the mask. */
 export async function buildReport(
   storePath: string,
   span: { from?: TimeBound; to?: TimeBound },
   o: BuildOptions,
-): Promise<{ html: string; maskFailed: boolean }> {
+  write: (part: string) => void,
+): Promise<{ maskFailed: boolean }> {
   // On a terminal: one step for reading the store, then one per incident spectrum (each reads its capture).
   const bar = o.progress ? createProgress('report') : undefined;
   bar?.update(0, 1);
@@ -41,12 +42,17 @@ export async function buildReport(
   bar?.finish();
   // Captures lie in the data folder the run recorded (else, for a store without that record, the store's folder).
   const dataDir = figures.context?.dataDir ?? dirname(resolve(storePath));
-  const html = renderReport(data, figures, {
-    generatedAt: o.generatedAt,
-    version: FLOORLINE_VERSION,
-    commit: BUILD_COMMIT,
-    link: (capture) => o.link(join(dataDir, capture), capture),
-  });
+  writeReport(
+    data,
+    figures,
+    {
+      generatedAt: o.generatedAt,
+      version: FLOORLINE_VERSION,
+      commit: BUILD_COMMIT,
+      link: (capture) => o.link(join(dataDir, capture), capture),
+    },
+    write,
+  );
   const maskFailed = [...figures.maskVerdicts.values()].some((v) => typeof v === 'object' && !v.pass);
-  return { html, maskFailed };
+  return { maskFailed };
 }

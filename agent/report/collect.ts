@@ -2,7 +2,10 @@
 // keeps the row count bounded, incidents with notes, health counts from the events, unstored spans.
 import type { StoreDb } from '../store/open-store.ts';
 import { queryTrend, type Every, type TrendSeries } from '../store/trend-query.ts';
-import { queryIncidents, type IncidentView } from '../store/incident-query.ts';
+import { iterateIncidents, type IncidentView } from '../store/incident-query.ts';
+import { digestIncidents, type IncidentDigest } from './incident-digest.ts';
+import { bandKey } from './figures.ts';
+import { PLOT_COLUMNS } from './svg-plot.ts';
 import type { TimeBound } from '../store/time-bound.ts';
 import { FloorlineError } from '../errors.ts';
 import { readRunContexts, type RunContext } from '../store/run-context.ts';
@@ -38,7 +41,13 @@ export interface ReportData {
   fromT: number;
   toT: number;
   series: TrendSeries[];
+  /** The listed incidents (the first MAX_INCIDENT_ROWS of the span), with their history. */
   incidents: ReportIncident[];
+  unlisted: IncidentDigest['unlisted'];
+  /** Incidents' stretches of each channel's trend plots. */
+  shading: IncidentDigest['shading'];
+  /** Time above threshold per band series (by bandKey), seconds. */
+  aboveSeconds: IncidentDigest['aboveSeconds'];
   notes: { text: string; wallTime: string; t: number | null; incident: string | null }[];
   health: { rule: string; state: string; count: number }[];
   unstored: { from: string; to: string; reason: string }[];
@@ -115,42 +124,72 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     rowMs = ms;
     if (rows.length) break;
   }
-  const incidents = withHistory(db, queryIncidents(db, from, to));
-  // An incident still open at the end of the store overlaps every later span: it alone does not make data.
-  const startsInside = incidents.filter(
-    (i) => !from || (from.kind === 'wall' ? Date.parse(i.start.wallTime) >= from.ms : i.start.t >= from.seconds),
-  );
-  if (rows.length === 0 && startsInside.length === 0) {
+  // A first pass over the incidents for their extent only (a second one below digests them).
+  let incidentFrom = Infinity;
+  let incidentTo = -Infinity;
+  let startsInside = 0;
+  for (const i of iterateIncidents(db, from, to)) {
+    const start = Date.parse(i.start.wallTime);
+    incidentFrom = Math.min(incidentFrom, start);
+    incidentTo = Math.max(incidentTo, Date.parse(i.end?.wallTime ?? i.start.wallTime));
+    // An incident still open at the end of the store overlaps every later span: it alone does not make data.
+    if (!from || (from.kind === 'wall' ? start >= from.ms : i.start.t >= from.seconds)) startsInside++;
+  }
+  if (rows.length === 0 && startsInside === 0) {
     throw new EmptySpanError(
       'floorline report: the store holds no trend rows and no incidents in this span; widen --from/--to (see `floorline trend --every 1h`).',
     );
   }
+  const minOf = (xs: Iterable<number>, start: number) => {
+    let m = start;
+    for (const x of xs) if (x < m) m = x;
+    return m;
+  };
+  const maxOf = (xs: Iterable<number>, start: number) => {
+    let m = start;
+    for (const x of xs) if (x > m) m = x;
+    return m;
+  };
   const walls = rows.map((r) => Date.parse(r.wallTime));
-  let fromMs =
-    from?.kind === 'wall' ? from.ms : Math.min(...walls, ...incidents.map((i) => Date.parse(i.start.wallTime)));
+  let fromMs = from?.kind === 'wall' ? from.ms : minOf(walls, incidentFrom);
   let toMs =
     to?.kind === 'wall'
       ? to.ms
-      : Math.max(
-          ...walls.map((w) => w + rowMs),
-          ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)),
+      : maxOf(
+          walls.map((w) => w + rowMs),
+          incidentTo,
         );
   const every = everyFor(toMs - fromMs);
   const trend = queryTrend(db, { from, to, every, points: 1500 });
-  const ts = trend.series.flatMap((s) => s.rows.map((r) => r.t));
-  // Without wall bounds, the extent is where the chosen resolution has rows (the coarse probe rounds to its level).
-  const fine = trend.series.flatMap((s) => s.rows.filter((r) => !r.gap).map((r) => Date.parse(r.wallTime)));
+  let fromT = Infinity;
+  let toT = -Infinity;
+  let fineFrom = Infinity;
+  let fineTo = -Infinity;
+  for (const s of trend.series)
+    for (const r of s.rows) {
+      if (r.t < fromT) fromT = r.t;
+      if (r.t > toT) toT = r.t;
+      if (r.gap) continue;
+      // Without wall bounds, the extent is where the chosen resolution has rows (the coarse probe rounds to its level).
+      const w = Date.parse(r.wallTime);
+      if (w < fineFrom) fineFrom = w;
+      if (w > fineTo) fineTo = w;
+    }
+  if (fromT > toT) fromT = toT = 0;
   const step = { '1s': 1e3, '1m': 60e3, '1h': 3600e3 }[every];
-  if (fine.length && from?.kind !== 'wall')
-    fromMs = Math.min(
-      fine.reduce((a, b) => Math.min(a, b)),
-      ...incidents.map((i) => Date.parse(i.start.wallTime)),
-    );
-  if (fine.length && to?.kind !== 'wall')
-    toMs = Math.max(
-      fine.reduce((a, b) => Math.max(a, b)) + step,
-      ...incidents.map((i) => Date.parse(i.end?.wallTime ?? i.start.wallTime)),
-    );
+  if (fineFrom <= fineTo && from?.kind !== 'wall') fromMs = Math.min(fineFrom, incidentFrom);
+  if (fineFrom <= fineTo && to?.kind !== 'wall') toMs = Math.max(fineTo + step, incidentTo);
+  const bands = trend.series
+    .filter((s) => s.quantity === 'bandRms' && s.band)
+    .map((s) => ({ key: bandKey(s.channel, s.band!), channel: s.channel, band: s.band! }));
+  const digest = digestIncidents(iterateIncidents(db, from, to), {
+    x0: fromMs,
+    x1: toMs,
+    columns: PLOT_COLUMNS,
+    openEndMs: toMs,
+    openEndT: toT,
+    bands,
+  });
   const notes = (
     db.prepare('SELECT text, wall_time, t, incident FROM notes ORDER BY id').all() as {
       text: string;
@@ -179,10 +218,13 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     every,
     from: new Date(fromMs).toISOString(),
     to: new Date(toMs).toISOString(),
-    fromT: ts.length ? Math.min(...ts) : 0,
-    toT: ts.length ? Math.max(...ts) : 0,
+    fromT,
+    toT,
     series: trend.series,
-    incidents,
+    incidents: withHistory(db, digest.listed),
+    unlisted: digest.unlisted,
+    shading: digest.shading,
+    aboveSeconds: digest.aboveSeconds,
     notes,
     health,
     unstored,

@@ -1,7 +1,8 @@
 // `floorline report`: one self-contained HTML test-record report of a span of the history store, and on request
 // its PDF through headless Chromium's print.
 import { spawnSync } from 'node:child_process';
-import { existsSync, writeFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
+import { PartWriter } from './part-writer.ts';
 import { dirname, relative, resolve } from 'node:path';
 import { buildReport } from './build-report.ts';
 import { defineCommand, defineFlags, type ParsedArgs } from '../cli/args.ts';
@@ -48,13 +49,26 @@ async function runReport(args: ParsedArgs<typeof REPORT_FLAGS>): Promise<number>
   if (!out) throw new UsageError('floorline report: -o report.html is required (where to write the report).');
   const span = readSpan(f, 'report');
   const path = resolve(out);
-  const { html, maskFailed } = await buildReport(storePathFromArgs(f), span, {
-    maskPath: f.mask,
-    link: (file) => relative(dirname(path), file).split('\\').join('/'),
-    generatedAt: new Date().toISOString(),
-    progress: true,
-  });
-  writeFileSync(path, html);
+  // Written part by part as it is rendered; a report that fails midway leaves no partial file behind.
+  const file = new PartWriter(path);
+  let maskFailed: boolean;
+  try {
+    ({ maskFailed } = await buildReport(
+      storePathFromArgs(f),
+      span,
+      {
+        maskPath: f.mask,
+        link: (file) => relative(dirname(path), file).split('\\').join('/'),
+        generatedAt: new Date().toISOString(),
+        progress: true,
+      },
+      (part) => file.write(part),
+    ));
+    file.close();
+  } catch (err) {
+    file.discard();
+    throw err;
+  }
   process.stdout.write(`report ${path}\n`);
   if (f.pdf) {
     printPdf(path, resolve(f.pdf));

@@ -6,7 +6,6 @@ import { esc } from './html-escape.ts';
 import { spectrumPlot, type SpectrumLine } from './svg-plot.ts';
 import type { OperatorAction, ReportData, ReportIncident } from './collect.ts';
 import type { ReportFigures } from './figures.ts';
-import { MAX_INCIDENT_ROWS } from './incident-spectra.ts';
 
 const si = (v: number | null | undefined, unit: string) =>
   v === null || v === undefined || !Number.isFinite(v) ? '—' : formatSi(v, unit);
@@ -45,7 +44,7 @@ export function renderIncidents(d: ReportData, f: ReportFigures, link: CaptureLi
   out.push(
     `<table class="incidents"><colgroup><col style="width:14%"><col style="width:15%"><col style="width:17%"><col style="width:11%"><col style="width:11%"><col style="width:10%"><col style="width:13%"><col style="width:9%"></colgroup><tr><th>incident</th><th>start → end</th><th>members</th><th>settled</th><th>peak</th><th>ack., shelve</th><th>notes</th><th>capture</th></tr>`,
   );
-  const listed = d.incidents.slice(0, MAX_INCIDENT_ROWS);
+  const listed = d.incidents;
   for (const i of listed) {
     const unit = unitOf.get(i.channel) ?? '';
     const lvl = (x: { levelDb: number; amplitude?: number } | null) =>
@@ -61,17 +60,10 @@ export function renderIncidents(d: ReportData, f: ReportFigures, link: CaptureLi
     );
   }
   out.push('</table>');
-  const rest = d.incidents.slice(MAX_INCIDENT_ROWS);
-  if (rest.length) {
-    const counts = new Map<string, number>();
-    for (const i of rest) {
-      const key = `${i.rules.join('+')} on ${i.channel}`;
-      counts.set(key, (counts.get(key) ?? 0) + 1);
-    }
+  const rest = d.unlisted;
+  if (rest) {
     out.push(
-      `<p>${rest.length} more incidents in this span, from ${esc(rest[0].start.wallTime)}, are not listed one by one (${[
-        ...counts,
-      ]
+      `<p>${rest.count} more incidents in this span, from ${esc(rest.firstStart)}, are not listed one by one (${rest.byKind
         .map(([k, n]) => `${esc(k)}: ${n}`)
         .join('; ')}); <code>floorline incidents --from … --to … --csv</code> lists them all.</p>`,
     );

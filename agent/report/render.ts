@@ -7,6 +7,7 @@ import type { ReportData } from './collect.ts';
 import { bandKey, type ReportFigures } from './figures.ts';
 import { renderHeader } from './render-header.ts';
 import { renderIncidents, type CaptureLink } from './render-incidents.ts';
+import type { ShadedSpan } from './incident-digest.ts';
 
 const CSS = `body{font:13px/1.45 system-ui,sans-serif;margin:24px auto;max-width:820px;color:#222}
 h1{font-size:20px}h2{font-size:16px;border-bottom:1px solid #ccc;margin-top:28px}h3{font-size:13px;margin:14px 0 2px}table{border-collapse:collapse;width:100%;margin:8px 0}
@@ -42,21 +43,8 @@ function renderSummary(d: ReportData, f: ReportFigures): string {
     const rows = s.rows.filter((r) => !r.gap && r.mean !== null);
     const means = rows.map((r) => r.mean!).sort((a, b) => a - b);
     const max = rows.reduce((m, r) => Math.max(m, r.max ?? -Infinity), -Infinity);
-    const above = d.incidents
-      .filter(
-        (i) =>
-          i.channel === s.channel &&
-          i.members.some(
-            (m) =>
-              m.rule === 'band-rise' &&
-              m.band &&
-              s.band &&
-              Math.abs(m.band[0] - s.band[0]) < 0.01 * s.band[0] + 0.01 &&
-              Math.abs(m.band[1] - s.band[1]) < 0.01 * s.band[1],
-          ),
-      )
-      .reduce((a, i) => a + ((i.end?.t ?? d.toT) - i.start.t), 0);
     const key = bandKey(s.channel, s.band!);
+    const above = d.aboveSeconds.get(key) ?? 0;
     let maskCell = '';
     if (f.mask) {
       const v = f.maskVerdicts.get(key);
@@ -76,12 +64,22 @@ function renderSummary(d: ReportData, f: ReportFigures): string {
   return out.join('\n');
 }
 
+/** The report as one string (tests, small spans); `writeReport` hands it out section by section instead. */
 export function renderReport(d: ReportData, f: ReportFigures, meta: RenderMeta): string {
+  const parts: string[] = [];
+  writeReport(d, f, meta, (part) => parts.push(part));
+  return parts.join('\n');
+}
+
+const shadeLabel = (s: ShadedSpan) => (s.count === 1 ? s.first : `${s.first} and ${s.count - 1} more incidents`);
+
+/** Writes the report in parts (joined by newlines), so the whole document is never one string in memory. */
+export function writeReport(d: ReportData, f: ReportFigures, meta: RenderMeta, write: (part: string) => void): void {
   const unitOf = new Map(d.series.filter((s) => s.quantity === 'bandRms').map((s) => [s.channel, s.unit]));
   const channels = [...unitOf.keys()];
   const order = (f.context?.channels ?? []).map((c) => c.name);
   const colourOf = (ch: string) => (order.includes(ch) ? order.indexOf(ch) : channels.indexOf(ch));
-  const out: string[] = [];
+  const out = { push: write };
   out.push(
     `<!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; img-src data:">`,
   );
@@ -102,9 +100,7 @@ export function renderReport(d: ReportData, f: ReportFigures, meta: RenderMeta):
   const x0 = Date.parse(d.from);
   const x1 = Date.parse(d.to);
   for (const ch of channels) {
-    const spans = d.incidents
-      .filter((i) => i.channel === ch)
-      .map((i) => ({ from: Date.parse(i.start.wallTime), to: Date.parse(i.end?.wallTime ?? d.to), label: i.id }));
+    const spans = (d.shading.get(ch) ?? []).map((s) => ({ from: s.from, to: s.to, label: shadeLabel(s) }));
     const marks = d.notes.map((n) => ({ x: Date.parse(n.wallTime), label: n.text }));
     const unit = unitOf.get(ch) ?? '';
     const bands = d.series.filter((s) => s.channel === ch && s.quantity === 'bandRms');
@@ -171,5 +167,4 @@ export function renderReport(d: ReportData, f: ReportFigures, meta: RenderMeta):
     `<h2>Safety</h2><p class="caution">Rigs on the mains: keep the measurement path isolated (USB isolator or an isolated ADC board), never defeat a protective earth to cure hum, do not re-cable mains-connected circuits while powered, follow local electrical codes, and leave mains-side work to qualified people.</p>`,
   );
   out.push('</body></html>\n');
-  return out.join('\n');
 }

@@ -8,11 +8,17 @@ const job = workerData as ReportJob;
 const port = parentPort;
 if (!port) throw new Error('report-worker.mjs must run as a worker thread');
 
-buildReport(job.storePath, job.span, {
-  generatedAt: job.generatedAt,
-  link: (_file, capture) => `/files/${capture.split('/').map(encodeURIComponent).join('/')}`,
-}).then(
-  ({ html }) => port.postMessage({ ok: true, html } satisfies ReportJobResult),
+const parts: string[] = [];
+buildReport(
+  job.storePath,
+  job.span,
+  {
+    generatedAt: job.generatedAt,
+    link: (_file, capture) => `/files/${capture.split('/').map(encodeURIComponent).join('/')}`,
+  },
+  (part) => parts.push(part),
+).then(
+  () => port.postMessage({ ok: true, html: parts.join('\n') } satisfies ReportJobResult),
   (err: Error & { code?: string }) =>
     port.postMessage({ ok: false, code: err.code ?? 'failed', message: err.message } satisfies ReportJobResult),
 );

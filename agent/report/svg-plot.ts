@@ -33,6 +33,9 @@ const B = 36;
 export const BASELINE_DASH = [8, 4];
 export const LIMIT_DASH = [1.5, 3];
 
+/** Pixel columns of a plot's data area: the report merges incident shading and decimates trend lines to these. */
+export const PLOT_COLUMNS = W - L - R;
+
 const dashAttr = (d: number[]) => (d.length ? ` stroke-dasharray="${d.join(' ')}"` : '');
 
 /** log10 range of the positive finite values, widened when flat. */
@@ -95,6 +98,50 @@ function path(points: { x: number; y: number | null }[], xs: (x: number) => numb
   return d;
 }
 
+const drawable = (y: number | null): y is number => y !== null && y > 0 && Number.isFinite(y);
+
+/**
+ * At most four points per pixel column (its first, lowest, highest and last, in their order), so a line of any
+ * length draws in bounded text and a one-row spike still reaches its height; a gap ends the column and lifts the pen.
+ */
+export function columnEnvelope(
+  points: { x: number; y: number | null }[],
+  xs: (x: number) => number,
+): { x: number; y: number | null }[] {
+  const out: { x: number; y: number | null }[] = [];
+  let col = NaN;
+  let picks: { x: number; y: number; at: number }[] = [];
+  const flush = () => {
+    if (picks.length === 0) return;
+    const [first, lo, hi, last] = picks;
+    const chosen = [...new Set([first, lo, hi, last])].sort((a, b) => a.at - b.at);
+    for (const p of chosen) out.push({ x: p.x, y: p.y });
+    picks = [];
+  };
+  points.forEach((p, at) => {
+    if (!drawable(p.y)) {
+      flush();
+      col = NaN;
+      if (out.length && out[out.length - 1].y !== null) out.push({ x: p.x, y: null });
+      return;
+    }
+    const c = Math.floor(xs(p.x));
+    if (c !== col) {
+      flush();
+      col = c;
+    }
+    const q = { x: p.x, y: p.y, at };
+    if (picks.length === 0) picks = [q, q, q, q];
+    else {
+      if (q.y < picks[1].y) picks[1] = q;
+      if (q.y > picks[2].y) picks[2] = q;
+      picks[3] = q;
+    }
+  });
+  flush();
+  return out;
+}
+
 export function linePlot(lines: PlotLine[], o: PlotOptions): string {
   const range = logRange(lines.flatMap((l) => l.points.map((p) => p.y ?? NaN)));
   if (!range) return `<p>${esc(o.title)}: no data in this span.</p>`;
@@ -119,7 +166,7 @@ export function linePlot(lines: PlotLine[], o: PlotOptions): string {
   }
   const colour = channelColour(o.channel);
   lines.forEach((line, i) => {
-    const d = path(line.points, xs, yv);
+    const d = path(columnEnvelope(line.points, xs), xs, yv);
     const dash = dashAttr(channelDash(o.channel + i));
     if (d) parts.push(`<path d="${d}" fill="none" stroke="${colour}" stroke-width="1.25"${dash}/>`);
     parts.push(

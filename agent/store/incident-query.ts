@@ -25,17 +25,35 @@ interface Row {
   capture: string | null;
 }
 
-/** Incidents that overlap [from, to) (wall time, or sample time t), oldest first. */
-export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): IncidentView[] {
-  const rows = db.prepare('SELECT * FROM incidents ORDER BY start_wall, id').all() as Row[];
-  const notes = db.prepare('SELECT text, t, wall_time FROM notes WHERE incident = ? ORDER BY id');
+type IncidentNotes = IncidentView['notes'];
+
+/** Every incident's notes by incident id (notes are typed by people: few), read before iterating the incidents,
+ *  since better-sqlite3 allows no other statement on the connection while an iteration is open. */
+function notesByIncident(db: StoreDb): Map<string, IncidentNotes> {
+  const out = new Map<string, IncidentNotes>();
+  const rows = db
+    .prepare('SELECT incident, text, t, wall_time FROM notes WHERE incident IS NOT NULL ORDER BY id')
+    .iterate() as IterableIterator<{ incident: string; text: string; t: number | null; wall_time: string }>;
+  for (const n of rows) {
+    const list = out.get(n.incident) ?? [];
+    list.push({ text: n.text, t: n.t, wallTime: n.wall_time });
+    out.set(n.incident, list);
+  }
+  return out;
+}
+
+/** Incidents that overlap [from, to) (wall time, or sample time t), oldest first, one at a time: a span of months
+ *  holds tens of thousands, so callers that only count or summarise never hold them all. */
+export function* iterateIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): Generator<IncidentView> {
+  const notes = notesByIncident(db);
   const startOf = (r: Row, b: TimeBound) => (b.kind === 'wall' ? Date.parse(r.start_wall) : r.start_t);
   const endOf = (r: Row, b: TimeBound) =>
     b.kind === 'wall' ? (r.end_wall ? Date.parse(r.end_wall) : Infinity) : (r.end_t ?? Infinity);
   const value = (b: TimeBound) => (b.kind === 'wall' ? b.ms : b.seconds);
-  return rows
-    .filter((r) => (!to || startOf(r, to) < value(to)) && (!from || endOf(r, from) >= value(from)))
-    .map((r) => ({
+  const rows = db.prepare('SELECT * FROM incidents ORDER BY start_wall, id').iterate() as IterableIterator<Row>;
+  for (const r of rows) {
+    if ((to && startOf(r, to) >= value(to)) || (from && endOf(r, from) < value(from))) continue;
+    yield {
       id: r.id,
       channel: r.channel,
       rules: JSON.parse(r.rules) as string[],
@@ -45,13 +63,15 @@ export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): I
       settled: r.settled ? JSON.parse(r.settled) : null,
       peak: JSON.parse(r.peak),
       acknowledged: r.acknowledged === 1,
-      notes: (notes.all(r.id) as { text: string; t: number | null; wall_time: string }[]).map((n) => ({
-        text: n.text,
-        t: n.t,
-        wallTime: n.wall_time,
-      })),
+      notes: notes.get(r.id) ?? [],
       capture: r.capture,
-    }));
+    };
+  }
+}
+
+/** Incidents that overlap [from, to) (wall time, or sample time t), oldest first. */
+export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): IncidentView[] {
+  return [...iterateIncidents(db, from, to)];
 }
 
 export function incidentsCsv(list: IncidentView[]): string {
