@@ -25,6 +25,7 @@ import type { DetectorStatus } from '../rules/detectors.ts';
 import { makeEvent } from '../rules/event-factory.ts';
 import { ReplaySource } from '../sources/replay.ts';
 import { attachHistory, type History } from '../store/attach.ts';
+import type { HealthCounters } from '../store/health.ts';
 import { fileSha256, type RunContext } from '../store/run-context.ts';
 import { isDiskFault } from '../store/disk-fault.ts';
 import { attachNotifier } from '../notify/attach.ts';
@@ -200,6 +201,7 @@ export class Monitor implements PartSink {
           detectorStatus: () => hook.detectors?.status(),
           context: () => this.runContext(),
           incidentRecords: () => hook.detectors?.incidentRecords(),
+          health: () => this.healthCounters(),
           onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
           warn: (m) => this.say(m),
         });
@@ -351,6 +353,25 @@ export class Monitor implements PartSink {
       speed: r.speed,
       loop: r.loops,
       file: r.path,
+    };
+  }
+
+  /** The counters the history store keeps per run for the report's Health section (the same as /metrics). */
+  healthCounters(): HealthCounters {
+    const c = this.pipeline.counters();
+    const src = this.source.counters();
+    return {
+      lastSample: c.lastSample,
+      samples: c.samples,
+      gaps: c.gaps,
+      lostSamples: c.lostSamples,
+      crcErrors: src.crcErrors,
+      syncErrors: src.syncErrors,
+      nonfiniteFrames: c.nonfiniteFrames,
+      droppedBlocks: c.droppedBlocks,
+      droppedSamples: c.droppedSamples,
+      clippedSamples: c.clippedSamples.reduce((a, n) => a + n, 0),
+      deletedFiles: this.retention?.status().deletedFiles ?? 0,
     };
   }
 

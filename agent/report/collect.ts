@@ -9,6 +9,7 @@ import { PLOT_COLUMNS } from './svg-plot.ts';
 import type { TimeBound } from '../store/time-bound.ts';
 import { FloorlineError } from '../errors.ts';
 import { readRunContexts, type RunContext } from '../store/run-context.ts';
+import { healthInSpan, type RunHealth } from '../store/health.ts';
 
 /** An operator's acknowledge or shelve of an incident, from the events table. */
 export interface OperatorAction {
@@ -30,6 +31,7 @@ export interface ReportData {
     id: number;
     command: string;
     source: string;
+    pid: number;
     sampleRate: number;
     startWall: string;
     settings: Record<string, unknown>;
@@ -49,7 +51,10 @@ export interface ReportData {
   /** Time above threshold per band series (by bandKey), seconds. */
   aboveSeconds: IncidentDigest['aboveSeconds'];
   notes: { text: string; wallTime: string; t: number | null; incident: string | null }[];
+  /** Events of the health rules (and retention's deletions) in the span, counted by rule and state. */
   health: { rule: string; state: string; count: number }[];
+  /** The agent's counters per run inside the span; null for a store older than the health table. */
+  healthRuns: RunHealth[] | null;
   unstored: { from: string; to: string; reason: string }[];
 }
 
@@ -90,8 +95,9 @@ function withHistory(db: StoreDb, list: IncidentView[]): ReportIncident[] {
 export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): ReportData {
   const contexts = readRunContexts(db);
   const runs = (
-    db.prepare('SELECT id, command, source, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
+    db.prepare('SELECT id, command, source, pid, sample_rate, start_wall, settings FROM runs ORDER BY id').all() as {
       id: number;
+      pid: number;
       command: string;
       source: string;
       sample_rate: number;
@@ -102,6 +108,7 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     id: r.id,
     command: r.command,
     source: r.source,
+    pid: r.pid,
     sampleRate: r.sample_rate,
     startWall: r.start_wall,
     settings: JSON.parse(r.settings),
@@ -202,8 +209,8 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     .filter((n) => Date.parse(n.wallTime) >= fromMs - 1 && Date.parse(n.wallTime) <= toMs + 1);
   const health = db
     .prepare(
-      `SELECT rule, state, count(*) AS count FROM events WHERE kind = 'alarm' AND rule IN ('gap', 'link', 'clip', 'overrun', 'disk')
-      AND wall_time >= ? AND wall_time <= ? GROUP BY rule, state ORDER BY rule, state`,
+      `SELECT rule, state, count(*) AS count FROM events WHERE ((kind = 'alarm' AND rule IN ('gap', 'link', 'clip', 'overrun', 'disk'))
+      OR (kind = 'info' AND rule = 'retention')) AND wall_time >= ? AND wall_time <= ? GROUP BY rule, state ORDER BY rule, state`,
     )
     .all(new Date(fromMs).toISOString(), new Date(toMs).toISOString()) as ReportData['health'];
   const unstored = (
@@ -227,6 +234,7 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     aboveSeconds: digest.aboveSeconds,
     notes,
     health,
+    healthRuns: healthInSpan(db, from, to),
     unstored,
   };
 }

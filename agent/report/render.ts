@@ -8,6 +8,7 @@ import { bandKey, type ReportFigures } from './figures.ts';
 import { renderHeader } from './render-header.ts';
 import { renderIncidents, type CaptureLink } from './render-incidents.ts';
 import type { ShadedSpan } from './incident-digest.ts';
+import { renderHealth } from './render-health.ts';
 
 const CSS = `body{font:13px/1.45 system-ui,sans-serif;margin:24px auto;max-width:820px;color:#222}
 h1{font-size:20px}h2{font-size:16px;border-bottom:1px solid #ccc;margin-top:28px}h3{font-size:13px;margin:14px 0 2px}table{border-collapse:collapse;width:100%;margin:8px 0}
@@ -143,15 +144,7 @@ export function writeReport(d: ReportData, f: ReportFigures, meta: RenderMeta, w
     );
   }
 
-  out.push(
-    `<h2>5. Health</h2><p>Agent runs in the store: ${d.runs.length} (each start of a stream is one; more than one means restarts or setting changes).</p>`,
-  );
-  out.push(
-    `<table><tr><th>rule</th><th>state</th><th>events</th></tr>${d.health.map((h) => `<tr><td>${esc(h.rule)}</td><td>${esc(h.state)}</td><td class="n">${h.count}</td></tr>`).join('') || '<tr><td colspan="3">no gap, link, clip, overrun or disk events</td></tr>'}</table>`,
-  );
-  out.push(
-    `<p>Spans not stored (disk refused writes): ${d.unstored.length ? d.unstored.map((u) => `${esc(u.from)} – ${esc(u.to)} (${esc(u.reason)})`).join('; ') : 'none'}.</p>`,
-  );
+  out.push(renderHealth(d));
 
   out.push(`<h2>6. Methods</h2><ul>
 <li>Densities: one-sided PSD by Welch's method (P. D. Welch, IEEE Trans. Audio Electroacoust. AU-15, 1967), density scaling 2|X|²/(f<sub>s</sub>Σw²), windows and their ENBW after Heinzel, Rüdiger &amp; Schilling 2002.</li>

@@ -15,6 +15,7 @@ import { SpectrumSampler } from './spectrum-sampler.ts';
 import { IncidentBook, type AlarmEventLike, type IncidentRecord } from './incident-book.ts';
 import type { Retention } from './levels.ts';
 import type { RunContext } from './run-context.ts';
+import type { HealthCounters } from './health.ts';
 
 export interface HistoryOptions {
   /** The store file (DATA/floorline.sqlite for a live run). */
@@ -32,6 +33,8 @@ export interface HistoryOptions {
   /** Tells the detectors of a note on an incident (so their listing shows it too). */
   onIncidentNote?: (incident: string, text: string, sample: number) => void;
   warn: (message: string) => void;
+  /** The agent's health counters since the process began (kept per run, table `health`). */
+  health?: () => HealthCounters;
   /** Wall ms between commits (default 500; at most 1000 keeps kill -9 losses within a second). */
   commitMs?: number;
 }
@@ -55,7 +58,7 @@ export function attachHistory(pipeline: Pipeline, parts: PartSink, o: HistoryOpt
     lock.release();
     throw err;
   }
-  const writer = new HistoryWriter(db, { warn: o.warn, retention: o.retention });
+  const writer = new HistoryWriter(db, { warn: o.warn, retention: o.retention, health: o.health });
   const sampler = new TrendSampler(writer, {
     command: o.command,
     source: o.source,

@@ -8,6 +8,7 @@ import { RowBuffer } from './row-buffer.ts';
 import { DEFAULT_RETENTION, SPECTRA_RETENTION_SECONDS, type Retention } from './levels.ts';
 import type { IncidentRecord } from './incident-book.ts';
 import { contextKey, type RunContext } from './run-context.ts';
+import { countsSince, HEALTH_FIELDS, HEALTH_INSERT, type HealthCounters } from './health.ts';
 
 export interface RunInfo {
   command: string;
@@ -30,6 +31,8 @@ export interface WriterOptions {
   retention?: Retention;
   /** Wall ms between retries after a failed write (default 5000). */
   retryMs?: number;
+  /** The agent's health counters since the process began, read at each run's start and each commit. */
+  health?: () => HealthCounters;
 }
 
 type Op = { sql: 'event' | 'note' | 'incident' | 'spectrum'; args: unknown[] };
@@ -50,6 +53,8 @@ export class HistoryWriter {
   private readonly retention: Retention;
   private readonly retryMs: number;
   private run: OpenRun | undefined;
+  /** The health counters when the current run began: the run's counts are the readings less these. */
+  private healthBase: HealthCounters | undefined;
   private failing:
     { since: number; firstSample: number; lastSample: number; reason: string; nextTry: number } | undefined;
   private lastRetentionMs = 0;
@@ -92,6 +97,7 @@ export class HistoryWriter {
         'INSERT OR REPLACE INTO spectra (run, sample, channel, wall_ms, unit, f_low, f_high, density) VALUES (?, ?, ?, ?, ?, ?, ?, ?)',
       ),
       pruneSpectra: db.prepare('DELETE FROM spectra WHERE wall_ms < ?'),
+      health: db.prepare(HEALTH_INSERT),
       unstored: db.prepare(
         'INSERT INTO unstored (run, from_sample, to_sample, from_wall, to_wall, reason) VALUES (?, ?, ?, ?, ?, ?)',
       ),
@@ -131,6 +137,7 @@ export class HistoryWriter {
       JSON.stringify(info.levelSamples),
     );
     this.run = { ...info, id: Number(r.lastInsertRowid) };
+    this.healthBase = this.options.health?.();
     if (info.context) this.stmt.context.run(contextKey(this.run.id), JSON.stringify(info.context));
     return this.run.id;
   }
@@ -262,6 +269,7 @@ export class HistoryWriter {
           );
         }
         for (const op of this.ops) this.stmt[op.sql].run(...op.args);
+        this.writeHealth();
       })();
     } catch (err) {
       if (!isStorageFault(err)) throw err;
@@ -295,6 +303,16 @@ export class HistoryWriter {
       this.lastRetentionMs = nowMs;
       this.applyRetention();
     }
+  }
+
+  /** The run's counts so far, as the latest reading of the minute the newest sample falls in. */
+  private writeHealth(): void {
+    const now = this.options.health?.();
+    const run = this.run;
+    if (!now || !run || now.lastSample < run.firstSample) return;
+    const counts = countsSince(now, this.healthBase);
+    const k = Math.floor(now.lastSample / run.levelSamples['1m']);
+    this.stmt.health.run(run.id, k, now.lastSample, ...HEALTH_FIELDS.map(([f]) => counts[f]));
   }
 
   private dropRows(): void {

@@ -115,6 +115,28 @@ CREATE UNIQUE INDEX spectra_key ON spectra (run, channel, sample);
 CREATE INDEX spectra_wall ON spectra (wall_ms);
 `;
 
+// Version 3: the run's health counters (the agent's own counts, which no event carries), read at each commit and
+// kept as the latest reading of each minute of sample time, counted from the start of the run. A span's count is
+// the difference of two readings, to the minute.
+const VERSION_3 = `
+CREATE TABLE health (
+  run INTEGER NOT NULL REFERENCES runs(id),
+  k INTEGER NOT NULL,               -- minute of the run's sample time: samples [k·L, (k+1)·L), L = level_samples.1m
+  sample INTEGER NOT NULL,          -- newest sample delivered when the counters were read
+  samples INTEGER NOT NULL,         -- sample instants delivered by the source since the run began
+  gaps INTEGER NOT NULL,            -- gaps (runs of lost samples)
+  lost_samples INTEGER NOT NULL,    -- samples lost in them
+  crc_errors INTEGER NOT NULL,      -- frames from the board that failed their CRC
+  sync_errors INTEGER NOT NULL,     -- bytes skipped to resync, malformed or rejected frames, bad text lines
+  nonfinite_frames INTEGER NOT NULL,
+  dropped_blocks INTEGER NOT NULL,  -- whole blocks dropped because analysis fell behind
+  dropped_samples INTEGER NOT NULL,
+  clipped_samples INTEGER NOT NULL, -- samples at full scale, all channels
+  deleted_files INTEGER NOT NULL,   -- recordings and captures deleted by disk retention
+  PRIMARY KEY (run, k)
+) WITHOUT ROWID;
+`;
+
 /** MIGRATIONS[v]: SQL taking the schema from version v to v + 1 (v = 0: an empty file). */
-export const MIGRATIONS: readonly string[] = [VERSION_1, VERSION_2];
+export const MIGRATIONS: readonly string[] = [VERSION_1, VERSION_2, VERSION_3];
 export const SCHEMA_VERSION = MIGRATIONS.length;

@@ -64,6 +64,7 @@ describe('report bounds', () => {
       aboveSeconds: digest.aboveSeconds,
       notes: [],
       health: [],
+      healthRuns: null,
       unstored: [],
     };
     const f: ReportFigures = {

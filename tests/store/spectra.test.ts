@@ -91,7 +91,7 @@ c.close()`,
     old.close();
     const db = openStoreForWriting(file, () => {});
     expect(db.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION);
-    expect(SCHEMA_VERSION).toBe(2);
+    expect(SCHEMA_VERSION).toBe(3);
     // The same rows, series by series (id order), as the mean power behind each row's RMS.
     const got = queryTrend(db, { every: '1s' }).series.flatMap((s) =>
       s.rows.filter((r) => !r.gap).map((r) => r.mean! * r.mean!),
