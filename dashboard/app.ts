@@ -10,7 +10,7 @@ import { WaterfallView } from './views/waterfall.ts';
 import { BandTable } from './views/band-table.ts';
 import { EventList } from './views/event-list.ts';
 import { IncidentPanel } from './views/incident-panel.ts';
-import { TimelineView, pickSeries, trendUrl, type TimelineQuery } from './views/timeline.ts';
+import { TimelineView, pickSeries, timelineSpan, trendUrl, type TimelineQuery } from './views/timeline.ts';
 import { attachReportLink } from './views/report-link.ts';
 import type { TrendReply } from '../protocol/trend.ts';
 import type { IncidentJson, IncidentsReply } from '../protocol/incidents.ts';
@@ -84,6 +84,8 @@ export class App {
   private pendingBaseline: ArrayBuffer | null = null;
   private baselineFrame: DecodedFrame | null = null;
   private timelineStarted = false;
+  /** The TIME bounds of the span the timeline drew last (the Report link asks for the same). */
+  private timelineShown: { from: string; to: string } | undefined;
   /** The spectrum panel shows the log-frequency view (exports follow what is shown). */
   private logfMode = false;
   private contextShownAt = -Infinity;
@@ -130,6 +132,7 @@ export class App {
     $('timeline-channel').addEventListener('change', () => this.fillTimelineChoices());
     attachReportLink(
       $<HTMLAnchorElement>('timeline-report'),
+      () => this.timelineShown,
       () => this.timelineQuery(),
       () => (this.status?.replay ? this.status.t : null),
     );
@@ -355,8 +358,8 @@ export class App {
     const q = this.timelineQuery();
     if (!q.channel) return;
     try {
-      const sampleNow = this.status?.replay ? this.status.t : null;
-      const r = await fetch(trendUrl(q, $('timeline').clientWidth || 800, sampleNow), { credentials: 'same-origin' });
+      const span = timelineSpan(q, this.status?.replay ? this.status.t : null);
+      const r = await fetch(trendUrl(q, $('timeline').clientWidth || 800, span), { credentials: 'same-origin' });
       if (!r.ok) {
         $('timeline-info').textContent = `no history on this agent (${r.status})`;
         return;
@@ -368,6 +371,7 @@ export class App {
         this.incidents.incidents.filter((i) => i.channel === q.channel),
         Math.max(0, idx),
       );
+      this.timelineShown = span;
     } catch {
       /* the link state shows a lost agent */
     }

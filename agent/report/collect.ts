@@ -183,6 +183,9 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
       if (w > fineTo) fineTo = w;
     }
   if (fromT > toT) fromT = toT = 0;
+  // Bounds given in sample time are the span asked for (the dashboard's timeline sends its own): shown as given.
+  if (from?.kind === 't') fromT = from.seconds;
+  if (to?.kind === 't') toT = to.seconds;
   const step = { '1s': 1e3, '1m': 60e3, '1h': 3600e3 }[every];
   if (fineFrom <= fineTo && from?.kind !== 'wall') fromMs = Math.min(fineFrom, incidentFrom);
   if (fineFrom <= fineTo && to?.kind !== 'wall') toMs = Math.max(fineTo + step, incidentTo);

@@ -21,17 +21,26 @@ export interface TimelineQuery {
   span: keyof typeof SPANS;
 }
 
-/** The /api/trend URL for a query ending now, at most `points` rows per series. A live run's span ends at the
- *  wall clock; a replay's ends at its newest sample (`sampleNow`, seconds of sample time), since its wall-time
- *  labels come from the recording. */
-export function trendUrl(q: TimelineQuery, points: number, sampleNow: number | null = null, now = Date.now()): string {
-  const from =
-    sampleNow === null
-      ? new Date(now - SPANS[q.span].seconds * 1000).toISOString()
-      : `t=${Math.max(0, sampleNow - SPANS[q.span].seconds)}`;
+/** The span a query ending now covers, as /api TIME bounds. A live run's span ends at the wall clock; a replay's
+ *  ends at its newest sample (`sampleNow`, seconds of sample time), since its wall-time labels come from the
+ *  recording. */
+export function timelineSpan(
+  q: TimelineQuery,
+  sampleNow: number | null = null,
+  now = Date.now(),
+): { from: string; to: string } {
+  const seconds = SPANS[q.span].seconds;
+  return sampleNow === null
+    ? { from: new Date(now - seconds * 1000).toISOString(), to: new Date(now).toISOString() }
+    : { from: `t=${Math.max(0, sampleNow - seconds)}`, to: `t=${sampleNow}` };
+}
+
+/** The /api/trend URL for a query over `span` (timelineSpan), at most `points` rows per series. */
+export function trendUrl(q: TimelineQuery, points: number, span: { from: string; to: string }): string {
   const p = new URLSearchParams({
     channel: q.channel,
-    from,
+    from: span.from,
+    to: span.to,
     every: SPANS[q.span].every,
     points: String(Math.max(10, Math.min(10_000, Math.round(points)))),
   });

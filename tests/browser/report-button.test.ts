@@ -1,6 +1,7 @@
 // The timeline's Report link in real headless Chromium against the bundled demo (`floorline demo`, with a token):
 // the operator acknowledges one incident and shelves another on the page, then follows Report; the new tab holds
-// the report of the timeline's span from GET /api/report, with the settled levels /api/incidents gives and the
+// the report of the timeline's span (the from and to of its last answered /api/trend query, and the report's header
+// states it in sample time) from GET /api/report, with the settled levels /api/incidents gives and the
 // acknowledge and shelve history, loads nothing else and logs no error. The endpoint refuses a request without
 // the token (401) and one from another site's page (403), like /api/trend.
 import { request as httpRequest } from 'node:http';
@@ -82,6 +83,13 @@ describe('Report link on the timeline', () => {
       .poll(async () => (await incidents()).filter((i) => i.end).length, { timeout: 40_000 })
       .toBeGreaterThan(1);
 
+    // The spans the timeline drew: its /api/trend queries that were answered (it asks again every 10 s).
+    const drawn: URL[] = [];
+    page.on('requestfinished', (r) => {
+      if (r.url().includes('/api/trend?')) drawn.push(new URL(r.url()));
+    });
+    await page.selectOption('#timeline-span', 'day');
+    await expect.poll(() => drawn.length, { timeout: 30_000 }).toBeGreaterThan(0);
     const [tab] = await Promise.all([browser.waitForEvent('page'), page.click('#timeline-report')]);
     const errors: string[] = [];
     const requests: string[] = [];
@@ -90,9 +98,19 @@ describe('Report link on the timeline', () => {
     tab.on('request', (r) => requests.push(r.url()));
     await tab.waitForLoadState('load');
     await tab.waitForSelector('table.incidents', { timeout: 60_000 });
-    // The timeline's span of a replay starts at t = newest sample − 1 h, here the start of the store.
-    expect(new URL(tab.url()).pathname).toBe('/api/report');
-    expect(new URL(tab.url()).searchParams.get('from')).toBe('t=0');
+    // The report asks for the timeline's span, both ends: a replay's span runs to its newest sample (sample time),
+    // from a day before it, here the start of the store.
+    const asked = new URL(tab.url());
+    expect(asked.pathname).toBe('/api/report');
+    // The last span drawn when the link was followed (or the one before, had a refresh just been answered).
+    const spans = drawn.slice(-2).map((u) => `${u.searchParams.get('from')} ${u.searchParams.get('to')}`);
+    expect(spans).toContain(`${asked.searchParams.get('from')} ${asked.searchParams.get('to')}`);
+    expect(asked.searchParams.get('from')).toBe('t=0');
+    const to = Number(/^t=([\d.]+)$/.exec(asked.searchParams.get('to') ?? '')?.[1]);
+    expect(to).toBeGreaterThan(0);
+    // The report states that span in sample time (to the millisecond it prints).
+    const spanRow = (await tab.textContent('table.kv tr:nth-child(2) td'))!;
+    expect(spanRow).toContain(`t = 0.000 – ${to.toFixed(3)} s (sample time)`);
     expect(errors).toEqual([]);
     expect(requests.every((u) => u === tab.url())).toBe(true);
     const table = (await tab.textContent('table.incidents'))!;
