@@ -47,6 +47,8 @@ export interface Quota {
 }
 
 export interface RigConfig {
+  /** The rig's name (reports show it). */
+  name?: string;
   source?: { port?: string; baud?: number; format?: 'binary' | 'text'; rate?: number };
   channels?: ChannelConfig[];
   analysis?: {

@@ -6,11 +6,13 @@ import type { TimeBound } from '../store/time-bound.ts';
 import { BUILD_COMMIT, FLOORLINE_VERSION } from '../build-info.ts';
 import { createProgress } from '../cli/progress.ts';
 import { collectReport, type ReportData } from './collect.ts';
-import { computeFigures } from './figures.ts';
+import { computeFigures, type RigConfigRef } from './figures.ts';
 import { writeReport } from './render.ts';
 
 export interface BuildOptions {
   maskPath?: string;
+  /** The rig config given to the report (`--config`), already validated, with its SHA-256. */
+  rig?: RigConfigRef;
   /** The href of a capture, given its path on disk. */
   link: (file: string, capture: string) => string;
   generatedAt: string;
@@ -37,6 +39,7 @@ export async function buildReport(
   }
   const figures = await computeFigures(data, {
     maskPath: o.maskPath,
+    rig: o.rig,
     onIncident: (done, total) => bar?.update(1 + done, 1 + total),
   });
   bar?.finish();

@@ -3,6 +3,8 @@
 import { spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
 import { PartWriter } from './part-writer.ts';
+import { loadRigConfig } from '../config/rig-config.ts';
+import { fileSha256 } from '../store/run-context.ts';
 import { dirname, relative, resolve } from 'node:path';
 import { buildReport } from './build-report.ts';
 import { defineCommand, defineFlags, type ParsedArgs } from '../cli/args.ts';
@@ -48,6 +50,8 @@ async function runReport(args: ParsedArgs<typeof REPORT_FLAGS>): Promise<number>
   const out = f.out;
   if (!out) throw new UsageError('floorline report: -o report.html is required (where to write the report).');
   const span = readSpan(f, 'report');
+  // A bad config is refused before anything is read or written (exit 2 naming the JSON path, as `config check`).
+  const rig = f.config ? { loaded: loadRigConfig(f.config), sha256: fileSha256(f.config) } : undefined;
   const path = resolve(out);
   // Written part by part as it is rendered; a report that fails midway leaves no partial file behind.
   const file = new PartWriter(path);
@@ -58,6 +62,7 @@ async function runReport(args: ParsedArgs<typeof REPORT_FLAGS>): Promise<number>
       span,
       {
         maskPath: f.mask,
+        rig,
         link: (file) => relative(dirname(path), file).split('\\').join('/'),
         generatedAt: new Date().toISOString(),
         progress: true,
@@ -86,6 +91,12 @@ const REPORT_FLAGS = defineFlags([
     kind: 'string',
     value: 'FILE',
     help: 'limit mask CSV (frequency,limit[,unit]): pass/fail per channel and band, exit 3 on fail',
+  },
+  {
+    name: 'config',
+    kind: 'string',
+    value: 'FILE',
+    help: 'the rig config JSON: the header shows its rig name, channels (unit, calibration, input-referred) and SHA-256',
   },
   ...SPAN_FLAGS,
   ...STORE_SOURCE_FLAGS,

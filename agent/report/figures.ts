@@ -7,6 +7,7 @@ import type { AnalysisSettings } from '../../protocol/settings.ts';
 import { readBaseline, type BaselineFile } from '../baseline/format.ts';
 import { readMaskFile, type MaskFile } from '../analysis/mask-file.ts';
 import { AnalysisInputError } from '../analysis/input-error.ts';
+import type { LoadedRigConfig } from '../config/rig-config.ts';
 import { fileSha256, type RunContext } from '../store/run-context.ts';
 import type { ReportData, ReportIncident } from './collect.ts';
 import {
@@ -25,7 +26,15 @@ export interface BandMaskVerdict {
   worstBin: { marginDb: number; frequency: number; incident: string } | null;
 }
 
+/** A rig config given to the report: the file as loaded and validated, and its SHA-256 now. */
+export interface RigConfigRef {
+  loaded: LoadedRigConfig;
+  sha256: string | null;
+}
+
 export interface ReportFigures {
+  /** The rig config of `report --config`, or null (the header then shows the run's own record). */
+  rig?: RigConfigRef | null;
   settings: AnalysisSettings | null;
   context: RunContext | null;
   baseline: {
@@ -65,7 +74,7 @@ async function loadBaseline(ctx: RunContext | null): Promise<ReportFigures['base
 
 export async function computeFigures(
   d: ReportData,
-  o: { maskPath?: string; onIncident?: (done: number, total: number) => void },
+  o: { maskPath?: string; rig?: RigConfigRef; onIncident?: (done: number, total: number) => void },
 ): Promise<ReportFigures> {
   // The last run that started inside the span holds the settings the span was analysed with.
   const run = [...d.runs].reverse().find((r) => r.startWall <= d.to) ?? d.runs.at(-1);
@@ -125,7 +134,17 @@ export async function computeFigures(
       maskVerdicts.set(bandKey(s.channel, s.band!), bandVerdict(s, d.incidents, spectra, limits, f, binHz));
     }
   }
-  return { settings, context, baseline, baselineBandRms, spectra, mask, maskVerdicts, incidentMask };
+  return {
+    rig: o.rig ?? null,
+    settings,
+    context,
+    baseline,
+    baselineBandRms,
+    spectra,
+    mask,
+    maskVerdicts,
+    incidentMask,
+  };
 }
 
 function asdOf(psd: Float64Array): Float64Array {

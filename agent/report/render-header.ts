@@ -36,6 +36,8 @@ export function renderHeader(d: ReportData, f: ReportFigures, build: { version: 
       `${esc(d.from)} – ${esc(d.to)} (wall time); t = ${d.fromT.toFixed(3)} – ${d.toT.toFixed(3)} s (sample time)`,
     ),
   );
+  const rig = f.rig?.loaded;
+  if (rig) out.push(row('rig', `${esc(rig.config.name ?? '—')} (rig config ${esc(rig.file)})`));
   out.push(
     row('board', ctx?.boardId ? esc(ctx.boardId) + (ctx.firmware ? `, firmware ${esc(ctx.firmware)}` : '') : '—'),
   );
@@ -48,7 +50,18 @@ export function renderHeader(d: ReportData, f: ReportFigures, build: { version: 
     parts.push(cal?.inputReferred ? 'input-referred' : 'at the ADC');
     return parts.join(', ');
   });
-  out.push(row('channels', chans.join('; ') || '—'));
+  // Given a rig config, its channels are the rig's as documented; else what the run recorded.
+  const fromConfig = (rig?.config.channels ?? []).map((c) =>
+    [
+      `${esc(c.name)} in ${esc(c.unit)}`,
+      ...(c.voltsPerCount !== undefined ? [`${esc(formatSi(c.voltsPerCount, 'V'))}/count`] : []),
+      ...(c.gain !== undefined ? [`gain ${esc(c.gain)}`] : []),
+      c.inputReferred ? 'input-referred' : 'at the ADC',
+    ].join(', '),
+  );
+  out.push(
+    row('channels', fromConfig.length ? `${fromConfig.join('; ')} (from the rig config)` : chans.join('; ') || '—'),
+  );
   if (s) {
     const w = makeWindow(s.window, s.segment);
     const binHz = s.sampleRate / s.segment;
@@ -84,14 +97,15 @@ export function renderHeader(d: ReportData, f: ReportFigures, build: { version: 
     else if (f.baseline?.problem) lines.push(esc(f.baseline.problem));
     out.push(row('baseline', lines.join('<br>')));
   }
-  out.push(
-    row(
-      'config',
-      ctx?.config
-        ? `${esc(ctx.config.path)}<br>SHA-256 ${esc(ctx.config.sha256 ?? 'unreadable')}`
-        : 'none (flags only)',
-    ),
-  );
+  const recorded = ctx?.config
+    ? `${esc(ctx.config.path)}<br>SHA-256 ${esc(ctx.config.sha256 ?? 'unreadable')}`
+    : 'none (flags only)';
+  if (!rig) out.push(row('config', recorded));
+  else {
+    const given = `${esc(rig.file)}<br>SHA-256 ${esc(f.rig!.sha256 ?? 'unreadable')}`;
+    const same = ctx?.config && ctx.config.sha256 !== null && ctx.config.sha256 === f.rig!.sha256;
+    out.push(row('config', same ? `${given}<br>the run used this file` : `${given}<br>the run recorded: ${recorded}`));
+  }
   if (f.mask) out.push(row('limit mask', `${esc(f.mask.path)}<br>SHA-256 ${esc(f.mask.sha256 ?? 'unreadable')}`));
   out.push('</table>');
   out.push(
