@@ -578,6 +578,7 @@ export class Monitor implements PartSink {
     this.baselineNow = baselineView(file, result);
     this.baselinePath = path;
     this.baselineData = result;
+    this.historyRef?.baselineChanged(this.runContext()?.baseline ?? null);
     return { file };
   }
 
@@ -610,6 +611,7 @@ export class Monitor implements PartSink {
     this.baselineNow = prev.view;
     this.baselineData = prev.data;
     this.baselinePath = prev.path;
+    this.historyRef?.baselineChanged(this.runContext()?.baseline ?? null);
     return { file: prev.view.file, previous: replaced };
   }
 

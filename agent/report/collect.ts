@@ -8,7 +8,8 @@ import { bandKey } from './figures.ts';
 import { PLOT_COLUMNS } from './svg-plot.ts';
 import type { TimeBound } from '../store/time-bound.ts';
 import { FloorlineError } from '../errors.ts';
-import { readRunContexts, type RunContext } from '../store/run-context.ts';
+import { readBaselineChanges, readRunContexts, type BaselineChange, type RunContext } from '../store/run-context.ts';
+import { wallAt } from '../store/time-bound.ts';
 import { healthInSpan, type RunHealth } from '../store/health.ts';
 
 /** An operator's acknowledge or shelve of an incident, from the events table. */
@@ -56,6 +57,8 @@ export interface ReportData {
   /** The agent's counters per run inside the span; null for a store older than the health table. */
   healthRuns: RunHealth[] | null;
   unstored: { from: string; to: string; reason: string }[];
+  /** Baselines put in force inside a run (a capture or restore mid-run) up to the span's end, oldest first. */
+  baselineChanges: (BaselineChange & { t: number; wallTime: string })[];
 }
 
 export class EmptySpanError extends FloorlineError {
@@ -223,6 +226,23 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
       reason: string;
     }[]
   ).map((u) => ({ from: u.from_wall, to: u.to_wall, reason: u.reason }));
+  const timing = new Map(
+    (
+      db.prepare('SELECT id, sample_rate, first_sample, start_wall_ms FROM runs').all() as {
+        id: number;
+        sample_rate: number;
+        first_sample: number;
+        start_wall_ms: number;
+      }[]
+    ).map((r) => [r.id, { sampleRate: r.sample_rate, firstSample: r.first_sample, startWallMs: r.start_wall_ms }]),
+  );
+  const baselineChanges = readBaselineChanges(db)
+    .filter((c) => timing.has(c.run))
+    .map((c) => {
+      const run = timing.get(c.run)!;
+      return { ...c, t: c.sample / run.sampleRate, wallTime: wallAt(run, c.sample) };
+    })
+    .filter((c) => Date.parse(c.wallTime) <= toMs);
   return {
     runs,
     every,
@@ -239,5 +259,6 @@ export function collectReport(db: StoreDb, from?: TimeBound, to?: TimeBound): Re
     health,
     healthRuns: healthInSpan(db, from, to),
     unstored,
+    baselineChanges,
   };
 }

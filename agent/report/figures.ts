@@ -44,7 +44,9 @@ export interface ReportFigures {
     /** SHA-256 of the file now, against the one the run recorded. */
     sha256Now: string | null;
   } | null;
-  /** Baseline band RMS by `channel|low|high`. */
+  /** The baselines in force over the span, oldest first: each run's at its start, then its mid-run changes. */
+  baselineTimeline: BaselineInForce[];
+  /** Baseline band RMS by `channel|low|high`, of the baseline in force at the span's end. */
   baselineBandRms: Map<string, number>;
   spectra: Map<string, IncidentSpectrum | string>;
   mask: (MaskFile & { sha256: string | null }) | null;
@@ -52,6 +54,37 @@ export interface ReportFigures {
   maskVerdicts: Map<string, BandMaskVerdict | string>;
   /** Per incident, the verdict of its whole spectrum. */
   incidentMask: Map<string, MaskVerdict>;
+}
+
+/** A baseline compared against from `wallMs` on (null: none), with its file when it could be read. */
+export interface BaselineInForce {
+  wallMs: number;
+  ref: RunContext['baseline'];
+  file: BaselineFile | null;
+}
+
+/** The baseline in force at a wall time (ms), or undefined before the first run. */
+export function baselineAt(timeline: readonly BaselineInForce[], wallMs: number): BaselineInForce | undefined {
+  let found: BaselineInForce | undefined;
+  for (const b of timeline) if (b.wallMs <= wallMs) found = b;
+  return found;
+}
+
+/** Each run's baseline from its start and its mid-run changes, in wall-time order; each file read once. */
+async function baselineTimeline(d: ReportData): Promise<BaselineInForce[]> {
+  const files = new Map<string, BaselineFile | null>();
+  const read = async (ref: RunContext['baseline']) => {
+    if (!ref) return null;
+    if (!files.has(ref.path)) files.set(ref.path, await readBaseline(ref.path).catch(() => null));
+    return files.get(ref.path)!;
+  };
+  const entries: { wallMs: number; ref: RunContext['baseline'] }[] = [
+    ...d.runs.filter((r) => r.context).map((r) => ({ wallMs: Date.parse(r.startWall), ref: r.context!.baseline })),
+    ...d.baselineChanges.map((c) => ({ wallMs: Date.parse(c.wallTime), ref: c.baseline })),
+  ].sort((a, b) => a.wallMs - b.wallMs);
+  const out: BaselineInForce[] = [];
+  for (const e of entries) out.push({ ...e, file: await read(e.ref) });
+  return out;
 }
 
 export const bandKey = (channel: string, band: readonly [number, number]) => `${channel}|${band[0]}|${band[1]}`;
@@ -83,7 +116,10 @@ export async function computeFigures(
   const baseline = await loadBaseline(context);
   const bandSeries = d.series.filter((s) => s.quantity === 'bandRms' && s.band);
   const baselineBandRms = new Map<string, number>();
-  const b = baseline?.file;
+  const timeline = await baselineTimeline(d);
+  // The summary's baseline figure is the baseline in force at the span's end (a mid-run capture included).
+  const atEnd = baselineAt(timeline, Date.parse(d.to));
+  const b = atEnd && atEnd.ref?.path !== context?.baseline?.path ? atEnd.file : baseline?.file;
   if (b) {
     for (const s of bandSeries) {
       const ch = b.channels.find((c) => c.name === s.channel);
@@ -136,6 +172,7 @@ export async function computeFigures(
   }
   return {
     rig: o.rig ?? null,
+    baselineTimeline: timeline,
     settings,
     context,
     baseline,

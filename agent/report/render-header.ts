@@ -97,6 +97,24 @@ export function renderHeader(d: ReportData, f: ReportFigures, build: { version: 
     else if (f.baseline?.problem) lines.push(esc(f.baseline.problem));
     out.push(row('baseline', lines.join('<br>')));
   }
+  const changes = d.baselineChanges.filter((c) => c.wallTime >= d.from);
+  if (changes.length)
+    out.push(
+      row(
+        'baseline changes',
+        changes
+          .map(
+            (c) =>
+              `from ${esc(c.wallTime)} (run ${c.run}, t=${c.t.toFixed(3)} s): ${
+                c.baseline
+                  ? `${esc(c.baseline.path)}, SHA-256 ${esc(c.baseline.sha256 ?? 'unreadable')}; settings hash ${esc(c.baseline.settingsHash)}`
+                  : 'none'
+              }`,
+          )
+          .join('<br>') +
+          '<br><span class="muted">captured or restored during the run; incident spectra are drawn against the baseline in force at their time, the summary against the one in force at the span\'s end</span>',
+      ),
+    );
   const recorded = ctx?.config
     ? `${esc(ctx.config.path)}<br>SHA-256 ${esc(ctx.config.sha256 ?? 'unreadable')}`
     : 'none (flags only)';

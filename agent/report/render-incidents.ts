@@ -5,7 +5,7 @@ import { formatSi } from '../../protocol/si.ts';
 import { esc } from './html-escape.ts';
 import { spectrumPlot, type SpectrumLine } from './svg-plot.ts';
 import type { OperatorAction, ReportData, ReportIncident } from './collect.ts';
-import type { ReportFigures } from './figures.ts';
+import { baselineAt, type ReportFigures } from './figures.ts';
 
 const si = (v: number | null | undefined, unit: string) =>
   v === null || v === undefined || !Number.isFinite(v) ? '—' : formatSi(v, unit);
@@ -82,7 +82,10 @@ function incidentDetail(i: ReportIncident, f: ReportFigures, channels: string[],
   const lines: SpectrumLine[] = [
     { label: `${i.channel}, incident`, kind: 'measured', frequency: sp.frequency, asd: sp.psd.map(Math.sqrt) },
   ];
-  const base = f.baseline?.file?.channels.find((c) => c.name === i.channel);
+  // Against the baseline the detectors compared with at that time (a capture mid-run included).
+  const judgedWall = Date.parse(i.start.wallTime) + ((sp.to - 1 - i.start.sample) / rate) * 1000;
+  const inForce = f.baselineTimeline.length ? baselineAt(f.baselineTimeline, judgedWall)?.file : f.baseline?.file;
+  const base = inForce?.channels.find((c) => c.name === i.channel);
   if (base && base.psd.length === sp.frequency.length)
     lines.push({
       label: 'baseline',

@@ -44,6 +44,8 @@ export interface History {
   writer: HistoryWriter;
   /** Adds an operator note at the pipeline's current sample: into the event stream (so the event log) and the store. */
   note(text: string, incident?: string): { sample: number; t: number; wallTime: string };
+  /** The run compares against another baseline (or none) from the next sample on. */
+  baselineChanged(baseline: RunContext['baseline']): void;
   close(): void;
 }
 
@@ -135,6 +137,9 @@ export function attachHistory(pipeline: Pipeline, parts: PartSink, o: HistoryOpt
       if (incident) o.onIncidentNote?.(incident, text, sample);
       pipeline.emitEvent(e as unknown as FloorlineEvent);
       return e;
+    },
+    baselineChanged(baseline) {
+      writer.baselineChange(Math.max(0, pipeline.counters().lastSample + 1), baseline);
     },
     close() {
       if (closed) return;

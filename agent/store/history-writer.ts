@@ -7,7 +7,7 @@ import { LEVELS, type Level } from './schema.ts';
 import { RowBuffer } from './row-buffer.ts';
 import { DEFAULT_RETENTION, SPECTRA_RETENTION_SECONDS, type Retention } from './levels.ts';
 import type { IncidentRecord } from './incident-book.ts';
-import { contextKey, type RunContext } from './run-context.ts';
+import { baselineChangeKey, contextKey, type RunContext } from './run-context.ts';
 import { countsSince, HEALTH_FIELDS, HEALTH_INSERT, type HealthCounters } from './health.ts';
 
 export interface RunInfo {
@@ -35,7 +35,7 @@ export interface WriterOptions {
   health?: () => HealthCounters;
 }
 
-type Op = { sql: 'event' | 'note' | 'incident' | 'spectrum'; args: unknown[] };
+type Op = { sql: 'event' | 'note' | 'incident' | 'spectrum' | 'context'; args: unknown[] };
 
 const MAX_QUEUED_OPS = 100_000;
 
@@ -211,6 +211,12 @@ export class HistoryWriter {
         i.capture,
       ],
     });
+  }
+
+  /** The baseline (or none) compared against from `sample` on, when it changes inside the run (a capture, a restore). */
+  baselineChange(sample: number, baseline: RunContext['baseline']): void {
+    if (!this.run) return;
+    this.queue({ sql: 'context', args: [baselineChangeKey(this.run.id, sample), JSON.stringify(baseline)] });
   }
 
   /** A kept spectrum: `density` (unit²/Hz) on the log grid from fLow to fHigh, stored as float32. */

@@ -37,6 +37,34 @@ export function fileSha256(path: string): string | null {
 
 export const contextKey = (run: number) => `run:${run}:context`;
 
+/** A baseline change inside a run, kept as meta `run:ID:baseline:SAMPLE` (the run's context holds the first). */
+export const baselineChangeKey = (run: number, sample: number) => `run:${run}:baseline:${sample}`;
+
+export interface BaselineChange {
+  run: number;
+  /** Compared against from this sample on. */
+  sample: number;
+  baseline: RunContext['baseline'];
+}
+
+/** Every baseline change inside a run, in run and sample order. */
+export function readBaselineChanges(db: StoreDb): BaselineChange[] {
+  const rows = db.prepare("SELECT key, value FROM meta WHERE key LIKE 'run:%:baseline:%'").all() as {
+    key: string;
+    value: string;
+  }[];
+  const out: BaselineChange[] = [];
+  for (const r of rows) {
+    const [, run, , sample] = r.key.split(':');
+    try {
+      out.push({ run: Number(run), sample: Number(sample), baseline: JSON.parse(r.value) as RunContext['baseline'] });
+    } catch {
+      // A damaged value only costs the report that change.
+    }
+  }
+  return out.sort((a, b) => a.run - b.run || a.sample - b.sample);
+}
+
 /** The context of every run that has one, by run id. */
 export function readRunContexts(db: StoreDb): Map<number, RunContext> {
   const rows = db.prepare("SELECT key, value FROM meta WHERE key LIKE 'run:%:context'").all() as {

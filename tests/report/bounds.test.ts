@@ -66,11 +66,13 @@ describe('report bounds', () => {
       health: [],
       healthRuns: null,
       unstored: [],
+      baselineChanges: [],
     };
     const f: ReportFigures = {
       settings: null,
       context: null,
       baseline: null,
+      baselineTimeline: [],
       baselineBandRms: new Map(),
       spectra: new Map(incidents.slice(0, 3).map((i) => [i.id, 'no capture was kept for this incident'])),
       mask: null,

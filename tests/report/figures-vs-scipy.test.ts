@@ -8,6 +8,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Python, root, tempDir } from '../wav/support.ts';
+import { numpyBandRms } from './numpy-band-rms.ts';
 import { cliIn, replayDemoIntoStore } from '../store/support.ts';
 import { openStoreForReading } from '../../agent/store/open-store.ts';
 import { collectReport, type ReportData } from '../../agent/report/collect.ts';
@@ -91,18 +92,7 @@ result = dict(db.execute("select incident, min(case when state = 'settled' then 
   it('the baseline figure of each band is the band RMS of the baseline file density (numpy)', async () => {
     const bands = data.series.filter((s) => s.quantity === 'bandRms').map((s) => [s.channel, ...s.band!]);
     expect(bands.length).toBe(8);
-    const ref = await py.run<number[]>(
-      `import json as j
-b = j.load(open(args[0]))
-out = []
-for ch, lo, hi in args[1]:
-    psd = np.array(next(c for c in b['channels'] if c['name'] == ch)['psd'])
-    k = np.arange(len(psd)) * b['binHz']
-    out.append(float(np.sqrt(psd[(k >= lo) & (k <= hi)].sum() * b['binHz'])))
-result = out`,
-      join(root, 'recordings/demo-baseline.json'),
-      bands,
-    );
+    const ref = await numpyBandRms(py, join(root, 'recordings/demo-baseline.json'), bands);
     bands.forEach(([ch, lo, hi], n) =>
       expect(figures.baselineBandRms.get(bandKey(ch as string, [lo as number, hi as number]))).toBeCloseTo(ref[n], 15),
     );
