@@ -62,7 +62,8 @@ export class RealFftPower {
    * |X[k]|² of y[n] = (src[offset+n] − mean − slope·(n − (N−1)/2))·w[n], the detrended and windowed segment,
    * without materialising y: the packing load and the first FFT stage run in the same pass. mean = slope = 0
    * gives plain windowing with bit-identical values. With accumulate, |X[k]|² is added to power[k] instead of
-   * written (a running sum without a second pass).
+   * written (a running sum without a second pass). With `spectrum`, the complex X[k] is written there too,
+   * interleaved (re, im) in spectrum[0..N+2), from the same arithmetic (re² + im² is the power bit for bit).
    */
   windowedPower(
     src: Float64Array,
@@ -72,6 +73,7 @@ export class RealFftPower {
     slope: number,
     power: Float64Array,
     accumulate = false,
+    spectrum?: Float64Array,
   ): void {
     const m = this.size >> 1;
     const re = this.re;
@@ -128,7 +130,7 @@ export class RealFftPower {
         im[i + 3] = t1i + t3r;
       }
     }
-    this.finish(power, accumulate);
+    this.finish(power, accumulate, spectrum);
   }
 
   // Reorders a window into load order once per window array (a different array costs one O(N) pass).
@@ -144,7 +146,7 @@ export class RealFftPower {
   }
 
   // Remaining FFT stages, then the even/odd split into one-sided |X[k]|².
-  private finish(power: Float64Array, accumulate: boolean): void {
+  private finish(power: Float64Array, accumulate: boolean, spectrum?: Float64Array): void {
     const m = this.size >> 1;
     const re = this.re;
     const im = this.im;
@@ -154,6 +156,12 @@ export class RealFftPower {
     // k = 0 and k = M: E[0] = Re Z0, O[0] = Im Z0; X[0] = E+O, X[M] = E−O (both real).
     const dc = re[0] + im[0];
     const ny = re[0] - im[0];
+    if (spectrum) {
+      spectrum[0] = dc;
+      spectrum[1] = 0;
+      spectrum[2 * m] = ny;
+      spectrum[2 * m + 1] = 0;
+    }
     if (accumulate) {
       power[0] += dc * dc;
       power[m] += ny * ny;
@@ -181,6 +189,12 @@ export class RealFftPower {
       const pi = ei + v;
       const qr = er - u;
       const qi = v - ei;
+      if (spectrum) {
+        spectrum[2 * k] = pr;
+        spectrum[2 * k + 1] = pi;
+        spectrum[2 * (m - k)] = qr;
+        spectrum[2 * (m - k) + 1] = qi;
+      }
       if (accumulate) {
         power[k] += pr * pr + pi * pi;
         power[m - k] += qr * qr + qi * qi;
@@ -192,6 +206,10 @@ export class RealFftPower {
     // k = M/2 pairs with itself: X = Re Z − i·Im Z there (e^(−iπ/2) = −i).
     const hr = re[half];
     const hi = im[half];
+    if (spectrum) {
+      spectrum[2 * half] = hr;
+      spectrum[2 * half + 1] = -hi;
+    }
     if (accumulate) power[half] += hr * hr + hi * hi;
     else power[half] = hr * hr + hi * hi;
   }

@@ -38,6 +38,13 @@ export interface WelchOptions {
  */
 export type SegmentListener = (estimate: Float64Array, lastSample: number) => void;
 
+/**
+ * Told of every averaged segment's complex DFT X[k], k = 0..N/2, of the detrended, windowed samples (unscaled,
+ * interleaved re, im: 2·bins values; a reused buffer valid only during the call), and its last sample index.
+ * Cross-spectra of several channels are built from these without a second FFT.
+ */
+export type SpectrumListener = (spectrum: Float64Array, lastSample: number) => void;
+
 /** Segment lengths the estimator takes (powers of two). */
 export const MIN_SEGMENT = 64;
 export const MAX_SEGMENT = 1 << 20;
@@ -85,6 +92,8 @@ export class WelchEstimator {
   private listener: SegmentListener | undefined;
   /** The latest segment's scaled estimate, filled only while a listener is set. */
   private segmentEstimate: Float64Array | undefined;
+  private spectrumListener: SpectrumListener | undefined;
+  private spectrumBuffer: Float64Array | undefined;
 
   constructor(options: WelchOptions) {
     const { sampleRate, segment, overlap } = options;
@@ -244,6 +253,12 @@ export class WelchEstimator {
     this.segmentEstimate = listener ? (this.segmentEstimate ?? new Float64Array(this.bins)) : undefined;
   }
 
+  /** Sets (or with undefined removes) the one listener told of each averaged segment's complex spectrum. */
+  onSpectrum(listener: SpectrumListener | undefined): void {
+    this.spectrumListener = listener;
+    this.spectrumBuffer = listener ? (this.spectrumBuffer ?? new Float64Array(2 * this.bins)) : undefined;
+  }
+
   /** Drops the partial segment (at a gap); the averages stay. The next sample gets index nextSample if given. */
   reset(nextSample?: number): void {
     if (nextSample !== undefined) {
@@ -277,7 +292,7 @@ export class WelchEstimator {
     const listener = this.listener;
     if (listener) {
       // The segment's own power is needed apart from the average: same additions as the fast path below.
-      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power, false, this.spectrumBuffer);
       avg.add(this.power);
       const est = this.segmentEstimate!;
       const power = this.power;
@@ -286,18 +301,26 @@ export class WelchEstimator {
       this.segmentsTotal++;
       this.lastSegmentSample = lastSample;
       listener(est, lastSample);
+      this.tellSpectrum(lastSample);
       return;
     }
     if (avg instanceof MeanAverager) {
       // Mean: add |X|² straight into the running sum (same additions as add(), one pass fewer).
-      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, avg.sum, true);
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, avg.sum, true, this.spectrumBuffer);
       avg.countAdded();
     } else {
-      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power);
+      this.fft.windowedPower(src, offset, this.window.values, c.mean, c.slope, this.power, false, this.spectrumBuffer);
       avg.add(this.power);
     }
     this.segmentsTotal++;
     this.lastSegmentSample = lastSample;
+    this.tellSpectrum(lastSample);
+  }
+
+  private tellSpectrum(lastSample: number): void {
+    const listener = this.spectrumListener;
+    if (!listener) return;
+    listener(this.spectrumBuffer!, lastSample);
   }
 }
 
@@ -310,7 +333,7 @@ function copy32(src: Float32Array, from: number, dst: Float64Array, to: number, 
 }
 
 // scipy.signal.welch: scale = 1/(fs·Σw²) (density) or 1/(Σw)² (spectrum); bins 1..N/2−1 doubled for even N.
-function oneSidedScale(w: Float64Array, sampleRate: number, scaling: Scaling): Float64Array {
+export function oneSidedScale(w: Float64Array, sampleRate: number, scaling: Scaling): Float64Array {
   let sum = 0;
   let sumSq = 0;
   for (let i = 0; i < w.length; i++) {
@@ -355,7 +378,7 @@ export function equalWeightEquivalent(k: number, rho: Float64Array, offset = 0, 
 // Variance of an exponential average of n segments relative to one periodogram. Weights by age a (0 = newest):
 // u_a = α r^a for a < n−1 and u_{n−1} = r^{n−1} (the first segment initialises), r = 1 − α. Closed forms of the
 // geometric sums S(d) = Σ_a u_a u_{a+d}; V = S(0) + 2 Σ_d ρ_d S(d).
-function exponentialVarianceFactor(alpha: number, n: number, rho: Float64Array): number {
+export function exponentialVarianceFactor(alpha: number, n: number, rho: Float64Array): number {
   const r = 1 - alpha;
   const r2 = r * r;
   const geo = (m: number): number => (m <= 0 ? 0 : r2 === 1 ? m : (1 - r2 ** m) / (1 - r2)); // Σ_{a<m} r^{2a}

@@ -20,7 +20,8 @@ export type EventRule =
   | 'notify'
   | 'disk'
   | 'retention'
-  | 'limit';
+  | 'limit'
+  | 'coherent';
 // 'internal': an info event of the agent itself, e.g. an attached part that failed and was disabled.
 
 export interface FloorlineEvent {
@@ -56,6 +57,12 @@ export interface FloorlineEvent {
   peakAmplitude?: number;
   /** cleared: from the raise to the clear, seconds of sample time. */
   durationSeconds?: number;
+  /** For coherent: the channels the line is coherent on (`channel` is the first). */
+  channels?: string[];
+  /** For coherent: magnitude-squared coherence of the line between the channels, 0..1. */
+  coherence?: number;
+  /** For coherent, cleared: the highest coherence while raised (at peakSample). */
+  peakCoherence?: number;
   /** For limit: margin below the mask at the worst bin, dB (negative: the estimate exceeds the mask). */
   marginDb?: number;
   /** Path of the capture recording, relative to the data folder, when one was triggered. */

@@ -20,15 +20,19 @@ export interface AlarmKey {
   band?: readonly [number, number];
   harmonic?: number;
   frequency?: number;
+  channels?: readonly string[];
 }
 
 /**
  * Id of an alarm condition (one row of the alarm table): per band for band rules, per harmonic for mains, per
- * 0.1 Hz line for spurs, else per rule and channel. E.g. "band-rise/bridge:20-2000", "mains/bridge/h3", "clip/ch0".
+ * 0.1 Hz line for spurs, per channel pair and 0.1 Hz line for coherent lines ("coherent/bridge+shorted/50.0"),
+ * else per rule and channel. E.g. "band-rise/bridge:20-2000", "mains/bridge/h3", "clip/ch0".
  */
 export function alarmId(a: AlarmKey): string {
   if (a.rule === 'band-rise' && a.band) return `band-rise/${bandId(a.channel, a.band[0], a.band[1])}`;
   if (a.rule === 'mains') return `mains/${a.channel}/h${a.harmonic ?? 0}`;
   if (a.rule === 'spur' && a.frequency !== undefined) return `spur/${a.channel}/${a.frequency.toFixed(1)}`;
+  if (a.rule === 'coherent' && a.frequency !== undefined && a.channels)
+    return `coherent/${a.channels.join('+')}/${a.frequency.toFixed(1)}`;
   return `${a.rule}/${a.channel}`;
 }

@@ -12,6 +12,8 @@ export interface IncidentMemberJson {
   band?: [number, number];
   frequency?: number;
   harmonic?: number;
+  /** For coherent lines: the channels the line is coherent on. */
+  channels?: string[];
 }
 
 export interface IncidentJson {

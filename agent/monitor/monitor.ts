@@ -112,6 +112,7 @@ export class Monitor implements PartSink {
       snapshotRate: o.snapshotRate,
       mode: o.mode,
       queueCapacity: o.queueCapacity,
+      coherence: o.rules.coherent.pairs ?? 'auto',
     });
     this.folder = dataFolderAt(o.dataDir);
     this.recent = new EventHistory(o.eventHistory ?? 1000);

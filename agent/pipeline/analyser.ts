@@ -8,9 +8,10 @@
 // Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
 // starts again, so every loop is analysed on the same grid of file indices as the first.
 import { WelchEstimator, welchStep } from '../../dsp/welch.ts';
+import { CrossSpectraAverager } from '../../dsp/live-cross-spectra.ts';
 import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
-import type { SnapshotChannel, SpectrumSnapshot } from './types.ts';
+import type { SnapshotChannel, SnapshotCoherence, SpectrumSnapshot } from './types.ts';
 
 export interface AnalysisChoice {
   segment: number;
@@ -32,10 +33,13 @@ export function alignUp(sample: number, step: number, origin = 0): number {
 export const ANALYSIS_MEMORY_MAX_BYTES = 256 * 1024 * 1024;
 
 /** Bytes the analysis of `channels` channels holds for these settings: a rolling or median average keeps `count`
- * spectra of segment/2 + 1 float64 bins per channel; each estimator keeps a few segment-long float64 buffers. */
-export function analysisMemoryBytes(segment: number, averaging: AveragingSpec, channels: number): number {
+ * spectra of segment/2 + 1 float64 bins per channel; each estimator keeps a few segment-long float64 buffers. With
+ * cross-spectra (`pairs` > 0) each channel's auto-spectrum and each pair's complex cross-spectrum keep their rows too. */
+export function analysisMemoryBytes(segment: number, averaging: AveragingSpec, channels: number, pairs = 0): number {
   const rows = averaging.mode === 'rolling' || averaging.mode === 'median' ? averaging.count : 1;
-  return channels * ((rows + 2) * (segment / 2 + 1) * 8 + 8 * segment * 8);
+  const bins = segment / 2 + 1;
+  const cross = pairs > 0 ? (channels * (rows + 3) + pairs * 2 * (rows + 1)) * bins * 8 : 0;
+  return channels * ((rows + 2) * bins * 8 + 8 * segment * 8) + cross;
 }
 
 export class Analyser {
@@ -48,6 +52,11 @@ export class Analyser {
   /** Where the segment and snapshot grids count from. */
   private origin = 0;
   private lastSnapshotSegments = 0;
+  /** Cross-spectra of channel pairs, fed each segment's complex spectra (absent without pairs). */
+  private readonly cross: CrossSpectraAverager | undefined;
+  /** The newest segment's complex spectrum per channel, and its last sample (−1: none yet). */
+  private readonly spectra: Float64Array[] = [];
+  private readonly spectrumSample: Float64Array = new Float64Array(0);
 
   constructor(
     private readonly info: StreamInfo,
@@ -55,11 +64,13 @@ export class Analyser {
     readonly averaging: AveragingSpec,
     snapshotRate: number,
     startSample: number,
+    /** Channel index pairs whose cross-spectra and coherence the snapshots carry. */
+    readonly pairs: readonly (readonly [number, number])[] = [],
   ) {
     if (!(snapshotRate > 0) || !Number.isFinite(snapshotRate)) {
       throw new RangeError(`snapshot rate must be a positive number of snapshots per second, got ${snapshotRate}`);
     }
-    const bytes = analysisMemoryBytes(choice.segment, averaging, info.channels.length);
+    const bytes = analysisMemoryBytes(choice.segment, averaging, info.channels.length, pairs.length);
     if (bytes > ANALYSIS_MEMORY_MAX_BYTES) {
       const what =
         averaging.mode === 'rolling' || averaging.mode === 'median'
@@ -95,6 +106,27 @@ export class Analyser {
     );
     // The estimator canonicalises the window name (e.g. "Hann" → "hann").
     this.settings.window = this.estimators[0].window.name;
+    if (pairs.length > 0) {
+      this.cross = new CrossSpectraAverager({
+        sampleRate: info.sampleRate,
+        segment: choice.segment,
+        window: choice.window,
+        overlap: choice.overlap,
+        averaging,
+        channels: info.channels.length,
+        pairs,
+      });
+      const bins = this.estimators[0].bins;
+      this.spectrumSample = new Float64Array(info.channels.length).fill(-1);
+      this.estimators.forEach((e, c) => {
+        const own = new Float64Array(2 * bins);
+        this.spectra.push(own);
+        e.onSpectrum((x, last) => {
+          own.set(x);
+          this.spectrumSample[c] = last;
+        });
+      });
+    }
   }
 
   /** Hands every completed segment of channel c to fn(c, density, lastSample) (undefined: stop). */
@@ -119,6 +151,7 @@ export class Analyser {
   /** As restartAt, forgetting the averages too, with the grids counted from `origin`: a replay's loop seam. */
   clearAt(nextSample: number, origin: number): void {
     for (const e of this.estimators) e.clear();
+    this.cross?.clear();
     this.lastSnapshotSegments = 0;
     this.origin = origin;
     this.restartAt(nextSample);
@@ -145,7 +178,8 @@ export class Analyser {
       const chunkEnd = boundary + 1 < end ? boundary + 1 : end;
       const from = pos - firstSample;
       const to = chunkEnd - firstSample;
-      for (let c = 0; c < n; c++) estimators[c].push(data[c], from, to);
+      if (this.cross) this.pushPaired(data, firstSample, pos, chunkEnd);
+      else for (let c = 0; c < n; c++) estimators[c].push(data[c], from, to);
       if (chunkEnd === boundary + 1) {
         const total = estimators[0].segmentsTotal;
         if (total !== this.lastSnapshotSegments) {
@@ -154,6 +188,32 @@ export class Analyser {
         }
       }
       pos = chunkEnd;
+    }
+  }
+
+  /**
+   * Pushes absolute [pos, end) to every channel in pieces that end where a segment completes, so each piece completes
+   * at most one segment per channel and the cross-spectra get every channel's spectrum of the same segment. The
+   * estimates do not depend on how samples are split into pushes (WelchEstimator), so the densities stay bit-identical.
+   */
+  private pushPaired(data: readonly Float64Array[], firstSample: number, pos: number, end: number): void {
+    const estimators = this.estimators;
+    const n = estimators.length;
+    const segment = this.settings.segment;
+    const step = this.step;
+    const firstEnd = this.alignedFrom + segment; // end (exclusive) of the first segment after the latest restart
+    while (pos < end) {
+      const k = Math.max(0, Math.ceil((pos + 1 - firstEnd) / step));
+      const completes = firstEnd + k * step;
+      const to = completes < end ? completes : end;
+      for (let c = 0; c < n; c++) estimators[c].push(data[c], pos - firstSample, to - firstSample);
+      if (to === completes) {
+        const last = completes - 1;
+        let all = true;
+        for (let c = 0; c < n; c++) if (this.spectrumSample[c] !== last) all = false;
+        if (all) this.cross!.add(this.spectra);
+      }
+      pos = to;
     }
   }
 
@@ -181,6 +241,28 @@ export class Analyser {
       nenbw: est0.window.nenbw,
       enbwHz: est0.window.enbwHz(this.settings.sampleRate),
       channels,
+      ...(this.cross ? { coherence: this.coherenceNow() } : {}),
     };
+  }
+
+  private coherenceNow(): SnapshotCoherence[] {
+    const cross = this.cross!;
+    const bins = cross.bins;
+    const used = cross.used;
+    const k = cross.equivalentAverages();
+    return this.pairs.map(([a, b], i) => {
+      const re = new Float64Array(bins);
+      const im = new Float64Array(bins);
+      cross.csd(i, re, im);
+      return {
+        a: this.info.channels[a].name,
+        b: this.info.channels[b].name,
+        coherence: cross.coherence(i, new Float64Array(bins)),
+        csdRe: re,
+        csdIm: im,
+        segmentsUsed: used,
+        equivalentAverages: k,
+      };
+    });
   }
 }

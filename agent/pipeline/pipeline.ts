@@ -12,6 +12,7 @@ import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo
 import { Analyser, DEFAULT_ANALYSIS, DEFAULT_SNAPSHOT_RATE, type AnalysisChoice } from './analyser.ts';
 import { DEFAULT_AVERAGING } from '../../dsp/averaging.ts';
 import { BlockQueue } from './block-queue.ts';
+import { resolveCoherencePairs, type CoherencePairsSpec } from './coherence-pairs.ts';
 import { Conditioner, forEachFiniteRun } from './conditioner.ts';
 import { rateProblem } from '../../protocol/limits.ts';
 import { makeEvent } from '../rules/event-factory.ts';
@@ -36,6 +37,8 @@ export interface PipelineOptions {
   queueCapacity?: number;
   /** Longest analysis slice per event-loop turn in bounded mode, ms (default 20). */
   drainBudgetMs?: number;
+  /** Channel pairs whose cross-spectra and coherence the snapshots carry (default 'auto': every pair of 2–4 channels). */
+  coherence?: CoherencePairsSpec;
 }
 
 export class Pipeline implements SourceSink {
@@ -51,6 +54,8 @@ export class Pipeline implements SourceSink {
   private readonly mode: 'lossless' | 'bounded';
   private readonly queueCapacity: number;
   private readonly drainBudgetMs: number;
+  private readonly coherenceSpec: CoherencePairsSpec;
+  private pairs: [number, number][] = [];
 
   private streamInfo: StreamInfo | undefined;
   private startWallMs = 0;
@@ -92,6 +97,7 @@ export class Pipeline implements SourceSink {
     this.mode = options.mode ?? 'lossless';
     this.queueCapacity = options.queueCapacity ?? 64;
     this.drainBudgetMs = options.drainBudgetMs ?? 20;
+    this.coherenceSpec = options.coherence ?? 'auto';
     if (!Number.isInteger(this.queueCapacity) || this.queueCapacity < 1) {
       throw new RangeError(`Pipeline: queueCapacity must be an integer ≥ 1, got ${this.queueCapacity}`);
     }
@@ -196,7 +202,7 @@ export class Pipeline implements SourceSink {
     const averaging = change.averaging ?? this.averagingSpec;
     if (this.streamInfo) {
       // Validate now, so a bad request is refused to its caller rather than failing later in the stream.
-      new Analyser(this.streamInfo, choice, averaging, this.snapshotRate, 0);
+      new Analyser(this.streamInfo, choice, averaging, this.snapshotRate, 0, this.pairs);
     }
     this.pendingReconfigure = { choice, averaging };
   }
@@ -232,7 +238,15 @@ export class Pipeline implements SourceSink {
       this.streamInfo = info;
       this.startWallMs = Number.isFinite(start) ? start : Date.now();
       this.conditioner = new Conditioner(info.channels);
-      this.analyser = new Analyser(info, this.choice, this.averagingSpec, this.snapshotRate, info.firstSample);
+      this.pairs = resolveCoherencePairs(this.coherenceSpec, info);
+      this.analyser = new Analyser(
+        info,
+        this.choice,
+        this.averagingSpec,
+        this.snapshotRate,
+        info.firstSample,
+        this.pairs,
+      );
       this.installObservers(this.analyser, info, info.firstSample);
       this.units = info.channels.map(() => new Float64Array(0));
       this.queue = this.mode === 'bounded' ? new BlockQueue(this.queueCapacity, info.channels.length) : undefined;
@@ -375,7 +389,7 @@ export class Pipeline implements SourceSink {
       this.pendingReconfigure = undefined;
       this.choice = choice;
       this.averagingSpec = averaging;
-      this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start);
+      this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start, this.pairs);
       this.installObservers(this.analyser, info, firstSample + start);
     }
     const n = frames - start;

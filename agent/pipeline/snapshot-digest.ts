@@ -37,5 +37,18 @@ export function snapshotToJsonLine(s: SpectrumSnapshot): string {
       lastSegmentSample: c.lastSegmentSample,
       psd: Array.from(c.psd),
     })),
+    ...(s.coherence
+      ? {
+          coherence: s.coherence.map((p) => ({
+            a: p.a,
+            b: p.b,
+            segmentsUsed: p.segmentsUsed,
+            equivalentAverages: p.equivalentAverages,
+            coherence: Array.from(p.coherence),
+            csdRe: Array.from(p.csdRe),
+            csdIm: Array.from(p.csdIm),
+          })),
+        }
+      : {}),
   });
 }

@@ -24,6 +24,20 @@ export interface SnapshotChannel {
   lastSegmentSample: number;
 }
 
+/** Cross-spectrum and coherence of one channel pair, averaged like the densities (dsp/live-cross-spectra.ts). */
+export interface SnapshotCoherence {
+  a: string;
+  b: string;
+  /** Magnitude-squared coherence per bin, 0..1 (scipy.signal.coherence conventions). A fresh array. */
+  coherence: Float64Array;
+  /** Cross-spectral density conj(A)·B, unit_a·unit_b/Hz (scipy.signal.csd one-sided). Fresh arrays. */
+  csdRe: Float64Array;
+  csdIm: Float64Array;
+  segmentsUsed: number;
+  /** Overlap-corrected equivalent independent averages: the n of the coherence's significance bound. */
+  equivalentAverages: number;
+}
+
 export interface SpectrumSnapshot {
   /** Snapshot instant: the estimate includes every segment that ends at or before this sample. */
   sample: number;
@@ -38,6 +52,8 @@ export interface SpectrumSnapshot {
   nenbw: number;
   enbwHz: number;
   channels: SnapshotChannel[];
+  /** Channel pairs' coherence, when the pipeline computes cross-spectra (2 or more channels). */
+  coherence?: SnapshotCoherence[];
 }
 
 /** Samples of one channel within 0.1 % of full scale, found in one block. */

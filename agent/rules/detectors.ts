@@ -14,6 +14,7 @@ import type { GapNotice, LinkNotice } from '../../protocol/stream.ts';
 import { InputError } from '../errors.ts';
 import { maskOnBins, type LimitMask } from '../../dsp/measure/limit-mask.ts';
 import { LimitDetector } from './limit-detector.ts';
+import { CoherenceDetector, type CoherenceStatus } from './coherence-detector.ts';
 import { checkBaselineMatches, type BaselineFile } from '../baseline/format.ts';
 import { BandDetector } from './band-detector.ts';
 import { defaultBands } from './default-bands.ts';
@@ -97,6 +98,8 @@ export class Detectors {
   private readonly healthMembers = new Map<string, { member: Member; since: number }>();
   private readonly rho: Float64Array;
   private readonly step: number;
+  /** The coherent rule (absent when the rules disable it). */
+  private readonly coherent: CoherenceDetector | undefined;
 
   constructor(
     readonly baseline: BaselineFile | undefined,
@@ -163,6 +166,9 @@ export class Detectors {
         limit: this.limitFor(name, unit ?? 'V', frequencies),
       };
     });
+    this.coherent = rules.coherent.enabled
+      ? new CoherenceDetector(rules, s.sampleRate, s.segment, this.step, this.incidents)
+      : undefined;
     this.health = new HealthDetector(
       s.sampleRate,
       Math.round(rules.clipHold * s.sampleRate),
@@ -186,6 +192,11 @@ export class Detectors {
   /** Bands evaluated on a channel (empty without a baseline). */
   bandsOf(channel: string): readonly { low: number; high: number }[] {
     return this.channels.find((c) => c.name === channel)?.band?.bands ?? [];
+  }
+
+  /** The coherent rule's pairs: bound and coherence at the lines both channels show (empty when disabled). */
+  coherenceStatus(): CoherenceStatus[] {
+    return this.coherent?.status() ?? [];
   }
 
   /** Latest readings per channel, for status pages and metrics: band levels against thresholds, mains, lines. */
@@ -253,6 +264,23 @@ export class Detectors {
         for (const e of limitEvents) this.healthIncident(e); // one member per channel, as the health rules
         out.push(...limitEvents);
       }
+    }
+    if (this.coherent && snap.coherence) {
+      const units = new Map(this.stream.channels.map((c) => [c.name, c.unit ?? 'V']));
+      this.coherent.onSnapshot(
+        snap.sample,
+        snap.wallTime,
+        snap.averaging ?? DEFAULT_AVERAGING,
+        snap.coherence,
+        (name) => {
+          const d = this.channels.find((c) => c.name === name);
+          const ch = snap.channels.find((c) => c.name === name);
+          return d && ch
+            ? { psd: ch.psd, unit: units.get(name) ?? 'V', spur: d.spur, heldFrom: d.heldFrom }
+            : undefined;
+        },
+        out,
+      );
     }
     return this.withCaptures(out);
   }
@@ -385,6 +413,11 @@ export class Detectors {
           fn(t.state);
           n++;
         }
+      }
+    } else if (rule === 'coherent' && this.coherent) {
+      for (const st of this.coherent.states(channel, frequency)) {
+        fn(st);
+        n++;
       }
     } else if (rule === 'limit' && ch.limit) {
       fn(ch.limit.state);

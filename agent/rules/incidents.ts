@@ -9,6 +9,8 @@
 //    its channel, inside one of its bands, joins it;
 //  - an alarm first seen while the average held clipped segments joins that channel's clip incident (an overload's
 //    products are the overload);
+//  - a coherent line joins an open incident on its first channel holding a line (spur, mains or coherent) within
+//    a bin of its frequency: the line and its coherence with another channel are one pickup;
 //  - clip, gap, link and overrun alarms of one rule on one channel join its open incident.
 // Anything else opens an incident. An incident stays open while a member is raised and ends at its last member's
 // clear. Ids are built from sample time (rule, channel, first sample), so a replay gives the same ids.
@@ -34,6 +36,8 @@ export interface MemberSpec {
   band?: [number, number];
   frequency?: number;
   harmonic?: number;
+  /** For coherent lines: the channels the line is coherent on. */
+  channels?: string[];
   /** First clipped sample of the overload the alarm was first seen under (−1/undefined: none). */
   overloadFrom?: number;
   state?: AlarmState;
@@ -65,7 +69,7 @@ export interface IncidentRecord {
   id: string;
   channel: string;
   rules: EventRule[];
-  members: { rule: EventRule; band?: [number, number]; frequency?: number; harmonic?: number }[];
+  members: { rule: EventRule; band?: [number, number]; frequency?: number; harmonic?: number; channels?: string[] }[];
   start: Stamp;
   end: Stamp | null;
   settled: { levelDb: number; amplitude?: number; frequency?: number } | null;
@@ -177,6 +181,7 @@ export class IncidentBook {
         ...(m.band ? { band: m.band } : {}),
         ...(m.frequency !== undefined ? { frequency: m.frequency } : {}),
         ...(m.harmonic ? { harmonic: m.harmonic } : {}),
+        ...(m.channels ? { channels: m.channels } : {}),
       })),
       start: inc.start,
       end: inc.end,
@@ -225,6 +230,11 @@ export class IncidentBook {
     for (const inc of here) {
       for (const m of inc.members) {
         if (!m.open) continue;
+        if (spec.rule === 'coherent') {
+          const line = m.rule === 'mains' || m.rule === 'spur' || m.rule === 'coherent';
+          if (line && Math.abs((spec.frequency ?? NaN) - (m.frequency ?? NaN)) <= this.binHz) return inc;
+          continue;
+        }
         if (spec.rule === 'mains' && m.rule === 'mains') return inc;
         if (spec.rule === 'spur' && m.rule === 'spur' && this.harmonicPair(spec.frequency, m.frequency)) return inc;
         if (spec.rule === 'band-rise' && m.rule === 'band-rise' && overlaps(spec.band, m.band)) return inc;

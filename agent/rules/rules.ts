@@ -33,6 +33,22 @@ export interface RulesConfig {
     floorHalfWidth: number;
   };
   mains: { frequency: MainsSetting; maxHarmonic: number };
+  /** A line present and coherent on two channels (agent/rules/coherence-detector.ts). */
+  coherent: TimingSeconds & {
+    /** false: no coherent alarms (the snapshots and status still carry the pairs' coherence). */
+    enabled: boolean;
+    /** Pairs "A:B" (names or 0-based indices) to compute; absent: every pair of 2–4 channels; []: none. */
+    pairs?: string[];
+    /** Coherence a line must exceed however many averages the estimate holds (chance coherence of weak lines). */
+    minCoherence: number;
+    /** Probability that two independent series exceed the statistical bound at one line (per evaluation). */
+    alpha: number;
+    /**
+     * Equivalent averages the estimate needs before it is judged: the chance bound assumes independent segments,
+     * which a few overlapping ones are not (with one segment the coherence is 1 whatever the signals).
+     */
+    minAverages: number;
+  };
   /**
    * Length of the recent estimate, s: the short window beside the long average that judges clears and gives the
    * settled and peak levels (dsp/detection/recent-spectrum.ts). Shorter stamps ends sooner; longer is steadier.
@@ -49,6 +65,16 @@ export function defaultRules(): RulesConfig {
     band: { marginDb: 3, alpha: 1e-6, bands: [], channelBands: {}, onDelay: 0.5, offDelay: 2, deadband: 1, reAlarm: 0 },
     spur: { marginDb: 10, alpha: 1e-6, floorHalfWidth: 0, onDelay: 0.5, offDelay: 2, deadband: 3, reAlarm: 0 },
     mains: { frequency: 'auto', maxHarmonic: 40 },
+    coherent: {
+      enabled: true,
+      minCoherence: 0.5,
+      alpha: 1e-3,
+      minAverages: 8,
+      onDelay: 0.5,
+      offDelay: 2,
+      deadband: 0.1,
+      reAlarm: 0,
+    },
     recentWindow: 3,
     clipHold: 1,
     overrunHold: 1,
@@ -130,6 +156,39 @@ export function parseRules(value: unknown, where: string): RulesConfig {
       r.mains.frequency = m.frequency as MainsSetting;
     }
     num(m, 'maxHarmonic', 'mains', 1, 200, r.mains as unknown as Record<string, unknown>);
+  }
+  if (v.coherent !== undefined) {
+    const c = v.coherent as Record<string, unknown>;
+    if (typeof c !== 'object' || c === null || Array.isArray(c)) fail('coherent must be an object');
+    const known = [
+      'enabled',
+      'pairs',
+      'minCoherence',
+      'alpha',
+      'minAverages',
+      'onDelay',
+      'offDelay',
+      'deadband',
+      'reAlarm',
+    ];
+    for (const k of Object.keys(c))
+      if (!known.includes(k)) fail(`unknown key "coherent.${k}"; known keys: ${known.join(', ')}`);
+    const target = r.coherent as unknown as Record<string, unknown>;
+    for (const k of ['onDelay', 'offDelay', 'reAlarm']) num(c, k, 'coherent', 0, 86400, target);
+    num(c, 'deadband', 'coherent', 0, 0.5, target);
+    num(c, 'minCoherence', 'coherent', 0.05, 0.999, target);
+    num(c, 'alpha', 'coherent', 1e-15, 0.1, target);
+    num(c, 'minAverages', 'coherent', 2, 10000, target);
+    if (c.enabled !== undefined) {
+      if (typeof c.enabled !== 'boolean')
+        fail(`coherent.enabled must be true or false, got ${JSON.stringify(c.enabled)}`);
+      r.coherent.enabled = c.enabled as boolean;
+    }
+    if (c.pairs !== undefined) {
+      if (!Array.isArray(c.pairs) || !c.pairs.every((x) => typeof x === 'string' && /^[^:]+:[^:]+$/.test(x)))
+        fail('coherent.pairs must be a list of "A:B" strings (channel names or 0-based indices)');
+      r.coherent.pairs = [...(c.pairs as string[])];
+    }
   }
   num(v, 'recentWindow', '', 0.1, 600, r as unknown as Record<string, unknown>);
   num(v, 'clipHold', '', 0, 3600, r as unknown as Record<string, unknown>);

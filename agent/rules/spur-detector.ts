@@ -49,6 +49,8 @@ export class SpurDetector {
   readonly lineMask: Uint8Array;
   /** Per found line: 1 when it may count as mains evidence (see onSpectrum). */
   private readonly evidence = new Uint8Array(MAX_TRACKED_LINES);
+  /** Lines the finder found in the last spectrum (its line* arrays): the coherent rule's candidates. */
+  found = 0;
   /** New lines start shelved until this sample (see Detectors.shelve). */
   shelvedUntil = -1;
   private readonly timing: AlarmTiming;
@@ -112,11 +114,13 @@ export class SpurDetector {
     out: FloorlineEvent[],
     overloadFrom = -1,
   ): void {
+    this.found = 0;
     if (!(liveK > 0)) return;
     const ratio = this.thresholdRatio(liveK);
     const thresholdDb = powerRatioDb(ratio);
     const f = this.finder;
     const n = f.find(psd, ratio, this.medianToMean);
+    this.found = n;
     const rk = conservativeAverages(recent.equivalentAverages);
     if (rk !== this.cachedRecentK && rk > 0) {
       this.recentMedianToMean = chi2MeanMedian(2 * rk);

@@ -4,7 +4,7 @@ import type { SnapshotChannel, SpectrumSnapshot } from '../pipeline/types.ts';
 
 /** The fields of a pipeline snapshot the rules read; tests and the detection bench pass plain objects of this shape. */
 export type SnapshotLike = Pick<SpectrumSnapshot, 'sample' | 't' | 'wallTime' | 'settings' | 'frequencies'> &
-  Partial<Pick<SpectrumSnapshot, 'averaging'>> & {
+  Partial<Pick<SpectrumSnapshot, 'averaging' | 'coherence'>> & {
     channels: (Pick<SnapshotChannel, 'name' | 'unit' | 'psd' | 'segmentsUsed' | 'equivalentAverages'> &
       Partial<Pick<SnapshotChannel, 'lastSegmentSample'>>)[];
   };
