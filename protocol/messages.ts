@@ -225,6 +225,11 @@ export interface AgentStatus {
   mainsHz: number | null;
   /** Live low-frequency figures per channel (1/f fit, 0.1–10 Hz peak-to-peak); absent when the view is not wired. */
   lowFrequency?: LowFrequencyStatus[];
+  /**
+   * Live coherence of each channel pair the coherent rule judges: its bound (max of the rule's floor and the chance
+   * bound for the estimate's equivalent averages) and γ² at the lines both channels show; absent without pairs.
+   */
+  coherence?: CoherencePairStatus[];
   /** Wall-clock label of this status, ISO-8601 UTC. */
   wallTime: string;
 }
@@ -270,3 +275,12 @@ export type ServerMessage =
   | { type: 'error'; error: WireError };
 
 export type ServerMessageType = ServerMessage['type'];
+
+/** One channel pair in AgentStatus.coherence. */
+export interface CoherencePairStatus {
+  a: string;
+  b: string;
+  equivalentAverages: number;
+  threshold: number;
+  lines: { frequency: number; coherence: number; active: boolean }[];
+}

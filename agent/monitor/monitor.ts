@@ -376,6 +376,11 @@ export class Monitor implements PartSink {
     };
   }
 
+  private coherenceRows(): { coherence?: MonitorStatus['coherence'] } {
+    const rows = this.hook.detectors?.coherenceStatus() ?? [];
+    return rows.length ? { coherence: rows } : {};
+  }
+
   status(): MonitorStatus {
     const p = this.pipeline;
     const info = p.stream;
@@ -405,6 +410,7 @@ export class Monitor implements PartSink {
       bands: this.bands(),
       alarms: this.alarms(),
       ...(this.lowFrequency ? { lowFrequency: this.lowFrequency.status() } : {}),
+      ...this.coherenceRows(),
       ...(this.retention ? { disk: this.retention.status() } : {}),
     };
   }
