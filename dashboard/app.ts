@@ -26,6 +26,7 @@ import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
 import { logFrequencyCsv } from './log-frequency-csv.ts';
 import { channelColour, channelDash } from './colours.ts';
 import { densityLabel } from './units.ts';
+import { referralSuffix, type ReferredTo } from './referral.ts';
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
 
@@ -89,10 +90,19 @@ export class App {
   /** The spectrum panel shows the log-frequency view (exports follow what is shown). */
   private logfMode = false;
   private contextShownAt = -Infinity;
+  /** The budget form's total, referred to the amplifier input (unit/√Hz), or null when not shown. */
+  private budgetFloor: number | null = null;
 
   constructor(readonly link: Link) {
-    this.budget = new NoiseBudgetForm($('budget') as HTMLFormElement, $('nb-result'), (floor) =>
-      this.spectrum.setOverlays({ expectedFloor: floor }),
+    this.budget = new NoiseBudgetForm($('budget') as HTMLFormElement, $('nb-result'), (floor) => {
+      this.budgetFloor = floor;
+      this.showBudgetFloor();
+    });
+    $<HTMLInputElement>('cumulative').addEventListener('change', (e) =>
+      this.spectrum.setCumulative((e.target as HTMLInputElement).checked),
+    );
+    $<HTMLSelectElement>('refer').addEventListener('change', (e) =>
+      this.setReferral((e.target as HTMLSelectElement).value as ReferredTo),
     );
     this.controls = new Controls(link, {
       units: (u) => this.spectrum.setUnits(u),
@@ -215,6 +225,22 @@ export class App {
     this.spectraApplied++;
   }
 
+  /** Refers the spectrum, its overlays, the readout, the band table and the exports to the input or the ADC. */
+  setReferral(view: ReferredTo): void {
+    this.spectrum.setReferral(view);
+    $<HTMLSelectElement>('refer').value = view;
+    this.showBudgetFloor();
+    if (this.status) this.setStatus(this.status);
+  }
+
+  /** The budget is referred to the amplifier input; at the ADC it is that times the gain of its channel. */
+  private showBudgetFloor(): void {
+    const f = this.budgetFloor;
+    const ch = this.context?.channels.find((c) => c.front?.budget) ?? this.context?.channels[0];
+    const gain = this.spectrum.referredTo === 'adc' ? (ch?.front?.gain ?? 1) : 1;
+    this.spectrum.setOverlays({ expectedFloor: f === null ? null : f * gain });
+  }
+
   /** Linear bins (Welch) or the log-frequency view in the spectrum panel; alarms come from the Welch rules either way. */
   setSpectrumMode(logf: boolean): void {
     this.logfMode = logf;
@@ -237,6 +263,10 @@ export class App {
     if (ctx.channels.some((c) => c.name === keepCh)) tl.value = keepCh;
     this.controls.showContext(ctx);
     this.budget.sampleRate = ctx.settings.sampleRate;
+    this.budget.prefill(ctx.channels.find((c) => c.front?.budget)?.front);
+    const gainKnown = ctx.channels.some((c) => c.front?.gain !== undefined);
+    $('refer-label').hidden = !gainKnown;
+    $<HTMLSelectElement>('refer').value = this.spectrum.referredTo;
     this.budget.recompute();
     $('spectral-context').textContent = contextLine(ctx, null);
     if (this.pendingBaseline) {
@@ -294,7 +324,18 @@ export class App {
   private setStatus(s: AgentStatus): void {
     this.status = s;
     this.health.update(s);
-    this.bands.update(s.bands, new Map(s.channels.map((c) => [c.name, c.unit])), s.spectrumSample);
+    // Band figures are amplitudes: referred by the square root of the PSD factor, the unit naming the point.
+    const refer = new Map<string, { unit: string; amplitude: number }>();
+    const factors = this.spectrum.psdFactors();
+    const view = this.spectrum.referredTo;
+    this.context?.channels.forEach((c, i) =>
+      refer.set(c.name, { unit: c.unit + referralSuffix(c.front, view), amplitude: Math.sqrt(factors[i] ?? 1) }),
+    );
+    this.bands.update(
+      s.bands,
+      new Map(s.channels.map((c) => [c.name, refer.get(c.name) ?? { unit: c.unit, amplitude: 1 }])),
+      s.spectrumSample,
+    );
     this.spectrum.setBands(s.bands);
     this.spectrum.setMains(s.mainsHz);
     this.events.markAcknowledged(s.alarms);
@@ -462,7 +503,10 @@ export class App {
     if (!this.context || !f) return;
     download(
       `floorline-spectrum-${f.sample}.csv`,
-      spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? ''),
+      spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? '', {
+        view: this.spectrum.referredTo,
+        factors: this.spectrum.psdFactors(),
+      }),
       'text/csv',
     );
   }
@@ -482,19 +526,14 @@ export class App {
     const ctx = this.context;
     if (!c || !ctx) return;
     const legend = ctx.channels.map((ch, i) => ({
-      label: `${ch.name} (${ch.unit})`,
+      label: `${ch.name} (${ch.unit}${referralSuffix(ch.front, this.spectrum.referredTo)})`,
       colour: channelColour(i),
       dash: channelDash(i),
     }));
     const when = this.status?.wallTime ? ` · ${this.status.wallTime}` : '';
     download(
       `floorline-spectrum-${f?.sample ?? 0}.png`,
-      await spectrumPng(
-        c,
-        contextLine(ctx, f) + when,
-        legend,
-        densityLabel(this.spectrum.unitChoice, ctx.channels[0]?.unit ?? 'V'),
-      ),
+      await spectrumPng(c, contextLine(ctx, f) + when, legend, this.spectrum.densityLabel()),
     );
   }
 }

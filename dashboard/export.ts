@@ -3,6 +3,7 @@
 import type { SpectrumContext } from '../protocol/messages.ts';
 import type { DecodedFrame } from '../protocol/frame.ts';
 import { densityLabel, fromPsd, type DensityUnit } from './units.ts';
+import { referralSuffix, type ReferredTo } from './referral.ts';
 
 function averagingText(ctx: SpectrumContext): string {
   const a = ctx.averaging;
@@ -22,7 +23,13 @@ export function contextLine(ctx: SpectrumContext, f: DecodedFrame | null): strin
 }
 
 /** CSV text; numbers via String() (shortest round-trip, '.' decimal whatever the locale). */
-export function spectrumCsv(ctx: SpectrumContext, f: DecodedFrame, units: DensityUnit, wallTime: string): string {
+export function spectrumCsv(
+  ctx: SpectrumContext,
+  f: DecodedFrame,
+  units: DensityUnit,
+  wallTime: string,
+  refer: { view: ReferredTo; factors: readonly number[] } = { view: 'adc', factors: [] },
+): string {
   const s = ctx.settings;
   const lines = [
     '# floorline spectrum',
@@ -41,12 +48,13 @@ export function spectrumCsv(ctx: SpectrumContext, f: DecodedFrame, units: Densit
     `# equivalent_averages,${Array.from(f.averages).join(',')}`,
     `# scaling,one-sided density (DC and Nyquist not doubled)`,
     ['frequency', ...ctx.channels.map((c) => c.name)].join(','),
-    ['Hz', ...ctx.channels.map((c) => densityLabel(units, c.unit))].join(','),
+    `# referred_to,${ctx.channels.some((c) => c.front?.gain !== undefined) ? refer.view : 'as received'}`,
+    ['Hz', ...ctx.channels.map((c) => densityLabel(units, c.unit) + referralSuffix(c.front, refer.view))].join(','),
   ];
   for (let k = 0; k < f.length; k++) {
     const row = [String(k * f.binHz)];
     for (let c = 0; c < f.channels; c++) {
-      const v = fromPsd(units, f.values[c][k]);
+      const v = fromPsd(units, f.values[c][k] * (refer.factors[c] ?? 1));
       row.push(v === null ? '' : String(v));
     }
     lines.push(row.join(','));

@@ -14,7 +14,7 @@ export function isLogAxis(u: DensityUnit): boolean {
   return u !== 'dbv';
 }
 
-/** Converts one PSD value (unit²/Hz) for display; zero and negative powers become null (gaps on a log axis). */
+/** Converts one PSD value (unit²/Hz, already referred) for display; zero and negative powers become null (gaps on a log axis). */
 export function fromPsd(u: DensityUnit, p: number): number | null {
   if (!(p > 0)) return null;
   if (u === 'asd') return Math.sqrt(p);
@@ -26,21 +26,21 @@ export function fromPsd(u: DensityUnit, p: number): number | null {
  * Converts psd[from..from+n) into out[0..n). A hot path (4 × 8193 values at 10 updates/s): indexed loop, no
  * allocation; non-positive values become NaN, which uPlot draws as a gap.
  */
-export function convertInto(u: DensityUnit, psd: ArrayLike<number>, from: number, out: Float64Array): void {
+export function convertInto(u: DensityUnit, psd: ArrayLike<number>, from: number, out: Float64Array, factor = 1): void {
   const n = out.length;
   if (u === 'asd')
     for (let i = 0; i < n; i++) {
-      const p = psd[from + i];
+      const p = psd[from + i] * factor;
       out[i] = p > 0 ? Math.sqrt(p) : NaN;
     }
   else if (u === 'psd')
     for (let i = 0; i < n; i++) {
-      const p = psd[from + i];
+      const p = psd[from + i] * factor;
       out[i] = p > 0 ? p : NaN;
     }
   else
     for (let i = 0; i < n; i++) {
-      const p = psd[from + i];
+      const p = psd[from + i] * factor;
       out[i] = p > 0 ? powerRatioDb(p) : NaN;
     }
 }

@@ -1,5 +1,6 @@
 // Every message between the agent and the dashboard, as one discriminated union per direction (on `type`).
 // Pure types plus a few constants: the dashboard bundle imports this module, so no Node or DOM here.
+import type { ChannelFront } from './front-end.ts';
 import type { FloorlineEvent, EventRule } from './events.ts';
 import type { AnalysisSettings, AveragingSpec } from './settings.ts';
 import type { StreamInfo, SourceKind } from './stream.ts';
@@ -115,7 +116,8 @@ export interface SpectrumContext {
   enbwHz: number;
   binHz: number;
   bins: number;
-  channels: { name: string; unit: string }[];
+  /** `front` where the gain, budget or converter of the channel is known (protocol/front-end.ts). */
+  channels: { name: string; unit: string; front?: ChannelFront }[];
   /** Mains fundamental when the context was made, Hz; later values come with each status. */
   mainsHz: number | null;
 }

@@ -1,6 +1,8 @@
 // The contract between sources (serial board, replay, simulator) and the pipeline.
 // Time is sample time: a block carries the index of its first sample; wall time is only a label.
 
+import type { BudgetParameters } from './front-end.ts';
+
 export interface ChannelInfo {
   /** Stable channel name, e.g. "ch0" or a name from the board descriptor. */
   name: string;
@@ -12,6 +14,8 @@ export interface ChannelInfo {
   fullScaleCounts: number;
   /** The rig config's calibration, once applied (recordings carry it so a replay does not apply it twice). */
   calibration?: ChannelCalibration;
+  /** What a recording's sidecar says of the front end (gain, noise budget, converter step), if anything. */
+  frontEnd?: { gain?: number; budget?: BudgetParameters; lsb?: number };
 }
 
 /** Per-channel calibration from a rig config, as applied to the samples. */

@@ -3,6 +3,8 @@
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
+import { channelFrontOf } from './channel-front.ts';
+import type { StreamInfo } from '../../protocol/stream.ts';
 import { WIRE_PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
 import { parseClientMessage } from './validate.ts';
 import type { ServerBackend, ServerSnapshot } from './backend.ts';
@@ -54,7 +56,7 @@ function requestUrl(req: IncomingMessage): URL | null {
   }
 }
 
-function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): SpectrumContext {
+function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null, info: StreamInfo | null): SpectrumContext {
   return {
     id,
     settings: s.settings,
@@ -63,7 +65,10 @@ function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null): Spect
     enbwHz: s.enbwHz,
     binHz: s.binHz,
     bins: s.channels[0]?.psd.length ?? 0,
-    channels: s.channels.map((c) => ({ name: c.name, unit: c.unit })),
+    channels: s.channels.map((c, i) => {
+      const front = info?.channels[i] ? channelFrontOf(info.channels[i]) : undefined;
+      return { name: c.name, unit: c.unit, ...(front ? { front } : {}) };
+    }),
     mainsHz,
   };
 }
@@ -125,7 +130,7 @@ export async function startServer(
     ]);
     if (key === contextKey) return false;
     contextKey = key;
-    context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz());
+    context = contextOf(s, (context?.id ?? 0) + 1, backend.mainsHz(), backend.streamInfo());
     hub.json({ type: 'context', context });
     const waiting = contextWaiters;
     contextWaiters = [];

@@ -48,6 +48,15 @@ function channelInfo(info: WavInfo): ChannelInfo[] {
       scale: 1,
       fullScaleCounts: fullScale,
       ...(meta?.calibration ? { calibration: meta.calibration } : {}),
+      ...(meta && (meta.gain !== undefined || meta.budget !== undefined)
+        ? {
+            frontEnd: {
+              ...(meta.gain !== undefined && meta.gain > 0 ? { gain: meta.gain } : {}),
+              ...(meta.budget ? { budget: meta.budget } : {}),
+              ...(meta.scale !== undefined && meta.fullScaleCounts !== undefined ? { lsb: meta.scale } : {}),
+            },
+          }
+        : {}),
     };
   });
 }

@@ -15,7 +15,12 @@ export class BandTable {
 
   constructor(private readonly body: HTMLTableSectionElement) {}
 
-  update(bands: BandRow[], units: Map<string, string>, spectrumSample: number | null): void {
+  /** `units` per channel: the unit label and the factor on amplitudes that refers them to the point shown. */
+  update(
+    bands: BandRow[],
+    units: Map<string, { unit: string; amplitude: number }>,
+    spectrumSample: number | null,
+  ): void {
     this.body.dataset.sample = spectrumSample === null ? '' : String(spectrumSample);
     const keep = new Set<string>();
     for (const b of bands) {
@@ -32,15 +37,16 @@ export class BandTable {
         this.body.appendChild(tr);
         this.rows.set(key, tr);
       }
-      const unit = units.get(b.channel) ?? '';
+      const { unit, amplitude: k } = units.get(b.channel) ?? { unit: '', amplitude: 1 };
+      const scaled = (v: number | null): number | null => (v === null ? null : v * k);
       const cells = [
         b.channel,
         `${short(b.low)}–${short(b.high)}`,
-        si(b.rms, unit),
-        si(b.baselineRms, unit),
+        si(b.rms * k, unit),
+        si(scaled(b.baselineRms), unit),
         fixed(b.deltaDb, 2),
         fixed(b.thresholdDb, 2),
-        si(b.floorDensity, `${unit}/√Hz`),
+        si(scaled(b.floorDensity), `${unit}/√Hz`),
         STATE_LABEL[b.state],
       ];
       // Δ is the floor with narrow lines left out: when the whole-band RMS says otherwise, the row says so itself.
@@ -51,8 +57,8 @@ export class BandTable {
       if (b.state === 'not-judged') cells[7] = 'partly not judged: lines cover the band';
       for (let i = 0; i < 8; i++) if (tr.cells[i].textContent !== cells[i]) tr.cells[i].textContent = cells[i];
       // Exact figures for tests and for copying: the cell shows 3 significant figures.
-      tr.cells[2].dataset.value = String(b.rms);
-      tr.cells[3].dataset.value = b.baselineRms === null ? '' : String(b.baselineRms);
+      tr.cells[2].dataset.value = String(b.rms * k);
+      tr.cells[3].dataset.value = b.baselineRms === null ? '' : String(b.baselineRms * k);
       tr.className = b.state === 'raised' ? 'raised' : '';
       tr.cells[7].classList.toggle('ok', b.state === 'ok');
     }

@@ -5,6 +5,7 @@
 import { quantizationDensity } from '../../dsp/noise-theory.ts';
 import { budgetTerms, type BudgetTerms } from '../../dsp/measure/noise-budget.ts';
 import { si } from '../format.ts';
+import type { ChannelFront } from '../../protocol/front-end.ts';
 
 export interface BudgetInputs {
   ohms: number;
@@ -39,6 +40,31 @@ export class NoiseBudgetForm {
   }
 
   sampleRate = 0;
+  private prefilled = false;
+
+  /**
+   * Fills the form from a channel's front end (rig config or recording sidecar) and shows the overlay: the budget
+   * terms, the gain, and the converter from its step (bits = log2(2·full scale / step), span = step · 2^bits).
+   */
+  prefill(front: ChannelFront | undefined): void {
+    const b = front?.budget;
+    if (!b || this.prefilled) return; // once: a later settings change keeps what the user typed
+    this.prefilled = true;
+    const set = (id: string, v: number): void => {
+      (this.form.querySelector(`#${id}`) as HTMLInputElement).value = String(v);
+    };
+    set('nb-r', b.sourceOhms);
+    set('nb-t', b.kelvin);
+    set('nb-en', b.amplifierDensity * 1e9);
+    set('nb-in', b.amplifierCurrent * 1e12);
+    if (front.gain !== undefined) set('nb-gain', front.gain);
+    if (front.lsb !== undefined && front.fullScale !== undefined) {
+      const bits = Math.round(Math.log2((2 * front.fullScale) / front.lsb));
+      set('nb-bits', bits);
+      set('nb-span', front.lsb * 2 ** bits);
+    }
+    (this.form.querySelector('#nb-show') as HTMLInputElement).checked = true;
+  }
 
   private read(id: string): number {
     return Number((this.form.querySelector(`#${id}`) as HTMLInputElement).value);

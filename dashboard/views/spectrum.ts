@@ -11,6 +11,8 @@ import { channelColour, channelDash, withAlpha } from '../colours.ts';
 import { fixedDensityRange, paddedRange } from './y-range.ts';
 import { si, hz, short } from '../format.ts';
 import { powerRatioDb } from '../../dsp/units.ts';
+import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
+import { psdFactor, referralSuffix, receivedAt, type ReferredTo } from '../referral.ts';
 
 export interface SpectrumOverlays {
   maxHold: boolean;
@@ -61,6 +63,14 @@ export class SpectrumView {
   /** Follow the data on the y axis instead of the fixed range from baseline and thresholds. */
   private followY = false;
   private drawPending = false;
+  /** The point densities are shown at, and per channel the factor on a received PSD that takes them there. */
+  private view: ReferredTo = 'adc';
+  private factor: number[] = [];
+  /** Cumulative RMS per channel (√Σ psd·Δf from the lowest shown bin up, as analyze --cumulative), when shown. */
+  private cumOn = false;
+  private cum: Float64Array[] = [];
+  private scratch = new Float64Array(0);
+  private scratchOut = new Float64Array(0);
   overlays: SpectrumOverlays = { maxHold: false, baseline: true, mains: true, expectedFloor: null };
 
   constructor(
@@ -110,13 +120,46 @@ export class SpectrumView {
     this.heldPsd = Array.from({ length: C }, () => new Float64Array(n));
     this.thr = Array.from({ length: C }, () => new Array<number | null>(n).fill(null));
     this.floor = new Float64Array(n).fill(NaN);
+    this.cum = mk();
+    this.scratch = new Float64Array(ctx.bins);
+    this.scratchOut = new Float64Array(ctx.bins);
     try {
       this.lobeHalfWidth = windowMainLobeHalfWidth(ctx.settings.window);
     } catch {
       this.lobeHalfWidth = 2;
     }
+    this.view = receivedAt(ctx.channels[0]?.front);
+    this.factor = ctx.channels.map((c) => psdFactor(c.front, this.view));
     this.latest = null;
     this.rebuild();
+  }
+
+  get referredTo(): ReferredTo {
+    return this.view;
+  }
+
+  /** Per channel, the factor on a received PSD for the point shown (exports and the band table use it). */
+  psdFactors(): readonly number[] {
+    return this.factor;
+  }
+
+  /** The density label of the first channel at the point shown, e.g. "V/√Hz (input)". */
+  densityLabel(): string {
+    const ch = this.ctx?.channels[0];
+    return densityLabel(this.units, ch?.unit ?? 'V') + referralSuffix(ch?.front, this.view);
+  }
+
+  /** Refers every trace to the amplifier input or to the ADC. */
+  setReferral(view: ReferredTo): void {
+    if (!this.ctx || view === this.view) return;
+    this.view = view;
+    this.factor = this.ctx.channels.map((c) => psdFactor(c.front, view));
+    this.recomputeOverlays();
+    if (this.latest) this.convertLive(this.latest);
+    for (let c = 0; c < this.held.length; c++)
+      convertInto(this.units, this.heldPsd[c], 0, this.held[c], this.factor[c]);
+    this.rebuild();
+    if (this.cursorIdx !== null) this.showReadout(this.cursorIdx);
   }
 
   setUnits(u: DensityUnit): void {
@@ -124,7 +167,7 @@ export class SpectrumView {
     this.units = u;
     this.recomputeOverlays();
     if (this.latest) this.convertLive(this.latest);
-    for (let c = 0; c < this.held.length; c++) convertInto(u, this.heldPsd[c], 0, this.held[c]);
+    for (let c = 0; c < this.held.length; c++) convertInto(u, this.heldPsd[c], 0, this.held[c], this.factor[c]);
     this.rebuild();
   }
 
@@ -211,10 +254,12 @@ export class SpectrumView {
       const src = f.values[c];
       const hp = this.heldPsd[c];
       const hd = this.held[c];
+      const k = this.factor[c];
       for (let i = 0; i < n; i++) {
-        const p = src[i + 1];
-        if (p > hp[i]) {
-          hp[i] = p;
+        const raw = src[i + 1];
+        if (raw > hp[i]) {
+          hp[i] = raw;
+          const p = raw * k;
           hd[i] = u === 'asd' ? Math.sqrt(p) : u === 'psd' ? p : powerRatioDb(p);
         }
       }
@@ -224,7 +269,32 @@ export class SpectrumView {
   }
 
   private convertLive(f: DecodedFrame): void {
-    for (let c = 0; c < f.channels; c++) convertInto(this.units, f.values[c], 1, this.live[c]);
+    for (let c = 0; c < f.channels; c++) convertInto(this.units, f.values[c], 1, this.live[c], this.factor[c]);
+    if (this.cumOn) this.computeCumulative(f);
+  }
+
+  /** The cumulative RMS of the frame at the point shown, in unit rms; its last value is the total RMS. */
+  private computeCumulative(f: DecodedFrame): void {
+    for (let c = 0; c < f.channels; c++) {
+      const k = this.factor[c];
+      const src = f.values[c];
+      for (let i = 0; i < this.scratch.length; i++) this.scratch[i] = src[i] * k;
+      cumulativeRms(this.scratch, f.binHz, 1, this.scratchOut);
+      this.cum[c].set(this.scratchOut.subarray(1, 1 + this.cum[c].length));
+    }
+  }
+
+  /** Shows or hides the cumulative RMS traces (on their own y axis). */
+  setCumulative(on: boolean): void {
+    if (on === this.cumOn) return;
+    this.cumOn = on;
+    if (on && this.latest) this.computeCumulative(this.latest);
+    this.rebuild();
+  }
+
+  /** The cumulative RMS shown for a channel (tests and exports read it), or null when hidden. */
+  cumulative(c: number): Float64Array | null {
+    return this.cumOn ? (this.cum[c] ?? null) : null;
   }
 
   private recomputeOverlays(): void {
@@ -239,14 +309,14 @@ export class SpectrumView {
         out.fill(NaN);
         continue;
       }
-      convertInto(u, b.values[c], 1, out);
+      convertInto(u, b.values[c], 1, out, this.factor[c]);
       const name = this.ctx!.channels[c].name;
       for (const row of this.bands) {
         if (row.channel !== name || row.thresholdDb === null) continue;
         const gain = 10 ** (row.thresholdDb / 10);
         for (let i = 0; i < n; i++) {
           const fq = this.x[i];
-          if (fq >= row.low && fq <= row.high) t[i] = fromPsd(u, b.values[c][i + 1] * gain);
+          if (fq >= row.low && fq <= row.high) t[i] = fromPsd(u, b.values[c][i + 1] * gain * this.factor[c]);
         }
       }
     }
@@ -284,7 +354,7 @@ export class SpectrumView {
     if (!ctx) return;
     const C = ctx.channels.length;
     const unit = ctx.channels[0]?.unit ?? 'V';
-    const label = densityLabel(this.units, unit);
+    const label = this.densityLabel();
     const series: uPlot.Series[] = [{ label: 'f', value: (_u, v) => (v == null ? '—' : hz(v)) }];
     const fmt = (_u: uPlot, v: number | null) =>
       v == null || !Number.isFinite(v) ? '—' : this.units === 'dbv' ? `${v.toFixed(1)}` : si(v, '');
@@ -334,6 +404,16 @@ export class SpectrumView {
       show: this.overlays.expectedFloor !== null,
       value: fmt,
     });
+    for (let c = 0; c < C; c++)
+      series.push({
+        label: `${ctx.channels[c].name} cumulative RMS`,
+        scale: 'rms',
+        stroke: channelColour(c),
+        dash: [2, 3],
+        width: 1.5,
+        show: this.cumOn,
+        value: (_u, v) => (v == null || !Number.isFinite(v) ? '—' : si(v, '')),
+      });
     this.data = [
       this.x,
       ...this.live,
@@ -341,6 +421,7 @@ export class SpectrumView {
       ...this.base,
       ...this.thr,
       this.floor,
+      ...this.cum,
     ] as unknown as uPlot.AlignedData;
     const log = isLogAxis(this.units);
     const opts: uPlot.Options = {
@@ -359,6 +440,7 @@ export class SpectrumView {
         },
         // y is never auto-ranged per frame: it holds the range set by resetZoom (fixed, or the data on request).
         y: { ...(log ? { distr: 3, log: 10 } : { distr: 1 }), auto: false, range: () => this.yRange() },
+        rms: { distr: 3, log: 10 },
       },
       axes: [
         {
@@ -374,6 +456,16 @@ export class SpectrumView {
           values: (_u, vals) => vals.map((v) => (v == null ? '' : log ? si(v, '', 2) : v.toFixed(0))),
           stroke: '#5b6670',
           grid: { stroke: '#e6e1d6' },
+        },
+        {
+          scale: 'rms',
+          side: 1,
+          show: this.cumOn,
+          label: `${ctx.channels[0]?.unit ?? 'V'} rms${referralSuffix(ctx.channels[0]?.front, this.view)}, cumulative`,
+          size: 70,
+          values: (_u, vals) => vals.map((v) => (v == null ? '' : si(v, '', 2))),
+          stroke: '#5b6670',
+          grid: { show: false },
         },
       ],
       series,
@@ -442,24 +534,29 @@ export class SpectrumView {
     const f = this.latest;
     if (!ctx || !f || idx < 0 || idx >= this.x.length) return;
     const unit = ctx.channels[0]?.unit ?? 'V';
+    const where = referralSuffix(ctx.channels[0]?.front, this.view);
     const parts = [`f = ${hz(this.x[idx])}`];
     const h = Math.ceil(this.lobeHalfWidth);
     for (let c = 0; c < f.channels; c++) {
-      const psd = Float64Array.from(f.values[c]); // dsp/tone.ts reads float64; a copy only when the cursor moves
+      // dsp/tone.ts reads float64; a copy only when the cursor moves, referred to the point shown
+      const k = this.factor[c];
+      const psd = Float64Array.from(f.values[c], (v) => v * k);
       const bin = idx + 1;
       const d = fromPsd(this.units, psd[bin]);
       const dens =
         d === null
           ? '—'
           : this.units === 'dbv'
-            ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}`
-            : si(d, densityLabel(this.units, unit));
+            ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}${where}`
+            : si(d, densityLabel(this.units, unit)) + where;
       // Line level: the largest bin within one main lobe of the cursor, its lobe's power less the local floor's
       // share (dsp/tone.ts lineAboveFloor, the rule the spur and mains events use; floor = local median as there).
       const peak = peakBin(psd, Math.max(1, bin - h), Math.min(psd.length - 1, bin + h));
       const floor = new RunningMedian(psd.length, Math.max(8, 4 * h)).at(psd, peak);
       const tone = lineAboveFloor(psd, ctx.binHz, this.lobeHalfWidth, peak, floor);
-      parts.push(`${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)} at ${hz(tone.frequency)}`);
+      parts.push(
+        `${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)}${where} at ${hz(tone.frequency)}`,
+      );
     }
     this.readout.textContent = parts.join(' · ');
   }
