@@ -12,6 +12,7 @@ import { fixedDensityRange, paddedRange } from './y-range.ts';
 import { si, hz, short } from '../format.ts';
 import { powerRatioDb } from '../../dsp/units.ts';
 import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
+import { noiseFigureFromTotal } from '../../dsp/measure/noise-figure.ts';
 import { psdFactor, referralSuffix, receivedAt, type ReferredTo } from '../referral.ts';
 
 export interface SpectrumOverlays {
@@ -555,10 +556,23 @@ export class SpectrumView {
       const floor = new RunningMedian(psd.length, Math.max(8, 4 * h)).at(psd, peak);
       const tone = lineAboveFloor(psd, ctx.binHz, this.lobeHalfWidth, peak, floor);
       parts.push(
-        `${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)}${where} at ${hz(tone.frequency)}`,
+        `${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)}${where} at ${hz(tone.frequency)}${this.noiseFigureText(c, floor)}`,
       );
     }
     this.readout.textContent = parts.join(' · ');
+  }
+
+  /**
+   * NF and T_e against the budget's source resistance and temperature, from the local floor at the cursor referred
+   * to the amplifier input (dsp/measure/noise-figure.ts, as analyze): empty without a budget and a gain.
+   */
+  private noiseFigureText(c: number, floorAtView: number): string {
+    const front = this.ctx?.channels[c]?.front;
+    const b = front?.budget;
+    if (!b || front.gain === undefined || !(b.sourceOhms > 0) || !(floorAtView > 0)) return '';
+    const inputPsd = (floorAtView * psdFactor(front, 'input')) / this.factor[c];
+    const nf = noiseFigureFromTotal(Math.sqrt(inputPsd), b.sourceOhms, b.kelvin);
+    return `, NF ${nf.figureDb.toFixed(2)} dB, Tₑ ${si(nf.kelvin, 'K')} (floor re ${si(b.sourceOhms, 'Ω')} at ${b.kelvin} K)`;
   }
 
   private onKey(e: KeyboardEvent): void {

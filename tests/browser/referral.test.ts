@@ -143,4 +143,18 @@ print(json.dumps({'cum': c.tolist(), 'total': float(np.sqrt(np.sum(p[1:]) * d['b
     await box.uncheck();
     await waitUntil(page, 'window.floorline.spectrum.cumulative(0) === null', 30_000);
   }, 120_000);
+
+  it('shows NF and T_e in the cursor readout, matching the scipy floor against the Johnson noise of the source', async () => {
+    // Cursor at mid-spectrum (2 kHz: the demo's white floor, no lines there) with the keyboard.
+    await page.focus('#spectrum');
+    await page.keyboard.press('ArrowRight');
+    await waitUntil(page, `document.querySelector('#readout').textContent.includes('NF ')`, 30_000);
+    const text = (await page.textContent('#readout'))!;
+    const nf = Number(/bridge: [^·]*NF (-?[0-9.]+) dB/.exec(text)?.[1]);
+    // NF = 10·log10(e_meas² / 4kTR) for a measurement that includes the source (common practice), with e_meas from
+    // scipy.signal.welch of 0–18 s ÷ gain 100 and 4kTR of 350 Ω at 296 K (Johnson 1928, Nyquist 1928).
+    const e = scipyBridgeAsdAt1k() / 100;
+    const expected = 10 * Math.log10((e * e) / (4 * 1.380649e-23 * 296 * 350));
+    expect(Math.abs(nf - expected)).toBeLessThan(1);
+  }, 120_000);
 });
