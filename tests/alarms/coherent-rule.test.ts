@@ -30,6 +30,8 @@ tone = lambda: 1e-4 * np.sin(2 * np.pi * 73.1 * t + np.cumsum(0.03 * rng.standar
 c = tone()
 wavfile.write(args[0] + "/common.wav", fs, np.stack([c + noise(), 0.5 * c + noise()], 1).astype(np.float32))
 wavfile.write(args[0] + "/indep.wav", fs, np.stack([tone() + noise(), tone() + noise()], 1).astype(np.float32))
+on = (t < 12).astype(float)
+wavfile.write(args[0] + "/stops.wav", fs, np.stack([on * c + noise(), 0.5 * on * c + noise()], 1).astype(np.float32))
 wavfile.write(args[0] + "/one.wav", fs, np.stack([tone() + noise(), noise()], 1).astype(np.float32))
 result = True
 `;
@@ -125,6 +127,25 @@ describe('coherent rule', () => {
     expect(coherent(off)).toEqual([]);
     expect(strip(off)).toEqual(strip(a.filter((e) => e.rule !== 'coherent')));
   }, 180_000);
+});
+
+describe('coherent clear', () => {
+  it('clears after the common line stops, with the peak and the duration', () => {
+    // A rolling average of 20 segments (5.4 s) forgets the line soon after it stops at 12 s (numpy's "stops.wav").
+    const events = coherent(replayEvents('stops.wav', 'stops', '--average', 'rolling:20'));
+    const raised = events.find((e) => e.state === 'raised')!;
+    const cleared = events.find((e) => e.state === 'cleared')!;
+    expect(cleared.sample).toBeGreaterThan(12 * 8000);
+    expect(cleared.sample).toBeLessThan(12 * 8000 + 10 * 8000);
+    expect(cleared.frequency).toBe(raised.frequency); // the clear carries the frequency it was raised with
+    expect(cleared.durationSeconds).toBeCloseTo((cleared.sample - raised.sample) / 8000, 5);
+    expect(cleared.peakCoherence!).toBeGreaterThanOrEqual(raised.coherence!);
+    expect(cleared.coherence!).toBeLessThan(0.5);
+    expect(cleared.incident).toBe(raised.incident);
+    // The detail quotes the event's own numbers.
+    expect(cleared.detail).toContain(`peak γ² ${cleared.peakCoherence} at sample ${cleared.peakSample}`);
+    expect(cleared.detail).toContain(`after ${cleared.durationSeconds} s`);
+  }, 120_000);
 });
 
 describe('coherence in status', () => {
