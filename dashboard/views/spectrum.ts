@@ -441,7 +441,14 @@ export class SpectrumView {
         },
         // y is never auto-ranged per frame: it holds the range set by resetZoom (fixed, or the data on request).
         y: { ...(log ? { distr: 3, log: 10 } : { distr: 1 }), auto: false, range: () => this.yRange() },
-        rms: { distr: 3, log: 10 },
+        // Its own range, always positive and finite: with the trace hidden its data are all NaN, and a log scale
+        // auto-ranged on no data makes uPlot's log splits run away ("Invalid array length").
+        rms: {
+          distr: 3,
+          log: 10,
+          range: (_u, min, max) =>
+            Number.isFinite(min) && Number.isFinite(max) && min > 0 && max >= min ? [min / 2, max * 2] : [1e-9, 1e-3],
+        },
       },
       axes: [
         {

@@ -38,6 +38,10 @@ export function printStreamHeader(info: StreamInfo, p: Pipeline, frames?: number
 }
 
 export function describeEvent(e: FloorlineEvent): string {
+  // An operator note has no rule, state or channel: print its text (and incident) instead of "undefined".
+  const note = e as FloorlineEvent & { text?: string };
+  if ((e.kind as string) === 'note')
+    return `t=${e.t.toFixed(3)} s  sample ${e.sample}  note${e.incident ? ` on ${e.incident}` : ''}  ${note.text ?? ''}`;
   const where = e.band
     ? ` ${e.band[0]}–${e.band[1]} Hz`
     : e.frequency !== undefined
