@@ -3,22 +3,20 @@
 // retention). The monitor hands the writer its counters since the process began; each run keeps them counted from
 // its own start, the latest reading of every minute of sample time.
 import type { StoreDb } from './open-store.ts';
+import type { AgentStatus } from '../../protocol/messages.ts';
 import { boundSample, type TimeBound } from './time-bound.ts';
 
-export interface HealthCounters {
+/** The status counters the store keeps (same names and meaning as in /api/status), and what status lacks. */
+export type HealthCounters = Pick<
+  AgentStatus,
+  'samples' | 'gaps' | 'lostSamples' | 'crcErrors' | 'syncErrors' | 'nonfiniteFrames' | 'droppedBlocks'
+> & {
   /** Newest sample delivered (-1 before any). */
   lastSample: number;
-  samples: number;
-  gaps: number;
-  lostSamples: number;
-  crcErrors: number;
-  syncErrors: number;
-  nonfiniteFrames: number;
-  droppedBlocks: number;
   droppedSamples: number;
   clippedSamples: number;
   deletedFiles: number;
-}
+};
 
 /** The counted fields, in the table's column order. */
 export const HEALTH_FIELDS = [
