@@ -7,7 +7,8 @@ export type Request = ClientMessage extends infer M ? (M extends ClientMessage ?
 export interface LinkHandlers {
   json(m: ServerMessage): void;
   binary(buf: ArrayBuffer): void;
-  state(s: 'up' | 'down' | 'connecting'): void;
+  /** `closed`: the agent's close reason when it dropped this page (e.g. too slow), so the page can say why. */
+  state(s: 'up' | 'down' | 'connecting', closed?: { code: number; reason: string }): void;
 }
 
 export class Link {
@@ -42,11 +43,12 @@ export class Link {
         this.on.json(m);
       } else this.on.binary(ev.data as ArrayBuffer);
     };
-    ws.onclose = () => {
+    ws.onclose = (ev: CloseEvent) => {
       this.ws = null;
-      for (const p of this.pending.values()) p.reject(new Error('connection to the agent lost'));
+      const why = ev.reason ? ` (${ev.code}: ${ev.reason})` : '';
+      for (const p of this.pending.values()) p.reject(new Error(`connection to the agent lost${why}`));
       this.pending.clear();
-      this.on.state('down');
+      this.on.state('down', { code: ev.code, reason: ev.reason });
       if (this.stopped) return;
       setTimeout(() => this.connect(), this.backoff);
       this.backoff = Math.min(2000, this.backoff * 2); // a local agent: retry at least every 2 s

@@ -12,8 +12,10 @@ let app: App | null = null;
 const link = new Link(agentSocketUrl(location), {
   json: (m) => app?.onJson(m),
   binary: (b) => app?.onBinary(b),
-  state: (s) => {
-    linkState.textContent = s === 'up' ? 'connected' : s === 'down' ? 'agent unreachable — retrying' : 'connecting…';
+  state: (s, closed) => {
+    if (closed) document.body.dataset.lastClose = `${closed.code} ${closed.reason}`.trim();
+    const why = closed?.reason ? `closed by the agent: ${closed.reason} — retrying` : 'agent unreachable — retrying';
+    linkState.textContent = s === 'up' ? 'connected' : s === 'down' ? why : 'connecting…';
     linkState.className = `link-state ${s}`;
     document.body.dataset.link = s;
   },

@@ -222,7 +222,8 @@ export interface AgentStatus {
   spectrumSample: number | null;
   bands: BandRow[];
   alarms: AlarmRow[];
-  clients: { connected: number; framesSent: number; framesSkipped: number };
+  /** `dropped`: clients the agent closed (too slow, flooding, no heartbeat answer), each also logged with its reason. */
+  clients: { connected: number; framesSent: number; framesSkipped: number; dropped: number };
   /** Mains fundamental for the harmonic markers (configured or measured), Hz; null when unknown. */
   mainsHz: number | null;
   /** Live low-frequency figures per channel (1/f fit, 0.1–10 Hz peak-to-peak); absent when the view is not wired. */

@@ -19,8 +19,14 @@ export class Broadcaster {
   /** Counters of clients that have gone, so totals in status and metrics never go backwards. */
   private goneSent = 0;
   private goneSkipped = 0;
+  /** Clients the agent closed for a policy (slow, flooding, silent), not the ones that left. */
+  private dropped = 0;
 
-  constructor(private readonly traceLength: number) {}
+  constructor(
+    private readonly traceLength: number,
+    /** Told once per dropped client, so an operator can see why a dashboard keeps reconnecting. */
+    private readonly onDropped: (clientId: number, reason: string) => void = () => {},
+  ) {}
 
   add(client: ClientConnection): void {
     this.clients.add(client);
@@ -29,18 +35,22 @@ export class Broadcaster {
   remove(client: ClientConnection): void {
     if (!this.clients.delete(client)) return;
     client.release();
+    if (client.droppedFor !== null) {
+      this.dropped++;
+      this.onDropped(client.id, client.droppedFor);
+    }
     this.goneSent += client.framesSent;
     this.goneSkipped += client.framesSkipped;
   }
 
-  totals(): { connected: number; framesSent: number; framesSkipped: number } {
+  totals(): { connected: number; framesSent: number; framesSkipped: number; dropped: number } {
     let sent = this.goneSent;
     let skipped = this.goneSkipped;
     for (const c of this.clients) {
       sent += c.framesSent;
       skipped += c.framesSkipped;
     }
-    return { connected: this.clients.size, framesSent: sent, framesSkipped: skipped };
+    return { connected: this.clients.size, framesSent: sent, framesSkipped: skipped, dropped: this.dropped };
   }
 
   json(message: ServerMessage): void {

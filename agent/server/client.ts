@@ -17,7 +17,10 @@ interface Lane {
 export class ClientConnection {
   framesSent = 0;
   framesSkipped = 0;
-  alive = true;
+  /** Heartbeat pings sent since the last pong. */
+  unansweredPings = 0;
+  /** Why the agent dropped this client (a policy close), or null: reported once, when it goes. */
+  droppedFor: string | null = null;
   private closed = false;
   private readonly lanes = new Map<FrameKindName, Lane>();
 
@@ -32,6 +35,7 @@ export class ClientConnection {
   sendJson(message: ServerMessage): void {
     if (this.closed || this.ws.readyState !== this.ws.OPEN) return;
     if (this.ws.bufferedAmount > this.maxBufferedBytes) {
+      this.droppedFor = `too slow: send buffer ${(this.ws.bufferedAmount / 1048576).toFixed(1)} MiB over the ${(this.maxBufferedBytes / 1048576).toFixed(1)} MiB limit`;
       this.close(1008, 'client too slow: send buffer over limit');
       return;
     }
@@ -120,6 +124,7 @@ export class ClientConnection {
   }
 
   terminate(): void {
+    this.droppedFor ??= 'no answer to the heartbeat pings';
     this.release();
     this.ws.terminate();
   }

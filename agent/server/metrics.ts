@@ -112,6 +112,11 @@ export function renderMetrics(status: AgentStatus, version: string): string {
       'Binary frames skipped for slow dashboard clients (latest wins).',
       status.clients.framesSkipped,
     ],
+    [
+      'floorline_dashboard_clients_dropped',
+      'Dashboard clients the agent closed: too slow, too many messages, or no heartbeat answer.',
+      status.clients.dropped,
+    ],
   ];
   for (const [name, help, v] of counters) {
     x.family(name, 'counter', help);

@@ -73,12 +73,17 @@ function contextOf(s: ServerSnapshot, id: number, mainsHz: number | null, info: 
   };
 }
 
+/** Unanswered heartbeat pings in a row before a client is dropped as gone. */
+const MISSED_PONGS = 2;
+
 export async function startServer(
   backend: ServerBackend,
-  partial: Partial<ServerOptions> & { assetsDir: string },
+  partial: Partial<ServerOptions> & { assetsDir: string; warn?: (line: string) => void },
 ): Promise<RunningServer> {
   const options = resolveServerOptions(partial);
-  const hub = new Broadcaster(options.traceLength);
+  const hub = new Broadcaster(options.traceLength, (id, reason) =>
+    (partial.warn ?? ((l: string) => process.stderr.write(l + '\n')))(`dashboard client ${id} dropped: ${reason}`),
+  );
   let context: SpectrumContext | null = null;
   let contextKey = '';
   let nextClientId = 1;
@@ -276,7 +281,7 @@ export async function startServer(
       1000 / options.maxFramesPerSecond,
     );
     hub.add(client);
-    ws.on('pong', () => (client.alive = true));
+    ws.on('pong', () => (client.unansweredPings = 0));
     ws.on('close', () => hub.remove(client));
     ws.on('error', () => hub.remove(client)); // e.g. a message over maxPayload: ws closes that socket with 1009
     const bucket = new TokenBucket(options.maxMessagesPerSecond, 2 * options.maxMessagesPerSecond);
@@ -284,6 +289,7 @@ export async function startServer(
       if (!bucket.take()) {
         // 1008 (policy violation, RFC 6455 §7.4.1): the reason names the limit.
         client.close(1008, `more than ${options.maxMessagesPerSecond} messages per second`);
+        client.droppedFor = `more than ${options.maxMessagesPerSecond} messages per second`;
         hub.remove(client);
         return;
       }
@@ -355,14 +361,21 @@ export async function startServer(
     }
   }
 
+  // A client is dropped after MISSED_PONGS pings in a row go unanswered. A tick that fires late means this agent was
+  // busy: the pongs may be waiting unread in its socket, so that tick counts no misses (a loaded rig PC, or a
+  // catch-up after a stall, must not cut off a healthy dashboard).
+  let lastBeat = performance.now();
   const heartbeat = setInterval(() => {
+    const now = performance.now();
+    const late = now - lastBeat > 1.5 * options.heartbeatMs;
+    lastBeat = now;
     for (const c of hub.clients) {
-      if (!c.alive) {
+      if (!late && c.unansweredPings >= MISSED_PONGS) {
         c.terminate();
         hub.remove(c);
         continue;
       }
-      c.alive = false;
+      c.unansweredPings++;
       c.ping();
     }
   }, options.heartbeatMs);

@@ -275,7 +275,15 @@ describe('dashboard against a running replay', () => {
     expect(await page.textContent('#comparison-text')).toMatch(/Baseline comparison off since t = [\d.]+ s/);
     // One click back to the baseline's settings.
     await page.click('#comparison-restore');
-    await expect.poll(() => page.textContent('#control-message'), { timeout: 15_000 }).toMatch(/back to segment 4096/);
+    try {
+      await expect
+        .poll(() => page.textContent('#control-message'), { timeout: 15_000 })
+        .toMatch(/back to segment 4096/);
+    } catch (e) {
+      // Say why the link went, if it did: the page's close code and reason, and the agent's own lines.
+      const closed = await page.evaluate('document.body.dataset.lastClose ?? "no close"');
+      throw new Error(`${(e as Error).message}\npage link: ${String(closed)}\nagent said:\n${a.output().slice(-3000)}`);
+    }
     await waitUntil(page, `/segment 4096/.test(document.getElementById('spectral-context').textContent)`, 15_000);
     // And the agent compares again: the band rows carry thresholds, the banner goes, and the event log says so.
     await waitUntil(

@@ -14,7 +14,7 @@ export interface Started {
 }
 
 export async function startWithFake(
-  options: Partial<ServerOptions> = {},
+  options: Partial<ServerOptions> & { warn?: (line: string) => void } = {},
   fake: Partial<FakeOptions> = {},
 ): Promise<Started> {
   const dir = mkdtempSync(join(tmpdir(), 'floorline-server-'));
