@@ -92,6 +92,41 @@ describe('waterfall after a page load', () => {
     expect(r.darkRows).toBeLessThan(r.height * 0.1);
     await page.close();
   }, 120_000);
+
+  it("puts the demo's 50 Hz mains stripe under the spectrum chart's 50 Hz, within one pixel", async () => {
+    // The demo's bridge carries 50 Hz mains pickup from 20 s of each loop (recordings/demo-scenario.json), so the
+    // kept rows hold a bright 50 Hz column. Screen positions come from the DOM and uPlot's own valToPos/posToVal.
+    const page = await open();
+    await waitUntil(page, 'window.floorline.waterfall.prefilledRows > 0', 10_000);
+    const r: { chartX: number; waterfallX: number; stripeHz: number; pxPerBin: number } = await page.evaluate(`(() => {
+      const plot = window.floorline.spectrum.plot;
+      const w = window.floorline.waterfall;
+      const over = plot.over.getBoundingClientRect();
+      const c = document.getElementById('waterfall');
+      const cr = c.getBoundingClientRect();
+      const scale = cr.width / c.width; // CSS px per canvas column
+      const chartX = over.left + plot.valToPos(50, 'x');
+      const waterfallX = cr.left + w.columnOf(50) * scale;
+      // The brightest canvas column between 40 and 62 Hz of the chart's axis (summed over every row): the stripe.
+      const colAt = (f) => Math.floor((over.left + plot.valToPos(f, 'x') - cr.left) / scale);
+      const d = c.getContext('2d').getImageData(0, 0, c.width, c.height).data;
+      let best = -1, bestSum = -1;
+      for (let x = colAt(40); x <= colAt(62); x++) {
+        let s = 0;
+        for (let y = 0; y < c.height; y++) { const i = (y * c.width + x) * 4; s += d[i] + d[i + 1] + d[i + 2]; }
+        if (s > bestSum) { bestSum = s; best = x; }
+      }
+      const stripeHz = plot.posToVal(cr.left + (best + 0.5) * scale - over.left, 'x');
+      const binHz = window.floorline.context.binHz;
+      const pxPerBin = plot.valToPos(50 + binHz, 'x') - plot.valToPos(50, 'x');
+      return { chartX, waterfallX, stripeHz, pxPerBin };
+    })()`);
+    expect(Math.abs(r.waterfallX - r.chartX)).toBeLessThanOrEqual(1);
+    // The stripe is the mains line: 50 Hz within one FFT bin (8000 / 4096 = 1.95 Hz), the bin the line falls in.
+    expect(Math.abs(r.stripeHz - 50)).toBeLessThanOrEqual(1.96);
+    expect(r.pxPerBin).toBeGreaterThan(1); // a bin is wider than a pixel here, so one pixel is the finer test
+    await page.close();
+  }, 60_000);
 });
 
 interface Shown {
