@@ -155,8 +155,7 @@ export function queryTrend(db: StoreDb, q: TrendRequest): TrendResult {
       }
       pendingBreak = { run, k: prev + 1 };
     }
-    const merged =
-      q.points !== undefined && rows.length > q.points ? mergeRows(rows, Math.ceil(rows.length / q.points)) : rows;
+    const merged = q.points !== undefined && rows.length > q.points ? mergeRows(rows, q.points) : rows;
     return {
       channel: s.channel,
       quantity: s.quantity,
@@ -191,8 +190,38 @@ function gapRow(run: RunRow, k: number): TrendRow & { n: number; power: number }
   };
 }
 
-/** Merges groups of `size` neighbours: a group is a gap only if every member is. */
+/** Merges neighbouring rows into at most `points` rows. A gap row is never merged away while there is room: it
+ *  closes the group before it and stays, so a break shows at every zoom. With more breaks than room, groups of
+ *  equal size are merged and a group is a gap only if every member is. */
 function mergeRows(
+  rows: (TrendRow & { n: number; power: number })[],
+  points: number,
+): (TrendRow & { n: number; power: number })[] {
+  const gaps = rows.reduce((a, r) => a + (r.gap ? 1 : 0), 0);
+  // Data groups: at most rows/size full ones, plus one cut short by each gap and the last; then the gap rows.
+  const room = points - 2 * gaps - 1;
+  if (room < 1) return mergeEqualGroups(rows, Math.ceil(rows.length / points));
+  const size = Math.ceil(rows.length / room);
+  const out: (TrendRow & { n: number; power: number })[] = [];
+  let group: (TrendRow & { n: number; power: number })[] = [];
+  const close = (): void => {
+    if (group.length) out.push(mergedRow(group));
+    group = [];
+  };
+  for (const r of rows) {
+    if (r.gap) {
+      close();
+      out.push(r);
+      continue;
+    }
+    group.push(r);
+    if (group.length >= size) close();
+  }
+  close();
+  return out;
+}
+
+function mergeEqualGroups(
   rows: (TrendRow & { n: number; power: number })[],
   size: number,
 ): (TrendRow & { n: number; power: number })[] {
@@ -200,21 +229,27 @@ function mergeRows(
   for (let i = 0; i < rows.length; i += size) {
     const group = rows.slice(i, i + size);
     const data = group.filter((r) => !r.gap);
-    if (data.length === 0) {
-      out.push(group[0]);
-      continue;
-    }
-    const n = data.reduce((a, r) => a + r.n, 0);
-    const power = data.reduce((a, r) => a + r.n * r.power, 0) / n;
-    out.push({
-      ...group[0],
-      n,
-      power,
-      gap: false,
-      mean: Math.sqrt(power),
-      min: Math.min(...data.map((r) => r.min!)),
-      max: Math.max(...data.map((r) => r.max!)),
-    });
+    out.push(data.length === 0 ? group[0] : { ...mergedRow(data), ...pick(group[0]) });
   }
   return out;
+}
+
+/** A group's first row's time stamps. */
+function pick(r: TrendRow): Pick<TrendRow, 't' | 'sample' | 'wallTime'> {
+  return { t: r.t, sample: r.sample, wallTime: r.wallTime };
+}
+
+/** One row for data rows: the mean power weighted by segment counts (its square root the RMS), min and max. */
+function mergedRow(data: (TrendRow & { n: number; power: number })[]): TrendRow & { n: number; power: number } {
+  const n = data.reduce((a, r) => a + r.n, 0);
+  const power = data.reduce((a, r) => a + r.n * r.power, 0) / n;
+  return {
+    ...data[0],
+    n,
+    power,
+    gap: false,
+    mean: Math.sqrt(power),
+    min: Math.min(...data.map((r) => r.min!)),
+    max: Math.max(...data.map((r) => r.max!)),
+  };
 }
