@@ -21,6 +21,10 @@ export interface ReplayOptions {
   blockFrames?: number;
   /** Volts per full scale for integer PCM or unlabelled float files from elsewhere. */
   scale?: number;
+  /** With loop and a later start: each loop after the first plays the whole file, not from the start point (the
+   *  demo opens near its first event, then loops over the whole recording so sample time mod its length stays
+   *  the recording's own time). */
+  loopWholeFile?: boolean;
   /** Stop after this many loops (for tests); default unlimited when looping. */
   maxLoops?: number;
   /** At the end of the file, go on with the next file of the same rotated recording (not with loop). */
@@ -227,12 +231,13 @@ export class ReplaySource implements Source {
         if (!block) {
           if (!this.options.loop || this.position.loops + 1 >= maxLoops) break;
           this.position.loops++;
-          reader.seek(startFrame);
+          const from = this.options.loopWholeFile ? 0 : startFrame;
+          reader.seek(from);
           sink.gap({
             sample: next,
             lost: 0,
             reason: 'replay loop: the recording starts again',
-            restartsAt: reader.info.firstSample + startFrame,
+            restartsAt: reader.info.firstSample + from,
           });
           continue;
         }

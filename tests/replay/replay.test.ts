@@ -152,6 +152,44 @@ describe('ReplaySource', () => {
     expect(Array.from(seamBlock.data[1].subarray(off, off + 5))).toEqual(head);
   });
 
+  it('with loopWholeFile, starts at a later point once and then loops over the whole file (as the demo does)', async () => {
+    const start = 20_000;
+    const rec = recordingSink();
+    const src = new ReplaySource(floatWav, {
+      speed: 'max',
+      loop: true,
+      maxLoops: 3,
+      blockFrames: 3000,
+      startSample: start,
+      loopWholeFile: true,
+    });
+    await src.start(rec.sink);
+    await src.done;
+    expect(rec.info()!.firstSample).toBe(start);
+    // The first pass is the file's tail; each later one the whole file. Indices run on without a hole, so a
+    // sample index modulo the file length is its place in the file from the second pass on.
+    expect(rec.blocks.reduce((n, b) => n + b.frames, 0)).toBe(FRAMES - start + 2 * FRAMES);
+    let next = start;
+    for (const b of rec.blocks) {
+      expect(b.firstSample).toBe(next);
+      next += b.frames;
+    }
+    expect(rec.gaps.map((g) => [g.sample, g.restartsAt])).toEqual([
+      [FRAMES, 0],
+      [2 * FRAMES, 0],
+    ]);
+    // scipy.io.wavfile.read: the first samples of the first pass are x[start:], those after each seam x[0:].
+    const ref = await py.run<{ tail: number[]; head: number[] }>(
+      `fs, x = wavfile.read(args[0]); result = {"tail": x[args[1]:args[1] + 5, 0].astype(float).tolist(), "head": x[:5, 0].astype(float).tolist()}`,
+      floatWav,
+      start,
+    );
+    expect(Array.from(rec.blocks[0].data[0].subarray(0, 5))).toEqual(ref.tail);
+    const seam = rec.blocks.find((b) => b.firstSample <= FRAMES && b.firstSample + b.frames > FRAMES)!;
+    const off = FRAMES - seam.firstSample;
+    expect(Array.from(seam.data[0].subarray(off, off + 5))).toEqual(ref.head);
+  });
+
   it('analyses every loop of a looping replay exactly as the first (same spectra, shifted by the file length)', async () => {
     // Step 512 and snapshot interval 1333 do not divide the 32000-frame file: the grids restart with each loop.
     const p = new Pipeline({

@@ -62,8 +62,9 @@ describe('retention on a small disk', () => {
       child.stdout.on('data', (c) => (out += c));
       child.stderr.on('data', (c) => (err += c));
       const exited = new Promise<number | null>((r) => child.on('exit', r));
-      // Driven by sample time, not the wall clock: once the recording reaches t = 10 s (its file -s80000) another
-      // writer leaves 3 MB free (below the floor); once the spur at t = 30 s is in the event log it frees the space.
+      // Driven by sample time, not the wall clock: once the recording has begun its second 2 s file (the demo
+      // opens at t = 17 s, so about t = 19 s) another writer leaves 3 MB free (below the floor); once the spur at
+      // t = 30 s is in the event log it frees the space.
       const recDir = join(mnt, 'data/recordings');
       const eventsFile = join(mnt, 'data/events.jsonl');
       const until = async (cond: () => boolean) => {
@@ -71,7 +72,7 @@ describe('retention on a small disk', () => {
       };
       await until(() => {
         try {
-          return readdirSync(recDir).some((f) => f.includes('-s80000'));
+          return readdirSync(recDir).filter((f) => f.startsWith('rec-') && f.endsWith('.wav')).length >= 2;
         } catch {
           return false;
         }
