@@ -27,7 +27,7 @@ export function printStreamHeader(info: StreamInfo, p: Pipeline, frames?: number
   ];
   if (frames !== undefined)
     lines.push(
-      `length     ${frames} samples (${(frames / info.sampleRate).toFixed(3)} s) from sample ${info.firstSample}`,
+      `length     ${frames} samples (${(frames / info.sampleRate).toFixed(3)} s) in the file; playing from sample ${info.firstSample} (t = ${(info.firstSample / info.sampleRate).toFixed(3)} s)`,
     );
   if (s) {
     lines.push(
