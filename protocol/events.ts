@@ -65,6 +65,9 @@ export interface FloorlineEvent {
   peakCoherence?: number;
   /** For limit: margin below the mask at the worst bin, dB (negative: the estimate exceeds the mask). */
   marginDb?: number;
+  /** 'input': the channel's calibration divides by its front-end gain, so amplitudes (and densities) are at the
+   *  amplifier input; absent: at the converter, in the channel's own units. */
+  referredTo?: 'input';
   /** Path of the capture recording, relative to the data folder, when one was triggered. */
   capture?: string;
   /** Human-readable summary. */

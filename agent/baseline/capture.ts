@@ -13,7 +13,7 @@ import { combineSettling, settlingCheck } from './settling.ts';
 
 export interface BaselineCaptureOptions {
   settings: AnalysisSettings;
-  channels: { name: string; unit: string }[];
+  channels: { name: string; unit: string; referredTo?: 'input' }[];
   /** First sample of the span (blocks before it are ignored). */
   firstSample: number;
   /** Span length in samples. */
@@ -27,6 +27,17 @@ export interface CalibratedBlock {
   firstSample: number;
   frames: number;
   data: Float64Array[];
+}
+
+/** A stream channel as the capture names it: input-referred when its calibration divides by the gain. */
+export function baselineChannelOf(c: {
+  name: string;
+  unit: string;
+  calibration?: { inputReferred: boolean; gain?: number };
+}): { name: string; unit: string; referredTo?: 'input' } {
+  return c.calibration?.inputReferred && c.calibration.gain !== undefined
+    ? { name: c.name, unit: c.unit, referredTo: 'input' }
+    : { name: c.name, unit: c.unit };
 }
 
 export class BaselineCapture {
@@ -123,6 +134,7 @@ export class BaselineCapture {
       channels.push({
         name: this.o.channels[c].name,
         unit: this.o.channels[c].unit,
+        ...(this.o.channels[c].referredTo ? { referredTo: this.o.channels[c].referredTo } : {}),
         segments: est.segmentsUsed,
         equivalentAverages: est.equivalentAverages(),
         psd: Array.from(psd),

@@ -16,6 +16,9 @@ export interface BaselineBand {
 export interface BaselineChannel {
   name: string;
   unit: string;
+  /** 'input': taken from a stream whose calibration divides by the front-end gain (densities at the amplifier
+   *  input); absent: in the channel's own units at the converter. */
+  referredTo?: 'input';
   /** Segments averaged (mean averaging over the span). */
   segments: number;
   /** Overlap-corrected equivalent number of averages (Welch 1967): sets the estimate's degrees of freedom. */

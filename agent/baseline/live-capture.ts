@@ -7,7 +7,7 @@ import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { settingsHash } from '../../protocol/settings.ts';
 import type { BandSpec } from '../../dsp/detection/band-compare.ts';
 import { defaultBands } from '../rules/default-bands.ts';
-import { BaselineCapture } from './capture.ts';
+import { BaselineCapture, baselineChannelOf } from './capture.ts';
 import type { BaselineFile } from './format.ts';
 
 export interface LiveCaptureOptions {
@@ -62,7 +62,7 @@ export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapt
         }
         capture ??= new BaselineCapture({
           settings,
-          channels: stream.channels.map((c) => ({ name: c.name, unit: c.unit })),
+          channels: stream.channels.map(baselineChannelOf),
           firstSample: b.firstSample,
           samples,
           bands,

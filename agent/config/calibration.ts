@@ -124,18 +124,22 @@ export class CalibratedSource implements Source {
 export function rescaleBaselineForReplay(
   baseline: BaselineFile,
   config: readonly ChannelConfig[],
+  /** Channels the recording already carries a calibration for: the config is not applied to them again. */
+  calibratedInRecording: ReadonlySet<number> = new Set(),
 ): { baseline: BaselineFile; changed: string[] } {
   const changed: string[] = [];
   const channels = baseline.channels.map((ch, i) => {
     const c = config[i];
-    if (!c) return ch;
-    const f = c.inputReferred && c.gain !== undefined ? 1 / c.gain : 1;
+    if (!c || calibratedInRecording.has(i)) return ch;
+    // A baseline taken at the input already (from a calibrated stream) is not divided again.
+    const f = c.inputReferred && c.gain !== undefined && ch.referredTo !== 'input' ? 1 / c.gain : 1;
     if (f === 1 && c.name === ch.name && c.unit === ch.unit) return ch;
     changed.push(`${ch.name} → ${c.name}${f !== 1 ? ` (×${f})` : ''}`);
     return {
       ...ch,
       name: c.name,
       unit: c.unit,
+      ...(f !== 1 ? { referredTo: 'input' as const } : {}),
       psd: ch.psd.map((p) => p * f * f),
       bands: ch.bands.map((b) => ({ ...b, rms: b.rms * f })),
     };

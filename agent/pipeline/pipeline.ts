@@ -6,6 +6,7 @@
 //    drainBudgetMs, so the event loop keeps reading the port; when the queue is full the incoming block is dropped
 //    whole and counted, and the analysis restarts cleanly after the hole (as after a gap).
 import { StreamIncidents } from '../rules/stream-incidents.ts';
+import { markInputReferred } from './input-referred-events.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import type { AveragingSpec } from '../../protocol/settings.ts';
 import type { GapNotice, LinkNotice, SampleBlock, Source, SourceSink, StreamInfo } from '../../protocol/stream.ts';
@@ -210,6 +211,7 @@ export class Pipeline implements SourceSink {
   /** Emits an event that did not come from a detector (e.g. the recorder's 'recording' info). */
   emitEvent(e: FloorlineEvent): void {
     this.streamIncidents.stamp(e); // detectors' alarms carry theirs already
+    markInputReferred(e, this.streamInfo);
     this.count.events++;
     this.emitter.emit('event', e);
   }

@@ -110,5 +110,11 @@ print(np.sqrt(np.median(p[sel, 0])), np.sqrt(np.median(p[sel, 1])))
       join(dir, 'd4'),
     ]);
     expect(digest(plain.stdout)).not.toBe(digest(first.stdout));
+    // A baseline of the calibrated recording says its bridge densities are at the input, so no replay divides them
+    // by the gain again; the shorted channel (no gain) carries no mark.
+    floorline(['baseline', rec, '-o', join(dir, 'input-baseline.json'), '--seconds', '8']);
+    const marked = JSON.parse(readFileSync(join(dir, 'input-baseline.json'), 'utf8'));
+    expect(marked.channels[0].referredTo).toBe('input');
+    expect(marked.channels[1].referredTo).toBeUndefined();
   }, 180_000);
 });

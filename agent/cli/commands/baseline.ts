@@ -6,7 +6,7 @@ import { ANALYSIS_FLAGS, readAnalysisFlags } from './monitor-flags.ts';
 import type { AnalysisSettings } from '../../../protocol/settings.ts';
 import { WavReader } from '../../wav/reader.ts';
 import { windowMainLobeHalfWidth } from '../../../dsp/windows.ts';
-import { BaselineCapture } from '../../baseline/capture.ts';
+import { BaselineCapture, baselineChannelOf } from '../../baseline/capture.ts';
 import { forEachFiniteRun } from '../../pipeline/conditioner.ts';
 import { writeBaseline } from '../../baseline/format.ts';
 import { defaultBands } from '../../rules/default-bands.ts';
@@ -63,7 +63,10 @@ async function runBaseline(args: ParsedArgs<typeof BASELINE_FLAGS>): Promise<num
     try {
       capture = new BaselineCapture({
         settings,
-        channels: info.channels.map((c) => ({ name: c.name, unit: c.unit })),
+        // The sidecar's calibration (if the recording was made calibrated) says at which point the densities are.
+        channels: info.channels.map((c, i) =>
+          baselineChannelOf({ ...c, calibration: info.metadata?.channels[i]?.calibration }),
+        ),
         firstSample: info.firstSample + skip,
         samples: wanted,
         bands: bandsGiven.length ? bandsGiven : defaultBands(info.sampleRate, segment, lobe),
