@@ -201,7 +201,7 @@ export class Monitor implements PartSink {
           command: o.command,
           detectorStatus: () => hook.detectors?.status(),
           context: () => this.runContext(),
-          incidentRecords: () => hook.detectors?.incidentRecords(),
+          incidentRecords: () => hook.incidentRecords(),
           health: () => this.healthCounters(),
           onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
           warn: (m) => this.say(m),

@@ -12,6 +12,7 @@ import type { LimitMask } from '../../dsp/measure/limit-mask.ts';
 import { Detectors } from './detectors.ts';
 import { makeEvent } from './event-factory.ts';
 import { defaultRules, type RulesConfig } from './rules.ts';
+import { MAX_CLOSED_INCIDENTS, type IncidentRecord } from './incidents.ts';
 import type { CaptureRequester } from './types.ts';
 
 export interface AlarmHookOptions {
@@ -31,6 +32,8 @@ export class AlarmHook implements Detector {
   /** A baseline handed over while running (e.g. captured from the dashboard), applied at the next snapshot. */
   private pendingBaseline: { baseline: BaselineFile; where: string } | undefined;
   private readonly onBuild: ((d: Detectors) => void)[] = [];
+  /** Incidents of replaced detector sets that were open when their set went (ended then), newest last. */
+  private retired: IncidentRecord[] = [];
   private o: AlarmHookOptions;
 
   constructor(options: AlarmHookOptions = {}) {
@@ -62,6 +65,12 @@ export class AlarmHook implements Detector {
     this.onBuild.push(fn);
   }
 
+  /** The incidents of the current set, after those ended when earlier sets were replaced (undefined before any). */
+  incidentRecords(): IncidentRecord[] | undefined {
+    if (!this.set && this.retired.length === 0) return undefined;
+    return [...this.retired, ...(this.set?.incidentRecords() ?? [])];
+  }
+
   onInfo(info: StreamInfo): void {
     this.info = info;
   }
@@ -73,7 +82,6 @@ export class AlarmHook implements Detector {
       this.pendingBaseline = undefined;
       this.o = { ...this.o, baseline, baselineWhere: where };
       this.baselineDropped = false;
-      this.set = undefined;
       pre.push(
         makeEvent(
           'baseline',
@@ -87,8 +95,12 @@ export class AlarmHook implements Detector {
           'info',
         ),
       );
+      this.retire(snap, `the alarm rules restarted on baseline ${where}`, pre);
+      this.set = undefined;
     }
-    if (!this.set || firstSettingMismatch(snap.settings, this.set.settings)) this.build(snap, pre);
+    const changed = this.set ? firstSettingMismatch(snap.settings, this.set.settings) : undefined;
+    if (changed) this.retire(snap, `the alarm rules were rebuilt for new analysis settings (${changed})`, pre);
+    if (!this.set || changed) this.build(snap, pre);
     const events = this.set!.onSnapshot(snap);
     return pre.length ? [...pre, ...events] : events;
   }
@@ -107,6 +119,15 @@ export class AlarmHook implements Detector {
 
   onOverrun(o: OverrunNotice): FloorlineEvent[] {
     return this.set?.onOverrun(o) ?? [];
+  }
+
+  /** Ends the current set's open alarms and incidents before it is replaced (Detectors.retire). */
+  private retire(snap: SpectrumSnapshot, reason: string, out: FloorlineEvent[]): void {
+    if (!this.set) return;
+    const { events, ended } = this.set.retire(snap.sample, snap.wallTime, reason);
+    out.push(...events);
+    this.retired.push(...ended);
+    if (this.retired.length > MAX_CLOSED_INCIDENTS) this.retired.splice(0, this.retired.length - MAX_CLOSED_INCIDENTS);
   }
 
   private build(snap: SpectrumSnapshot, pre: FloorlineEvent[]): void {

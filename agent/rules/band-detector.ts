@@ -122,7 +122,15 @@ export class BandDetector {
       if (tr === AlarmTransition.Raised) {
         life.raised(sample);
         this.members[b] = this.book.join(
-          { rule: 'band-rise', channel: this.channel, band, overloadFrom: this.riseUnderOverload[b], state },
+          {
+            rule: 'band-rise',
+            channel: this.channel,
+            band,
+            overloadFrom: this.riseUnderOverload[b],
+            state,
+            peakNow: () =>
+              life.peakSample >= 0 ? { levelDb: roundDb(life.peakLevel), sample: life.peakSample } : undefined,
+          },
           stamp,
         );
       }

@@ -187,6 +187,8 @@ export class CoherenceDetector {
             channels: [p.a, p.b],
             frequency: round(t.frequency, 7),
             state: t.state,
+            peakNow: () =>
+              t.life.peakSample >= 0 ? { levelDb: roundDb(t.peakLevelDb), sample: t.life.peakSample } : undefined,
           },
           { sample, t: sample / this.sampleRate, wallTime },
         );

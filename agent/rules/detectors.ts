@@ -23,7 +23,7 @@ import { MAX_SKIRT_BINS, SpurDetector } from './spur-detector.ts';
 import { leakageEnvelope } from '../../dsp/detection/leakage.ts';
 import { CONTAMINATION_HOLD_WEIGHT, contaminationWeight, segmentsAfter } from '../../dsp/detection/contamination.ts';
 import type { RulesConfig } from './rules.ts';
-import { round } from './event-factory.ts';
+import { makeEvent, round } from './event-factory.ts';
 import type { CaptureRequester, SnapshotLike } from './types.ts';
 import type { ClipNotice, OverrunNotice } from '../pipeline/types.ts';
 
@@ -387,6 +387,57 @@ export class Detectors {
   /** Incidents kept in memory, oldest first, in the shape the incident listings use. */
   incidentRecords(): IncidentRecord[] {
     return this.incidents.all().map((i) => this.incidents.record(i));
+  }
+
+  /**
+   * This set is being replaced at `sample` (`reason` says why): every raised alarm is cleared and every open
+   * incident ended there, since the new set knows nothing of them. The clear is not a judged one: its detail
+   * says so and why, and carries the peak and duration so far. Returns the events and the incidents ended.
+   */
+  retire(sample: number, wallTime: string, reason: string): { events: FloorlineEvent[]; ended: IncidentRecord[] } {
+    const at = { sample, t: sample / this.sampleRate, wallTime };
+    const members = this.incidents.closeOpen(at);
+    this.healthMembers.clear();
+    const events = members.map(({ member: m, end }) => {
+      const durationSeconds = round((end.sample - m.joined.sample) / this.sampleRate, 6);
+      const p = m.peak;
+      const what = [
+        m.rule,
+        m.channel === '*' ? 'stream' : m.channel,
+        m.band ? `${m.band[0]}–${m.band[1]} Hz` : '',
+        m.frequency !== undefined ? `${m.frequency} Hz` : '',
+      ]
+        .filter(Boolean)
+        .join(' ');
+      const peak = p ? `; peak ${p.levelDb} dB at sample ${p.sample}` : '';
+      const e = makeEvent(
+        m.rule,
+        'cleared',
+        m.channel,
+        end.sample,
+        this.sampleRate,
+        end.wallTime,
+        `${what} closed without a judged end: ${reason}${peak}, after ${durationSeconds} s`,
+        {
+          ...(m.band ? { band: m.band } : {}),
+          ...(m.frequency !== undefined ? { frequency: m.frequency } : {}),
+          ...(m.harmonic ? { harmonic: m.harmonic } : {}),
+          ...(m.channels ? { channels: m.channels } : {}),
+          ...(p
+            ? {
+                peakLevelDb: p.levelDb,
+                peakSample: p.sample,
+                ...(p.amplitude !== undefined ? { peakAmplitude: p.amplitude } : {}),
+              }
+            : {}),
+          durationSeconds,
+        },
+      );
+      this.incidents.stamp(e, m);
+      return e;
+    });
+    const ended = [...new Set(members.map((c) => c.member.incident))].map((i) => this.incidents.record(i));
+    return { events, ended };
   }
 
   private forStates(

@@ -41,14 +41,24 @@ export interface MemberSpec {
   /** First clipped sample of the overload the alarm was first seen under (−1/undefined: none). */
   overloadFrom?: number;
   state?: AlarmState;
+  /** The alarm's peak so far (rules that track one), for an end the rule did not judge (see closeOpen). */
+  peakNow?: () => Peak | undefined;
+}
+
+export interface Peak {
+  levelDb: number;
+  amplitude?: number;
+  sample: number;
 }
 
 export interface Member extends MemberSpec {
   incident: Incident;
   open: boolean;
   acknowledged: boolean;
+  /** When the member joined (its raise). */
+  joined: Stamp;
   settled?: { levelDb: number; amplitude?: number; frequency?: number };
-  peak?: { levelDb: number; amplitude?: number; sample: number };
+  peak?: Peak;
 }
 
 export interface Incident {
@@ -93,7 +103,7 @@ export class IncidentBook {
   /** Finds or opens the incident for an alarm raised at `at`; returns its member handle. */
   join(spec: MemberSpec, at: Stamp): Member {
     const inc = this.find(spec, at.sample) ?? this.openIncident(spec, at);
-    const m: Member = { ...spec, incident: inc, open: true, acknowledged: false };
+    const m: Member = { ...spec, incident: inc, open: true, acknowledged: false, joined: at };
     inc.members.push(m);
     // A fault already acknowledged or shelved does not ask again for its next harmonic or band.
     if (inc.acknowledged) {
@@ -116,6 +126,26 @@ export class IncidentBook {
     if (i >= 0) this.open.splice(i, 1);
     this.closed.push(inc);
     if (this.closed.length > MAX_CLOSED_INCIDENTS) this.closed.shift();
+  }
+
+  /**
+   * Ends every open incident at `at`, leaving each open member with its peak so far: for detectors about to be
+   * replaced (a new baseline, new analysis settings), whose alarms would otherwise stay open forever. Returns the
+   * members closed with the end each was given, so their owner can announce the ends.
+   */
+  closeOpen(at: Stamp): { member: Member; end: Stamp }[] {
+    const closed: { member: Member; end: Stamp }[] = [];
+    for (const inc of [...this.open]) {
+      for (const m of inc.members) {
+        if (!m.open) continue;
+        // A stream-health alarm comes with its block, which may reach past the snapshot of the swap: it ends
+        // where it began then, never before.
+        const end = m.joined.sample > at.sample ? m.joined : at;
+        closed.push({ member: m, end });
+        this.leave(m, end, m.peakNow?.());
+      }
+    }
+    return closed;
   }
 
   get(id: string): Incident | undefined {

@@ -194,6 +194,14 @@ export class SpurDetector {
             ...(t.harmonic > 0 ? { harmonic: t.harmonic } : {}),
             overloadFrom: t.overloadFrom,
             state: t.state,
+            peakNow: () =>
+              t.life.peakSample >= 0
+                ? {
+                    levelDb: roundDb(t.life.peakLevel),
+                    amplitude: round(t.life.peakAmplitude),
+                    sample: t.life.peakSample,
+                  }
+                : undefined,
           },
           { sample, t: sample / this.sampleRate, wallTime },
         );
