@@ -193,9 +193,26 @@ export interface DiskState {
   deletedFiles: number;
 }
 
+/** The history store of the run (present when the agent keeps one). */
+export interface StoreStatus {
+  /** The store file. */
+  file: string;
+  /** False while the disk refuses writes (said once; the span not stored is recorded when it works again). */
+  storing: boolean;
+  /** Wall time of the last commit, ISO-8601 UTC (null: none yet). */
+  lastCommit: string | null;
+  /** Rows and records waiting for the next commit. */
+  pending: number;
+  /** True while the store has gone longer than the stall limit (10 s) without a commit while rows wait. */
+  stalled: boolean;
+  /** Times the store stalled so far in this process. */
+  commitStalls: number;
+}
+
 export interface AgentStatus {
   protocol: number;
   disk?: DiskState;
+  store?: StoreStatus;
   source: { kind: SourceKind; label: string } | null;
   sampleRate: number | null;
   channels: { name: string; unit: string }[];

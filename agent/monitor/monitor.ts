@@ -205,6 +205,7 @@ export class Monitor implements PartSink {
           health: () => this.healthCounters(),
           onIncidentNote: (id, text, sample) => void hook.detectors?.noteIncident(id, text, sample),
           warn: (m) => this.say(m),
+          onStall: (detail, stalled) => this.internalFault(detail, true, stalled ? 'raised' : 'cleared'),
         });
       } catch (err) {
         // A full or read-only disk must not stop the monitor: analysis and alarms go on without history, said
@@ -412,6 +413,7 @@ export class Monitor implements PartSink {
       ...(this.lowFrequency ? { lowFrequency: this.lowFrequency.status() } : {}),
       ...this.coherenceRows(),
       ...(this.retention ? { disk: this.retention.status() } : {}),
+      ...(this.historyRef ? { store: this.historyRef.status() } : {}),
     };
   }
 
@@ -660,14 +662,17 @@ export class Monitor implements PartSink {
     this.internalFault(`part ${part.name} failed in ${why} and was disabled: ${err.message}`, false);
   }
 
-  /** Something of the monitor's own stopped: said on the log (unless already said) and as an `internal` info event. */
-  private internalFault(detail: string, say = true): void {
+  /**
+   * Something of the monitor's own stopped (or, `cleared`, works again): said on the log (unless already said) and
+   * as an `internal` info event.
+   */
+  private internalFault(detail: string, say = true, state: 'raised' | 'cleared' = 'raised'): void {
     if (say) this.say(detail);
     const info = this.pipeline.stream;
     const sample = Math.max(0, this.pipeline.counters().lastSample);
     const rate = info?.sampleRate ?? 1;
     this.pipeline.emitEvent(
-      makeEvent('internal', 'raised', '*', sample, rate, this.pipeline.wallTimeAt(sample), detail, {}, 'info'),
+      makeEvent('internal', state, '*', sample, rate, this.pipeline.wallTimeAt(sample), detail, {}, 'info'),
     );
   }
 }

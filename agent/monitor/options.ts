@@ -51,6 +51,8 @@ export interface MonitorOptions {
     source: string;
     bands?: readonly { low: number; high: number }[];
     retention?: Record<Level, number>;
+    /** Wall ms without a commit while rows wait before the store is called stalled (default 10 s). */
+    stallMs?: number;
   };
   /** Limit masks by channel name ('*' = every channel) for the limit rule. */
   masks?: AlarmHookOptions['masks'];

@@ -16,6 +16,8 @@ import { IncidentBook, type AlarmEventLike, type IncidentRecord } from './incide
 import type { Retention } from './levels.ts';
 import type { RunContext } from './run-context.ts';
 import type { HealthCounters } from './health.ts';
+import { CommitWatchdog } from './commit-watchdog.ts';
+import type { StoreStatus } from '../../protocol/messages.ts';
 
 export interface HistoryOptions {
   /** The store file (DATA/floorline.sqlite for a live run). */
@@ -37,6 +39,10 @@ export interface HistoryOptions {
   health?: () => HealthCounters;
   /** Wall ms between commits (default 500; at most 1000 keeps kill -9 losses within a second). */
   commitMs?: number;
+  /** Wall ms without a commit while rows wait before the store is called stalled (default 10 s). */
+  stallMs?: number;
+  /** Told when the store stalls (`true`) and when it commits again (`false`); default: warn. */
+  onStall?: (detail: string, stalled: boolean) => void;
 }
 
 export interface History {
@@ -46,6 +52,8 @@ export interface History {
   note(text: string, incident?: string): { sample: number; t: number; wallTime: string };
   /** The run compares against another baseline (or none) from the next sample on. */
   baselineChanged(baseline: RunContext['baseline']): void;
+  /** File, last commit, rows waiting and commit stalls (for status). */
+  status(): StoreStatus;
   close(): void;
 }
 
@@ -119,6 +127,13 @@ export function attachHistory(pipeline: Pipeline, parts: PartSink, o: HistoryOpt
     Math.min(1000, o.commitMs ?? 500),
   );
   timer.unref();
+  // Watched on the pipeline's own block events, not through the part: a part cut off after an error gets none.
+  const watchdog = new CommitWatchdog(writer, {
+    file: o.path,
+    stallMs: o.stallMs,
+    report: o.onStall ?? ((detail, stalled) => stalled && o.warn(detail)),
+  });
+  const unwatch = pipeline.on('block', () => watchdog.check());
   let closed = false;
   return {
     path: o.path,
@@ -141,16 +156,27 @@ export function attachHistory(pipeline: Pipeline, parts: PartSink, o: HistoryOpt
     baselineChanged(baseline) {
       writer.baselineChange(Math.max(0, pipeline.counters().lastSample + 1), baseline);
     },
+    status: () => watchdog.status(),
     close() {
       if (closed) return;
       closed = true;
       clearInterval(timer);
+      unwatch();
       detach();
-      syncIncidents();
-      sampler.finish();
-      writer.close();
-      db.close();
-      lock.release();
+      try {
+        syncIncidents();
+        sampler.finish();
+        writer.close();
+      } catch (err) {
+        // The last commit failed (not a storage fault, which the writer tells itself): say so, and still release
+        // the file and its lock so a restart can open it.
+        o.warn(
+          `history store ${o.path}: the last commit at close failed (${(err as Error).message}); ${writer.pending} rows not stored`,
+        );
+      } finally {
+        db.close();
+        lock.release();
+      }
     },
   };
 }

@@ -60,6 +60,9 @@ export class HistoryWriter {
   private lastRetentionMs = 0;
   latestWallMs = 0;
   flushes = 0;
+  /** performance.now() of the last commit, or of opening the store (for the commit watchdog). */
+  lastCommitMs = performance.now();
+  lastCommitWallMs: number | null = null;
   closed = false;
 
   constructor(
@@ -108,6 +111,11 @@ export class HistoryWriter {
       pruneSnap: db.prepare('DELETE FROM trend_snap WHERE run = ? AND k < ?'),
     };
     this.repairRollups();
+  }
+
+  /** Trend rows and records waiting for the next commit. */
+  get pending(): number {
+    return this.rows.length + this.ops.length;
   }
 
   get runId(): number | undefined {
@@ -305,6 +313,8 @@ export class HistoryWriter {
     rows.clear();
     this.ops.length = 0;
     this.flushes++;
+    this.lastCommitMs = performance.now();
+    this.lastCommitWallMs = Date.now();
     if (nowMs - this.lastRetentionMs > 60_000) {
       this.lastRetentionMs = nowMs;
       this.applyRetention();

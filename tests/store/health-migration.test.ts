@@ -59,7 +59,23 @@ describe('health counters in a store of schema 2', () => {
 
     writeFileSync(join(dir, 'sc.json'), JSON.stringify(SCENARIO));
     expect(floorline('simulate', 'sc.json', '--out', 'x.wav', '--duration', '5').status).toBe(0);
-    const r = floorline('replay', 'x.wav', '--speed', 'max', '--no-server', '--quiet', '--data', 'd', '--store', store);
+    // Retention counts back from the newest wall time, now, and the fixture's rows were written on 2026-12-03: under
+    // the default retention its 1 s rows go 3 h after that. This checks the migration, so the replay keeps all.
+    const keepAll = 'snap=36500d,1s=36500d,1m=36500d,1h=36500d,spectra=36500d';
+    const r = floorline(
+      'replay',
+      'x.wav',
+      '--speed',
+      'max',
+      '--no-server',
+      '--quiet',
+      '--data',
+      'd',
+      '--store',
+      store,
+      '--keep',
+      keepAll,
+    );
     expect(r.status, r.stderr).toBe(0);
 
     const after = await contents(store);
