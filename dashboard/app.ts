@@ -155,6 +155,18 @@ export class App {
     $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) =>
       this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'),
     );
+    this.waterfall.onRange = (low, high) => {
+      $<HTMLInputElement>('waterfall-low').value = String(low);
+      $<HTMLInputElement>('waterfall-high').value = String(high);
+    };
+    const userRange = (): void => {
+      const low = Number($<HTMLInputElement>('waterfall-low').value);
+      const high = Number($<HTMLInputElement>('waterfall-high').value);
+      if (Number.isFinite(low) && Number.isFinite(high) && high > low) this.waterfall.setRange(low, high, 'user');
+    };
+    $('waterfall-low').addEventListener('change', userRange);
+    $('waterfall-high').addEventListener('change', userRange);
+    $('waterfall-range-reset').addEventListener('click', () => this.waterfall.clearUserRange(this.baselinePsd()));
     $<HTMLSelectElement>('waterfall-channel').addEventListener('change', (e) => {
       this.waterfall.channel = Number((e.target as HTMLSelectElement).value);
       this.waterfall.setBaselineFloor(this.baselinePsd());

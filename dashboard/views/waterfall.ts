@@ -145,6 +145,22 @@ export class WaterfallView {
     this.ranged = true;
     this.rangeSource = source;
     this.drawLegend();
+    this.onRange?.(lowDb, highDb, source);
+  }
+
+  /** Told of every new colour range, so the page's range inputs show it. */
+  onRange: ((lowDb: number, highDb: number, source: 'baseline' | 'user' | 'first row') => void) | null = null;
+
+  /** Drops a user's range: the baseline's floor sets it again (or, without one, the next row's). */
+  clearUserRange(baselinePsd: ArrayLike<number> | null): void {
+    this.rangeSource = null;
+    this.ranged = false;
+    this.setBaselineFloor(baselinePsd);
+  }
+
+  /** Where the colour range came from: the baseline floor, the user, the first row (null: not set yet). */
+  get rangeFrom(): 'baseline' | 'user' | 'first row' | null {
+    return this.rangeSource;
   }
 
   clear(): void {

@@ -94,6 +94,37 @@ describe('waterfall after a page load', () => {
     await page.close();
   }, 120_000);
 
+  it('takes its colour range from the baseline floor, lets the user set it, and goes back on request', async () => {
+    // The rule: the baseline's median density above DC, in dB re 1 V²/Hz, −10 to +40 dB, in whole dB; numpy on the
+    // baseline file the demo compares against.
+    const py = `import json, numpy as np, sys
+b = json.load(open(sys.argv[1]))['channels'][0]['psd'][1:]
+v = np.sort(np.array([x for x in b if x > 0])); f = 10 * np.log10(v[len(v) // 2])
+print(int(round(f - 10)), int(round(f + 40)))`;
+    const [lo, hi] = execFileSync('python3', ['-c', py, join(root, 'recordings/demo-baseline.json')], {
+      encoding: 'utf8',
+    })
+      .trim()
+      .split(' ')
+      .map(Number);
+    const page = await open();
+    const range = () => page.evaluate('[...window.floorline.waterfall.range, window.floorline.waterfall.rangeFrom]');
+    await expect.poll(range, { timeout: 10_000 }).toEqual([lo, hi, 'baseline']);
+    expect(await page.inputValue('#waterfall-low')).toBe(String(lo));
+    expect(await page.inputValue('#waterfall-high')).toBe(String(hi));
+    await page.fill('#waterfall-low', String(lo - 20));
+    await page.fill('#waterfall-high', String(hi - 5));
+    await page.press('#waterfall-high', 'Enter');
+    await expect.poll(range, { timeout: 5_000 }).toEqual([lo - 20, hi - 5, 'user']);
+    // The line under the waterfall states the range with the next row drawn.
+    await expect
+      .poll(() => page.textContent('#waterfall-axis'), { timeout: 10_000 })
+      .toMatch(new RegExp(`colours ${lo - 20}…${hi - 5} .*\\(user\\)`));
+    await page.click('#waterfall-range-reset');
+    await expect.poll(range, { timeout: 5_000 }).toEqual([lo, hi, 'baseline']);
+    await page.close();
+  }, 60_000);
+
   it("puts the demo's 50 Hz mains stripe under the spectrum chart's 50 Hz, within one pixel", async () => {
     // The demo's bridge carries 50 Hz mains pickup from 20 s of each loop (recordings/demo-scenario.json), so the
     // kept rows hold a bright 50 Hz column. Screen positions come from the DOM and uPlot's own valToPos/posToVal.
