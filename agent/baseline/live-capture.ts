@@ -9,6 +9,18 @@ import type { BandSpec } from '../../dsp/detection/band-compare.ts';
 import { defaultBands } from '../rules/default-bands.ts';
 import { BaselineCapture, baselineChannelOf } from './capture.ts';
 import type { BaselineFile } from './format.ts';
+import type { ClipNotice } from '../pipeline/types.ts';
+
+/** Why a span with an overload makes no baseline: its floor would hold the overload and hide the faults after it. */
+function overloadMessage(clips: readonly ClipNotice[], rate: number): string {
+  const count = clips.reduce((a, c) => a + c.count, 0);
+  const channels = [...new Set(clips.map((c) => c.channel))].join(', ');
+  const first = Math.min(...clips.map((c) => c.firstSample));
+  return (
+    `baseline capture: ${count} clipped sample${count === 1 ? '' : 's'} on ${channels} in the span (from sample ${first}, ` +
+    `t = ${(first / rate).toFixed(2)} s): a baseline holding an overload would hide faults; capture again over a clean span`
+  );
+}
 
 export interface LiveCaptureOptions {
   seconds: number;
@@ -42,6 +54,7 @@ export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapt
     : defaultBands(settings.sampleRate, settings.segment, windowMainLobeHalfWidth(settings.window));
   let capture: BaselineCapture | undefined;
   let taken = 0;
+  const clipped: ClipNotice[] = [];
   const offs: (() => void)[] = [];
   const stop = (): void => {
     for (const off of offs.splice(0)) off();
@@ -71,13 +84,25 @@ export function captureLive(pipeline: Pipeline, o: LiveCaptureOptions): LiveCapt
         });
         taken = Math.min(samples, b.firstSample + b.frames - capture.firstSample);
         if (capture.push(b)) {
-          stop();
-          try {
-            resolve(capture.result(pipeline.wallTimeAt(capture.endSample - 1)));
-          } catch (err) {
-            reject(err);
-          }
+          const done = capture;
+          // The pipeline reports a block's clipped samples right after the block: judge them once it has.
+          queueMicrotask(() => {
+            stop();
+            const over = clipped.filter((c) => c.lastSample >= done.firstSample && c.firstSample < done.endSample);
+            if (over.length) {
+              reject(new Error(overloadMessage(over, settings.sampleRate)));
+              return;
+            }
+            try {
+              resolve(done.result(pipeline.wallTimeAt(done.endSample - 1)));
+            } catch (err) {
+              reject(err);
+            }
+          });
         }
+      }),
+      pipeline.on('clip', (c) => {
+        if (capture) clipped.push(c);
       }),
       pipeline.on('gap', (g) => capture?.gap(g.sample + g.lost)),
       pipeline.on('end', () => {

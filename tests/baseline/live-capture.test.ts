@@ -60,4 +60,48 @@ describe('captureLive', () => {
     p.end();
     await expect(cap.result).rejects.toThrow(/ended after 1\.0 s/);
   });
+
+  for (const where of ['inside', 'in the last block'] as const) {
+    it(`refuses a span with an overload ${where} (clipped samples at full scale), naming channel and sample`, async () => {
+      // A converter at full scale reads its largest code: a clip (common practice). Full scale 1e-5 V here.
+      const p = new Pipeline({
+        analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+        mode: 'lossless',
+      });
+      p.info({ ...info, channels: [{ ...info.channels[0], fullScaleCounts: 1e-5 }] });
+      const rng = new SeededRandom(5);
+      const all = new Float64Array(FS * 12);
+      rng.fillGaussian(all, 1e-6);
+      const blk = 1000;
+      const at = where === 'inside' ? 5 * FS + 123 : blk + 10 * FS - 10; // the span is [1000, 41000)
+      for (let i = at; i < at + 8; i++) all[i] = 1e-5;
+      p.block({ firstSample: 0, frames: blk, data: [all.slice(0, blk)] });
+      const cap = captureLive(p, { seconds: 10 });
+      for (let first = blk; first < all.length; first += blk) {
+        p.block({ firstSample: first, frames: blk, data: [all.slice(first, first + blk)] });
+      }
+      await expect(cap.result).rejects.toThrow(
+        new RegExp(`8 clipped samples on ch0 in the span \\(from sample ${at}, .*capture again over a clean span`),
+      );
+    });
+  }
+
+  it('takes a clean span next to an overload that ended before it', async () => {
+    const p = new Pipeline({
+      analysis: { segment: 1024, window: 'hann', overlap: 0.5, detrend: 'mean' },
+      mode: 'lossless',
+    });
+    p.info({ ...info, channels: [{ ...info.channels[0], fullScaleCounts: 1e-5 }] });
+    const rng = new SeededRandom(6);
+    const all = new Float64Array(FS * 12);
+    rng.fillGaussian(all, 1e-6);
+    for (let i = 100; i < 108; i++) all[i] = 1e-5; // in the first block, before the capture starts
+    const blk = 1000;
+    p.block({ firstSample: 0, frames: blk, data: [all.slice(0, blk)] });
+    const cap = captureLive(p, { seconds: 10 });
+    for (let first = blk; first < all.length; first += blk) {
+      p.block({ firstSample: first, frames: blk, data: [all.slice(first, first + blk)] });
+    }
+    expect((await cap.result).span.firstSample).toBe(blk);
+  });
 });
