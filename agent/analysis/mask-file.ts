@@ -3,9 +3,12 @@
 // optional SI prefix ("V/√Hz", "nV/√Hz", "uV/rtHz"); without it the limit is in the analysed channel's unit/√Hz.
 // Refused, naming the line: non-numeric fields, frequencies that do not strictly increase, limits ≤ 0 (log-log
 // needs positive values), frequencies ≤ 0 or beyond the file's Nyquist frequency, mixed units.
-import { readFileSync } from 'node:fs';
 import type { LimitMask } from '../../dsp/measure/limit-mask.ts';
 import { AnalysisInputError } from './input-error.ts';
+import { readSmallTextFileSync } from '../input-file.ts';
+
+/** Largest mask file read (a point a line: far more points than any spectrum has bins). */
+const MAX_MASK_BYTES = 16 * 2 ** 20;
 
 export interface MaskFile extends LimitMask {
   path: string;
@@ -97,7 +100,7 @@ export function parseMaskCsv(text: string, path: string, nyquist: number): MaskF
 export function readMaskFile(path: string, nyquist: number): MaskFile {
   let text: string;
   try {
-    text = readFileSync(path, 'utf8');
+    text = readSmallTextFileSync(path, MAX_MASK_BYTES);
   } catch (err) {
     throw new AnalysisInputError(
       `--mask ${path}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give the path of a CSV mask.`,

@@ -1,10 +1,14 @@
 // The baseline file (JSON): analysis settings and their hash, per channel the averaged density with its equivalent
 // number of averages and band powers, the capture span in sample time, the settling check and free-text notes.
-import { readFile, writeFile } from 'node:fs/promises';
+import { writeFile } from 'node:fs/promises';
 import { firstSettingMismatch, settingsHash, type AnalysisSettings } from '../../protocol/settings.ts';
 import { InputError } from '../errors.ts';
+import { readSmallTextFileSync } from '../input-file.ts';
 
 export const BASELINE_SCHEMA = 'floorline.baseline/1';
+/** Largest baseline file read: 64 channels at segment 2^18 (about 28 bytes a bin) fit; V8 cannot hold a string
+ * much past 512 MiB anyway. */
+export const MAX_BASELINE_BYTES = 256 * 2 ** 20;
 
 export interface BaselineBand {
   low: number;
@@ -69,10 +73,10 @@ export async function writeBaseline(path: string, b: BaselineFile): Promise<void
 export async function readBaseline(path: string): Promise<BaselineFile> {
   let text: string;
   try {
-    text = await readFile(path, 'utf8');
+    text = readSmallTextFileSync(path, MAX_BASELINE_BYTES);
   } catch (err) {
     throw new InputError(
-      `baseline ${path}: cannot read it (${(err as Error).message}); give the path of a file made by \`floorline baseline\`.`,
+      `baseline ${path}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give the path of a file made by \`floorline baseline\`.`,
     );
   }
   let value: unknown;

@@ -2,7 +2,7 @@
 // rules, notifications, retention, data folder and server. The shape is published as a JSON Schema beside this
 // module (rig-config.schema.json) and checked with ajv; checks a schema cannot express (a webhook URL that parses,
 // an exec program that exists, a band with LO < HI, the rules' own ranges) follow, each naming the JSON path.
-import { accessSync, constants, readFileSync, statSync } from 'node:fs';
+import { accessSync, constants, statSync } from 'node:fs';
 import { dirname, isAbsolute, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import schema from './rig-config.schema.json';
@@ -10,6 +10,10 @@ import { parseBand } from '../../protocol/bands.ts';
 import { parseRules, type RulesConfig } from '../rules/rules.ts';
 import { parseWindowName } from '../../dsp/windows.ts';
 import { FloorlineError } from '../errors.ts';
+import { readSmallTextFileSync } from '../input-file.ts';
+
+/** Largest rig config read (a real one is a few kB). */
+const MAX_CONFIG_BYTES = 2 ** 20;
 
 export type NotifyState = 'raised' | 'settled' | 'cleared';
 
@@ -243,7 +247,7 @@ export function checkRigConfig(value: unknown, file: string): LoadedRigConfig {
 export function loadRigConfig(file: string): LoadedRigConfig {
   let text: string;
   try {
-    text = readFileSync(file, 'utf8');
+    text = readSmallTextFileSync(file, MAX_CONFIG_BYTES);
   } catch (err) {
     throw new ConfigError(
       `config ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message}); give the path of a rig config JSON file.`,

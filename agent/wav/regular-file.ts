@@ -4,21 +4,13 @@
 import { constants } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
 import { WavError } from './errors.ts';
+import { notRegularFile } from '../input-file.ts';
 
-export async function openRegularFile(path: string): Promise<FileHandle> {
-  const fh = await open(path, constants.O_RDONLY | constants.O_NONBLOCK);
+export async function openRegularFile(path: string, writable = false): Promise<FileHandle> {
+  const fh = await open(path, (writable ? constants.O_RDWR : constants.O_RDONLY) | constants.O_NONBLOCK);
   try {
-    const st = await fh.stat();
-    if (!st.isFile()) {
-      const what = st.isFIFO()
-        ? 'a FIFO'
-        : st.isCharacterDevice() || st.isBlockDevice()
-          ? 'a device'
-          : st.isDirectory()
-            ? 'a folder'
-            : 'not a regular file';
-      throw new WavError('WAV_IO', `${path} is ${what}; give a regular file.`);
-    }
+    const what = notRegularFile(await fh.stat());
+    if (what) throw new WavError('WAV_IO', `${path} is ${what}; give a regular file.`);
     return fh;
   } catch (err) {
     await fh.close();

@@ -1,9 +1,9 @@
 // Fixes the header of a recording left by a crash: the data chunk is taken to run to the end of the file (as our
 // writer lays it out: 'data' last), cut to whole frames, and the RIFF/data/fact sizes (RF64 past 4 GiB) rewritten.
-import { open } from 'node:fs/promises';
 import { WavError, wavIoError } from './errors.ts';
 import { isChunkId, readWavLayout, type Container } from './header.ts';
 import { sizePatches } from './sizes.ts';
+import { openRegularFile } from './regular-file.ts';
 
 export interface RepairResult {
   path: string;
@@ -21,7 +21,7 @@ export interface RepairResult {
 export async function repairWav(path: string): Promise<RepairResult> {
   let fh;
   try {
-    fh = await open(path, 'r+');
+    fh = await openRegularFile(path, true);
   } catch (err) {
     throw wavIoError(err, path, 'open');
   }

@@ -179,6 +179,8 @@ describe('FrameDecoder', () => {
     ],
     ['rate a string', descriptorJson({ ...GOOD, rate: '48000' }), '"rate"'],
     ['an absurd rate (above 10 MHz)', descriptorJson({ ...GOOD, rate: 1e9 }), '"rate"'],
+    ['a rate of 1e300 (finite, far above 10 MHz)', descriptorJson({ ...GOOD, rate: 1e300 }), '"rate"'],
+    ['a rate of 1e-300 (positive, far below 0.001 Hz)', descriptorJson({ ...GOOD, rate: 1e-300 }), '"rate"'],
     ['an unknown format', descriptorJson({ ...GOOD, format: 'int12' }), '"format"'],
     ['board not a string', descriptorJson({ ...GOOD, board: 7 }), '"board"'],
     ['firmware not a string', descriptorJson({ ...GOOD, firmware: null }), '"firmware"'],
