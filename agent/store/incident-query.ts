@@ -2,6 +2,7 @@
 import type { StoreDb } from './open-store.ts';
 import type { IncidentMember, IncidentRecord } from './incident-book.ts';
 import type { TimeBound } from './time-bound.ts';
+import { unitName } from './trend-format.ts';
 
 /** An incident as the store keeps it, with its notes. */
 export interface IncidentView extends IncidentRecord {
@@ -74,17 +75,33 @@ export function queryIncidents(db: StoreDb, from?: TimeBound, to?: TimeBound): I
   return [...iterateIncidents(db, from, to)];
 }
 
-export function incidentsCsv(list: IncidentView[]): string {
+/** Each channel's unit, from its band series (the unit its line amplitudes are in). */
+export function channelUnits(db: StoreDb): Map<string, string> {
+  const rows = db.prepare("SELECT DISTINCT channel, unit FROM series WHERE quantity = 'bandRms'").all() as {
+    channel: string;
+    unit: string;
+  }[];
+  return new Map(rows.map((r) => [r.channel, r.unit]));
+}
+
+/**
+ * One line per incident (RFC 4180 quoting for text). Amplitudes are RMS in the channel's unit, given per row in
+ * `unit` and, when every listed channel has the same one, in the amplitude columns' names too.
+ */
+export function incidentsCsv(list: IncidentView[], units: ReadonlyMap<string, string>): string {
   const q = (s: string) => (/[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s);
   const n = (v: number | null | undefined) => (v === null || v === undefined ? 'nan' : String(v));
+  const used = [...new Set(list.map((i) => units.get(i.channel)).filter((u): u is string => u !== undefined))];
+  const amp = used.length === 1 ? `amplitude_${unitName(used[0])}_rms` : 'amplitude_rms';
   const lines = [
-    'id,channel,rules,start_t_s,start_sample,start_wall,end_t_s,end_sample,end_wall,settled_level_dB,settled_amplitude,peak_level_dB,peak_amplitude,peak_sample,acknowledged,notes,capture',
+    `id,channel,unit,rules,start_t_s,start_sample,start_wall,end_t_s,end_sample,end_wall,settled_level_dB,settled_${amp},peak_level_dB,peak_${amp},peak_sample,acknowledged,notes,capture`,
   ];
   for (const i of list) {
     lines.push(
       [
         q(i.id),
         q(i.channel),
+        q(units.get(i.channel) ?? ''),
         q(i.rules.join(' ')),
         i.start.t,
         i.start.sample,

@@ -10,7 +10,7 @@ function field(text: string): string {
 }
 
 /** Column-name form of a unit: letters, digits and underscores only (so readers keep the name as written). */
-function unitName(unit: string): string {
+export function unitName(unit: string): string {
   return unit
     .replace(/\//g, '_per_')
     .replace(/√/g, 'rt')

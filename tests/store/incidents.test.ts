@@ -4,11 +4,14 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { tempDir } from '../wav/support.ts';
+import { afterAll } from 'vitest';
+import { Python, tempDir } from '../wav/support.ts';
 import { cliIn, replayDemoIntoStore } from './support.ts';
 
 let dir: string;
 let store: string;
+let py: Python | undefined;
+afterAll(() => py?.close());
 const floorline = cliIn(() => dir);
 
 beforeAll(() => {
@@ -64,5 +67,46 @@ describe('floorline incidents', () => {
       floorline('incidents', '--store', store, '--from', 't=45', '--to', 't=46', '--json').stdout,
     ) as { incidents: { rules: string[] }[] };
     expect(span.incidents.map((x) => x.rules[0])).toEqual(['mains', 'spur', 'band-rise']);
+  });
+
+  it('--csv has units in its header and reads with python csv and numpy.genfromtxt, the JSON numbers kept', async () => {
+    // A note with a comma and quotes: RFC 4180 quoting keeps it one field.
+    const note = 'heater relay on, "chamber B"';
+    const json = JSON.parse(floorline('incidents', '--store', store, '--json').stdout) as {
+      incidents: {
+        id: string;
+        settled: { levelDb: number; amplitude?: number } | null;
+        peak: { sample: number } | null;
+      }[];
+    };
+    expect(floorline('note', '--store', store, '--incident', json.incidents[1].id, note).status).toBe(0);
+    const r = floorline('incidents', '--store', store, '--csv');
+    expect(r.status, r.stderr).toBe(0);
+    const header = r.stdout.split('\n')[0];
+    // The demo's channels are in volts (recordings/README.md): the amplitude columns say so.
+    expect(header).toContain('settled_amplitude_V_rms');
+    expect(header).toContain('peak_level_dB');
+    py ??= new Python();
+    const read = await py.run<{
+      notes: string[];
+      settled: (number | null)[];
+      peakSample: (number | null)[];
+      units: string[];
+    }>(
+      `import io, csv, math
+rows = list(csv.DictReader(io.StringIO(args[0])))
+# numpy.genfromtxt reads the numeric columns by name (its default delimiter is whitespace, hence delimiter=',';
+# it does not parse quotes, so the columns are chosen before the quoted notes).
+names = rows and list(rows[0].keys())
+a = np.genfromtxt(io.StringIO(args[0]), delimiter=',', names=True, usecols=(names.index('settled_level_dB'), names.index('peak_sample')))
+fin = lambda v: None if math.isnan(v) else float(v)
+result = {"notes": [r['notes'] for r in rows], "units": [r['unit'] for r in rows],
+  "settled": [fin(v) for v in np.atleast_1d(a['settled_level_dB'])], "peakSample": [fin(v) for v in np.atleast_1d(a['peak_sample'])]}`,
+      r.stdout,
+    );
+    expect(read.notes[1]).toBe(note);
+    expect(read.units.slice(0, 3)).toEqual(['V', 'V', 'V']);
+    expect(read.settled).toEqual(json.incidents.map((i) => i.settled?.levelDb ?? null));
+    expect(read.peakSample).toEqual(json.incidents.map((i) => i.peak?.sample ?? null));
   });
 });

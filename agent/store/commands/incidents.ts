@@ -3,7 +3,7 @@ import { defineCommand, defineFlags, type ParsedArgs } from '../../cli/args.ts';
 import { formatSi } from '../../../protocol/si.ts';
 import { storePathFromArgs } from '../cli-flags.ts';
 import { openStoreForReading } from '../open-store.ts';
-import { incidentsCsv, queryIncidents, type IncidentView } from '../incident-query.ts';
+import { channelUnits, incidentsCsv, queryIncidents, type IncidentView } from '../incident-query.ts';
 import { OUTPUT_FLAGS, SPAN_FLAGS, STORE_SOURCE_FLAGS, readOutput, readSpan } from './query-flags.ts';
 
 function describe(i: IncidentView, unit: string): string {
@@ -24,17 +24,10 @@ async function runIncidents(args: ParsedArgs<typeof INCIDENTS_FLAGS>): Promise<n
   const db = openStoreForReading(storePathFromArgs(f));
   try {
     const list = queryIncidents(db, span.from, span.to);
+    const units = channelUnits(db);
     if (output === 'json') process.stdout.write(JSON.stringify({ incidents: list }) + '\n');
-    else if (output === 'csv') process.stdout.write(incidentsCsv(list));
+    else if (output === 'csv') process.stdout.write(incidentsCsv(list, units));
     else {
-      const units = new Map(
-        (
-          db.prepare("SELECT channel, unit FROM series WHERE quantity = 'bandRms'").all() as {
-            channel: string;
-            unit: string;
-          }[]
-        ).map((r) => [r.channel, r.unit]),
-      );
       process.stdout.write(
         list.length
           ? list.map((i) => describe(i, units.get(i.channel) ?? '')).join('\n') + '\n'
