@@ -14,6 +14,7 @@ const realtime = [
   'tests/notify/pty-incidents.test.ts',
   'tests/service/reload.test.ts',
   'tests/service/log-lines.test.ts',
+  'tests/store/commit-stall.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 

@@ -12,7 +12,7 @@ import { ReplaySource } from '../../agent/sources/replay.ts';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { testMonitorOptions } from '../support/monitor-options.ts';
 
-const STALL_MS = 1500;
+const STALL_MS = 2000;
 let dir: string;
 let store: string;
 let py: Python;
