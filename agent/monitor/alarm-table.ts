@@ -52,11 +52,9 @@ export class AlarmTable {
   }
 
   /** Marks the rows the rules acknowledged together with `row` (same rule and channel; same band for band rules). */
+  /** Marks that one alarm acknowledged while raised (an incident's acknowledge marks each of its members). */
   markAcknowledged(row: AlarmRow): void {
-    for (const r of this.rows.values()) {
-      if (r.rule !== row.rule || r.channel !== row.channel) continue;
-      if (row.rule === 'band-rise' && r.id !== row.id) continue;
-      if (r.state === 'raised') r.acknowledged = true;
-    }
+    const r = this.rows.get(row.id);
+    if (r && r.state === 'raised') r.acknowledged = true;
   }
 }

@@ -442,7 +442,8 @@ export class Monitor implements PartSink {
       return ok;
     }
     const { row, band } = this.resolve(id);
-    const n = this.hook.detectors?.acknowledge(row.rule, row.channel, band) ?? 0;
+    // A line's id names that line: the others of its rule on the channel keep their own state.
+    const n = this.hook.detectors?.acknowledge(row.rule, row.channel, band, row.frequency) ?? 0;
     if (n > 0) {
       this.alarmTable.markAcknowledged(row);
       this.operatorEvent(row, 'acknowledged', `${row.rule} on ${row.channel} acknowledged by the operator`, {
@@ -470,7 +471,7 @@ export class Monitor implements PartSink {
       return ok;
     }
     const { row, band } = this.resolve(id);
-    const n = this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band) ?? 0;
+    const n = this.hook.detectors?.shelve(row.rule, row.channel, untilSample, band, row.frequency) ?? 0;
     if (n > 0)
       this.operatorEvent(
         row,

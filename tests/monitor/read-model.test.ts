@@ -39,8 +39,8 @@ describe('alarm table', () => {
     t.onEvent(event('mains', 'raised', { harmonic: 1, frequency: 50.01 }));
     t.onEvent(event('mains', 'raised', { harmonic: 3, frequency: 150.02 }));
     expect(t.all().map((r) => r.id)).toEqual(['mains/ch0/h1', 'mains/ch0/h3']);
-    t.markAcknowledged(t.get('mains/ch0/h1')!); // the rules acknowledge every mains line of the channel together
-    expect(t.all().every((a) => a.acknowledged)).toBe(true);
+    t.markAcknowledged(t.get('mains/ch0/h1')!); // one line's id: that line only
+    expect(t.all().map((a) => a.acknowledged)).toEqual([true, false]);
     t.onEvent(event('mains', 'raised', { harmonic: 1, frequency: 50.02 })); // a repeat while raised
     expect(t.get('mains/ch0/h1')?.acknowledged).toBe(true);
     t.onEvent(event('mains', 'cleared', { harmonic: 3, frequency: 150.02 }));
@@ -171,6 +171,32 @@ describe('monitor incidents', () => {
     const spur = rows.filter((r) => r.rule === 'spur' && r.channel === 'shorted' && r.state === 'raised');
     expect(spur.length).toBeGreaterThan(0);
     expect(spur.every((r) => !r.acknowledged)).toBe(true);
+  });
+});
+
+describe('acknowledge and shelve by alarm id', () => {
+  it("touch only the line the id names: the demo's 1953 Hz spur, not its 3906 Hz harmonic", async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'floorline-line-ack-'));
+    const src = new ReplaySource(join(root, 'recordings/demo.wav'), { speed: 'max', loop: false });
+    const m = await startMonitor(src, testMonitorOptions(dir));
+    await src.done;
+    await m.finished;
+    const spur = () =>
+      m.status().alarms.filter((r) => r.rule === 'spur' && r.channel === 'shorted' && r.state === 'raised');
+    // recordings/README.md scripts the board's regulator at 1953.3 Hz with its second harmonic at 3906.6 Hz.
+    const [low, high] = [...spur()].sort((a, b) => a.frequency! - b.frequency!);
+    expect(low.frequency).toBeCloseTo(1953.3, 0);
+    expect(high.frequency).toBeCloseTo(3906.6, 0);
+    expect(m.acknowledge(low.id)).toBe(true);
+    expect(spur().map((r) => [r.id, r.acknowledged])).toEqual(
+      expect.arrayContaining([
+        [low.id, true],
+        [high.id, false],
+      ]),
+    );
+    // Shelving the other line by its id leaves the acknowledged one as it was.
+    expect(m.shelve(high.id, 10 ** 9)).toBe(true);
+    expect(spur().find((r) => r.id === low.id)?.acknowledged).toBe(true);
   });
 });
 
