@@ -630,7 +630,7 @@ export class Monitor implements PartSink {
     if (!r)
       throw new MonitorRefusal(
         'unsupported',
-        `no usable data folder at ${this.folder.root}, so nothing can be recorded`,
+        'no usable data folder (the agent said why when it started), so nothing can be recorded',
       );
     return recordingState(on ? r.startRecording() : r.stopRecording());
   }
@@ -644,6 +644,7 @@ export class Monitor implements PartSink {
       },
       averaging: change.averaging,
     });
+    this.hook.settingsChangedLive();
   }
 
   /** Liveness (GET /healthz): samples arriving and analysis keeping up. */

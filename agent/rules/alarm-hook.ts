@@ -29,6 +29,9 @@ export class AlarmHook implements Detector {
   private info: StreamInfo | undefined;
   private set: Detectors | undefined;
   private baselineDropped = false;
+  /** A set was built once, or a client changed the settings: a baseline mismatch from then on drops the baseline
+   * (with an event) instead of refusing the run, which only the settings the run started with may do. */
+  private started = false;
   /** A baseline handed over while running (e.g. captured from the dashboard), applied at the next snapshot. */
   private pendingBaseline: { baseline: BaselineFile; where: string } | undefined;
   private readonly onBuild: ((d: Detectors) => void)[] = [];
@@ -130,8 +133,14 @@ export class AlarmHook implements Detector {
     if (this.retired.length > MAX_CLOSED_INCIDENTS) this.retired.splice(0, this.retired.length - MAX_CLOSED_INCIDENTS);
   }
 
+  /** The analysis settings were changed while running (a client's set-analysis): never refuse the run for them. */
+  settingsChangedLive(): void {
+    this.started = true;
+  }
+
   private build(snap: SpectrumSnapshot, pre: FloorlineEvent[]): void {
-    const first = this.set === undefined;
+    const first = !this.started;
+    this.started = true;
     let baseline = this.o.baseline;
     const mismatch = baseline ? firstSettingMismatch(baseline.settings, snap.settings) : undefined;
     if (baseline && !mismatch && this.baselineDropped) {

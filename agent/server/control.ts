@@ -22,6 +22,18 @@ function errorOf(err: unknown): WireError {
   return { code: 'failed', message: e instanceof Error ? e.message : String(err) };
 }
 
+/** A client sees files relative to the data folder: where the agent keeps its data is not its business. */
+function relativeToFolder(e: WireError, root: string): WireError {
+  const base = root.replace(/\/+$/, '');
+  if (!base) return e;
+  const message = e.message
+    .split(base + '/')
+    .join('')
+    .split(base)
+    .join('the data folder');
+  return message === e.message ? e : { ...e, message };
+}
+
 export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promise<ReplyMessage> {
   const { backend } = deps;
   try {
@@ -75,6 +87,12 @@ export async function handleRequest(m: ClientMessage, deps: ControlDeps): Promis
         return { type: 'reply', id: m.id, request: m.type, ok: true, result: { status: deps.status() } };
     }
   } catch (err) {
-    return { type: 'reply', id: m.id, request: m.type, ok: false, error: errorOf(err) };
+    return {
+      type: 'reply',
+      id: m.id,
+      request: m.type,
+      ok: false,
+      error: relativeToFolder(errorOf(err), backend.dataRoot),
+    };
   }
 }
