@@ -1,5 +1,5 @@
 import { afterAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { closeSync, mkdtempSync, openSync, writeFileSync, writeSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { SerialSource } from '../../agent/sources/serial.ts';
@@ -77,5 +77,23 @@ describe('serial source on a damaged link', () => {
     // Text carries volts printed shortest-round-trip (ECMAScript Number::toString), so parsing gives them back.
     const { volts } = regenerateCounts(scenario, 4, total);
     expect(firstMismatch(sink.data, volts, sink.seen)).toBe(-1);
+  }, 60000);
+
+  it('counts bad text lines in the source counters (status, /metrics and the health strip read them) and passes 1e999 on as +Inf', async () => {
+    await pair.start();
+    const source = new SerialSource({ port: pair.host, format: 'text', rate: 1000 });
+    const sink = new CollectingSink(16);
+    await source.start(sink);
+    // Written straight to the board end of the pty: a header, good lines, and three bad ones (wrong count, a
+    // word, an empty field). 1e999 is a well-formed number that overflows a double to +Inf (IEEE 754), so it is
+    // delivered and left to the pipeline's non-finite policy.
+    const board = openSync(pair.board, 'w');
+    writeSync(board, 'a,b\n1,2\n3,4,5\nx,1\n1e999,0\n,\n6,7\n');
+    closeSync(board);
+    await waitFor('the last good line', () => sink.delivered >= 3, 10000);
+    await source.stop();
+    expect(source.counters().syncErrors).toBe(3);
+    expect(Array.from(sink.data[0].subarray(0, 3))).toEqual([1, Infinity, 6]);
+    await pair.kill();
   }, 60000);
 });
