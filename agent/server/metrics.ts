@@ -165,6 +165,21 @@ export function renderMetrics(status: AgentStatus, version: string): string {
     x.family('floorline_retention_deleted_files', 'counter', 'Recording files deleted by the retention quotas.');
     x.sample('floorline_retention_deleted_files_total', {}, d.deletedFiles);
   }
+  if (status.store) {
+    const st = status.store;
+    x.family(
+      'floorline_store_commit_stalls',
+      'counter',
+      'Times the history store went 10 s without a commit while rows waited.',
+    );
+    x.sample('floorline_store_commit_stalls_total', {}, st.commitStalls);
+    x.family('floorline_store_stalled', 'gauge', '1 while the history store is not committing although rows wait.');
+    x.sample('floorline_store_stalled', {}, st.stalled ? 1 : 0);
+    x.family('floorline_store_storing', 'gauge', '0 while the disk refuses the history store (history not kept).');
+    x.sample('floorline_store_storing', {}, st.storing ? 1 : 0);
+    x.family('floorline_store_pending_rows', 'gauge', 'Trend rows and records waiting for the next commit.');
+    x.sample('floorline_store_pending_rows', {}, st.pending);
+  }
   x.family('floorline_recording_active', 'gauge', '1 while a continuous recording is being written.');
   x.sample('floorline_recording_active', {}, status.recording.state === 'recording' ? 1 : 0);
   x.family(
