@@ -74,7 +74,7 @@ describe('file handles', () => {
           '/api/status after the flood',
           async () => {
             try {
-              status = await (await fetch(`http://127.0.0.1:${port}/api/status`)).json();
+              status = (await (await fetch(`http://127.0.0.1:${port}/api/status`)).json()) as typeof status;
               return true;
             } catch {
               return false;
