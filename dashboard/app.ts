@@ -7,6 +7,7 @@ import { decodeFrame, type DecodedFrame } from '../protocol/frame.ts';
 import { Link, type Request } from './connection.ts';
 import { SpectrumView } from './views/spectrum.ts';
 import { WaterfallView } from './views/waterfall.ts';
+import { CoherenceView } from './views/coherence.ts';
 import { BandTable } from './views/band-table.ts';
 import { EventList } from './views/event-list.ts';
 import { IncidentPanel } from './views/incident-panel.ts';
@@ -32,6 +33,7 @@ const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) 
 
 export class App {
   readonly spectrum = new SpectrumView($('spectrum'), $('readout'));
+  readonly coherence = new CoherenceView($('coherence'), $('coherence-info'));
   readonly waterfall = new WaterfallView(
     $('waterfall'),
     $('waterfall-legend'),
@@ -155,6 +157,9 @@ export class App {
     $<HTMLSelectElement>('spectrum-mode').addEventListener('change', (e) =>
       this.setSpectrumMode((e.target as HTMLSelectElement).value === 'logf'),
     );
+    $<HTMLInputElement>('show-coherence').addEventListener('change', (e) =>
+      this.coherence.show((e.target as HTMLInputElement).checked),
+    );
     this.waterfall.onRange = (low, high) => {
       $<HTMLInputElement>('waterfall-low').value = String(low);
       $<HTMLInputElement>('waterfall-high').value = String(high);
@@ -201,6 +206,9 @@ export class App {
         break;
       case 'lowfreq':
         this.logFrequency.update(m.update);
+        break;
+      case 'coherence':
+        this.coherence.update(m);
         break;
       case 'info':
       case 'reply':
@@ -336,6 +344,7 @@ export class App {
   private setStatus(s: AgentStatus): void {
     this.status = s;
     this.health.update(s);
+    this.coherence.setThresholds(s.coherence);
     // Band figures are amplitudes: referred by the square root of the PSD factor, the unit naming the point.
     const refer = new Map<string, { unit: string; amplitude: number }>();
     const factors = this.spectrum.psdFactors();

@@ -1,5 +1,6 @@
 // Every message between the agent and the dashboard, as one discriminated union per direction (on `type`).
 // Pure types plus a few constants: the dashboard bundle imports this module, so no Node or DOM here.
+import type { CoherenceTraceMessage } from './coherence-messages.ts';
 import type { ChannelFront } from './front-end.ts';
 import type { FloorlineEvent, EventRule } from './events.ts';
 import type { AnalysisSettings, AveragingSpec } from './settings.ts';
@@ -290,6 +291,7 @@ export type ServerMessage =
   /** Added in protocol 1 without a bump: new message types only, which older pages ignore. */
   | { type: 'lowfreq-context'; context: LowFrequencyContext }
   | { type: 'lowfreq'; update: LowFrequencyUpdate }
+  | CoherenceTraceMessage
   | ReplyMessage
   /** A message that could not be answered as a reply (bad JSON, no usable id). */
   | { type: 'error'; error: WireError };

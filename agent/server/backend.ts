@@ -18,6 +18,8 @@ export interface ServerSnapshot {
   nenbw: number;
   enbwHz: number;
   channels: { name: string; unit: string; psd: Float64Array; equivalentAverages: number }[];
+  /** Channel pairs' coherence, when the pipeline cross-analyses them. */
+  coherence?: readonly { a: string; b: string; coherence: Float64Array; equivalentAverages: number }[];
 }
 
 /** Calibrated samples in channel units; arrays may be reused by the caller after the callback returns. */

@@ -1,5 +1,6 @@
 // HTTP + WebSocket server of the agent: dashboard assets, /api/status, /metrics, read-only data files, and /ws
 // (JSON control messages in, JSON messages and binary frames out). Binds 127.0.0.1 by default.
+import { coherenceTrace } from './coherence-trace.ts';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
@@ -154,6 +155,7 @@ export async function startServer(
   };
 
   let lastBaselineFile: string | null = null;
+  let lastCoherenceSample = -Infinity;
   const unsubscribe = backend.subscribe({
     info: (info) => {
       hub.resetTrace(info.channels.length);
@@ -170,6 +172,11 @@ export async function startServer(
       }
       if (hub.clients.size === 0) return;
       hub.offer('spectrum', hub.spectrumFrame(s, context!.id));
+      const coherence = coherenceTrace(s, lastCoherenceSample);
+      if (coherence) {
+        lastCoherenceSample = s.sample;
+        hub.json(coherence);
+      }
       const trace = hub.traceFrame(s.settings.sampleRate);
       if (trace) hub.offer('trace', trace);
     },
