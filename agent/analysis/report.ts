@@ -14,6 +14,7 @@ import { defaultBands } from '../rules/default-bands.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
 import { channelFullScale, channelLsb, ClipScan } from './clip-scan.ts';
 import { AnalysisInputError } from './input-error.ts';
+import { applyUnitOverride } from '../wav/unit-override.ts';
 import { findLines, makeLineSearch, type ReportLine } from './lines.ts';
 import { readMaskFile } from './mask-file.ts';
 import { budgetReport, type BudgetReport } from './budget-report.ts';
@@ -152,15 +153,8 @@ export function validateSettings(options: AnalyzeOptions): string {
 }
 
 function applyUnit(info: WavInfo, unit: string | undefined, path: string): void {
-  if (unit === undefined) return;
-  for (const ch of info.channels) {
-    if (ch.unit === 'FS') ch.unit = unit;
-    else if (ch.unit !== unit) {
-      throw new AnalysisInputError(
-        `--unit ${unit}: channel ${ch.name} of ${path} is already in ${ch.unit} by its metadata; drop --unit or fix the metadata.`,
-      );
-    }
-  }
+  const problem = applyUnitOverride(info.channels, unit, path);
+  if (problem) throw new AnalysisInputError(problem);
 }
 
 /** How a channel is referred: `divide` is the gain to divide by (none when the samples stay as they are). */

@@ -7,6 +7,7 @@ import { basename } from 'node:path';
 import type { ChannelInfo, Source, SourceCounters, SourceSink, StreamInfo } from '../../protocol/stream.ts';
 import { WavReader, type WavInfo } from '../wav/reader.ts';
 import { nextFileOfRun } from './rotated-run.ts';
+import { applyUnitOverride } from '../wav/unit-override.ts';
 
 export type ReplaySpeed = number | 'max';
 
@@ -21,6 +22,8 @@ export interface ReplayOptions {
   blockFrames?: number;
   /** Volts per full scale for integer PCM or unlabelled float files from elsewhere. */
   scale?: number;
+  /** The unit of channels that read as FS (a float file from elsewhere already in volts: 'V'). */
+  unit?: string;
   /** With loop and a later start: each loop after the first plays the whole file, not from the start point (the
    *  demo opens near its first event, then loops over the whole recording so sample time mod its length stays
    *  the recording's own time). */
@@ -130,6 +133,11 @@ export class ReplaySource implements Source {
     }
     this.reader = reader;
     const info = reader.info;
+    const unitProblem = applyUnitOverride(info.channels, this.options.unit, this.path);
+    if (unitProblem) {
+      await reader.close();
+      throw Object.assign(new RangeError(unitProblem), { exitCode: 2 });
+    }
     const startFrame = this.resolveStart(info);
     reader.seek(startFrame);
     // A file from elsewhere has no start time: label it as ending at its modification time, so the labels of a

@@ -1,4 +1,5 @@
 // `floorline analyze FILE`: offline report of a whole recording (docs/ARCHITECTURE.md "analyze --json").
+import { UNIT_FLAG } from './unit-flag.ts';
 import { threadsFlag } from './threads-flag.ts';
 import { resolveThreads } from '../../workers/threads.ts';
 import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
@@ -173,12 +174,7 @@ const ANALYZE_FLAGS = defineFlags([
     value: 'A:B',
     help: 'magnitude-squared coherence and CSD of two channels (names or 0-based indices)',
   },
-  {
-    name: 'unit',
-    kind: 'string',
-    value: 'U',
-    help: 'unit of samples that read as FS (e.g. a float file from another tool already in volts: --unit V)',
-  },
+  UNIT_FLAG,
   {
     name: 'input-referred',
     kind: 'boolean',

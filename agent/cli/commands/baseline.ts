@@ -1,5 +1,7 @@
 // `floorline baseline FILE -o BASELINE.json`: capture a baseline (averaged density, band powers, settling check)
 // from a recording, with the same analysis settings the live pipeline will use.
+import { applyUnitOverride } from '../../wav/unit-override.ts';
+import { UNIT_FLAG } from './unit-flag.ts';
 import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import { ANALYSIS_FLAGS, readAnalysisFlags } from './monitor-flags.ts';
@@ -36,6 +38,8 @@ async function runBaseline(args: ParsedArgs<typeof BASELINE_FLAGS>): Promise<num
   }
   try {
     const info = reader.info;
+    const unitProblem = applyUnitOverride(info.channels, f.unit, file);
+    if (unitProblem) throw new InputError(`floorline baseline: ${unitProblem}`);
     for (const w of info.warnings) process.stderr.write(`floorline baseline: warning: ${w}\n`);
     const settings: AnalysisSettings = {
       sampleRate: info.sampleRate,
@@ -138,6 +142,7 @@ const BASELINE_FLAGS = defineFlags([
     min: Number.MIN_VALUE,
     help: 'volts per full scale for integer PCM or unlabelled float files',
   },
+  UNIT_FLAG,
   { name: 'notes', kind: 'string', value: 'TEXT', help: 'free text stored with the baseline' },
   ...ANALYSIS_FLAGS,
 ]);

@@ -1,4 +1,5 @@
 // `floorline replay FILE`: the live pipeline fed from a recording, at real time, N× or as fast as it goes.
+import { UNIT_FLAG } from './unit-flag.ts';
 import { createWriteStream } from 'node:fs';
 import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { threadsFlag } from './threads-flag.ts';
@@ -75,6 +76,7 @@ async function runReplay(args: ParsedArgs<typeof REPLAY_FLAGS>): Promise<number>
     startSample: f['start-sample'],
     startTime: f['start-time'],
     scale: f.scale,
+    unit: f.unit,
   });
   const snapshotsOut = f['snapshots-out'];
   const baseline = await baselineInConfigUnits(args, file, rig?.config.channels);
@@ -133,6 +135,7 @@ const REPLAY_FLAGS = defineFlags([
     min: 0,
     help: 'volts per full scale for integer PCM or unlabelled float files',
   },
+  UNIT_FLAG,
   { name: 'no-server', kind: 'boolean', help: 'do not serve the dashboard; print to the terminal only' },
   {
     name: 'snapshots-out',
