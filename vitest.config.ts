@@ -15,6 +15,9 @@ const realtime = [
   'tests/service/reload.test.ts',
   'tests/service/log-lines.test.ts',
   'tests/store/commit-stall.test.ts',
+  'tests/monitor/live-settings.test.ts',
+  'tests/server/file-handles.test.ts',
+  'tests/server/leaks.test.ts',
   'tests/browser/**/*.test.ts',
 ];
 
