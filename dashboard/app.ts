@@ -8,7 +8,7 @@ import { Link, type Request } from './connection.ts';
 import { SpectrumView } from './views/spectrum.ts';
 import { WaterfallView } from './views/waterfall.ts';
 import { CoherenceView } from './views/coherence.ts';
-import { BandTable } from './views/band-table.ts';
+import { BandTable, type BandUnits } from './views/band-table.ts';
 import { EventList } from './views/event-list.ts';
 import { IncidentPanel } from './views/incident-panel.ts';
 import { TimelineView, pickSeries, timelineSpan, trendUrl, type TimelineQuery } from './views/timeline.ts';
@@ -23,11 +23,13 @@ import { HealthStrip } from './views/health.ts';
 import { Controls } from './views/controls.ts';
 import { NoiseBudgetForm } from './views/noise-budget.ts';
 import { LogFrequencyView } from './views/log-frequency.ts';
-import { contextLine, download, spectrumCsv, spectrumPng } from './export.ts';
+import { download, spectrumPng } from './export.ts';
+import { contextLine, spectrumCsv } from './spectrum-csv.ts';
 import { logFrequencyCsv } from './log-frequency-csv.ts';
 import { channelColour, channelDash } from './colours.ts';
-import { densityLabel } from './units.ts';
-import { referralSuffix, type ReferredTo } from './referral.ts';
+import { isConverterUnit, type DensityUnit } from './units.ts';
+import { type ReferredTo } from './referral.ts';
+import { limitMasksProblem } from '../protocol/limit-masks.ts';
 
 const $ = <T extends HTMLElement>(id: string): T => document.getElementById(id) as T;
 
@@ -107,7 +109,7 @@ export class App {
       this.setReferral((e.target as HTMLSelectElement).value as ReferredTo),
     );
     this.controls = new Controls(link, {
-      units: (u) => this.spectrum.setUnits(u),
+      units: (u) => this.setUnits(u),
       maxHold: (on) => this.spectrum.setOverlays({ maxHold: on }),
       resetMaxHold: () => this.spectrum.resetMaxHold(),
       baselineOverlay: (on) => this.spectrum.setOverlays({ baseline: on }),
@@ -210,6 +212,13 @@ export class App {
       case 'coherence':
         this.coherence.update(m);
         break;
+      case 'masks': {
+        // Checked as the agent checked it: a page never draws a shape it does not understand.
+        const problem = limitMasksProblem(m);
+        if (problem) console.warn(`floorline: limit masks ignored: ${problem}`);
+        else this.spectrum.setMasks(m.masks);
+        break;
+      }
       case 'info':
       case 'reply':
       case 'error':
@@ -248,7 +257,22 @@ export class App {
   /** Refers the spectrum, its overlays, the readout, the band table and the exports to the input or the ADC. */
   setReferral(view: ReferredTo): void {
     this.spectrum.setReferral(view);
-    $<HTMLSelectElement>('refer').value = view;
+    this.showUnitState();
+  }
+
+  /** The unit of the spectrum, the readout, the band table and the exports; dBFS and LSB are at the ADC. */
+  setUnits(u: DensityUnit): void {
+    this.spectrum.setUnits(u);
+    this.showUnitState();
+  }
+
+  /** The referral switch says the point shown (and is fixed at the ADC for dBFS and LSB); the figures follow. */
+  private showUnitState(): void {
+    const refer = $<HTMLSelectElement>('refer');
+    refer.value = this.spectrum.referredTo;
+    refer.disabled = isConverterUnit(this.spectrum.unitChoice);
+    refer.title = refer.disabled ? 'dBFS and LSB are re the converter: shown at the ADC' : '';
+    $<HTMLSelectElement>('units').value = this.spectrum.unitChoice;
     this.showBudgetFloor();
     if (this.status) this.setStatus(this.status);
   }
@@ -286,7 +310,9 @@ export class App {
     this.budget.prefill(ctx.channels.find((c) => c.front?.budget)?.front);
     const gainKnown = ctx.channels.some((c) => c.front?.gain !== undefined);
     $('refer-label').hidden = !gainKnown;
+    this.controls.showUnits(this.spectrum.unitChoices(), ctx.channels[0]?.unit ?? 'V', this.spectrum.unitChoice);
     $<HTMLSelectElement>('refer').value = this.spectrum.referredTo;
+    $<HTMLSelectElement>('refer').disabled = isConverterUnit(this.spectrum.unitChoice);
     this.budget.recompute();
     $('spectral-context').textContent = contextLine(ctx, null);
     if (this.pendingBaseline) {
@@ -345,16 +371,21 @@ export class App {
     this.status = s;
     this.health.update(s);
     this.coherence.setThresholds(s.coherence);
-    // Band figures are amplitudes: referred by the square root of the PSD factor, the unit naming the point.
-    const refer = new Map<string, { unit: string; amplitude: number }>();
-    const factors = this.spectrum.psdFactors();
-    const view = this.spectrum.referredTo;
+    // Band figures are amplitudes: referred (and scaled for dBFS or LSB) by the square root of the PSD factor,
+    // the unit naming the point.
+    const refer = new Map<string, BandUnits>();
+    const factors = this.spectrum.displayFactors();
+    const shown = this.spectrum.unitChoice;
     this.context?.channels.forEach((c, i) =>
-      refer.set(c.name, { unit: c.unit + referralSuffix(c.front, view), amplitude: Math.sqrt(factors[i] ?? 1) }),
+      refer.set(c.name, {
+        unit: c.unit + this.spectrum.where(c.front),
+        amplitude: Math.sqrt(factors[i] ?? 1),
+        shown,
+      }),
     );
     this.bands.update(
       s.bands,
-      new Map(s.channels.map((c) => [c.name, refer.get(c.name) ?? { unit: c.unit, amplitude: 1 }])),
+      new Map(s.channels.map((c) => [c.name, refer.get(c.name) ?? { unit: c.unit, amplitude: 1, shown: 'asd' }])),
       s.spectrumSample,
     );
     this.spectrum.setBands(s.bands);
@@ -526,7 +557,7 @@ export class App {
       `floorline-spectrum-${f.sample}.csv`,
       spectrumCsv(this.context, f, this.spectrum.unitChoice, this.status?.wallTime ?? '', {
         view: this.spectrum.referredTo,
-        factors: this.spectrum.psdFactors(),
+        factors: this.spectrum.displayFactors(),
       }),
       'text/csv',
     );
@@ -547,7 +578,9 @@ export class App {
     const ctx = this.context;
     if (!c || !ctx) return;
     const legend = ctx.channels.map((ch, i) => ({
-      label: `${ch.name} (${ch.unit}${referralSuffix(ch.front, this.spectrum.referredTo)})`,
+      label: isConverterUnit(this.spectrum.unitChoice)
+        ? ch.name
+        : `${ch.name} (${ch.unit}${this.spectrum.where(ch.front)})`,
       colour: channelColour(i),
       dash: channelDash(i),
     }));

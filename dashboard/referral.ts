@@ -9,11 +9,16 @@ export function receivedAt(front: ChannelFront | undefined): ReferredTo {
   return front?.inputReferred ? 'input' : 'adc';
 }
 
-/** Factor on a received PSD to show it at `view`: 1 where the gain is unknown or the point is the same. */
-export function psdFactor(front: ChannelFront | undefined, view: ReferredTo): number {
+/** Factor on a PSD referred to `from` that refers it to `to`: 1 where the gain is unknown or the point is the same. */
+export function psdFactorBetween(front: ChannelFront | undefined, from: ReferredTo, to: ReferredTo): number {
   const g = front?.gain;
-  if (g === undefined || view === receivedAt(front)) return 1;
-  return view === 'input' ? 1 / (g * g) : g * g;
+  if (g === undefined || from === to) return 1;
+  return to === 'input' ? 1 / (g * g) : g * g;
+}
+
+/** Factor on a received PSD to show it at `view`. */
+export function psdFactor(front: ChannelFront | undefined, view: ReferredTo): number {
+  return psdFactorBetween(front, receivedAt(front), view);
 }
 
 /** The label suffix naming the point, empty where the gain is unknown (then there is only one point). */

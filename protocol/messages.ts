@@ -6,6 +6,7 @@ import type { FloorlineEvent, EventRule } from './events.ts';
 import type { AnalysisSettings, AveragingSpec } from './settings.ts';
 import type { StreamInfo, SourceKind } from './stream.ts';
 import type { LowFrequencyContext, LowFrequencyStatus, LowFrequencyUpdate } from './low-frequency-messages.ts';
+import type { LimitMasksMessage } from './limit-masks.ts';
 
 /** Bumped on any incompatible change to these messages or to the binary frame layout. */
 export const WIRE_PROTOCOL_VERSION = 2;
@@ -292,6 +293,8 @@ export type ServerMessage =
   | { type: 'lowfreq-context'; context: LowFrequencyContext }
   | { type: 'lowfreq'; update: LowFrequencyUpdate }
   | CoherenceTraceMessage
+  /** The limit masks drawn with the spectrum (protocol/limit-masks.ts); a new type, which older pages ignore. */
+  | LimitMasksMessage
   | ReplyMessage
   /** A message that could not be answered as a reply (bad JSON, no usable id). */
   | { type: 'error'; error: WireError };

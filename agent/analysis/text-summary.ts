@@ -2,7 +2,7 @@
 // RMS, the floor density (median ASD over the non-DC bins, robust to a few spurs) with its confidence interval,
 // each band's RMS, and what was asked for (lines, cumulative RMS, mask verdict, noise figure), with SI prefixes.
 import { densityIntervalFactors } from '../../dsp/logfreq/confidence.ts';
-import { rmsToDbfs, powerRatioDb } from '../../dsp/units.ts';
+import { rmsToDbfs, rmsToLsb, powerRatioDb } from '../../dsp/units.ts';
 import type { AnalysisReport, ChannelReport } from './report.ts';
 import { formatSi } from '../../protocol/si.ts';
 
@@ -52,7 +52,7 @@ function channelLines(r: AnalysisReport, ch: ChannelReport): string[] {
   const atAdc = floor * (ch.gain ?? 1);
   const views = [
     ch.fullScale !== undefined ? `${rmsToDbfs(atAdc, ch.fullScale).toFixed(1)} dBFS/√Hz` : '',
-    ch.lsb !== undefined ? `${(atAdc / ch.lsb).toPrecision(3)} LSB/√Hz` : '',
+    ch.lsb !== undefined ? `${rmsToLsb(atAdc, ch.lsb).toPrecision(3)} LSB/√Hz` : '',
   ].filter(Boolean);
   if (views.length > 0) out.push(row('  at the ADC', views.join(', ')));
   for (const b of ch.bands) out.push(row(`band ${bandLabel(b.low, b.high)} RMS`, formatSi(b.rms, au)));

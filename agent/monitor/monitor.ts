@@ -317,6 +317,11 @@ export class Monitor implements PartSink {
   }
 
   /** Mains fundamental, Hz: the rules' measurement, else the newest mains event's frequency over its harmonic. */
+  /** The limit rule's masks by channel name ('*' = every channel), as given. */
+  limitMasks(): MonitorOptions['masks'] {
+    return this.o.masks;
+  }
+
   mainsHz(): number | null {
     const measured = this.hook.detectors?.status().find((c) => c.mains.fundamental > 0)?.mains.fundamental;
     if (measured) return measured;

@@ -22,7 +22,7 @@ export interface AlarmHookOptions {
   rules?: RulesConfig;
   capture?: CaptureRequester;
   /** Limit masks by channel name ('*' = every channel) for the limit rule. */
-  masks?: Record<string, LimitMask & { path: string }>;
+  masks?: Record<string, LimitMask & { path: string; unit?: string }>;
 }
 
 export class AlarmHook implements Detector {

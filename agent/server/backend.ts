@@ -7,6 +7,7 @@ import type { StreamInfo } from '../../protocol/stream.ts';
 import type { RecordingState } from '../../protocol/messages.ts';
 import type { MonitorStatus } from '../monitor/monitor.ts';
 import type { LowFrequencyContext, LowFrequencyUpdate } from '../../protocol/low-frequency-messages.ts';
+import type { MaskSet } from './channel-masks.ts';
 
 export interface ServerSnapshot {
   /** Index of the last sample the estimate used; t = sample / sampleRate. */
@@ -90,6 +91,8 @@ export interface ServerBackend {
   acknowledge(alarmId: string): boolean;
   /** Silences the alarm with this id for `seconds` of sample time; says until which sample. */
   shelve(alarmId: string, seconds: number): { shelved: boolean; untilSample: number };
+  /** Limit masks of the limit rule by channel name ('*' = every channel), for the dashboard (absent: none). */
+  limitMasks?(): MaskSet | undefined;
   /** The low-frequency context and newest update, for a client that connects later (absent: no such view). */
   lowFrequencyLatest?(): { context: LowFrequencyContext; update: LowFrequencyUpdate | null } | null;
 }

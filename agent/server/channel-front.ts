@@ -19,6 +19,7 @@ export function channelFrontOf(ch: ChannelInfo): ChannelFront | undefined {
     ...(lsb !== undefined && lsb > 0 ? { lsb } : {}),
     ...(fullScale !== undefined ? { fullScale } : {}),
   };
-  if (gain === undefined && !front.budget && front.lsb === undefined) return undefined;
+  // Full scale alone is enough: the page offers dBFS/√Hz with it.
+  if (gain === undefined && !front.budget && front.lsb === undefined && front.fullScale === undefined) return undefined;
   return channelFrontProblem(front) === null ? front : undefined;
 }

@@ -42,6 +42,7 @@ export function monitorBackend(m: Monitor): { backend: ServerBackend; part: Moni
     baseline: () => m.baseline(),
     recentEvents: (limit) => m.recentEvents(limit),
     mainsHz: () => m.mainsHz(),
+    limitMasks: () => m.limitMasks(),
     health: () => m.health(),
     captureBaseline: (request) => m.captureBaseline(request),
     setRecording: (on) => m.setRecording(on),

@@ -5,6 +5,8 @@ import { createServer, type IncomingMessage, type ServerResponse } from 'node:ht
 import type { AddressInfo } from 'node:net';
 import { WebSocketServer, type WebSocket, type RawData } from 'ws';
 import { channelFrontOf } from './channel-front.ts';
+import { limitMasksMessage } from './channel-masks.ts';
+import type { LimitMasksMessage } from '../../protocol/limit-masks.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
 import { WIRE_PROTOCOL_VERSION, type AgentStatus, type SpectrumContext } from '../../protocol/messages.ts';
 import { parseClientMessage } from './validate.ts';
@@ -154,12 +156,33 @@ export async function startServer(
     } else hub.offer('baseline', frame);
   };
 
+  // The limit masks for the page: sent after hello and again when the stream (its channels) changes.
+  const warn = partial.warn ?? ((l: string) => process.stderr.write(l + '\n'));
+  let masksSent = '';
+  let masksProblem = '';
+  const currentMasks = (): LimitMasksMessage | null => {
+    if (!backend.limitMasks) return null;
+    const r = limitMasksMessage(backend.streamInfo(), backend.limitMasks());
+    if ('message' in r) return r.message;
+    if (r.problem !== masksProblem) warn(`limit masks not sent to the dashboard: ${r.problem}`);
+    masksProblem = r.problem;
+    return null;
+  };
+  const broadcastMasks = (): void => {
+    const m = currentMasks();
+    const json = m && m.masks.length > 0 ? JSON.stringify(m) : '';
+    if (json === masksSent) return;
+    masksSent = json;
+    hub.json(m ?? { type: 'masks', masks: [] });
+  };
+
   let lastBaselineFile: string | null = null;
   let lastCoherenceSample = -Infinity;
   const unsubscribe = backend.subscribe({
     info: (info) => {
       hub.resetTrace(info.channels.length);
       hub.json({ type: 'info', info });
+      broadcastMasks();
     },
     block: (block) => hub.block(block),
     snapshot: (s) => {
@@ -355,6 +378,8 @@ export async function startServer(
       status: status(),
       events: backend.recentEvents(EVENTS_ON_CONNECT),
     });
+    const masks = currentMasks();
+    if (masks && masks.masks.length > 0) client.sendJson(masks);
     sendBaseline(client);
     const lf = backend.lowFrequencyLatest?.();
     if (lf) {

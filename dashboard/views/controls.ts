@@ -2,7 +2,7 @@
 import type { AveragingSpec } from '../../protocol/settings.ts';
 import type { ReplyMessage, SpectrumContext, AgentStatus } from '../../protocol/messages.ts';
 import type { Link } from '../connection.ts';
-import { DENSITY_UNITS, type DensityUnit } from '../units.ts';
+import { unitMenuLabel, type DensityUnit } from '../units.ts';
 
 const SEGMENTS = [256, 512, 1024, 2048, 4096, 8192, 16384, 32768, 65536];
 
@@ -102,6 +102,15 @@ export class Controls {
     $<HTMLSelectElement>('avg-mode').value = a.mode;
     const v = a.mode === 'exponential' ? a.tauSeconds : a.mode === 'rolling' || a.mode === 'median' ? a.count : '';
     $<HTMLInputElement>('avg-value').value = String(v);
+  }
+
+  /** The units menu for this stream: its channel unit, and dBFS/LSB only where the converter is known. */
+  showUnits(choices: readonly DensityUnit[], unit: string, current: DensityUnit): void {
+    const sel = $<HTMLSelectElement>('units');
+    const opts = choices.map((u) => new Option(unitMenuLabel(u, unit), u));
+    if (sel.options.length !== opts.length || [...sel.options].some((o, k) => o.text !== opts[k].text))
+      sel.replaceChildren(...opts);
+    sel.value = current;
   }
 
   showStatus(s: AgentStatus): void {
@@ -284,10 +293,12 @@ export class Controls {
     } else if (e.key === 'r') this.hooks.resetMaxHold();
     else if (e.key === 'z') this.hooks.resetZoom();
     else if (e.key === 'u') {
+      // The next entry of the menu: it lists only the units this stream offers.
       const sel = $<HTMLSelectElement>('units');
-      const next = DENSITY_UNITS[(DENSITY_UNITS.indexOf(sel.value as DensityUnit) + 1) % DENSITY_UNITS.length];
-      sel.value = next;
-      this.hooks.units(next);
+      const n = sel.options.length;
+      if (n === 0) return;
+      sel.selectedIndex = (sel.selectedIndex + 1) % n;
+      this.hooks.units(sel.value as DensityUnit);
     }
   }
 }

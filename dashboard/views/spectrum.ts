@@ -1,19 +1,32 @@
-// The spectrum chart: one trace per channel on a log-frequency axis, with max-hold, baseline, threshold and
-// expected-floor overlays, band shading, mains-harmonic markers and a cursor readout (density and tone RMS).
+// The spectrum chart: one trace per channel on a log-frequency axis, with max-hold, baseline, threshold,
+// expected-floor and limit-mask overlays, band shading, mains-harmonic markers and a cursor readout (density and
+// tone RMS).
 import uPlot from 'uplot';
 import type { SpectrumContext, BandRow } from '../../protocol/messages.ts';
 import type { DecodedFrame } from '../../protocol/frame.ts';
 import { windowMainLobeHalfWidth } from '../../dsp/windows.ts';
 import { lineAboveFloor, peakBin } from '../../dsp/tone.ts';
 import { RunningMedian } from '../../dsp/detection/running-median.ts';
-import { convertInto, densityLabel, fromPsd, isLogAxis, type DensityUnit } from '../units.ts';
+import {
+  convertInto,
+  converterScale,
+  densityLabel,
+  formatAmplitude,
+  formatDensity,
+  fromPsd,
+  isConverterUnit,
+  isLogAxis,
+  unitsAvailable,
+  type DensityUnit,
+} from '../units.ts';
+import { maskOnBins } from '../../dsp/measure/limit-mask.ts';
+import type { ChannelLimitMask } from '../../protocol/limit-masks.ts';
 import { channelColour, channelDash, withAlpha } from '../colours.ts';
 import { fixedDensityRange, paddedRange } from './y-range.ts';
 import { si, hz, short } from '../format.ts';
-import { powerRatioDb } from '../../dsp/units.ts';
 import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
 import { noiseFigureFromTotal } from '../../dsp/measure/noise-figure.ts';
-import { psdFactor, referralSuffix, receivedAt, type ReferredTo } from '../referral.ts';
+import { psdFactor, psdFactorBetween, referralSuffix, receivedAt, type ReferredTo } from '../referral.ts';
 
 export interface SpectrumOverlays {
   maxHold: boolean;
@@ -67,6 +80,15 @@ export class SpectrumView {
   /** The point densities are shown at, and per channel the factor on a received PSD that takes them there. */
   private view: ReferredTo = 'adc';
   private factor: number[] = [];
+  /** Per channel, the factor on a received PSD for what is drawn: the referral times the converter unit's scale. */
+  private display: number[] = [];
+  /** The limit masks from the agent, per channel the limit at each bin (ASD at the mask's point) and as drawn. */
+  private masks: ChannelLimitMask[] = [];
+  private maskAsd: (Float64Array | null)[] = [];
+  /** null where the mask does not reach: uPlot breaks a line only at null (a NaN would be drawn to the axis). */
+  private maskShown: (number | null)[][] = [];
+  /** Masks that cannot be drawn on their channel (another unit), in words. */
+  private maskNotes: string[] = [];
   /** Cumulative RMS per channel (√Σ psd·Δf from the lowest shown bin up, as analyze --cumulative), when shown. */
   private cumOn = false;
   private cum: Float64Array[] = [];
@@ -122,6 +144,7 @@ export class SpectrumView {
     this.thr = Array.from({ length: C }, () => new Array<number | null>(n).fill(null));
     this.floor = new Float64Array(n).fill(NaN);
     this.cum = mk();
+    this.maskShown = Array.from({ length: C }, () => new Array<number | null>(n).fill(null));
     this.scratch = new Float64Array(ctx.bins);
     this.scratchOut = new Float64Array(ctx.bins);
     try {
@@ -130,9 +153,70 @@ export class SpectrumView {
       this.lobeHalfWidth = 2;
     }
     this.view = receivedAt(ctx.channels[0]?.front);
-    this.factor = ctx.channels.map((c) => psdFactor(c.front, this.view));
+    if (!this.unitChoices().includes(this.units)) this.units = 'asd';
+    this.setFactors();
+    this.placeMasks();
     this.latest = null;
     this.rebuild();
+  }
+
+  /** The units this stream can be shown in (dBFS and LSB only where every channel's converter is known). */
+  unitChoices(): DensityUnit[] {
+    return unitsAvailable(this.ctx?.channels.map((c) => c.front) ?? []);
+  }
+
+  /** Referral factors for the point shown, and the drawn factors (converter units are at the ADC). */
+  private setFactors(): void {
+    const chans = this.ctx?.channels ?? [];
+    if (isConverterUnit(this.units)) this.view = 'adc';
+    this.factor = chans.map((c) => psdFactor(c.front, this.view));
+    this.display = chans.map((c, i) => this.factor[i] * (converterScale(this.units, c.front) ?? NaN));
+  }
+
+  /** The agent's limit masks (replacing any before); drawn on the channels they name. */
+  setMasks(masks: ChannelLimitMask[]): void {
+    this.masks = masks;
+    if (!this.ctx) return;
+    this.placeMasks();
+    this.rebuild();
+  }
+
+  /** Each channel's mask at every bin by the limit rule's log-log interpolation (dsp/measure/limit-mask.ts). */
+  private placeMasks(): void {
+    const chans = this.ctx?.channels ?? [];
+    this.maskNotes = [];
+    this.maskAsd = chans.map((c) => {
+      const m = this.masks.find((k) => k.channel === c.name);
+      if (!m) return null;
+      if (m.unit !== c.unit) {
+        this.maskNotes.push(`${c.name}: limit mask in ${m.unit}/√Hz not drawn (the channel is in ${c.unit})`);
+        return null;
+      }
+      return maskOnBins({ frequency: Float64Array.from(m.frequency), limit: Float64Array.from(m.limit) }, this.x);
+    });
+    this.convertMasks();
+  }
+
+  /** The masks in the unit and at the point shown: L² referred from the mask's point, then scaled like the traces. */
+  private convertMasks(): void {
+    const chans = this.ctx?.channels ?? [];
+    for (let c = 0; c < this.maskShown.length; c++) {
+      const out = this.maskShown[c];
+      const asd = this.maskAsd[c];
+      const m = this.masks.find((k) => k.channel === chans[c]?.name);
+      if (!asd || !m) {
+        out.fill(null);
+        continue;
+      }
+      const front = chans[c].front;
+      const k = psdFactorBetween(front, m.referredTo, this.view) * (converterScale(this.units, front) ?? NaN);
+      for (let i = 0; i < out.length; i++) out[i] = fromPsd(this.units, asd[i] * asd[i] * k);
+    }
+  }
+
+  /** The limit mask drawn for a channel (tests read it), or null when it has none. */
+  maskLine(c: number): readonly (number | null)[] | null {
+    return this.maskAsd[c] ? this.maskShown[c] : null;
   }
 
   get referredTo(): ReferredTo {
@@ -144,32 +228,44 @@ export class SpectrumView {
     return this.factor;
   }
 
+  /** Per channel, the factor on a received PSD before fromPsd for the unit shown (referral × converter scale). */
+  displayFactors(): readonly number[] {
+    return this.display;
+  }
+
   /** The density label of the first channel at the point shown, e.g. "V/√Hz (input)". */
   densityLabel(): string {
     const ch = this.ctx?.channels[0];
-    return densityLabel(this.units, ch?.unit ?? 'V') + referralSuffix(ch?.front, this.view);
+    return densityLabel(this.units, ch?.unit ?? 'V') + this.where(ch?.front);
+  }
+
+  /** The point named after a unit: none for the converter units (they are re the ADC by definition). */
+  where(front: SpectrumContext['channels'][number]['front']): string {
+    return isConverterUnit(this.units) ? '' : referralSuffix(front, this.view);
   }
 
   /** Refers every trace to the amplifier input or to the ADC. */
   setReferral(view: ReferredTo): void {
-    if (!this.ctx || view === this.view) return;
+    if (!this.ctx || view === this.view || isConverterUnit(this.units)) return;
     this.view = view;
-    this.factor = this.ctx.channels.map((c) => psdFactor(c.front, view));
+    this.reconvert();
+  }
+
+  /** The unit shown; dBFS and LSB (at the ADC) only where the stream offers them. */
+  setUnits(u: DensityUnit): void {
+    if (u === this.units || (this.ctx && !this.unitChoices().includes(u))) return;
+    this.units = u;
+    this.reconvert();
+  }
+
+  private reconvert(): void {
+    this.setFactors();
     this.recomputeOverlays();
     if (this.latest) this.convertLive(this.latest);
     for (let c = 0; c < this.held.length; c++)
-      convertInto(this.units, this.heldPsd[c], 0, this.held[c], this.factor[c]);
+      convertInto(this.units, this.heldPsd[c], 0, this.held[c], this.display[c]);
     this.rebuild();
     if (this.cursorIdx !== null) this.showReadout(this.cursorIdx);
-  }
-
-  setUnits(u: DensityUnit): void {
-    if (u === this.units) return;
-    this.units = u;
-    this.recomputeOverlays();
-    if (this.latest) this.convertLive(this.latest);
-    for (let c = 0; c < this.held.length; c++) convertInto(u, this.heldPsd[c], 0, this.held[c], this.factor[c]);
-    this.rebuild();
   }
 
   setOverlays(o: Partial<SpectrumOverlays>): void {
@@ -205,8 +301,14 @@ export class SpectrumView {
   /** The y range shown: fixed from the baseline and thresholds with a margin, or from the data on request. */
   private yRange(): [number, number] {
     const log = isLogAxis(this.units);
-    const fixedRange = this.followY ? null : fixedDensityRange([...this.base, ...this.thr], this.floor, log);
-    return fixedRange ?? paddedRange([...this.live, ...this.held], log);
+    // Masks widen the range only beside a baseline or data, so a mask alone never sets where the traces may fall.
+    const masks = this.maskShown.filter((_m, c) => this.maskAsd[c]);
+    const fixedRange = this.followY
+      ? null
+      : this.baselineFrame && fixedDensityRange([...this.base, ...this.thr, ...masks], this.floor, log);
+    const data = [...this.live, ...this.held];
+    const any = data.some((d) => d.some((v) => Number.isFinite(v)));
+    return fixedRange || paddedRange(any ? [...data, ...masks] : data, log);
   }
 
   resetMaxHold(): void {
@@ -255,13 +357,12 @@ export class SpectrumView {
       const src = f.values[c];
       const hp = this.heldPsd[c];
       const hd = this.held[c];
-      const k = this.factor[c];
+      const k = this.display[c];
       for (let i = 0; i < n; i++) {
         const raw = src[i + 1];
         if (raw > hp[i]) {
           hp[i] = raw;
-          const p = raw * k;
-          hd[i] = u === 'asd' ? Math.sqrt(p) : u === 'psd' ? p : powerRatioDb(p);
+          hd[i] = fromPsd(u, raw * k) ?? NaN;
         }
       }
     }
@@ -270,7 +371,7 @@ export class SpectrumView {
   }
 
   private convertLive(f: DecodedFrame): void {
-    for (let c = 0; c < f.channels; c++) convertInto(this.units, f.values[c], 1, this.live[c], this.factor[c]);
+    for (let c = 0; c < f.channels; c++) convertInto(this.units, f.values[c], 1, this.live[c], this.display[c]);
     if (this.cumOn) this.computeCumulative(f);
   }
 
@@ -310,19 +411,27 @@ export class SpectrumView {
         out.fill(NaN);
         continue;
       }
-      convertInto(u, b.values[c], 1, out, this.factor[c]);
+      convertInto(u, b.values[c], 1, out, this.display[c]);
       const name = this.ctx!.channels[c].name;
       for (const row of this.bands) {
         if (row.channel !== name || row.thresholdDb === null) continue;
         const gain = 10 ** (row.thresholdDb / 10);
         for (let i = 0; i < n; i++) {
           const fq = this.x[i];
-          if (fq >= row.low && fq <= row.high) t[i] = fromPsd(u, b.values[c][i + 1] * gain * this.factor[c]);
+          if (fq >= row.low && fq <= row.high) t[i] = fromPsd(u, b.values[c][i + 1] * gain * this.display[c]);
         }
       }
     }
+    // The budget's floor belongs to the channel with the budget (else the first): scaled like that channel.
     const e = this.overlays.expectedFloor;
-    this.floor.fill(e === null ? NaN : (fromPsd(u, e * e) ?? NaN));
+    const chans = this.ctx?.channels ?? [];
+    const bc = Math.max(
+      0,
+      chans.findIndex((c) => c.front?.budget),
+    );
+    const scale = converterScale(u, chans[bc]?.front) ?? NaN;
+    this.floor.fill(e === null ? NaN : (fromPsd(u, e * e * scale) ?? NaN));
+    this.convertMasks();
   }
 
   /** Coalesces updates to one draw per animation frame. setData without resetting scales keeps a zoom. */
@@ -358,7 +467,7 @@ export class SpectrumView {
     const label = this.densityLabel();
     const series: uPlot.Series[] = [{ label: 'f', value: (_u, v) => (v == null ? '—' : hz(v)) }];
     const fmt = (_u: uPlot, v: number | null) =>
-      v == null || !Number.isFinite(v) ? '—' : this.units === 'dbv' ? `${v.toFixed(1)}` : si(v, '');
+      v == null || !Number.isFinite(v) ? '—' : isLogAxis(this.units) ? si(v, '') : `${v.toFixed(1)}`;
     // A channel's own colour and line style on every trace of it: live solid or its dash, max-hold faint, the
     // baseline long-dashed and the threshold dotted, in the same hue.
     for (let c = 0; c < C; c++)
@@ -415,6 +524,17 @@ export class SpectrumView {
         show: this.cumOn,
         value: (_u, v) => (v == null || !Number.isFinite(v) ? '—' : si(v, '')),
       });
+    // A limit mask in its channel's hue, dash-dot and wider than the traces, drawn where the mask reaches.
+    for (let c = 0; c < C; c++)
+      series.push({
+        label: `${ctx.channels[c].name} limit mask`,
+        stroke: channelColour(c),
+        dash: [9, 3, 2, 3],
+        width: 2,
+        show: this.maskAsd[c] !== null && this.maskAsd[c] !== undefined,
+        value: fmt,
+        spanGaps: false,
+      });
     this.data = [
       this.x,
       ...this.live,
@@ -423,6 +543,7 @@ export class SpectrumView {
       ...this.thr,
       this.floor,
       ...this.cum,
+      ...this.maskShown,
     ] as unknown as uPlot.AlignedData;
     const log = isLogAxis(this.units);
     const opts: uPlot.Options = {
@@ -479,6 +600,7 @@ export class SpectrumView {
       series,
       hooks: {
         drawClear: [(u) => this.drawBackdrop(u)],
+        draw: [(u) => this.drawMaskLabels(u)],
         setCursor: [
           (u) => {
             this.cursorIdx = u.cursor.idx ?? null;
@@ -537,33 +659,59 @@ export class SpectrumView {
     c.restore();
   }
 
+  /** Names each drawn mask at its right-hand end, in its channel's hue; says which could not be drawn. */
+  private drawMaskLabels(u: uPlot): void {
+    const chans = this.ctx?.channels ?? [];
+    const c2 = u.ctx;
+    const dpr = devicePixelRatio || 1;
+    const { top, left, width } = u.bbox;
+    c2.save();
+    c2.font = `${Math.round(11 * dpr)}px system-ui, sans-serif`;
+    c2.textAlign = 'right';
+    const used: number[] = [];
+    for (let c = 0; c < chans.length; c++) {
+      const line = this.maskShown[c];
+      if (!this.maskAsd[c] || !line) continue;
+      let i = line.length - 1;
+      const xMax = u.scales.x.max ?? Infinity;
+      while (i >= 0 && (line[i] === null || this.x[i] > xMax)) i--;
+      if (i < 0) continue;
+      const m = this.masks.find((k) => k.channel === chans[c].name);
+      const x = Math.min(left + width - 2 * dpr, u.valToPos(this.x[i], 'x', true));
+      let y = Math.max(top + 12 * dpr, u.valToPos(line[i]!, 'y', true) - 5 * dpr);
+      // Labels of masks that end at one place (one file for every channel) stack instead of overprinting.
+      while (used.some((v) => Math.abs(v - y) < 12 * dpr)) y -= 13 * dpr;
+      used.push(y);
+      c2.fillStyle = channelColour(c);
+      c2.fillText(`${chans[c].name} limit${m?.file ? ` (${m.file})` : ''}`, x, y);
+    }
+    c2.fillStyle = '#5b6670';
+    this.maskNotes.forEach((t, k) => c2.fillText(t, left + width - 4 * dpr, top + u.bbox.height - (6 + 14 * k) * dpr));
+    c2.restore();
+  }
+
   private showReadout(idx: number): void {
     const ctx = this.ctx;
     const f = this.latest;
     if (!ctx || !f || idx < 0 || idx >= this.x.length) return;
     const unit = ctx.channels[0]?.unit ?? 'V';
-    const where = referralSuffix(ctx.channels[0]?.front, this.view);
+    const where = this.where(ctx.channels[0]?.front);
     const parts = [`f = ${hz(this.x[idx])}`];
     const h = Math.ceil(this.lobeHalfWidth);
     for (let c = 0; c < f.channels; c++) {
       // dsp/tone.ts reads float64; a copy only when the cursor moves, referred to the point shown
-      const k = this.factor[c];
+      const k = this.display[c];
       const psd = Float64Array.from(f.values[c], (v) => v * k);
       const bin = idx + 1;
       const d = fromPsd(this.units, psd[bin]);
-      const dens =
-        d === null
-          ? '—'
-          : this.units === 'dbv'
-            ? `${d.toFixed(1)} ${densityLabel('dbv', unit)}${where}`
-            : si(d, densityLabel(this.units, unit)) + where;
+      const dens = d === null ? '—' : formatDensity(this.units, d, unit, si) + where;
       // Line level: the largest bin within one main lobe of the cursor, its lobe's power less the local floor's
       // share (dsp/tone.ts lineAboveFloor, the rule the spur and mains events use; floor = local median as there).
       const peak = peakBin(psd, Math.max(1, bin - h), Math.min(psd.length - 1, bin + h));
       const floor = new RunningMedian(psd.length, Math.max(8, 4 * h)).at(psd, peak);
       const tone = lineAboveFloor(psd, ctx.binHz, this.lobeHalfWidth, peak, floor);
       parts.push(
-        `${ctx.channels[c].name}: ${dens}, line ${si(tone.rms, `${unit} rms`)}${where} at ${hz(tone.frequency)}${this.noiseFigureText(c, floor)}`,
+        `${ctx.channels[c].name}: ${dens}, line ${formatAmplitude(this.units, tone.rms, unit, si)}${where} at ${hz(tone.frequency)}${this.noiseFigureText(c, floor)}`,
       );
     }
     this.readout.textContent = parts.join(' · ');
@@ -577,7 +725,7 @@ export class SpectrumView {
     const front = this.ctx?.channels[c]?.front;
     const b = front?.budget;
     if (!b || front.gain === undefined || !(b.sourceOhms > 0) || !(floorAtView > 0)) return '';
-    const inputPsd = (floorAtView * psdFactor(front, 'input')) / this.factor[c];
+    const inputPsd = (floorAtView * psdFactor(front, 'input')) / this.display[c];
     const nf = noiseFigureFromTotal(Math.sqrt(inputPsd), b.sourceOhms, b.kelvin);
     return `, NF ${nf.figureDb.toFixed(2)} dB, Tₑ ${si(nf.kelvin, 'K')} (floor re ${si(b.sourceOhms, 'Ω')} at ${b.kelvin} K)`;
   }

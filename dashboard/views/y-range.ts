@@ -36,7 +36,7 @@ export function fixedDensityRange(
 }
 
 /** A range from the data itself (no baseline yet, or "follow data" chosen), with the same margins. */
-export function paddedRange(data: ArrayLike<number>[], log: boolean): [number, number] {
+export function paddedRange(data: ArrayLike<number | null>[], log: boolean): [number, number] {
   const e = extent(data, log);
   if (!e) return log ? [1e-12, 1] : [-200, 0];
   return widen(e, log);
