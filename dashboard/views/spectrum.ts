@@ -22,7 +22,7 @@ import {
 import { maskOnBins } from '../../dsp/measure/limit-mask.ts';
 import type { ChannelLimitMask } from '../../protocol/limit-masks.ts';
 import { channelColour, channelDash, withAlpha } from '../colours.ts';
-import { fixedDensityRange, paddedRange } from './y-range.ts';
+import { decadeRange, fixedDensityRange, paddedRange } from './y-range.ts';
 import { si, hz, short } from '../format.ts';
 import { cumulativeRms } from '../../dsp/measure/cumulative-rms.ts';
 import { noiseFigureFromTotal } from '../../dsp/measure/noise-figure.ts';
@@ -301,11 +301,14 @@ export class SpectrumView {
   /** The y range shown: fixed from the baseline and thresholds with a margin, or from the data on request. */
   private yRange(): [number, number] {
     const log = isLogAxis(this.units);
-    // Masks widen the range only beside a baseline or data, so a mask alone never sets where the traces may fall.
+    // Masks widen the range only beside a baseline, an expected floor or data, so a mask alone never sets where
+    // the traces may fall.
     const masks = this.maskShown.filter((_m, c) => this.maskAsd[c]);
-    const fixedRange = this.followY
-      ? null
-      : this.baselineFrame && fixedDensityRange([...this.base, ...this.thr, ...masks], this.floor, log);
+    const reference = [...this.base, ...this.thr];
+    const fixedRange =
+      this.followY || !fixedDensityRange(reference, this.floor, log)
+        ? null
+        : fixedDensityRange([...reference, ...masks], this.floor, log);
     const data = [...this.live, ...this.held];
     const any = data.some((d) => d.some((v) => Number.isFinite(v)));
     return fixedRange || paddedRange(any ? [...data, ...masks] : data, log);
@@ -568,7 +571,9 @@ export class SpectrumView {
           distr: 3,
           log: 10,
           range: (_u, min, max) =>
-            Number.isFinite(min) && Number.isFinite(max) && min > 0 && max >= min ? [min / 2, max * 2] : [1e-9, 1e-3],
+            Number.isFinite(min) && Number.isFinite(max) && min > 0 && max >= min
+              ? decadeRange(min / 2, max * 2)
+              : [1e-9, 1e-3],
         },
       },
       axes: [
