@@ -3,57 +3,44 @@
 // (a wrong field count, a word, an empty field) and lines with 1e999, a well-formed number that overflows a double
 // to +Inf (IEEE 754). The strip must show the same counts as /api/status, marked as faults.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawn, type ChildProcess } from 'node:child_process';
 import { closeSync, mkdtempSync, openSync, writeSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext } from 'playwright-core';
 import { launchChromium } from './support/browser.ts';
-import { PtyPair, waitFor } from '../serial/pty-pair.ts';
+import { startAgent, type Agent } from './support/agent.ts';
+import { PtyPair } from '../serial/pty-pair.ts';
 import type { AgentStatus } from '../../protocol/messages.ts';
 
 const root = new URL('../../', import.meta.url).pathname;
 const dir = mkdtempSync(join(tmpdir(), 'floorline-health-strip-'));
 let browser: BrowserContext;
 let pair: PtyPair;
-let agent: ChildProcess;
-let out = '';
+let agent: Agent;
 let url = '';
 
 beforeAll(async () => {
   pair = new PtyPair(join(dir, 'board'), join(dir, 'host'));
   await pair.start();
-  agent = spawn(
-    process.execPath,
-    [
-      join(root, 'bin/floorline.mjs'),
-      'run',
-      '--port',
-      pair.host,
-      '--format',
-      'text',
-      '--rate',
-      '1000',
-      '--http-port',
-      '0',
-      '--no-history',
-      '--data',
-      join(dir, 'data'),
-    ],
-    { stdio: ['ignore', 'pipe', 'pipe'] },
-  );
-  agent.stdout!.on('data', (c) => (out += c));
-  agent.stderr!.on('data', (c) => (out += c));
-  await waitFor('dashboard URL', () => /dashboard\s+http:\/\/\S+/.test(out), 20_000);
-  url = /dashboard\s+(http:\/\/\S+)/.exec(out)![1];
+  agent = await startAgent([
+    'run',
+    '--port',
+    pair.host,
+    '--format',
+    'text',
+    '--rate',
+    '1000',
+    '--http-port',
+    '0',
+    '--no-history',
+    '--data',
+    join(dir, 'data'),
+  ]);
+  url = agent.url;
   browser = await launchChromium();
 }, 60_000);
 afterAll(async () => {
-  if (agent && agent.exitCode === null) {
-    const gone = new Promise((r) => agent.once('exit', r));
-    agent.kill('SIGTERM');
-    await gone;
-  }
+  await agent?.stop();
   await pair?.kill();
   await browser?.close();
 });

@@ -3,13 +3,13 @@
 // incidents and a six-hour break. The page must show the week downsampled by the store to its pixel width, the
 // break as a gap, every incident shaded, and the seeded levels unchanged by the way.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdirSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium } from './support/browser.ts';
-import { PtyPair, startSimulator, waitFor } from '../serial/pty-pair.ts';
+import { startAgent, type Agent } from './support/agent.ts';
+import { PtyPair, startSimulator } from '../serial/pty-pair.ts';
 import { openStoreForWriting } from '../../agent/store/open-store.ts';
 import { HistoryWriter } from '../../agent/store/history-writer.ts';
 import { levelSamples } from '../../agent/store/levels.ts';
@@ -26,10 +26,9 @@ const INCIDENTS = 5;
 
 let browser: BrowserContext;
 let pair: PtyPair;
-let agent: ChildProcess;
+let agent: Agent;
 let sim: ReturnType<typeof startSimulator>;
 let url = '';
-let out = '';
 let weekStartMs = 0;
 
 /** Seven days of 1-min floor-density rows for `bridge`, ending ten minutes ago, through the store's own writer. */
@@ -83,25 +82,14 @@ beforeAll(async () => {
   seedStore(join(dir, 'data', 'floorline.sqlite'));
   pair = new PtyPair(join(dir, 'board'), join(dir, 'host'));
   await pair.start();
-  agent = spawn(
-    process.execPath,
-    [join(root, 'bin/floorline.mjs'), 'run', '--port', pair.host, '--http-port', '0', '--data', join(dir, 'data')],
-    { stdio: ['ignore', 'pipe', 'pipe'] },
-  );
-  agent.stdout!.on('data', (c) => (out += c));
-  agent.stderr!.on('data', (c) => (out += c));
-  await waitFor('dashboard URL', () => /dashboard\s+http:\/\/\S+/.test(out), 20_000);
-  url = /dashboard\s+(http:\/\/\S+)/.exec(out)![1];
+  agent = await startAgent(['run', '--port', pair.host, '--http-port', '0', '--data', join(dir, 'data')]);
+  url = agent.url;
   sim = startSimulator([join(root, 'recordings/demo-scenario.json'), '--out', pair.board, '--duration', '120']);
   browser = await launchChromium({ width: 1600, height: 1200 });
 }, 60_000);
 afterAll(async () => {
   sim?.proc.kill('SIGTERM');
-  if (agent && agent.exitCode === null) {
-    const gone = new Promise((r) => agent.once('exit', r));
-    agent.kill('SIGTERM');
-    await gone;
-  }
+  await agent?.stop();
   await pair?.kill();
   await browser?.close();
 });
@@ -109,7 +97,8 @@ afterAll(async () => {
 async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
   const end = Date.now() + timeoutMs;
   while (!(await page.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}\nagent said:\n${out.slice(-2000)}`);
+    if (Date.now() > end)
+      throw new Error(`timed out waiting for ${expression}\nagent said:\n${agent.output().slice(-2000)}`);
     await new Promise((r) => setTimeout(r, 100));
   }
 }
