@@ -10,6 +10,7 @@ import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
+import { waitUntil as pollPage } from './support/page.ts';
 
 const RATE = 4000;
 const SEGMENT = 1024;
@@ -54,13 +55,8 @@ afterAll(async () => {
   await browser?.close();
 });
 
-async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await page.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}\nagent said:\n${agent.output()}`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
-}
+const waitUntil = (page: Page, expression: string, timeoutMs: number) =>
+  pollPage(page, expression, timeoutMs, () => agent.output());
 
 describe('live coherence trace', () => {
   it('is hidden until asked for, then draws γ² equal to scipy.signal.coherence on the same samples', async () => {

@@ -9,6 +9,7 @@ import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, freePort, type Agent } from './support/agent.ts';
 import type { AgentStatus } from '../../protocol/messages.ts';
+import { waitUntil } from './support/page.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'floorline-browser-'));
 let browser: BrowserContext;
@@ -31,15 +32,6 @@ async function agent(args: string[]): Promise<Agent> {
 
 // Page-side code is passed as strings: the root tsconfig has no DOM types, on purpose (agent code must not use them).
 const applied = (p: Page): Promise<number> => p.evaluate('window.floorline.spectraApplied');
-
-/** Polls a page-side expression until it is truthy (page.evaluate runs under the page's CSP without eval). */
-async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await page.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
 
 async function openDashboard(url: string): Promise<Page> {
   const page = await browser.newPage();

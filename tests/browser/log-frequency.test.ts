@@ -7,6 +7,7 @@ import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
+import { waitUntil } from './support/page.ts';
 import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
 import type { AgentStatus } from '../../protocol/messages.ts';
@@ -16,14 +17,6 @@ const dir = mkdtempSync(join(tmpdir(), 'floorline-logf-'));
 let browser: BrowserContext;
 let agent: Agent;
 let page: Page;
-
-async function waitUntil(p: Page, expression: string, timeoutMs: number): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await p.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
 
 const status = async (): Promise<AgentStatus> => (await (await fetch(`${agent.url}api/status`)).json()) as AgentStatus;
 

@@ -11,6 +11,7 @@ import { launchChromium, ARTIFACTS } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
 import type { AgentStatus } from '../../protocol/messages.ts';
 import type { SpectraReply } from '../../protocol/spectra.ts';
+import { waitUntil } from './support/page.ts';
 
 const root = new URL('../../', import.meta.url).pathname;
 
@@ -28,15 +29,6 @@ async function statusWhen(ok: (s: AgentStatus) => boolean, timeoutMs = 10_000): 
     if (ok(s)) return s;
     if (Date.now() > end) throw new Error(`status never matched; last: ${JSON.stringify(s.baseline)}`);
     await new Promise((r) => setTimeout(r, 100));
-  }
-}
-
-/** Polls a page-side expression until it is truthy. */
-async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await page.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}`);
-    await new Promise((r) => setTimeout(r, 50));
   }
 }
 

@@ -8,6 +8,7 @@ import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
+import { waitUntil } from './support/page.ts';
 import { launchChromium } from './support/browser.ts';
 import { startAgent, type Agent } from './support/agent.ts';
 
@@ -17,14 +18,6 @@ const dir = mkdtempSync(join(tmpdir(), 'floorline-referral-'));
 let browser: BrowserContext;
 let agent: Agent;
 let page: Page;
-
-async function waitUntil(p: Page, expression: string, timeoutMs: number): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await p.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
-}
 
 /** scipy.signal.welch (Hann, 4096, 50 %, mean detrend: the agent's defaults) of the bridge channel over 0–18 s, the
  * demo's quiet span: √(mean PSD over 900–1100 Hz) at the ADC. */

@@ -14,6 +14,7 @@ import { openStoreForWriting } from '../../agent/store/open-store.ts';
 import { HistoryWriter } from '../../agent/store/history-writer.ts';
 import { levelSamples } from '../../agent/store/levels.ts';
 import { LEVELS } from '../../agent/store/schema.ts';
+import { waitUntil as pollPage } from './support/page.ts';
 
 const root = new URL('../../', import.meta.url).pathname;
 const dir = mkdtempSync(join(tmpdir(), 'floorline-timeline-week-'));
@@ -94,14 +95,8 @@ afterAll(async () => {
   await browser?.close();
 });
 
-async function waitUntil(page: Page, expression: string, timeoutMs: number): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await page.evaluate(expression))) {
-    if (Date.now() > end)
-      throw new Error(`timed out waiting for ${expression}\nagent said:\n${agent.output().slice(-2000)}`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
-}
+const waitUntil = (page: Page, expression: string, timeoutMs: number) =>
+  pollPage(page, expression, timeoutMs, () => agent.output());
 
 interface Drawn {
   rows: { wall: number; mean: number | null; gap: boolean }[];
