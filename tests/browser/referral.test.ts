@@ -143,6 +143,10 @@ print(json.dumps({'cum': c.tolist(), 'total': float(np.sqrt(np.sum(p[1:]) * d['b
     await page.keyboard.press('ArrowRight');
     await waitUntil(page, `document.querySelector('#readout').textContent.includes('NF ')`, 30_000);
     const text = (await page.textContent('#readout'))!;
+    // The readout's spectrum is still before the scripted clip at 52 s (recordings/README.md), whose broadband
+    // energy would lift the floor at 2 kHz for the rest of the pass.
+    const at = ((await page.evaluate(pageBridgeAsd)) as { t: number }).t;
+    expect(at, 'the page read the floor after the clip').toBeLessThan(52);
     const nf = Number(/bridge: [^·]*NF (-?[0-9.]+) dB/.exec(text)?.[1]);
     // NF = 10·log10(e_meas² / 4kTR) for a measurement that includes the source (common practice), with e_meas from
     // scipy.signal.welch of 0–18 s ÷ gain 100 and 4kTR of 350 Ω at 296 K (Johnson 1928, Nyquist 1928).
