@@ -8,7 +8,8 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { BrowserContext, Page } from 'playwright-core';
-import { launchChromium, pollPage } from './support/browser.ts';
+import { launchChromium } from './support/browser.ts';
+import { waitUntil as pollPage } from './support/page.ts';
 import { startAgent, type Agent } from './support/agent.ts';
 
 const ROOT = new URL('../../', import.meta.url).pathname;
@@ -25,7 +26,7 @@ let agent: Agent;
 let page: Page;
 
 const waitUntil = (p: Page, expression: string, timeoutMs: number): Promise<void> =>
-  pollPage(p, expression, timeoutMs, () => `agent said:\n${agent?.output()}`);
+  pollPage(p, expression, timeoutMs, () => agent?.output() ?? '');
 
 function numpy(script: string, input: unknown): unknown {
   const out = execFileSync('python3', ['-c', `import json, sys, numpy as np\nd = json.load(sys.stdin)\n${script}`], {

@@ -1,5 +1,5 @@
 // Real headless Chromium (Debian's /usr/bin/chromium) through playwright-core, with a fresh profile each launch.
-import { chromium, type BrowserContext, type Page } from 'playwright-core';
+import { chromium, type BrowserContext } from 'playwright-core';
 import { mkdtempSync, mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -27,18 +27,4 @@ export async function launchChromium(viewport = { width: 1440, height: 1000 }): 
       '--disable-sync',
     ],
   });
-}
-
-/** Polls an expression in the page every 100 ms until it is truthy (never a fixed sleep: the machine may be loaded). */
-export async function pollPage(
-  page: Page,
-  expression: string,
-  timeoutMs: number,
-  context: () => string = () => '',
-): Promise<void> {
-  const end = Date.now() + timeoutMs;
-  while (!(await page.evaluate(expression))) {
-    if (Date.now() > end) throw new Error(`timed out waiting for ${expression}\n${context()}`);
-    await new Promise((r) => setTimeout(r, 100));
-  }
 }
