@@ -22,6 +22,8 @@ const root = new URL('../..', import.meta.url).pathname;
 const bin = join(root, 'bin/floorline.mjs');
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const MB = 1_000_000;
+/** Recordings quota: about two 2 s files (128 kB each), so three files after the pause are enough for a sweep. */
+const QUOTA = 0.3 * MB;
 
 afterEach(releaseSmallDisks);
 
@@ -36,13 +38,13 @@ describe('retention on a small disk', () => {
         config,
         JSON.stringify({
           data: join(mnt, 'data'),
-          retention: { recordings: { maxBytes: 0.8 * MB }, captures: { maxBytes: 8 * MB }, minFreeBytes: 4 * MB },
+          retention: { recordings: { maxBytes: QUOTA }, captures: { maxBytes: 8 * MB }, minFreeBytes: 4 * MB },
         }),
       );
       const args = [
         'demo',
         '--speed',
-        '10',
+        '5',
         '--no-loop',
         '--no-server',
         '--quiet',
@@ -64,7 +66,8 @@ describe('retention on a small disk', () => {
       const exited = new Promise<number | null>((r) => child.on('exit', r));
       // Driven by sample time, not the wall clock: once the recording has begun its second 2 s file (the demo
       // opens at t = 17 s, so about t = 19 s) another writer leaves 3 MB free (below the floor); once the spur at
-      // t = 30 s is in the event log it frees the space.
+      // t = 30 s is in the event log it frees the space. After that, three more files pass the quota, so the sweep
+      // deletes however late the space came back.
       const recDir = join(mnt, 'data/recordings');
       const eventsFile = join(mnt, 'data/events.jsonl');
       const until = async (cond: () => boolean) => {
@@ -112,7 +115,7 @@ describe('retention on a small disk', () => {
       const rec = files.filter((f) => f.startsWith('rec-') && f.endsWith('.wav'));
       // The quota holds up to the file being written (2 s × 2 ch × 8 kS/s × 4 B = 128 kB) and one sweep's growth.
       const recBytes = rec.reduce((a, f) => a + size(f), 0);
-      expect(recBytes).toBeLessThan(0.8 * MB + 2 * 128_000 * 2);
+      expect(recBytes).toBeLessThan(QUOTA + 2 * 128_000 * 2);
       const captures = files.filter((f) => f.startsWith('capture-') && f.endsWith('.wav'));
       expect(captures.some((f) => f.includes('spur'))).toBe(true);
       // Every kept file opens in scipy.io.wavfile.
