@@ -400,6 +400,9 @@ export async function monitorOptionsFromFlags(
     masks: alarms.masks,
     replay: w.replay,
     parts,
+    // The low-frequency view's readers are the dashboard and the HTTP API (status, metrics); with --no-server
+    // nothing can read it, and at --speed max it would be most of the work.
+    ...(f['no-server'] ? { lowFrequency: false } : {}),
   };
 }
 
