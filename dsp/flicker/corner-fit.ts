@@ -129,17 +129,24 @@ export function fitCorner(input: CornerFitInput, options: CornerFitOptions = {})
     }
     return s;
   };
+  // One exponential per point gives both the model (softplus) and its slope (sigmoid): the same formulas as
+  // softplus() and sigmoid() with e = exp(−|z|), so the values are bit-identical to calling them apart.
+  const jtj = new Float64Array(p * p);
+  const jtr = new Float64Array(p);
+  const g = new Float64Array(p);
   const normal = (pa: number, pb: number, pal: number): { jtj: Float64Array; jtr: Float64Array } => {
-    const jtj = new Float64Array(p * p);
-    const jtr = new Float64Array(p);
-    const g = new Float64Array(p);
+    jtj.fill(0);
+    jtr.fill(0);
     for (let i = 0; i < m; i++) {
       const d = pb - lnF[i];
-      const sg = sigmoid(pal * d);
+      const z = pal * d;
+      const e = Math.exp(-Math.abs(z));
+      const sg = z >= 0 ? 1 / (1 + e) : e / (1 + e);
+      const sp = z > 0 ? z + Math.log1p(e) : Math.log1p(e);
       g[0] = 1;
       g[1] = pal * sg;
       if (free) g[2] = d * sg;
-      const r = y[i] - logCornerModel(lnF[i], pa, pb, pal);
+      const r = y[i] - (pa + sp);
       for (let u = 0; u < p; u++) {
         jtr[u] += wt[i] * g[u] * r;
         for (let v = 0; v < p; v++) jtj[u * p + v] += wt[i] * g[u] * g[v];
@@ -188,8 +195,7 @@ export function fitCorner(input: CornerFitInput, options: CornerFitOptions = {})
       break;
     }
   }
-  const { jtj } = normal(a, b, alpha);
-  const cov = invertSmall(jtj, p) ?? new Float64Array(p * p).fill(NaN);
+  const cov = invertSmall(normal(a, b, alpha).jtj, p) ?? new Float64Array(p * p).fill(NaN);
   const whitePsd = Math.exp(a);
   const whiteAsd = Math.exp(a / 2);
   const corner = Math.exp(b);
