@@ -1,6 +1,7 @@
 // --threads on the commands that run a monitor, as real processes: `replay` of the demo at 1 and 2 threads prints
 // the same summary (snapshot count, digest, events), and a value outside 1…64 or not whole is refused with exit 2
-// and a message naming the flag and what to give.
+// and a message naming the flag and what to give. The replays serve (port 0): with --no-server the low-frequency
+// view, the part --threads moves to workers, is off.
 import { spawnSync } from 'node:child_process';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -16,7 +17,8 @@ const replay = (...extra: string[]) =>
       join(root, 'recordings/demo.wav'),
       '--speed',
       'max',
-      '--no-server',
+      '--http-port',
+      '0',
       '--no-history',
       '--quiet',
       ...extra,
