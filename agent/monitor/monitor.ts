@@ -3,6 +3,7 @@
 // through startMonitor; the dashboard server reads it through the read model below and keeps no state of its own.
 import { mkdirSync, existsSync } from 'node:fs';
 import { resolve as resolvePath } from 'node:path';
+import { shownPath } from '../config/shown-path.ts';
 import { writeFile } from 'node:fs/promises';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { alarmId, bandId } from '../../protocol/ids.ts';
@@ -359,7 +360,7 @@ export class Monitor implements PartSink {
       duration: frames,
       speed: r.speed,
       loop: r.loops,
-      file: r.path,
+      file: shownPath(r.path),
     };
   }
 
