@@ -89,6 +89,8 @@ export class SpectrumView {
   private maskShown: (number | null)[][] = [];
   /** Masks that cannot be drawn on their channel (another unit), in words. */
   private maskNotes: string[] = [];
+  /** Band labels of the last backdrop: placed under the traces, drawn over them (drawBandLabels). */
+  private bandLabels: { label: string; x: number; y: number }[] = [];
   /** Cumulative RMS per channel (√Σ psd·Δf from the lowest shown bin up, as analyze --cumulative), when shown. */
   private cumOn = false;
   private cum: Float64Array[] = [];
@@ -605,7 +607,7 @@ export class SpectrumView {
       series,
       hooks: {
         drawClear: [(u) => this.drawBackdrop(u)],
-        draw: [(u) => this.drawMaskLabels(u)],
+        draw: [(u) => this.drawBandLabels(u), (u) => this.drawMaskLabels(u)],
         setCursor: [
           (u) => {
             this.cursorIdx = u.cursor.idx ?? null;
@@ -620,6 +622,23 @@ export class SpectrumView {
     this.resetZoom();
   }
 
+  /** The band labels placed by drawBackdrop, over the grid lines, each on a pale backing so it stays legible. */
+  private drawBandLabels(u: uPlot): void {
+    const c = u.ctx;
+    const dpr = devicePixelRatio;
+    c.save();
+    c.font = `${Math.round(10 * dpr)}px system-ui, sans-serif`;
+    c.textBaseline = 'alphabetic';
+    for (const { label, x, y } of this.bandLabels) {
+      const w = c.measureText(label).width;
+      c.fillStyle = 'rgba(255, 255, 255, 0.85)';
+      c.fillRect(x - 2 * dpr, y - 10 * dpr, w + 4 * dpr, 12 * dpr);
+      c.fillStyle = '#4a545d';
+      c.fillText(label, x, y);
+    }
+    c.restore();
+  }
+
   /** Band shading and mains-harmonic markers, drawn under the traces. */
   private drawBackdrop(u: uPlot): void {
     const c = u.ctx;
@@ -627,6 +646,7 @@ export class SpectrumView {
     c.save();
     const seen = new Set<string>();
     let shade = 0;
+    this.bandLabels = [];
     for (const b of this.bands) {
       const key = `${b.low}-${b.high}`;
       if (seen.has(key)) continue;
@@ -638,11 +658,14 @@ export class SpectrumView {
       c.fillRect(x0, top, x1 - x0, height);
       const label = `${short(b.low)}–${short(b.high)} Hz`;
       c.font = `${Math.round(10 * devicePixelRatio)}px system-ui, sans-serif`;
-      // One label row per band, so bands that start together (a wide band over narrow ones) stay readable.
-      if (c.measureText(label).width + 6 * devicePixelRatio < x1 - x0) {
-        c.fillStyle = '#5b6670';
-        c.fillText(label, x0 + 3 * devicePixelRatio, top + (12 + 12 * (shade - 1)) * devicePixelRatio);
-      }
+      // One label row per band, so bands that start together (a wide band over narrow ones) stay readable; the
+      // labels are drawn after the grid and traces (drawBandLabels), on a backing of their own.
+      if (c.measureText(label).width + 6 * devicePixelRatio < x1 - x0)
+        this.bandLabels.push({
+          label,
+          x: x0 + 3 * devicePixelRatio,
+          y: top + (12 + 12 * (shade - 1)) * devicePixelRatio,
+        });
     }
     const mains = this.ctx?.mainsHz;
     if (this.overlays.mains && mains) {
