@@ -3,6 +3,7 @@
 // growth from 10 % to the end (target: within 10 %). The recording is made beforehand (a day takes minutes):
 //   floorline simulate recordings/demo-scenario.json --out /tmp/day.wav --duration 86400
 //   REPLAY_FILE=/tmp/day.wav npm run bench -- replay-memory
+// SERVED=1 serves on port 0 instead of --no-server, so the live low-frequency view runs too.
 import { spawn } from 'node:child_process';
 import { existsSync, readFileSync } from 'node:fs';
 
@@ -25,7 +26,9 @@ const child = spawn(
     'max',
     '--baseline',
     `${root}recordings/demo-baseline.json`,
-    '--no-server',
+    ...(process.env.SERVED ? ['--http-port', '0'] : ['--no-server']),
+    '--data',
+    `${root}.bench-tmp/replay-memory-data`,
   ],
   {
     stdio: ['ignore', 'pipe', 'inherit'],

@@ -1,7 +1,8 @@
-// `floorline replay --speed max` as a whole process at --threads 1 and --threads 2, side by side in one run:
-// an hour (DURATION seconds) of the demo rig, 2 ch × 8 kS/s made by `floorline simulate`, with the demo baseline
-// and every rule. Alternating rounds, medians of wall time, CPU (user + system) and peak RSS (/usr/bin/time), the
-// load average around each run; the snapshot digest and the event log must be the same in every run.
+// `floorline replay --speed max` as a whole process, side by side in one run: `--no-server` (no low-frequency view:
+// nothing could read it) and served on port 0 (the view runs) at --threads 1 and 2 (the view on workers), on an
+// hour (DURATION seconds) of the demo rig, 2 ch × 8 kS/s made by `floorline simulate`, with the demo baseline and
+// every rule. Alternating rounds, medians of wall time, CPU (user + system) and peak RSS (/usr/bin/time), the load
+// average around each run; the snapshot digest and the event log must be the same in every run.
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 
@@ -11,7 +12,8 @@ const tmp = `${root}.bench-tmp/`;
 mkdirSync(tmp, { recursive: true });
 const DURATION = Number(process.env.DURATION ?? 3600);
 const ROUNDS = Number(process.env.ROUNDS ?? 3);
-const THREADS = (process.env.THREADS ?? '1,2').split(',').map(Number);
+// Each entry: how it serves and --threads, e.g. "no-server:1".
+const MODES = (process.env.MODES ?? 'no-server:1,served:1,served:2').split(',');
 const file = process.env.REPLAY_FILE ?? `${tmp}replay-2x8k-${DURATION}s.wav`;
 const cli = `${root}bin/floorline.mjs`;
 
@@ -36,9 +38,10 @@ interface Run {
   load: string;
 }
 
-function replay(threads: number, round: number): Run {
-  const data = `${tmp}replay-threads-data-${threads}`;
-  const events = `${tmp}replay-threads-events-${threads}-${round}.jsonl`;
+function replay(mode: string, round: number): Run {
+  const [serving, threads] = mode.split(':');
+  const data = `${tmp}replay-threads-data-${serving}-${threads}`;
+  const events = `${tmp}replay-threads-events-${serving}-${threads}-${round}.jsonl`;
   rmSync(events, { force: true });
   const before = load();
   const r = spawnSync(
@@ -54,7 +57,7 @@ function replay(threads: number, round: number): Run {
       'max',
       '--baseline',
       `${root}recordings/demo-baseline.json`,
-      '--no-server',
+      ...(serving === 'served' ? ['--http-port', '0'] : ['--no-server']),
       '--no-history',
       '--quiet',
       '--data',
@@ -66,7 +69,7 @@ function replay(threads: number, round: number): Run {
     ],
     { encoding: 'utf8' },
   );
-  if (r.status !== 0) throw new Error(`replay --threads ${threads} failed: ${r.stderr}`);
+  if (r.status !== 0) throw new Error(`replay ${mode} failed: ${r.stderr}`);
   const [wall, user, sys, kb] = r.stderr.trim().split('\n').at(-1)!.split(' ').map(Number);
   const digest = /digest ([0-9a-f]+)/.exec(r.stdout)?.[1];
   if (!digest) throw new Error(`no digest in the replay's summary:\n${r.stdout}`);
@@ -80,27 +83,27 @@ function replay(threads: number, round: number): Run {
   };
 }
 
-const runs = new Map<number, Run[]>(THREADS.map((t) => [t, []]));
+const runs = new Map<string, Run[]>(MODES.map((m) => [m, []]));
 for (let round = 0; round < ROUNDS; round++)
-  for (const t of THREADS) {
-    const run = replay(t, round);
-    runs.get(t)!.push(run);
+  for (const m of MODES) {
+    const run = replay(m, round);
+    runs.get(m)!.push(run);
     process.stdout.write(
-      `round ${round + 1} --threads ${t}: ${run.wall.toFixed(2)} s wall, ${run.cpu.toFixed(2)} s CPU, ${run.rssMiB.toFixed(0)} MiB, load ${run.load}\n`,
+      `round ${round + 1} ${m}: ${run.wall.toFixed(2)} s wall, ${run.cpu.toFixed(2)} s CPU, ${run.rssMiB.toFixed(0)} MiB, load ${run.load}\n`,
     );
   }
-const first = runs.get(THREADS[0])![0];
-for (const [t, list] of runs)
+const first = runs.get(MODES[0])![0];
+for (const [m, list] of runs)
   for (const r of list) {
-    if (r.digest !== first.digest) throw new Error(`--threads ${t}: digest ${r.digest} differs from ${first.digest}`);
-    if (r.events !== first.events) throw new Error(`--threads ${t}: the event log differs`);
+    if (r.digest !== first.digest) throw new Error(`${m}: digest ${r.digest} differs from ${first.digest}`);
+    if (r.events !== first.events) throw new Error(`${m}: the event log differs`);
   }
 process.stdout.write(
   `\n${DURATION} s of 2 ch × 8 kS/s (${file}), ${ROUNDS} alternating rounds, digest ${first.digest}, ` +
     `${first.events.trim().split('\n').length} events, identical in every run\n`,
 );
 process.stdout.write(
-  '| threads | wall s (median) | CPU s (median) | peak RSS MiB (median) | × real time |\n|---|---|---|---|---|\n',
+  '| serving:threads | wall s (median) | CPU s (median) | peak RSS MiB (median) | × real time |\n|---|---|---|---|---|\n',
 );
 for (const [t, list] of runs) {
   const wall = median(list.map((r) => r.wall));
