@@ -722,11 +722,12 @@ export class SpectrumView {
     const ctx = this.ctx;
     const f = this.latest;
     if (!ctx || !f || idx < 0 || idx >= this.x.length) return;
-    const unit = ctx.channels[0]?.unit ?? 'V';
-    const where = this.where(ctx.channels[0]?.front);
     const parts = [`f = ${hz(this.x[idx])}`];
     const h = Math.ceil(this.lobeHalfWidth);
     for (let c = 0; c < f.channels; c++) {
+      // Each channel in its own unit and referred point (a bridge in V at its input beside a current probe in A).
+      const unit = ctx.channels[c]?.unit ?? 'V';
+      const where = this.where(ctx.channels[c]?.front);
       // dsp/tone.ts reads float64; a copy only when the cursor moves, referred to the point shown
       const k = this.display[c];
       const psd = Float64Array.from(f.values[c], (v) => v * k);
