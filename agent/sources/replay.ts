@@ -112,6 +112,22 @@ export class ReplaySource implements Source {
     return this.reader?.info;
   }
 
+  /**
+   * Channels whose calibration the file's own metadata already carries (a rig config is not applied to them again).
+   * Read from the open file once started; before that from its header alone.
+   */
+  async calibratedChannels(): Promise<Set<number>> {
+    let info = this.reader?.info;
+    if (!info) {
+      const header = await WavReader.open(this.path, { scale: this.options.scale });
+      info = header.info;
+      await header.close();
+    }
+    const calibrated = new Set<number>();
+    info.metadata?.channels.forEach((c, i) => c.calibration && calibrated.add(i));
+    return calibrated;
+  }
+
   /** Resolves when the replay has ended (end of file, loop limit or stop()); rejects on a read error. */
   get done(): Promise<void> {
     return this.running;

@@ -6,7 +6,6 @@ import { threadsFlag } from './threads-flag.ts';
 import { InputError, UsageError } from '../../errors.ts';
 import { DATA_FLAG, RECORDING_FLAGS, monitorOptionsFromFlags, calibratedSource } from './monitor-flags.ts';
 import { CONFIG_FLAG, readConfigFlag } from '../../config/apply-config.ts';
-import { rescaleBaselineForReplay } from '../../config/calibration.ts';
 import { HISTORY_FLAGS } from '../../store/cli-flags.ts';
 import { readBaseline } from '../../baseline/format.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
@@ -41,24 +40,12 @@ async function runDemo(args: ParsedArgs<typeof DEMO_FLAGS>): Promise<number> {
     throw new InputError(
       `floorline demo: the demo recording ${file} is missing; reinstall, or make it with \`floorline simulate recordings/demo-scenario.json --out recordings/demo.wav\`.`,
     );
-  let baseline = existsSync(baselinePath) ? await readBaseline(baselinePath) : undefined;
-  const channels = rig?.config.channels;
-  if (baseline && channels) {
-    // The bundled baseline is in the recording's own units; follow the config's calibration, and say so.
-    const r = rescaleBaselineForReplay(baseline, channels);
-    baseline = r.baseline;
-    if (r.changed.length)
-      process.stdout.write(`floorline demo: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
-  }
+  const baseline = existsSync(baselinePath) ? await readBaseline(baselinePath) : undefined;
   const loop = !f['no-loop'];
   // The first pass starts at DEMO_START_SECONDS, shortly before the first scripted fault; later loops play it all.
   const source = new ReplaySource(file, { speed, loop, startTime: DEMO_START_SECONDS, loopWholeFile: true });
-  process.stdout.write(
-    `floorline demo: replaying ${file} (an invented thermal-stand load-cell rig; see recordings/README.md)\n` +
-      `  from t = ${DEMO_START_SECONDS} s (mains pickup at 20 s), ${speed === 1 ? 'in real time' : `at ${speed === 'max' ? 'full' : `${speed}×`} speed`}, ${loop ? 'looping over the whole 60 s' : 'once'}, ` +
-      `against ${baseline ? 'recordings/demo-baseline.json' : 'no baseline'}; Ctrl-C stops it.\n`,
-  );
-  // The baseline was taken with the default analysis settings, so the demo runs with them (it has no analysis flags).
+  // The baseline was taken with the default analysis settings, so the demo runs with them (it has no analysis
+  // flags). It is in the recording's own units: with --config, the options bring it into the config's (and say so).
   const options = await monitorOptionsFromFlags(args, 'demo', {
     mode: 'lossless',
     rig,
@@ -67,6 +54,11 @@ async function runDemo(args: ParsedArgs<typeof DEMO_FLAGS>): Promise<number> {
     frames: () => source.fileInfo?.frames,
     baseline: baseline ? { baseline, where: baselinePath, label: 'recordings/demo-baseline.json' } : undefined,
   });
+  process.stdout.write(
+    `floorline demo: replaying ${file} (an invented thermal-stand load-cell rig; see recordings/README.md)\n` +
+      `  from t = ${DEMO_START_SECONDS} s (mains pickup at 20 s), ${speed === 1 ? 'in real time' : `at ${speed === 'max' ? 'full' : `${speed}×`} speed`}, ${loop ? 'looping over the whole 60 s' : 'once'}, ` +
+      `against ${baseline ? 'recordings/demo-baseline.json' : 'no baseline'}; Ctrl-C stops it.\n`,
+  );
   const monitor = await startMonitor(calibratedSource(source, rig, 'demo'), options);
   await source.done;
   await monitor.finished;

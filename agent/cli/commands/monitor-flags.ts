@@ -17,6 +17,7 @@ import type { MonitorOptions, PartSpec } from '../../monitor/options.ts';
 import { defaultAssetsDir, serverOptionsFromArgs, type SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { serveDashboard } from '../../server/serve.ts';
 import { consolePart } from './console-part.ts';
+import { baselineInConfigUnits } from './replay-baseline.ts';
 import type { LoadedRigConfig } from '../../config/rig-config.ts';
 import { CalibratedSource } from '../../config/calibration.ts';
 import type { Source } from '../../../protocol/stream.ts';
@@ -309,7 +310,7 @@ export interface CommandWiring {
   rig?: LoadedRigConfig;
   /** What feeds the monitor, kept with each run in the history store (port path or recording). */
   sourceLabel: string;
-  /** The replay behind the source (for status and a replay's own history store name). */
+  /** The replay behind the source (for status, a replay's own history store name and its baseline's units). */
   replay?: ReplaySource;
   queueCapacity?: number;
   durationSeconds?: number;
@@ -366,9 +367,12 @@ export async function monitorOptionsFromFlags(
   // demo has no --band: the config's bands still apply (its analysis settings do not: they stay the baseline's).
   if (!alarmFlags && rig?.config.bands?.length) alarms.rules.band.bands = rig.config.bands.map(parseBand);
   const rec = readRecordingFlags(f);
-  const baseline =
+  const given =
     w.baseline ??
     (alarms.baseline && alarms.baselinePath ? { baseline: alarms.baseline, where: alarms.baselinePath } : undefined);
+  // A replay passes the recording through the config's calibration, so its baseline has to follow.
+  const baseline =
+    given && w.replay ? await baselineInConfigUnits(given, rig?.config.channels, w.replay, command) : given;
   const parts: PartSpec[] = [
     consolePart({ quiet: f.quiet, statusEvery: rec.statusEvery, frames: w.frames }),
     ...(w.parts ?? []),

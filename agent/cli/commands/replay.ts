@@ -17,10 +17,6 @@ import { snapshotToJsonLine } from '../../pipeline/snapshot-digest.ts';
 import { ReplaySource, parseSpeed } from '../../sources/replay.ts';
 import { SERVER_FLAGS } from '../../server/cli-flags.ts';
 import { startMonitor } from '../../monitor/monitor.ts';
-import { rescaleBaselineForReplay } from '../../config/calibration.ts';
-import { readBaseline, type BaselineFile } from '../../baseline/format.ts';
-import { WavReader } from '../../wav/reader.ts';
-import type { ChannelConfig } from '../../config/rig-config.ts';
 import type { MonitorPart } from '../../monitor/parts.ts';
 
 /** Writes every spectrum snapshot as one JSON line (--snapshots-out). */
@@ -31,28 +27,6 @@ function snapshotWriter(path: string): MonitorPart {
     onSnapshot: (s) => void out.write(snapshotToJsonLine(s) + '\n'),
     close: () => new Promise<void>((r) => out.end(r)),
   };
-}
-
-/**
- * A --baseline taken from this recording before calibration, brought into the units the config's calibration gives
- * the replay (the same rule as the demo's): otherwise an input-referred channel would be compared with a floor
- * 40 dB (a gain of 100) above its own, and every line on it would go unreported.
- */
-async function baselineInConfigUnits(
-  args: ParsedArgs<typeof REPLAY_FLAGS>,
-  file: string,
-  channels: readonly ChannelConfig[] | undefined,
-): Promise<{ baseline: BaselineFile; where: string } | undefined> {
-  const where = args.flags.baseline;
-  if (!where || !channels?.length) return undefined;
-  const header = await WavReader.open(file, { scale: args.flags.scale });
-  const calibrated = new Set<number>();
-  header.info.metadata?.channels.forEach((c, i) => c.calibration && calibrated.add(i));
-  await header.close();
-  const r = rescaleBaselineForReplay(await readBaseline(where), channels, calibrated);
-  if (r.changed.length)
-    process.stdout.write(`floorline replay: baseline brought into the config's units: ${r.changed.join(', ')}\n`);
-  return { baseline: r.baseline, where };
 }
 
 async function runReplay(args: ParsedArgs<typeof REPLAY_FLAGS>): Promise<number> {
@@ -79,9 +53,7 @@ async function runReplay(args: ParsedArgs<typeof REPLAY_FLAGS>): Promise<number>
     unit: f.unit,
   });
   const snapshotsOut = f['snapshots-out'];
-  const baseline = await baselineInConfigUnits(args, file, rig?.config.channels);
   const options = await monitorOptionsFromFlags(args, 'replay', {
-    ...(baseline ? { baseline } : {}),
     mode: 'lossless',
     rig,
     sourceLabel: file,
