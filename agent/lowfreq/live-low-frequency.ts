@@ -74,10 +74,11 @@ function reading(f: CornerFit, excluded: number, frame: LogFrequencyFrame): Corn
 /** Standardised residuals above this leave the fit as lines (mains, spurs raise a density; noise rarely does). */
 export const LINE_CLIP_SIGMA = 4;
 
-function fitOnce(f: number[], psd: number[], dof: number[], fitMaxHz: number): CornerFit | null {
+function fitOnce(f: number[], psd: number[], dof: number[], fitMaxHz: number, from?: CornerFit): CornerFit | null {
+  const start = from ? { a: Math.log(from.whitePsd), b: Math.log(from.corner), alpha: from.exponent } : undefined;
   for (const exponent of ['free', 1] as const) {
     try {
-      const r = fitCorner({ frequency: f, psd, dof }, { maxFrequency: fitMaxHz, exponent });
+      const r = fitCorner({ frequency: f, psd, dof }, { maxFrequency: fitMaxHz, exponent, start });
       if (r.converged && Number.isFinite(r.cornerSigma) && Number.isFinite(r.whiteAsdSigma)) return r;
     } catch {
       // too few points yet: no fit
@@ -108,8 +109,11 @@ export function fitFrame(
     dof.push(2 * equivalentAverages[p]);
   }
   const total = f.length;
+  let previous: CornerFit | undefined;
   for (let round = 0; ; round++) {
-    const fit = fitOnce(f, psd, dof, fitMaxHz);
+    // After the first round the points differ only by the lines left out: start from the fit before.
+    const fit = fitOnce(f, psd, dof, fitMaxHz, previous);
+    previous = fit ?? undefined;
     if (!fit || round === 4) return fit ? { fit, excluded: total - f.length } : null;
     const a = Math.log(fit.whitePsd);
     const b = Math.log(fit.corner);

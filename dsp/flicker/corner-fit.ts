@@ -21,6 +21,8 @@ export interface CornerFitOptions {
   /** Fix α (default 1, the plain 1/f model) or pass 'free' to fit it. */
   exponent?: number | 'free';
   maxIterations?: number;
+  /** Where to start (ln e_w², ln f_c, α), e.g. a fit of nearly the same points; default: read off the data. */
+  start?: { a: number; b: number; alpha: number };
 }
 
 export interface CornerFit {
@@ -121,6 +123,12 @@ export function fitCorner(input: CornerFitInput, options: CornerFitOptions = {})
     }
   }
   let alpha: number = fixedAlpha;
+  const st = options.start;
+  if (st && Number.isFinite(st.a) && Number.isFinite(st.b) && (!free || (Number.isFinite(st.alpha) && st.alpha > 0))) {
+    a = st.a;
+    b = st.b;
+    if (free) alpha = st.alpha;
+  }
   const chi2 = (pa: number, pb: number, pal: number): number => {
     let s = 0;
     for (let i = 0; i < m; i++) {
