@@ -628,6 +628,7 @@ export class SpectrumView {
     const dpr = devicePixelRatio;
     c.save();
     c.font = `${Math.round(10 * dpr)}px system-ui, sans-serif`;
+    c.textAlign = 'left'; // uPlot leaves the y axis's right alignment on the context
     c.textBaseline = 'alphabetic';
     for (const { label, x, y } of this.bandLabels) {
       const w = c.measureText(label).width;
