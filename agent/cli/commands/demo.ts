@@ -1,5 +1,6 @@
 // `floorline demo`: the bundled recording of our invented rig, replayed in real time, looping, against its
 // baseline, with the dashboard served. `npm start` runs this.
+import { shownPath } from '../../config/shown-path.ts';
 import { existsSync } from 'node:fs';
 import { defineCommand, defineFlags, type ParsedArgs } from '../args.ts';
 import { threadsFlag } from './threads-flag.ts';
@@ -55,7 +56,7 @@ async function runDemo(args: ParsedArgs<typeof DEMO_FLAGS>): Promise<number> {
     baseline: baseline ? { baseline, where: baselinePath, label: 'recordings/demo-baseline.json' } : undefined,
   });
   process.stdout.write(
-    `floorline demo: replaying ${file} (an invented thermal-stand load-cell rig; see recordings/README.md)\n` +
+    `floorline demo: replaying ${shownPath(file)} (an invented thermal-stand load-cell rig; see recordings/README.md)\n` +
       `  from t = ${DEMO_START_SECONDS} s (mains pickup at 20 s), ${speed === 1 ? 'in real time' : `at ${speed === 'max' ? 'full' : `${speed}×`} speed`}, ${loop ? 'looping over the whole 60 s' : 'once'}, ` +
       `against ${baseline ? 'recordings/demo-baseline.json' : 'no baseline'}; Ctrl-C stops it.\n`,
   );
