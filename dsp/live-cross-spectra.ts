@@ -107,10 +107,18 @@ export class CrossSpectraAverager {
     }
   }
 
-  /** Magnitude-squared coherence of pair i into out (length ≥ bins); NaN before any segment. */
-  coherence(i: number, out: Float64Array): Float64Array {
+  /**
+   * Pair i's cross-spectral density (unit_a·unit_b/Hz, scipy.signal.csd 'density' one-sided) into re/im and its
+   * magnitude-squared coherence into coherence (each length ≥ bins); NaN before any segment. Each average read once.
+   */
+  pairInto(i: number, re: Float64Array, im: Float64Array, coherence: Float64Array): void {
     const bins = this.bins;
-    if (this.used === 0) return out.fill(Number.NaN, 0, bins);
+    if (this.used === 0) {
+      re.fill(Number.NaN, 0, bins);
+      im.fill(Number.NaN, 0, bins);
+      coherence.fill(Number.NaN, 0, bins);
+      return;
+    }
     const [a, b] = this.pairs[i];
     this.auto[a].read(this.autoA);
     this.auto[b].read(this.autoB);
@@ -118,22 +126,9 @@ export class CrossSpectraAverager {
     const xa = this.autoA;
     const xb = this.autoB;
     const c = this.crossRow;
-    for (let k = 0, j = 0; k < bins; k++, j += 2) out[k] = (c[j] * c[j] + c[j + 1] * c[j + 1]) / (xa[k] * xb[k]);
-    return out;
-  }
-
-  /** Cross-spectral density of pair i (unit_a·unit_b/Hz, scipy.signal.csd 'density' one-sided); NaN before any segment. */
-  csd(i: number, re: Float64Array, im: Float64Array): void {
-    const bins = this.bins;
-    if (this.used === 0) {
-      re.fill(Number.NaN, 0, bins);
-      im.fill(Number.NaN, 0, bins);
-      return;
-    }
-    this.cross[i].read(this.crossRow);
     const s = this.scale;
-    const c = this.crossRow;
     for (let k = 0, j = 0; k < bins; k++, j += 2) {
+      coherence[k] = (c[j] * c[j] + c[j + 1] * c[j + 1]) / (xa[k] * xb[k]);
       re[k] = c[j] * s[k];
       im[k] = c[j + 1] * s[k];
     }

@@ -253,11 +253,12 @@ export class Analyser {
     return this.pairs.map(([a, b], i) => {
       const re = new Float64Array(bins);
       const im = new Float64Array(bins);
-      cross.csd(i, re, im);
+      const coherence = new Float64Array(bins);
+      cross.pairInto(i, re, im, coherence);
       return {
         a: this.info.channels[a].name,
         b: this.info.channels[b].name,
-        coherence: cross.coherence(i, new Float64Array(bins)),
+        coherence,
         csdRe: re,
         csdIm: im,
         segmentsUsed: used,
