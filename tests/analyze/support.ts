@@ -1,9 +1,9 @@
 // Helpers for the analyze suites: run the built CLI, and scipy.signal.welch on scipy.io.wavfile's samples as the
 // outside reference for `analyze --json`.
-import { spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { root, type Python } from '../wav/support.ts';
+import { floorline } from '../support/cli.ts';
 
 export interface CliResult {
   status: number | null;
@@ -12,10 +12,9 @@ export interface CliResult {
 }
 
 export function runCli(...args: string[]): CliResult {
-  const bin = join(root, 'bin/floorline.mjs');
   if (!existsSync(join(root, 'dist/floorline.mjs')))
     throw new Error('dist/floorline.mjs is missing: run `npm run build` before these tests');
-  const r = spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', maxBuffer: 256 << 20 });
+  const r = floorline(args, { timeout: 0 });
   return { status: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 

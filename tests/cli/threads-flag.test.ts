@@ -2,29 +2,12 @@
 // the same summary (snapshot count, digest, events), and a value outside 1…64 or not whole is refused with exit 2
 // and a message naming the flag and what to give. The replays serve (port 0): with --no-server the low-frequency
 // view, the part --threads moves to workers, is off.
-import { spawnSync } from 'node:child_process';
-import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { root, tempDir } from '../wav/support.ts';
+import { tempDir } from '../wav/support.ts';
+import { DEMO_WAV, floorline } from '../support/cli.ts';
 
-const cli = join(root, 'bin/floorline.mjs');
 const replay = (...extra: string[]) =>
-  spawnSync(
-    process.execPath,
-    [
-      cli,
-      'replay',
-      join(root, 'recordings/demo.wav'),
-      '--speed',
-      'max',
-      '--http-port',
-      '0',
-      '--no-history',
-      '--quiet',
-      ...extra,
-    ],
-    { encoding: 'utf8' },
-  );
+  floorline(['replay', DEMO_WAV, '--speed', 'max', '--http-port', '0', '--no-history', '--quiet', ...extra]);
 
 describe('--threads N', () => {
   it('replay prints the same summary at 1 and 2 threads', () => {
@@ -43,7 +26,7 @@ describe('--threads N', () => {
       expect(r.status).toBe(2);
       expect(r.stderr).toMatch(new RegExp(`--threads .*${bad.replace('.', '\\.')}.*integer from 1 to 64`));
     }
-    const demo = spawnSync(process.execPath, [cli, 'demo', '--threads', '0'], { encoding: 'utf8' });
+    const demo = floorline(['demo', '--threads', '0']);
     expect(demo.status).toBe(2);
     expect(demo.stderr).toMatch(/--threads 0 is out of range/);
   }, 300_000);

@@ -6,12 +6,10 @@ import { mkdtempSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { DEMO_WAV, floorline } from '../support/cli.ts';
 
-const root = new URL('../..', import.meta.url).pathname;
-const bin = join(root, 'bin/floorline.mjs');
-
-function floorline(args: string[]): { stdout: string; stderr: string } {
-  const r = spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', timeout: 120_000 });
+function succeeds(args: string[]): { stdout: string; stderr: string } {
+  const r = floorline(args);
   expect(r.status, r.stderr).toBe(0);
   return r;
 }
@@ -31,9 +29,9 @@ describe('calibration from the rig config', () => {
         data: 'data',
       }),
     );
-    const first = floorline([
+    const first = succeeds([
       'replay',
-      join(root, 'recordings/demo.wav'),
+      DEMO_WAV,
       '--config',
       config,
       '--speed',
@@ -83,7 +81,7 @@ print(np.sqrt(np.median(p[sel, 0])), np.sqrt(np.median(p[sel, 1])))
     expect(shorted / 15e-9).toBeLessThan(1.1);
 
     // Replays of the recording, with and without the config, give the first run's spectra bit for bit.
-    const again = floorline([
+    const again = succeeds([
       'replay',
       rec,
       '--config',
@@ -95,24 +93,15 @@ print(np.sqrt(np.median(p[sel, 0])), np.sqrt(np.median(p[sel, 1])))
       '--data',
       join(dir, 'd2'),
     ]);
-    const bare = floorline(['replay', rec, '--speed', 'max', '--no-server', '--quiet', '--data', join(dir, 'd3')]);
+    const bare = succeeds(['replay', rec, '--speed', 'max', '--no-server', '--quiet', '--data', join(dir, 'd3')]);
     expect(digest(again.stdout)).toBe(digest(first.stdout));
     expect(digest(bare.stdout)).toBe(digest(first.stdout));
     // And they differ from the uncalibrated demo (so the digest does see the calibration).
-    const plain = floorline([
-      'replay',
-      join(root, 'recordings/demo.wav'),
-      '--speed',
-      'max',
-      '--no-server',
-      '--quiet',
-      '--data',
-      join(dir, 'd4'),
-    ]);
+    const plain = succeeds(['replay', DEMO_WAV, '--speed', 'max', '--no-server', '--quiet', '--data', join(dir, 'd4')]);
     expect(digest(plain.stdout)).not.toBe(digest(first.stdout));
     // A baseline of the calibrated recording says its bridge densities are at the input, so no replay divides them
     // by the gain again; the shorted channel (no gain) carries no mark.
-    floorline(['baseline', rec, '-o', join(dir, 'input-baseline.json'), '--seconds', '8']);
+    succeeds(['baseline', rec, '-o', join(dir, 'input-baseline.json'), '--seconds', '8']);
     const marked = JSON.parse(readFileSync(join(dir, 'input-baseline.json'), 'utf8'));
     expect(marked.channels[0].referredTo).toBe('input');
     expect(marked.channels[1].referredTo).toBeUndefined();

@@ -1,46 +1,30 @@
 // Events of an input-referred channel say so: the demo replayed with a config that divides the bridge by its gain
 // (100, recordings/README.md) gives the same alarms at the same samples, the bridge's line amplitudes ÷ 100 and
 // marked `referredTo: "input"` in field and text, and the shorted channel's events unchanged and unmarked.
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import type { FloorlineEvent } from '../../protocol/events.ts';
 import { rescaleBaselineForReplay } from '../../agent/config/calibration.ts';
 import { readBaseline } from '../../agent/baseline/format.ts';
+import { DEMO_BASELINE, DEMO_WAV, floorline, headlessAgainstDemoBaseline, readJsonLines } from '../support/cli.ts';
 
-const root = new URL('../..', import.meta.url).pathname;
-const bin = join(root, 'bin/floorline.mjs');
-
-function replayEvents(dir: string, extra: string[]): FloorlineEvent[] {
+/** The demo replayed against its baseline: the events it wrote, and what it printed. */
+function replayEvents(dir: string, extra: string[]): { events: FloorlineEvent[]; stdout: string } {
   const out = join(dir, 'events.jsonl');
-  const r = spawnSync(
-    process.execPath,
-    [
-      bin,
-      'replay',
-      join(root, 'recordings/demo.wav'),
-      '--speed',
-      'max',
-      '--no-server',
-      '--no-history',
-      '--quiet',
-      '--baseline',
-      join(root, 'recordings/demo-baseline.json'),
-      '--events-out',
-      out,
-      '--data',
-      join(dir, 'data'),
-      ...extra,
-    ],
-    { encoding: 'utf8', timeout: 120_000 },
-  );
+  const r = floorline([
+    'replay',
+    DEMO_WAV,
+    '--speed',
+    'max',
+    ...headlessAgainstDemoBaseline(out),
+    '--data',
+    join(dir, 'data'),
+    ...extra,
+  ]);
   expect(r.status, r.stderr).toBe(0);
-  return readFileSync(out, 'utf8')
-    .trim()
-    .split('\n')
-    .map((l) => JSON.parse(l) as FloorlineEvent);
+  return { events: readJsonLines<FloorlineEvent>(out), stdout: r.stdout };
 }
 
 describe('events of an input-referred channel', () => {
@@ -56,8 +40,15 @@ describe('events of an input-referred channel', () => {
         ],
       }),
     );
-    const atAdc = replayEvents(join(dir, 'adc'), []).filter((e) => e.kind === 'alarm');
-    const atInput = replayEvents(join(dir, 'input'), ['--config', config]).filter((e) => e.kind === 'alarm');
+    const adc = replayEvents(join(dir, 'adc'), []);
+    const input = replayEvents(join(dir, 'input'), ['--config', config]);
+    // The baseline was taken at the converter: with the config it is divided by the gain once (1/100), and said so.
+    expect(adc.stdout).not.toMatch(/baseline brought into/);
+    expect(input.stdout.match(/^floorline replay: baseline brought into the config's units: .*$/gm)).toEqual([
+      "floorline replay: baseline brought into the config's units: bridge → bridge (×0.01)",
+    ]);
+    const atAdc = adc.events.filter((e) => e.kind === 'alarm');
+    const atInput = input.events.filter((e) => e.kind === 'alarm');
     // The same alarms at the same samples: dB levels are ratios, so referring to the input changes none of them.
     expect(atInput.map((e) => [e.rule, e.state, e.channel, e.sample, e.levelDb])).toEqual(
       atAdc.map((e) => [e.rule, e.state, e.channel, e.sample, e.levelDb]),
@@ -86,7 +77,7 @@ describe('events of an input-referred channel', () => {
 
   it('bring a converter-side baseline to the input once, and never divide a baseline taken at the input again', async () => {
     // A density scales with the square of the amplitude, a band RMS with the amplitude (common practice).
-    const base = await readBaseline(join(root, 'recordings/demo-baseline.json'));
+    const base = await readBaseline(DEMO_BASELINE);
     const config = [
       { name: 'bridge', unit: 'V', gain: 100, inputReferred: true },
       { name: 'shorted', unit: 'V' },

@@ -4,14 +4,20 @@
 // arrived exactly once per state (raised, settled, cleared) as the event log has it, and nothing may be lost.
 import { spawn } from 'node:child_process';
 import { createServer, type Server } from 'node:http';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { AddressInfo } from 'node:net';
 import { describe, expect, it } from 'vitest';
 import { PtyPair, sleep, startSimulator } from '../serial/pty-pair.ts';
+import { CLI, headlessAgainstDemoBaseline, readJsonLines } from '../support/cli.ts';
+import { root } from '../wav/support.ts';
 
-const root = new URL('../..', import.meta.url).pathname;
+/** The alarm events of the run's log, as incident|state keys. */
+const alarmKeys = (log: string): string[] =>
+  readJsonLines<{ kind: string; incident: string; state: string }>(log)
+    .filter((e) => e.kind === 'alarm')
+    .map((e) => `${e.incident}|${e.state}`);
 
 describe('live run over a pty: one notification per incident and state, through an outage', () => {
   it('exactly once per incident raise, settle and clear', async () => {
@@ -50,21 +56,7 @@ describe('live run over a pty: one notification per incident and state, through 
     await pair.start();
     const agent = spawn(
       process.execPath,
-      [
-        join(root, 'bin/floorline.mjs'),
-        'run',
-        '--config',
-        config,
-        '--port',
-        pair.host,
-        '--no-server',
-        '--no-history',
-        '--quiet',
-        '--baseline',
-        join(root, 'recordings/demo-baseline.json'),
-        '--events-out',
-        join(dir, 'events.jsonl'),
-      ],
+      [CLI, 'run', '--config', config, '--port', pair.host, ...headlessAgainstDemoBaseline(join(dir, 'events.jsonl'))],
       { stdio: ['ignore', 'ignore', 'pipe'] },
     );
     let err = '';
@@ -80,15 +72,7 @@ describe('live run over a pty: one notification per incident and state, through 
       up();
       await sim.exited;
       // Back-off after 60 s down is at most 32 s (±20 %); wait until everything in the event log has arrived.
-      const want = () =>
-        new Set(
-          readFileSync(join(dir, 'events.jsonl'), 'utf8')
-            .trim()
-            .split('\n')
-            .map((l) => JSON.parse(l))
-            .filter((e) => e.kind === 'alarm')
-            .map((e) => `${e.incident}|${e.state}`),
-        ).size;
+      const want = () => new Set(alarmKeys(join(dir, 'events.jsonl'))).size;
       for (let i = 0; i < 120 && new Set(got.map((g) => g.id)).size < want(); i++) await sleep(500);
       await sleep(1000);
     } finally {
@@ -99,12 +83,7 @@ describe('live run over a pty: one notification per incident and state, through 
     await new Promise<void>((r) => server!.close(() => r()));
     expect(err).toMatch(/notify: .* failed/);
 
-    const events = readFileSync(join(dir, 'events.jsonl'), 'utf8')
-      .trim()
-      .split('\n')
-      .map((l) => JSON.parse(l))
-      .filter((e) => e.kind === 'alarm');
-    const expected = [...new Set(events.map((e) => `${e.incident}|${e.state}`))].sort();
+    const expected = [...new Set(alarmKeys(join(dir, 'events.jsonl')))].sort();
     expect(expected.some((k) => k.endsWith('|settled'))).toBe(true);
     expect(expected.some((k) => k.endsWith('|cleared'))).toBe(true);
     const unique = new Map(got.map((g) => [g.id, g]));

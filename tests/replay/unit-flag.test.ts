@@ -6,9 +6,8 @@ import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { DEMO_WAV, floorline, readJsonLines } from '../support/cli.ts';
 
-const root = new URL('../..', import.meta.url).pathname;
-const bin = join(root, 'bin/floorline.mjs');
 const dir = mkdtempSync(join(tmpdir(), 'floorline-unit-flag-'));
 const wav = join(dir, 'other-tool.wav');
 spawnSync('python3', [
@@ -18,13 +17,9 @@ w.write(sys.argv[1], 2000, (1e-6 * np.random.default_rng(3).standard_normal((200
   wav,
 ]);
 
-const run = (args: string[]) => spawnSync(process.execPath, [bin, ...args], { encoding: 'utf8', timeout: 60_000 });
+const run = (args: string[]) => floorline(args, { timeout: 60_000 });
 const units = (snapshots: string) =>
-  (
-    JSON.parse(readFileSync(snapshots, 'utf8').trim().split('\n').at(-1)!) as {
-      channels: { unit: string; psd: number[] }[];
-    }
-  ).channels;
+  readJsonLines<{ channels: { unit: string; psd: number[] }[] }>(snapshots).at(-1)!.channels;
 
 describe('--unit', () => {
   it('names the unit of FS samples in replay without changing a number', () => {
@@ -57,17 +52,8 @@ describe('--unit', () => {
 
   it('refuses a unit the metadata contradicts, naming the channel (the demo is in volts)', () => {
     for (const cmd of [
-      [
-        'replay',
-        join(root, 'recordings/demo.wav'),
-        '--speed',
-        'max',
-        '--no-server',
-        '--no-history',
-        '--data',
-        join(dir, 'c'),
-      ],
-      ['baseline', join(root, 'recordings/demo.wav'), '-o', join(dir, 'no.json')],
+      ['replay', DEMO_WAV, '--speed', 'max', '--no-server', '--no-history', '--data', join(dir, 'c')],
+      ['baseline', DEMO_WAV, '-o', join(dir, 'no.json')],
     ]) {
       const r = run([...cmd, '--unit', 'A']);
       expect(r.status).toBe(2);

@@ -1,16 +1,10 @@
 // Shared by the store and report suites: the CLI in a folder, and the bundled demo replayed once into a store.
-import { spawnSync } from 'node:child_process';
 import { join } from 'node:path';
 import { expect } from 'vitest';
-import { root } from '../wav/support.ts';
+import { DEMO_BASELINE, DEMO_WAV, floorline } from '../support/cli.ts';
 
 export function cliIn(dir: () => string) {
-  return (...args: string[]) =>
-    spawnSync(process.execPath, [join(root, 'bin/floorline.mjs'), ...args], {
-      encoding: 'utf8',
-      cwd: dir(),
-      timeout: 120_000,
-    });
+  return (...args: string[]) => floorline(args, { cwd: dir() });
 }
 
 /** Replays recordings/demo.wav against its baseline into DIR/demo.sqlite (events in DIR/data); returns the store. */
@@ -18,7 +12,7 @@ export function replayDemoIntoStore(dir: string): string {
   const store = join(dir, 'demo.sqlite');
   const r = cliIn(() => dir)(
     'replay',
-    join(root, 'recordings/demo.wav'),
+    DEMO_WAV,
     '--speed',
     'max',
     '--no-server',
@@ -28,7 +22,7 @@ export function replayDemoIntoStore(dir: string): string {
     '--store',
     store,
     '--baseline',
-    join(root, 'recordings/demo-baseline.json'),
+    DEMO_BASELINE,
   );
   expect(r.status, r.stderr).toBe(0);
   return store;
