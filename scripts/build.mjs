@@ -48,6 +48,7 @@ await build({
     `${root}agent/workers/channel-worker.ts`,
     `${root}agent/workers/span-worker.ts`,
     `${root}agent/workers/lowfreq-worker.ts`,
+    `${root}agent/workers/analysis-worker.ts`,
   ],
   outdir: `${root}dist`,
   outExtension: { '.js': '.mjs' },

@@ -114,6 +114,7 @@ export class Monitor implements PartSink {
       mode: o.mode,
       queueCapacity: o.queueCapacity,
       coherence: o.rules.coherent.pairs ?? 'auto',
+      threads: o.threads,
     });
     this.folder = dataFolderAt(o.dataDir);
     this.recent = new EventHistory(o.eventHistory ?? 1000);
@@ -279,6 +280,7 @@ export class Monitor implements PartSink {
   }
 
   stop(): Promise<void> {
+    this.pipeline.sourceStopping();
     return (this.stopping ??= this.source.stop());
   }
 

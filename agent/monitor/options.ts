@@ -41,7 +41,8 @@ export interface MonitorOptions {
   durationSeconds?: number;
   /** Run the live low-frequency view (1/f fit, 0.1–10 Hz peak-to-peak), optionally with its options; default on. */
   lowFrequency?: boolean | LiveLowFrequencyOptions;
-  /** Analysis threads: above 1 the low-frequency view runs on worker threads (same frames, events, snapshots). */
+  /** Analysis threads: above 1 the low-frequency view runs on worker threads and, in a replay without a history
+   * store, the Welch estimators and cross-spectra on one more (same frames, events, snapshots). */
   threads?: number;
   /** Events kept for clients that connect later (default 1000). */
   eventHistory?: number;

@@ -9,6 +9,7 @@
 // starts again, so every loop is analysed on the same grid of file indices as the first.
 import { WelchEstimator, welchStep } from '../../dsp/welch.ts';
 import { CrossSpectraAverager } from '../../dsp/live-cross-spectra.ts';
+import { makeWindow } from '../../dsp/windows.ts';
 import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
 import type { SnapshotChannel, SnapshotCoherence, SpectrumSnapshot } from './types.ts';
@@ -57,6 +58,8 @@ export class Analyser {
   /** The newest segment's complex spectrum per channel, and its last sample (−1: none yet). */
   private readonly spectra: Float64Array[] = [];
   private readonly spectrumSample: Float64Array = new Float64Array(0);
+  /** What its snapshots share, and their assembly. */
+  readonly frame: SnapshotFrame;
 
   constructor(
     private readonly info: StreamInfo,
@@ -106,6 +109,7 @@ export class Analyser {
     );
     // The estimator canonicalises the window name (e.g. "Hann" → "hann").
     this.settings.window = this.estimators[0].window.name;
+    this.frame = new SnapshotFrame(info, choice, averaging, pairs);
     if (pairs.length > 0) {
       this.cross = new CrossSpectraAverager({
         sampleRate: info.sampleRate,
@@ -219,7 +223,6 @@ export class Analyser {
 
   /** A snapshot of every channel's current estimate (fresh arrays: subscribers may keep it). */
   snapshot(sample: number, wallTime: string, sequence: number): SpectrumSnapshot {
-    const est0 = this.estimators[0];
     const channels: SnapshotChannel[] = this.estimators.map((e, c) => ({
       name: this.info.channels[c].name,
       unit: this.info.channels[c].unit,
@@ -229,20 +232,39 @@ export class Analyser {
       equivalentAverages: e.equivalentAverages(),
       lastSegmentSample: e.lastSegmentSample,
     }));
-    return {
-      sample,
-      t: sample / this.settings.sampleRate,
-      wallTime,
-      sequence,
-      settings: { ...this.settings },
-      averaging: { ...this.averaging },
-      frequencies: est0.frequencies,
-      binHz: est0.binHz,
-      nenbw: est0.window.nenbw,
-      enbwHz: est0.window.enbwHz(this.settings.sampleRate),
-      channels,
-      ...(this.cross ? { coherence: this.coherenceNow() } : {}),
-    };
+    return this.frame.snapshot(sample, wallTime, sequence, channels, this.cross ? this.coherenceNow() : undefined);
+  }
+
+  /**
+   * The numbers of the snapshot at `sample` into out[at…] in SnapshotFrame.read's order, for a snapshot taken on
+   * another thread: the sample; per channel segmentsUsed, segmentsTotal, equivalentAverages, lastSegmentSample; the
+   * pairs' segmentsUsed and equivalentAverages; the densities; per pair csd re, csd im and coherence.
+   */
+  writeSnapshot(sample: number, out: Float64Array, at: number): void {
+    const bins = this.estimators[0].bins;
+    let i = at;
+    out[i++] = sample;
+    for (const e of this.estimators) {
+      out[i++] = e.segmentsUsed;
+      out[i++] = e.segmentsTotal;
+      out[i++] = e.equivalentAverages();
+      out[i++] = e.lastSegmentSample;
+    }
+    out[i++] = this.cross ? this.cross.used : 0;
+    out[i++] = this.cross ? this.cross.equivalentAverages() : 0;
+    for (const e of this.estimators) {
+      e.psd(out.subarray(i, i + bins));
+      i += bins;
+    }
+    for (let p = 0; p < this.pairs.length; p++) {
+      this.cross!.pairInto(
+        p,
+        out.subarray(i, i + bins),
+        out.subarray(i + bins, i + 2 * bins),
+        out.subarray(i + 2 * bins, i + 3 * bins),
+      );
+      i += 3 * bins;
+    }
   }
 
   private coherenceNow(): SnapshotCoherence[] {
@@ -265,5 +287,110 @@ export class Analyser {
         equivalentAverages: k,
       };
     });
+  }
+}
+
+/**
+ * What every snapshot of one analysis shares (settings, frequencies, window figures, names), and the assembly of a
+ * snapshot from its per-channel parts or from the numbers Analyser.writeSnapshot wrote. Computed from the stream
+ * and the choice alone, with the estimator's own arithmetic, so a thread that never analysed builds the same
+ * snapshots as the one that did.
+ */
+export class SnapshotFrame {
+  readonly settings: AnalysisSettings;
+  readonly frequencies: Float64Array;
+  readonly binHz: number;
+  readonly nenbw: number;
+  readonly enbwHz: number;
+  readonly bins: number;
+
+  constructor(
+    private readonly info: StreamInfo,
+    choice: AnalysisChoice,
+    readonly averaging: AveragingSpec,
+    readonly pairs: readonly (readonly [number, number])[],
+  ) {
+    const window = makeWindow(choice.window, choice.segment);
+    this.settings = {
+      sampleRate: info.sampleRate,
+      segment: choice.segment,
+      window: window.name,
+      overlap: choice.overlap,
+      detrend: choice.detrend,
+    };
+    this.bins = choice.segment / 2 + 1;
+    this.binHz = info.sampleRate / choice.segment;
+    this.frequencies = new Float64Array(this.bins);
+    for (let k = 0; k < this.bins; k++) this.frequencies[k] = k * this.binHz;
+    this.nenbw = window.nenbw;
+    this.enbwHz = window.enbwHz(info.sampleRate);
+  }
+
+  snapshot(
+    sample: number,
+    wallTime: string,
+    sequence: number,
+    channels: SnapshotChannel[],
+    coherence: SnapshotCoherence[] | undefined,
+  ): SpectrumSnapshot {
+    return {
+      sample,
+      t: sample / this.settings.sampleRate,
+      wallTime,
+      sequence,
+      settings: { ...this.settings },
+      averaging: { ...this.averaging },
+      frequencies: this.frequencies,
+      binHz: this.binHz,
+      nenbw: this.nenbw,
+      enbwHz: this.enbwHz,
+      channels,
+      ...(coherence ? { coherence } : {}),
+    };
+  }
+
+  /** The snapshot Analyser.writeSnapshot wrote at numbers[at…] (fresh arrays). */
+  read(numbers: Float64Array, at: number, wallTime: string, sequence: number): SpectrumSnapshot {
+    const bins = this.bins;
+    const names = this.info.channels;
+    let i = at;
+    const sample = numbers[i++];
+    const channels: SnapshotChannel[] = names.map((c) => {
+      const ch = {
+        name: c.name,
+        unit: c.unit,
+        psd: new Float64Array(0),
+        segmentsUsed: numbers[i],
+        segmentsTotal: numbers[i + 1],
+        equivalentAverages: numbers[i + 2],
+        lastSegmentSample: numbers[i + 3],
+      };
+      i += 4;
+      return ch;
+    });
+    const used = numbers[i++];
+    const k = numbers[i++];
+    for (const ch of channels) {
+      ch.psd = numbers.slice(i, i + bins);
+      i += bins;
+    }
+    const coherence = this.pairs.length
+      ? this.pairs.map(([a, b]) => {
+          const csdRe = numbers.slice(i, i + bins);
+          const csdIm = numbers.slice(i + bins, i + 2 * bins);
+          const coh = numbers.slice(i + 2 * bins, i + 3 * bins);
+          i += 3 * bins;
+          return {
+            a: names[a].name,
+            b: names[b].name,
+            coherence: coh,
+            csdRe,
+            csdIm,
+            segmentsUsed: used,
+            equivalentAverages: k,
+          };
+        })
+      : undefined;
+    return this.snapshot(sample, wallTime, sequence, channels, coherence);
   }
 }

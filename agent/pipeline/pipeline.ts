@@ -18,15 +18,30 @@ import { Conditioner, forEachFiniteRun } from './conditioner.ts';
 import { rateProblem } from '../../protocol/limits.ts';
 import { makeEvent } from '../rules/event-factory.ts';
 import { Emitter, type Listener } from './emitter.ts';
+import { RemoteAnalyser } from '../workers/remote-analyser.ts';
 import type {
   CalibratedBlock,
+  ClipNotice,
   Detector,
   NonFiniteNotice,
   OverrunNotice,
   PipelineCounters,
   PipelineEvents,
   SegmentObserver,
+  SpectrumSnapshot,
 } from './types.ts';
+
+/** A block handed to the analysis worker whose events are not out yet: they go out, in a one-thread run's order,
+ * once the worker has its snapshots, while the worker analyses the next block. */
+interface PendingBlock {
+  firstSample: number;
+  frames: number;
+  data: Float64Array[];
+  clips: ClipNotice[];
+  snapshots: SpectrumSnapshot[];
+  /** The worker still holds its last piece. */
+  outstanding: boolean;
+}
 
 export interface PipelineOptions {
   analysis?: Partial<AnalysisChoice>;
@@ -40,6 +55,9 @@ export interface PipelineOptions {
   drainBudgetMs?: number;
   /** Channel pairs whose cross-spectra and coherence the snapshots carry (default 'auto': every pair of 2–4 channels). */
   coherence?: CoherencePairsSpec;
+  /** Above 1 (lossless mode only), the Welch estimators and cross-spectra run on a worker thread while this thread
+   * runs the detectors of the block before: same snapshots and events, in the same order (default 1). */
+  threads?: number;
 }
 
 export class Pipeline implements SourceSink {
@@ -57,6 +75,16 @@ export class Pipeline implements SourceSink {
   private readonly drainBudgetMs: number;
   private readonly coherenceSpec: CoherencePairsSpec;
   private pairs: [number, number][] = [];
+  private readonly threads: number;
+  /** The analysis on a worker thread (threads > 1, lossless, no segment observers), instead of `analyser`. */
+  private remote: RemoteAnalyser | undefined;
+  private pending: PendingBlock | undefined;
+  /** Two sets of conditioned channels: one waits for its events while the next block fills the other. */
+  private unitSets: [Float64Array[], Float64Array[]] = [[], []];
+  private unitSet = 0;
+  /** Events of a pending block are going out (a source stopped from one of them stops before the next block). */
+  private emitting = false;
+  private dropPending = false;
 
   private streamInfo: StreamInfo | undefined;
   private startWallMs = 0;
@@ -99,6 +127,7 @@ export class Pipeline implements SourceSink {
     this.queueCapacity = options.queueCapacity ?? 64;
     this.drainBudgetMs = options.drainBudgetMs ?? 20;
     this.coherenceSpec = options.coherence ?? 'auto';
+    this.threads = options.threads ?? 1;
     if (!Number.isInteger(this.queueCapacity) || this.queueCapacity < 1) {
       throw new RangeError(`Pipeline: queueCapacity must be an integer ≥ 1, got ${this.queueCapacity}`);
     }
@@ -139,6 +168,10 @@ export class Pipeline implements SourceSink {
 
   /** Adds an observer of every completed Welch segment (see SegmentObserver). */
   addSegmentObserver(o: SegmentObserver): void {
+    if (this.remote)
+      throw new Error(
+        'pipeline: segment observers must be added before the stream starts when analysis runs on a worker',
+      );
     this.segmentObservers.push(o);
     if (this.analyser && this.streamInfo) this.installObservers(this.analyser, this.streamInfo, this.expected);
   }
@@ -181,7 +214,19 @@ export class Pipeline implements SourceSink {
 
   /** The analysis as it runs now (undefined before the stream's info). */
   get analysisSettings() {
-    return this.analyser ? { ...this.analyser.settings } : undefined;
+    const settings = this.analyser?.settings ?? this.remote?.settings;
+    return settings ? { ...settings } : undefined;
+  }
+
+  /** Whether the analysis runs on a worker thread. */
+  get analysisOnWorker(): boolean {
+    return this.remote !== undefined;
+  }
+
+  /** The source is being stopped: called from a listener of a block's events, the blocks after it were never
+   * delivered in a one-thread run, so one handed on already is dropped rather than analysed. */
+  sourceStopping(): void {
+    if (this.emitting) this.dropPending = true;
   }
 
   counters(): PipelineCounters {
@@ -235,22 +280,27 @@ export class Pipeline implements SourceSink {
         (c, i) => c.scale === info.channels[i].scale && c.fullScaleCounts === info.channels[i].fullScaleCounts,
       );
     this.drainNow();
+    this.settle();
     const start = info.startWallTime ? Date.parse(info.startWallTime) : NaN;
     if (!same) {
       this.streamInfo = info;
       this.startWallMs = Number.isFinite(start) ? start : Date.now();
       this.conditioner = new Conditioner(info.channels);
       this.pairs = resolveCoherencePairs(this.coherenceSpec, info);
-      this.analyser = new Analyser(
-        info,
-        this.choice,
-        this.averagingSpec,
-        this.snapshotRate,
-        info.firstSample,
-        this.pairs,
-      );
-      this.installObservers(this.analyser, info, info.firstSample);
+      this.remote?.close();
+      this.remote = undefined;
+      this.analyser = undefined;
+      const args = [info, this.choice, this.averagingSpec, this.snapshotRate, info.firstSample, this.pairs] as const;
+      // Made on this thread either way, so a bad setting is refused here with the one-thread message.
+      const local = new Analyser(...args);
+      if (this.threads > 1 && this.mode === 'lossless' && this.segmentObservers.length === 0) {
+        this.remote = new RemoteAnalyser(...args);
+      } else {
+        this.analyser = local;
+        this.installObservers(local, info, info.firstSample);
+      }
       this.units = info.channels.map(() => new Float64Array(0));
+      this.unitSets = [this.units, info.channels.map(() => new Float64Array(0))];
       this.queue = this.mode === 'bounded' ? new BlockQueue(this.queueCapacity, info.channels.length) : undefined;
       this.count.queueCapacity = this.mode === 'bounded' ? this.queueCapacity : 0;
       this.count.clippedSamples = info.channels.map(() => 0);
@@ -290,17 +340,21 @@ export class Pipeline implements SourceSink {
 
   gap(gap: GapNotice): void {
     this.drainNow();
+    this.settle();
     this.applyGap(gap, true);
   }
 
   link(link: LinkNotice): void {
     this.drainNow();
+    this.settle();
     this.emitter.emit('link', link);
     for (const d of this.detectors) if (d.onLink) this.emitAll(d.onLink(link));
   }
 
   end(): void {
     this.drainNow();
+    this.settle();
+    this.remote?.close();
     this.flushDropRun();
     this.ended = true;
     this.emitter.emit('end', { sample: this.count.lastSample });
@@ -330,8 +384,9 @@ export class Pipeline implements SourceSink {
    */
   private applyGap(gap: GapNotice, notifyDetectors: boolean): void {
     this.expected = gap.sample + gap.lost;
-    if (gap.lost === 0) this.analyser?.clearAt(this.expected, this.expected - (gap.restartsAt ?? this.expected));
-    else this.analyser?.restartAt(this.expected);
+    const origin = this.expected - (gap.restartsAt ?? this.expected);
+    if (gap.lost === 0) (this.analyser ?? this.remote)?.clearAt(this.expected, origin);
+    else (this.analyser ?? this.remote)?.restartAt(this.expected);
     if (gap.lost > 0) {
       this.count.gaps++;
       this.count.lostSamples += gap.lost;
@@ -380,6 +435,7 @@ export class Pipeline implements SourceSink {
         this.dropRun || this.count.droppedSamples > 0
           ? 'analysis overrun (blocks dropped)'
           : 'discontinuity in the source';
+      this.settle();
       this.flushDropRun();
       this.applyGap(
         { sample: this.expected, lost: firstSample - this.expected, reason },
@@ -389,22 +445,40 @@ export class Pipeline implements SourceSink {
     if (this.pendingReconfigure) {
       const { choice, averaging } = this.pendingReconfigure;
       this.pendingReconfigure = undefined;
+      this.settle();
       this.choice = choice;
       this.averagingSpec = averaging;
-      this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, firstSample + start, this.pairs);
-      this.installObservers(this.analyser, info, firstSample + start);
+      const from = firstSample + start;
+      if (this.remote?.fits(choice)) this.remote.reconfigure(choice, averaging, from);
+      else if (this.remote) {
+        this.remote.close();
+        this.remote = new RemoteAnalyser(info, choice, averaging, this.snapshotRate, from, this.pairs);
+      } else {
+        this.analyser = new Analyser(info, choice, averaging, this.snapshotRate, from, this.pairs);
+        this.installObservers(this.analyser, info, from);
+      }
     }
     const n = frames - start;
     const first = firstSample + start;
+    if (this.remote) {
+      // The set the pending block does not hold.
+      this.unitSet ^= 1;
+      this.units = this.unitSets[this.unitSet];
+    }
     const units = this.units;
     for (let c = 0; c < units.length; c++)
       if (units[c].length < n) units[c] = new Float64Array(Math.max(n, units[c].length * 2));
     const cond = this.conditioner!;
     const nonFinite = cond.condition(raw, start, n, first, units);
+    this.expected = first + n;
+    if (this.remote && nonFinite === 0) {
+      this.handOver(units, first, n, cond);
+      return;
+    }
+    this.settle();
     this.count.blocks++;
     this.count.samples += n;
     this.count.lastSample = first + n - 1;
-    this.expected = first + n;
     if (nonFinite === 0) {
       this.emitter.emit('block', { firstSample: first, frames: n, data: units });
       this.emitClips(cond);
@@ -425,18 +499,101 @@ export class Pipeline implements SourceSink {
       const data = from === 0 ? units : units.map((u) => u.subarray(from));
       const calibrated: CalibratedBlock = { firstSample: first + from, frames: to - from, data };
       this.emitter.emit('block', calibrated);
-      this.analyser!.process(data, first + from, to - from, this.onInstant);
+      if (this.analyser) this.analyser.process(data, first + from, to - from, this.onInstant);
+      else {
+        const run = this.handOverPieces(data, first + from, to - from, [], false);
+        this.collect(run);
+        for (const snap of run.snapshots) this.emitSnapshot(snap);
+      }
     });
+  }
+
+  /**
+   * The worker's path for a finite block: the block before is collected, this one is handed over, and the block
+   * before's events go out while the worker analyses this one.
+   */
+  private handOver(units: Float64Array[], first: number, n: number, cond: Conditioner): void {
+    const before = this.pending;
+    if (before) this.collect(before);
+    const clips: ClipNotice[] = [];
+    for (let c = 0; c < units.length; c++) {
+      const clip = cond.clipNotice(c);
+      if (clip) clips.push(clip);
+    }
+    this.pending = this.handOverPieces(units, first, n, clips, true);
+    if (before) this.emitPending(before);
+  }
+
+  /** Hands [first, first+n) over in pieces the worker's memory holds; all but the last are collected at once. */
+  private handOverPieces(
+    data: Float64Array[],
+    first: number,
+    n: number,
+    clips: ClipNotice[],
+    counted: boolean,
+  ): PendingBlock {
+    const remote = this.remote!;
+    const p: PendingBlock = {
+      firstSample: first,
+      frames: counted ? n : 0,
+      data,
+      clips,
+      snapshots: [],
+      outstanding: false,
+    };
+    const piece = remote.blockFrames;
+    for (let off = 0; off < n; off += piece) {
+      if (p.outstanding) this.collect(p);
+      remote.handOver(data, off, first + off, Math.min(piece, n - off));
+      p.outstanding = true;
+    }
+    return p;
+  }
+
+  /** Waits for the worker's snapshots of the pending piece of p. */
+  private collect(p: PendingBlock): void {
+    if (!p.outstanding) return;
+    p.outstanding = false;
+    const remote = this.remote!;
+    remote.collect((numbers, at) => p.snapshots.push(remote.snapshot(numbers, at, this.wallTimeAt(numbers[at]), -1)));
+  }
+
+  /** The events of the block handed over last, now: before anything that is not a finite block goes on. */
+  private settle(): void {
+    const p = this.pending;
+    if (!p) return;
+    this.pending = undefined;
+    if (this.dropPending) return;
+    this.collect(p);
+    this.emitPending(p);
+  }
+
+  /** A pending block's events, in a one-thread run's order: the block, its clips, its snapshots. */
+  private emitPending(p: PendingBlock): void {
+    this.emitting = true;
+    try {
+      this.count.blocks++;
+      this.count.samples += p.frames;
+      this.count.lastSample = p.firstSample + p.frames - 1;
+      this.emitter.emit('block', { firstSample: p.firstSample, frames: p.frames, data: p.data });
+      for (const clip of p.clips) this.emitClip(clip);
+      for (const snap of p.snapshots) this.emitSnapshot(snap);
+    } finally {
+      this.emitting = false;
+    }
   }
 
   private emitClips(cond: Conditioner): void {
     for (let c = 0; c < this.units.length; c++) {
       const clip = cond.clipNotice(c);
-      if (!clip) continue;
-      this.count.clippedSamples[c] += clip.count;
-      this.emitter.emit('clip', clip);
-      for (const d of this.detectors) if (d.onClip) this.emitAll(d.onClip(clip));
+      if (clip) this.emitClip(clip);
     }
+  }
+
+  private emitClip(clip: ClipNotice): void {
+    this.count.clippedSamples[clip.channelIndex] += clip.count;
+    this.emitter.emit('clip', clip);
+    for (const d of this.detectors) if (d.onClip) this.emitAll(d.onClip(clip));
   }
 
   /** Non-finite frames are a counted fault: subscribers see a gap there (recordings end their file, estimates drop
@@ -444,7 +601,7 @@ export class Pipeline implements SourceSink {
   private excludeNonFinite(notice: NonFiniteNotice): void {
     this.count.nonfiniteFrames += notice.frames;
     this.count.lastNonfiniteSample = notice.sample;
-    this.analyser!.restartAt(notice.sample + notice.frames);
+    (this.analyser ?? this.remote)!.restartAt(notice.sample + notice.frames);
     this.emitter.emit('gap', {
       sample: notice.sample,
       lost: notice.frames,
@@ -489,10 +646,14 @@ export class Pipeline implements SourceSink {
   }
 
   private readonly onInstant = (sample: number): void => {
-    const snap = this.analyser!.snapshot(sample, this.wallTimeAt(sample), this.count.snapshots);
+    this.emitSnapshot(this.analyser!.snapshot(sample, this.wallTimeAt(sample), this.count.snapshots));
+  };
+
+  private emitSnapshot(snap: SpectrumSnapshot): void {
+    snap.sequence = this.count.snapshots;
     this.count.snapshots++;
     this.emitter.emit('snapshot', snap);
     for (const d of this.detectors) this.emitAll(d.onSnapshot(snap));
-    this.clearNonFinite(sample);
-  };
+    this.clearNonFinite(snap.sample);
+  }
 }

@@ -1,5 +1,6 @@
 // `floorline replay --speed max` as a whole process, side by side in one run: `--no-server` (no low-frequency view:
-// nothing could read it) and served on port 0 (the view runs) at --threads 1 and 2 (the view on workers), on an
+// nothing could read it) at --threads 1 and 2 (the Welch estimators and cross-spectra on a worker) and served on port
+// 0 (the view runs) at --threads 1 and 2 (the view and the analysis on workers), on an
 // hour (DURATION seconds) of the demo rig, 2 ch × 8 kS/s made by `floorline simulate`, with the demo baseline and
 // every rule. Alternating rounds, medians of wall time, CPU (user + system) and peak RSS (/usr/bin/time), the load
 // average around each run; the snapshot digest and the event log must be the same in every run.
@@ -13,7 +14,7 @@ mkdirSync(tmp, { recursive: true });
 const DURATION = Number(process.env.DURATION ?? 3600);
 const ROUNDS = Number(process.env.ROUNDS ?? 3);
 // Each entry: how it serves and --threads, e.g. "no-server:1".
-const MODES = (process.env.MODES ?? 'no-server:1,served:1,served:2').split(',');
+const MODES = (process.env.MODES ?? 'no-server:1,no-server:2,served:1,served:2').split(',');
 const file = process.env.REPLAY_FILE ?? `${tmp}replay-2x8k-${DURATION}s.wav`;
 const cli = `${root}bin/floorline.mjs`;
 
