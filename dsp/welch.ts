@@ -54,6 +54,14 @@ export function welchStep(segment: number, overlap: number): number {
   return segment - Math.floor(overlap * segment);
 }
 
+/** The one-sided bin centres k·fs/N, k = 0..N/2, as scipy.signal.welch returns them. */
+export function binFrequencies(sampleRate: number, segment: number): Float64Array {
+  const binHz = sampleRate / segment;
+  const frequencies = new Float64Array(segment / 2 + 1);
+  for (let k = 0; k < frequencies.length; k++) frequencies[k] = k * binHz;
+  return frequencies;
+}
+
 export class WelchEstimator {
   readonly sampleRate: number;
   readonly segment: number;
@@ -134,8 +142,7 @@ export class WelchEstimator {
     this.window = makeWindow(options.window, segment);
     this.bins = segment / 2 + 1;
     this.binHz = sampleRate / segment;
-    this.frequencies = new Float64Array(this.bins);
-    for (let k = 0; k < this.bins; k++) this.frequencies[k] = k * this.binHz;
+    this.frequencies = binFrequencies(sampleRate, segment);
 
     this.fft = new RealFftPower(segment);
     this.conditioner = new SegmentConditioner(this.window.values, this.detrend);

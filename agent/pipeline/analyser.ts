@@ -7,9 +7,9 @@
 //    a snapshot is taken at an instant only when a new segment completed since the previous one.
 // Both grids count from `origin` (0, the stream's own count). A replay loop moves the origin to where the file
 // starts again, so every loop is analysed on the same grid of file indices as the first.
-import { WelchEstimator, welchStep } from '../../dsp/welch.ts';
+import { WelchEstimator, binFrequencies, welchStep } from '../../dsp/welch.ts';
 import { CrossSpectraAverager } from '../../dsp/live-cross-spectra.ts';
-import { makeWindow } from '../../dsp/windows.ts';
+import { makeWindow, type WindowInfo } from '../../dsp/windows.ts';
 import type { AnalysisSettings, AveragingSpec, DetrendMode } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
 import type { SnapshotChannel, SnapshotCoherence, SpectrumSnapshot } from './types.ts';
@@ -59,7 +59,7 @@ export class Analyser {
   private readonly spectra: Float64Array[] = [];
   private readonly spectrumSample: Float64Array = new Float64Array(0);
   /** What its snapshots share, and their assembly. */
-  readonly frame: SnapshotFrame;
+  private readonly frame: SnapshotFrame;
 
   constructor(
     private readonly info: StreamInfo,
@@ -109,7 +109,7 @@ export class Analyser {
     );
     // The estimator canonicalises the window name (e.g. "Hann" → "hann").
     this.settings.window = this.estimators[0].window.name;
-    this.frame = new SnapshotFrame(info, choice, averaging, pairs);
+    this.frame = new SnapshotFrame(info, choice, averaging, pairs, this.estimators[0].window);
     if (pairs.length > 0) {
       this.cross = new CrossSpectraAverager({
         sampleRate: info.sampleRate,
@@ -309,8 +309,9 @@ export class SnapshotFrame {
     choice: AnalysisChoice,
     readonly averaging: AveragingSpec,
     readonly pairs: readonly (readonly [number, number])[],
+    // The local analyser passes its estimator's window rather than build it twice.
+    window: WindowInfo = makeWindow(choice.window, choice.segment),
   ) {
-    const window = makeWindow(choice.window, choice.segment);
     this.settings = {
       sampleRate: info.sampleRate,
       segment: choice.segment,
@@ -320,8 +321,7 @@ export class SnapshotFrame {
     };
     this.bins = choice.segment / 2 + 1;
     this.binHz = info.sampleRate / choice.segment;
-    this.frequencies = new Float64Array(this.bins);
-    for (let k = 0; k < this.bins; k++) this.frequencies[k] = k * this.binHz;
+    this.frequencies = binFrequencies(info.sampleRate, choice.segment);
     this.nenbw = window.nenbw;
     this.enbwHz = window.enbwHz(info.sampleRate);
   }

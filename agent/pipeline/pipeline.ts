@@ -515,12 +515,7 @@ export class Pipeline implements SourceSink {
   private handOver(units: Float64Array[], first: number, n: number, cond: Conditioner): void {
     const before = this.pending;
     if (before) this.collect(before);
-    const clips: ClipNotice[] = [];
-    for (let c = 0; c < units.length; c++) {
-      const clip = cond.clipNotice(c);
-      if (clip) clips.push(clip);
-    }
-    this.pending = this.handOverPieces(units, first, n, clips, true);
+    this.pending = this.handOverPieces(units, first, n, this.clipsOf(cond), true);
     if (before) this.emitPending(before);
   }
 
@@ -584,10 +579,17 @@ export class Pipeline implements SourceSink {
   }
 
   private emitClips(cond: Conditioner): void {
+    for (const clip of this.clipsOf(cond)) this.emitClip(clip);
+  }
+
+  /** The block just conditioned's clip notices, one per channel that clipped. */
+  private clipsOf(cond: Conditioner): ClipNotice[] {
+    const clips: ClipNotice[] = [];
     for (let c = 0; c < this.units.length; c++) {
       const clip = cond.clipNotice(c);
-      if (clip) this.emitClip(clip);
+      if (clip) clips.push(clip);
     }
+    return clips;
   }
 
   private emitClip(clip: ClipNotice): void {

@@ -4,7 +4,7 @@
 import type { AlarmState } from '../../dsp/detection/alarm-state.ts';
 import { binPowerCorrelation } from '../../dsp/detection/threshold.ts';
 import { makeWindow } from '../../dsp/windows.ts';
-import { overlapRho, welchStep } from '../../dsp/welch.ts';
+import { binFrequencies, overlapRho, welchStep } from '../../dsp/welch.ts';
 import { DEFAULT_AVERAGING } from '../../dsp/averaging.ts';
 import { RecentSpectrum } from '../../dsp/detection/recent-spectrum.ts';
 import { IncidentBook, type IncidentRecord, type Member } from './incidents.ts';
@@ -126,8 +126,7 @@ export class Detectors {
     this.incidents = new IncidentBook(s.sampleRate, binHz);
     this.step = welchStep(s.segment, s.overlap);
     this.rho = overlapRho(win.values, this.step);
-    const frequencies = new Float64Array(bins);
-    for (let k = 0; k < bins; k++) frequencies[k] = k * binHz;
+    const frequencies = binFrequencies(s.sampleRate, s.segment);
     const defaults = defaultBands(s.sampleRate, s.segment, win.mainLobeHalfWidth);
     this.channels = stream.channels.map(({ name, unit }) => {
       const b = baseline?.channels.find((c) => c.name === name);

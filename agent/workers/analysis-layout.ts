@@ -5,6 +5,7 @@
 import type { AnalysisChoice } from '../pipeline/analyser.ts';
 import type { AveragingSpec } from '../../protocol/settings.ts';
 import type { StreamInfo } from '../../protocol/stream.ts';
+import { WorkerFailure } from './worker-failure.ts';
 
 export const COMMAND = 0;
 export const DONE = 1;
@@ -78,8 +79,15 @@ export class AnalysisViews {
   readonly json: Uint8Array;
   readonly samples: Float64Array[];
   readonly results: Float64Array;
+  private readonly failure: WorkerFailure;
   constructor(readonly shared: SharedAnalysis) {
     this.control = new Int32Array(shared.control, 0, CONTROL_WORDS);
+    this.failure = new WorkerFailure(this.control, {
+      flag: FAILED,
+      length: REASON_LENGTH,
+      wake: DONE,
+      bytes: REASON_BYTES,
+    });
     this.numbers = new Float64Array(shared.command, 0, COMMAND_NUMBERS);
     this.json = new Uint8Array(shared.command, COMMAND_NUMBERS * 8, COMMAND_JSON_BYTES);
     const all = new Float64Array(shared.samples);
@@ -90,19 +98,14 @@ export class AnalysisViews {
   }
 
   get failed(): boolean {
-    return Atomics.load(this.control, FAILED) !== 0;
+    return this.failure.failed;
   }
 
-  reason(): string {
-    const bytes = new Uint8Array(this.shared.control, CONTROL_WORDS * 4, Atomics.load(this.control, REASON_LENGTH));
-    return new TextDecoder().decode(bytes.slice());
+  get reason(): string {
+    return this.failure.reason;
   }
 
   fail(reason: string): void {
-    const room = new Uint8Array(this.shared.control, CONTROL_WORDS * 4, REASON_BYTES);
-    const { written } = new TextEncoder().encodeInto(reason.slice(0, REASON_BYTES / 4), room);
-    Atomics.store(this.control, REASON_LENGTH, written);
-    Atomics.store(this.control, FAILED, 1);
-    Atomics.notify(this.control, DONE);
+    this.failure.raise(reason);
   }
 }

@@ -3,6 +3,7 @@
 // releases it. Slots are used and released in ring order, so two counters say which are free. The agent can wait
 // for a free slot without its event loop (Atomics.wait), which paces a lossless replay by the worker; memory is
 // slots × channels × slotFrames doubles however fast blocks come.
+import { WorkerFailure } from './worker-failure.ts';
 
 /** Control words: slots released by the worker, slots filled by the agent, the worker's failure flag, the
  * length of its reason, which follows as UTF-8 (readable while the agent's event loop is blocked), and whether
@@ -39,9 +40,16 @@ export function allocateBlockSlots(shape: BlockSlotsShape): SharedBlockSlots {
 
 class SlotViews {
   protected readonly control: Int32Array;
+  protected readonly failure: WorkerFailure;
   private readonly views: Float64Array[][];
   constructor(readonly shared: SharedBlockSlots) {
     this.control = new Int32Array(shared.control, 0, WORDS);
+    this.failure = new WorkerFailure(this.control, {
+      flag: FAILED,
+      length: REASON_LENGTH,
+      wake: RELEASED,
+      bytes: REASON_BYTES,
+    });
     const all = new Float64Array(shared.samples);
     const { slots, channels, slotFrames } = shared;
     this.views = Array.from({ length: slots }, (_, s) =>
@@ -55,13 +63,11 @@ class SlotViews {
     return this.views[index];
   }
   get failed(): boolean {
-    return Atomics.load(this.control, FAILED) !== 0;
+    return this.failure.failed;
   }
   /** What the worker said when it flagged its failure. */
   get reason(): string {
-    if (!this.failed) return '';
-    const bytes = new Uint8Array(this.shared.control, WORDS * 4, Atomics.load(this.control, REASON_LENGTH));
-    return new TextDecoder().decode(bytes.slice());
+    return this.failure.reason;
   }
 }
 
@@ -122,10 +128,6 @@ export class SlotReader extends SlotViews {
 
   /** Wakes a waiting agent and tells it this worker is gone, and why. */
   fail(reason: string): void {
-    const room = new Uint8Array(this.shared.control, WORDS * 4, REASON_BYTES);
-    const { written } = new TextEncoder().encodeInto(reason.slice(0, REASON_BYTES / 4), room);
-    Atomics.store(this.control, REASON_LENGTH, written);
-    Atomics.store(this.control, FAILED, 1);
-    Atomics.notify(this.control, RELEASED);
+    this.failure.raise(reason);
   }
 }

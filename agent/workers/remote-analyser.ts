@@ -170,7 +170,7 @@ export class RemoteAnalyser {
     for (;;) {
       if (this.closed && this.views.numbers[0] === QUIT)
         throw new Error('analysis worker: used after the stream ended');
-      if (this.views.failed) throw new Error(`analysis worker failed: ${this.views.reason()}`);
+      if (this.views.failed) throw new Error(`analysis worker failed: ${this.views.reason}`);
       const done = Atomics.load(control, DONE);
       if (done === this.sent) return;
       if (performance.now() - since > STALL_MS)
